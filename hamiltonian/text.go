@@ -1,0 +1,246 @@
+package hamiltonian
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+
+	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// ErrFormat is wrapped by every error about malformed Hamiltonian input.
+var ErrFormat = errors.New("malformed Hamiltonian")
+
+// LineError reports one bad line of a text file.
+type LineError struct {
+	Line   int    // 1-based line number
+	Text   string // the line as read
+	Reason string
+}
+
+func (e *LineError) Error() string {
+	return fmt.Sprintf("hamiltonian: line %d: %s", e.Line, e.Reason)
+}
+
+// Unwrap returns [ErrFormat].
+func (e *LineError) Unwrap() error { return ErrFormat }
+
+// maxLineErrors bounds how many bad lines one error lists.
+const maxLineErrors = 50
+
+// Read parses the text format described in the package documentation. It
+// reports every bad line (up to 50, then a count of the rest), each as a
+// [*LineError], joined with errors.Join; errors.Is(err, ErrFormat) holds.
+func Read(r io.Reader) (*Hamiltonian, error) {
+	sc := bufio.NewScanner(r)
+	sc.Buffer(make([]byte, 0, 64*1024), 64<<20)
+	type pending struct {
+		line   int
+		coeff  float64
+		dense  string // dense letters, or "" for sparse
+		sparse string
+	}
+	var (
+		declared = -1 // from a "qubits N" line
+		width    = -1 // from the first dense string
+		items    []pending
+		errs     []error
+		extra    int
+		lineNo   int
+		seenTerm bool
+	)
+	bad := func(text, format string, args ...any) {
+		if len(errs) < maxLineErrors {
+			errs = append(errs, &LineError{Line: lineNo, Text: text, Reason: fmt.Sprintf(format, args...)})
+		} else {
+			extra++
+		}
+	}
+	for sc.Scan() {
+		lineNo++
+		raw := sc.Text()
+		text := raw
+		if k := strings.IndexByte(text, '#'); k >= 0 {
+			text = text[:k]
+		}
+		fields := strings.Fields(text)
+		if len(fields) == 0 {
+			continue
+		}
+		if fields[0] == "qubits" {
+			switch {
+			case len(fields) != 2:
+				bad(raw, "want \"qubits N\"")
+			case seenTerm:
+				bad(raw, "\"qubits\" must come before the first term")
+			case declared >= 0:
+				bad(raw, "\"qubits\" declared twice")
+			default:
+				n, err := strconv.Atoi(fields[1])
+				if err != nil || n < 0 {
+					bad(raw, "qubit count %q is not a non-negative integer", fields[1])
+				} else {
+					declared = n
+				}
+			}
+			continue
+		}
+		seenTerm = true
+		c, reason := parseCoeff(fields[0])
+		if reason != "" {
+			bad(raw, "%s", reason)
+			continue
+		}
+		if len(fields) == 1 {
+			bad(raw, "coefficient %s has no Pauli string (write I for the identity)", fields[0])
+			continue
+		}
+		rest := fields[1:]
+		if len(rest) == 1 && !strings.ContainsAny(rest[0], "0123456789") {
+			s := rest[0]
+			if _, err := pauli.Parse(s); err != nil {
+				var pe *pauli.ParseError
+				errors.As(err, &pe)
+				bad(raw, "Pauli string %q: %s", s, pe.Reason)
+				continue
+			}
+			if s == "I" || s == "i" {
+				items = append(items, pending{line: lineNo, coeff: c, sparse: "I"})
+				continue
+			}
+			if width < 0 {
+				width = len(s)
+			} else if len(s) != width {
+				bad(raw, "Pauli string %q has %d qubits, earlier strings have %d", s, len(s), width)
+				continue
+			}
+			items = append(items, pending{line: lineNo, coeff: c, dense: s})
+			continue
+		}
+		items = append(items, pending{line: lineNo, coeff: c, sparse: strings.Join(rest, " ")})
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("hamiltonian: line %d: %w", lineNo+1, err)
+	}
+	n := declared
+	if n < 0 {
+		n = width
+	}
+	if n >= 0 && width >= 0 && width != n {
+		// Report against the first dense line.
+		for _, it := range items {
+			if it.dense != "" {
+				lineNo = it.line
+				bad(it.dense, "Pauli string %q has %d qubits, but \"qubits %d\" was declared", it.dense, width, n)
+				break
+			}
+		}
+	}
+	if n < 0 {
+		// Only sparse strings and no declaration: the highest index decides.
+		n = 0
+		for _, it := range items {
+			for f := range strings.FieldsSeq(it.sparse) {
+				if q, err := strconv.Atoi(f[1:]); err == nil && q+1 > n {
+					n = q + 1
+				}
+			}
+		}
+	}
+	var offset float64
+	terms := make([]Term, 0, len(items))
+	for _, it := range items {
+		lineNo = it.line
+		var p pauli.String
+		if it.dense != "" {
+			if len(it.dense) != n {
+				continue // reported above
+			}
+			p = pauli.MustParse(it.dense)
+		} else {
+			var err error
+			p, err = pauli.ParseSparse(it.sparse, n)
+			if err != nil {
+				var pe *pauli.ParseError
+				errors.As(err, &pe)
+				bad(it.sparse, "Pauli string %q: %s", it.sparse, pe.Reason)
+				continue
+			}
+		}
+		if p.IsIdentity() {
+			offset += it.coeff
+			continue
+		}
+		terms = append(terms, Term{Pauli: p, Coeff: it.coeff})
+	}
+	if extra > 0 {
+		errs = append(errs, fmt.Errorf("hamiltonian: %d more bad lines", extra))
+	}
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
+	}
+	h, err := New(n, offset, terms)
+	if err != nil {
+		return nil, fmt.Errorf("%w: %w", ErrFormat, err)
+	}
+	return h, nil
+}
+
+// parseCoeff parses a real coefficient and explains a bad one.
+func parseCoeff(s string) (float64, string) {
+	v, err := strconv.ParseFloat(s, 64)
+	if err == nil {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return 0, fmt.Sprintf("coefficient %q is not finite", s)
+		}
+		return v, ""
+	}
+	if errors.Is(err, strconv.ErrRange) {
+		return 0, fmt.Sprintf("coefficient %q out of range", s)
+	}
+	if _, cerr := strconv.ParseComplex(s, 128); cerr == nil || strings.HasSuffix(s, "i") || strings.HasSuffix(s, "j") || strings.HasPrefix(s, "(") {
+		return 0, fmt.Sprintf("complex coefficient %q: Hamiltonian coefficients must be real", s)
+	}
+	return 0, fmt.Sprintf("coefficient %q is not a number", s)
+}
+
+// denseLimit is the widest Hamiltonian that [Write] prints in dense form.
+const denseLimit = 32
+
+// Write writes h in the text format: a "qubits N" line, the offset as an
+// identity term, then one term per line. Strings are dense up to 32 qubits
+// and sparse beyond. Coefficients are printed with the shortest decimal that
+// reads back to the same float64, so Read(Write(h)) equals h exactly.
+func Write(w io.Writer, h *Hamiltonian) error {
+	bw := bufio.NewWriter(w)
+	fmt.Fprintf(bw, "qubits %d\n", h.n)
+	var buf []byte
+	buf = strconv.AppendFloat(buf[:0], h.offset, 'g', -1, 64)
+	buf = append(buf, " I\n"...)
+	bw.Write(buf)
+	for i, c := range h.coef {
+		buf = strconv.AppendFloat(buf[:0], c, 'g', -1, 64)
+		buf = append(buf, ' ')
+		p := h.table.At(i)
+		if h.n <= denseLimit {
+			buf = p.AppendText(buf)
+		} else {
+			buf = p.AppendSparse(buf)
+		}
+		buf = append(buf, '\n')
+		if _, err := bw.Write(buf); err != nil {
+			return err
+		}
+	}
+	return bw.Flush()
+}
+
+// WriteFile writes h to path in the text format, atomically.
+func WriteFile(path string, h *Hamiltonian) error {
+	return atomicfile.Write(path, func(w io.Writer) error { return Write(w, h) })
+}

@@ -1,0 +1,35 @@
+// Package pauli provides n-qubit Pauli strings stored as symplectic bit words,
+// single-qubit measurement settings, and a column store of many strings for
+// the hot loops of allocation and estimation.
+//
+// # Conventions
+//
+// Qubit q is character q of a dense string, read left to right: "XIZY" is X on
+// qubit 0, I on qubit 1, Z on qubit 2 and Y on qubit 3. The sparse form
+// "X0 Z2 Y3" names qubits explicitly and needs the qubit count beside it.
+//
+// A measured bit 0 means eigenvalue +1 and a bit 1 means −1. [Bits] holds an
+// outcome, bit q in word q/64 at position q%64.
+//
+// # Representation
+//
+// A [String] is a pair of bit vectors (x, z), 64 qubits a word: I = (0,0),
+// X = (1,0), Z = (0,1), Y = (1,1). Padding bits beyond the qubit count are
+// always zero, so whole-word operations never see stray letters. Weight,
+// commutation, coverage and parity are a few math/bits operations per 64
+// qubits.
+//
+// # Values and aliasing
+//
+// [String] and [Setting] are immutable values: no method modifies its
+// receiver, and copying one is cheap and safe. Methods that return words
+// ([String.Words]) return the internal slices; callers must not modify them.
+// A [Table] is a mutable column store used through a pointer.
+//
+// # Panics
+//
+// Combining strings of different widths (for example [Mul] of a 3-qubit and
+// a 4-qubit string) is a programmer error and panics with a message that says
+// so. Bad text input never panics: the parsers return a [*ParseError] that
+// wraps [ErrSyntax] or [ErrRange].
+package pauli

@@ -1,0 +1,179 @@
+package pauli
+
+import "math/bits"
+
+// Table is a column store of many n-qubit strings, laid out like a row-major
+// matrix: row r holds its x words, then its z words, at data[r*stride:]. The
+// batch queries read the words directly, with no allocation or interface
+// call per row, and write into buffers the caller owns.
+//
+// A Table is used through a pointer; the zero value is not usable, call
+// [NewTable].
+type Table struct {
+	n      int
+	w      int // words per bit vector
+	stride int // 2*w
+	rows   int
+	data   []uint64
+}
+
+// NewTable returns an empty table for n-qubit strings, with room for capRows
+// rows before it grows. It panics if n < 0.
+func NewTable(n, capRows int) *Table {
+	if n < 0 {
+		panic("pauli: negative qubit count")
+	}
+	w := Words(n)
+	return &Table{n: n, w: w, stride: 2 * w, data: make([]uint64, 0, 2*w*max(capRows, 0))}
+}
+
+// TableOf returns a table holding ps in order. It panics if the strings have
+// different widths or ps is empty and n is unknown; use [NewTable] for an
+// empty table.
+func TableOf(n int, ps ...String) *Table {
+	t := NewTable(n, len(ps))
+	for _, p := range ps {
+		t.Append(p)
+	}
+	return t
+}
+
+// Qubits returns the width of the strings.
+func (t *Table) Qubits() int { return t.n }
+
+// Len returns the number of rows.
+func (t *Table) Len() int { return t.rows }
+
+// Append adds p as the last row. It panics if p has a different width.
+func (t *Table) Append(p String) {
+	mustSameWidth(t.n, p.n)
+	t.data = append(t.data, p.x...)
+	t.data = append(t.data, p.z...)
+	t.rows++
+}
+
+// At returns a copy of row r as a String.
+func (t *Table) At(r int) String {
+	x, z := t.Words(r)
+	return FromWords(t.n, x, z)
+}
+
+// Words returns the x and z words of row r, aliasing the table; they must not
+// be modified.
+func (t *Table) Words(r int) (x, z []uint64) {
+	if r < 0 || r >= t.rows {
+		panic("pauli: table row out of range")
+	}
+	o := r * t.stride
+	return t.data[o : o+t.w : o+t.w], t.data[o+t.w : o+t.stride : o+t.stride]
+}
+
+// Weight returns the weight of row r.
+func (t *Table) Weight(r int) int {
+	x, z := t.Words(r)
+	c := 0
+	for i := range x {
+		c += bits.OnesCount64(x[i] | z[i])
+	}
+	return c
+}
+
+// Clone returns a deep copy of t.
+func (t *Table) Clone() *Table {
+	c := *t
+	c.data = append([]uint64(nil), t.data...)
+	return &c
+}
+
+// Covered appends to dst the indices of the rows that s covers, in
+// increasing order, and returns the extended slice. It allocates only when
+// dst lacks capacity. It panics if s has a different width.
+func (t *Table) Covered(dst []int, s Setting) []int {
+	mustSameWidth(t.n, s.p.n)
+	d := t.data
+	if t.w == 1 {
+		sx, sz := s.p.x[0], s.p.z[0]
+		for r := 0; r < t.rows; r++ {
+			x, z := d[2*r], d[2*r+1]
+			if ((x^sx)|(z^sz))&(x|z) == 0 {
+				dst = append(dst, r)
+			}
+		}
+		return dst
+	}
+	for r, o := 0, 0; r < t.rows; r, o = r+1, o+t.stride {
+		if coversRow(d[o:o+t.stride], s.p.x, s.p.z, t.w) {
+			dst = append(dst, r)
+		}
+	}
+	return dst
+}
+
+// CoverMask sets dst[r] to whether s covers row r. It panics if len(dst) is
+// not t.Len() or s has a different width. It never allocates.
+func (t *Table) CoverMask(dst []bool, s Setting) {
+	mustSameWidth(t.n, s.p.n)
+	if len(dst) != t.rows {
+		panic("pauli: CoverMask: destination length differs from table length")
+	}
+	d := t.data
+	if t.w == 1 {
+		sx, sz := s.p.x[0], s.p.z[0]
+		for r := range dst {
+			x, z := d[2*r], d[2*r+1]
+			dst[r] = ((x^sx)|(z^sz))&(x|z) == 0
+		}
+		return
+	}
+	for r, o := 0, 0; r < t.rows; r, o = r+1, o+t.stride {
+		dst[r] = coversRow(d[o:o+t.stride], s.p.x, s.p.z, t.w)
+	}
+}
+
+// CoversRow reports whether s covers row r.
+func (t *Table) CoversRow(r int, s Setting) bool {
+	if r < 0 || r >= t.rows {
+		panic("pauli: table row out of range")
+	}
+	mustSameWidth(t.n, s.p.n)
+	o := r * t.stride
+	return coversRow(t.data[o:o+t.stride], s.p.x, s.p.z, t.w)
+}
+
+func coversRow(row, sx, sz []uint64, w int) bool {
+	x, z := row[:w], row[w:2*w]
+	for i := range x {
+		if ((x[i]^sx[i])|(z[i]^sz[i]))&(x[i]|z[i]) != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// Parity returns the parity (0 or 1) of outcome b over the support of row r;
+// the row's ±1 sample is 1 − 2·Parity.
+func (t *Table) Parity(r int, b Bits) int {
+	o := r * t.stride
+	c := 0
+	for i := 0; i < t.w; i++ {
+		c += bits.OnesCount64(b[i] & (t.data[o+i] | t.data[o+t.w+i]))
+	}
+	return c & 1
+}
+
+// Samples sets dst[k] to the ±1 sample that outcome b gives row rows[k]. The
+// rows are assumed covered by the setting that produced b. It panics if
+// len(dst) < len(rows). It never allocates.
+func (t *Table) Samples(dst []int8, rows []int, b Bits) {
+	dst = dst[:len(rows)]
+	if t.w == 1 {
+		b0 := b[0]
+		for k, r := range rows {
+			dst[k] = int8(1 - 2*(bits.OnesCount64(b0&(t.data[2*r]|t.data[2*r+1]))&1))
+		}
+		return
+	}
+	for k, r := range rows {
+		dst[k] = int8(1 - 2*t.Parity(r, b))
+	}
+}
