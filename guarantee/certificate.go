@@ -1,0 +1,237 @@
+package guarantee
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+	"strings"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Options adjusts a certificate. A nil *Options means the defaults.
+type Options struct {
+	// Top is the number of largest contributors listed in
+	// [Certificate].Top. Zero means 10; a negative value lists none.
+	Top int
+	// Enumerate is the largest number of candidate terms for which the
+	// optimal truncation is found by trying every subset (2^Enumerate
+	// evaluations). Zero means 20; past it, see [Truncation].Exact.
+	Enumerate int
+}
+
+func (o *Options) top() int {
+	switch {
+	case o == nil || o.Top == 0:
+		return 10
+	case o.Top < 0:
+		return 0
+	}
+	return o.Top
+}
+
+func (o *Options) enumerate() int {
+	if o == nil || o.Enumerate <= 0 {
+		return 20
+	}
+	return min(o.Enumerate, 30)
+}
+
+// Certificate is an a-priori guarantee for a fixed plan (MATH.md §3): with
+// probability at least 1 − Delta over the shots, the grouped estimator of
+// MATH.md §2 errs by at most Total, for every state. It depends only on the
+// Hamiltonian, the settings and their shot counts — not on the order of the
+// shots, and not on the data.
+type Certificate struct {
+	// Delta is the failure probability the bounds are stated at.
+	Delta float64
+	// Shots is the total number of shots; Settings the number of distinct
+	// settings among them.
+	Shots, Settings int
+	// Cover[i] is N_i, the number of shots whose setting covers term i.
+	Cover []int
+
+	// Variance is V = Σ_n (Σ_{i◁Q_n} |h_i|/N_i)² of MATH.md §3.1, computed
+	// exactly (summing over distinct settings with their multiplicities).
+	Variance float64
+	// Radius is ε_stat = sqrt(2 V ln(2/δ)), the shot-wise Hoeffding radius
+	// of MATH.md §3.1.
+	Radius float64
+	// OneNorm is ‖h'‖_1 = Σ_{i: N_i>0} |h_i|/sqrt(N_i) (MATH.md §3.2), and
+	// RelaxedRadius is OneNorm · sqrt(2 ln(2/δ)) ≥ Radius, its relaxation.
+	OneNorm, RelaxedRadius float64
+	// Uncovered is the number of terms with N_i = 0 and Bias their bound
+	// B_0 = Σ_{i: N_i=0} |h_i|: the estimator omits them.
+	Uncovered int
+	Bias      float64
+	// Total is Radius + Bias: the guaranteed error at confidence 1 − Delta.
+	Total float64
+
+	// Share[i] is term i's part of Total; the shares add up to Total (up
+	// to rounding). A covered term's share is Radius · v_i / V with
+	//
+	//	v_i = a_i Σ_{n: i◁Q_n} s_{Q_n},  a_i = |h_i|/N_i,  s_Q = Σ_{k◁Q} a_k,
+	//
+	// so that Σ_i v_i = V; it equals |h_i| ∂Radius/∂|h_i|, the Euler
+	// allocation of a bound that is homogeneous of degree one in the
+	// coefficients. An uncovered term's share is |h_i|, its bias.
+	Share []float64
+	// RelaxedShare[i] is term i's part of RelaxedRadius + Bias under the
+	// separable relaxation: sqrt(2 ln(2/δ)) |h_i|/sqrt(N_i) for a covered
+	// term, |h_i| for an uncovered one.
+	RelaxedShare []float64
+	// Top lists the terms with the largest Share, largest first (ties by
+	// term index).
+	Top []Contribution
+
+	// Threshold is the δ-only truncation rule of MATH.md §3.3: drop every
+	// term with N_i < 2 ln(2/δ). Optimal is the dropped set that minimises
+	// bias plus exact radius. Both are evaluated with the exact V of the
+	// kept terms; the certificate above is for dropping nothing.
+	Threshold, Optimal Truncation
+}
+
+// Contribution is one term's part of a certificate's bound.
+type Contribution struct {
+	Term         int
+	Pauli        pauli.String
+	Coeff        float64
+	Cover        int     // N_i
+	Share        float64 // as Certificate.Share
+	RelaxedShare float64 // as Certificate.RelaxedShare
+}
+
+// Certify returns the certificate of MATH.md §3 at confidence 1 − δ for the
+// plan that measures settings[k] for shots[k] shots. A setting may appear
+// more than once; entries with zero shots are ignored. It returns an error
+// for δ outside (0, 1), lengths that disagree, a setting of the wrong width or
+// a negative shot count, naming the setting.
+//
+// The cost is one coverage scan of h's terms per distinct setting.
+func Certify(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, delta float64, opts *Options) (*Certificate, error) {
+	if !validDelta(delta) {
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+	}
+	c, err := newCoverage(h, settings, shots)
+	if err != nil {
+		return nil, err
+	}
+	return certify(c, delta, opts), nil
+}
+
+// CertifyPlan is [Certify] for a plan made by any allocator. It returns an
+// error if the plan's Cover counts disagree with h (a plan made for another
+// Hamiltonian), naming the first term that differs. The result is identical
+// to Certify(h, p.Settings, p.Shots, δ, opts).
+func CertifyPlan(h *hamiltonian.Hamiltonian, p *allocate.Plan, delta float64, opts *Options) (*Certificate, error) {
+	if p == nil {
+		return nil, fmt.Errorf("guarantee: nil plan")
+	}
+	if !validDelta(delta) {
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+	}
+	if h != nil && p.Qubits != h.Qubits() {
+		return nil, fmt.Errorf("guarantee: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
+	}
+	c, err := newCoverage(h, p.Settings, p.Shots)
+	if err != nil {
+		return nil, err
+	}
+	if p.Cover != nil {
+		if len(p.Cover) != len(c.cover) {
+			return nil, fmt.Errorf("guarantee: plan has cover counts for %d terms, Hamiltonian has %d terms", len(p.Cover), len(c.cover))
+		}
+		for i, n := range c.cover {
+			if p.Cover[i] != n {
+				return nil, fmt.Errorf("guarantee: term %d (%s): plan says %d covering shots, its settings give %d", i, h.Pauli(i), p.Cover[i], n)
+			}
+		}
+	}
+	return certify(c, delta, opts), nil
+}
+
+func certify(c *coverage, delta float64, opts *Options) *Certificate {
+	h := c.h
+	l := math.Log(2 / delta)
+	sq := math.Sqrt(2 * l)
+	a := c.weights()
+	s := c.loads(a, nil)
+	v := c.variance(s)
+
+	cert := &Certificate{
+		Delta:    delta,
+		Shots:    c.shots,
+		Settings: len(c.settings),
+		Cover:    c.cover,
+		Variance: v,
+		Radius:   math.Sqrt(2 * v * l),
+	}
+	// load[i] = Σ_{n: i◁Q_n} s_{Q_n} = Σ_{Q∋i} m_Q s_Q.
+	load := make([]float64, h.Len())
+	for q := range c.settings {
+		w := float64(c.mult[q]) * s[q]
+		for _, i := range c.terms(q) {
+			load[i] += w
+		}
+	}
+	cert.Share = make([]float64, h.Len())
+	cert.RelaxedShare = make([]float64, h.Len())
+	for i, n := range c.cover {
+		abs := math.Abs(h.Coeff(i))
+		if n == 0 {
+			cert.Uncovered++
+			cert.Bias += abs
+			cert.Share[i] = abs
+			cert.RelaxedShare[i] = abs
+			continue
+		}
+		r := abs / math.Sqrt(float64(n))
+		cert.OneNorm += r
+		cert.RelaxedShare[i] = sq * r
+		if v > 0 {
+			cert.Share[i] = cert.Radius * a[i] * load[i] / v
+		}
+	}
+	cert.RelaxedRadius = cert.OneNorm * sq
+	cert.Total = cert.Radius + cert.Bias
+
+	if k := min(opts.top(), h.Len()); k > 0 {
+		order := make([]int, h.Len())
+		for i := range order {
+			order[i] = i
+		}
+		slices.SortFunc(order, func(x, y int) int {
+			if d := cmp.Compare(cert.Share[y], cert.Share[x]); d != 0 {
+				return d
+			}
+			return cmp.Compare(x, y)
+		})
+		for _, i := range order[:k] {
+			cert.Top = append(cert.Top, Contribution{
+				Term: i, Pauli: h.Pauli(i), Coeff: h.Coeff(i), Cover: c.cover[i],
+				Share: cert.Share[i], RelaxedShare: cert.RelaxedShare[i],
+			})
+		}
+	}
+	cert.Threshold = thresholdTruncation(c, a, delta)
+	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate())
+	return cert
+}
+
+// String summarises the certificate in a few lines.
+func (c *Certificate) String() string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "confidence %.4g: |error| ≤ %.6g (radius %.6g + bias %.6g of %d uncovered terms)\n",
+		1-c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered)
+	fmt.Fprintf(&b, "%d shots, %d distinct settings; V = %.6g; one-norm relaxation %.6g\n",
+		c.Shots, c.Settings, c.Variance, c.RelaxedRadius+c.Bias)
+	fmt.Fprintf(&b, "threshold truncation: drop %d terms, bound %.6g; optimal: drop %d terms, bound %.6g\n",
+		c.Threshold.Dropped, c.Threshold.Total, c.Optimal.Dropped, c.Optimal.Total)
+	for _, t := range c.Top {
+		fmt.Fprintf(&b, "  term %d %s coeff %.6g: %d shots, share %.6g\n", t.Term, t.Pauli, t.Coeff, t.Cover, t.Share)
+	}
+	return b.String()
+}

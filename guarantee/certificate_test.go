@@ -1,0 +1,210 @@
+package guarantee
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"github.com/google/go-cmp/cmp"
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+func settingsOf(ss ...string) []pauli.Setting {
+	out := make([]pauli.Setting, len(ss))
+	for k, s := range ss {
+		out[k] = pauli.MustParseSetting(s)
+	}
+	return out
+}
+
+// A worked example computed by hand from MATH.md §3.1–3.2:
+// H = 1·ZI + 0.5·IZ + 0.25·XX − 2·YY, settings ZZ ×3, XX ×1, ZZ ×1.
+// N = (4, 4, 1, 0); a = (1/4, 1/8, 1/4); s_ZZ = 3/8, s_XX = 1/4;
+// V = 4·(3/8)² + 1·(1/4)² = 0.625; ‖h'‖_1 = 1/2 + 1/4 + 1/4 = 1; B_0 = 2.
+func TestCertifyWorkedExample(t *testing.T) {
+	h := mustH(t, 2, 0.3, 1.0, "ZI", 0.5, "IZ", 0.25, "XX", -2.0, "YY")
+	c, err := Certify(h, settingsOf("ZZ", "XX", "ZZ"), []int{3, 1, 1}, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	l := math.Log(2 / 0.05)
+	const tol = 1e-14
+	checks := []struct {
+		name      string
+		got, want float64
+	}{
+		{"Variance", c.Variance, 0.625},
+		{"Radius", c.Radius, math.Sqrt(2 * 0.625 * l)},
+		{"OneNorm", c.OneNorm, 1},
+		{"RelaxedRadius", c.RelaxedRadius, math.Sqrt(2 * l)},
+		{"Bias", c.Bias, 2},
+		{"Total", c.Total, 2 + math.Sqrt(2*0.625*l)},
+		// v_i = a_i Σ_{Q∋i} m_Q s_Q: ZI: 1/4·4·3/8 = 3/8; IZ: 3/16; XX: 1/16.
+		{"Share[ZI]", c.Share[0], c.Radius * (3.0 / 8) / 0.625},
+		{"Share[IZ]", c.Share[1], c.Radius * (3.0 / 16) / 0.625},
+		{"Share[XX]", c.Share[2], c.Radius * (1.0 / 16) / 0.625},
+		{"Share[YY]", c.Share[3], 2},
+		{"RelaxedShare[IZ]", c.RelaxedShare[1], math.Sqrt(2*l) * 0.25},
+	}
+	for _, ch := range checks {
+		if !close(ch.got, ch.want, tol) {
+			t.Errorf("Certify(worked example).%s = %.15g, want %.15g", ch.name, ch.got, ch.want)
+		}
+	}
+	if c.Shots != 5 || c.Settings != 2 || c.Uncovered != 1 {
+		t.Errorf("Certify(worked example): Shots, Settings, Uncovered = %d, %d, %d, want 5, 2, 1", c.Shots, c.Settings, c.Uncovered)
+	}
+	if diff := cmp.Diff([]int{4, 4, 1, 0}, c.Cover); diff != "" {
+		t.Errorf("Certify(worked example).Cover mismatch (-want +got):\n%s", diff)
+	}
+	if c.Top[0].Term != 3 || c.Top[1].Term != 0 {
+		t.Errorf("Certify(worked example).Top starts with terms %d, %d, want 3 (YY), 0 (ZI)", c.Top[0].Term, c.Top[1].Term)
+	}
+}
+
+// A single term measured N times is a mean of N samples in [−1, 1]: the
+// certificate's radius must be Hoeffding's, 0.08589388 at N = 1000, δ = 0.05
+// (REFERENCE_VALUES.md, "Hoeffding (Hoeffding 1963, Thm 2)").
+func TestCertifySingleTermIsHoeffding(t *testing.T) {
+	h := mustH(t, 3, 0, 1.0, "IZI")
+	c, err := Certify(h, settingsOf("XZY", "ZZZ"), []int{400, 600}, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(c.Radius-0.08589388) > 1e-6 {
+		t.Errorf("Certify(IZI, 1000 shots, δ=0.05).Radius = %.9f, want 0.08589388", c.Radius)
+	}
+}
+
+// The word-wise certificate against the shot-by-shot reference, V ≤ ‖h'‖_1²
+// (MATH.md §3.2), Radius ≤ RelaxedRadius, and shares adding up to Total, over
+// random plans (seeded; deterministic).
+func TestCertifyRandomPlans(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for trial := range 200 {
+		n := 1 + rng.IntN(7)
+		h := randomH(t, rng, n, 1+rng.IntN(25), min(n, 3))
+		settings, shots := randomPlan(rng, n, 1+rng.IntN(12), 5)
+		c, err := Certify(h, settings, shots, 0.01+0.9*rng.Float64(), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		v, one, bias := referenceV(h, settings, shots)
+		if !close(c.Variance, v, 1e-12) || !close(c.OneNorm, one, 1e-12) || !close(c.Bias, bias, 1e-12) {
+			t.Errorf("trial %d: (V, ‖h'‖_1, B_0) = (%g, %g, %g), reference (%g, %g, %g)", trial, c.Variance, c.OneNorm, c.Bias, v, one, bias)
+		}
+		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
+			t.Errorf("trial %d: V = %g > ‖h'‖_1² = %g", trial, c.Variance, c.OneNorm*c.OneNorm)
+		}
+		sum := 0.0
+		for _, s := range c.Share {
+			sum += s
+		}
+		if !close(sum, c.Total, 1e-12) {
+			t.Errorf("trial %d: Σ Share = %.15g, want Total %.15g", trial, sum, c.Total)
+		}
+	}
+}
+
+// FuzzVarianceBelowOneNorm: for any plan, V ≤ ‖h'‖_1² (MATH.md §3.2) and V
+// equals the shot-by-shot reference.
+func FuzzVarianceBelowOneNorm(f *testing.F) {
+	f.Add(uint64(1), uint8(4), uint8(10), uint8(6))
+	f.Add(uint64(7), uint8(1), uint8(1), uint8(1))
+	f.Add(uint64(99), uint8(8), uint8(40), uint8(20))
+	f.Fuzz(func(t *testing.T, seed uint64, n, m, k uint8) {
+		nq := 1 + int(n%10)
+		rng := rand.New(rand.NewPCG(seed, 3))
+		h := randomH(t, rng, nq, 1+int(m%60), min(nq, 4))
+		settings, shots := randomPlan(rng, nq, 1+int(k%30), 4)
+		c, err := Certify(h, settings, shots, 0.1, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
+			t.Fatalf("V = %g > ‖h'‖_1² = %g", c.Variance, c.OneNorm*c.OneNorm)
+		}
+		if v, _, _ := referenceV(h, settings, shots); !close(c.Variance, v, 1e-12) {
+			t.Fatalf("V = %g, shot-by-shot reference %g", c.Variance, v)
+		}
+	})
+}
+
+func TestCertifyPlanEqualsList(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	h := randomH(t, rng, 6, 40, 3)
+	settings, shots := randomPlan(rng, 6, 30, 6)
+	for k := range shots {
+		shots[k]++ // a Plan's counts are positive
+	}
+	cover, err := allocate.CoverCounts(h, settings, shots)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := &allocate.Plan{Qubits: 6, Settings: settings, Shots: shots, Cover: cover}
+	fromPlan, err := CertifyPlan(h, p, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fromList, err := Certify(h, settings, shots, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if diff := cmp.Diff(fromList, fromPlan, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
+		t.Errorf("CertifyPlan differs from Certify on the same settings (-list +plan):\n%s", diff)
+	}
+	// Merging the plan's repeated settings (Plan.Distinct) changes nothing
+	// either: the certificate depends on multiplicities only.
+	ds, dn := p.Distinct()
+	fromDistinct, err := Certify(h, ds, dn, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if diff := cmp.Diff(fromList, fromDistinct, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
+		t.Errorf("Certify on Plan.Distinct differs (-list +distinct):\n%s", diff)
+	}
+}
+
+func TestCertifyErrors(t *testing.T) {
+	h := mustH(t, 2, 0, 1.0, "ZI", 0.5, "XX")
+	other := mustH(t, 2, 0, 1.0, "ZI", 0.5, "YY")
+	okPlan := &allocate.Plan{Qubits: 2, Settings: settingsOf("ZZ"), Shots: []int{3}, Cover: []int{3, 0}}
+	cases := []struct {
+		name string
+		err  error
+		want string
+	}{
+		{"δ=0", second(Certify(h, settingsOf("ZZ"), []int{1}, 0, nil)), "δ = 0"},
+		{"δ=1", second(Certify(h, settingsOf("ZZ"), []int{1}, 1, nil)), "δ = 1"},
+		{"lengths", second(Certify(h, settingsOf("ZZ", "XX"), []int{1}, 0.1, nil)), "2 settings but 1 shot counts"},
+		{"width", second(Certify(h, settingsOf("ZZ", "XXX"), []int{1, 1}, 0.1, nil)), "setting 1 (XXX) has 3 qubits"},
+		{"negative", second(Certify(h, settingsOf("ZZ", "XX"), []int{1, -2}, 0.1, nil)), "setting 1 (XX) has negative shot count -2"},
+		{"nil plan", second(CertifyPlan(h, nil, 0.1, nil)), "nil plan"},
+		{"plan for another Hamiltonian", second(CertifyPlan(other, &allocate.Plan{Qubits: 2, Settings: settingsOf("XX"), Shots: []int{2}, Cover: []int{0, 2}}, 0.1, nil)), "term 1 (YY): plan says 2 covering shots, its settings give 0"},
+		{"plan width", second(CertifyPlan(mustH(t, 3, 0, 1.0, "ZII"), okPlan, 0.1, nil)), "plan has 2 qubits, Hamiltonian has 3"},
+	}
+	for _, c := range cases {
+		if c.err == nil || !strings.Contains(c.err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one containing %q", c.name, c.err, c.want)
+		}
+	}
+	if _, err := CertifyPlan(h, okPlan, 0.1, nil); err != nil {
+		t.Errorf("CertifyPlan(consistent plan) error %v, want nil", err)
+	}
+}
+
+func second[T any](_ T, err error) error { return err }
+
+// An empty plan certifies nothing but the bias: every term is uncovered.
+func TestCertifyEmptyPlan(t *testing.T) {
+	h := mustH(t, 2, 0, 1.0, "ZI", -0.5, "XX")
+	c, err := Certify(h, nil, nil, 0.1, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Radius != 0 || c.Bias != 1.5 || c.Total != 1.5 || c.Uncovered != 2 {
+		t.Errorf("Certify(empty plan) = radius %g, bias %g, total %g, uncovered %d; want 0, 1.5, 1.5, 2", c.Radius, c.Bias, c.Total, c.Uncovered)
+	}
+}

@@ -1,0 +1,140 @@
+package guarantee
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// maxStored is the number of (setting, term) cover pairs a coverage keeps in
+// memory (4 bytes each); past it, the covered terms of a setting are found
+// again by a scan when needed, which costs time instead of memory.
+const maxStored = 1 << 27
+
+// coverage is a plan reduced to its distinct settings, their multiplicities
+// m_Q, the terms each covers (a compressed row list) and every term's cover
+// count N_i. It is built by one scan of the Hamiltonian's table per distinct
+// setting.
+type coverage struct {
+	h        *hamiltonian.Hamiltonian
+	settings []pauli.Setting // distinct, in order of first use
+	mult     []int           // m_Q
+	off      []int           // idx[off[q]:off[q+1]] are the terms setting q covers; nil when not stored
+	idx      []int32
+	cover    []int // N_i
+	shots    int   // Σ m_Q
+
+	buf []int // scratch for rescans
+	b32 []int32
+}
+
+// newCoverage checks a plan against h and builds its coverage. Entries with
+// zero shots are ignored.
+func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*coverage, error) {
+	if h == nil {
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian")
+	}
+	if len(settings) != len(shots) {
+		return nil, fmt.Errorf("guarantee: %d settings but %d shot counts", len(settings), len(shots))
+	}
+	if h.Len() > math.MaxInt32 {
+		return nil, fmt.Errorf("guarantee: %d terms is more than this package indexes", h.Len())
+	}
+	c := &coverage{h: h, cover: make([]int, h.Len())}
+	index := make(map[string]int)
+	for k, s := range settings {
+		if s.Qubits() != h.Qubits() {
+			return nil, fmt.Errorf("guarantee: setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), h.Qubits())
+		}
+		if shots[k] < 0 {
+			return nil, fmt.Errorf("guarantee: setting %d (%s) has negative shot count %d", k, s, shots[k])
+		}
+		if shots[k] == 0 {
+			continue
+		}
+		if c.shots > math.MaxInt-shots[k] {
+			return nil, fmt.Errorf("guarantee: setting %d (%s): total shot count overflows", k, s)
+		}
+		c.shots += shots[k]
+		key := s.Key()
+		if q, ok := index[key]; ok {
+			c.mult[q] += shots[k]
+			continue
+		}
+		index[key] = len(c.settings)
+		c.settings = append(c.settings, s)
+		c.mult = append(c.mult, shots[k])
+	}
+	t := h.Table()
+	c.off = make([]int, 1, len(c.settings)+1)
+	for q, s := range c.settings {
+		c.buf = t.Covered(c.buf[:0], s)
+		for _, i := range c.buf {
+			c.cover[i] += c.mult[q]
+		}
+		if c.off == nil {
+			continue
+		}
+		if len(c.idx)+len(c.buf) > maxStored {
+			c.off, c.idx = nil, nil
+			continue
+		}
+		for _, i := range c.buf {
+			c.idx = append(c.idx, int32(i))
+		}
+		c.off = append(c.off, len(c.idx))
+	}
+	return c, nil
+}
+
+// terms returns the indices of the terms distinct setting q covers. The
+// slice is valid until the next call.
+func (c *coverage) terms(q int) []int32 {
+	if c.off != nil {
+		return c.idx[c.off[q]:c.off[q+1]]
+	}
+	c.buf = c.h.Table().Covered(c.buf[:0], c.settings[q])
+	c.b32 = c.b32[:0]
+	for _, i := range c.buf {
+		c.b32 = append(c.b32, int32(i))
+	}
+	return c.b32
+}
+
+// weights returns a_i = |h_i|/N_i, zero for uncovered terms.
+func (c *coverage) weights() []float64 {
+	a := make([]float64, len(c.cover))
+	for i, n := range c.cover {
+		if n > 0 {
+			a[i] = math.Abs(c.h.Coeff(i)) / float64(n)
+		}
+	}
+	return a
+}
+
+// loads returns s_Q = Σ_{i ◁ Q, keep} a_i for every distinct setting, where a
+// nil drop keeps every term.
+func (c *coverage) loads(a []float64, drop []bool) []float64 {
+	s := make([]float64, len(c.settings))
+	for q := range c.settings {
+		sum := 0.0
+		for _, i := range c.terms(q) {
+			if drop == nil || !drop[i] {
+				sum += a[i]
+			}
+		}
+		s[q] = sum
+	}
+	return s
+}
+
+// variance returns V = Σ_Q m_Q s_Q² of MATH.md §3.1.
+func (c *coverage) variance(s []float64) float64 {
+	v := 0.0
+	for q, sq := range s {
+		v += float64(c.mult[q]) * sq * sq
+	}
+	return v
+}

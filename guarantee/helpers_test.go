@@ -1,0 +1,105 @@
+package guarantee
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// mustH builds a Hamiltonian from "coeff pauli" pairs.
+func mustH(t testing.TB, n int, offset float64, terms ...any) *hamiltonian.Hamiltonian {
+	t.Helper()
+	var ts []hamiltonian.Term
+	for k := 0; k < len(terms); k += 2 {
+		ts = append(ts, hamiltonian.Term{Coeff: terms[k].(float64), Pauli: pauli.MustParse(terms[k+1].(string))})
+	}
+	h, err := hamiltonian.New(n, offset, ts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return h
+}
+
+// randomH returns m random terms of weight 1..maxW on n qubits with
+// coefficients in ±[0.01, 1) (duplicates merge).
+func randomH(t testing.TB, rng *rand.Rand, n, m, maxW int) *hamiltonian.Hamiltonian {
+	t.Helper()
+	ts := make([]hamiltonian.Term, 0, m)
+	for range m {
+		b := []byte(strings.Repeat("I", n))
+		w := 1 + rng.IntN(maxW)
+		for range w {
+			b[rng.IntN(n)] = "XYZ"[rng.IntN(3)]
+		}
+		c := 0.01 + rng.Float64()
+		if rng.IntN(2) == 0 {
+			c = -c
+		}
+		ts = append(ts, hamiltonian.Term{Coeff: c, Pauli: pauli.MustParse(string(b))})
+	}
+	h, err := hamiltonian.New(n, 0, ts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return h
+}
+
+// randomPlan returns k random settings, each with 0..maxShots shots, some
+// settings repeated.
+func randomPlan(rng *rand.Rand, n, k, maxShots int) ([]pauli.Setting, []int) {
+	var settings []pauli.Setting
+	var shots []int
+	for range k {
+		if len(settings) > 0 && rng.IntN(4) == 0 {
+			settings = append(settings, settings[rng.IntN(len(settings))])
+		} else {
+			b := make([]byte, n)
+			for q := range b {
+				b[q] = "XYZ"[rng.IntN(3)]
+			}
+			settings = append(settings, pauli.MustParseSetting(string(b)))
+		}
+		shots = append(shots, rng.IntN(maxShots+1))
+	}
+	return settings, shots
+}
+
+// referenceV computes V of MATH.md §3.1 shot by shot with Setting.Covers:
+// the slow, letter-level reference for the certificate's word-wise sums.
+func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (v, oneNorm, bias float64) {
+	cover := make([]int, h.Len())
+	for k, s := range settings {
+		for i := range h.Len() {
+			if s.Covers(h.Pauli(i)) {
+				cover[i] += shots[k]
+			}
+		}
+	}
+	for k, s := range settings {
+		for range shots[k] {
+			sum := 0.0
+			for i := range h.Len() {
+				if s.Covers(h.Pauli(i)) {
+					sum += math.Abs(h.Coeff(i)) / float64(cover[i])
+				}
+			}
+			v += sum * sum
+		}
+	}
+	for i, n := range cover {
+		if n == 0 {
+			bias += math.Abs(h.Coeff(i))
+		} else {
+			oneNorm += math.Abs(h.Coeff(i)) / math.Sqrt(float64(n))
+		}
+	}
+	return v, oneNorm, bias
+}
+
+func close(got, want, rel float64) bool {
+	return math.Abs(got-want) <= rel*math.Max(1, math.Abs(want))
+}

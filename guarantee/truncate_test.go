@@ -1,0 +1,89 @@
+package guarantee
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// bruteForceOptimum tries every dropped set of all covered terms (uncovered
+// ones always dropped) and returns the smallest bias + radius; it does not
+// use the candidate reduction, so it checks it.
+func bruteForceOptimum(c *coverage, a []float64, delta float64) float64 {
+	m := len(c.cover)
+	best := math.Inf(1)
+	drop := make([]bool, m)
+	for code := 0; code < 1<<m; code++ {
+		ok := true
+		for i := range m {
+			drop[i] = code>>i&1 == 1
+			if c.cover[i] == 0 && !drop[i] {
+				ok = false
+			}
+		}
+		if !ok {
+			continue
+		}
+		best = min(best, evaluate(c, a, drop, delta, "").Total)
+	}
+	return best
+}
+
+func TestOptimalTruncationExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	found := 0
+	for trial := range 300 {
+		n := 2 + rng.IntN(4)
+		h := randomH(t, rng, n, 2+rng.IntN(10), 2)
+		settings, shots := randomPlan(rng, n, 1+rng.IntN(8), 4)
+		delta := []float64{0.5, 0.1, 0.01}[rng.IntN(3)]
+		c, err := newCoverage(h, settings, shots)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert := certify(c, delta, nil)
+		want := bruteForceOptimum(c, c.weights(), delta)
+		if !close(cert.Optimal.Total, want, 1e-12) || !cert.Optimal.Exact {
+			t.Errorf("trial %d: Optimal.Total = %.15g (exact %v), brute force over all subsets %.15g", trial, cert.Optimal.Total, cert.Optimal.Exact, want)
+		}
+		if cert.Optimal.Total > cert.Threshold.Total*(1+1e-12) || cert.Optimal.Total > cert.Total*(1+1e-12) {
+			t.Errorf("trial %d: Optimal.Total = %g above threshold %g or none dropped %g", trial, cert.Optimal.Total, cert.Threshold.Total, cert.Total)
+		}
+		if cert.Optimal.Total < cert.Total*(1-1e-9) {
+			found++
+		}
+		// The threshold rule drops exactly the terms with N_i < 2 ln(2/δ).
+		for i, n := range cert.Cover {
+			if want := float64(n) < 2*math.Log(2/delta); cert.Threshold.Drop[i] != want {
+				t.Fatalf("trial %d: Threshold.Drop[%d] = %v with N_i = %d, want %v", trial, i, cert.Threshold.Drop[i], n, want)
+			}
+		}
+	}
+	if found == 0 {
+		t.Errorf("no trial where dropping terms helped: the test does not exercise the search")
+	}
+}
+
+// With enumeration switched off (Enumerate 1), the local search and the
+// Frank–Wolfe bound bracket the brute-force optimum.
+func TestOptimalTruncationLocalSearchBracket(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	for trial := range 100 {
+		n := 3 + rng.IntN(3)
+		h := randomH(t, rng, n, 6+rng.IntN(8), 2)
+		settings, shots := randomPlan(rng, n, 3+rng.IntN(6), 3)
+		c, err := newCoverage(h, settings, shots)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert := certify(c, 0.05, &Options{Enumerate: 1})
+		want := bruteForceOptimum(c, c.weights(), 0.05)
+		o := cert.Optimal
+		if o.Total < want*(1-1e-12) || o.Lower > want*(1+1e-9) {
+			t.Errorf("trial %d: local search %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Total, o.Lower, want)
+		}
+		if o.Exact && !close(o.Total, want, 1e-9) {
+			t.Errorf("trial %d: Exact claimed at %.12g, optimum %.12g", trial, o.Total, want)
+		}
+	}
+}
