@@ -1,0 +1,261 @@
+package hamiltonian
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/bits"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// ErrNotConverged is returned by [GroundState] when the residual did not fall
+// below the tolerance within the allowed number of products H·ψ. The
+// Eigenpair returned with it is the best estimate found.
+var ErrNotConverged = errors.New("hamiltonian: ground state did not converge")
+
+// EigenSettings tunes [GroundState]. A nil *EigenSettings, or the zero value
+// of any field, means the default.
+type EigenSettings struct {
+	// Tolerance is the residual ‖Hψ − Eψ‖ (ψ normalised) at which the
+	// search stops. Zero means 1e-10·max(1, |h_0| + ‖h‖₁). The energy error
+	// is at most the residual, and at most residual²/gap once the residual
+	// is below the gap to the next eigenvalue (Kato–Temple bound).
+	Tolerance float64
+
+	// KrylovDim is the number of Lanczos vectors built before a restart
+	// (capped at 2^n). Zero means 40. Memory is about (KrylovDim+1)·2^n
+	// complex128 values.
+	KrylovDim int
+
+	// MaxApply bounds the number of products H·ψ. Zero means 5000.
+	MaxApply int
+
+	// Seed seeds the random start vector; the same seed gives the same
+	// result. Zero is a valid seed.
+	Seed uint64
+}
+
+// Eigenpair is an eigenvalue of a Hamiltonian with its normalised
+// eigenvector; State[a] is the amplitude of the basis state with bit q of a on
+// qubit q.
+type Eigenpair struct {
+	Energy   float64      // ⟨ψ|H|ψ⟩ of the returned state
+	State    []complex128 // normalised, 2^n amplitudes
+	Residual float64      // ‖Hψ − Energy·ψ‖
+}
+
+// GroundState returns the lowest eigenvalue of h and an eigenvector, found by
+// the Lanczos method with full reorthogonalisation (classical Gram–Schmidt
+// applied twice), restarted from the current Ritz vector every KrylovDim
+// steps. The small tridiagonal eigenproblems are solved with gonum's
+// mat.EigenSym. H is never stored as a matrix: each step is one
+// [Hamiltonian.Apply].
+//
+// Near-degenerate ground states (a tiny gap) converge in energy long before
+// the vector is pinned down; compare energies, not vectors.
+//
+// GroundState returns an error for more than [MaxExactQubits] qubits, for
+// invalid settings, and [ErrNotConverged] (with the best pair found) when
+// MaxApply products were not enough.
+func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
+	if h.n > MaxExactQubits {
+		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
+	}
+	var s EigenSettings
+	if opts != nil {
+		s = *opts
+	}
+	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.KrylovDim < 0 || s.MaxApply < 0 {
+		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: negative or NaN setting in %+v", s)
+	}
+	if s.Tolerance == 0 {
+		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
+	}
+	if s.KrylovDim == 0 {
+		s.KrylovDim = 40
+	}
+	if s.MaxApply == 0 {
+		s.MaxApply = 5000
+	}
+	dim := 1 << h.n
+	m := min(max(s.KrylovDim, 2), dim)
+	op := newOperator(h, true)
+
+	rng := rand.New(rand.NewPCG(s.Seed, 0x1a2c05))
+	v := make([][]complex128, m+1)
+	v[0] = make([]complex128, dim)
+	for i := range v[0] {
+		v[0][i] = complex(rng.NormFloat64(), rng.NormFloat64())
+	}
+	scale(v[0], complex(1/norm(v[0]), 0))
+
+	x := make([]complex128, dim) // Ritz vector
+	alpha := make([]float64, 0, m)
+	beta := make([]float64, 0, m)
+	coef := make([]complex128, m)
+	applies := 0
+	converged := false
+	for !converged {
+		alpha, beta = alpha[:0], beta[:0]
+		var y []float64
+		k := 0
+		for j := 0; j < m; j++ {
+			if v[j+1] == nil {
+				v[j+1] = make([]complex128, dim)
+			}
+			w := v[j+1]
+			op.apply(w, v[j])
+			applies++
+			a := real(dot(v[j], w))
+			alpha = append(alpha, a)
+			axpy(w, complex(-a, 0), v[j])
+			if j > 0 {
+				axpy(w, complex(-beta[j-1], 0), v[j-1])
+			}
+			// Full reorthogonalisation, twice ("twice is enough": Giraud,
+			// Langou & Rozložník 2005), keeps the basis orthonormal to
+			// working precision so no ghost eigenvalues appear.
+			for range 2 {
+				for i := 0; i <= j; i++ {
+					coef[i] = dot(v[i], w)
+				}
+				for i := 0; i <= j; i++ {
+					axpy(w, -coef[i], v[i])
+				}
+			}
+			b := norm(w)
+			k = j + 1
+			_, y = lowestTridiag(alpha, beta)
+			res := b * math.Abs(y[k-1])
+			if res <= s.Tolerance || b <= 1e-14*max(1, math.Abs(a)) {
+				converged = true
+				break
+			}
+			if applies >= s.MaxApply {
+				break
+			}
+			if j+1 < m {
+				beta = append(beta, b)
+				scale(w, complex(1/b, 0))
+			}
+		}
+		// Ritz vector x = Σ y_i v_i, the next start vector.
+		clear(x)
+		for i := 0; i < k; i++ {
+			axpy(x, complex(y[i], 0), v[i])
+		}
+		scale(x, complex(1/norm(x), 0))
+		copy(v[0], x)
+		if applies >= s.MaxApply {
+			break
+		}
+	}
+	// Report the Rayleigh quotient and the true residual of x.
+	hx := v[1]
+	if hx == nil {
+		hx = make([]complex128, dim)
+	}
+	op.apply(hx, x)
+	e := real(dot(x, hx))
+	axpy(hx, complex(-e, 0), x)
+	pair := Eigenpair{Energy: e, State: x, Residual: norm(hx)}
+	if pair.Residual > s.Tolerance && !converged {
+		return pair, fmt.Errorf("%w after %d products H·ψ: residual %.3g > tolerance %.3g", ErrNotConverged, applies, pair.Residual, s.Tolerance)
+	}
+	return pair, nil
+}
+
+// lowestTridiag returns the lowest eigenvalue and its unit eigenvector of the
+// symmetric tridiagonal matrix with diagonal alpha and off-diagonal beta
+// (len(beta) = len(alpha)−1), using gonum's dense symmetric eigensolver.
+func lowestTridiag(alpha, beta []float64) (float64, []float64) {
+	k := len(alpha)
+	t := mat.NewSymDense(k, nil)
+	for i, a := range alpha {
+		t.SetSym(i, i, a)
+	}
+	for i, b := range beta[:k-1] {
+		t.SetSym(i, i+1, b)
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(t, true) {
+		panic("hamiltonian: tridiagonal eigensolver failed")
+	}
+	vals := eig.Values(nil)
+	best := 0
+	for i, v := range vals {
+		if v < vals[best] {
+			best = i
+		}
+	}
+	var vecs mat.Dense
+	eig.VectorsTo(&vecs)
+	return vals[best], mat.Col(nil, best, &vecs)
+}
+
+func dot(a, b []complex128) complex128 {
+	var s complex128
+	for i, v := range a {
+		s += complex(real(v), -imag(v)) * b[i]
+	}
+	return s
+}
+
+func axpy(y []complex128, a complex128, x []complex128) {
+	for i, v := range x {
+		y[i] += a * v
+	}
+}
+
+func norm(a []complex128) float64 {
+	s := 0.0
+	for _, v := range a {
+		s += real(v)*real(v) + imag(v)*imag(v)
+	}
+	return math.Sqrt(s)
+}
+
+func scale(a []complex128, c complex128) {
+	for i := range a {
+		a[i] *= c
+	}
+}
+
+// MaxMatrixQubits is the widest Hamiltonian [Hamiltonian.Matrix] builds: a
+// 4096×4096 complex matrix (256 MiB) at 12 qubits.
+const MaxMatrixQubits = 12
+
+// Matrix returns H as a dense 2^n×2^n complex matrix, with row and column
+// index a meaning the basis state with bit q of a on qubit q. It is meant for
+// cross-checks on small n and returns an error above [MaxMatrixQubits].
+func (h *Hamiltonian) Matrix() (*mat.CDense, error) {
+	if h.n > MaxMatrixQubits {
+		return nil, fmt.Errorf("hamiltonian: Matrix: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
+	}
+	dim := 1 << h.n
+	m := mat.NewCDense(dim, dim, nil)
+	for b := range dim {
+		m.Set(b, b, complex(h.offset, 0))
+	}
+	t := h.Table()
+	for i, c := range h.coef {
+		xs, zs := t.Words(i)
+		var x, z uint64
+		if h.n > 0 {
+			x, z = xs[0], zs[0]
+		}
+		// P|b⟩ = i^{|x∧z|} (−1)^{|z∧b|} |b⊕x⟩ (MATH.md §7).
+		ph := [4]complex128{1, 1i, -1, -1i}[bits.OnesCount64(x&z)&3]
+		for b := range uint64(dim) {
+			v := complex(c, 0) * ph
+			if bits.OnesCount64(z&b)&1 == 1 {
+				v = -v
+			}
+			a := int(b ^ x)
+			m.Set(a, int(b), m.At(a, int(b))+v)
+		}
+	}
+	return m, nil
+}
