@@ -1,0 +1,232 @@
+package fermion
+
+import (
+	"encoding/binary"
+	"fmt"
+	"math"
+	"math/bits"
+	"math/cmplx"
+	"strings"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// ImagTolerance is the largest |imaginary part| of a mapped coefficient that
+// [Operator.QubitHamiltonian] accepts and discards; a larger one means the
+// operator is not Hermitian and is reported as an error.
+const ImagTolerance = 1e-12
+
+// roundoff is the relative size, against the sum of the magnitudes of its
+// contributions, below which a merged coefficient is cancellation residue
+// and counts as zero.
+const roundoff = 64 * 0x1p-52
+
+func abs(c complex128) float64 { return cmplx.Abs(c) }
+
+// QubitOperator returns the image of o under e as Pauli strings with complex
+// coefficients, repeated strings merged, in the order each string first
+// appears while the terms are expanded. The identity, if present, is a term
+// like any other. A merged coefficient is dropped when its magnitude is below
+// 2.8e-14 times the sum of the magnitudes of its contributions, that is when
+// it is rounding residue of an exact cancellation.
+func (o *Operator) QubitOperator(e Encoding) []PauliTerm {
+	m := o.mapAll(e)
+	out := make([]PauliTerm, 0, len(m.coef))
+	for i, c := range m.coef {
+		if abs(c) <= roundoff*m.mag[i] {
+			continue
+		}
+		x, z := m.words(i)
+		out = append(out, PauliTerm{Pauli: pauli.FromWords(m.n, x, z), Coeff: c})
+	}
+	return out
+}
+
+// QubitHamiltonian maps o to a qubit Hamiltonian on Modes() qubits under e.
+// It returns an error naming the Pauli term when a mapped coefficient has an
+// imaginary part above [ImagTolerance] (o is then not Hermitian), or when a
+// coefficient is not finite. Real parts that are rounding residue of an exact
+// cancellation are dropped as in [Operator.QubitOperator].
+func (o *Operator) QubitHamiltonian(e Encoding) (*hamiltonian.Hamiltonian, error) {
+	m := o.mapAll(e)
+	var offset float64
+	terms := make([]hamiltonian.Term, 0, len(m.coef))
+	var bad []string
+	nbad := 0
+	for i, c := range m.coef {
+		x, z := m.words(i)
+		if !(math.Abs(imag(c)) <= ImagTolerance) {
+			if nbad++; nbad <= 3 {
+				bad = append(bad, fmt.Sprintf("%s has coefficient %v", pauli.FromWords(m.n, x, z), c))
+			}
+			continue
+		}
+		re := real(c)
+		if math.Abs(re) <= roundoff*m.mag[i] {
+			continue
+		}
+		if isIdentity(x, z) {
+			offset += re
+			continue
+		}
+		terms = append(terms, hamiltonian.Term{Pauli: pauli.FromWords(m.n, x, z), Coeff: re})
+	}
+	if nbad > 0 {
+		msg := strings.Join(bad, "; ")
+		if nbad > len(bad) {
+			msg += fmt.Sprintf("; and %d more", nbad-len(bad))
+		}
+		return nil, fmt.Errorf("fermion: %s image is not Hermitian: imaginary part above %g: %s", e, ImagTolerance, msg)
+	}
+	h, err := hamiltonian.New(m.n, offset, terms)
+	if err != nil {
+		return nil, fmt.Errorf("fermion: %s image: %w", e, err)
+	}
+	return h, nil
+}
+
+func isIdentity(x, z []uint64) bool {
+	for i := range x {
+		if x[i]|z[i] != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// accumulator sums complex coefficients of Pauli strings keyed by their
+// words, without allocating per lookup.
+type accumulator struct {
+	n, w  int
+	index map[string]int32
+	small map[[2]uint64]int32 // used instead of index when w == 1
+	data  []uint64            // string i's x then z words at data[2wi:]
+	coef  []complex128
+	mag   []float64 // Σ |contribution| per string, for the zero test
+	key   []byte
+}
+
+func newAccumulator(n int) *accumulator {
+	a := &accumulator{n: n, w: pauli.Words(n)}
+	if a.w == 1 {
+		a.small = make(map[[2]uint64]int32)
+	} else {
+		a.index = make(map[string]int32)
+		a.key = make([]byte, 16*a.w)
+	}
+	return a
+}
+
+func (a *accumulator) words(i int) (x, z []uint64) {
+	o := 2 * a.w * i
+	return a.data[o : o+a.w : o+a.w], a.data[o+a.w : o+2*a.w : o+2*a.w]
+}
+
+func (a *accumulator) add(x, z []uint64, c complex128, mag float64) {
+	var k int32
+	var ok bool
+	switch a.w {
+	case 0:
+		k, ok = 0, len(a.coef) > 0
+	case 1:
+		key := [2]uint64{x[0], z[0]}
+		if k, ok = a.small[key]; !ok {
+			a.small[key] = int32(len(a.coef))
+		}
+	default:
+		b := a.key
+		for i := range x {
+			binary.LittleEndian.PutUint64(b[16*i:], x[i])
+			binary.LittleEndian.PutUint64(b[16*i+8:], z[i])
+		}
+		if k, ok = a.index[string(b)]; !ok {
+			a.index[string(b)] = int32(len(a.coef))
+		}
+	}
+	if ok {
+		a.coef[k] += c
+		a.mag[k] += mag
+		return
+	}
+	a.data = append(a.data, x...)
+	a.data = append(a.data, z...)
+	a.coef = append(a.coef, c)
+	a.mag = append(a.mag, mag)
+}
+
+// mapper expands products of encoded ladder operators into an accumulator.
+type mapper struct {
+	*accumulator
+	tab *ladderTable
+	lx  [][]uint64 // running product's x words after each level
+	lz  [][]uint64
+}
+
+func (o *Operator) mapAll(e Encoding) *mapper {
+	m := &mapper{accumulator: newAccumulator(o.modes), tab: newLadderTable(e, o.modes)}
+	for _, t := range o.Terms() {
+		m.addTerm(t.Coeff, t.Ops)
+	}
+	return m
+}
+
+// addTerm adds the image of c·ops: the 2^len(ops) products of one string per
+// ladder image, each weighted by c·2^−len(ops)·i^phase.
+func (m *mapper) addTerm(c complex128, ops []Op) {
+	if c == 0 {
+		return
+	}
+	k := len(ops)
+	for len(m.lx) <= k {
+		m.lx = append(m.lx, make([]uint64, m.w))
+		m.lz = append(m.lz, make([]uint64, m.w))
+	}
+	clear(m.lx[0])
+	clear(m.lz[0])
+	scale := math.Ldexp(1, -k)
+	m.expand(ops, 0, 0, c*complex(scale, 0), abs(c)*scale)
+}
+
+func (m *mapper) expand(ops []Op, level int, ph int, c complex128, mag float64) {
+	if level == len(ops) {
+		switch ph & 3 {
+		case 1:
+			c = complex(-imag(c), real(c))
+		case 2:
+			c = -c
+		case 3:
+			c = complex(imag(c), -real(c))
+		}
+		m.add(m.lx[level], m.lz[level], c, mag)
+		return
+	}
+	op := ops[level]
+	x, za, zb := m.tab.at(op.Mode)
+	// Second string: weight −i (creation) or +i (annihilation).
+	im := 3
+	if !op.Dagger {
+		im = 1
+	}
+	px, pz := m.lx[level], m.lz[level]
+	nx, nz := m.lx[level+1], m.lz[level+1]
+	m.expand(ops, level+1, ph+mulWords(nx, nz, px, pz, x, za), c, mag)
+	m.expand(ops, level+1, ph+im+mulWords(nx, nz, px, pz, x, zb), c, mag)
+}
+
+// mulWords writes the string of (x1,z1)·(x2,z2) into (dx,dz) and returns the
+// phase exponent: the product is i^phase times the string. Same rule as
+// [pauli.Mul] (XY = iZ, YZ = iX, ZX = iY).
+func mulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) int {
+	var pos, neg int
+	for i := range dx {
+		x1, z1, x2, z2 := x1s[i], z1s[i], x2s[i], z2s[i]
+		xa, za, ya := x1&^z1, z1&^x1, x1&z1
+		xb, zb, yb := x2&^z2, z2&^x2, x2&z2
+		pos += bits.OnesCount64(xa&yb | za&xb | ya&zb)
+		neg += bits.OnesCount64(xa&zb | za&yb | ya&xb)
+		dx[i] = x1 ^ x2
+		dz[i] = z1 ^ z2
+	}
+	return (pos - neg) & 3
+}

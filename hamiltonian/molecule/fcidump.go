@@ -1,0 +1,350 @@
+package molecule
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+)
+
+// ErrFormat is wrapped by every error about a malformed FCIDUMP file.
+var ErrFormat = errors.New("malformed FCIDUMP")
+
+// ErrUnrestricted is wrapped by the error for an unrestricted (UHF) file,
+// whose α and β integrals differ; this package handles restricted
+// integrals only.
+var ErrUnrestricted = errors.New("unrestricted (UHF) integrals are not supported")
+
+// LineError reports one bad line of an FCIDUMP file.
+type LineError struct {
+	Line   int    // 1-based line number
+	Reason string // what is wrong
+	Err    error  // ErrFormat or ErrUnrestricted
+}
+
+func (e *LineError) Error() string {
+	return fmt.Sprintf("molecule: FCIDUMP line %d: %s", e.Line, e.Reason)
+}
+
+// Unwrap returns [ErrFormat] or [ErrUnrestricted].
+func (e *LineError) Unwrap() error { return e.Err }
+
+// maxLineErrors bounds how many bad lines one error lists.
+const maxLineErrors = 20
+
+// ReadFCIDUMP reads integrals in the FCIDUMP format (Knowles & Handy,
+// Comput. Phys. Commun. 54, 75 (1989)) as described in the package
+// documentation. It reports every bad line (up to 20), each a [*LineError],
+// joined with errors.Join; errors.Is(err, ErrFormat) holds, or
+// errors.Is(err, ErrUnrestricted) for a UHF file.
+func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
+	sc := bufio.NewScanner(r)
+	sc.Buffer(make([]byte, 0, 64*1024), 16<<20)
+	lineNo := 0
+	var errs []error
+	bad := func(line int, sentinel error, format string, args ...any) {
+		if len(errs) < maxLineErrors {
+			errs = append(errs, &LineError{Line: line, Reason: fmt.Sprintf(format, args...), Err: sentinel})
+		}
+	}
+
+	// The header: "&FCI", then NAME=value items up to "&END" or "/".
+	var toks []token
+	started, ended := false, false
+	for !ended && sc.Scan() {
+		lineNo++
+		text := sc.Text()
+		if !started {
+			t := strings.TrimSpace(text)
+			if t == "" {
+				continue
+			}
+			if len(t) < 4 || !strings.EqualFold(t[:4], "&FCI") {
+				bad(lineNo, ErrFormat, "file does not start with the &FCI header")
+				return nil, errors.Join(errs...)
+			}
+			started = true
+			text = t[4:]
+		}
+		if k := endOfHeader(text); k >= 0 {
+			text = text[:k]
+			ended = true
+		}
+		toks = tokenize(toks, text, lineNo)
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("molecule: FCIDUMP line %d: %w", lineNo+1, err)
+	}
+	if !started {
+		bad(max(lineNo, 1), ErrFormat, "empty file: missing the &FCI header")
+		return nil, errors.Join(errs...)
+	}
+	if !ended {
+		bad(lineNo, ErrFormat, "header has no &END (or /) before the end of the file")
+		return nil, errors.Join(errs...)
+	}
+	hdr, herrs := parseHeader(toks, lineNo)
+	for _, e := range herrs {
+		if len(errs) < maxLineErrors {
+			errs = append(errs, e)
+		}
+	}
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
+	}
+	g, err := New(hdr.norb)
+	if err != nil {
+		return nil, err // New's range was checked by parseHeader
+	}
+	g.Electrons, g.SpinTwice, g.OrbSym, g.ISym = hdr.nelec, hdr.ms2, hdr.orbsym, hdr.isym
+
+	// The body: "value i j k l" lines.
+	n := hdr.norb
+	for sc.Scan() {
+		lineNo++
+		f := strings.FieldsFunc(sc.Text(), func(r rune) bool { return r == ' ' || r == '\t' || r == ',' || r == '\r' })
+		if len(f) == 0 {
+			continue
+		}
+		if len(f) != 5 {
+			bad(lineNo, ErrFormat, "want a value and 4 orbital indices, have %d fields", len(f))
+			continue
+		}
+		v, reason := parseValue(f[0])
+		if reason != "" {
+			bad(lineNo, ErrFormat, "%s", reason)
+			continue
+		}
+		var idx [4]int
+		ok := true
+		for k := range idx {
+			i, err := strconv.Atoi(f[k+1])
+			switch {
+			case err != nil:
+				bad(lineNo, ErrFormat, "orbital index %q is not an integer", f[k+1])
+				ok = false
+			case i < 0:
+				bad(lineNo, ErrFormat, "orbital index %d is negative", i)
+				ok = false
+			case i > n:
+				bad(lineNo, ErrFormat, "orbital index %d beyond NORB=%d", i, n)
+				ok = false
+			}
+			idx[k] = i - 1
+			if !ok {
+				break
+			}
+		}
+		if !ok {
+			continue
+		}
+		i, j, k, l := idx[0], idx[1], idx[2], idx[3]
+		switch {
+		case i >= 0 && j >= 0 && k >= 0 && l >= 0:
+			g.SetTwo(i, j, k, l, v)
+		case i >= 0 && j >= 0 && k < 0 && l < 0:
+			g.SetOne(i, j, v)
+		case i >= 0 && j < 0 && k < 0 && l < 0:
+			// An orbital energy: accepted and ignored.
+		case i < 0 && j < 0 && k < 0 && l < 0:
+			g.SetCore(v)
+		default:
+			bad(lineNo, ErrFormat, "index pattern %s %s %s %s is none of i j k l, i j 0 0, i 0 0 0, 0 0 0 0", f[1], f[2], f[3], f[4])
+		}
+	}
+	if err := sc.Err(); err != nil {
+		return nil, fmt.Errorf("molecule: FCIDUMP line %d: %w", lineNo+1, err)
+	}
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
+	}
+	return g, nil
+}
+
+// ReadFCIDUMPFile reads an FCIDUMP file; errors name the file.
+func ReadFCIDUMPFile(path string) (*Integrals, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	g, err := ReadFCIDUMP(f)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return g, nil
+}
+
+// parseValue parses a real number, accepting a Fortran D exponent, and
+// explains a bad one.
+func parseValue(s string) (float64, string) {
+	v, err := strconv.ParseFloat(strings.NewReplacer("D", "E", "d", "e").Replace(s), 64)
+	switch {
+	case err == nil && (math.IsNaN(v) || math.IsInf(v, 0)):
+		return 0, fmt.Sprintf("value %q is not finite", s)
+	case errors.Is(err, strconv.ErrRange):
+		return 0, fmt.Sprintf("value %q out of range", s)
+	case err != nil:
+		return 0, fmt.Sprintf("value %q is not a number", s)
+	}
+	return v, ""
+}
+
+// token is one word of the header with its line.
+type token struct {
+	text string
+	line int
+}
+
+// endOfHeader returns the index of the header terminator "&END" or "/" in
+// the line, or −1.
+func endOfHeader(s string) int {
+	if k := strings.Index(strings.ToUpper(s), "&END"); k >= 0 {
+		return k
+	}
+	if k := strings.Index(strings.ToUpper(s), "$END"); k >= 0 {
+		return k
+	}
+	return strings.IndexByte(s, '/')
+}
+
+// tokenize appends the words of a header line: names, "=" and values,
+// separated by white space and commas.
+func tokenize(toks []token, s string, line int) []token {
+	start := -1
+	flush := func(end int) {
+		if start >= 0 {
+			toks = append(toks, token{s[start:end], line})
+			start = -1
+		}
+	}
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; c {
+		case ' ', '\t', ',', '\r':
+			flush(i)
+		case '=':
+			flush(i)
+			toks = append(toks, token{"=", line})
+		default:
+			if start < 0 {
+				start = i
+			}
+		}
+	}
+	flush(len(s))
+	return toks
+}
+
+type header struct {
+	norb, nelec, ms2, isym int
+	orbsym                 []int
+}
+
+// parseHeader reads the NAME = value, value, ... items. endLine is the line
+// of the terminator, where a missing item is reported.
+func parseHeader(toks []token, endLine int) (header, []error) {
+	var errs []error
+	bad := func(line int, sentinel error, format string, args ...any) {
+		errs = append(errs, &LineError{Line: line, Reason: fmt.Sprintf(format, args...), Err: sentinel})
+	}
+	items := map[string][]token{}
+	lines := map[string]int{}
+	for i := 0; i < len(toks); {
+		if i+1 >= len(toks) || toks[i+1].text != "=" || toks[i].text == "=" {
+			bad(toks[i].line, ErrFormat, "header: unexpected %q, want NAME=value", toks[i].text)
+			i++
+			continue
+		}
+		name := strings.ToUpper(toks[i].text)
+		if _, dup := items[name]; dup {
+			bad(toks[i].line, ErrFormat, "header: %s given twice", name)
+		}
+		lines[name] = toks[i].line
+		j := i + 2
+		var vals []token
+		for j < len(toks) && toks[j].text != "=" && (j+1 >= len(toks) || toks[j+1].text != "=") {
+			vals = append(vals, toks[j])
+			j++
+		}
+		items[name] = vals
+		i = j
+	}
+	var h header
+	h.isym = 1
+	intItem := func(name string, required bool, dst *int) bool {
+		vals, ok := items[name]
+		if !ok {
+			if required {
+				bad(endLine, ErrFormat, "header has no %s", name)
+			}
+			return false
+		}
+		if len(vals) != 1 {
+			bad(lines[name], ErrFormat, "header: %s wants one value, has %d", name, len(vals))
+			return false
+		}
+		v, err := strconv.Atoi(vals[0].text)
+		if err != nil {
+			bad(vals[0].line, ErrFormat, "header: %s=%s is not an integer", name, vals[0].text)
+			return false
+		}
+		*dst = v
+		return true
+	}
+	if intItem("NORB", true, &h.norb) && (h.norb < 1 || h.norb > maxOrbitals) {
+		bad(lines["NORB"], ErrFormat, "header: NORB=%d, want 1 to %d", h.norb, maxOrbitals)
+		h.norb = 0
+	}
+	if intItem("NELEC", true, &h.nelec) && (h.nelec < 0 || (h.norb > 0 && h.nelec > 2*h.norb)) {
+		bad(lines["NELEC"], ErrFormat, "header: NELEC=%d, want 0 to 2·NORB", h.nelec)
+	}
+	intItem("MS2", false, &h.ms2)
+	intItem("ISYM", false, &h.isym)
+	if vals, ok := items["ORBSYM"]; ok {
+		for _, t := range vals {
+			// Fortran repeat form "k*v".
+			rep, val := 1, t.text
+			if k := strings.IndexByte(t.text, '*'); k >= 0 {
+				r, err := strconv.Atoi(t.text[:k])
+				if err != nil || r < 1 || r > maxOrbitals {
+					bad(t.line, ErrFormat, "header: ORBSYM repeat %q is not a count", t.text)
+					continue
+				}
+				rep, val = r, t.text[k+1:]
+			}
+			v, err := strconv.Atoi(val)
+			if err != nil {
+				bad(t.line, ErrFormat, "header: ORBSYM value %q is not an integer", t.text)
+				continue
+			}
+			for range rep {
+				h.orbsym = append(h.orbsym, v)
+			}
+		}
+		if h.norb > 0 && len(h.orbsym) != h.norb {
+			bad(lines["ORBSYM"], ErrFormat, "header: ORBSYM has %d labels, NORB=%d", len(h.orbsym), h.norb)
+		}
+	}
+	for _, name := range []string{"UHF", "IUHF"} {
+		vals, ok := items[name]
+		if !ok {
+			continue
+		}
+		if len(vals) != 1 {
+			bad(lines[name], ErrFormat, "header: %s wants one value, has %d", name, len(vals))
+			continue
+		}
+		switch strings.ToUpper(strings.Trim(vals[0].text, ".")) {
+		case "FALSE", "F", "0":
+		case "TRUE", "T", "1":
+			bad(lines[name], ErrUnrestricted, "header: %s=%s: %v", name, vals[0].text, ErrUnrestricted)
+		default:
+			bad(lines[name], ErrFormat, "header: %s=%s is not a logical value", name, vals[0].text)
+		}
+	}
+	return h, errs
+}
