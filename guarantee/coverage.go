@@ -21,10 +21,9 @@ type coverage struct {
 	h        *hamiltonian.Hamiltonian
 	settings []pauli.Setting // distinct, in order of first use
 	mult     []int           // m_Q
-	off      []int           // idx[off[q]:off[q+1]] are the terms setting q covers; nil when not stored
-	idx      []int32
-	cover    []int // N_i
-	shots    int   // Σ m_Q
+	rows     [][]int32       // rows[q] are the terms setting q covers; nil when not stored
+	cover    []int           // N_i
+	shots    int             // Σ m_Q
 
 	buf []int // scratch for rescans
 	b32 []int32
@@ -67,24 +66,32 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 		c.settings = append(c.settings, s)
 		c.mult = append(c.mult, shots[k])
 	}
+	// The rows are cut from blocks of at least 1<<20 entries, so that no
+	// stored index is ever copied by a growing slice.
 	t := h.Table()
-	c.off = make([]int, 1, len(c.settings)+1)
+	c.rows = make([][]int32, len(c.settings))
+	var block []int32
+	stored := 0
 	for q, s := range c.settings {
 		c.buf = t.Covered(c.buf[:0], s)
 		for _, i := range c.buf {
 			c.cover[i] += c.mult[q]
 		}
-		if c.off == nil {
+		if c.rows == nil {
 			continue
 		}
-		if len(c.idx)+len(c.buf) > maxStored {
-			c.off, c.idx = nil, nil
+		if stored += len(c.buf); stored > maxStored {
+			c.rows = nil
 			continue
 		}
+		if cap(block)-len(block) < len(c.buf) {
+			block = make([]int32, 0, max(1<<20, len(c.buf)))
+		}
+		start := len(block)
 		for _, i := range c.buf {
-			c.idx = append(c.idx, int32(i))
+			block = append(block, int32(i))
 		}
-		c.off = append(c.off, len(c.idx))
+		c.rows[q] = block[start:len(block):len(block)]
 	}
 	return c, nil
 }
@@ -92,8 +99,8 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 // terms returns the indices of the terms distinct setting q covers. The
 // slice is valid until the next call.
 func (c *coverage) terms(q int) []int32 {
-	if c.off != nil {
-		return c.idx[c.off[q]:c.off[q+1]]
+	if c.rows != nil {
+		return c.rows[q]
 	}
 	c.buf = c.h.Table().Covered(c.buf[:0], c.settings[q])
 	c.b32 = c.b32[:0]
