@@ -25,6 +25,10 @@ type Plan struct {
 	Cover []int
 	// Stats describes the run that made the plan.
 	Stats Stats
+	// Drawn is, for strategies that sample one term per shot (importance
+	// sampling, see [Importance] and [TermDrawer]), the index of the term
+	// drawn for each shot, in shot order; nil otherwise.
+	Drawn []int
 }
 
 // Stats describes an allocation run.

@@ -1,0 +1,270 @@
+package allocate
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Greedy is greedy one-norm descent, the allocation of ShadowGrouping
+// (Gresch & Kliesch, "Guaranteed efficient energy estimation of quantum
+// many-body Hamiltonians using ShadowGrouping", arXiv:2301.03385; MATH §5.1).
+//
+// Each round gives term i the weight of its marginal gain in the objective
+// Σ_i |h_i|/sqrt(N_i) (MATH §3.2), w_i = |h_i|(1/sqrt(N_i) − 1/sqrt(N_i+1)),
+// with the terms not yet covered (N_i = 0) first, by |h_i|. It walks the
+// terms from the largest weight down, ties broken by |h_i| and then by term
+// index, accepts a term when it is qubit-wise compatible with the letters
+// fixed so far and fixes its letters, and stops when every qubit is fixed or
+// the list ends. Free qubits get the letter Fill. The setting gets one shot,
+// and N_i grows by one for every term the finished setting covers.
+//
+// # Cost
+//
+// The weights live in an indexed binary max-heap. A round walks the heap in
+// descending order through a small frontier heap, without changing it, so
+// walking W terms costs O(W log W). Finding the terms the setting covers is
+// one pass over the M terms' words, O(M·⌈n/64⌉); only those terms' weights
+// change, each by one sift-down in the heap, which is O(1) on average for a
+// term deep in the heap and O(log M) at worst. A setting therefore costs
+// O(W log W + M⌈n/64⌉ + C log M) for C covered terms; memory is O(M⌈n/64⌉).
+//
+// Greedy is deterministic: it uses no randomness. It implements [Counter].
+// The zero value is ready to use.
+type Greedy struct {
+	// Fill is the letter of the qubits that no accepted term fixes; zero
+	// (pauli.I) means Z.
+	Fill pauli.Letter
+
+	rk    *ranked
+	index *coverIndex
+	cnt   []int32 // N of rank r
+	tier  float64 // added to |h| for uncovered terms, above every w_i
+	heap  []entry // max-heap by (key desc, rank asc)
+	pos   []int32 // heap position of rank r
+	front []entry // frontier of the walk, a max-heap of heap entries
+	hit   []int32 // scratch: ranks covered by the last setting
+	gain  []float64
+	px    []uint64 // letters fixed so far
+	pz    []uint64
+	fixed []uint64 // qubits fixed so far
+}
+
+// entry is a heap entry: a term's rank and current weight, and, in the
+// frontier, its position in the heap.
+type entry struct {
+	key  float64
+	r, p int32
+}
+
+// before reports whether a comes before b in the walk: larger weight first,
+// then lower rank (larger |h_i|, then lower term index).
+func before(a, b entry) bool {
+	return a.key > b.key || a.key == b.key && a.r < b.r
+}
+
+// String returns "greedy".
+func (g *Greedy) String() string { return "greedy" }
+
+// Init implements [Allocator].
+func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
+	if g.Fill > pauli.Z {
+		return fmt.Errorf("greedy: fill letter %d is not I, X, Y or Z", g.Fill)
+	}
+	g.rk = newRanked(h)
+	rk := g.rk
+	m := len(rk.order)
+	g.index = newCoverIndex(rk.n, m, rk.row)
+	g.cnt = make([]int32, m)
+	g.heap = make([]entry, m)
+	g.pos = make([]int32, m)
+	g.tier = rk.abs[0] // the largest |h|; every w_i ≤ (1−1/√2)|h_i| is below it
+	for r := range m {
+		// Rank order is descending by key, so it is already a heap.
+		g.heap[r] = entry{key: rk.abs[r] + g.tier, r: int32(r)}
+		g.pos[r] = int32(r)
+	}
+	g.gain = g.gain[:0]
+	w := rk.w
+	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
+	g.front = g.front[:0]
+	return nil
+}
+
+// Next implements [Allocator].
+func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
+	rk := g.rk
+	w := rk.w
+	// Qubits outside every term's support are fixed from the start, so
+	// that the walk can end early.
+	for k := range w {
+		g.px[k], g.pz[k], g.fixed[k] = 0, 0, rk.all[k]&^rk.used[k]
+	}
+	g.walk()
+	fill := g.Fill
+	if fill == pauli.I {
+		fill = pauli.Z
+	}
+	fx, fz := letterBits(fill)
+	for k := range w {
+		free := rk.all[k] &^ (g.px[k] | g.pz[k])
+		g.px[k] |= free & fx
+		g.pz[k] |= free & fz
+	}
+	writeLetters(dst, g.px, g.pz)
+	g.hit = g.index.appendCovered(g.hit[:0], g.px, g.pz)
+	for _, r := range g.hit {
+		g.bump(r)
+	}
+	return 1, nil
+}
+
+// walk visits the terms in descending weight and fixes the letters of those
+// compatible with the partial setting. It reads the heap without changing
+// it, through a frontier heap of the visited entries' children.
+func (g *Greedy) walk() {
+	rk := g.rk
+	w := rk.w
+	words := rk.words
+	if g.allFixed() {
+		return
+	}
+	g.front = g.front[:0]
+	g.pushFront(0)
+	for len(g.front) > 0 {
+		p := g.popFront()
+		o := 2 * w * int(g.heap[p].r)
+		ok, grow := true, false
+		for k := range w {
+			x, z := words[o+k], words[o+w+k]
+			s := x | z
+			if ((x^g.px[k])|(z^g.pz[k]))&s&g.fixed[k] != 0 {
+				ok = false
+				break
+			}
+			if s&^g.fixed[k] != 0 {
+				grow = true
+			}
+		}
+		if ok && grow {
+			for k := range w {
+				x, z := words[o+k], words[o+w+k]
+				g.px[k] |= x
+				g.pz[k] |= z
+				g.fixed[k] |= x | z
+			}
+			if g.allFixed() {
+				return
+			}
+		}
+		if c := 2*p + 1; c < int32(len(g.heap)) {
+			g.pushFront(c)
+			if c+1 < int32(len(g.heap)) {
+				g.pushFront(c + 1)
+			}
+		}
+	}
+}
+
+func (g *Greedy) allFixed() bool {
+	for k, f := range g.fixed {
+		if f != g.rk.all[k] {
+			return false
+		}
+	}
+	return true
+}
+
+// bump records one more cover of rank r; its weight falls, so it sifts down.
+func (g *Greedy) bump(r int32) {
+	g.cnt[r]++
+	n := int(g.cnt[r])
+	for len(g.gain) <= n {
+		// gain[N] = 1/sqrt(N) − 1/sqrt(N+1), MATH §5.1.
+		k := float64(len(g.gain))
+		g.gain = append(g.gain, 1/math.Sqrt(k)-1/math.Sqrt(k+1))
+	}
+	p := g.pos[r]
+	g.heap[p].key = g.rk.abs[r] * g.gain[n]
+	g.siftDown(p)
+}
+
+func (g *Greedy) siftDown(i int32) {
+	h := g.heap
+	n := int32(len(h))
+	e := h[i]
+	for {
+		c := 2*i + 1
+		if c >= n {
+			break
+		}
+		if c+1 < n && before(h[c+1], h[c]) {
+			c++
+		}
+		if !before(h[c], e) {
+			break
+		}
+		h[i] = h[c]
+		g.pos[h[i].r] = i
+		i = c
+	}
+	h[i] = e
+	g.pos[e.r] = i
+}
+
+// The frontier is a max-heap of copies of heap entries, with their heap
+// positions.
+
+func (g *Greedy) pushFront(p int32) {
+	e := g.heap[p]
+	e.p = p
+	f := append(g.front, e)
+	i := len(f) - 1
+	for i > 0 {
+		parent := (i - 1) / 2
+		if !before(e, f[parent]) {
+			break
+		}
+		f[i] = f[parent]
+		i = parent
+	}
+	f[i] = e
+	g.front = f
+}
+
+func (g *Greedy) popFront() int32 {
+	f := g.front
+	top := f[0].p
+	last := len(f) - 1
+	e := f[last]
+	f = f[:last]
+	i := 0
+	for {
+		c := 2*i + 1
+		if c >= len(f) {
+			break
+		}
+		if c+1 < len(f) && before(f[c+1], f[c]) {
+			c++
+		}
+		if !before(f[c], e) {
+			break
+		}
+		f[i] = f[c]
+		i = c
+	}
+	if len(f) > 0 {
+		f[i] = e
+	}
+	g.front = f
+	return top
+}
+
+// Cover implements [Counter].
+func (g *Greedy) Cover(dst []int) {
+	for r, i := range g.rk.order {
+		dst[i] = int(g.cnt[r])
+	}
+}

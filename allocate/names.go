@@ -1,0 +1,43 @@
+package allocate
+
+import (
+	"fmt"
+	"slices"
+	"strings"
+)
+
+// strategies maps the short name of every built-in strategy to a
+// constructor taking the seed.
+var strategies = map[string]func(seed uint64) Allocator{
+	"greedy":     func(uint64) Allocator { return &Greedy{} },
+	"derand":     func(uint64) Allocator { return &Derandomized{} },
+	"random":     func(seed uint64) Allocator { return &Random{Seed: seed} },
+	"biased":     func(seed uint64) Allocator { return &Biased{Seed: seed} },
+	"sorted":     func(uint64) Allocator { return &Sorted{} },
+	"importance": func(seed uint64) Allocator { return &Importance{Seed: seed} },
+	"fixed":      func(uint64) Allocator { return &Fixed{} },
+}
+
+// Names returns the short names of the built-in strategies, sorted:
+// "biased", "derand", "fixed", "greedy", "importance", "random", "sorted".
+func Names() []string {
+	names := make([]string, 0, len(strategies))
+	for k := range strategies {
+		names = append(names, k)
+	}
+	slices.Sort(names)
+	return names
+}
+
+// ByName returns a new built-in strategy by its short name (see [Names]),
+// with its default knobs; seed seeds the strategies that draw at random and
+// is ignored by the deterministic ones. "fixed" returns a *[Fixed] with no
+// settings, which the caller fills in before running it. An unknown name is
+// an error that lists the known ones.
+func ByName(name string, seed uint64) (Allocator, error) {
+	mk, ok := strategies[name]
+	if !ok {
+		return nil, fmt.Errorf("allocate: unknown strategy %q (known: %s)", name, strings.Join(Names(), ", "))
+	}
+	return mk(seed), nil
+}

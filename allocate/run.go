@@ -1,0 +1,247 @@
+package allocate
+
+import (
+	"fmt"
+	"math"
+	"reflect"
+	"time"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Settings adjusts a run of [Run]. A nil *Settings means the zero value,
+// whose every field has a default described beside it.
+type Settings struct {
+	// Progress, if not nil, is called after a round in which the number of
+	// planned shots reached the next multiple of ProgressShots, and once at
+	// the end of the run. Nil means no progress reports.
+	Progress func(Progress)
+	// ProgressShots is the number of shots between progress reports; zero
+	// or negative means one hundredth of the budget, at least 1.
+	ProgressShots int
+	// Measure measures one shot of s and writes its outcome into b. It is
+	// required when the allocator is an [Observer] and ignored otherwise:
+	// nil with an Observer is an error.
+	Measure func(s pauli.Setting, b pauli.Bits) error
+}
+
+// Progress reports how far a run has come.
+type Progress struct {
+	Shots   int           // shots planned so far
+	Budget  int           // the run's budget
+	Rounds  int           // calls to Next or NextBatch so far
+	Elapsed time.Duration // wall-clock time since the run started
+}
+
+// Run runs the allocator a to plan budget shots for h and returns the plan.
+// It is the driver of every strategy: it checks the input, detects the
+// optional interfaces ([Observer], [Batcher], [Counter], [TermDrawer],
+// [QubitLimit]) once, calls Init, then Next (or NextBatch) until the budget
+// is spent, merges consecutive repeats of a setting, and counts every term's
+// cover N_i. The plan has exactly budget shots.
+//
+// Run returns an error wrapping [ErrEmpty] if h has no non-identity term,
+// [ErrBudget] if budget ≤ 0, [ErrNonFinite] if a coefficient is NaN or
+// infinite, [ErrTooManyQubits] if a's [QubitLimit] is below h's width,
+// [ErrStrategy] if a breaks the [Allocator] contract, and any error of
+// a's methods or of Settings.Measure, prefixed by the strategy's name.
+// h is not modified.
+func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings) (*Plan, error) {
+	start := time.Now()
+	var set Settings
+	if settings != nil {
+		set = *settings
+	}
+	name := Name(a)
+	if h == nil || h.Len() == 0 {
+		return nil, fmt.Errorf("%w (strategy %s)", ErrEmpty, name)
+	}
+	if budget <= 0 {
+		return nil, fmt.Errorf("%w: got %d (strategy %s)", ErrBudget, budget, name)
+	}
+	if err := checkFinite(h.Coeffs(), h); err != nil {
+		return nil, err
+	}
+	n := h.Qubits()
+	if l, ok := a.(QubitLimit); ok && n > l.MaxQubits() {
+		return nil, fmt.Errorf("%w: %s supports at most %d qubits, Hamiltonian has %d", ErrTooManyQubits, name, l.MaxQubits(), n)
+	}
+	obs, _ := a.(Observer)
+	batch, _ := a.(Batcher)
+	counter, _ := a.(Counter)
+	drawer, _ := a.(TermDrawer)
+	if obs != nil && set.Measure == nil {
+		return nil, fmt.Errorf("allocate: %s reads outcomes back (Observer) but Settings.Measure is nil", name)
+	}
+	every := set.ProgressShots
+	if every <= 0 {
+		every = max(1, budget/100)
+	}
+
+	if err := a.Init(h, budget); err != nil {
+		return nil, fmt.Errorf("allocate: %s: %w", name, err)
+	}
+
+	p := &Plan{Qubits: n}
+	var (
+		used, rounds int
+		nextReport   = every
+		letters      = make([]pauli.Letter, n)
+		bits         pauli.Bits
+		batchS       []pauli.Setting
+		batchK       []int
+	)
+	if obs != nil {
+		bits = pauli.NewBits(n)
+	}
+	add := func(s pauli.Setting, k int) error {
+		if k < 1 {
+			return fmt.Errorf("%w: %s: round %d: setting %s given %d shots", ErrStrategy, name, rounds, s, k)
+		}
+		k = min(k, budget-used)
+		if last := len(p.Settings) - 1; last >= 0 && p.Settings[last].Equal(s) {
+			p.Shots[last] += k
+		} else {
+			p.Settings = append(p.Settings, s)
+			p.Shots = append(p.Shots, k)
+		}
+		used += k
+		if obs != nil {
+			for range k {
+				clear(bits)
+				if err := set.Measure(s, bits); err != nil {
+					return fmt.Errorf("allocate: %s: measuring %s: %w", name, s, err)
+				}
+				obs.Observe(s, bits)
+			}
+		}
+		return nil
+	}
+	for used < budget {
+		rounds++
+		if batch != nil {
+			var err error
+			batchS, batchK, err = batch.NextBatch(batchS[:0], batchK[:0], budget-used)
+			if err != nil {
+				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
+			}
+			if len(batchS) == 0 || len(batchS) != len(batchK) {
+				return nil, fmt.Errorf("%w: %s: round %d: batch of %d settings and %d shot counts", ErrStrategy, name, rounds, len(batchS), len(batchK))
+			}
+			for j, s := range batchS {
+				if used == budget {
+					break
+				}
+				if s.Qubits() != n {
+					return nil, fmt.Errorf("%w: %s: round %d: setting %s has %d qubits, Hamiltonian has %d", ErrStrategy, name, rounds, s, s.Qubits(), n)
+				}
+				if err := add(s, batchK[j]); err != nil {
+					return nil, err
+				}
+			}
+		} else {
+			k, err := a.Next(letters)
+			if err != nil {
+				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
+			}
+			s, err := settingOf(letters)
+			if err != nil {
+				return nil, fmt.Errorf("%w: %s: round %d: %v", ErrStrategy, name, rounds, err)
+			}
+			if err := add(s, k); err != nil {
+				return nil, err
+			}
+		}
+		if set.Progress != nil && used >= nextReport && used < budget {
+			set.Progress(Progress{Shots: used, Budget: budget, Rounds: rounds, Elapsed: time.Since(start)})
+			nextReport = (used/every + 1) * every
+		}
+	}
+
+	p.Cover = make([]int, h.Len())
+	if counter != nil {
+		counter.Cover(p.Cover)
+	} else {
+		countCover(p.Cover, h.Table(), p.Settings, p.Shots)
+	}
+	if drawer != nil {
+		d := drawer.Drawn()
+		if len(d) != budget {
+			return nil, fmt.Errorf("%w: %s drew %d terms for %d shots", ErrStrategy, name, len(d), budget)
+		}
+		p.Drawn = append([]int(nil), d...)
+	}
+	p.Stats = Stats{Strategy: name, Rounds: rounds, Elapsed: time.Since(start)}
+	if set.Progress != nil {
+		set.Progress(Progress{Shots: used, Budget: budget, Rounds: rounds, Elapsed: p.Stats.Elapsed})
+	}
+	return p, nil
+}
+
+// Name returns the name of a strategy: its String method if it has one,
+// otherwise its type name.
+func Name(a Allocator) string {
+	if s, ok := a.(fmt.Stringer); ok {
+		return s.String()
+	}
+	t := reflect.TypeOf(a)
+	for t != nil && t.Kind() == reflect.Pointer {
+		t = t.Elem()
+	}
+	if t == nil {
+		return "<nil>"
+	}
+	return t.Name()
+}
+
+// checkFinite returns an error wrapping ErrNonFinite naming the first term
+// whose coefficient is NaN or infinite.
+func checkFinite(coef []float64, h *hamiltonian.Hamiltonian) error {
+	for i, c := range coef {
+		if math.IsNaN(c) || math.IsInf(c, 0) {
+			term := fmt.Sprint(i)
+			if h != nil {
+				term = fmt.Sprintf("%d (%s)", i, h.Pauli(i))
+			}
+			return fmt.Errorf("%w: term %s has coefficient %v", ErrNonFinite, term, c)
+		}
+	}
+	return nil
+}
+
+// settingOf converts letters to a setting, with an error naming the first
+// qubit that is not X, Y or Z.
+func settingOf(letters []pauli.Letter) (pauli.Setting, error) {
+	for q, l := range letters {
+		if l == pauli.I || l > pauli.Z {
+			return pauli.Setting{}, fmt.Errorf("qubit %d has letter %v, want X, Y or Z", q, l)
+		}
+	}
+	return pauli.NewSetting(pauli.FromLetters(letters))
+}
+
+// countCover adds to cover[i] the shots of every distinct setting that
+// covers row i of t.
+func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []int) {
+	index := make(map[string]int, len(settings))
+	var distinct []pauli.Setting
+	var total []int
+	for k, s := range settings {
+		key := s.Key()
+		if j, ok := index[key]; ok {
+			total[j] += shots[k]
+			continue
+		}
+		index[key] = len(distinct)
+		distinct = append(distinct, s)
+		total = append(total, shots[k])
+	}
+	var idx []int
+	for j, s := range distinct {
+		idx = t.Covered(idx[:0], s)
+		for _, i := range idx {
+			cover[i] += total[j]
+		}
+	}
+}
