@@ -1,0 +1,208 @@
+package estimate
+
+import (
+	"bufio"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// ErrFormat is wrapped by every error about malformed record, manifest or
+// option input.
+var ErrFormat = errors.New("malformed input")
+
+// LineError reports a bad line of a CSV file.
+type LineError struct {
+	Line   int // 1-based line number
+	Reason string
+}
+
+func (e *LineError) Error() string { return fmt.Sprintf("estimate: line %d: %s", e.Line, e.Reason) }
+
+// Unwrap returns [ErrFormat].
+func (e *LineError) Unwrap() error { return ErrFormat }
+
+// csvHeader is the first line of a records file.
+const csvHeader = "setting,outcome"
+
+// WriteCSV writes rec in the CSV form described in the package
+// documentation: the header, then one row per shot in shot order with the
+// setting as text.
+func WriteCSV(w io.Writer, rec *Records) error {
+	bw := bufio.NewWriter(w)
+	bw.WriteString(csvHeader + "\n")
+	text := make([][]byte, rec.Groups())
+	for g := range text {
+		text[g] = rec.Setting(g).Pauli().AppendText(nil)
+	}
+	var buf []byte
+	for _, s := range rec.Shots() {
+		buf = append(buf[:0], text[s.Group]...)
+		buf = append(buf, ',')
+		buf = s.Outcome.AppendText(buf, rec.n)
+		buf = append(buf, '\n')
+		if _, err := bw.Write(buf); err != nil {
+			return err
+		}
+	}
+	return bw.Flush()
+}
+
+// WriteCSVFile writes rec to path in the CSV form, atomically: a failed
+// write leaves any earlier file in place and no partial file behind.
+func WriteCSVFile(path string, rec *Records) error {
+	return atomicfile.Write(path, func(w io.Writer) error { return WriteCSV(w, rec) })
+}
+
+// ReadCSV reads records in the CSV form described in the package
+// documentation. A setting field that is a non-negative integer is an index
+// into settings (for example the distinct settings of an exported plan, see
+// [ReadManifest]); settings may be nil if every row spells its setting out.
+// The qubit count is that of settings, or else of the first row's setting.
+//
+// On the first bad line ReadCSV returns nil and a [*LineError] naming the
+// line: a wrong header, a wrong number of fields, an unknown setting
+// letter, an index out of range, a setting or outcome of the wrong width, or
+// an outcome character other than 0 and 1. errors.Is(err, ErrFormat) holds.
+func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
+	n := -1
+	for k, s := range settings {
+		if k == 0 {
+			n = s.Qubits()
+		} else if s.Qubits() != n {
+			return nil, fmt.Errorf("estimate: %w: settings list: setting %d has %d qubits, setting 0 has %d", ErrFormat, k, s.Qubits(), n)
+		}
+	}
+	if n == 0 {
+		return nil, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
+	}
+	cr := csv.NewReader(r)
+	cr.FieldsPerRecord = -1
+	cr.ReuseRecord = true
+	var (
+		rec    *Records
+		bits   pauli.Bits
+		header bool
+		parsed = make(map[string]pauli.Setting)
+	)
+	for {
+		fields, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		line, _ := cr.FieldPos(0)
+		if err != nil {
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				return nil, &LineError{Line: pe.Line, Reason: pe.Err.Error()}
+			}
+			return nil, fmt.Errorf("estimate: line %d: %w", line, err)
+		}
+		if !header {
+			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader)}
+			}
+			header = true
+			continue
+		}
+		if len(fields) != 2 {
+			return nil, &LineError{Line: line, Reason: fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields))}
+		}
+		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
+		var s pauli.Setting
+		if sf != "" && sf[0] >= '0' && sf[0] <= '9' {
+			k, err := strconv.Atoi(sf)
+			switch {
+			case err != nil:
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %q is not a non-negative integer", sf)}
+			case settings == nil:
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %d but no settings list was given", k)}
+			case k >= len(settings):
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings))}
+			}
+			s = settings[k]
+		} else if t, ok := parsed[sf]; ok {
+			s = t
+		} else {
+			t, err := pauli.ParseSetting(sf)
+			if err != nil {
+				var pe *pauli.ParseError
+				reason := err.Error()
+				if errors.As(err, &pe) {
+					reason = pe.Reason
+				}
+				if sf == "" {
+					reason = "empty"
+				}
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q: %s", sf, reason)}
+			}
+			if n < 0 {
+				n = t.Qubits()
+			}
+			if t.Qubits() != n {
+				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n)}
+			}
+			parsed[sf] = t
+			s = t
+		}
+		if rec == nil {
+			rec = NewRecords(n)
+			bits = pauli.NewBits(n)
+		}
+		if len(bf) != n {
+			return nil, &LineError{Line: line, Reason: fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n)}
+		}
+		if q, ok := parseBitsInto(bits, bf); !ok {
+			return nil, &LineError{Line: line, Reason: fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q)}
+		}
+		rec.appendShot(rec.group(s), bits)
+	}
+	if !header {
+		return nil, &LineError{Line: 1, Reason: fmt.Sprintf("missing header %q", csvHeader)}
+	}
+	if rec == nil {
+		if n < 1 {
+			return nil, &LineError{Line: 2, Reason: "no shots and no settings list to give the qubit count"}
+		}
+		rec = NewRecords(n)
+	}
+	return rec, nil
+}
+
+// parseBitsInto sets b from the text s ('0' and '1', qubit 0 first; len(s)
+// qubits). It returns the offending qubit and false on another character.
+func parseBitsInto(b pauli.Bits, s string) (int, bool) {
+	clear(b)
+	for q := 0; q < len(s); q++ {
+		switch s[q] {
+		case '0':
+		case '1':
+			b[q>>6] |= 1 << (q & 63)
+		default:
+			return q, false
+		}
+	}
+	return 0, true
+}
+
+// ReadCSVFile reads records from a CSV file; see [ReadCSV]. Errors name the
+// file.
+func ReadCSVFile(path string, settings []pauli.Setting) (*Records, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	rec, err := ReadCSV(f, settings)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return rec, nil
+}

@@ -1,0 +1,92 @@
+// Package estimate turns measured shots into energies with error bars: it
+// stores shot records and reads and writes them, estimates the energy of a
+// Hamiltonian from them, measures shots through the [Device] interface or
+// the built-in state-vector [Simulator], and exports settings as OpenQASM 3
+// programs for any hardware stack. Formulas: MATH.md §2–§5.
+//
+// # Conventions
+//
+// A setting measures every qubit in X, Y or Z (see package pauli). A
+// measured bit 0 means eigenvalue +1 and 1 means −1; a bit-string as text
+// is read left to right, qubit 0 first. A state vector's amplitude a
+// belongs to the basis state with bit q of a on qubit q.
+//
+// # Records
+//
+// [Records] stores every shot's setting and outcome, grouping shots of
+// identical settings (a group is one distinct setting) and keeping the
+// order the shots were added. Estimators read groups; [Records.Shots] and
+// [Records.Shot] give shot order.
+//
+// # Record files
+//
+// The CSV form has the header line "setting,outcome" and one row per shot
+// in shot order. The setting is either spelled out ("XZZY", qubit 0 first)
+// or given as a non-negative integer index into a settings list the reader
+// is handed (for example the manifest of [ExportQASM]). The outcome is the
+// bit-string, '0' and '1', qubit 0 first:
+//
+//	setting,outcome
+//	ZZZZ,0110
+//	XXYY,1011
+//	0,0101
+//
+// Hardware stacks often print a bit register with its highest bit first;
+// reverse such strings so that the first character is qubit 0. [ReadCSV]
+// stops at the first bad line and returns a [*LineError] with its number:
+// a wrong header or field count, an unknown letter, an index out of range,
+// a setting or outcome of the wrong width, a character other than 0 and 1.
+// It returns no partial records.
+//
+// The JSON form lists the distinct settings once and each shot as an index
+// into them with its outcome:
+//
+//	{"qubits": 4, "settings": ["ZZZZ", "XXYY"],
+//	 "shots": [{"setting": 0, "outcome": "0110"}, {"setting": 1, "outcome": "1011"}]}
+//
+// Files are written atomically (a temporary file renamed into place), so a
+// failed write leaves no partial file.
+//
+// # Which estimator fits which plan
+//
+// [Grouped] (MATH.md §2) works on every plan: deterministic, randomised or
+// adaptive, with each term averaged over the shots that cover it. Its
+// standard error is estimated from the data and includes the covariance of
+// terms that share shots; see [Grouped].
+//
+// The inverse-probability estimators are unbiased only for the plan they
+// were made for: [UniformShadow] for settings drawn uniformly at random
+// (classical shadows), [BiasedShadow] for settings drawn from per-qubit
+// distributions (locally biased shadows), and [ImportanceSampling] for
+// shots that each drew one term with probability |h_i|/‖h‖₁ and measured a
+// setting covering it. Each needs the plan's randomness to be exactly as
+// stated; when in doubt use [Grouped].
+//
+// Every estimator returns a [Result]: the energy, per-term means and cover
+// counts, the bias bound of the terms left out, a standard error from the
+// data, and an approximate normal interval. The interval is labelled
+// approximate because it is: rigorous bounds are package guarantee's job.
+//
+// # Readout error
+//
+// [SimulatorSettings.Readout] flips each read bit with probability P01
+// (0 read as 1) or P10 (1 read as 0), independently per qubit and shot.
+// [Options.Readout] mitigates by dividing each term's sample by
+// Π_{q ∈ supp P_i} (1 − P01_q − P10_q): with independent flips the
+// expected sample of a weight-k term is that factor times the true value
+// plus terms in the asymmetries P10_q − P01_q, so the division is exact for
+// symmetric flips and leaves a bias bounded by [Result.ReadoutBias]
+// otherwise. The division scales the spread up by the same factor, so
+// mitigation widens the error bar.
+//
+// # Circuits
+//
+// [ExportQASM] writes one OpenQASM 3 program per distinct setting (X: h;
+// Y: sdg then h; Z: nothing; then every qubit q measured into c[q]) and a
+// manifest of shot counts.
+//
+// # Randomness
+//
+// The simulator takes a seed and uses math/rand/v2's PCG; the same seed and
+// calls give the same outcomes.
+package estimate

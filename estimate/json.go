@@ -1,0 +1,124 @@
+package estimate
+
+import (
+	"bufio"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+
+	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// jsonRecords is the JSON form of [Records]:
+//
+//	{"qubits": 4, "settings": ["ZZZZ", "XXYY"],
+//	 "shots": [{"setting": 0, "outcome": "0110"}, {"setting": 1, "outcome": "1010"}]}
+type jsonRecords struct {
+	Qubits   int        `json:"qubits"`
+	Settings []string   `json:"settings"`
+	Shots    []jsonShot `json:"shots"`
+}
+
+type jsonShot struct {
+	Setting int    `json:"setting"`
+	Outcome string `json:"outcome"`
+}
+
+// MarshalJSON encodes r in the JSON form described in the package
+// documentation.
+func (r *Records) MarshalJSON() ([]byte, error) {
+	j := jsonRecords{Qubits: r.n, Settings: make([]string, r.Groups()), Shots: make([]jsonShot, 0, r.shots)}
+	for g := range j.Settings {
+		j.Settings[g] = r.set[g].String()
+	}
+	for _, s := range r.Shots() {
+		j.Shots = append(j.Shots, jsonShot{Setting: s.Group, Outcome: s.Outcome.Format(r.n)})
+	}
+	return json.Marshal(j)
+}
+
+// UnmarshalJSON decodes the JSON form into r, replacing its contents. It
+// reports the first bad setting or shot by its index, and leaves r
+// unchanged on error; errors.Is(err, ErrFormat) holds.
+func (r *Records) UnmarshalJSON(b []byte) error {
+	var j jsonRecords
+	if err := json.Unmarshal(b, &j); err != nil {
+		return fmt.Errorf("estimate: %w: %w", ErrFormat, err)
+	}
+	if j.Qubits < 1 {
+		return fmt.Errorf("estimate: %w: qubit count %d, want at least 1", ErrFormat, j.Qubits)
+	}
+	settings := make([]pauli.Setting, len(j.Settings))
+	for k, t := range j.Settings {
+		s, err := pauli.ParseSetting(t)
+		if err != nil {
+			return fmt.Errorf("estimate: %w: setting %d (%q): %v", ErrFormat, k, t, err)
+		}
+		if s.Qubits() != j.Qubits {
+			return fmt.Errorf("estimate: %w: setting %d (%q) has %d qubits, want %d", ErrFormat, k, t, s.Qubits(), j.Qubits)
+		}
+		settings[k] = s
+	}
+	rec := NewRecords(j.Qubits)
+	bits := pauli.NewBits(j.Qubits)
+	for k, s := range j.Shots {
+		if s.Setting < 0 || s.Setting >= len(settings) {
+			return fmt.Errorf("estimate: %w: shot %d: setting index %d out of range: %d settings", ErrFormat, k, s.Setting, len(settings))
+		}
+		if len(s.Outcome) != j.Qubits {
+			return fmt.Errorf("estimate: %w: shot %d: outcome %q has %d bits, want %d", ErrFormat, k, s.Outcome, len(s.Outcome), j.Qubits)
+		}
+		if q, ok := parseBitsInto(bits, s.Outcome); !ok {
+			return fmt.Errorf("estimate: %w: shot %d: outcome %q: character %q at qubit %d is not 0 or 1", ErrFormat, k, s.Outcome, s.Outcome[q], q)
+		}
+		rec.appendShot(rec.group(settings[s.Setting]), bits)
+	}
+	*r = *rec
+	return nil
+}
+
+// WriteJSON writes rec to w in the JSON form.
+func WriteJSON(w io.Writer, rec *Records) error {
+	b, err := rec.MarshalJSON()
+	if err != nil {
+		return err
+	}
+	bw := bufio.NewWriter(w)
+	bw.Write(b)
+	bw.WriteByte('\n')
+	return bw.Flush()
+}
+
+// WriteJSONFile writes rec to path in the JSON form, atomically.
+func WriteJSONFile(path string, rec *Records) error {
+	return atomicfile.Write(path, func(w io.Writer) error { return WriteJSON(w, rec) })
+}
+
+// ReadJSON reads records in the JSON form. On error it returns nil.
+func ReadJSON(r io.Reader) (*Records, error) {
+	b, err := io.ReadAll(r)
+	if err != nil {
+		return nil, err
+	}
+	var rec Records
+	if err := rec.UnmarshalJSON(b); err != nil {
+		return nil, err
+	}
+	return &rec, nil
+}
+
+// ReadJSONFile reads records from a JSON file. Errors name the file.
+func ReadJSONFile(path string) (*Records, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	rec, err := ReadJSON(f)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return rec, nil
+}

@@ -1,0 +1,233 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// UniformShadow returns the classical-shadow estimate for settings drawn
+// uniformly at random, every qubit's basis independent and uniform on X, Y,
+// Z (Huang, Kueng & Preskill, arXiv:2002.08953; MATH.md §5.3). A shot gives
+// term i of weight k the value 3^k·s_i when its setting covers the term
+// and 0 otherwise, an unbiased estimate of ⟨P_i⟩ whose second moment is
+// exactly 3^k. Energy is the median of means (Options.Batches) of the
+// single-shot energies X_n = h_0 + Σ_i h_i·(value of term i).
+//
+// The estimate is unbiased only if the settings really were drawn that way
+// (for example by allocate's uniform random strategy); for any other plan
+// use [Grouped]. StdErr is the sample standard deviation of the X_n over
+// √N, the standard error of their plain mean; X_n are i.i.d. under the
+// random draw. It is +Inf with a single shot.
+func UniformShadow(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
+	c, err := newConfig(h, rec, opts, "UniformShadow")
+	if err != nil {
+		return nil, err
+	}
+	wt := make([]float64, h.Len())
+	for i := range wt {
+		v := 1.0
+		for range h.Pauli(i).Support() {
+			v *= 3 // exact for weights up to 33
+		}
+		wt[i] = v
+	}
+	return shadow(h, rec, c, wt, nil)
+}
+
+// BiasedShadow returns the locally biased classical-shadow estimate
+// (Hadfield, Bravyi, Raymond & Mezzacapo, arXiv:2006.15788; MATH.md §5.4)
+// for settings whose qubit q basis was drawn independently from beta[q],
+// the probabilities of X, Y and Z in that order. A shot gives term i the
+// value s_i·Π_{q ∈ supp P_i} 1/beta[q][P_i(q)] when its setting covers the
+// term and 0 otherwise. A term with a zero probability on one of its
+// letters can never be covered; it is left out and its |h_i| added to
+// Result.Bias. Energy, batches and StdErr are as in [UniformShadow].
+//
+// BiasedShadow returns an error if beta does not have one distribution per
+// qubit (non-negative entries summing to 1 within 1e-9), or if a recorded
+// setting has a basis that beta gives probability zero, which shows the
+// records were not drawn from beta.
+func BiasedShadow(h *hamiltonian.Hamiltonian, rec *Records, beta [][3]float64, opts *Options) (*Result, error) {
+	c, err := newConfig(h, rec, opts, "BiasedShadow")
+	if err != nil {
+		return nil, err
+	}
+	if len(beta) != h.Qubits() {
+		return nil, fmt.Errorf("estimate: %w: BiasedShadow: %d distributions for %d qubits", ErrFormat, len(beta), h.Qubits())
+	}
+	for q, b := range beta {
+		s := 0.0
+		for _, p := range b {
+			if !(p >= 0 && p <= 1) {
+				return nil, fmt.Errorf("estimate: %w: BiasedShadow: qubit %d: probability %v outside [0, 1]", ErrFormat, q, p)
+			}
+			s += p
+		}
+		if math.Abs(s-1) > 1e-9 {
+			return nil, fmt.Errorf("estimate: %w: BiasedShadow: qubit %d: probabilities sum to %v, want 1", ErrFormat, q, s)
+		}
+	}
+	wt := make([]float64, h.Len())
+	for i := range wt {
+		v := 1.0
+		for q, l := range h.Pauli(i).Letters() {
+			p := beta[q][l-pauli.X]
+			if p == 0 {
+				v = 0
+				break
+			}
+			v /= p
+		}
+		wt[i] = v
+	}
+	return shadow(h, rec, c, wt, beta)
+}
+
+// shadow computes the inverse-probability estimate with per-term weights
+// wt (zero: never coverable). If beta is not nil every recorded setting is
+// checked against it.
+func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, beta [][3]float64) (*Result, error) {
+	nShots := rec.Len()
+	if nShots == 0 {
+		return nil, fmt.Errorf("estimate: shadow estimate: no shots")
+	}
+	k := c.batches
+	if k > nShots {
+		return nil, fmt.Errorf("estimate: %w: %d batches for %d shots", ErrFormat, k, nShots)
+	}
+	if beta != nil {
+		for g := range rec.Groups() {
+			s := rec.Setting(g)
+			for q := range s.Qubits() {
+				if beta[q][s.At(q)-pauli.X] == 0 {
+					return nil, fmt.Errorf("estimate: BiasedShadow: setting %s has basis %v on qubit %d, which beta gives probability zero", s, s.At(q), q)
+				}
+			}
+		}
+	}
+	m := h.Len()
+	coef := h.Coeffs()
+	ix := newCoverIndex(h.Table())
+	w := ix.w
+
+	// batch[off[g]+j] is the batch of outcome j of group g: shot k (in shot
+	// order) falls in batch ⌊k·K/N⌋.
+	off := make([]int, rec.Groups()+1)
+	for g := range rec.Groups() {
+		off[g+1] = off[g] + rec.GroupLen(g)
+	}
+	batch := make([]int32, nShots)
+	size := make([]int, k)
+	for run, start := range rec.runStart {
+		end := nShots
+		if run+1 < len(rec.runStart) {
+			end = rec.runStart[run+1]
+		}
+		g := int(rec.runGroup[run])
+		for s := start; s < end; s++ {
+			b := s * k / nShots
+			batch[off[g]+rec.runPos[run]+s-start] = int32(b)
+			size[b]++
+		}
+	}
+
+	// v[i] is the value a covering shot with sample +1 gives term i; e[i]
+	// its weight in the single-shot energy (zero for excluded terms).
+	v := make([]float64, m)
+	e := make([]float64, m)
+	for i := range m {
+		v[i] = wt[i] * c.scale[i]
+		if !c.excluded(i) {
+			e[i] = coef[i] * v[i]
+		}
+	}
+	cover := make([]int, m)
+	termSum := make([]float64, k*m)
+	x := make([]float64, nShots) // single-shot energies, by group position
+	var cov []int
+	for g := range rec.Groups() {
+		cov = ix.covered(cov[:0], rec.Setting(g))
+		out := rec.out[g]
+		for j := range len(out) / w {
+			b := out[j*w : (j+1)*w]
+			ts := termSum[int(batch[off[g]+j])*m:]
+			xn := h.Offset()
+			for _, i := range cov {
+				if wt[i] == 0 {
+					continue
+				}
+				cover[i]++
+				if ix.parity(i, b) == 1 {
+					ts[i] -= v[i]
+					xn -= e[i]
+				} else {
+					ts[i] += v[i]
+					xn += e[i]
+				}
+			}
+			x[off[g]+j] = xn
+		}
+	}
+
+	res := &Result{Means: make([]float64, m), Cover: cover, Shots: nShots}
+	// Energy: the median over batches of the batch means of X_n.
+	bm := make([]float64, k)
+	for j, xn := range x {
+		bm[batch[j]] += xn
+	}
+	for b := range bm {
+		bm[b] /= float64(size[b])
+	}
+	res.Energy = median(bm)
+	// Means: the same median of means per term; a term that can never be
+	// covered has no estimate.
+	for i := range m {
+		if wt[i] == 0 {
+			res.Means[i] = math.NaN()
+			continue
+		}
+		for b := range bm {
+			bm[b] = termSum[b*m+i] / float64(size[b])
+		}
+		res.Means[i] = median(bm)
+	}
+	res.StdErr = math.Inf(1)
+	if nShots > 1 {
+		res.StdErr = math.Sqrt(sampleVariance(x) / float64(nShots))
+	}
+	// Terms that can never be covered are left out.
+	c.finish(h, res, func(i int) bool { return wt[i] == 0 })
+	return res, nil
+}
+
+// median returns the median of v, reordering v. For an even length it is
+// the mean of the two middle values.
+func median(v []float64) float64 {
+	slices.Sort(v)
+	n := len(v)
+	if n%2 == 1 {
+		return v[n/2]
+	}
+	return (v[n/2-1] + v[n/2]) / 2
+}
+
+// sampleVariance returns the unbiased sample variance of x (len ≥ 2),
+// computed from deviations about the first value so that equal values give
+// exactly zero.
+func sampleVariance(x []float64) float64 {
+	mean := 0.0
+	for _, v := range x {
+		mean += v - x[0]
+	}
+	mean /= float64(len(x))
+	ss := 0.0
+	for _, v := range x {
+		d := v - x[0] - mean
+		ss += d * d
+	}
+	return ss / float64(len(x)-1)
+}

@@ -1,0 +1,337 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+	"math/bits"
+	"math/rand/v2"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Readout is the readout error of one qubit: each read bit flips
+// independently of every other qubit and shot.
+type Readout struct {
+	P01 float64 // probability that a qubit in state 0 (eigenvalue +1) reads 1
+	P10 float64 // probability that a qubit in state 1 (eigenvalue −1) reads 0
+}
+
+// checkReadout validates per-qubit readout errors for n qubits.
+func checkReadout(r []Readout, n int, what string) error {
+	if r == nil {
+		return nil
+	}
+	if len(r) != n {
+		return fmt.Errorf("estimate: %w: %s: %d readout entries for %d qubits", ErrFormat, what, len(r), n)
+	}
+	for q, e := range r {
+		if !(e.P01 >= 0 && e.P01 <= 1 && e.P10 >= 0 && e.P10 <= 1) {
+			return fmt.Errorf("estimate: %w: %s: qubit %d: flip probabilities (%v, %v) outside [0, 1]", ErrFormat, what, q, e.P01, e.P10)
+		}
+	}
+	return nil
+}
+
+// SimulatorSettings tunes a [Simulator]. A nil *SimulatorSettings means the
+// defaults.
+type SimulatorSettings struct {
+	// Readout holds the readout error of every qubit, Readout[q] for
+	// qubit q. Nil means perfect readout; otherwise the length must be the
+	// qubit count.
+	Readout []Readout
+
+	// CacheBytes bounds the memory kept for the outcome distributions of
+	// settings already measured, so a setting that returns in a later Run
+	// is not recomputed (within one Run every distinct setting is computed
+	// once regardless). A distribution takes 8·2^n bytes. Zero means
+	// 256 MiB; a negative value turns the cache off.
+	CacheBytes int
+}
+
+// defaultCacheBytes is the cache size when SimulatorSettings.CacheBytes is
+// zero.
+const defaultCacheBytes = 256 << 20
+
+// Simulator is a [Device] that measures copies of a pure state held as a
+// state vector. For each distinct setting it rotates every qubit into its
+// basis (X: Hadamard; Y: S† then Hadamard; Z: nothing), which costs
+// O(n·2^n), forms the cumulative Born distribution, and draws outcomes by
+// binary search on it, O(n) a shot. Readout errors, if set, flip the drawn
+// bits afterwards. All randomness comes from the seed: the same seed, state,
+// settings and calls give the same outcomes.
+//
+// A Simulator is not safe for concurrent use.
+type Simulator struct {
+	n       int
+	state   []complex128
+	readout []Readout
+	rng     *rand.Rand
+
+	work  []complex128 // rotated amplitudes
+	cum   []float64    // scratch distribution when not cached
+	cache distCache
+}
+
+// NewSimulator returns a simulator of the state with the given amplitudes:
+// state[a] is the amplitude of the basis state with bit q of a on qubit q.
+// The amplitudes are copied and normalised. It returns an error if the
+// length is not 2^n for 1 ≤ n ≤ [hamiltonian.MaxExactQubits], an amplitude
+// is not finite, the norm is zero, or the settings are invalid.
+func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Simulator, error) {
+	if len(state) < 2 || len(state)&(len(state)-1) != 0 {
+		return nil, fmt.Errorf("estimate: NewSimulator: %d amplitudes, want 2^n with n ≥ 1", len(state))
+	}
+	n := bits.TrailingZeros(uint(len(state)))
+	if n > hamiltonian.MaxExactQubits {
+		return nil, fmt.Errorf("estimate: NewSimulator: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
+	}
+	var set SimulatorSettings
+	if opts != nil {
+		set = *opts
+	}
+	if err := checkReadout(set.Readout, n, "NewSimulator"); err != nil {
+		return nil, err
+	}
+	norm := 0.0
+	for a, v := range state {
+		if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
+			return nil, fmt.Errorf("estimate: NewSimulator: amplitude %d is %v", a, v)
+		}
+		norm += real(v)*real(v) + imag(v)*imag(v)
+	}
+	if norm == 0 || math.IsInf(norm, 0) {
+		return nil, fmt.Errorf("estimate: NewSimulator: state norm² is %v", norm)
+	}
+	c := complex(1/math.Sqrt(norm), 0)
+	psi := make([]complex128, len(state))
+	for a, v := range state {
+		psi[a] = v * c
+	}
+	limit := set.CacheBytes
+	if limit == 0 {
+		limit = defaultCacheBytes
+	}
+	return &Simulator{
+		n:       n,
+		state:   psi,
+		readout: append([]Readout(nil), set.Readout...),
+		rng:     rand.New(rand.NewPCG(seed, 0x51a7e5eed)),
+		work:    make([]complex128, len(psi)),
+		cache:   distCache{limit: limit, m: make(map[string][]float64)},
+	}, nil
+}
+
+// GroundStateSimulator returns a simulator of the ground state of h, found
+// by [hamiltonian.GroundState] with default settings, together with the
+// eigenpair (its Energy is the exact value an unbiased estimate aims at).
+func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorSettings) (*Simulator, hamiltonian.Eigenpair, error) {
+	ev, err := hamiltonian.GroundState(h, nil)
+	if err != nil {
+		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: GroundStateSimulator: %w", err)
+	}
+	sim, err := NewSimulator(ev.State, seed, opts)
+	if err != nil {
+		return nil, hamiltonian.Eigenpair{}, err
+	}
+	return sim, ev, nil
+}
+
+// Qubits returns the number of qubits.
+func (sim *Simulator) Qubits() int { return sim.n }
+
+// Run measures shots[k] copies in settings[k] for each k and appends the
+// outcomes to rec in that order; see [Device]. Each distinct setting's
+// distribution is computed once per call (or taken from the cache). On bad
+// arguments Run returns an error and appends nothing.
+func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) error {
+	if err := checkRun(sim.n, settings, shots, rec); err != nil {
+		return err
+	}
+	// Shot k's outcomes go to out[offset[k]:offset[k+1]]: n ≤ 24, one word.
+	offset := make([]int, len(settings)+1)
+	for k, m := range shots {
+		offset[k+1] = offset[k] + m
+	}
+	out := make([]uint64, offset[len(settings)])
+	// Visit the distinct settings in order of first appearance.
+	index := make(map[string]int)
+	var order [][]int
+	for k, s := range settings {
+		if shots[k] == 0 {
+			continue
+		}
+		key := s.Key()
+		d, ok := index[key]
+		if !ok {
+			d = len(order)
+			index[key] = d
+			order = append(order, nil)
+		}
+		order[d] = append(order[d], k)
+	}
+	for _, ks := range order {
+		cum := sim.distribution(settings[ks[0]])
+		for _, k := range ks {
+			for j := offset[k]; j < offset[k+1]; j++ {
+				out[j] = sim.draw(cum)
+			}
+		}
+	}
+	for k, s := range settings {
+		if shots[k] == 0 {
+			continue
+		}
+		g := rec.group(s)
+		for j := offset[k]; j < offset[k+1]; j++ {
+			rec.appendShot(g, out[j:j+1])
+		}
+	}
+	return nil
+}
+
+// draw samples one outcome from the cumulative distribution cum and applies
+// the readout errors.
+func (sim *Simulator) draw(cum []float64) uint64 {
+	u := sim.rng.Float64() * cum[len(cum)-1]
+	// The first index whose cumulative weight exceeds u; outcomes of zero
+	// probability are never chosen.
+	lo, hi := 0, len(cum)-1
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		if cum[mid] > u {
+			hi = mid
+		} else {
+			lo = mid + 1
+		}
+	}
+	b := uint64(lo)
+	if sim.readout != nil {
+		for q, e := range sim.readout {
+			p := e.P01
+			if b>>q&1 == 1 {
+				p = e.P10
+			}
+			if p > 0 && sim.rng.Float64() < p {
+				b ^= 1 << q
+			}
+		}
+	}
+	return b
+}
+
+// distribution returns the cumulative outcome weights of setting s (not
+// normalised: the last entry is the total).
+func (sim *Simulator) distribution(s pauli.Setting) []float64 {
+	key := ""
+	if sim.cache.limit > 0 {
+		key = s.Key()
+		if cum, ok := sim.cache.m[key]; ok {
+			return cum
+		}
+	}
+	copy(sim.work, sim.state)
+	rotate(sim.work, s)
+	var cum []float64
+	if sim.cache.limit >= 8*len(sim.work) {
+		cum = sim.cache.put(key, 8*len(sim.work))
+	} else {
+		if sim.cum == nil {
+			sim.cum = make([]float64, len(sim.work))
+		}
+		cum = sim.cum
+	}
+	t := 0.0
+	for a, v := range sim.work {
+		t += real(v)*real(v) + imag(v)*imag(v)
+		cum[a] = t
+	}
+	return cum
+}
+
+// Probabilities sets dst[a] to the Born probability of outcome a (bit q of a
+// for qubit q) when the state is measured in setting s, without readout
+// error, and returns dst; a nil or short dst is replaced by a new slice. It
+// panics if s has the wrong width.
+func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
+	if s.Qubits() != sim.n {
+		panic("estimate: Probabilities: setting width differs from the simulator's")
+	}
+	if len(dst) < len(sim.state) {
+		dst = make([]float64, len(sim.state))
+	}
+	dst = dst[:len(sim.state)]
+	copy(sim.work, sim.state)
+	rotate(sim.work, s)
+	t := 0.0
+	for a, v := range sim.work {
+		dst[a] = real(v)*real(v) + imag(v)*imag(v)
+		t += dst[a]
+	}
+	for a := range dst {
+		dst[a] /= t
+	}
+	return dst
+}
+
+// rotate applies to the amplitudes a, in place, the basis change of s on
+// every qubit: Hadamard for X, S† then Hadamard for Y, nothing for Z. The
+// factor 1/√2 of each Hadamard is left out; callers normalise.
+//
+// The X-basis outcome 0 is |+⟩ = (|0⟩+|1⟩)/√2, which H maps to |0⟩; the
+// Y-basis outcome 0 is |+i⟩ = (|0⟩+i|1⟩)/√2, which S† maps to |+⟩ and H to
+// |0⟩ (Nielsen & Chuang, §4.2; common practice).
+func rotate(a []complex128, s pauli.Setting) {
+	for q := range s.Qubits() {
+		l := s.At(q)
+		if l == pauli.Z {
+			continue
+		}
+		h := 1 << q
+		for base := 0; base < len(a); base += 2 * h {
+			lo := a[base : base+h]
+			hi := a[base+h : base+2*h]
+			if l == pauli.X {
+				for j, u := range lo {
+					v := hi[j]
+					lo[j], hi[j] = u+v, u-v
+				}
+				continue
+			}
+			for j, u := range lo {
+				v := hi[j]
+				w := complex(imag(v), -real(v)) // −i·v
+				lo[j], hi[j] = u+w, u-w
+			}
+		}
+	}
+}
+
+// distCache keeps distributions of recent settings, evicting the oldest
+// first, within a byte limit.
+type distCache struct {
+	limit int
+	bytes int
+	m     map[string][]float64
+	fifo  []string
+}
+
+// put returns a buffer of size/8 float64s stored under key, reusing the
+// storage of evicted entries when it can.
+func (c *distCache) put(key string, size int) []float64 {
+	var buf []float64
+	for c.bytes+size > c.limit && len(c.fifo) > 0 {
+		old := c.fifo[0]
+		c.fifo = c.fifo[1:]
+		buf = c.m[old]
+		delete(c.m, old)
+		c.bytes -= 8 * len(buf)
+	}
+	if len(buf) != size/8 {
+		buf = make([]float64, size/8)
+	}
+	c.m[key] = buf
+	c.fifo = append(c.fifo, key)
+	c.bytes += size
+	return buf
+}
