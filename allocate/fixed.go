@@ -3,6 +3,7 @@ package allocate
 import (
 	"errors"
 	"fmt"
+	"math"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -40,11 +41,11 @@ func NewFixed(settings ...pauli.Setting) *Fixed {
 // String returns "fixed".
 func (f *Fixed) String() string { return "fixed" }
 
-// MaxQubits implements [QubitLimit]: the width of the settings, or 0 for an
-// empty list.
+// MaxQubits implements [QubitLimit]: the width of the settings. An empty
+// list sets no limit here; Init refuses it.
 func (f *Fixed) MaxQubits() int {
 	if len(f.Settings) == 0 {
-		return 0
+		return math.MaxInt
 	}
 	return f.Settings[0].Qubits()
 }

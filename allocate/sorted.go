@@ -55,7 +55,9 @@ type Sorted struct {
 	// (pauli.I) means Z.
 	Fill pauli.Letter
 
-	settings []pauli.Setting
+	groups   []pauli.Setting // every group's setting, in the order opened
+	quota    []int           // every group's rounded share, possibly 0
+	settings []pauli.Setting // the groups with shots
 	shots    []int
 	next     int
 }
@@ -120,11 +122,9 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	}
 	fx, fz := letterBits(fill)
 	s.settings, s.shots, s.next = s.settings[:0], s.shots[:0], 0
+	s.groups, s.quota = s.groups[:0], shots
 	x, z := make([]uint64, w), make([]uint64, w)
 	for g, k := range shots {
-		if k == 0 {
-			continue
-		}
 		for i := range w {
 			free := rk.all[i] &^ gm[g*w+i]
 			x[i] = gx[g*w+i] | free&fx
@@ -133,6 +133,10 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
 		if err != nil {
 			return fmt.Errorf("sorted: group %d: %w", g, err)
+		}
+		s.groups = append(s.groups, st)
+		if k == 0 {
+			continue
 		}
 		s.settings = append(s.settings, st)
 		s.shots = append(s.shots, k)
@@ -193,6 +197,7 @@ func (s *Sorted) NextBatch(settings []pauli.Setting, shots []int, remaining int)
 	return settings, shots, nil
 }
 
-// Groups returns the settings of the groups that get shots and their shot
-// counts, in order, after Init. The slices must not be modified.
-func (s *Sorted) Groups() ([]pauli.Setting, []int) { return s.settings, s.shots }
+// Groups returns, after Init, the setting of every group in the order the
+// groups were opened and its rounded share of the budget, which is 0 for a
+// group that is not measured. The slices must not be modified.
+func (s *Sorted) Groups() ([]pauli.Setting, []int) { return s.groups, s.quota }

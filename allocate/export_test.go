@@ -1,0 +1,8 @@
+package allocate
+
+// Internal functions exposed to the external tests.
+var (
+	CheckFinite       = checkFinite
+	LargestRemainder  = largestRemainder
+	PairIndexMaxQubit = pairIndexMaxQubits
+)
