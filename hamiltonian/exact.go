@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/bits"
 	"math/rand/v2"
+	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -114,16 +115,20 @@ func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
 			if j > 0 {
 				axpy(w, complex(-beta[j-1], 0), v[j-1])
 			}
-			// Full reorthogonalisation, twice ("twice is enough": Giraud,
-			// Langou & Rozložník 2005), keeps the basis orthonormal to
-			// working precision so no ghost eigenvalues appear.
-			for range 2 {
-				for i := 0; i <= j; i++ {
-					coef[i] = dot(v[i], w)
+			// Full reorthogonalisation by classical Gram–Schmidt against
+			// every basis vector, repeated when the first pass removed most
+			// of w (Kahan–Parlett "twice is enough" criterion, as in
+			// Giraud, Langou & Rozložník 2005). It keeps the basis
+			// orthonormal to working precision, so no ghost eigenvalues
+			// appear.
+			before := norm(w)
+			for pass := 0; pass < 2; pass++ {
+				reorth(w, v[:j+1], coef[:j+1])
+				after := norm(w)
+				if after > 0.7*before {
+					break
 				}
-				for i := 0; i <= j; i++ {
-					axpy(w, -coef[i], v[i])
-				}
+				before = after
 			}
 			b := norm(w)
 			k = j + 1
@@ -195,17 +200,56 @@ func lowestTridiag(alpha, beta []float64) (float64, []float64) {
 	return vals[best], mat.Col(nil, best, &vecs)
 }
 
-func dot(a, b []complex128) complex128 {
-	var s complex128
-	for i, v := range a {
-		s += complex(real(v), -imag(v)) * b[i]
-	}
-	return s
+// reorth subtracts from w its components along the orthonormal vectors vs:
+// w −= Σ_i ⟨v_i|w⟩ v_i, with every ⟨v_i|w⟩ taken from the same w (classical
+// Gram–Schmidt). Both sweeps go block by block so that a block of w stays in
+// cache while every v_i passes, and blocks are shared among goroutines.
+func reorth(w []complex128, vs [][]complex128, coef []complex128) {
+	var mu sync.Mutex
+	clear(coef)
+	parallel(len(w), func(lo, hi int) {
+		part := make([]complex128, len(vs))
+		for c := lo; c < hi; c += chunk {
+			e := min(c+chunk, hi)
+			for i, v := range vs {
+				part[i] += dot(v[c:e], w[c:e])
+			}
+		}
+		mu.Lock()
+		for i, p := range part {
+			coef[i] += p
+		}
+		mu.Unlock()
+	})
+	parallel(len(w), func(lo, hi int) {
+		for c := lo; c < hi; c += chunk {
+			e := min(c+chunk, hi)
+			for i, v := range vs {
+				axpy(w[c:e], -coef[i], v[c:e])
+			}
+		}
+	})
 }
 
+// dot returns ⟨a|b⟩ = Σ conj(a_i) b_i.
+func dot(a, b []complex128) complex128 {
+	var sr, si float64
+	b = b[:len(a)]
+	for i, v := range a {
+		ar, ai, br, bi := real(v), imag(v), real(b[i]), imag(b[i])
+		sr += ar*br + ai*bi
+		si += ar*bi - ai*br
+	}
+	return complex(sr, si)
+}
+
+// axpy sets y += a·x.
 func axpy(y []complex128, a complex128, x []complex128) {
+	ar, ai := real(a), imag(a)
+	x = x[:len(y)]
 	for i, v := range x {
-		y[i] += a * v
+		xr, xi := real(v), imag(v)
+		y[i] += complex(ar*xr-ai*xi, ar*xi+ai*xr)
 	}
 }
 
