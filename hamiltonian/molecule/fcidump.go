@@ -203,13 +203,15 @@ type token struct {
 // endOfHeader returns the index of the header terminator "&END" or "/" in
 // the line, or −1.
 func endOfHeader(s string) int {
-	if k := strings.Index(strings.ToUpper(s), "&END"); k >= 0 {
-		return k
+	for i := 0; i < len(s); i++ {
+		if s[i] == '/' {
+			return i
+		}
+		if (s[i] == '&' || s[i] == '$') && i+4 <= len(s) && strings.EqualFold(s[i+1:i+4], "END") {
+			return i
+		}
 	}
-	if k := strings.Index(strings.ToUpper(s), "$END"); k >= 0 {
-		return k
-	}
-	return strings.IndexByte(s, '/')
+	return -1
 }
 
 // tokenize appends the words of a header line: names, "=" and values,
