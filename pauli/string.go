@@ -227,7 +227,7 @@ func (p String) Commutes(o String) bool {
 func (p String) QubitwiseCommutes(o String) bool {
 	mustSameWidth(p.n, o.n)
 	for i := range p.x {
-		if (p.x[i]^o.x[i]|p.z[i]^o.z[i])&(p.x[i]|p.z[i])&(o.x[i]|o.z[i]) != 0 {
+		if ((p.x[i]^o.x[i])|(p.z[i]^o.z[i]))&(p.x[i]|p.z[i])&(o.x[i]|o.z[i]) != 0 {
 			return false
 		}
 	}
