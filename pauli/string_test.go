@@ -56,7 +56,7 @@ func TestMulSingleQubitTextbook(t *testing.T) {
 	// Information, §2.1.3; common practice).
 	for _, tc := range []struct {
 		a, b, c string
-		ph    Phase
+		ph      Phase
 	}{
 		{"X", "Y", "Z", 1}, {"Y", "Z", "X", 1}, {"Z", "X", "Y", 1},
 		{"Y", "X", "Z", 3}, {"Z", "Y", "X", 3}, {"X", "Z", "Y", 3},
