@@ -198,7 +198,9 @@ func (s *synth) reduce() {
 	}
 	// CNOTs clear every non-pivot X bit; in reduced row echelon form only
 	// row i has an X on pivot qubit piv[i], so CNOT(piv[i], c) clears bit c
-	// of row i and touches no other row's X.
+	// of row i and touches no other row's X. Controls are pivots and targets
+	// are not, so these CNOTs commute and may be applied in any order.
+	var block []Gate
 	for i, r := range s.rows {
 		for k := range s.w {
 			m := r[k]
@@ -206,19 +208,26 @@ func (s *synth) reduce() {
 				c := k<<6 + bits.TrailingZeros64(m)
 				m &= m - 1
 				if c != piv[i] {
-					s.apply(Gate{Kind: GateCNOT, Q0: piv[i], Q1: c})
+					block = append(block, Gate{Kind: GateCNOT, Q0: piv[i], Q1: c})
 				}
 			}
 		}
 	}
+	for _, g := range s.layers(block) {
+		s.apply(g)
+	}
 	// Commutation makes z_i[piv[j]] = z_j[piv[i]]: CZ clears a symmetric
-	// pair, S† a diagonal entry.
+	// pair, S† a diagonal entry. CZ gates commute with each other.
+	block = block[:0]
 	for i := range s.rows {
 		for j := i + 1; j < len(s.rows); j++ {
 			if bit(s.rows[i][s.w:], piv[j]) == 1 {
-				s.apply(Gate{Kind: GateCZ, Q0: piv[i], Q1: piv[j]})
+				block = append(block, Gate{Kind: GateCZ, Q0: piv[i], Q1: piv[j]})
 			}
 		}
+	}
+	for _, g := range s.layers(block) {
+		s.apply(g)
 	}
 	for i, r := range s.rows {
 		if bit(r[s.w:], piv[i]) == 1 {
@@ -228,6 +237,29 @@ func (s *synth) reduce() {
 	for _, p := range piv {
 		s.apply(Gate{Kind: GateH, Q0: p})
 	}
+}
+
+// layers reorders two-qubit gates that commute with each other so that the
+// greedy schedule of [Circuit.Depth] packs them densely: it fills one layer
+// at a time with the first remaining gates whose qubits are still free in
+// that layer (a greedy edge colouring). It returns a new slice.
+func (s *synth) layers(gs []Gate) []Gate {
+	out := make([]Gate, 0, len(gs))
+	rest := append([]Gate(nil), gs...)
+	stamp := make([]int, s.n)
+	for layer := 1; len(rest) > 0; layer++ {
+		keep := rest[:0]
+		for _, g := range rest {
+			if stamp[g.Q0] == layer || stamp[g.Q1] == layer {
+				keep = append(keep, g)
+				continue
+			}
+			stamp[g.Q0], stamp[g.Q1] = layer, layer
+			out = append(out, g)
+		}
+		rest = keep
+	}
+	return out
 }
 
 // local rotates every qubit on which the generators carry at most one

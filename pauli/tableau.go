@@ -54,11 +54,48 @@ func (t *Tableau) Apply(g Gate) {
 	t.apply((&Circuit{n: t.n}).valid(g))
 }
 
+// apply runs the update rules of conjugateWords on every row, with the
+// switch on the gate kind outside the row loops.
 func (t *Tableau) apply(g Gate) {
-	w2 := 2 * t.w
-	for k, o := 0, 0; k < 2*t.n; k, o = k+1, o+w2 {
-		r := t.data[o : o+w2 : o+w2]
-		t.neg[k>>6] ^= conjugateWords(r[:t.w], r[t.w:], g) << (k & 63)
+	w, w2, rows := t.w, 2*t.w, 2*t.n
+	ia, sa := g.Q0>>6, uint(g.Q0&63)
+	ib, sb := g.Q1>>6, uint(g.Q1&63)
+	d, neg := t.data, t.neg
+	switch g.Kind {
+	case GateH:
+		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
+			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
+			m := (xa ^ za) << sa
+			d[o+ia] ^= m
+			d[o+w+ia] ^= m
+			neg[k>>6] ^= (xa & za) << (k & 63)
+		}
+	case GateS, GateSdg:
+		flip := uint64(0) // S: neg = x·z; S†: neg = x·(1−z)
+		if g.Kind == GateSdg {
+			flip = 1
+		}
+		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
+			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
+			d[o+w+ia] ^= xa << sa
+			neg[k>>6] ^= (xa & (za ^ flip)) << (k & 63)
+		}
+	case GateCNOT:
+		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
+			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
+			xb, zb := d[o+ib]>>sb&1, d[o+w+ib]>>sb&1
+			d[o+ib] ^= xa << sb
+			d[o+w+ia] ^= zb << sa
+			neg[k>>6] ^= (xa & zb & (xb ^ za ^ 1)) << (k & 63)
+		}
+	case GateCZ:
+		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
+			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
+			xb, zb := d[o+ib]>>sb&1, d[o+w+ib]>>sb&1
+			d[o+w+ia] ^= xb << sa
+			d[o+w+ib] ^= xa << sb
+			neg[k>>6] ^= (xa & xb & (za ^ zb)) << (k & 63)
+		}
 	}
 }
 
