@@ -19,7 +19,7 @@ type Options struct {
 	Top int
 	// Enumerate is the largest number of candidate terms for which the
 	// optimal truncation is found by trying every subset (2^Enumerate
-	// evaluations). Zero means 20; past it, see [Truncation].Exact.
+	// evaluations). Zero means 16; past it, see [Truncation].Exact.
 	Enumerate int
 }
 
@@ -35,7 +35,7 @@ func (o *Options) top() int {
 
 func (o *Options) enumerate() int {
 	if o == nil || o.Enumerate <= 0 {
-		return 20
+		return 16
 	}
 	return min(o.Enumerate, 30)
 }

@@ -66,7 +66,7 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 		c.settings = append(c.settings, s)
 		c.mult = append(c.mult, shots[k])
 	}
-	// The rows are cut from blocks of at least 1<<20 entries, so that no
+	// The rows are cut from blocks of up to 1<<20 entries, so that no
 	// stored index is ever copied by a growing slice.
 	t := h.Table()
 	c.rows = make([][]int32, len(c.settings))
@@ -85,7 +85,10 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 			continue
 		}
 		if cap(block)-len(block) < len(c.buf) {
-			block = make([]int32, 0, max(1<<20, len(c.buf)))
+			// Guess the rest from this setting's count, within [its
+			// count, max(its count, 1<<20)].
+			guess := min(1<<20, len(c.buf)*(len(c.settings)-q))
+			block = make([]int32, 0, max(guess, len(c.buf)))
 		}
 		start := len(block)
 		for _, i := range c.buf {

@@ -1,0 +1,149 @@
+package guarantee
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// SequentialSettings describes a sequential measurement for [Sequential].
+type SequentialSettings struct {
+	// Settings and Shots are the base plan: one copy of it is
+	// Σ Shots shots. Every round measures whole copies.
+	Settings []pauli.Setting
+	Shots    []int
+	// Target is the accuracy ε to certify, Delta the total failure
+	// probability over all rounds.
+	Target, Delta float64
+	// MaxShots caps the shots measured; a round that would pass it is not
+	// run. It must be at least one copy of the base plan.
+	MaxShots int
+	// Growth sets the round sizes: round k measures ⌈Growth^(k−1)⌉ copies
+	// of the base plan. Zero or 1 means one copy per round; a Growth above
+	// 1 makes the rounds geometric, which spends the confidence over fewer
+	// checks.
+	Growth float64
+	// P is the exponent of the [StoppingSchedule]; zero means 2.
+	P float64
+	// Exclude and Form are as in [EmpiricalOptions].
+	Exclude []bool
+	Form    EmpiricalForm
+}
+
+// SequentialResult is the outcome of [Sequential].
+type SequentialResult struct {
+	// Certified reports that the bound reached Target before the cap.
+	Certified bool
+	// Rounds is the number of rounds run and Copies the number of copies
+	// of the base plan measured.
+	Rounds, Copies int
+	// Bound is the bound after the last round, at that round's δ_k; its
+	// Delta field holds δ_k. With probability at least 1 − Delta (the
+	// settings' total), every round's bound holds at once, so the bound at
+	// whatever round the run stopped holds too.
+	Bound *DataBound
+	// History[k] is the Total of round k+1's bound.
+	History []float64
+	// Records holds every shot.
+	Records *estimate.Records
+}
+
+// Sequential measures a base plan in rounds on dev and stops as soon as the
+// data certify Target: the empirical Bernstein stopping rule of Mnih,
+// Szepesvári & Audibert (2008) applied to the grouped estimate. After round
+// k, with R_k copies measured, the estimate is the grouped estimate of all
+// shots (MATH.md §2); each setting Q's shots give i.i.d. values
+// w = Σ_{i◁Q} (h_i/N_i^base) s_i, and the estimate's error is bounded as in
+// [Empirical] at δ_k = Delta (P−1)/(P k^P) ([StoppingSchedule]). Because Σ_k
+// δ_k ≤ Delta and the round sizes are fixed in advance, all the rounds'
+// bounds hold together with probability at least 1 − Delta, and so does
+// the one the run stops at.
+//
+// Sequential returns an error for invalid settings (naming the field), a
+// device failure (with the round), or records that do not hold the shots
+// the device was asked for.
+func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSettings) (*SequentialResult, error) {
+	if h == nil || dev == nil || s == nil {
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian, device or settings")
+	}
+	switch {
+	case !validDelta(s.Delta):
+		return nil, fmt.Errorf("guarantee: Sequential: Delta = %v is not in (0, 1)", s.Delta)
+	case !(s.Target > 0) || math.IsInf(s.Target, 0):
+		return nil, fmt.Errorf("guarantee: Sequential: Target = %v, want a positive number", s.Target)
+	case s.Growth != 0 && !(s.Growth >= 1):
+		return nil, fmt.Errorf("guarantee: Sequential: Growth = %v, want 0 or at least 1", s.Growth)
+	case s.P != 0 && !(s.P > 1):
+		return nil, fmt.Errorf("guarantee: Sequential: P = %v, want 0 or more than 1", s.P)
+	case s.Form < PerGroupAMS || s.Form > Pooled:
+		return nil, fmt.Errorf("guarantee: Sequential: unknown empirical form %d", int(s.Form))
+	}
+	if err := checkExclude(h, s.Exclude); err != nil {
+		return nil, err
+	}
+	c, err := newCoverage(h, s.Settings, s.Shots)
+	if err != nil {
+		return nil, err
+	}
+	if c.shots == 0 {
+		return nil, fmt.Errorf("guarantee: Sequential: the base plan has no shots")
+	}
+	if s.MaxShots < c.shots {
+		return nil, fmt.Errorf("guarantee: Sequential: MaxShots = %d is less than one copy of the base plan (%d shots)", s.MaxShots, c.shots)
+	}
+	growth := s.Growth
+	if growth == 0 {
+		growth = 1
+	}
+	sched := StoppingSchedule{Delta: s.Delta, P: s.P}
+
+	coef, bias := estimatorWeights(h, c.cover, 1, s.Exclude)
+	gs := prepareGroups(h, c.settings, coef)
+	for q, g := range gs {
+		g.weight = float64(c.mult[q])
+	}
+	rec := estimate.NewRecords(h.Qubits())
+	res := &SequentialResult{Records: rec}
+	roundShots := make([]int, len(c.mult))
+	var buf []int8
+	for k := 1; ; k++ {
+		f := math.Ceil(math.Pow(growth, float64(k-1)) - 1e-9)
+		if f > float64(s.MaxShots/c.shots) {
+			break
+		}
+		copies := max(1, int(f))
+		if res.Copies+copies > s.MaxShots/c.shots {
+			break
+		}
+		for q, m := range c.mult {
+			roundShots[q] = copies * m
+		}
+		before := make([]int, len(gs))
+		for q, g := range c.settings {
+			if gi, ok := rec.Group(g); ok {
+				before[q] = rec.GroupLen(gi)
+			}
+		}
+		if err := dev.Run(c.settings, roundShots, rec); err != nil {
+			return nil, fmt.Errorf("guarantee: Sequential: round %d: %w", k, err)
+		}
+		for q, g := range gs {
+			gi, ok := rec.Group(g.setting)
+			if !ok || rec.GroupLen(gi)-before[q] != roundShots[q] {
+				return nil, fmt.Errorf("guarantee: Sequential: round %d: device did not record %d shots of %s", k, roundShots[q], g.setting)
+			}
+			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(gi, before[q]+j) }, roundShots[q], buf)
+		}
+		res.Rounds, res.Copies = k, res.Copies+copies
+		res.Bound = finishBound(h, gs, bias, rec.Len(), sched.At(k), s.Form, nil)
+		res.History = append(res.History, res.Bound.Total)
+		if res.Bound.Total <= s.Target {
+			res.Certified = true
+			break
+		}
+	}
+	return res, nil
+}
