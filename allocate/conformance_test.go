@@ -68,3 +68,9 @@ func TestConformanceByName(t *testing.T) {
 		})
 	}
 }
+
+// TestConformanceCustom runs the suite on the custom strategy of
+// example_custom_test.go, as a user's own tests would.
+func TestConformanceCustom(t *testing.T) {
+	allocatetest.Test(t, func(uint64) allocate.Allocator { return &termCycle{} }, nil)
+}

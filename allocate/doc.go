@@ -1,4 +1,61 @@
 // Package allocate decides which single-qubit basis to read on every qubit
 // in every shot: it runs a strategy to a budget of shots and returns a
 // [Plan].
+//
+// # The driver and the strategy contract
+//
+// [Run] is the one driver of every strategy, in the manner of gonum's
+// optimize.Minimize: a strategy is a small synchronous [Allocator] — Init
+// once, then Next, which writes the next setting's letters into a buffer the
+// driver owns and says how many consecutive shots it gets. The driver owns
+// the loop, the budget (the plan has exactly the budget's shots; the last
+// setting is cut to fit), stopping, the progress callback of [Settings], the
+// merging of consecutive repeats and the cover counts N_i. It detects the
+// optional interfaces once, before the loop:
+//
+//   - [Observer]: an adaptive strategy reads every shot's outcome back, in
+//     shot order; the outcomes come from [Settings].Measure.
+//   - [Batcher]: the strategy produces many settings at once.
+//   - [Counter]: the strategy keeps N_i itself, saving the driver a pass.
+//   - [TermDrawer]: the strategy draws one term per shot ([Plan].Drawn).
+//   - [QubitLimit]: the strategy supports at most so many qubits.
+//
+// No goroutines or channels are part of the contract. Package
+// [github.com/shotplan/shotplan/allocate/allocatetest] checks that a
+// strategy keeps it.
+//
+// # Strategies
+//
+// One file each, with the source and the cost per setting in its doc:
+//
+//	name        type            method
+//	greedy      [Greedy]        greedy one-norm descent (ShadowGrouping, MATH §5.1)
+//	derand      [Derandomized]  derandomized classical shadows, weighted (§5.2)
+//	random      [Random]        uniformly random bases (§5.3)
+//	biased      [Biased]        locally biased random bases (§5.4)
+//	sorted      [Sorted]        sorted insertion, shots ∝ group one-norm (§5.5)
+//	importance  [Importance]    single-term importance sampling (§3.5)
+//	fixed       [Fixed]         a user's list of settings, cycled
+//
+// [ByName] makes one from its short name, [Names] lists the names.
+//
+// # Randomness and reproducibility
+//
+// A strategy that draws at random takes a seed in its Seed field and wraps
+// one math/rand/v2 PCG source around it in Init; library code never uses the
+// global source. The same seed gives the same plan, and running the same
+// value twice gives the same plan, because Init resets all state.
+//
+// # Errors
+//
+// [Run] refuses an empty Hamiltonian ([ErrEmpty]), a budget ≤ 0
+// ([ErrBudget]), a non-finite coefficient ([ErrNonFinite]), a Hamiltonian
+// wider than the strategy supports ([ErrTooManyQubits]) and a strategy that
+// breaks the contract ([ErrStrategy]), with messages naming the strategy,
+// round, setting or term. The Hamiltonian is never modified.
+//
+// # Figures of merit
+//
+// [ScaledOneNorm] gives the plan objective Σ_i |h_i|/sqrt(N_i) of MATH §3.2;
+// [ImportanceShots] the closed-form budget of importance sampling.
 package allocate

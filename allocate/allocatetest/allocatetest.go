@@ -72,7 +72,8 @@ func Cases() []Case {
 // Test runs the conformance suite on the strategies made by newAllocator,
 // which must return a fresh, unused allocator for a seed (deterministic
 // strategies may ignore the seed). It reports failures through t, in
-// subtests named by check, Hamiltonian, budget and seed.
+// subtests named by Hamiltonian, budget and seed, and an "errors" subtest.
+// A Hamiltonian wider than the strategy's [allocate.QubitLimit] is skipped.
 func Test(t *testing.T, newAllocator func(seed uint64) allocate.Allocator, opts *Options) {
 	t.Helper()
 	var o Options
@@ -88,7 +89,17 @@ func Test(t *testing.T, newAllocator func(seed uint64) allocate.Allocator, opts 
 	if o.Seeds == nil {
 		o.Seeds = []uint64{1, 2}
 	}
+	limit := -1
+	if l, ok := newAllocator(o.Seeds[0]).(allocate.QubitLimit); ok {
+		limit = l.MaxQubits()
+	}
 	for _, c := range o.Cases {
+		if limit >= 0 && c.H.Qubits() > limit {
+			t.Run(c.Name, func(t *testing.T) {
+				t.Skipf("%d qubits, beyond the strategy's limit of %d", c.H.Qubits(), limit)
+			})
+			continue
+		}
 		for _, budget := range o.Budgets {
 			for _, seed := range o.Seeds {
 				name := fmt.Sprintf("%s/budget=%d/seed=%d", c.Name, budget, seed)
@@ -254,6 +265,12 @@ func checkObserver(t *testing.T, h *hamiltonian.Hamiltonian, budget int, a alloc
 
 func checkErrors(t *testing.T, newAllocator func(uint64) allocate.Allocator, o Options) {
 	h := o.Cases[0].H
+	for _, c := range o.Cases {
+		if l, ok := newAllocator(1).(allocate.QubitLimit); !ok || c.H.Qubits() <= l.MaxQubits() {
+			h = c.H
+			break
+		}
+	}
 	empty, err := hamiltonian.New(h.Qubits(), 1.5, nil)
 	if err != nil {
 		t.Fatal(err)

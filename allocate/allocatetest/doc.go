@@ -6,7 +6,8 @@
 //
 // [Test] runs the strategy through [allocate.Run] on a set of Hamiltonians
 // (small invented ones by default, including one wider than 64 qubits) and
-// budgets, and checks that
+// budgets (skipping a Hamiltonian wider than the strategy's
+// [allocate.QubitLimit]), and checks that
 //
 //   - the plan is reproducible: two values made with the same seed, and one
 //     value run twice, give the same plan;
