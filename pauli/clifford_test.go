@@ -325,3 +325,15 @@ func FuzzConjugate(f *testing.F) {
 		}
 	})
 }
+
+// Gates returns a slice without spare capacity, so appending to it cannot
+// write into the circuit.
+func TestCircuitGatesAliasing(t *testing.T) {
+	c := NewCircuit(2).H(0).S(1).CZ(0, 1)
+	c.gates = c.gates[:2] // leave spare capacity behind the visible gates
+	gs := c.Gates()
+	_ = append(gs, Gate{Kind: GateH, Q0: 1})
+	if got := c.gates[:3][2]; got != (Gate{Kind: GateCZ, Q0: 0, Q1: 1}) {
+		t.Errorf("append to Gates() overwrote the circuit's storage: %v", got)
+	}
+}

@@ -398,3 +398,27 @@ func FuzzDiagonalize(f *testing.F) {
 		checkDiagonalization(t, fam, d)
 	})
 }
+
+func TestDiagonalizeZeroQubitsAndInputUnchanged(t *testing.T) {
+	d, err := Diagonalize([]String{Identity(0), Identity(0)})
+	if err != nil || d.Len() != 2 || d.Rank() != 0 || d.Circuit().Len() != 0 {
+		t.Fatalf("Diagonalize of two zero-qubit identities = %v, %v; want empty circuit, rank 0", d, err)
+	}
+	if z, s := d.Image(1); z.Qubits() != 0 || s != 1 || d.Sample(1, nil) != 1 {
+		t.Errorf("zero-qubit Image(1) = %s, Sample = %d, want +I, +1", signed(s, z), d.Sample(1, nil))
+	}
+	rng := rand.New(rand.NewPCG(15, 16))
+	fam := randomCommutingFamily(rng, 70, 30, 60, true)
+	keep := make([]String, len(fam))
+	for i, p := range fam {
+		keep[i] = p.Clone()
+	}
+	if _, err := Diagonalize(fam); err != nil {
+		t.Fatal(err)
+	}
+	for i := range fam {
+		if !fam[i].Equal(keep[i]) {
+			t.Fatalf("Diagonalize modified member %d: %s, was %s", i, fam[i], keep[i])
+		}
+	}
+}
