@@ -1,0 +1,126 @@
+package guarantee
+
+import (
+	"errors"
+	"math"
+	"strings"
+	"testing"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+func TestSequentialStops(t *testing.T) {
+	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	base, err := allocate.Run(h, 40, &allocate.Greedy{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sim, ev, err := estimate.GroundStateSimulator(h, 7, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, growth := range []float64{0, 1.5} {
+		s := &SequentialSettings{Settings: base.Settings, Shots: base.Shots, Target: 0.1, Delta: 0.05, MaxShots: 200_000, Growth: growth}
+		res, err := Sequential(h, sim, s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !res.Certified || res.Bound.Total > s.Target {
+			t.Fatalf("Sequential(growth %g) certified %v with bound %g, want ≤ %g", growth, res.Certified, res.Bound.Total, s.Target)
+		}
+		if got, want := res.Records.Len(), res.Copies*40; got != want {
+			t.Errorf("Sequential(growth %g): %d shots recorded, want %d copies × 40 = %d", growth, got, res.Copies, want)
+		}
+		if want := (StoppingSchedule{Delta: 0.05}).At(res.Rounds); res.Bound.Delta != want {
+			t.Errorf("Sequential(growth %g): last bound at δ = %g, want δ_%d = %g", growth, res.Bound.Delta, res.Rounds, want)
+		}
+		for k := 0; k+1 < len(res.History); k++ {
+			if res.History[k] <= s.Target {
+				t.Errorf("Sequential(growth %g) did not stop at round %d with bound %g ≤ target", growth, k+1, res.History[k])
+			}
+		}
+		g, err := estimate.Grouped(h, res.Records, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !close(res.Bound.Energy, g.Energy, 1e-12) {
+			t.Errorf("Sequential(growth %g) energy %.15g, estimate.Grouped on its records %.15g", growth, res.Bound.Energy, g.Energy)
+		}
+		// A single seeded run: the bound holds with probability ≥ 95%;
+		// this seed's outcome is fixed.
+		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Total {
+			t.Errorf("Sequential(growth %g): |%g − %g| exceeds the bound %g", growth, res.Bound.Energy, ev.Energy, res.Bound.Total)
+		}
+		t.Logf("growth %g: %d rounds, %d shots, bound %.4g", growth, res.Rounds, res.Records.Len(), res.Bound.Total)
+	}
+}
+
+func TestSequentialCap(t *testing.T) {
+	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	base, err := allocate.Run(h, 40, &allocate.Greedy{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sim, _, err := estimate.GroundStateSimulator(h, 8, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := Sequential(h, sim, &SequentialSettings{Settings: base.Settings, Shots: base.Shots, Target: 1e-4, Delta: 0.05, MaxShots: 1000})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Certified || res.Records.Len() > 1000 || res.Rounds != 25 {
+		t.Errorf("Sequential(unreachable target, cap 1000) = certified %v, %d shots, %d rounds; want false, ≤ 1000, 25", res.Certified, res.Records.Len(), res.Rounds)
+	}
+}
+
+type failingDevice struct{}
+
+var errHardware = errors.New("hardware offline")
+
+func (failingDevice) Run([]pauli.Setting, []int, *estimate.Records) error { return errHardware }
+
+// lazyDevice records one shot too few of every setting.
+type lazyDevice struct{}
+
+func (lazyDevice) Run(settings []pauli.Setting, shots []int, rec *estimate.Records) error {
+	for k, s := range settings {
+		for range shots[k] - 1 {
+			if err := rec.Add(s, pauli.NewBits(s.Qubits())); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+func TestSequentialErrors(t *testing.T) {
+	h := mustH(t, 2, 0, 1.0, "ZI")
+	ok := SequentialSettings{Settings: settingsOf("ZZ"), Shots: []int{5}, Target: 0.1, Delta: 0.1, MaxShots: 100}
+	mod := func(f func(*SequentialSettings)) *SequentialSettings { s := ok; f(&s); return &s }
+	cases := []struct {
+		name string
+		dev  estimate.Device
+		s    *SequentialSettings
+		want string
+	}{
+		{"device error", failingDevice{}, &ok, "round 1: hardware offline"},
+		{"missing shots", lazyDevice{}, &ok, "round 1: device did not record 5 shots of ZZ"},
+		{"delta", failingDevice{}, mod(func(s *SequentialSettings) { s.Delta = 0 }), "Delta = 0"},
+		{"target", failingDevice{}, mod(func(s *SequentialSettings) { s.Target = -1 }), "Target = -1"},
+		{"growth", failingDevice{}, mod(func(s *SequentialSettings) { s.Growth = 0.5 }), "Growth = 0.5"},
+		{"cap", failingDevice{}, mod(func(s *SequentialSettings) { s.MaxShots = 4 }), "MaxShots = 4 is less than one copy"},
+		{"empty plan", failingDevice{}, mod(func(s *SequentialSettings) { s.Shots = []int{0} }), "no shots"},
+	}
+	for _, c := range cases {
+		_, err := Sequential(h, c.dev, c.s)
+		if err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: error %v, want one containing %q", c.name, err, c.want)
+		}
+	}
+	if _, err := Sequential(h, failingDevice{}, &ok); !errors.Is(err, errHardware) {
+		t.Errorf("Sequential(failing device) error %v does not wrap the device's error", err)
+	}
+}
