@@ -161,20 +161,32 @@ type mapper struct {
 	tab *ladderTable
 	lx  [][]uint64 // running product's x words after each level
 	lz  [][]uint64
+	// The weights of the product being expanded: its image is
+	// Σ_k (u α_k + w conj(α_k)) P_k where Σ_k α_k P_k is the image of the
+	// product itself. sp = u + w and sm = i(u − w).
+	sp, sm complex128
+	weight float64 // (|u| + |w|)·2^−k
 }
 
+// mapAll maps o. Products are first grouped (see [groups]) so that each
+// distinct product is expanded once, together with its adjoint: the image of
+// R† has the same strings as that of R with conjugate coefficients.
 func (o *Operator) mapAll(e Encoding) *mapper {
 	m := &mapper{accumulator: newAccumulator(o.modes), tab: newLadderTable(e, o.modes)}
+	g := newGroups(o.Len())
 	for _, t := range o.Terms() {
-		m.addTerm(t.Coeff, t.Ops)
+		g.add(t.Coeff, t.Ops)
+	}
+	for i := range g.u {
+		m.addGroup(g.u[i], g.w[i], g.product(i))
 	}
 	return m
 }
 
-// addTerm adds the image of c·ops: the 2^len(ops) products of one string per
-// ladder image, each weighted by c·2^−len(ops)·i^phase.
-func (m *mapper) addTerm(c complex128, ops []Op) {
-	if c == 0 {
+// addGroup adds the image of u·R + w·R† for the product R = ops: the
+// 2^len(ops) products of one string per ladder image.
+func (m *mapper) addGroup(u, w complex128, ops []Op) {
+	if u == 0 && w == 0 {
 		return
 	}
 	k := len(ops)
@@ -184,21 +196,33 @@ func (m *mapper) addTerm(c complex128, ops []Op) {
 	}
 	clear(m.lx[0])
 	clear(m.lz[0])
-	scale := math.Ldexp(1, -k)
-	m.expand(ops, 0, 0, c*complex(scale, 0), abs(c)*scale)
+	scale := complex(math.Ldexp(1, -k), 0)
+	m.sp = (u + w) * scale
+	d := (u - w) * scale
+	m.sm = complex(-imag(d), real(d))
+	m.weight = (abs(u) + abs(w)) * real(scale)
+	m.expand(ops, 0, 0)
 }
 
-func (m *mapper) expand(ops []Op, level int, ph int, c complex128, mag float64) {
+// expand multiplies the running product at this level by each of the two
+// strings of ops[level]'s image; at the leaves the product is i^ph·P and
+// contributes (u i^ph + w (−i)^ph)·2^−k to P.
+func (m *mapper) expand(ops []Op, level int, ph int) {
 	if level == len(ops) {
+		var c complex128
 		switch ph & 3 {
+		case 0:
+			c = m.sp
 		case 1:
-			c = complex(-imag(c), real(c))
+			c = m.sm
 		case 2:
-			c = -c
+			c = -m.sp
 		case 3:
-			c = complex(imag(c), -real(c))
+			c = -m.sm
 		}
-		m.add(m.lx[level], m.lz[level], c, mag)
+		if c != 0 {
+			m.add(m.lx[level], m.lz[level], c, m.weight)
+		}
 		return
 	}
 	op := ops[level]
@@ -210,8 +234,8 @@ func (m *mapper) expand(ops []Op, level int, ph int, c complex128, mag float64) 
 	}
 	px, pz := m.lx[level], m.lz[level]
 	nx, nz := m.lx[level+1], m.lz[level+1]
-	m.expand(ops, level+1, ph+mulWords(nx, nz, px, pz, x, za), c, mag)
-	m.expand(ops, level+1, ph+im+mulWords(nx, nz, px, pz, x, zb), c, mag)
+	m.expand(ops, level+1, ph+mulWords(nx, nz, px, pz, x, za))
+	m.expand(ops, level+1, ph+im+mulWords(nx, nz, px, pz, x, zb))
 }
 
 // mulWords writes the string of (x1,z1)·(x2,z2) into (dx,dz) and returns the

@@ -2,6 +2,7 @@ package fermion
 
 import (
 	"iter"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -86,6 +87,14 @@ func (o *Operator) Add(c complex128, ops ...Op) {
 	o.coef = append(o.coef, c)
 	o.ops = append(o.ops, ops...)
 	o.end = append(o.end, len(o.ops))
+}
+
+// Grow makes room for terms more terms holding ops more ladder operators in
+// all, so that that many calls of [Operator.Add] do not reallocate.
+func (o *Operator) Grow(terms, ops int) {
+	o.coef = slices.Grow(o.coef, terms)
+	o.end = slices.Grow(o.end, terms)
+	o.ops = slices.Grow(o.ops, ops)
 }
 
 // Modes returns the number of fermionic modes.

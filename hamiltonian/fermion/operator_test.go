@@ -125,3 +125,25 @@ func TestNonHermitianError(t *testing.T) {
 		t.Errorf("QubitHamiltonian(%v) error = %v, want one naming the identity term", q, err)
 	}
 }
+
+// TestComplexHermitian maps i a0† a1 − i a1† a0, Hermitian with imaginary
+// coefficients, to ½(Y0 X1 − X0 Y1) under Jordan–Wigner (worked by hand from
+// a_j† = Z_0⋯Z_{j−1}(X_j − iY_j)/2, Seeley, Richard & Love, arXiv:1208.5986).
+func TestComplexHermitian(t *testing.T) {
+	o := NewOperator(2)
+	o.Add(1i, Create(0), Annihilate(1))
+	o.Add(-1i, Create(1), Annihilate(0))
+	h, err := o.QubitHamiltonian(JordanWigner)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[string]float64{"YX": 0.5, "XY": -0.5}
+	if h.Len() != 2 || h.Offset() != 0 {
+		t.Fatalf("image of %v has %d terms, offset %v, want %v", o, h.Len(), h.Offset(), want)
+	}
+	for _, term := range h.Terms() {
+		if want[term.Pauli.String()] != term.Coeff {
+			t.Errorf("image of %v: %v %s, want %v", o, term.Coeff, term.Pauli, want)
+		}
+	}
+}

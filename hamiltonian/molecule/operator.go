@@ -15,6 +15,8 @@ import (
 func (g *Integrals) FermionOperator(order fermion.SpinOrder) *fermion.Operator {
 	n := g.norb
 	o := fermion.NewOperator(2 * n)
+	// Room for every product: 1 + 2n² + 4n⁴ is an upper bound.
+	o.Grow(1+2*n*n+4*n*n*n*n, 4*n*n+16*n*n*n*n)
 	if g.core != 0 {
 		o.Add(complex(g.core, 0))
 	}

@@ -1,0 +1,73 @@
+package molecule
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/shotplan/shotplan/hamiltonian/fermion"
+)
+
+// randomIntegrals returns seeded random integrals with the symmetries of
+// real orbitals and every value non-zero, a stand-in for a molecule of the
+// given size.
+func randomIntegrals(tb testing.TB, orbitals int, seed uint64) *Integrals {
+	tb.Helper()
+	rng := rand.New(rand.NewPCG(seed, 7))
+	g, err := New(orbitals)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	g.SetCore(rng.NormFloat64())
+	for p := range orbitals {
+		for q := range p + 1 {
+			g.SetOne(p, q, rng.NormFloat64())
+			for r := range orbitals {
+				for s := range r + 1 {
+					if pair(r, s) <= pair(p, q) {
+						g.SetTwo(p, q, r, s, 0.1*rng.NormFloat64())
+					}
+				}
+			}
+		}
+	}
+	return g
+}
+
+var benchOrbitals = []int{10, 25}
+
+// BenchmarkQubitHamiltonian maps the electronic Hamiltonian of random
+// integrals, built beforehand as a fermion operator (about 1.5·10^6
+// two-electron products at 50 spin orbitals), to a qubit Hamiltonian.
+func BenchmarkQubitHamiltonian(b *testing.B) {
+	for _, orbitals := range benchOrbitals {
+		o := randomIntegrals(b, orbitals, 1).FermionOperator(fermion.Interleaved)
+		for _, enc := range []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity} {
+			b.Run(fmt.Sprintf("modes=%d/products=%d/enc=%s", 2*orbitals, o.Len(), enc), func(b *testing.B) {
+				b.ReportAllocs()
+				terms := 0
+				for b.Loop() {
+					h, err := o.QubitHamiltonian(enc)
+					if err != nil {
+						b.Fatal(err)
+					}
+					terms = h.Len()
+				}
+				b.ReportMetric(float64(terms), "pauli-terms")
+			})
+		}
+	}
+}
+
+// BenchmarkFermionOperator builds the fermion operator from the integrals.
+func BenchmarkFermionOperator(b *testing.B) {
+	for _, orbitals := range benchOrbitals {
+		g := randomIntegrals(b, orbitals, 1)
+		b.Run(fmt.Sprintf("modes=%d", 2*orbitals), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				g.FermionOperator(fermion.Interleaved)
+			}
+		})
+	}
+}
