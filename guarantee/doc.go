@@ -1,17 +1,49 @@
 // Package guarantee bounds the error of an energy estimate rigorously: before
-// any shot, from a plan's settings and shot counts alone (a certificate), and
-// after the shots, from the data (empirical Bernstein bounds and a sequential
-// mode that stops as soon as a target accuracy is certified). It also plans
-// budgets for a target accuracy and advises which terms to drop.
+// any shot, from a plan's settings and shot counts alone (a [Certificate]),
+// and after the shots, from the data ([Empirical], [RandomizedBound], and
+// [Sequential], which stops as soon as a target accuracy is certified). It
+// also plans budgets for a target accuracy ([PlanBudget],
+// [ImportanceShots]) and advises which terms to drop ([Truncation]).
 //
 // # What a guarantee covers
 //
 // Every bound in this package covers shot noise only: the randomness of
 // measuring independent, identically prepared copies of one state with ideal
 // readout. Device noise, readout error, drift between shots and
-// state-preparation error are not covered; neither is the difference between
+// state-preparation error are NOT covered; neither is the difference between
 // the prepared state and the state one meant to prepare. A bound "at
-// confidence 1 − δ" fails with probability at most δ under those assumptions.
+// confidence 1 − δ" fails with probability at most δ under those
+// assumptions. Intervals from the normal approximation
+// ([DataBound].ApproxRadius, and the estimate package's ApproxInterval) are
+// approximate and are labelled so; they are not guarantees.
+//
+// # Before the shots
+//
+// [Certify] (a list of settings with shot counts) and [CertifyPlan] (a plan
+// from any allocator; identical result) compute, at confidence 1 − δ, the
+// shot-wise Hoeffding radius sqrt(2 V ln(2/δ)) of MATH.md §3.1 with V
+// computed exactly, its one-norm relaxation ‖h'‖_1 sqrt(2 ln(2/δ)) (§3.2),
+// the bias of never-covered terms, their sum, each term's share of the
+// bound (an Euler allocation that adds up to the total; see
+// [Certificate].Share) and the largest contributors. The certificate also
+// reports two truncations (§3.3): the δ-only threshold rule and the dropped
+// set that minimises bias plus exact radius. Their Drop lists are exclusion
+// lists for the estimator (estimate.Options.Exclude).
+//
+// A certificate needs a plan fixed before the data. Adaptive strategies
+// (settings chosen from earlier outcomes) are not covered; [PlanBudget]
+// refuses them.
+//
+// # After the shots
+//
+// [Empirical] bounds the grouped estimate from the records of fixed settings
+// with empirical Bernstein bounds per distinct setting and an explicit union
+// bound over the settings' shares of δ, or pooled over all shots
+// ([EmpiricalForm]). [RandomizedBound] does the same for plans whose
+// settings are drawn i.i.d. ([Randomized], MATH.md §4.1). [Sequential] runs an
+// estimate.Device in rounds and applies the bound after each round at
+// δ_k from a [StoppingSchedule], so that the bound at whichever round it
+// stops holds with probability 1 − δ.
 //
 // # Sources
 //
@@ -22,10 +54,15 @@
 // & Szepesvári (2009, Theorem 1) with the stopping schedule of Mnih,
 // Szepesvári & Audibert (2008). Each function cites its source.
 //
-// # Domains and errors
+// # Domains, errors and cost
 //
 // The tail-bound formulas ([HoeffdingRadius], [BernsteinRadius], ...) are
 // pure functions that return NaN for arguments outside their domain, as the
 // math package does. Everything that takes a Hamiltonian, a plan or data
-// checks it and returns an error naming the offending setting or term.
+// checks it and returns an error naming the offending setting, term or
+// field; nothing panics on bad input.
+//
+// A certificate costs one coverage scan of the terms per distinct setting
+// and keeps the covered-term lists (4 bytes per covered pair, up to 2^27
+// pairs; past that it scans again instead of storing).
 package guarantee
