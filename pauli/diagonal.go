@@ -84,22 +84,21 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 		tab:     s.c.Tableau(),
 		members: TableOf(n, family...),
 		images:  NewTable(n, len(family)),
-		neg:     make([]bool, len(family)),
 		gens:    gens,
 	}
-	w := Words(n)
+	cols := conjugateColumns(s.c, family)
 	img := Identity(n)
-	for i, p := range family {
+	d.neg = make([]bool, len(family))
+	for k := range family {
 		clear(img.x)
 		clear(img.z)
-		e := d.tab.conjugateInto(img.x, img.z, p.x, p.z)
-		for _, v := range img.x[:w] {
+		d.neg[k] = cols.get(k, img.x, img.z)
+		for _, v := range img.x {
 			if v != 0 {
 				panic("pauli: internal error: Diagonalize left an X or Y letter")
 			}
 		}
 		d.images.Append(img)
-		d.neg[i] = e == 2
 	}
 	return d, nil
 }

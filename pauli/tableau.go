@@ -34,11 +34,26 @@ func NewTableau(n int) *Tableau {
 	return t
 }
 
-// Tableau returns the Clifford map of c as a tableau.
+// Tableau returns the Clifford map of c as a tableau. It runs the gates on
+// the transposed tableau, a few word operations per gate and 32 qubits, then
+// transposes it back.
 func (c *Circuit) Tableau() *Tableau {
-	t := NewTableau(c.n)
+	n := c.n
+	cols := newColumns(n, 2*n)
+	for q := range n {
+		cols.data[2*cols.rw*q+q>>6] |= 1 << (q & 63)                   // X_q: row q
+		cols.data[2*cols.rw*q+cols.rw+(n+q)>>6] |= 1 << ((n + q) & 63) // Z_q: row n+q
+	}
 	for _, g := range c.gates {
-		t.apply(g)
+		cols.apply(g)
+	}
+	t := NewTableau(n)
+	clear(t.data)
+	for k := range 2 * n {
+		o := t.row(k)
+		if cols.get(k, t.data[o:o+t.w], t.data[o+t.w:o+2*t.w]) {
+			t.neg[k>>6] |= 1 << (k & 63)
+		}
 	}
 	return t
 }
