@@ -40,26 +40,63 @@ func (h *Hamiltonian) MarshalJSON() ([]byte, error) {
 	return json.Marshal(j)
 }
 
+// jsonInput is the decoding side of jsonHamiltonian: coefficients are kept
+// raw so that a complex or out-of-range value gets an error naming its term.
+type jsonInput struct {
+	Qubits *int            `json:"qubits"`
+	Offset json.RawMessage `json:"offset"`
+	Terms  []struct {
+		Pauli *string         `json:"pauli"`
+		Coeff json.RawMessage `json:"coeff"`
+	} `json:"terms"`
+}
+
 // UnmarshalJSON decodes the JSON form into h, reporting the first bad term by
-// its index.
+// its index: a missing field, a coefficient that is not a finite real
+// number (a complex value such as [1, 2] or "1+2i" included), or a Pauli
+// string that does not parse or has the wrong width. Qubit counts of
+// [MaxReadQubits] or more are rejected.
 func (h *Hamiltonian) UnmarshalJSON(b []byte) error {
-	var j jsonHamiltonian
+	var j jsonInput
 	if err := json.Unmarshal(b, &j); err != nil {
 		return fmt.Errorf("hamiltonian: %w: %w", ErrFormat, err)
 	}
-	if j.Qubits < 0 {
-		return fmt.Errorf("hamiltonian: %w: negative qubit count %d", ErrFormat, j.Qubits)
+	if j.Qubits == nil {
+		return fmt.Errorf("hamiltonian: %w: missing \"qubits\"", ErrFormat)
+	}
+	n := *j.Qubits
+	if n < 0 || n > MaxReadQubits {
+		return fmt.Errorf("hamiltonian: %w: qubit count %d outside [0, %d]", ErrFormat, n, MaxReadQubits)
+	}
+	offset := 0.0
+	if j.Offset != nil {
+		v, reason := jsonCoeff(j.Offset)
+		if reason != "" {
+			return fmt.Errorf("hamiltonian: %w: offset: %s", ErrFormat, reason)
+		}
+		offset = v
 	}
 	terms := make([]Term, len(j.Terms))
 	for k, t := range j.Terms {
+		if t.Pauli == nil {
+			return fmt.Errorf("hamiltonian: %w: term %d: missing \"pauli\"", ErrFormat, k)
+		}
+		ps := *t.Pauli
+		if t.Coeff == nil {
+			return fmt.Errorf("hamiltonian: %w: term %d (%q): missing \"coeff\"", ErrFormat, k, ps)
+		}
+		c, reason := jsonCoeff(t.Coeff)
+		if reason != "" {
+			return fmt.Errorf("hamiltonian: %w: term %d (%q): %s", ErrFormat, k, ps, reason)
+		}
 		var p pauli.String
 		var err error
-		if strings.ContainsAny(t.Pauli, "0123456789") || t.Pauli == "I" {
-			p, err = pauli.ParseSparse(t.Pauli, j.Qubits)
+		if strings.ContainsAny(ps, "0123456789") || strings.TrimSpace(ps) == "I" {
+			p, err = pauli.ParseSparse(ps, n)
 		} else {
-			p, err = pauli.Parse(t.Pauli)
-			if err == nil && p.Qubits() != j.Qubits {
-				err = fmt.Errorf("%d qubits, want %d", p.Qubits(), j.Qubits)
+			p, err = pauli.Parse(ps)
+			if err == nil && p.Qubits() != n {
+				err = fmt.Errorf("%d qubits, want %d", p.Qubits(), n)
 			}
 		}
 		if err != nil {
@@ -67,16 +104,34 @@ func (h *Hamiltonian) UnmarshalJSON(b []byte) error {
 			if errors.As(err, &pe) {
 				err = errors.New(pe.Reason)
 			}
-			return fmt.Errorf("hamiltonian: %w: term %d (%q): %v", ErrFormat, k, t.Pauli, err)
+			return fmt.Errorf("hamiltonian: %w: term %d (%q): %v", ErrFormat, k, ps, err)
 		}
-		terms[k] = Term{Pauli: p, Coeff: t.Coeff}
+		terms[k] = Term{Pauli: p, Coeff: c}
 	}
-	g, err := New(j.Qubits, j.Offset, terms)
+	g, err := New(n, offset, terms)
 	if err != nil {
 		return fmt.Errorf("%w: %w", ErrFormat, err)
 	}
 	*h = *g
 	return nil
+}
+
+// jsonCoeff decodes a real coefficient and explains a bad one.
+func jsonCoeff(raw json.RawMessage) (float64, string) {
+	t := strings.TrimSpace(string(raw))
+	switch {
+	case strings.HasPrefix(t, "["), strings.HasPrefix(t, "{"):
+		return 0, fmt.Sprintf("coefficient %s is not a real number (complex coefficients are not allowed)", t)
+	case strings.HasPrefix(t, `"`):
+		var s string
+		if json.Unmarshal(raw, &s) == nil {
+			if _, reason := parseCoeff(s); strings.HasPrefix(reason, "complex") {
+				return 0, reason
+			}
+		}
+		return 0, fmt.Sprintf("coefficient %s is a string, want a number", t)
+	}
+	return parseCoeff(t)
 }
 
 // ReadFile reads a Hamiltonian from path: the JSON form if the file's first

@@ -33,9 +33,15 @@ func (e *LineError) Unwrap() error { return ErrFormat }
 // maxLineErrors bounds how many bad lines one error lists.
 const maxLineErrors = 50
 
+// MaxReadQubits is the widest Hamiltonian that [Read], [ReadFile] and the
+// JSON decoder accept. It bounds the memory a malformed or hostile file can
+// claim (each term takes 2·⌈n/64⌉ words).
+const MaxReadQubits = 1 << 16
+
 // Read parses the text format described in the package documentation. It
 // reports every bad line (up to 50, then a count of the rest), each as a
 // [*LineError], joined with errors.Join; errors.Is(err, ErrFormat) holds.
+// A qubit count or index of [MaxReadQubits] or more is an error.
 func Read(r io.Reader) (*Hamiltonian, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 64*1024), 64<<20)
@@ -46,13 +52,15 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 		sparse string
 	}
 	var (
-		declared = -1 // from a "qubits N" line
-		width    = -1 // from the first dense string
-		items    []pending
-		errs     []error
-		extra    int
-		lineNo   int
-		seenTerm bool
+		declared  = -1 // from a "qubits N" line
+		width     = -1 // from the first dense string
+		widthLine int  // the line that set width
+		highest   = -1 // highest sparse qubit index
+		items     []pending
+		errs      []error
+		extra     int
+		lineNo    int
+		seenTerm  bool
 	)
 	bad := func(text, format string, args ...any) {
 		if len(errs) < maxLineErrors {
@@ -82,9 +90,12 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 				bad(raw, "\"qubits\" declared twice")
 			default:
 				n, err := strconv.Atoi(fields[1])
-				if err != nil || n < 0 {
+				switch {
+				case err != nil && !errors.Is(err, strconv.ErrRange) || n < 0:
 					bad(raw, "qubit count %q is not a non-negative integer", fields[1])
-				} else {
+				case err != nil || n > MaxReadQubits:
+					bad(raw, "qubit count %s exceeds the limit of %d", fields[1], MaxReadQubits)
+				default:
 					declared = n
 				}
 			}
@@ -113,16 +124,34 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 				items = append(items, pending{line: lineNo, coeff: c, sparse: "I"})
 				continue
 			}
-			if width < 0 {
-				width = len(s)
-			} else if len(s) != width {
-				bad(raw, "Pauli string %q has %d qubits, earlier strings have %d", s, len(s), width)
+			switch {
+			case declared >= 0 && len(s) != declared:
+				bad(raw, "Pauli string %q has %d qubits, but \"qubits %d\" was declared", s, len(s), declared)
 				continue
+			case declared < 0 && width >= 0 && len(s) != width:
+				bad(raw, "Pauli string %q has %d qubits, but line %d has %d", s, len(s), widthLine, width)
+				continue
+			case len(s) > MaxReadQubits:
+				bad(raw, "Pauli string has %d qubits, more than the limit of %d", len(s), MaxReadQubits)
+				continue
+			}
+			if width < 0 {
+				width, widthLine = len(s), lineNo
 			}
 			items = append(items, pending{line: lineNo, coeff: c, dense: s})
 			continue
 		}
-		items = append(items, pending{line: lineNo, coeff: c, sparse: strings.Join(rest, " ")})
+		sp := strings.Join(rest, " ")
+		if declared < 0 {
+			// The width may come from the highest index; bound it here.
+			if q := highestIndex(sp); q >= MaxReadQubits {
+				bad(raw, "qubit index %d exceeds the limit of %d qubits", q, MaxReadQubits)
+				continue
+			} else if q > highest {
+				highest = q
+			}
+		}
+		items = append(items, pending{line: lineNo, coeff: c, sparse: sp})
 	}
 	if err := sc.Err(); err != nil {
 		return nil, fmt.Errorf("hamiltonian: line %d: %w", lineNo+1, err)
@@ -131,26 +160,9 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 	if n < 0 {
 		n = width
 	}
-	if n >= 0 && width >= 0 && width != n {
-		// Report against the first dense line.
-		for _, it := range items {
-			if it.dense != "" {
-				lineNo = it.line
-				bad(it.dense, "Pauli string %q has %d qubits, but \"qubits %d\" was declared", it.dense, width, n)
-				break
-			}
-		}
-	}
 	if n < 0 {
 		// Only sparse strings and no declaration: the highest index decides.
-		n = 0
-		for _, it := range items {
-			for f := range strings.FieldsSeq(it.sparse) {
-				if q, err := strconv.Atoi(f[1:]); err == nil && q+1 > n {
-					n = q + 1
-				}
-			}
-		}
+		n = highest + 1
 	}
 	var offset float64
 	terms := make([]Term, 0, len(items))
@@ -158,9 +170,6 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 		lineNo = it.line
 		var p pauli.String
 		if it.dense != "" {
-			if len(it.dense) != n {
-				continue // reported above
-			}
 			p = pauli.MustParse(it.dense)
 		} else {
 			var err error
@@ -189,6 +198,26 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 		return nil, fmt.Errorf("%w: %w", ErrFormat, err)
 	}
 	return h, nil
+}
+
+// highestIndex returns the largest qubit index named in a sparse string, or
+// −1; an index too large for an int counts as MaxReadQubits. Malformed
+// pieces are left for pauli.ParseSparse to report.
+func highestIndex(s string) int {
+	hi := -1
+	for f := range strings.FieldsSeq(s) {
+		if len(f) < 2 {
+			continue
+		}
+		q, err := strconv.Atoi(f[1:])
+		if errors.Is(err, strconv.ErrRange) {
+			return MaxReadQubits
+		}
+		if err == nil && q > hi {
+			hi = q
+		}
+	}
+	return hi
 }
 
 // parseCoeff parses a real coefficient and explains a bad one.
