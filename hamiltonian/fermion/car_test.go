@@ -2,6 +2,8 @@ package fermion
 
 import (
 	"fmt"
+	"math/cmplx"
+	"math/rand/v2"
 	"testing"
 
 	"github.com/shotplan/shotplan/pauli"
@@ -91,6 +93,45 @@ func TestCAR(t *testing.T) {
 					}
 				}
 			})
+		}
+	}
+}
+
+// TestQubitOperatorMatchesProducts checks the mapping of whole operators
+// (grouping of products with their adjoints and reorderings, word-level
+// expansion, merging) against the product of the ladder images computed
+// term by term with pauli.Mul, for seeded random operators with complex
+// coefficients and products in any order, to 1e-12.
+func TestQubitOperatorMatchesProducts(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 5))
+	for trial := range 30 {
+		n := 1 + rng.IntN(6)
+		o := randomOperator(rng, n, 10)
+		// Add some adjoints and reordered copies so that grouping matters.
+		for i := range o.Len() / 2 {
+			term := o.Term(i)
+			adj := make([]Op, len(term.Ops))
+			for k, op := range term.Ops {
+				adj[len(adj)-1-k] = op.Adjoint()
+			}
+			o.Add(complex(rng.NormFloat64(), 0), adj...)
+		}
+		for _, enc := range []Encoding{JordanWigner, BravyiKitaev, Parity} {
+			want := sum{}
+			for _, term := range o.Terms() {
+				prod := sum{pauli.Identity(n).String(): term.Coeff}
+				for _, op := range term.Ops {
+					l := enc.Ladder(n, op)
+					prod = prod.mul(sumOf(l[:]))
+				}
+				want = want.plus(prod)
+			}
+			got := sumOf(o.QubitOperator(enc))
+			for p, c := range got.plus(scaled(want, -1)) {
+				if cmplx.Abs(c) > 1e-12 {
+					t.Fatalf("trial %d %s: QubitOperator(%v) differs from the product of ladder images by %v on %s", trial, enc, o, c, p)
+				}
+			}
 		}
 	}
 }

@@ -39,12 +39,20 @@
 //
 // [Operator.QubitOperator] returns the image with complex coefficients;
 // [Operator.QubitHamiltonian] returns a [hamiltonian.Hamiltonian] and fails,
-// naming the Pauli term, when an imaginary part exceeds [ImagTolerance]. A
-// product of k ladder operators expands into 2^k Pauli products computed on
-// the symplectic words directly, accumulated in a map keyed by the words; no
-// per-product allocation. A merged coefficient smaller than 2.8e-14 times the
-// sum of the magnitudes of its contributions is rounding residue of an
-// exact cancellation and is dropped.
+// naming the Pauli term, when an imaginary part exceeds [ImagTolerance].
+//
+// Products are first grouped: a product whose creators stand left of its
+// annihilators is sorted with the sign of the permutation, and a product
+// and its adjoint share one entry, because the image of R† has the same
+// Pauli strings as that of R with conjugate coefficients. Each distinct
+// product of k ladder operators is then expanded once into its 2^k Pauli
+// products, computed on the symplectic words directly and accumulated in a
+// map keyed by the words, with no allocation per product; contributions that
+// are exactly zero (half of them for a Hermitian operator with real
+// coefficients) are skipped. A merged coefficient smaller than 2.8e-14 times
+// the sum of the magnitudes of its contributions is rounding residue of an
+// exact cancellation and is dropped. Output terms keep the order in which
+// their strings first appear, which is deterministic.
 //
 // # Spin orbitals
 //
