@@ -34,7 +34,15 @@
 // A bad file returns errors naming each bad line and the reason — missing
 // header item, index beyond NORB, non-numeric value, wrong field count — as
 // [*LineError]s wrapping [ErrFormat]; the reader never panics. NORB is capped
-// at [MaxOrbitals].
+// at [MaxOrbitals]. [WriteFCIDUMP] writes the same format back, each distinct
+// integral once, exactly (shortest round-trip decimals), so an active space
+// can be saved and reused.
+//
+// # Building integrals
+//
+// [New] returns zero integrals; [Integrals.SetOne] and [Integrals.SetTwo]
+// fill them, keeping the symmetries of real orbitals. [Integrals.HartreeFock]
+// is the closed-shell determinant energy, a quick check of a file.
 //
 // # Active spaces
 //
