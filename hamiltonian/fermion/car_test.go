@@ -135,3 +135,59 @@ func TestQubitOperatorMatchesProducts(t *testing.T) {
 		}
 	}
 }
+
+// TestWideOperators repeats the CAR and whole-operator checks on 70 modes,
+// where strings span two 64-bit words, for modes on both sides of the word
+// boundary. Sources as in TestCAR and TestQubitOperatorMatchesProducts.
+func TestWideOperators(t *testing.T) {
+	const n = 70
+	modes := []int{0, 1, 62, 63, 64, 65, 69}
+	rng := rand.New(rand.NewPCG(5, 9))
+	for _, enc := range []Encoding{JordanWigner, BravyiKitaev, Parity} {
+		for _, i := range modes {
+			for _, j := range modes {
+				a, c := enc.Ladder(n, Annihilate(i)), enc.Ladder(n, Create(j))
+				as, cs := sumOf(a[:]), sumOf(c[:])
+				want := complex(0, 0)
+				if i == j {
+					want = 1
+				}
+				if got := as.mul(cs).plus(cs.mul(as)); !got.equalsIdentity(n, want) {
+					t.Errorf("%s n=%d: {a%d, a%d†} = %v, want %v·I", enc, n, i, j, got, want)
+				}
+			}
+		}
+		o := NewOperator(n)
+		for range 20 {
+			ops := make([]Op, 1+rng.IntN(4))
+			for k := range ops {
+				ops[k] = Op{Mode: modes[rng.IntN(len(modes))], Dagger: rng.IntN(2) == 1}
+			}
+			o.Add(complex(rng.NormFloat64(), rng.NormFloat64()), ops...)
+		}
+		want := sum{}
+		for _, term := range o.Terms() {
+			prod := sum{pauli.Identity(n).String(): term.Coeff}
+			for _, op := range term.Ops {
+				l := enc.Ladder(n, op)
+				prod = prod.mul(sumOf(l[:]))
+			}
+			want = want.plus(prod)
+		}
+		for p, c := range sumOf(o.QubitOperator(enc)).plus(scaled(want, -1)) {
+			if cmplx.Abs(c) > 1e-12 {
+				t.Fatalf("%s n=%d: QubitOperator differs from the ladder products by %v on %s", enc, n, c, p)
+			}
+		}
+	}
+}
+
+// TestNoModes maps a constant on zero modes.
+func TestNoModes(t *testing.T) {
+	o := NewOperator(0)
+	o.Add(2.5)
+	h, err := o.QubitHamiltonian(BravyiKitaev)
+	if err != nil || h.Qubits() != 0 || h.Offset() != 2.5 || h.Len() != 0 {
+		t.Errorf("QubitHamiltonian(2.5 on 0 modes) = %v, %v; want offset 2.5 on 0 qubits", h, err)
+	}
+}

@@ -270,3 +270,46 @@ func TestParseEncoding(t *testing.T) {
 		}
 	}
 }
+
+// recursiveBK returns the Bravyi–Kitaev matrix β_n, n a power of two, by the
+// recursion of Seeley, Richard & Love, arXiv:1208.5986, eq. 23:
+// β_1 = [1], β_2m = [[β_m, 0], [A_m, β_m]], A_m zero but for an all-ones
+// last row.
+func recursiveBK(n int) [][]bool {
+	out := make([][]bool, n)
+	for k := range out {
+		out[k] = make([]bool, n)
+	}
+	if n == 1 {
+		out[0][0] = true
+		return out
+	}
+	m := n / 2
+	b := recursiveBK(m)
+	for k := range m {
+		for l := range m {
+			out[k][l], out[m+k][m+l] = b[k][l], b[k][l]
+		}
+		out[n-1][k] = true
+	}
+	return out
+}
+
+// TestBravyiKitaevColumns checks, for every n up to 130 (so across word
+// boundaries and at sizes that are not powers of two), that the qubits the
+// BK image of a_j† flips (X or Y: U(j) ∪ {j}) are column j of the leading
+// n×n block of the recursive β (same source as recursiveBK).
+func TestBravyiKitaevColumns(t *testing.T) {
+	beta := recursiveBK(256)
+	for n := 1; n <= 130; n++ {
+		for j := range n {
+			l := BravyiKitaev.Ladder(n, Create(j))
+			for k := range n {
+				flips := l[0].Pauli.At(k) == pauli.X || l[0].Pauli.At(k) == pauli.Y
+				if flips != beta[k][j] {
+					t.Fatalf("n=%d: BK a%d† flips qubit %d = %v, want β[%d][%d] = %v", n, j, k, flips, k, j, beta[k][j])
+				}
+			}
+		}
+	}
+}
