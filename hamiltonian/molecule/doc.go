@@ -27,7 +27,8 @@
 //   - Then one "value i j k l" per line, orbitals numbered from 1, values in
 //     E or Fortran D notation: i j k l > 0 is the two-electron integral
 //     (ij|kl), assigned to its 8 symmetric slots (a value listed again under
-//     a symmetric order replaces, never adds); "i j 0 0" is h_ij = h_ji;
+//     a symmetric order is not added; it must agree with the first listing
+//     to 1e-10 relative, or the line is an error); "i j 0 0" is h_ij = h_ji;
 //     "0 0 0 0" is the constant; "i 0 0 0" is an orbital energy, accepted
 //     and ignored.
 //

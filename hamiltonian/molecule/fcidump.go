@@ -104,6 +104,21 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 
 	// The body: "value i j k l" lines.
 	n := hdr.norb
+	// The line that set each packed value, 0 if none: a value listed again
+	// (under a symmetric index order) must agree with the first.
+	twoLine := make([]int32, len(g.two))
+	oneLine := make([]int32, len(g.one))
+	coreLine := int32(0)
+	// assign stores v, or reports the integral named by kind and the
+	// line's indices when an earlier listing disagrees.
+	assign := func(dst *float64, setBy *int32, v float64, kind int, f []string) {
+		if *setBy != 0 && !agree(*dst, v) {
+			what := [...]string{"the constant", "h(" + f[1] + " " + f[2] + ")", "(" + f[1] + " " + f[2] + "|" + f[3] + " " + f[4] + ")"}[kind]
+			bad(lineNo, ErrFormat, "%s = %v conflicts with %v on line %d (the same integral by symmetry)", what, v, *dst, *setBy)
+			return
+		}
+		*dst, *setBy = v, int32(min(lineNo, math.MaxInt32))
+	}
 	for sc.Scan() {
 		lineNo++
 		f := strings.FieldsFunc(sc.Text(), func(r rune) bool { return r == ' ' || r == '\t' || r == ',' || r == '\r' })
@@ -145,13 +160,15 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 		i, j, k, l := idx[0], idx[1], idx[2], idx[3]
 		switch {
 		case i >= 0 && j >= 0 && k >= 0 && l >= 0:
-			g.SetTwo(i, j, k, l, v)
+			x := pair(pair(i, j), pair(k, l))
+			assign(&g.two[x], &twoLine[x], v, 2, f)
 		case i >= 0 && j >= 0 && k < 0 && l < 0:
-			g.SetOne(i, j, v)
+			x := pair(i, j)
+			assign(&g.one[x], &oneLine[x], v, 1, f)
 		case i >= 0 && j < 0 && k < 0 && l < 0:
 			// An orbital energy: accepted and ignored.
 		case i < 0 && j < 0 && k < 0 && l < 0:
-			g.SetCore(v)
+			assign(&g.core, &coreLine, v, 0, f)
 		default:
 			bad(lineNo, ErrFormat, "index pattern %s %s %s %s is none of i j k l, i j 0 0, i 0 0 0, 0 0 0 0", f[1], f[2], f[3], f[4])
 		}
@@ -164,6 +181,10 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 	}
 	return g, nil
 }
+
+// agree reports whether two listings of one integral are the same number up
+// to the rounding of the writer: |a − b| ≤ 1e-10·max(1, |a|).
+func agree(a, b float64) bool { return math.Abs(a-b) <= 1e-10*max(1, math.Abs(a)) }
 
 // ReadFCIDUMPFile reads an FCIDUMP file; errors name the file.
 func ReadFCIDUMPFile(path string) (*Integrals, error) {

@@ -52,7 +52,8 @@ func TestHeaderForms(t *testing.T) {
 
 // TestEightfoldSymmetry checks that one listed two-electron value fills its 8
 // symmetric slots, and that a value listed again under a symmetric order
-// replaces, never adds (Knowles & Handy 1989; shared data README).
+// is not added (Knowles & Handy 1989; shared data README). Repeats that
+// disagree beyond rounding are an error (TestBadFiles).
 func TestEightfoldSymmetry(t *testing.T) {
 	text := "&FCI NORB=3,NELEC=2 &END\n 0.25 3 1 2 1\n 0.25 1 2 1 3\n 0.5 2 1 0 0\n"
 	g, err := ReadFCIDUMP(strings.NewReader(text))
@@ -104,6 +105,9 @@ func TestBadFiles(t *testing.T) {
 		{"NaN value", head + " NaN 1 1 0 0\n", "line 4", "not finite", ErrFormat},
 		{"index not integer", head + " 0.5 1 x 0 0\n", "line 4", `index "x" is not an integer`, ErrFormat},
 		{"too few fields", head + " 0.5 1 1 0\n", "line 4", "have 4 fields", ErrFormat},
+		{"conflicting repeat", head + " 0.25 2 1 1 1\n 0.5 1 1 1 2\n", "line 5", "(1 1|1 2) = 0.5 conflicts with 0.25 on line 4", ErrFormat},
+		{"conflicting one-electron", head + " 0.25 2 1 0 0\n 0.5 1 2 0 0\n", "line 5", "h(1 2) = 0.5 conflicts", ErrFormat},
+		{"conflicting constant", head + " 1 0 0 0 0\n 2 0 0 0 0\n", "line 5", "the constant = 2 conflicts", ErrFormat},
 		{"bad index pattern", head + " 0.5 0 1 0 0\n", "line 4", "index pattern", ErrFormat},
 	}
 	for _, tc := range tests {
