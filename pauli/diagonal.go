@@ -40,6 +40,7 @@ type Diagonalization struct {
 	images  *Table // Z-strings: x words zero
 	neg     []bool
 	gens    []int
+	pre     []uint64 // U† Z_q U for every q: x words then z words, q after q
 }
 
 // Diagonalize returns a Clifford circuit of H, S†, CNOT and CZ gates that maps
@@ -78,6 +79,7 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 	s := newSynth(n, family, gens)
 	s.reduce()
 
+	w := Words(n)
 	d := &Diagonalization{
 		n:       n,
 		circuit: s.c,
@@ -85,6 +87,17 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 		members: TableOf(n, family...),
 		images:  NewTable(n, len(family)),
 		gens:    gens,
+	}
+	zs := make([]String, n)
+	for q := range zs {
+		zs[q] = Identity(n)
+		zs[q].z[q>>6] |= 1 << (q & 63)
+	}
+	pre := conjugateColumns(s.c.Inverse(), zs)
+	d.pre = make([]uint64, 2*w*n)
+	for q := range n {
+		o := 2 * w * q
+		pre.get(q, d.pre[o:o+w], d.pre[o+w:o+2*w])
 	}
 	cols := conjugateColumns(s.c, family)
 	img := Identity(n)
@@ -444,21 +457,64 @@ func (d *Diagonalization) Diagonal(p String) (z String, sign int, ok bool) {
 }
 
 // Diagonalizes reports whether U maps p to ±(a Z-string). It skips the sign
-// and allocates only a scratch vector. It panics if p has a different width.
+// and does not allocate. It panics if p has a different width.
 func (d *Diagonalization) Diagonalizes(p String) bool {
 	mustSameWidth(d.n, p.n)
-	var buf [4]uint64
-	var ox []uint64
-	if w := Words(d.n); w <= len(buf) {
-		ox = buf[:w]
-	} else {
-		ox = make([]uint64, w)
+	return d.diagonalWords(p.x, p.z)
+}
+
+// diagonalWords reports whether the string (x, z) commutes with every
+// preimage U† Z_q U: bit q of the X part of U P U† is the symplectic form of
+// U P U† with Z_q, which conjugation by U† preserves.
+func (d *Diagonalization) diagonalWords(x, z []uint64) bool {
+	w := len(x)
+	if w == 1 {
+		x0, z0, pre := x[0], z[0], d.pre
+		for o := 0; o+1 < len(pre); o += 2 {
+			if bits.OnesCount64(x0&pre[o+1]^z0&pre[o])&1 != 0 {
+				return false
+			}
+		}
+		return true
 	}
-	d.tab.xImage(ox, p.x, p.z)
-	for _, v := range ox {
-		if v != 0 {
+	for o := 0; o < len(d.pre); o += 2 * w {
+		sx, sz := d.pre[o:o+w:o+w], d.pre[o+w:o+2*w:o+2*w]
+		c := 0
+		for i := range x {
+			c += bits.OnesCount64(x[i]&sz[i] ^ z[i]&sx[i])
+		}
+		if c&1 != 0 {
 			return false
 		}
 	}
 	return true
+}
+
+// Covered appends to dst the indices of the rows of t that U maps to
+// ±(a Z-string), in increasing order, and returns the extended slice: the
+// rows one shot of this circuit measures, as [Table.Covered] gives them for
+// a local setting. It allocates only when dst lacks capacity. It panics if t
+// has a different width.
+func (d *Diagonalization) Covered(dst []int, t *Table) []int {
+	mustSameWidth(d.n, t.Qubits())
+	for r := range t.Len() {
+		if x, z := t.Words(r); d.diagonalWords(x, z) {
+			dst = append(dst, r)
+		}
+	}
+	return dst
+}
+
+// CoverMask sets dst[r] to whether U maps row r of t to ±(a Z-string). It
+// panics if len(dst) is not t.Len() or t has a different width. It never
+// allocates.
+func (d *Diagonalization) CoverMask(dst []bool, t *Table) {
+	mustSameWidth(d.n, t.Qubits())
+	if len(dst) != t.Len() {
+		panic("pauli: CoverMask: destination length differs from table length")
+	}
+	for r := range dst {
+		x, z := t.Words(r)
+		dst[r] = d.diagonalWords(x, z)
+	}
 }

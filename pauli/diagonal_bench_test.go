@@ -90,3 +90,26 @@ func BenchmarkDiagonalizationSample(b *testing.B) {
 		_ = s
 	})
 }
+
+// BenchmarkDiagonalizationCovered finds, among terms random strings, those
+// one entangled setting measures.
+func BenchmarkDiagonalizationCovered(b *testing.B) {
+	for _, sz := range []struct{ n, terms int }{{20, 10000}, {50, 100000}} {
+		rng := rand.New(rand.NewPCG(3, uint64(sz.n)))
+		d, err := Diagonalize(randomCommutingFamily(rng, sz.n, sz.n/2, 100, true))
+		if err != nil {
+			b.Fatal(err)
+		}
+		tab := NewTable(sz.n, sz.terms)
+		for range sz.terms {
+			tab.Append(randomString(rng, sz.n))
+		}
+		dst := make([]int, 0, sz.terms)
+		b.Run(fmt.Sprintf("qubits=%d/terms=%d", sz.n, sz.terms), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				dst = d.Covered(dst[:0], tab)
+			}
+		})
+	}
+}

@@ -422,3 +422,66 @@ func TestDiagonalizeZeroQubitsAndInputUnchanged(t *testing.T) {
 		}
 	}
 }
+
+// Covered and CoverMask against the letter-level reference: row r is covered
+// exactly when refConjugate maps it to ±(a Z-string).
+func TestDiagonalizationCovered(t *testing.T) {
+	rng := rand.New(rand.NewPCG(19, 20))
+	for _, n := range []int{1, 4, 9, 64, 70} {
+		for range 5 {
+			fam := randomCommutingFamily(rng, n, 1+rng.IntN(n), 10, true)
+			d, err := Diagonalize(fam)
+			if err != nil {
+				t.Fatal(err)
+			}
+			tab := NewTable(n, 0)
+			for range 60 {
+				switch rng.IntN(3) {
+				case 0: // a product of members: always covered
+					p := Identity(n)
+					for _, m := range fam {
+						if rng.IntN(2) == 1 {
+							p, _ = Mul(p, m)
+						}
+					}
+					tab.Append(p)
+				case 1: // a member with one letter changed: usually not
+					p := fam[rng.IntN(len(fam))]
+					tab.Append(p.With(rng.IntN(n), Letter(rng.IntN(4))))
+				default:
+					tab.Append(randomString(rng, n))
+				}
+			}
+			var want []int
+			for r := range tab.Len() {
+				img, _ := refConjugate(d.Circuit(), tab.At(r))
+				if isZString(img) {
+					want = append(want, r)
+				}
+			}
+			got := d.Covered(nil, tab)
+			if !equalInts(got, want) {
+				t.Fatalf("Covered = %v, want %v (circuit %v)", got, want, d.Circuit())
+			}
+			mask := make([]bool, tab.Len())
+			d.CoverMask(mask, tab)
+			k := 0
+			for r, m := range mask {
+				inWant := k < len(want) && want[k] == r
+				if inWant {
+					k++
+				}
+				if m != inWant {
+					t.Fatalf("CoverMask[%d] = %v, want %v", r, m, inWant)
+				}
+				if d.Diagonalizes(tab.At(r)) != inWant {
+					t.Fatalf("Diagonalizes(row %d) = %v, want %v", r, !inWant, inWant)
+				}
+			}
+			dst := make([]int, 0, tab.Len())
+			if a := testing.AllocsPerRun(20, func() { d.Covered(dst, tab) }); a != 0 {
+				t.Errorf("Covered with room in dst allocates %v times, want 0", a)
+			}
+		}
+	}
+}

@@ -214,29 +214,3 @@ func (t *Tableau) mulRow(ox, oz []uint64, k int) int {
 	}
 	return pos - neg + 2*int(t.neg[k>>6]>>(k&63)&1)
 }
-
-// xImage writes the x words of the image of (px, pz) into ox, which must be
-// zero on entry: the XOR of the x words of the selected rows. It skips the
-// phase and does not allocate.
-func (t *Tableau) xImage(ox, px, pz []uint64) {
-	for i := range px {
-		m := px[i] | pz[i]
-		for m != 0 {
-			b := bits.TrailingZeros64(m)
-			m &= m - 1
-			q := i<<6 + b
-			if px[i]>>b&1 == 1 {
-				o := t.row(q)
-				for j := range ox {
-					ox[j] ^= t.data[o+j]
-				}
-			}
-			if pz[i]>>b&1 == 1 {
-				o := t.row(t.n + q)
-				for j := range ox {
-					ox[j] ^= t.data[o+j]
-				}
-			}
-		}
-	}
-}
