@@ -149,12 +149,14 @@ func independent(family []String) ([]int, error) {
 		if pv < 0 {
 			continue
 		}
-		for _, i := range gens {
-			if !family[i].Commutes(p) {
-				for i := range j {
-					if !family[i].Commutes(p) {
-						return nil, &NonCommutingError{I: i, J: j, P: family[i], Q: p}
-					}
+		for _, g := range gens {
+			if family[g].Commutes(p) {
+				continue
+			}
+			// Name the first earlier member that fails, not the generator.
+			for i := range j {
+				if !family[i].Commutes(p) {
+					return nil, &NonCommutingError{I: i, J: j, P: family[i], Q: p}
 				}
 			}
 		}

@@ -51,9 +51,9 @@ func checkDiagonalization(t *testing.T, fam []String, d *Diagonalization) {
 // explicit matrix conjugation U P U† with gonum dense matrices.
 func TestDiagonalizeMatrix(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
-	reps := 60
+	reps := 200
 	if testing.Short() {
-		reps = 10
+		reps = 20
 	}
 	for rep := range reps {
 		n := 1 + rng.IntN(6)
