@@ -114,20 +114,42 @@ func (op *operator) applyRange(out, src []complex128, lo int) {
 			out[i] = complex(op.diagAt(uint64(lo+i)), 0) * src[lo+i]
 		}
 	}
+	mask := uint64(len(src) - 1) // len(src) is a power of two
 	for gi := range op.groups {
 		g := &op.groups[gi]
 		x := g.x
-		for i := range out {
-			a := uint64(lo + i)
-			var fr, fi float64
-			for t, z := range g.zr {
-				fr += flip(g.cr[t], z&a)
+		switch {
+		case len(g.zr) == 1 && len(g.zi) == 0:
+			// One term with a real factor, the common case.
+			z, c := g.zr[0], g.cr[0]
+			for i := range out {
+				a := uint64(lo + i)
+				v := flip(c, z&a)
+				s := src[(a^x)&mask]
+				out[i] += complex(v*real(s), v*imag(s))
 			}
-			for t, z := range g.zi {
-				fi += flip(g.ci[t], z&a)
+		case len(g.zr) == 0 && len(g.zi) == 1:
+			// One term with an imaginary factor i·c.
+			z, c := g.zi[0], g.ci[0]
+			for i := range out {
+				a := uint64(lo + i)
+				v := flip(c, z&a)
+				s := src[(a^x)&mask]
+				out[i] += complex(-v*imag(s), v*real(s))
 			}
-			s := src[a^x]
-			out[i] += complex(fr*real(s)-fi*imag(s), fr*imag(s)+fi*real(s))
+		default:
+			for i := range out {
+				a := uint64(lo + i)
+				var fr, fi float64
+				for t, z := range g.zr {
+					fr += flip(g.cr[t], z&a)
+				}
+				for t, z := range g.zi {
+					fi += flip(g.ci[t], z&a)
+				}
+				s := src[(a^x)&mask]
+				out[i] += complex(fr*real(s)-fi*imag(s), fr*imag(s)+fi*real(s))
+			}
 		}
 	}
 }

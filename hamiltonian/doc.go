@@ -41,5 +41,40 @@
 //	{"qubits": 2, "offset": -0.5,
 //	 "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X0", "coeff": -0.7}]}
 //
-// A term's "pauli" is dense or sparse, as in the text format.
+// A term's "pauli" is dense or sparse, as in the text format. A coefficient
+// must be a JSON number; an array, object or string (such as "1+2i") is
+// rejected with an error naming the term. Reading either form rejects qubit
+// counts and indices of [MaxReadQubits] or more.
+//
+// # Models
+//
+// A [Lattice] lists sites (site q is qubit q) and weighted bonds; [Chain]
+// and [Rectangle] build open or periodic ones, and a bond's Weight scales the
+// coupling on that bond. The builders write every sign out:
+//
+//	TransverseFieldIsing(l, J, h):  H = −J Σ_b w_b Z_i Z_j − h Σ_q X_q
+//	Ising(l, J, hx, hz):            H = −J Σ_b w_b Z_i Z_j − Σ_q hx_q X_q − Σ_q hz_q Z_q
+//	XXZ(l, Jxy, Jz, h):             H = Σ_b w_b [Jxy (X_i X_j + Y_i Y_j) + Jz Z_i Z_j] − h Σ_q Z_q
+//	XXZFields(l, Jxy, Jz, h):       the same with a field h_q per site
+//	Heisenberg(l, J):               H = J Σ_b w_b (X_i X_j + Y_i Y_j + Z_i Z_j) = 4J Σ_b w_b S_i·S_j
+//
+// [RandomLocal] draws a seeded random Hamiltonian for benchmarks.
+//
+// # Exact energies
+//
+// For up to [MaxExactQubits] qubits, [Hamiltonian.Apply] computes H·ψ
+// without a matrix (MATH.md §7: P|b⟩ = i^{|x∧z|}(−1)^{|z∧b|}|b⊕x⟩), with the
+// terms grouped by their X part so that each group is one pass over ψ.
+// [GroundState] finds the lowest eigenpair by restarted Lanczos with full
+// reorthogonalisation; [Hamiltonian.Energy] and [Expectation] give ⟨ψ|H|ψ⟩
+// and ⟨ψ|P|ψ⟩. [Hamiltonian.Matrix] builds the dense matrix for up to
+// [MaxMatrixQubits] qubits, for cross-checks with gonum's eigensolvers.
+// Apply, Energy and GroundState use up to GOMAXPROCS goroutines for long
+// vectors; nothing else in the package starts goroutines.
+//
+// # Panics
+//
+// Apply, Energy and Expectation panic when a state vector does not have 2^n
+// amplitudes or n exceeds [MaxExactQubits] (a programmer error); everything
+// that reads input returns an error instead.
 package hamiltonian
