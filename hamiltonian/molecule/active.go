@@ -21,8 +21,9 @@ import (
 // an equal copy.
 //
 // It returns an error if frozen is negative, active is not positive,
-// frozen+active exceeds the orbital count, or the frozen orbitals need more
-// electrons than there are.
+// frozen+active exceeds the orbital count, the frozen orbitals need more
+// electrons than there are, or the remaining electrons do not fit in the
+// active orbitals.
 func (g *Integrals) ActiveSpace(frozen, active int) (*Integrals, error) {
 	switch {
 	case frozen < 0:
@@ -33,6 +34,8 @@ func (g *Integrals) ActiveSpace(frozen, active int) (*Integrals, error) {
 		return nil, fmt.Errorf("molecule: active space: %d frozen + %d active orbitals exceed the %d orbitals", frozen, active, g.norb)
 	case 2*frozen > g.Electrons:
 		return nil, fmt.Errorf("molecule: active space: %d frozen orbitals need %d electrons, have %d", frozen, 2*frozen, g.Electrons)
+	case g.Electrons-2*frozen > 2*active:
+		return nil, fmt.Errorf("molecule: active space: %d electrons left after freezing do not fit in %d orbitals", g.Electrons-2*frozen, active)
 	}
 	a, err := New(active)
 	if err != nil {

@@ -78,6 +78,7 @@ func TestActiveSpaceErrors(t *testing.T) {
 		{0, 0, "want at least 1"},
 		{2, 5, "exceed the 6 orbitals"},
 		{3, 1, "need 6 electrons, have 4"},
+		{0, 1, "4 electrons left after freezing do not fit in 1 orbitals"},
 	}
 	for _, tc := range tests {
 		_, err := g.ActiveSpace(tc.frozen, tc.active)

@@ -11,12 +11,28 @@ import (
 //	H = E_core + Σ_{pq,σ} h_pq a†_{pσ} a_{qσ} + ½ Σ_{pqrs,στ} (pq|rs) a†_{pσ} a†_{rτ} a_{sτ} a_{qσ},
 //
 // one term per non-zero integral and spin choice, products that vanish by
-// Pauli exclusion (pσ = rτ or qσ = sτ) left out.
+// Pauli exclusion (pσ = rτ or qσ = sτ) left out. It panics if order is not
+// a defined [fermion.SpinOrder].
 func (g *Integrals) FermionOperator(order fermion.SpinOrder) *fermion.Operator {
 	n := g.norb
 	o := fermion.NewOperator(2 * n)
-	// Room for every product: 1 + 2n² + 4n⁴ is an upper bound.
-	o.Grow(1+2*n*n+4*n*n*n*n, 4*n*n+16*n*n*n*n)
+	// Room for every product: 2 per non-zero h_pq, 4 per non-zero (pq|rs).
+	ones, twos := 0, 0
+	for p := range n {
+		for q := range n {
+			if g.One(p, q) != 0 {
+				ones++
+			}
+			for r := range n {
+				for s := range n {
+					if g.Two(p, q, r, s) != 0 {
+						twos++
+					}
+				}
+			}
+		}
+	}
+	o.Grow(1+2*ones+4*twos, 4*ones+16*twos)
 	if g.core != 0 {
 		o.Add(complex(g.core, 0))
 	}
