@@ -32,9 +32,13 @@ import (
 //
 // # Cost
 //
-// O(Σ_l k_l + M) per setting, k_l being the weight of term l: every qubit
-// reads the terms whose support contains it, and every term is updated once
-// at the end of the setting. Memory is O(Σ_l k_l).
+// O(M) per setting on average, with small constants: qubits are fixed in
+// increasing order, so a term still consistent with the letters fixed so
+// far waits in the list of its next support qubit, and a term is read only
+// at the support qubits it reaches (its first one, then the next with
+// probability about 1/3, and so on) instead of at all k_l of them. Terms are
+// stored sorted by their first support qubit so that the first reads are
+// sequential. Memory is O(Σ_l k_l).
 //
 // Weights are kept relative to the largest; a term whose weight falls below
 // about 1e−300 of the largest counts as zero. Derandomized is deterministic
@@ -45,17 +49,23 @@ type Derandomized struct {
 	Epsilon float64
 
 	n, budget int
-	t         int       // settings chosen so far
-	b         []float64 // |h_l| exp(−ν hits_l), rescaled
-	k         []int32   // weight of term l
-	u         []int32   // free support qubits of l in this setting, −1 if contradicted
-	hits      []int32
-	start     []int32   // qubit q's entries: list[start[q]:start[q+1]]
-	list      []int32   // term<<2 | letter
-	logg      []float64 // logg[k] = log(1 − (1 − e^−ν)·3^−k)
-	f         []float64 // future factor by weight, this setting, relative
-	a, decay  float64   // 1 − e^−ν, e^−ν
-	inv3      []float64 // 3^−u
+	t         int // settings chosen so far
+	// Terms in storage order (sorted by first support qubit); term s is
+	// term index[s] of the Hamiltonian.
+	index []int32
+	b     []float64 // |h_l| exp(−ν hits_l), rescaled
+	k     []int32   // weight
+	hits  []int32
+	off   []int32   // term s's support entries: ent[off[s]:off[s+1]]
+	ent   []int32   // qubit<<2 | letter, by increasing qubit
+	first []int32   // terms with first support qubit q: first[q]..first[q+1]-1
+	wait  [][]waiting // wait[q]: live terms whose next support qubit is q
+	lead  []uint8     // letter of term s on its first support qubit
+	logg  []float64 // logg[k] = log(1 − (1 − e^−ν)·3^−k)
+	f     []float64 // future factor by weight, this setting, relative
+	inv3  []float64 // 3^−u
+	a     float64   // 1 − e^−ν
+	decay float64   // e^−ν
 }
 
 // String returns "derand".
@@ -74,40 +84,53 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	d.decay = math.Exp(-nu)
 	d.a = -math.Expm1(-nu)
 	d.n, d.budget, d.t = h.Qubits(), budget, 0
-	m := h.Len()
+	m, n := h.Len(), h.Qubits()
 	t := h.Table()
 	coef := h.Coeffs()
 	maxAbs := 0.0
 	for _, c := range coef {
 		maxAbs = max(maxAbs, math.Abs(c))
 	}
+	// Counting sort of the terms by first support qubit.
+	firstQ := make([]int32, m)
+	d.first = make([]int32, n+1)
+	for l := range m {
+		x, z := t.Words(l)
+		for q := range supportOf(x, z) {
+			firstQ[l] = int32(q)
+			break
+		}
+		d.first[firstQ[l]+1]++
+	}
+	for q := range n {
+		d.first[q+1] += d.first[q]
+	}
+	d.index = make([]int32, m)
+	next := append([]int32(nil), d.first[:n]...)
+	for l := range m {
+		d.index[next[firstQ[l]]] = int32(l)
+		next[firstQ[l]]++
+	}
 	d.b = make([]float64, m)
 	d.k = make([]int32, m)
-	d.u = make([]int32, m)
 	d.hits = make([]int32, m)
-	d.start = make([]int32, d.n+1)
+	d.off = make([]int32, m+1)
+	d.ent = d.ent[:0]
 	maxK := 0
-	for l := range m {
-		d.b[l] = math.Abs(coef[l]) / maxAbs
-		d.k[l] = int32(t.Weight(l))
-		d.u[l] = d.k[l]
-		maxK = max(maxK, int(d.k[l]))
-		x, z := t.Words(l)
+	for s, l := range d.index {
+		d.b[s] = math.Abs(coef[l]) / maxAbs
+		x, z := t.Words(int(l))
 		for q := range supportOf(x, z) {
-			d.start[q+1]++
+			d.ent = append(d.ent, int32(q)<<2|int32(letterAt(x, z, q)))
 		}
+		d.off[s+1] = int32(len(d.ent))
+		d.k[s] = d.off[s+1] - d.off[s]
+		maxK = max(maxK, int(d.k[s]))
 	}
-	for q := range d.n {
-		d.start[q+1] += d.start[q]
-	}
-	d.list = make([]int32, d.start[d.n])
-	fill := append([]int32(nil), d.start[:d.n]...)
-	for l := range m {
-		x, z := t.Words(l)
-		for q := range supportOf(x, z) {
-			d.list[fill[q]] = int32(l)<<2 | int32(letterAt(x, z, q))
-			fill[q]++
-		}
+	d.wait = make([][]waiting, n)
+	d.lead = make([]uint8, m)
+	for s := range d.lead {
+		d.lead[s] = uint8(d.ent[d.off[s]] & 3)
 	}
 	d.logg = make([]float64, maxK+1)
 	d.inv3 = make([]float64, maxK+1)
@@ -145,17 +168,24 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	for k := 1; k < len(d.f); k++ {
 		d.f[k] = math.Exp(rest*d.logg[k] - top)
 	}
+	for q := range d.wait {
+		d.wait[q] = d.wait[q][:0]
+	}
 	for q := range d.n {
-		entries := d.list[d.start[q]:d.start[q+1]]
 		// Choosing letter L lowers the cost by a·Σ base_l·3^−(u_l−1) over
-		// the live terms with letter L on q, and contradicts the others
-		// (their factor becomes 1); the common part is the same for every L.
+		// the live terms with letter L on q (u_l free support qubits, this
+		// one included) and contradicts the others, whose factor becomes
+		// 1; the common part is the same for every L, so the best letter
+		// has the largest gain.
 		var gain [4]float64
-		for _, e := range entries {
-			l := e >> 2
-			if u := d.u[l]; u > 0 {
-				gain[e&3] += d.b[l] * d.f[d.k[l]] * d.inv3[u-1]
-			}
+		lo, hi := d.first[q], d.first[q+1]
+		for s := lo; s < hi; s++ {
+			k := d.k[s]
+			gain[d.lead[s]] += d.b[s] * d.f[k] * d.inv3[k-1]
+		}
+		wait := d.wait[q]
+		for i := range wait {
+			gain[wait[i].letter] += wait[i].base * d.inv3[wait[i].u-1]
 		}
 		best := pauli.X
 		for _, c := range []pauli.Letter{pauli.Y, pauli.Z} {
@@ -164,39 +194,61 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 			}
 		}
 		dst[q] = best
-		for _, e := range entries {
-			l := e >> 2
-			if d.u[l] > 0 {
-				if pauli.Letter(e&3) == best {
-					d.u[l]--
-				} else {
-					d.u[l] = -1
-				}
+		for s := lo; s < hi; s++ {
+			if pauli.Letter(d.lead[s]) == best {
+				d.advance(waiting{base: d.b[s] * d.f[d.k[s]], e: d.off[s], s: s, u: d.k[s]})
+			}
+		}
+		for i := range wait {
+			if pauli.Letter(wait[i].letter) == best {
+				d.advance(wait[i])
 			}
 		}
 	}
-	// Terms whose every support qubit matched are covered.
-	top = 0
-	for l, u := range d.u {
-		if u == 0 {
-			d.hits[l]++
-			d.b[l] *= d.decay
-		}
-		d.u[l] = d.k[l]
-		top = max(top, d.b[l])
-	}
-	if top > 0 && top < 1e-200 {
-		for l := range d.b {
-			d.b[l] /= top
-		}
-	}
 	d.t++
+	if d.t%64 == 0 {
+		top := 0.0
+		for _, v := range d.b {
+			top = max(top, v)
+		}
+		if top > 0 && top < 1e-200 {
+			for s := range d.b {
+				d.b[s] /= top
+			}
+		}
+	}
 	return 1, nil
+}
+
+// waiting is a term still consistent with the letters fixed so far in the
+// setting being chosen.
+type waiting struct {
+	base   float64 // b·f[k], its weight in this setting
+	e      int32   // index in ent of its support entry on the qubit it waits for
+	s      int32   // the term
+	u      int32   // support qubits not yet fixed, that one included
+	letter uint8   // its letter there
+}
+
+// advance records that term w matched the letter of the qubit it waited
+// for: it is covered if that was its last support qubit, and waits for its
+// next one otherwise.
+func (d *Derandomized) advance(w waiting) {
+	if w.u == 1 {
+		d.hits[w.s]++
+		d.b[w.s] *= d.decay
+		return
+	}
+	w.e++
+	w.u--
+	next := d.ent[w.e]
+	w.letter = uint8(next & 3)
+	d.wait[next>>2] = append(d.wait[next>>2], w)
 }
 
 // Cover implements [Counter].
 func (d *Derandomized) Cover(dst []int) {
-	for l, c := range d.hits {
-		dst[l] = int(c)
+	for s, c := range d.hits {
+		dst[d.index[s]] = int(c)
 	}
 }

@@ -237,9 +237,23 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 		distinct = append(distinct, s)
 		total = append(total, shots[k])
 	}
-	var idx []int
+	if len(distinct) < 16 {
+		var idx []int
+		for j, s := range distinct {
+			idx = t.Covered(idx[:0], s)
+			for _, i := range idx {
+				cover[i] += total[j]
+			}
+		}
+		return
+	}
+	// Many settings: bucket the terms once so that each setting reads only
+	// the buckets it can cover.
+	ci := newCoverIndex(t.Qubits(), t.Len(), t.Words)
+	var idx []int32
 	for j, s := range distinct {
-		idx = t.Covered(idx[:0], s)
+		x, z := s.Words()
+		idx = ci.appendCovered(idx[:0], x, z)
 		for _, i := range idx {
 			cover[i] += total[j]
 		}

@@ -179,13 +179,18 @@ func (c *coverIndex) appendCovered(dst []int32, sx, sz []uint64) []int32 {
 	scan := func(b int32) {
 		lo, hi := c.start[b], c.start[b+1]
 		if w == 1 {
+			// Branch-free: write every candidate, advance past the covered.
 			x0, z0 := sx[0], sz[0]
-			for e := lo; e < hi; e++ {
-				x, z := c.words[2*e], c.words[2*e+1]
-				if ((x^x0)|(z^z0))&(x|z) == 0 {
-					dst = append(dst, c.ids[e])
-				}
+			k := len(dst)
+			dst = slices.Grow(dst, int(hi-lo))[:k+int(hi-lo)]
+			words, ids := c.words[2*lo:2*hi], c.ids[lo:hi]
+			for j, id := range ids {
+				x, z := words[2*j], words[2*j+1]
+				dst[k] = id
+				m := ((x ^ x0) | (z ^ z0)) & (x | z)
+				k += int(1 ^ (m|-m)>>63)
 			}
+			dst = dst[:k]
 			return
 		}
 	entries:
