@@ -56,16 +56,16 @@ type Derandomized struct {
 	b     []float64 // |h_l| exp(−ν hits_l), rescaled
 	k     []int32   // weight
 	hits  []int32
-	off   []int32   // term s's support entries: ent[off[s]:off[s+1]]
-	ent   []int32   // qubit<<2 | letter, by increasing qubit
-	first []int32   // terms with first support qubit q: first[q]..first[q+1]-1
+	off   []int32     // term s's support entries: ent[off[s]:off[s+1]]
+	ent   []int32     // qubit<<2 | letter, by increasing qubit
+	first []int32     // terms with first support qubit q: first[q]..first[q+1]-1
 	wait  [][]waiting // wait[q]: live terms whose next support qubit is q
 	lead  []uint8     // letter of term s on its first support qubit
-	logg  []float64 // logg[k] = log(1 − (1 − e^−ν)·3^−k)
-	f     []float64 // future factor by weight, this setting, relative
-	inv3  []float64 // 3^−u
-	a     float64   // 1 − e^−ν
-	decay float64   // e^−ν
+	logg  []float64   // logg[k] = log(1 − (1 − e^−ν)·3^−k)
+	f     []float64   // future factor by weight, this setting, relative
+	inv3  []float64   // 3^−u
+	a     float64     // 1 − e^−ν
+	decay float64     // e^−ν
 }
 
 // String returns "derand".
