@@ -48,3 +48,34 @@ func ExampleCircuit_Conjugate() {
 	// IZ -> +1·ZZ
 	// YY -> +1·XZ
 }
+
+// Which terms of a table one entangled setting measures: after the circuit
+// that diagonalises XX and ZZ, every product of them is read too (YY), while
+// strings that fail to commute with the family are not.
+func ExampleDiagonalization_Covered() {
+	d, err := pauli.Diagonalize([]pauli.String{pauli.MustParse("XXI"), pauli.MustParse("ZZI")})
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	terms := pauli.TableOf(3, pauli.MustParse("YYI"), pauli.MustParse("XII"), pauli.MustParse("ZZZ"), pauli.MustParse("IIX"))
+	for _, r := range d.Covered(nil, terms) {
+		z, s, _ := d.Diagonal(terms.At(r))
+		fmt.Printf("%v -> %+d·%v\n", terms.At(r), s, z)
+	}
+	// Output:
+	// YYI -> -1·ZZI
+	// ZZZ -> +1·IZZ
+}
+
+func ExampleTableau() {
+	t := pauli.NewCircuit(2).H(0).CNOT(0, 1).Tableau()
+	for q := range 2 {
+		x, sx := t.ImageX(q)
+		z, sz := t.ImageZ(q)
+		fmt.Printf("X%d -> %+d·%v, Z%d -> %+d·%v\n", q, sx, x, q, sz, z)
+	}
+	// Output:
+	// X0 -> +1·ZI, Z0 -> +1·XX
+	// X1 -> +1·IX, Z1 -> +1·ZZ
+}

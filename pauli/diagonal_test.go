@@ -396,6 +396,26 @@ func FuzzDiagonalize(f *testing.F) {
 			t.Fatalf("Diagonalize(%v) error %v for a commuting family", fam, err)
 		}
 		checkDiagonalization(t, fam, d)
+		// Arbitrary strings from raw: covered exactly when the reference maps
+		// them to ±(a Z-string).
+		tab := NewTable(n, 0)
+		for off := 0; off < len(raw); off += n {
+			ls := make([]Letter, n)
+			for q := range ls {
+				if off+q < len(raw) {
+					ls[q] = Letter(raw[off+q] % 4)
+				}
+			}
+			tab.Append(FromLetters(ls))
+		}
+		mask := make([]bool, tab.Len())
+		d.CoverMask(mask, tab)
+		for r := range tab.Len() {
+			img, s := refConjugate(d.Circuit(), tab.At(r))
+			if mask[r] != isZString(img) {
+				t.Fatalf("CoverMask row %s = %v, but the circuit maps it to %s", tab.At(r), mask[r], signed(s, img))
+			}
+		}
 	})
 }
 
