@@ -26,6 +26,15 @@
 // ([String.Words]) return the internal slices; callers must not modify them.
 // A [Table] is a mutable column store used through a pointer.
 //
+// # Allocation
+//
+// The batch queries of [Table] are the hot loops of allocation and
+// estimation and never allocate: [Table.Covered] appends to the caller's
+// slice (allocating only when it lacks capacity), [Table.CoverMask] and
+// [Table.Samples] write into the caller's buffers. Tests pin this with
+// testing.AllocsPerRun. Methods that return a new [String] ([Mul],
+// [String.With], [String.Clone], [Table.At]) allocate its words.
+//
 // # Panics
 //
 // Combining strings of different widths (for example [Mul] of a 3-qubit and
