@@ -49,7 +49,7 @@
 // products, computed on the symplectic words directly and accumulated in a
 // map keyed by the words, with no allocation per product; contributions that
 // are exactly zero (half of them for a Hermitian operator with real
-// coefficients) are skipped. A merged coefficient smaller than 2.8e-14 times
+// coefficients) are skipped. A merged coefficient smaller than 1.4e-14 times
 // the sum of the magnitudes of its contributions is rounding residue of an
 // exact cancellation and is dropped. Output terms keep the order in which
 // their strings first appear, which is deterministic.

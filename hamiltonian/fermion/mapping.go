@@ -14,7 +14,10 @@ import (
 
 // ImagTolerance is the largest |imaginary part| of a mapped coefficient that
 // [Operator.QubitHamiltonian] accepts and discards; a larger one means the
-// operator is not Hermitian and is reported as an error.
+// operator is not Hermitian and is reported as an error. For coefficients
+// built from contributions whose magnitudes sum to more than about 70 the
+// bound grows to the rounding bound 1.4e-14 times that sum, so that
+// rounding alone never fails a Hermitian operator.
 const ImagTolerance = 1e-12
 
 // roundoff is the relative size, against the sum of the magnitudes of its
@@ -28,7 +31,7 @@ func abs(c complex128) float64 { return cmplx.Abs(c) }
 // coefficients, repeated strings merged, in the order each string first
 // appears while the terms are expanded. The identity, if present, is a term
 // like any other. A merged coefficient is dropped when its magnitude is below
-// 2.8e-14 times the sum of the magnitudes of its contributions, that is when
+// 1.4e-14 times the sum of the magnitudes of its contributions, that is when
 // it is rounding residue of an exact cancellation.
 func (o *Operator) QubitOperator(e Encoding) []PauliTerm {
 	m := o.mapAll(e)
@@ -56,7 +59,7 @@ func (o *Operator) QubitHamiltonian(e Encoding) (*hamiltonian.Hamiltonian, error
 	nbad := 0
 	for i, c := range m.coef {
 		x, z := m.words(i)
-		if !(math.Abs(imag(c)) <= ImagTolerance) {
+		if !(math.Abs(imag(c)) <= max(ImagTolerance, roundoff*m.mag[i])) {
 			if nbad++; nbad <= 3 {
 				bad = append(bad, fmt.Sprintf("%s has coefficient %v", pauli.FromWords(m.n, x, z), c))
 			}
