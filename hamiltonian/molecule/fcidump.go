@@ -76,8 +76,8 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 		}
 		toks = tokenize(toks, text, lineNo)
 	}
-	if err := sc.Err(); err != nil {
-		return nil, fmt.Errorf("molecule: FCIDUMP line %d: %w", lineNo+1, err)
+	if err := scanError(sc.Err(), lineNo+1); err != nil {
+		return nil, err
 	}
 	if !started {
 		bad(max(lineNo, 1), ErrFormat, "empty file: missing the &FCI header")
@@ -173,8 +173,8 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 			bad(lineNo, ErrFormat, "index pattern %s %s %s %s is none of i j k l, i j 0 0, i 0 0 0, 0 0 0 0", f[1], f[2], f[3], f[4])
 		}
 	}
-	if err := sc.Err(); err != nil {
-		return nil, fmt.Errorf("molecule: FCIDUMP line %d: %w", lineNo+1, err)
+	if err := scanError(sc.Err(), lineNo+1); err != nil {
+		return nil, err
 	}
 	if len(errs) > 0 {
 		return nil, errors.Join(errs...)
@@ -185,6 +185,19 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 // agree reports whether two listings of one integral are the same number up
 // to the rounding of the writer: |a − b| ≤ 1e-10·max(1, |a|).
 func agree(a, b float64) bool { return math.Abs(a-b) <= 1e-10*max(1, math.Abs(a)) }
+
+// scanError turns a scanner failure into an error naming the line: a line
+// too long for the buffer is a format error, anything else is the reader's
+// own error.
+func scanError(err error, line int) error {
+	switch {
+	case err == nil:
+		return nil
+	case errors.Is(err, bufio.ErrTooLong):
+		return &LineError{Line: line, Reason: "line longer than 16 MiB", Err: ErrFormat}
+	}
+	return fmt.Errorf("molecule: FCIDUMP line %d: %w", line, err)
+}
 
 // ReadFCIDUMPFile reads an FCIDUMP file; errors name the file.
 func ReadFCIDUMPFile(path string) (*Integrals, error) {

@@ -215,3 +215,13 @@ func TestWriteRoundTrip(t *testing.T) {
 		}
 	}
 }
+
+// TestLongLine checks that a line too long for the reader's buffer is a
+// format error naming the line.
+func TestLongLine(t *testing.T) {
+	text := "&FCI NORB=1,NELEC=2 &END\n 0.5 1 1 1 1\n" + strings.Repeat(" ", 17<<20) + "\n"
+	_, err := ReadFCIDUMP(strings.NewReader(text))
+	if !errors.Is(err, ErrFormat) || !strings.Contains(err.Error(), "line 3:") {
+		t.Errorf("ReadFCIDUMP(17 MiB line) error = %v, want a format error on line 3", err)
+	}
+}
