@@ -60,6 +60,14 @@
 // mode 2p+σ: 0↑ 0↓ 1↑ 1↓ …) or [SpinBlocks] (all ↑ first: mode p + σ·n).
 // [Hubbard] and the molecule package use it.
 //
+// # Hubbard model
+//
+// [Hubbard] builds −t Σ (a†_{iσ} a_{jσ} + h.c.) + U Σ n_{i↑} n_{i↓} − μ Σ n_{iσ}
+// on chains and rectangles with open or periodic sides. The mapped operator
+// acts on the whole Fock space; to study a fixed electron number, choose μ so
+// that the wanted sector holds the lowest state (at half filling μ = U/2,
+// the particle–hole symmetric point) and add μN back to the energy.
+//
 // # Panics
 //
 // Building an operator is under the caller's control: [Operator.Add] and

@@ -80,8 +80,10 @@ type PauliTerm struct {
 //	a_j† = ½ X_U(j) X_j Z_P(j) − (i/2) X_U(j) Y_j Z_R(j),
 //
 // and its adjoint (+i/2) for a_j, with the update set U, parity set P and
-// remainder set R = P(j) Δ F(j) of the package documentation. It panics if
-// e is not a defined encoding or op.Mode is outside [0, n).
+// remainder set R = P(j) Δ F(j) of the package documentation. Each call
+// builds the sets of all n modes (O(n²) word operations); to map many
+// products, build an [Operator] and map it once. It panics if e is not a
+// defined encoding or op.Mode is outside [0, n).
 func (e Encoding) Ladder(n int, op Op) [2]PauliTerm {
 	if op.Mode < 0 || op.Mode >= n {
 		panic("fermion: Ladder: mode out of range")
