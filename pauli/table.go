@@ -90,13 +90,37 @@ func (t *Table) Clone() *Table {
 // dst lacks capacity. It panics if s has a different width.
 func (t *Table) Covered(dst []int, s Setting) []int {
 	mustSameWidth(t.n, s.p.n)
-	// Rows are tested 64 at a time into a bit mask without branches; the
-	// covered ones are then appended by walking the mask's set bits, so a
-	// random mix of covered and uncovered rows costs no mispredictions.
+	// Rows go 64 at a time. When dst has room for 64 more indices, every
+	// row index is written and the length advanced by the coverage bit, with
+	// no branch per row. Otherwise the block's coverage is collected into a
+	// bit mask and its set bits appended. Either way a random mix of covered
+	// and uncovered rows costs no branch mispredictions.
 	d := t.data
 	sx, sz := s.p.x, s.p.z
 	for base := 0; base < t.rows; base += 64 {
 		end := min(base+64, t.rows)
+		if cap(dst)-len(dst) >= 64 {
+			k := len(dst)
+			out := dst[k : k+64]
+			c := 0
+			if t.w == 1 {
+				sx, sz := sx[0], sz[0]
+				rows := d[2*base : 2*end]
+				for r := base; len(rows) >= 2; r++ {
+					x, z := rows[0], rows[1]
+					rows = rows[2:]
+					out[c&63] = r
+					c += int(isZero(((x ^ sx) | (z ^ sz)) & (x | z)))
+				}
+			} else {
+				for r := base; r < end; r++ {
+					out[c&63] = r
+					c += int(isZero(t.badRow(r, sx, sz)))
+				}
+			}
+			dst = dst[:k+c]
+			continue
+		}
 		var m uint64
 		if t.w == 1 {
 			sx, sz := sx[0], sz[0]
@@ -107,13 +131,8 @@ func (t *Table) Covered(dst []int, s Setting) []int {
 				m |= isZero(((x^sx)|(z^sz))&(x|z)) << j
 			}
 		} else {
-			for r, o := base, base*t.stride; r < end; r, o = r+1, o+t.stride {
-				x, z := d[o:o+t.w], d[o+t.w:o+t.stride]
-				var bad uint64
-				for i := range x {
-					bad |= ((x[i] ^ sx[i]) | (z[i] ^ sz[i])) & (x[i] | z[i])
-				}
-				m |= isZero(bad) << (r - base)
+			for r := base; r < end; r++ {
+				m |= isZero(t.badRow(r, sx, sz)) << (r - base)
 			}
 		}
 		for m != 0 {
@@ -122,6 +141,19 @@ func (t *Table) Covered(dst []int, s Setting) []int {
 		}
 	}
 	return dst
+}
+
+// badRow returns the qubits (as set bits, OR-ed over words) where row r has
+// a letter that is neither I nor the setting's; zero means covered.
+func (t *Table) badRow(r int, sx, sz []uint64) uint64 {
+	o := r * t.stride
+	x, z := t.data[o:o+t.w], t.data[o+t.w:o+t.stride]
+	sx, sz = sx[:len(x)], sz[:len(x)]
+	var bad uint64
+	for i := range x {
+		bad |= ((x[i] ^ sx[i]) | (z[i] ^ sz[i])) & (x[i] | z[i])
+	}
+	return bad
 }
 
 // isZero returns 1 if v is zero and 0 otherwise, without a branch.

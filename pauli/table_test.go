@@ -31,6 +31,14 @@ func TestTableQueriesMatchReference(t *testing.T) {
 			if got := tab.Covered(nil, s); !slices.Equal(got, want) {
 				t.Fatalf("Covered(%s) = %v, want %v", s, got, want)
 			}
+			// Both strategies: with room for every row (branch-free writes)
+			// and with exactly the room needed (bit-mask appends).
+			for _, c := range []int{tab.Len() + 64, len(want)} {
+				got := tab.Covered(make([]int, 0, c), s)
+				if !slices.Equal(got, want) {
+					t.Fatalf("Covered(%s) with cap %d = %v, want %v", s, c, got, want)
+				}
+			}
 			// Covered appends to what dst already holds.
 			if got := tab.Covered([]int{-1}, s); len(got) != len(want)+1 || got[0] != -1 {
 				t.Fatalf("Covered did not append to dst")
