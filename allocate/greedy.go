@@ -23,13 +23,17 @@ import (
 //
 // # Cost
 //
-// The weights live in an indexed binary max-heap. A round walks the heap in
-// descending order through a small frontier heap, without changing it, so
-// walking W terms costs O(W log W). Finding the terms the setting covers is
-// one pass over the M terms' words, O(M·⌈n/64⌉); only those terms' weights
-// change, each by one sift-down in the heap, which is O(1) on average for a
-// term deep in the heap and O(log M) at worst. A setting therefore costs
-// O(W log W + M⌈n/64⌉ + C log M) for C covered terms; memory is O(M⌈n/64⌉).
+// The weights live in a binary max-heap whose stored keys are upper bounds:
+// covering a term lowers its true weight at once but leaves its heap entry
+// alone. A round walks the heap in descending order through a small
+// frontier heap; an entry found stale is put back into the frontier at its
+// true weight, and repaired in the heap (one sift-down) after the walk, so
+// the walk is exact and costs O(W log W) for W visited entries. Finding the
+// terms the setting covers reads only the terms whose two lowest support
+// qubits agree with the setting (about a ninth of them; see coverIndex),
+// O(M⌈n/64⌉/9); recording a cover is O(1). A setting therefore costs
+// O(W log W + S log M + M⌈n/64⌉/9) for S stale entries met by the walk;
+// memory is O(M⌈n/64⌉).
 //
 // Greedy is deterministic: it uses no randomness. It implements [Counter].
 // The zero value is ready to use.
@@ -40,20 +44,23 @@ type Greedy struct {
 
 	rk    *ranked
 	index *coverIndex
-	cnt   []int32 // N of rank r
-	tier  float64 // added to |h| for uncovered terms, above every w_i
-	heap  []entry // max-heap by (key desc, rank asc)
-	pos   []int32 // heap position of rank r
-	front []entry // frontier of the walk, a max-heap of heap entries
-	hit   []int32 // scratch: ranks covered by the last setting
+	cnt   []int32   // N of rank r
+	cur   []float64 // true weight of rank r (tier-shifted for N = 0)
+	tier  float64   // added to |h| for uncovered terms, above every w_i
+	heap  []entry   // max-heap by (key desc, rank asc); key ≥ cur
+	pos   []int32   // heap position of rank r
+	front []entry   // frontier of the walk, a max-heap
+	stale []int32   // ranks found stale by the walk, to repair
+	hit   []int32   // scratch: ranks covered by the last setting
 	gain  []float64
 	px    []uint64 // letters fixed so far
 	pz    []uint64
 	fixed []uint64 // qubits fixed so far
 }
 
-// entry is a heap entry: a term's rank and current weight, and, in the
-// frontier, its position in the heap.
+// entry is a heap entry: a term's rank and stored weight, and, in the
+// frontier, its position in the heap, or −1 for an entry put back at its
+// true weight.
 type entry struct {
 	key  float64
 	r, p int32
@@ -78,18 +85,20 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	m := len(rk.order)
 	g.index = newCoverIndex(rk.n, m, rk.row)
 	g.cnt = make([]int32, m)
+	g.cur = make([]float64, m)
 	g.heap = make([]entry, m)
 	g.pos = make([]int32, m)
 	g.tier = rk.abs[0] // the largest |h|; every w_i ≤ (1−1/√2)|h_i| is below it
 	for r := range m {
 		// Rank order is descending by key, so it is already a heap.
-		g.heap[r] = entry{key: rk.abs[r] + g.tier, r: int32(r)}
+		g.cur[r] = rk.abs[r] + g.tier
+		g.heap[r] = entry{key: g.cur[r], r: int32(r)}
 		g.pos[r] = int32(r)
 	}
 	g.gain = g.gain[:0]
 	w := rk.w
 	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
-	g.front = g.front[:0]
+	g.front, g.stale = g.front[:0], g.stale[:0]
 	return nil
 }
 
@@ -123,19 +132,34 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 
 // walk visits the terms in descending weight and fixes the letters of those
 // compatible with the partial setting. It reads the heap without changing
-// it, through a frontier heap of the visited entries' children.
+// it, through a frontier heap, then repairs the stale entries it met.
 func (g *Greedy) walk() {
-	rk := g.rk
-	w := rk.w
-	words := rk.words
 	if g.allFixed() {
 		return
 	}
+	rk := g.rk
+	w := rk.w
+	words := rk.words
 	g.front = g.front[:0]
+	g.stale = g.stale[:0]
 	g.pushFront(0)
 	for len(g.front) > 0 {
-		p := g.popFront()
-		o := 2 * w * int(g.heap[p].r)
+		e := g.popFront()
+		if e.p >= 0 {
+			if c := 2*e.p + 1; c < int32(len(g.heap)) {
+				g.pushFront(c)
+				if c+1 < int32(len(g.heap)) {
+					g.pushFront(c + 1)
+				}
+			}
+			if t := g.cur[e.r]; e.key != t {
+				// Stale: the term comes back at its true weight.
+				g.stale = append(g.stale, e.r)
+				g.pushBack(entry{key: t, r: e.r, p: -1})
+				continue
+			}
+		}
+		o := 2 * w * int(e.r)
 		ok, grow := true, false
 		for k := range w {
 			x, z := words[o+k], words[o+w+k]
@@ -156,15 +180,14 @@ func (g *Greedy) walk() {
 				g.fixed[k] |= x | z
 			}
 			if g.allFixed() {
-				return
+				break
 			}
 		}
-		if c := 2*p + 1; c < int32(len(g.heap)) {
-			g.pushFront(c)
-			if c+1 < int32(len(g.heap)) {
-				g.pushFront(c + 1)
-			}
-		}
+	}
+	for _, r := range g.stale {
+		p := g.pos[r]
+		g.heap[p].key = g.cur[r]
+		g.siftDown(p)
 	}
 }
 
@@ -177,7 +200,8 @@ func (g *Greedy) allFixed() bool {
 	return true
 }
 
-// bump records one more cover of rank r; its weight falls, so it sifts down.
+// bump records one more cover of rank r. Its weight falls; the heap entry
+// keeps the old, larger key until a walk meets it.
 func (g *Greedy) bump(r int32) {
 	g.cnt[r]++
 	n := int(g.cnt[r])
@@ -186,9 +210,7 @@ func (g *Greedy) bump(r int32) {
 		k := float64(len(g.gain))
 		g.gain = append(g.gain, 1/math.Sqrt(k)-1/math.Sqrt(k+1))
 	}
-	p := g.pos[r]
-	g.heap[p].key = g.rk.abs[r] * g.gain[n]
-	g.siftDown(p)
+	g.cur[r] = g.rk.abs[r] * g.gain[n]
 }
 
 func (g *Greedy) siftDown(i int32) {
@@ -214,12 +236,16 @@ func (g *Greedy) siftDown(i int32) {
 	g.pos[e.r] = i
 }
 
-// The frontier is a max-heap of copies of heap entries, with their heap
-// positions.
+// The frontier is a max-heap of copies of heap entries with their heap
+// positions, and of entries put back at their true weight.
 
 func (g *Greedy) pushFront(p int32) {
 	e := g.heap[p]
 	e.p = p
+	g.pushBack(e)
+}
+
+func (g *Greedy) pushBack(e entry) {
 	f := append(g.front, e)
 	i := len(f) - 1
 	for i > 0 {
@@ -234,9 +260,9 @@ func (g *Greedy) pushFront(p int32) {
 	g.front = f
 }
 
-func (g *Greedy) popFront() int32 {
+func (g *Greedy) popFront() entry {
 	f := g.front
-	top := f[0].p
+	top := f[0]
 	last := len(f) - 1
 	e := f[last]
 	f = f[:last]
