@@ -25,8 +25,8 @@ type coverage struct {
 	cover    []int           // N_i
 	shots    int             // Σ m_Q
 
-	buf []int // scratch for rescans
-	b32 []int32
+	index *scanIndex
+	b32   []int32 // scratch for rescans
 }
 
 // newCoverage checks a plan against h and builds its coverage. Entries with
@@ -68,33 +68,39 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 	}
 	// The rows are cut from blocks of up to 1<<20 entries, so that no
 	// stored index is ever copied by a growing slice.
-	t := h.Table()
+	c.index = newScanIndex(h.Table())
 	c.rows = make([][]int32, len(c.settings))
 	var block []int32
 	stored := 0
 	for q, s := range c.settings {
-		c.buf = t.Covered(c.buf[:0], s)
-		for _, i := range c.buf {
-			c.cover[i] += c.mult[q]
-		}
 		if c.rows == nil {
+			c.b32 = c.index.covered(c.b32[:0], s)
+			for _, i := range c.b32 {
+				c.cover[i] += c.mult[q]
+			}
 			continue
 		}
-		if stored += len(c.buf); stored > maxStored {
-			c.rows = nil
-			continue
-		}
-		if cap(block)-len(block) < len(c.buf) {
-			// Guess the rest from this setting's count, within [its
-			// count, max(its count, 1<<20)].
-			guess := min(1<<20, len(c.buf)*(len(c.settings)-q))
-			block = make([]int32, 0, max(guess, len(c.buf)))
+		// Write straight into the block; when it is nearly full, start a
+		// new one sized from this far (the rows cut from the old one stay
+		// valid).
+		if low := min(h.Len(), 1<<12); cap(block)-len(block) < low {
+			guess := h.Len()
+			if q > 0 {
+				guess = stored / q * (len(c.settings) - q)
+			}
+			block = make([]int32, 0, min(max(guess, low), 1<<20))
 		}
 		start := len(block)
-		for _, i := range c.buf {
-			block = append(block, int32(i))
+		block = c.index.covered(block, s)
+		row := block[start:len(block):len(block)]
+		for _, i := range row {
+			c.cover[i] += c.mult[q]
 		}
-		c.rows[q] = block[start:len(block):len(block)]
+		if stored += len(row); stored > maxStored {
+			c.rows, block = nil, nil
+			continue
+		}
+		c.rows[q] = row
 	}
 	return c, nil
 }
@@ -105,11 +111,7 @@ func (c *coverage) terms(q int) []int32 {
 	if c.rows != nil {
 		return c.rows[q]
 	}
-	c.buf = c.h.Table().Covered(c.buf[:0], c.settings[q])
-	c.b32 = c.b32[:0]
-	for _, i := range c.buf {
-		c.b32 = append(c.b32, int32(i))
-	}
+	c.b32 = c.index.covered(c.b32[:0], c.settings[q])
 	return c.b32
 }
 
