@@ -2,6 +2,14 @@
 // contract of package allocate: the conformance suite that every built-in
 // strategy and every user-written strategy can run from its own tests.
 //
+// A strategy's own tests run it in one line:
+//
+//	func TestMyStrategy(t *testing.T) {
+//		allocatetest.Test(t, func(seed uint64) allocate.Allocator {
+//			return &MyStrategy{Seed: seed}
+//		}, nil)
+//	}
+//
 // # What the suite checks
 //
 // [Test] runs the strategy through [allocate.Run] on a set of Hamiltonians
