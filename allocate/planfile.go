@@ -1,0 +1,518 @@
+package allocate
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// PlanFormat is the value of the "format" key of every plan file, and
+// PlanVersion the version of the layout described at [WritePlan].
+const (
+	PlanFormat  = "shotplan plan"
+	PlanVersion = 1
+)
+
+var (
+	// ErrPlanFile is wrapped by every error about a malformed plan file.
+	ErrPlanFile = errors.New("allocate: malformed plan file")
+	// ErrPlanMismatch is wrapped by the errors of [PlanFile.Check]: the plan
+	// was not made for the Hamiltonian it is checked against.
+	ErrPlanMismatch = errors.New("allocate: plan does not fit the Hamiltonian")
+)
+
+// PlanFileError reports a problem with a plan file: the file, the line, the
+// entry and what is wrong. Its Err is [ErrPlanFile] or [ErrPlanMismatch].
+type PlanFileError struct {
+	File   string // the file's path, or "" when read from a reader
+	Line   int    // 1-based line of the entry, 0 if not known
+	Entry  string // the entry, such as "settings[3]" or "cover[12]"; "" for the whole file
+	Reason string // what is wrong
+	Err    error
+}
+
+func (e *PlanFileError) Error() string {
+	b := []byte("allocate: ")
+	if e.File != "" {
+		b = append(b, e.File...)
+		b = append(b, ": "...)
+	}
+	if e.Line > 0 {
+		b = append(b, "line "...)
+		b = strconv.AppendInt(b, int64(e.Line), 10)
+		b = append(b, ": "...)
+	}
+	if e.Entry != "" {
+		b = append(b, e.Entry...)
+		b = append(b, ": "...)
+	}
+	b = append(b, e.Reason...)
+	return string(b)
+}
+
+// Unwrap returns ErrPlanFile or ErrPlanMismatch.
+func (e *PlanFileError) Unwrap() error { return e.Err }
+
+// PlanFile is a plan as read from a plan file, with the seed of the run that
+// made it. It remembers the line of every entry, so that [PlanFile.Check] can
+// point at the line that disagrees with a Hamiltonian.
+type PlanFile struct {
+	// Plan is the plan. Plan.Stats.Strategy holds the file's strategy
+	// name; Rounds and Elapsed are not stored and read as zero.
+	Plan *Plan
+	// Seed is the seed the strategy was given (0 when none was recorded).
+	Seed uint64
+
+	name       string
+	qubitsLine int
+	coverLine  int     // line of the "cover" key
+	cover      []int32 // line of every cover entry
+	drawn      []int32 // line of every drawn entry
+}
+
+// planEntry is one element of a plan file's "settings".
+type planEntry struct {
+	Setting string `json:"setting"`
+	Shots   int    `json:"shots"`
+}
+
+// WritePlan writes p to w as a plan file, recording seed as the seed the
+// strategy was given. A plan file is a JSON object, written with one setting
+// per line so that it reads and diffs well:
+//
+//	{
+//	  "format": "shotplan plan",
+//	  "version": 1,
+//	  "qubits": 4,
+//	  "strategy": "greedy",
+//	  "seed": 0,
+//	  "shots": 1000,
+//	  "settings": [
+//	    {"setting": "ZZZZ", "shots": 1},
+//	    {"setting": "XXYY", "shots": 1},
+//	    ...
+//	  ],
+//	  "cover": [734, 734, ...],
+//	  "drawn": null
+//	}
+//
+// "settings" lists the settings in measurement order with their consecutive
+// shot counts (qubit 0 first, as in package pauli); "shots" is their total.
+// "cover" holds N_i for every term of the Hamiltonian the plan was made for,
+// in term order. "drawn" is the term drawn for each shot by strategies that
+// draw one (see [TermDrawer]), or null. Keys may come in any order when read.
+//
+// WritePlan returns an error, and writes nothing, if p is inconsistent: no
+// settings, a setting of another width, a shot count below 1, a negative
+// cover count, or a drawn list of the wrong length.
+func WritePlan(w io.Writer, p *Plan, seed uint64) error {
+	if err := validPlan(p); err != nil {
+		return err
+	}
+	var b bytes.Buffer
+	b.WriteString("{\n")
+	fmt.Fprintf(&b, "  \"format\": %q,\n  \"version\": %d,\n", PlanFormat, PlanVersion)
+	fmt.Fprintf(&b, "  \"qubits\": %d,\n", p.Qubits)
+	name, _ := json.Marshal(p.Stats.Strategy)
+	fmt.Fprintf(&b, "  \"strategy\": %s,\n  \"seed\": %d,\n  \"shots\": %d,\n", name, seed, p.TotalShots())
+	b.WriteString("  \"settings\": [\n")
+	for k, s := range p.Settings {
+		fmt.Fprintf(&b, "    {\"setting\": %q, \"shots\": %d}", s.String(), p.Shots[k])
+		if k < len(p.Settings)-1 {
+			b.WriteByte(',')
+		}
+		b.WriteByte('\n')
+	}
+	b.WriteString("  ],\n  \"cover\": ")
+	appendInts(&b, p.Cover)
+	b.WriteString(",\n  \"drawn\": ")
+	if p.Drawn == nil {
+		b.WriteString("null")
+	} else {
+		appendInts(&b, p.Drawn)
+	}
+	b.WriteString("\n}\n")
+	_, err := w.Write(b.Bytes())
+	return err
+}
+
+// appendInts writes a JSON array of integers, twenty to a line.
+func appendInts(b *bytes.Buffer, v []int) {
+	b.WriteByte('[')
+	for i, x := range v {
+		if i > 0 {
+			b.WriteByte(',')
+			if i%20 == 0 {
+				b.WriteString("\n    ")
+			} else {
+				b.WriteByte(' ')
+			}
+		}
+		b.WriteString(strconv.Itoa(x))
+	}
+	b.WriteByte(']')
+}
+
+// WritePlanFile writes p to path as a plan file (see [WritePlan]),
+// atomically: a failed write leaves any earlier file in place and no partial
+// file behind.
+func WritePlanFile(path string, p *Plan, seed uint64) error {
+	if err := validPlan(p); err != nil {
+		return err
+	}
+	return atomicfile.Write(path, func(w io.Writer) error { return WritePlan(w, p, seed) })
+}
+
+func validPlan(p *Plan) error {
+	if p == nil || len(p.Settings) == 0 {
+		return errors.New("allocate: writing a plan: no settings")
+	}
+	if len(p.Shots) != len(p.Settings) {
+		return fmt.Errorf("allocate: writing a plan: %d settings but %d shot counts", len(p.Settings), len(p.Shots))
+	}
+	for k, s := range p.Settings {
+		if s.Qubits() != p.Qubits {
+			return fmt.Errorf("allocate: writing a plan: setting %d (%s) has %d qubits, the plan %d", k, s, s.Qubits(), p.Qubits)
+		}
+		if p.Shots[k] < 1 {
+			return fmt.Errorf("allocate: writing a plan: setting %d (%s) has %d shots", k, s, p.Shots[k])
+		}
+	}
+	for i, c := range p.Cover {
+		if c < 0 {
+			return fmt.Errorf("allocate: writing a plan: term %d has cover count %d", i, c)
+		}
+	}
+	if p.Drawn != nil && len(p.Drawn) != p.TotalShots() {
+		return fmt.Errorf("allocate: writing a plan: %d drawn terms for %d shots", len(p.Drawn), p.TotalShots())
+	}
+	return nil
+}
+
+// ReadPlanFile reads a plan file written by [WritePlanFile]; see [ReadPlan].
+// Errors name the file.
+func ReadPlanFile(path string) (*PlanFile, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	return readPlan(data, path)
+}
+
+// ReadPlan reads a plan file (see [WritePlan] for the layout) and checks it
+// on its own: the format and version, a positive qubit count, every setting's
+// letters (X, Y or Z) and width, shot counts of at least 1 adding up to
+// "shots", cover counts between 0 and the total, and drawn terms (if any),
+// one per shot, each a term index. A problem is reported as a
+// *[PlanFileError] that names the line and the entry and wraps [ErrPlanFile];
+// unknown keys are errors too. Whether the plan fits a Hamiltonian is
+// checked by [PlanFile.Check].
+func ReadPlan(r io.Reader) (*PlanFile, error) {
+	data, err := io.ReadAll(r)
+	if err != nil {
+		return nil, err
+	}
+	return readPlan(data, "")
+}
+
+// planReader decodes a plan file token by token, keeping offsets so that
+// every error can name its line.
+type planReader struct {
+	data []byte
+	dec  *json.Decoder
+	name string
+}
+
+func (pr *planReader) line(off int64) int {
+	if off > int64(len(pr.data)) {
+		off = int64(len(pr.data))
+	}
+	return 1 + bytes.Count(pr.data[:off], []byte{'\n'})
+}
+
+// valueLine returns the line of the next value: the first byte after the
+// decoder's offset that is not white space, a colon or a comma.
+func (pr *planReader) valueLine() int {
+	off := pr.dec.InputOffset()
+	for off < int64(len(pr.data)) {
+		switch pr.data[off] {
+		case ' ', '\t', '\r', '\n', ':', ',':
+			off++
+			continue
+		}
+		break
+	}
+	return pr.line(off)
+}
+
+func (pr *planReader) fail(line int, entry, format string, args ...any) error {
+	return &PlanFileError{File: pr.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanFile}
+}
+
+// jsonFail turns a decoding error into a PlanFileError at the best line known.
+func (pr *planReader) jsonFail(line int, entry string, err error) error {
+	var se *json.SyntaxError
+	if errors.As(err, &se) {
+		return pr.fail(pr.line(se.Offset), "", "%v", se)
+	}
+	var te *json.UnmarshalTypeError
+	if errors.As(err, &te) {
+		return pr.fail(line, entry, "%s is not a valid %s", te.Value, te.Type)
+	}
+	if errors.Is(err, io.EOF) || errors.Is(err, io.ErrUnexpectedEOF) {
+		return pr.fail(pr.line(int64(len(pr.data))), "", "unexpected end of file")
+	}
+	return pr.fail(line, entry, "%v", err)
+}
+
+func (pr *planReader) delim(want json.Delim, line int, entry string) error {
+	tok, err := pr.dec.Token()
+	if err != nil {
+		return pr.jsonFail(line, entry, err)
+	}
+	if d, ok := tok.(json.Delim); !ok || d != want {
+		return pr.fail(line, entry, "want %q, found %v", string(want), tok)
+	}
+	return nil
+}
+
+// ints reads an array of integers (or null, if nullable), recording the line
+// of every element.
+func (pr *planReader) ints(key string, nullable bool) (v []int, lines []int32, err error) {
+	line := pr.valueLine()
+	tok, err := pr.dec.Token()
+	if err != nil {
+		return nil, nil, pr.jsonFail(line, key, err)
+	}
+	if tok == nil && nullable {
+		return nil, nil, nil
+	}
+	if d, ok := tok.(json.Delim); !ok || d != '[' {
+		return nil, nil, pr.fail(line, key, "want an array of integers, found %v", tok)
+	}
+	v = []int{}
+	for pr.dec.More() {
+		l := pr.valueLine()
+		entry := fmt.Sprintf("%s[%d]", key, len(v))
+		var x int
+		if err := pr.dec.Decode(&x); err != nil {
+			return nil, nil, pr.jsonFail(l, entry, err)
+		}
+		v = append(v, x)
+		lines = append(lines, int32(l))
+	}
+	if _, err := pr.dec.Token(); err != nil {
+		return nil, nil, pr.jsonFail(line, key, err)
+	}
+	return v, lines, nil
+}
+
+func readPlan(data []byte, name string) (*PlanFile, error) {
+	pr := &planReader{data: data, dec: json.NewDecoder(bytes.NewReader(data)), name: name}
+	pr.dec.DisallowUnknownFields()
+	f := &PlanFile{name: name}
+	p := &Plan{}
+	var (
+		format                 string
+		version                int
+		haveQubits, haveShots  bool
+		haveSettings, haveCvr  bool
+		total                  int
+		settingLines           []int
+		settingTexts           []string
+		shotsLine, versionLine int
+	)
+	if err := pr.delim('{', 1, ""); err != nil {
+		return nil, err
+	}
+	seen := map[string]bool{}
+	for pr.dec.More() {
+		tok, err := pr.dec.Token()
+		if err != nil {
+			return nil, pr.jsonFail(pr.valueLine(), "", err)
+		}
+		key, _ := tok.(string)
+		line := pr.valueLine()
+		if seen[key] {
+			return nil, pr.fail(line, key, "key repeated")
+		}
+		seen[key] = true
+		switch key {
+		case "format":
+			err = pr.dec.Decode(&format)
+		case "version":
+			versionLine = line
+			err = pr.dec.Decode(&version)
+		case "qubits":
+			f.qubitsLine, haveQubits = line, true
+			err = pr.dec.Decode(&p.Qubits)
+		case "strategy":
+			err = pr.dec.Decode(&p.Stats.Strategy)
+		case "seed":
+			err = pr.dec.Decode(&f.Seed)
+		case "shots":
+			shotsLine, haveShots = line, true
+			err = pr.dec.Decode(&total)
+		case "settings":
+			haveSettings = true
+			if err := pr.delim('[', line, key); err != nil {
+				return nil, err
+			}
+			for pr.dec.More() {
+				l := pr.valueLine()
+				entry := fmt.Sprintf("settings[%d]", len(settingTexts))
+				var e planEntry
+				if err := pr.dec.Decode(&e); err != nil {
+					return nil, pr.jsonFail(l, entry, err)
+				}
+				settingTexts = append(settingTexts, e.Setting)
+				settingLines = append(settingLines, l)
+				p.Shots = append(p.Shots, e.Shots)
+			}
+			_, err = pr.dec.Token()
+		case "cover":
+			f.coverLine, haveCvr = line, true
+			p.Cover, f.cover, err = pr.ints(key, false)
+		case "drawn":
+			p.Drawn, f.drawn, err = pr.ints(key, true)
+		default:
+			return nil, pr.fail(line, "", "unknown key %q", key)
+		}
+		if err != nil {
+			var pe *PlanFileError
+			if errors.As(err, &pe) {
+				return nil, err
+			}
+			return nil, pr.jsonFail(line, key, err)
+		}
+	}
+	if _, err := pr.dec.Token(); err != nil {
+		return nil, pr.jsonFail(pr.valueLine(), "", err)
+	}
+	if _, err := pr.dec.Token(); err != io.EOF {
+		return nil, pr.fail(pr.valueLine(), "", "text after the closing brace")
+	}
+
+	if format != PlanFormat {
+		return nil, pr.fail(1, "format", "not a plan file (format %q, want %q)", format, PlanFormat)
+	}
+	if version != PlanVersion {
+		return nil, pr.fail(versionLine, "version", "version %d, this reader knows version %d", version, PlanVersion)
+	}
+	switch {
+	case !haveQubits:
+		return nil, pr.fail(0, "", "no \"qubits\" key")
+	case !haveSettings:
+		return nil, pr.fail(0, "", "no \"settings\" key")
+	case !haveCvr:
+		return nil, pr.fail(0, "", "no \"cover\" key")
+	}
+	if p.Qubits < 1 || p.Qubits >= hamiltonian.MaxReadQubits {
+		return nil, pr.fail(f.qubitsLine, "qubits", "qubit count %d out of range [1, %d)", p.Qubits, hamiltonian.MaxReadQubits)
+	}
+	if len(settingTexts) == 0 {
+		return nil, pr.fail(0, "settings", "no settings")
+	}
+	sum := 0
+	p.Settings = make([]pauli.Setting, len(settingTexts))
+	for k, text := range settingTexts {
+		entry := fmt.Sprintf("settings[%d]", k)
+		if len(text) != p.Qubits {
+			return nil, pr.fail(settingLines[k], entry, "setting %q has %d letters, the plan has %d qubits", text, len(text), p.Qubits)
+		}
+		s, err := pauli.ParseSetting(text)
+		if err != nil {
+			var pe *pauli.ParseError
+			if errors.As(err, &pe) {
+				return nil, pr.fail(settingLines[k], entry, "setting %q: %s at qubit %d (want X, Y or Z)", text, pe.Reason, pe.Offset)
+			}
+			return nil, pr.fail(settingLines[k], entry, "setting %q: %v", text, err)
+		}
+		if p.Shots[k] < 1 {
+			return nil, pr.fail(settingLines[k], entry, "shot count %d, want at least 1", p.Shots[k])
+		}
+		if sum > int(^uint(0)>>2)-p.Shots[k] {
+			return nil, pr.fail(settingLines[k], entry, "total shot count overflows")
+		}
+		p.Settings[k] = s
+		sum += p.Shots[k]
+	}
+	if haveShots && total != sum {
+		return nil, pr.fail(shotsLine, "shots", "total %d, but the settings' shots add up to %d", total, sum)
+	}
+	for i, c := range p.Cover {
+		if c < 0 || c > sum {
+			return nil, pr.fail(int(f.cover[i]), fmt.Sprintf("cover[%d]", i), "cover count %d outside [0, %d]", c, sum)
+		}
+	}
+	if p.Drawn != nil {
+		if len(p.Drawn) != sum {
+			return nil, pr.fail(0, "drawn", "%d drawn terms for %d shots", len(p.Drawn), sum)
+		}
+		for n, d := range p.Drawn {
+			if d < 0 || d >= len(p.Cover) {
+				return nil, pr.fail(int(f.drawn[n]), fmt.Sprintf("drawn[%d]", n), "term %d outside [0, %d)", d, len(p.Cover))
+			}
+		}
+	}
+	f.Plan = p
+	return f, nil
+}
+
+// Check reports whether the plan fits h: the same number of qubits, a cover
+// count for every term, and cover counts equal to those the settings give
+// on h's terms (so the plan was made for h, or for a Hamiltonian with the
+// same strings). For a plan with drawn terms it also checks that every shot's
+// setting covers the term drawn for it. A problem is a *[PlanFileError]
+// wrapping [ErrPlanMismatch], naming the line of the plan file.
+func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
+	p := f.Plan
+	fail := func(line int, entry, format string, args ...any) error {
+		return &PlanFileError{File: f.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}
+	}
+	if p.Qubits != h.Qubits() {
+		return fail(f.qubitsLine, "qubits", "the plan is for %d qubits, the Hamiltonian has %d", p.Qubits, h.Qubits())
+	}
+	if len(p.Cover) != h.Len() {
+		return fail(f.coverLine, "cover", "the plan counts covers of %d terms, the Hamiltonian has %d", len(p.Cover), h.Len())
+	}
+	cover, err := CoverCounts(h, p.Settings, p.Shots)
+	if err != nil {
+		return fail(0, "", "%v", err)
+	}
+	for i, c := range cover {
+		if c != p.Cover[i] {
+			return fail(f.lineOf(f.cover, i, f.coverLine), fmt.Sprintf("cover[%d]", i),
+				"the plan says term %d is covered %d times, its settings cover %s %d times (a plan for another Hamiltonian?)",
+				i, p.Cover[i], h.Pauli(i), c)
+		}
+	}
+	if p.Drawn != nil {
+		n := 0
+		for k, s := range p.Settings {
+			for range p.Shots[k] {
+				if d := p.Drawn[n]; !s.Covers(h.Pauli(d)) {
+					return fail(f.lineOf(f.drawn, n, 0), fmt.Sprintf("drawn[%d]", n),
+						"shot %d drew term %d (%s), which its setting %s does not cover", n, d, h.Pauli(d), s)
+				}
+				n++
+			}
+		}
+	}
+	return nil
+}
+
+func (f *PlanFile) lineOf(lines []int32, i, fallback int) int {
+	if i < len(lines) {
+		return int(lines[i])
+	}
+	return fallback
+}
