@@ -26,8 +26,9 @@ type EigenSettings struct {
 	Tolerance float64
 
 	// KrylovDim is the number of Lanczos vectors built before a restart
-	// (capped at 2^n). Zero means 40. Memory is about (KrylovDim+1)·2^n
-	// complex128 values.
+	// (capped at 2^n). Memory is about (KrylovDim+2)·2^n complex128 values.
+	// Zero means 40, lowered above 22 qubits so that the vectors stay
+	// within about 4 GiB (16 at 24 qubits).
 	KrylovDim int
 
 	// MaxApply bounds the number of products H·ψ. Zero means 5000.
@@ -75,7 +76,7 @@ func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
 		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
 	}
 	if s.KrylovDim == 0 {
-		s.KrylovDim = 40
+		s.KrylovDim = min(40, max(10, (4<<30)/(16<<h.n)-2))
 	}
 	if s.MaxApply == 0 {
 		s.MaxApply = 5000
