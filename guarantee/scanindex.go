@@ -2,6 +2,7 @@ package guarantee
 
 import (
 	"math/bits"
+	"slices"
 
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -106,14 +107,21 @@ func (ix *scanIndex) covered(dst []int32, s pauli.Setting) []int32 {
 			continue
 		}
 		if w == 1 {
+			// Branch-free: write every candidate, advance past the
+			// covered ones (about a third of them match, which a branch
+			// would mispredict).
+			dst = slices.Grow(dst, hi-lo)
+			n := len(dst)
+			out := dst[:n+hi-lo]
 			x0, z0 := sx[0], sz[0]
 			words := ix.words[2*lo : 2*hi]
-			for k := 0; k < len(words); k += 2 {
-				x, z := words[k], words[k+1]
-				if ((x^x0)|(z^z0))&(x|z) == 0 {
-					dst = append(dst, ix.term[lo+k/2])
-				}
+			terms := ix.term[lo:hi]
+			for k, t := range terms {
+				x, z := words[2*k], words[2*k+1]
+				out[n] = t
+				n += b2i(((x^x0)|(z^z0))&(x|z) == 0)
 			}
+			dst = dst[:n]
 			continue
 		}
 	rows:
@@ -129,4 +137,11 @@ func (ix *scanIndex) covered(dst []int32, s pauli.Setting) []int32 {
 		}
 	}
 	return dst
+}
+
+func b2i(b bool) int {
+	if b {
+		return 1
+	}
+	return 0
 }
