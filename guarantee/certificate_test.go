@@ -208,3 +208,16 @@ func TestCertifyEmptyPlan(t *testing.T) {
 		t.Errorf("Certify(empty plan) = radius %g, bias %g, total %g, uncovered %d; want 0, 1.5, 1.5, 2", c.Radius, c.Bias, c.Total, c.Uncovered)
 	}
 }
+
+// A Hamiltonian with only an identity part has nothing to measure: every
+// bound is zero.
+func TestCertifyOffsetOnly(t *testing.T) {
+	h := mustH(t, 2, 1.5)
+	c, err := Certify(h, settingsOf("ZZ"), []int{10}, 0.1, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Total != 0 || len(c.Top) != 0 || c.Optimal.Total != 0 || !c.Optimal.Exact {
+		t.Errorf("Certify(offset only) = total %g, %d top terms, optimal %g (exact %v); want 0, 0, 0, true", c.Total, len(c.Top), c.Optimal.Total, c.Optimal.Exact)
+	}
+}

@@ -43,3 +43,15 @@ func FuzzScanIndex(f *testing.F) {
 		checkIndex(t, seed, 1+int(n%140), 1+int(m), 10)
 	})
 }
+
+// The scan allocates nothing once the destination has room.
+func TestScanIndexAllocs(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 5))
+	h := randomH(t, rng, 40, 2000, 4)
+	ix := newScanIndex(h.Table())
+	settings, _ := randomPlan(rng, 40, 5, 1)
+	dst := make([]int32, 0, h.Len())
+	if n := testing.AllocsPerRun(20, func() { dst = ix.covered(dst[:0], settings[0]) }); n != 0 {
+		t.Errorf("scanIndex.covered allocates %v times per call, want 0", n)
+	}
+}
