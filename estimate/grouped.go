@@ -26,6 +26,10 @@ import (
 // fixed: for a randomised plan this is the variance given the settings
 // drawn, and for an adaptive plan it ignores the adaptation.
 //
+// The work is one pass over the (term, shot) samples plus about
+// weight·G/64 word operations per term for G distinct settings, twice (three
+// times if some setting has a single shot); memory is a few words per shot.
+//
 // Grouped returns an error if the widths differ or the options are invalid.
 func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
 	c, err := newConfig(h, rec, opts, "Grouped")
@@ -33,129 +37,130 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 		return nil, err
 	}
 	m := h.Len()
-	ix := newCoverIndex(h.Table())
 	coef := h.Coeffs()
-	w := ix.w
-	cover := make([]int, m)
-	ones := make([]int, m)
-	var cov []int
+	sw := newSweep(rec, h.Table())
+	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: rec.Len(), Energy: h.Offset()}
 
-	// Pass 1: cover counts and the number of −1 samples of every term.
-	for g := range rec.Groups() {
-		cov = ix.covered(cov[:0], rec.Setting(g))
-		out := rec.out[g]
-		mg := len(out) / w
-		for _, i := range cov {
-			cover[i] += mg
-			ones[i] += ix.countOdd(i, out)
+	// Pass 1: cover counts, and a_i = h_i·scale_i/N_i for the terms in the
+	// energy.
+	a := make([]float64, m)
+	for i := range m {
+		n := sw.cover(i)
+		res.Cover[i] = n
+		if n > 0 && !c.excluded(i) {
+			a[i] = coef[i] * c.scale[i] / float64(n)
 		}
 	}
-	res := &Result{Means: make([]float64, m), Cover: cover, Shots: rec.Len(), Energy: h.Offset()}
-	a := make([]float64, m) // a_i = h_i·scale_i/N_i for the terms in the energy
+
+	// Pass 2, by blocks of groups: the number of −1 samples of every term,
+	// and Z_n of every shot.
+	ones := make([]int, m)
+	z := make([]float64, rec.Len()) // Z_n by position
+	w := sw.w
+	for k0 := 0; k0 < sw.words; k0 += blockWords {
+		k1 := min(k0+blockWords, sw.words)
+		for i := range m {
+			if res.Cover[i] == 0 {
+				continue
+			}
+			rs, supp, ai := sw.rows(i), sw.termSupp(i), a[i]
+			odd := 0
+			for k := k0; k < k1; k++ {
+				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
+					g := k<<6 + bits.TrailingZeros64(v)
+					lo, hi := sw.off[g], sw.off[g+1]
+					if hi-lo == 1 && w == 1 {
+						o := bits.OnesCount64(sw.flat[lo]&supp[0]) & 1
+						odd += o
+						z[lo] += ai - 2*ai*float64(o)
+						continue
+					}
+					odd += addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
+				}
+			}
+			ones[i] += odd
+		}
+	}
+	raw := make([]float64, m) // unmitigated means
 	for i := range m {
-		if cover[i] == 0 {
+		if res.Cover[i] == 0 {
 			res.Means[i] = math.NaN()
 			continue
 		}
-		res.Means[i] = c.scale[i] * (1 - 2*float64(ones[i])/float64(cover[i]))
+		raw[i] = 1 - 2*float64(ones[i])/float64(res.Cover[i])
+		res.Means[i] = c.scale[i] * raw[i]
 		if !c.excluded(i) {
-			a[i] = coef[i] * c.scale[i] / float64(cover[i])
 			res.Energy += coef[i] * res.Means[i]
 		}
 	}
 
-	// Pass 2: every shot's contribution Z_n, and the variance of their sum.
-	var (
-		ca   []float64 // a_i of the covered terms in the energy
-		cs   []uint64  // their support words
-		zs   []float64 // Z_n of the group's shots
-		vsum float64
-	)
-	for g := range rec.Groups() {
-		cov = ix.covered(cov[:0], rec.Setting(g))
-		ca, cs = ca[:0], cs[:0]
-		total, mu := 0.0, 0.0
-		for _, i := range cov {
-			if a[i] == 0 {
-				continue
+	// Pass 3, only for one-shot groups: μ̂_g = Σ_{i ◁ g} a_i·raw_i.
+	mu := make([]float64, rec.Groups())
+	if anySet(sw.single) {
+		for k0 := 0; k0 < sw.words; k0 += blockWords {
+			k1 := min(k0+blockWords, sw.words)
+			for i := range m {
+				if a[i] == 0 {
+					continue
+				}
+				rs, u := sw.rows(i), a[i]*raw[i]
+				for k := k0; k < k1; k++ {
+					if sw.single[k] == 0 {
+						continue
+					}
+					for v := sw.covering(rs, k) & sw.single[k]; v != 0; v &= v - 1 {
+						mu[k<<6+bits.TrailingZeros64(v)] += u
+					}
+				}
 			}
-			ca = append(ca, a[i])
-			cs = append(cs, ix.supp[i*w:(i+1)*w]...)
-			total += a[i]
-			mu += a[i] * (1 - 2*float64(ones[i])/float64(cover[i]))
 		}
-		if len(ca) == 0 {
-			continue
-		}
-		out := rec.out[g]
-		mg := len(out) / w
-		zs = zs[:0]
-		for j := range mg {
-			zs = append(zs, total-2*oddSum(ca, cs, out[j*w:(j+1)*w]))
-		}
-		if mg == 1 {
-			d := zs[0] - mu
+	}
+
+	vsum := 0.0
+	for g := range rec.Groups() {
+		zs := z[sw.off[g]:sw.off[g+1]]
+		if len(zs) == 1 {
+			d := zs[0] - mu[g]
 			vsum += d * d
 			continue
 		}
-		// Deviations from the first shot keep identical values exactly
-		// zero apart.
-		mean := 0.0
-		for _, z := range zs {
-			mean += z - zs[0]
-		}
-		mean /= float64(mg)
-		ss := 0.0
-		for _, z := range zs {
-			d := z - zs[0] - mean
-			ss += d * d
-		}
-		vsum += float64(mg) * ss / float64(mg-1)
+		vsum += float64(len(zs)) * sampleVariance(zs)
 	}
 	res.StdErr = math.Sqrt(vsum)
-	c.finish(h, res, func(i int) bool { return cover[i] == 0 })
+	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })
 	return res, nil
 }
 
-// countOdd returns the number of outcomes in out (w words each) with odd
-// parity over the support of term i.
-func (ix *coverIndex) countOdd(i int, out []uint64) int {
-	n := 0
-	if ix.w == 1 {
-		s := ix.supp[i]
-		for _, b := range out {
-			n += bits.OnesCount64(b&s) & 1
+func anySet(s []uint64) bool {
+	for _, v := range s {
+		if v != 0 {
+			return true
 		}
-		return n
 	}
-	for o := 0; o < len(out); o += ix.w {
-		n += ix.parity(i, out[o:o+ix.w])
-	}
-	return n
+	return false
 }
 
-// oddSum returns Σ_k a[k] over the terms k whose support words (cs, w =
-// len(b) words each) have odd parity with outcome b.
-func oddSum(a []float64, cs []uint64, b []uint64) float64 {
-	s := 0.0
-	w := len(b)
-	if w == 1 {
-		b0 := b[0]
-		for k, m := range cs {
-			if bits.OnesCount64(b0&m)&1 == 1 {
-				s += a[k]
-			}
+// addSamples adds a·s_n to z[n] for each outcome n of out (len(supp) words
+// each), s_n = ±1 the sample of the string with support words supp, and
+// returns the number of −1 samples. The loops are free of branches on the
+// parity, which is random.
+func addSamples(z []float64, out, supp []uint64, a float64) int {
+	ones := 0
+	if len(supp) == 1 {
+		s := supp[0]
+		out = out[:len(z)]
+		for j, b := range out {
+			odd := bits.OnesCount64(b&s) & 1
+			ones += odd
+			z[j] += a - 2*a*float64(odd)
 		}
-		return s
+		return ones
 	}
-	for k := range a {
-		c := 0
-		for i, m := range cs[k*w : (k+1)*w] {
-			c += bits.OnesCount64(b[i] & m)
-		}
-		if c&1 == 1 {
-			s += a[k]
-		}
+	w := len(supp)
+	for j := range z {
+		odd := int(parity(out[j*w:(j+1)*w], supp))
+		ones += odd
+		z[j] += a - 2*a*float64(odd)
 	}
-	return s
+	return ones
 }

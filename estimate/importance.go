@@ -38,7 +38,6 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 	coef := h.Coeffs()
 	norm := h.OneNorm()
 	t := h.Table()
-	ix := newCoverIndex(t)
 	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: nShots}
 	sums := make([]float64, m)
 	x := make([]float64, nShots)
@@ -50,7 +49,8 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 		if !t.CoversRow(i, s.Setting) {
 			return nil, fmt.Errorf("estimate: ImportanceSampling: shot %d: setting %s does not cover its drawn term %d (%s)", k, s.Setting, i, h.Pauli(i))
 		}
-		v := c.scale[i] * float64(1-2*ix.parity(i, s.Outcome))
+		px, pz := t.Words(i)
+		v := c.scale[i] * (1 - 2*float64(parityXZ(s.Outcome, px, pz)))
 		res.Cover[i]++
 		sums[i] += v
 		x[k] = h.Offset()

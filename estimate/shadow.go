@@ -3,6 +3,7 @@ package estimate
 import (
 	"fmt"
 	"math"
+	"math/bits"
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -30,7 +31,7 @@ func UniformShadow(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Re
 	wt := make([]float64, h.Len())
 	for i := range wt {
 		v := 1.0
-		for range h.Pauli(i).Support() {
+		for range h.Table().Weight(i) {
 			v *= 3 // exact for weights up to 33
 		}
 		wt[i] = v
@@ -111,15 +112,10 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 	}
 	m := h.Len()
 	coef := h.Coeffs()
-	ix := newCoverIndex(h.Table())
-	w := ix.w
+	sw := newSweep(rec, h.Table())
 
-	// batch[off[g]+j] is the batch of outcome j of group g: shot k (in shot
+	// batch[p] is the batch of the shot at position p: shot k (in shot
 	// order) falls in batch ⌊k·K/N⌋.
-	off := make([]int, rec.Groups()+1)
-	for g := range rec.Groups() {
-		off[g+1] = off[g] + rec.GroupLen(g)
-	}
 	batch := make([]int32, nShots)
 	size := make([]int, k)
 	for run, start := range rec.runStart {
@@ -127,16 +123,20 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 		if run+1 < len(rec.runStart) {
 			end = rec.runStart[run+1]
 		}
-		g := int(rec.runGroup[run])
+		p := sw.off[rec.runGroup[run]] + rec.runPos[run]
 		for s := start; s < end; s++ {
 			b := s * k / nShots
-			batch[off[g]+rec.runPos[run]+s-start] = int32(b)
+			batch[p+s-start] = int32(b)
 			size[b]++
 		}
 	}
 
-	// v[i] is the value a covering shot with sample +1 gives term i; e[i]
-	// its weight in the single-shot energy (zero for excluded terms).
+	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: nShots}
+	x := make([]float64, nShots) // single-shot energies X_n by position
+	for p := range x {
+		x[p] = h.Offset()
+	}
+	// A covering shot gives term i the value ±v[i] and the energy ±e[i].
 	v := make([]float64, m)
 	e := make([]float64, m)
 	for i := range m {
@@ -145,56 +145,50 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 			e[i] = coef[i] * v[i]
 		}
 	}
-	cover := make([]int, m)
-	termSum := make([]float64, k*m)
-	x := make([]float64, nShots) // single-shot energies, by group position
-	var cov []int
-	for g := range rec.Groups() {
-		cov = ix.covered(cov[:0], rec.Setting(g))
-		out := rec.out[g]
-		for j := range len(out) / w {
-			b := out[j*w : (j+1)*w]
-			ts := termSum[int(batch[off[g]+j])*m:]
-			xn := h.Offset()
-			for _, i := range cov {
-				if wt[i] == 0 {
-					continue
-				}
-				cover[i]++
-				if ix.parity(i, b) == 1 {
-					ts[i] -= v[i]
-					xn -= e[i]
-				} else {
-					ts[i] += v[i]
-					xn += e[i]
+	termSum := make([]float64, m*k) // term i's batch sums at termSum[i*k:]
+	w := sw.w
+	for k0 := 0; k0 < sw.words; k0 += blockWords {
+		k1 := min(k0+blockWords, sw.words)
+		for i := range m {
+			if wt[i] == 0 {
+				continue
+			}
+			rs, supp, vi, ei := sw.rows(i), sw.termSupp(i), v[i], e[i]
+			ts := termSum[i*k : (i+1)*k]
+			for kw := k0; kw < k1; kw++ {
+				for u := sw.covering(rs, kw); u != 0; u &= u - 1 {
+					g := kw<<6 + bits.TrailingZeros64(u)
+					lo, hi := sw.off[g], sw.off[g+1]
+					res.Cover[i] += hi - lo
+					for p := lo; p < hi; p++ {
+						sign := 1 - 2*float64(parity(sw.flat[p*w:(p+1)*w], supp))
+						x[p] += sign * ei
+						ts[batch[p]] += sign * vi
+					}
 				}
 			}
-			x[off[g]+j] = xn
 		}
 	}
-
-	res := &Result{Means: make([]float64, m), Cover: cover, Shots: nShots}
-	// Energy: the median over batches of the batch means of X_n.
-	bm := make([]float64, k)
-	for j, xn := range x {
-		bm[batch[j]] += xn
-	}
-	for b := range bm {
-		bm[b] /= float64(size[b])
-	}
-	res.Energy = median(bm)
-	// Means: the same median of means per term; a term that can never be
-	// covered has no estimate.
+	bs := make([]float64, k)
 	for i := range m {
 		if wt[i] == 0 {
 			res.Means[i] = math.NaN()
 			continue
 		}
-		for b := range bm {
-			bm[b] = termSum[b*m+i] / float64(size[b])
+		for b := range bs {
+			bs[b] = termSum[i*k+b] / float64(size[b])
 		}
-		res.Means[i] = median(bm)
+		res.Means[i] = median(bs)
 	}
+	// Energy: the median over batches of the batch means of X_n.
+	clear(bs)
+	for p, xn := range x {
+		bs[batch[p]] += xn
+	}
+	for b := range bs {
+		bs[b] /= float64(size[b])
+	}
+	res.Energy = median(bs)
 	res.StdErr = math.Inf(1)
 	if nShots > 1 {
 		res.StdErr = math.Sqrt(sampleVariance(x) / float64(nShots))

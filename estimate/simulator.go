@@ -1,10 +1,12 @@
 package estimate
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"math/bits"
 	"math/rand/v2"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -63,13 +65,16 @@ const defaultCacheBytes = 256 << 20
 //
 // A Simulator is not safe for concurrent use.
 type Simulator struct {
-	n       int
-	state   []complex128
-	readout []Readout
-	rng     *rand.Rand
+	n          int
+	state      []complex128
+	readoutErr []Readout
+	rng        *rand.Rand
 
 	work  []complex128 // rotated amplitudes
 	cum   []float64    // scratch distribution when not cached
+	marg  []float64    // cumulative marginal of the high qubits
+	blk   []complex128 // amplitudes of one value of the high qubits
+	bcum  []float64    // their cumulative weights
 	cache distCache
 }
 
@@ -113,12 +118,12 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Si
 		limit = defaultCacheBytes
 	}
 	return &Simulator{
-		n:       n,
-		state:   psi,
-		readout: append([]Readout(nil), set.Readout...),
-		rng:     rand.New(rand.NewPCG(seed, 0x51a7e5eed)),
-		work:    make([]complex128, len(psi)),
-		cache:   distCache{limit: limit, m: make(map[string][]float64)},
+		n:          n,
+		state:      psi,
+		readoutErr: append([]Readout(nil), set.Readout...),
+		rng:        rand.New(rand.NewPCG(seed, 0x51a7e5eed)),
+		work:       make([]complex128, len(psi)),
+		cache:      distCache{limit: limit, m: make(map[string][]float64)},
 	}, nil
 }
 
@@ -141,9 +146,16 @@ func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *Simulat
 func (sim *Simulator) Qubits() int { return sim.n }
 
 // Run measures shots[k] copies in settings[k] for each k and appends the
-// outcomes to rec in that order; see [Device]. Each distinct setting's
-// distribution is computed once per call (or taken from the cache). On bad
-// arguments Run returns an error and appends nothing.
+// outcomes to rec in that order; see [Device]. On bad arguments Run returns
+// an error and appends nothing.
+//
+// When settings get many shots each, every distinct setting's full
+// distribution is computed once (or taken from the cache) and sampled. When
+// they get few, Run instead rotates only the h highest qubits, once for all
+// settings that agree there, samples those qubits from their marginal
+// distribution (which the rotations of the other qubits leave unchanged),
+// and then rotates and samples the remaining 2^(n−h) amplitudes that agree
+// with the drawn bits. It picks h to minimise the estimated work.
 func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) error {
 	if err := checkRun(sim.n, settings, shots, rec); err != nil {
 		return err
@@ -154,7 +166,8 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 		offset[k+1] = offset[k] + m
 	}
 	out := make([]uint64, offset[len(settings)])
-	// Visit the distinct settings in order of first appearance.
+	// The distinct settings in order of first appearance, with the entries
+	// of each.
 	index := make(map[string]int)
 	var order [][]int
 	for k, s := range settings {
@@ -170,11 +183,39 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 		}
 		order[d] = append(order[d], k)
 	}
-	for _, ks := range order {
-		cum := sim.distribution(settings[ks[0]])
-		for _, k := range ks {
-			for j := offset[k]; j < offset[k+1]; j++ {
-				out[j] = sim.draw(cum)
+	keys := make([]uint64, len(order))
+	for d, ks := range order {
+		keys[d] = letterKey(settings[ks[0]])
+	}
+	h := sim.split(keys, offset[len(settings)])
+	if h == sim.n {
+		for _, ks := range order {
+			cum := sim.distribution(settings[ks[0]])
+			for _, k := range ks {
+				for j := offset[k]; j < offset[k+1]; j++ {
+					out[j] = sim.readout(sim.search(cum))
+				}
+			}
+		}
+	} else {
+		// Visit the distinct settings sorted by their letters on the h
+		// highest qubits, rotating those once per run of equal letters.
+		low := sim.n - h
+		byKey := make([]int, len(order))
+		for d := range byKey {
+			byKey[d] = d
+		}
+		slices.SortStableFunc(byKey, func(a, b int) int { return cmp.Compare(keys[a]>>(2*low), keys[b]>>(2*low)) })
+		for r := 0; r < len(byKey); {
+			prefix := keys[byKey[r]] >> (2 * low)
+			sim.rotateHigh(settings[order[byKey[r]][0]], low)
+			for ; r < len(byKey) && keys[byKey[r]]>>(2*low) == prefix; r++ {
+				ks := order[byKey[r]]
+				for _, k := range ks {
+					for j := offset[k]; j < offset[k+1]; j++ {
+						out[j] = sim.readout(sim.drawSplit(settings[k], low))
+					}
+				}
 			}
 		}
 	}
@@ -190,12 +231,101 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 	return nil
 }
 
-// draw samples one outcome from the cumulative distribution cum and applies
-// the readout errors.
-func (sim *Simulator) draw(cum []float64) uint64 {
+// letterKey packs the letters of s (at most 32 qubits) two bits each, qubit
+// n−1 in the highest place, so that sorting keys groups settings by their
+// letters on the highest qubits.
+func letterKey(s pauli.Setting) uint64 {
+	x, z := s.Words()
+	var k uint64
+	for q := s.Qubits() - 1; q >= 0; q-- {
+		k = k<<2 | uint64(letterCode(x, z, q))
+	}
+	return k
+}
+
+// split returns the number h of highest qubits to rotate once per group of
+// settings that agree on them, minimising the estimated number of
+// amplitude operations: for every distinct prefix, (1 + ⅔h)·2^n to rotate
+// and sum the marginal; for every shot, (1 + ⅔(n−h))·2^(n−h) to rotate and
+// sum the rest (⅔ of random letters need a gate). h = n is the full
+// distribution of every distinct setting.
+func (sim *Simulator) split(keys []uint64, shots int) int {
+	n := sim.n
+	sorted := slices.Clone(keys)
+	slices.Sort(sorted)
+	// distinct[h] counts the distinct letter prefixes on the h highest
+	// qubits: consecutive sorted keys that first differ at qubit q (from
+	// the top, 0-based) are distinct for every h > q.
+	distinct := make([]int, n+1)
+	for h := range distinct {
+		distinct[h] = 1
+	}
+	for i := 1; i < len(sorted); i++ {
+		d := sorted[i] ^ sorted[i-1]
+		top := (bits.LeadingZeros64(d) - (64 - 2*n)) / 2 // equal highest letters
+		for h := top + 1; h <= n; h++ {
+			distinct[h]++
+		}
+	}
+	best, bestCost := n, math.Inf(1)
+	full := float64(uint64(1) << n)
+	for h := 0; h <= n; h++ {
+		rest := float64(uint64(1) << (n - h))
+		cost := float64(distinct[h])*full*(1+2*float64(h)/3) + float64(shots)*rest*(1+2*float64(n-h)/3)
+		if cost < bestCost {
+			best, bestCost = h, cost
+		}
+	}
+	return best
+}
+
+// rotateHigh rotates qubits low..n−1 of a copy of the state into the bases
+// of s and sets sim.marg to the cumulative marginal weights of those
+// qubits' outcomes.
+func (sim *Simulator) rotateHigh(s pauli.Setting, low int) {
+	copy(sim.work, sim.state)
+	rotateQubits(sim.work, s, low, sim.n)
+	nh := 1 << (sim.n - low)
+	if cap(sim.marg) < nh {
+		sim.marg = make([]float64, nh)
+	}
+	sim.marg = sim.marg[:nh]
+	t := 0.0
+	size := 1 << low
+	for hi := range nh {
+		for _, v := range sim.work[hi*size : (hi+1)*size] {
+			t += real(v)*real(v) + imag(v)*imag(v)
+		}
+		sim.marg[hi] = t
+	}
+}
+
+// drawSplit draws one outcome of s after rotateHigh: the high bits from
+// their marginal, then the low bits from the rotated block of amplitudes
+// that carry those high bits.
+func (sim *Simulator) drawSplit(s pauli.Setting, low int) uint64 {
+	hi := sim.search(sim.marg)
+	size := 1 << low
+	if cap(sim.blk) < size {
+		sim.blk = make([]complex128, size)
+		sim.bcum = make([]float64, size)
+	}
+	blk, cum := sim.blk[:size], sim.bcum[:size]
+	copy(blk, sim.work[int(hi)*size:(int(hi)+1)*size])
+	rotateQubits(blk, s, 0, low)
+	t := 0.0
+	for a, v := range blk {
+		t += real(v)*real(v) + imag(v)*imag(v)
+		cum[a] = t
+	}
+	return sim.search(cum) | hi<<low
+}
+
+// search draws an index from the cumulative weights cum: the first index
+// whose cumulative weight exceeds a uniform draw below the total, so
+// outcomes of zero weight are never chosen.
+func (sim *Simulator) search(cum []float64) uint64 {
 	u := sim.rng.Float64() * cum[len(cum)-1]
-	// The first index whose cumulative weight exceeds u; outcomes of zero
-	// probability are never chosen.
 	lo, hi := 0, len(cum)-1
 	for lo < hi {
 		mid := int(uint(lo+hi) >> 1)
@@ -205,16 +335,18 @@ func (sim *Simulator) draw(cum []float64) uint64 {
 			lo = mid + 1
 		}
 	}
-	b := uint64(lo)
-	if sim.readout != nil {
-		for q, e := range sim.readout {
-			p := e.P01
-			if b>>q&1 == 1 {
-				p = e.P10
-			}
-			if p > 0 && sim.rng.Float64() < p {
-				b ^= 1 << q
-			}
+	return uint64(lo)
+}
+
+// readout applies the readout errors to outcome b.
+func (sim *Simulator) readout(b uint64) uint64 {
+	for q, e := range sim.readoutErr {
+		p := e.P01
+		if b>>q&1 == 1 {
+			p = e.P10
+		}
+		if p > 0 && sim.rng.Float64() < p {
+			b ^= 1 << q
 		}
 	}
 	return b
@@ -231,7 +363,7 @@ func (sim *Simulator) distribution(s pauli.Setting) []float64 {
 		}
 	}
 	copy(sim.work, sim.state)
-	rotate(sim.work, s)
+	rotateQubits(sim.work, s, 0, sim.n)
 	var cum []float64
 	if sim.cache.limit >= 8*len(sim.work) {
 		cum = sim.cache.put(key, 8*len(sim.work))
@@ -262,7 +394,7 @@ func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
 	}
 	dst = dst[:len(sim.state)]
 	copy(sim.work, sim.state)
-	rotate(sim.work, s)
+	rotateQubits(sim.work, s, 0, sim.n)
 	t := 0.0
 	for a, v := range sim.work {
 		dst[a] = real(v)*real(v) + imag(v)*imag(v)
@@ -274,15 +406,17 @@ func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
 	return dst
 }
 
-// rotate applies to the amplitudes a, in place, the basis change of s on
-// every qubit: Hadamard for X, S† then Hadamard for Y, nothing for Z. The
-// factor 1/√2 of each Hadamard is left out; callers normalise.
+// rotateQubits applies to the amplitudes a, in place, the basis change of s
+// on qubits lo..hi−1, qubit q being bit q of the index into a (a may be a
+// block that holds only the lowest qubits): Hadamard for X, S† then
+// Hadamard for Y, nothing for Z. The factor 1/√2 of each Hadamard is left
+// out; callers normalise.
 //
 // The X-basis outcome 0 is |+⟩ = (|0⟩+|1⟩)/√2, which H maps to |0⟩; the
 // Y-basis outcome 0 is |+i⟩ = (|0⟩+i|1⟩)/√2, which S† maps to |+⟩ and H to
 // |0⟩ (Nielsen & Chuang, §4.2; common practice).
-func rotate(a []complex128, s pauli.Setting) {
-	for q := range s.Qubits() {
+func rotateQubits(a []complex128, s pauli.Setting, lo, hi int) {
+	for q := lo; q < hi; q++ {
 		l := s.At(q)
 		if l == pauli.Z {
 			continue

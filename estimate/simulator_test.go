@@ -265,3 +265,90 @@ func TestProductState(t *testing.T) {
 		}
 	}
 }
+
+// TestSimulatorSplitBorn checks the sampler that rotates the high qubits
+// once and the low qubits per shot, for every split point, against the
+// Born rule with the same χ² test as TestSimulatorBorn (p < 0.001 fails,
+// a 0.1% false-failure rate per case).
+func TestSimulatorSplitBorn(t *testing.T) {
+	const shots = 8000
+	psi := randomState(4, 31)
+	s := pauli.MustParseSetting("YXZX")
+	want := bornReference(psi, s)
+	sim, err := NewSimulator(psi, 5, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for low := 0; low <= 4; low++ {
+		sim.rotateHigh(s, low)
+		count := make([]float64, 16)
+		for range shots {
+			count[sim.drawSplit(s, low)]++
+		}
+		chi2 := 0.0
+		for b, p := range want {
+			e := shots * p
+			chi2 += (count[b] - e) * (count[b] - e) / e
+		}
+		pv := (distuv.ChiSquared{K: 15}).Survival(chi2)
+		t.Logf("%d low qubits: χ² = %.2f, 15 degrees of freedom, p = %.3f", low, chi2, pv)
+		if pv < 0.001 {
+			t.Errorf("%d low qubits: χ² = %.2f, p = %.2g < 0.001; counts %v, Born %v", low, chi2, pv, count, want)
+		}
+	}
+}
+
+// TestSimulatorManySettings runs one shot in each of 3000 random settings
+// on a product eigenstate of XYZXYZXYZX, so that Run splits the qubits;
+// every qubit whose basis matches the state's must read its eigenvalue's
+// bit, and the others must read 0 and 1 about equally often.
+func TestSimulatorManySettings(t *testing.T) {
+	const n, count = 10, 3000
+	s0 := pauli.MustParseSetting("XYZXYZXYZX")
+	b0 := mustBits(t, "1101001110")
+	psi, err := EigenState(s0, b0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sim, err := NewSimulator(psi, 77, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(8, 9))
+	settings := make([]pauli.Setting, count)
+	shots := make([]int, count)
+	keys := make([]uint64, count)
+	for k := range settings {
+		settings[k] = randomSetting(rng, n)
+		shots[k] = 1
+		keys[k] = letterKey(settings[k])
+	}
+	if h := sim.split(keys, count); h == n {
+		t.Fatalf("split chose the full distribution for %d one-shot settings", count)
+	}
+	rec := NewRecords(n)
+	if err := sim.Run(settings, shots, rec); err != nil {
+		t.Fatal(err)
+	}
+	var random, ones float64
+	for k, sh := range rec.Shots() {
+		if !sh.Setting.Equal(settings[k]) {
+			t.Fatalf("shot %d has setting %s, want %s", k, sh.Setting, settings[k])
+		}
+		for q := range n {
+			if sh.Setting.At(q) == s0.At(q) {
+				if sh.Outcome.Get(q) != b0.Get(q) {
+					t.Fatalf("shot %d (%s): qubit %d read %d, want %d", k, sh.Setting, q, sh.Outcome.Get(q), b0.Get(q))
+				}
+				continue
+			}
+			random++
+			ones += float64(sh.Outcome.Get(q))
+		}
+	}
+	// Binomial(random, 1/2): 4.5 standard deviations, false-failure rate
+	// below 1e-5.
+	if sd := math.Sqrt(random / 4); math.Abs(ones-random/2) > 4.5*sd {
+		t.Errorf("unmatched qubits read 1 in %v of %v cases, want %v ± %.0f", ones, random, random/2, 4.5*sd)
+	}
+}

@@ -1,0 +1,119 @@
+package estimate
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+	"time"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// benchRecords returns shots random outcomes spread evenly over distinct
+// random settings on n qubits, in runs of one setting.
+func benchRecords(n, shots, distinct int, seed uint64) *Records {
+	rng := rand.New(rand.NewPCG(seed, 5))
+	rec := NewRecords(n)
+	b := pauli.NewBits(n)
+	per := shots / distinct
+	for range distinct {
+		s := randomSetting(rng, n)
+		for range per {
+			for k := range b {
+				b[k] = rng.Uint64()
+			}
+			if r := n & 63; r != 0 {
+				b[len(b)-1] &= 1<<r - 1
+			}
+			rec.Add(s, b)
+		}
+	}
+	return rec
+}
+
+// BenchmarkGrouped estimates from 10^5 shots of a 50-qubit Hamiltonian of
+// 10^5 random terms of weight 1 to 4, with the shots spread over 10^3
+// settings (a grouped plan) or 10^5 (one shot each, as random plans give).
+func BenchmarkGrouped(b *testing.B) {
+	for _, c := range []struct{ n, terms, shots, settings int }{
+		{50, 100000, 100000, 1000},
+		{50, 100000, 100000, 100000},
+		{50, 100000, 10000, 10000},
+	} {
+		h, err := hamiltonian.RandomLocal(c.n, c.terms, 4, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		rec := benchRecords(c.n, c.shots, c.settings, 2)
+		b.Run(fmt.Sprintf("qubits=%d/terms=%d/shots=%d/settings=%d", c.n, c.terms, c.shots, c.settings), func(b *testing.B) {
+			b.ReportAllocs()
+			start := cpuTime()
+			for b.Loop() {
+				if _, err := Grouped(h, rec, nil); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportCPU(b, start)
+		})
+	}
+}
+
+// BenchmarkUniformShadow is the shadow estimate on the one-shot-a-setting
+// records of BenchmarkGrouped.
+func BenchmarkUniformShadow(b *testing.B) {
+	h, err := hamiltonian.RandomLocal(50, 100000, 4, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rec := benchRecords(50, 100000, 100000, 2)
+	b.Run("qubits=50/terms=100000/shots=100000/settings=100000", func(b *testing.B) {
+		b.ReportAllocs()
+		start := cpuTime()
+		for b.Loop() {
+			if _, err := UniformShadow(h, rec, &Options{Batches: 10}); err != nil {
+				b.Fatal(err)
+			}
+		}
+		reportCPU(b, start)
+	})
+}
+
+// BenchmarkSimulator measures 10^4 shots, one for each of 10^4 distinct
+// random settings, of a random state.
+func BenchmarkSimulator(b *testing.B) {
+	for _, n := range []int{16, 20} {
+		const count = 10000
+		rng := rand.New(rand.NewPCG(3, 4))
+		settings := make([]pauli.Setting, count)
+		shots := make([]int, count)
+		for k := range settings {
+			settings[k] = randomSetting(rng, n)
+			shots[k] = 1
+		}
+		psi := randomState(n, 8)
+		b.Run(fmt.Sprintf("qubits=%d/settings=%d/shots=%d", n, count, count), func(b *testing.B) {
+			b.ReportAllocs()
+			start := cpuTime()
+			for b.Loop() {
+				sim, err := NewSimulator(psi, 1, nil)
+				if err != nil {
+					b.Fatal(err)
+				}
+				if err := sim.Run(settings, shots, NewRecords(n)); err != nil {
+					b.Fatal(err)
+				}
+			}
+			reportCPU(b, start)
+		})
+	}
+}
+
+// reportCPU reports the process CPU time per operation since start, which
+// on a machine shared with other work is a fairer single-core figure than
+// the wall-clock ns/op (run with GOMAXPROCS=1).
+func reportCPU(b *testing.B, start time.Duration) {
+	if t := cpuTime(); t > 0 {
+		b.ReportMetric(float64(t-start)/float64(b.N), "cpu-ns/op")
+	}
+}

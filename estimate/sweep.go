@@ -1,0 +1,138 @@
+package estimate
+
+import (
+	"math/bits"
+
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// sweep holds what the estimators need to visit every (term, shot) sample
+// term by term, so that a term's cover count is known before its samples
+// are read.
+//
+// For every qubit q and letter l it keeps the set of groups (distinct
+// settings) with l on q, as a bit set over groups; the groups covering a
+// term are the intersection of the sets of its letters, computed 64 groups
+// a word and abandoned for a word once it is empty. That costs about
+// weight·G/64 word operations per term for G groups, with no search per
+// setting. The outcomes are copied into one array in group order
+// (position off[g]+j for outcome j of group g), and the samples are visited
+// in blocks of groups so that the outcomes and per-shot sums of a block stay
+// in cache while every term passes over them.
+type sweep struct {
+	n, w   int
+	words  int      // words per group set: ⌈G/64⌉
+	sets   []uint64 // set of (q, l) at sets[(3q+l−1)·words:]
+	single []uint64 // the groups with exactly one shot
+	off    []int    // group g's outcomes are at positions off[g]..off[g+1]
+	flat   []uint64 // outcomes by position, w words each
+
+	rowOff []int    // term i's letters are rowIdx[rowOff[i]:rowOff[i+1]]
+	rowIdx []int32  // 3q+l−1 for each letter
+	supp   []uint64 // support words of every term, w a term
+}
+
+// blockWords is the number of group-set words (64 groups each) visited per
+// block: 4096 groups.
+const blockWords = 64
+
+func newSweep(rec *Records, t *pauli.Table) *sweep {
+	ng := rec.Groups()
+	s := &sweep{n: rec.Qubits(), w: rec.w, words: (ng + 63) >> 6}
+	s.sets = make([]uint64, 3*s.n*s.words)
+	s.single = make([]uint64, s.words)
+	s.off = make([]int, ng+1)
+	s.flat = make([]uint64, 0, rec.Len()*s.w)
+	for g := range ng {
+		x, z := rec.Setting(g).Words()
+		for q := range s.n {
+			s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
+		}
+		if rec.GroupLen(g) == 1 {
+			s.single[g>>6] |= 1 << (g & 63)
+		}
+		s.off[g+1] = s.off[g] + rec.GroupLen(g)
+		s.flat = append(s.flat, rec.out[g]...)
+	}
+	m := t.Len()
+	s.rowOff = make([]int, m+1)
+	s.supp = make([]uint64, 0, m*s.w)
+	for i := range m {
+		x, z := t.Words(i)
+		for k := range x {
+			u := x[k] | z[k]
+			s.supp = append(s.supp, u)
+			for u != 0 {
+				q := k<<6 + bits.TrailingZeros64(u)
+				u &= u - 1
+				s.rowIdx = append(s.rowIdx, int32(3*q+letterCode(x, z, q)-1))
+			}
+		}
+		s.rowOff[i+1] = len(s.rowIdx)
+	}
+	return s
+}
+
+// letterCode returns x | z<<1 for qubit q: X = 1, Z = 2, Y = 3.
+func letterCode(x, z []uint64, q int) int {
+	return int(x[q>>6]>>(q&63)&1 | (z[q>>6]>>(q&63)&1)<<1)
+}
+
+// rows returns the set indices of term i's letters.
+func (s *sweep) rows(i int) []int32 { return s.rowIdx[s.rowOff[i]:s.rowOff[i+1]] }
+
+// covering returns word k of the set of groups covering the term with
+// letter sets rs (non-empty: terms are not the identity).
+func (s *sweep) covering(rs []int32, k int) uint64 {
+	v := s.sets[int(rs[0])*s.words+k]
+	for _, r := range rs[1:] {
+		if v == 0 {
+			return 0
+		}
+		v &= s.sets[int(r)*s.words+k]
+	}
+	return v
+}
+
+// cover returns the number of shots whose setting covers term i.
+func (s *sweep) cover(i int) int {
+	rs := s.rows(i)
+	n := 0
+	for k := range s.words {
+		v := s.covering(rs, k)
+		if v == 0 {
+			continue
+		}
+		n += bits.OnesCount64(v & s.single[k])
+		for u := v &^ s.single[k]; u != 0; u &= u - 1 {
+			g := k<<6 + bits.TrailingZeros64(u)
+			n += s.off[g+1] - s.off[g]
+		}
+	}
+	return n
+}
+
+// termSupp returns the support words of term i.
+func (s *sweep) termSupp(i int) []uint64 { return s.supp[i*s.w : (i+1)*s.w] }
+
+// parity returns the parity of outcome b over the support words supp.
+func parity(b, supp []uint64) uint64 {
+	if len(supp) == 1 {
+		return uint64(bits.OnesCount64(b[0]&supp[0]) & 1)
+	}
+	c := 0
+	for k, m := range supp {
+		c += bits.OnesCount64(b[k] & m)
+	}
+	return uint64(c & 1)
+}
+
+// parityXZ returns the parity of outcome b over the support of the string
+// with words x, z.
+func parityXZ(b, x, z []uint64) uint64 {
+	c := 0
+	for k := range x {
+		c += bits.OnesCount64(b[k] & (x[k] | z[k]))
+	}
+	return uint64(c & 1)
+}
