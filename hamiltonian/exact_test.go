@@ -572,3 +572,28 @@ func TestApplyPanicsOnBadLength(t *testing.T) {
 		h.Apply(v, v)
 	}()
 }
+
+func TestGroundStateDegenerate(t *testing.T) {
+	// Exactly degenerate spectra end the Krylov space early; the eigenvalues
+	// are known by inspection (each Pauli string has eigenvalues ±1).
+	for _, tc := range []struct {
+		name string
+		h    *Hamiltonian
+		want float64
+	}{
+		{"zero Hamiltonian", mustNew(t, 4, 0, nil), 0},
+		{"offset only", mustNew(t, 3, -1.5, nil), -1.5},
+		{"−X0 on 3 qubits (4-fold)", mustNew(t, 3, 0, []Term{{ps("XII"), -1}}), -1},
+		{"Z0Z1 on 5 qubits (16-fold)", mustNew(t, 5, 0, []Term{{ps("ZZIII"), 1}}), -1},
+		{"commuting XX + ZZ (2-fold)", mustNew(t, 2, 0, []Term{{ps("XX"), 1}, {ps("ZZ"), 1}}), -2},
+	} {
+		gs, err := GroundState(tc.h, nil)
+		if err != nil {
+			t.Errorf("%s: %v", tc.name, err)
+			continue
+		}
+		if math.Abs(gs.Energy-tc.want) > 1e-12 || math.IsNaN(norm(gs.State)) || math.Abs(norm(gs.State)-1) > 1e-12 {
+			t.Errorf("%s: energy %v (‖ψ‖ = %v), want %v", tc.name, gs.Energy, norm(gs.State), tc.want)
+		}
+	}
+}
