@@ -36,10 +36,11 @@
 //
 // # After the shots
 //
-// [Empirical] bounds the grouped estimate from the records of fixed settings
-// with empirical Bernstein bounds per distinct setting and an explicit union
-// bound over the settings' shares of δ, or pooled over all shots
-// ([EmpiricalForm]). [RandomizedBound] does the same for plans whose
+// [Empirical] bounds the grouped estimate from the records of fixed settings,
+// either pooled over all shots (the default: per-setting variance bounds and
+// one Bernstein bound for the sum) or with empirical Bernstein bounds per
+// distinct setting and an explicit union bound over the settings' shares of
+// δ ([EmpiricalForm]). [RandomizedBound] does the same for plans whose
 // settings are drawn i.i.d. ([Randomized], MATH.md §4.1). [Sequential] runs an
 // estimate.Device in rounds and applies the bound after each round at
 // δ_k from a [StoppingSchedule], so that the bound at whichever round it

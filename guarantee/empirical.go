@@ -17,26 +17,31 @@ import (
 type EmpiricalForm int
 
 const (
+	// Pooled bounds the sum over all shots at once, which grows like the
+	// square root of the number of groups instead of linearly (derived
+	// here). With probability 1 − δ/2, every group's standard deviation is
+	// at most sqrt(V_g) + w_g sqrt(2 ln(2G/δ)/(t_g − 1)) (Maurer & Pontil
+	// 2009, Theorem 10, one-sided, rescaled to width w_g, V_g the unbiased
+	// sample variance of t_g samples, G groups; recalled from memory, and
+	// consistent with their Theorem 4, which follows from it and Bernstein's
+	// inequality and whose value REFERENCE_VALUES.md checks), capped at the
+	// largest possible value w_g/2, which a group of one shot gets. Then
+	// Bernstein's inequality for the independent centred shot terms, each
+	// within ±b with b the largest group width, bounds the sum at δ/2
+	// ([BernsteinRadius] with those variances). The default: it was the
+	// tightest form in every case of the package's coverage simulation.
+	Pooled EmpiricalForm = iota
 	// PerGroupAMS bounds each distinct setting's mean separately with the
 	// two-sided empirical Bernstein bound of Audibert, Munos & Szepesvári
 	// (2009, Theorem 1; [EmpiricalBernsteinAMS]) at its share of δ, and adds
-	// the groups' radii (a union bound over the groups). The default.
-	PerGroupAMS EmpiricalForm = iota
+	// the groups' radii (a union bound over the groups, with the shares of
+	// [EmpiricalOptions].Shares).
+	PerGroupAMS
 	// PerGroupMP is PerGroupAMS with the bound of Maurer & Pontil (2009,
 	// Theorem 4; [EmpiricalBernsteinMP]) applied to each side at half the
 	// group's share. A group of one shot gets the trivial radius (its
 	// interval's width).
 	PerGroupMP
-	// Pooled bounds the sum over all shots at once, which grows like the
-	// square root of the number of groups instead of linearly (derived
-	// here): with probability 1 − δ/2, every group's standard deviation is
-	// at most sqrt(V_g) + w_g sqrt(2 ln(2G/δ)/(t_g − 1)) (Maurer & Pontil
-	// 2009, Theorem 10, one-sided, rescaled to width w_g; recalled from
-	// memory; capped at the largest possible value w_g/2, which a group of
-	// one shot gets), and then Bernstein's inequality for the independent
-	// centred shot terms, each within ±b with b the largest group width,
-	// bounds the sum at δ/2 ([BernsteinRadius] with those variances).
-	Pooled
 )
 
 func (f EmpiricalForm) String() string {
@@ -58,12 +63,13 @@ type EmpiricalOptions struct {
 	// estimate.Options.Exclude (for example a [Truncation]'s Drop); their
 	// |h_i| is added to the bias. Nil leaves none out.
 	Exclude []bool
-	// Form chooses the bound; the zero value is PerGroupAMS.
+	// Form chooses the bound; the zero value is Pooled.
 	Form EmpiricalForm
 	// Shares, if not nil, splits δ over the groups of the records (in the
-	// records' group order) for the per-group forms: group g gets
-	// δ·Shares[g]/ΣShares. It must be chosen before seeing the data. Nil
-	// means equal shares.
+	// records' group order): with the per-group forms group g gets
+	// δ·Shares[g]/ΣShares for its mean, with Pooled half that for its
+	// variance bound (the other half of δ goes to the sum). It must be
+	// chosen before seeing the data. Nil means equal shares.
 	Shares []float64
 }
 
@@ -199,12 +205,12 @@ func radius(gs []*groupStat, delta float64, form EmpiricalForm, shares []float64
 	case Pooled:
 		// Variance bounds at δ/(2G) each, then Bernstein at δ/2 for
 		// Σ_g (weight_g/t_g) Σ_{n∈g} (w_n − μ_g).
-		dv := delta / (2 * float64(len(gs)))
 		v, b := 0.0, 0.0
 		for k, g := range gs {
+			dv := share(k) / 2
 			gb := GroupBound{Setting: g.setting, Samples: g.t, Weight: g.weight, Mean: g.mean(), Variance: g.variance(), Half: g.half, Delta: dv}
 			sd := g.half
-			if g.t >= 2 {
+			if g.t >= 2 && dv > 0 {
 				sd = min(sd, math.Sqrt(gb.Variance)+2*g.half*math.Sqrt(2*math.Log(1/dv)/float64(g.t-1)))
 			}
 			c := g.weight / float64(g.t)
@@ -294,7 +300,7 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 	if err := checkShares(o.Shares, rec.Groups()); err != nil {
 		return nil, err
 	}
-	if o.Form < PerGroupAMS || o.Form > Pooled {
+	if o.Form < Pooled || o.Form > PerGroupMP {
 		return nil, fmt.Errorf("guarantee: unknown empirical form %d", int(o.Form))
 	}
 	settings := make([]pauli.Setting, rec.Groups())

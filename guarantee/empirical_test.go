@@ -128,7 +128,7 @@ func TestEmpiricalShares(t *testing.T) {
 	for g := range shares {
 		shares[g] = float64(g + 1)
 	}
-	b, err := Empirical(h, rec, 0.1, &EmpiricalOptions{Shares: shares})
+	b, err := Empirical(h, rec, 0.1, &EmpiricalOptions{Shares: shares, Form: PerGroupAMS})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -143,6 +143,16 @@ func TestEmpiricalShares(t *testing.T) {
 	}
 	if !close(sumD, 0.1, 1e-14) || !close(sumR, b.Radius, 1e-12) {
 		t.Errorf("Σ shares = %g (want 0.1), Σ weight·radius = %g (want Radius %g)", sumD, sumR, b.Radius)
+	}
+	// Pooled: the variance bounds share δ/2 in the same proportions.
+	pooled, err := Empirical(h, rec, 0.1, &EmpiricalOptions{Shares: shares})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for g, gb := range pooled.Groups {
+		if want := 0.05 * shares[g] / total; !close(gb.Delta, want, 1e-14) {
+			t.Errorf("pooled group %d: δ share %g, want %g", g, gb.Delta, want)
+		}
 	}
 }
 

@@ -140,10 +140,12 @@ func ProductOf(h *hamiltonian.Hamiltonian, probs [][3]float64) (*Randomized, err
 
 // RandomizedBound bounds the error of the mean of the single-shot values X of
 // MATH.md §4.1 from records of a randomised plan with distribution d: the
-// X_n are i.i.d. in an interval of width d.Width, so the empirical
-// Bernstein bound of Audibert, Munos & Szepesvári (form PerGroupAMS; or
-// Maurer & Pontil, form PerGroupMP, two-sided; or the variance-bound and
-// Bernstein combination, form Pooled) applies to their mean directly. The
+// X_n are i.i.d. in an interval of width d.Width, so a bound for the mean of
+// bounded i.i.d. samples applies directly: with form Pooled (the default), a
+// variance bound (Maurer & Pontil 2009, Theorem 10) and Bernstein's
+// inequality at δ/2 each; with PerGroupAMS the empirical Bernstein bound of
+// Audibert, Munos & Szepesvári; with PerGroupMP that of Maurer & Pontil,
+// Theorem 4, two-sided. The
 // estimate is that mean, and the terms d never covers (f_i = 0) and the
 // excluded ones go into the bias. opts.Shares is ignored (one group).
 //
@@ -165,7 +167,7 @@ func RandomizedBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, d *Rando
 		return nil, fmt.Errorf("guarantee: no shots in the records")
 	case len(d.Cover) != h.Len():
 		return nil, fmt.Errorf("guarantee: distribution has cover probabilities for %d terms, Hamiltonian has %d", len(d.Cover), h.Len())
-	case o.Form < PerGroupAMS || o.Form > Pooled:
+	case o.Form < Pooled || o.Form > PerGroupMP:
 		return nil, fmt.Errorf("guarantee: unknown empirical form %d", int(o.Form))
 	}
 	if err := checkExclude(h, o.Exclude); err != nil {

@@ -78,7 +78,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 		return nil, fmt.Errorf("guarantee: Sequential: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.P != 0 && !(s.P > 1):
 		return nil, fmt.Errorf("guarantee: Sequential: P = %v, want 0 or more than 1", s.P)
-	case s.Form < PerGroupAMS || s.Form > Pooled:
+	case s.Form < Pooled || s.Form > PerGroupMP:
 		return nil, fmt.Errorf("guarantee: Sequential: unknown empirical form %d", int(s.Form))
 	}
 	if err := checkExclude(h, s.Exclude); err != nil {
