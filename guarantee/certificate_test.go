@@ -221,3 +221,24 @@ func TestCertifyOffsetOnly(t *testing.T) {
 		t.Errorf("Certify(offset only) = total %g, %d top terms, optimal %g (exact %v); want 0, 0, 0, true", c.Total, len(c.Top), c.Optimal.Total, c.Optimal.Exact)
 	}
 }
+
+// Past the storage cap the covered terms are found again by scans; the
+// certificate must not change.
+func TestCertifyRescanPath(t *testing.T) {
+	rng := rand.New(rand.NewPCG(8, 9))
+	h := randomH(t, rng, 6, 60, 3)
+	settings, shots := randomPlan(rng, 6, 40, 3)
+	stored, err := Certify(h, settings, shots, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer func(old int) { maxStored = old }(maxStored)
+	maxStored = 10
+	rescanned, err := Certify(h, settings, shots, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if diff := cmp.Diff(stored, rescanned, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
+		t.Errorf("certificate with rescans differs (-stored +rescanned):\n%s", diff)
+	}
+}

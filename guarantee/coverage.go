@@ -11,7 +11,7 @@ import (
 // maxStored is the number of (setting, term) cover pairs a coverage keeps in
 // memory (4 bytes each); past it, the covered terms of a setting are found
 // again by a scan when needed, which costs time instead of memory.
-const maxStored = 1 << 27
+var maxStored = 1 << 27
 
 // coverage is a plan reduced to its distinct settings, their multiplicities
 // m_Q, the terms each covers (a compressed row list) and every term's cover
