@@ -97,14 +97,14 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		if err == io.EOF {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
 				return nil, &LineError{Line: pe.Line, Reason: pe.Err.Error()}
 			}
-			return nil, fmt.Errorf("estimate: line %d: %w", line, err)
+			return nil, fmt.Errorf("estimate: reading records: %w", err)
 		}
+		line, _ := cr.FieldPos(0)
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
 				return nil, &LineError{Line: line, Reason: fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader)}
@@ -117,7 +117,10 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		}
 		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
 		var s pauli.Setting
-		if sf != "" && sf[0] >= '0' && sf[0] <= '9' {
+		if sf == "" {
+			return nil, &LineError{Line: line, Reason: "empty setting"}
+		}
+		if sf[0] >= '0' && sf[0] <= '9' {
 			k, err := strconv.Atoi(sf)
 			switch {
 			case err != nil:
@@ -137,9 +140,6 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 				reason := err.Error()
 				if errors.As(err, &pe) {
 					reason = pe.Reason
-				}
-				if sf == "" {
-					reason = "empty"
 				}
 				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q: %s", sf, reason)}
 			}

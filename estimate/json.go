@@ -62,7 +62,10 @@ func (r *Records) UnmarshalJSON(b []byte) error {
 		settings[k] = s
 	}
 	rec := NewRecords(j.Qubits)
-	bits := pauli.NewBits(j.Qubits)
+	var bits pauli.Bits
+	if len(settings) > 0 { // the settings' text bounds the width
+		bits = pauli.NewBits(j.Qubits)
+	}
 	for k, s := range j.Shots {
 		if s.Setting < 0 || s.Setting >= len(settings) {
 			return fmt.Errorf("estimate: %w: shot %d: setting index %d out of range: %d settings", ErrFormat, k, s.Setting, len(settings))

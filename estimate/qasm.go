@@ -161,7 +161,6 @@ func ReadManifest(r io.Reader) (settings []pauli.Setting, shots []int, err error
 		if err == io.EOF {
 			break
 		}
-		line, _ := cr.FieldPos(0)
 		if err != nil {
 			var pe *csv.ParseError
 			if errors.As(err, &pe) {
@@ -169,6 +168,7 @@ func ReadManifest(r io.Reader) (settings []pauli.Setting, shots []int, err error
 			}
 			return nil, nil, err
 		}
+		line, _ := cr.FieldPos(0)
 		if !header {
 			if strings.Join(f, ",") != manifestHeader {
 				return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("header %q, want %q", strings.Join(f, ","), manifestHeader)}
