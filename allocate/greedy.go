@@ -44,18 +44,24 @@ type Greedy struct {
 
 	rk    *ranked
 	index *coverIndex
-	cnt   []int32   // N of rank r
-	cur   []float64 // true weight of rank r (tier-shifted for N = 0)
-	tier  float64   // added to |h| for uncovered terms, above every w_i
-	heap  []entry   // max-heap by (key desc, rank asc); key ≥ cur
-	pos   []int32   // heap position of rank r
-	front []entry   // frontier of the walk, a max-heap
-	stale []int32   // ranks found stale by the walk, to repair
-	hit   []int32   // scratch: ranks covered by the last setting
+	st    []state // per rank, in one cache line: cover count and weights
+	tier  float64 // added to |h| for uncovered terms, above every w_i
+	heap  []entry // max-heap by (key desc, rank asc); key ≥ cur
+	pos   []int32 // heap position of rank r
+	front []entry // frontier of the walk, a max-heap
+	stale []int32 // ranks found stale by the walk, to repair
+	hit   []int32 // scratch: ranks covered by the last setting
 	gain  []float64
 	px    []uint64 // letters fixed so far
 	pz    []uint64
 	fixed []uint64 // qubits fixed so far
+}
+
+// state is what a cover changes about a term.
+type state struct {
+	cur float64 // true weight (tier-shifted for N = 0)
+	abs float64 // |h_i|
+	cnt int64   // N_i
 }
 
 // entry is a heap entry: a term's rank and stored weight, and, in the
@@ -84,15 +90,14 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	rk := g.rk
 	m := len(rk.order)
 	g.index = newCoverIndex(rk.n, m, rk.row)
-	g.cnt = make([]int32, m)
-	g.cur = make([]float64, m)
+	g.st = make([]state, m)
 	g.heap = make([]entry, m)
 	g.pos = make([]int32, m)
 	g.tier = rk.abs[0] // the largest |h|; every w_i ≤ (1−1/√2)|h_i| is below it
 	for r := range m {
 		// Rank order is descending by key, so it is already a heap.
-		g.cur[r] = rk.abs[r] + g.tier
-		g.heap[r] = entry{key: g.cur[r], r: int32(r)}
+		g.st[r] = state{cur: rk.abs[r] + g.tier, abs: rk.abs[r]}
+		g.heap[r] = entry{key: g.st[r].cur, r: int32(r)}
 		g.pos[r] = int32(r)
 	}
 	g.gain = g.gain[:0]
@@ -152,7 +157,7 @@ func (g *Greedy) walk() {
 					g.pushFront(c + 1)
 				}
 			}
-			if t := g.cur[e.r]; e.key != t {
+			if t := g.st[e.r].cur; e.key != t {
 				// Stale: the term comes back at its true weight.
 				g.stale = append(g.stale, e.r)
 				g.pushBack(entry{key: t, r: e.r, p: -1})
@@ -186,7 +191,7 @@ func (g *Greedy) walk() {
 	}
 	for _, r := range g.stale {
 		p := g.pos[r]
-		g.heap[p].key = g.cur[r]
+		g.heap[p].key = g.st[r].cur
 		g.siftDown(p)
 	}
 }
@@ -203,14 +208,15 @@ func (g *Greedy) allFixed() bool {
 // bump records one more cover of rank r. Its weight falls; the heap entry
 // keeps the old, larger key until a walk meets it.
 func (g *Greedy) bump(r int32) {
-	g.cnt[r]++
-	n := int(g.cnt[r])
+	st := &g.st[r]
+	st.cnt++
+	n := int(st.cnt)
 	for len(g.gain) <= n {
 		// gain[N] = 1/sqrt(N) − 1/sqrt(N+1), MATH §5.1.
 		k := float64(len(g.gain))
 		g.gain = append(g.gain, 1/math.Sqrt(k)-1/math.Sqrt(k+1))
 	}
-	g.cur[r] = g.rk.abs[r] * g.gain[n]
+	st.cur = st.abs * g.gain[n]
 }
 
 func (g *Greedy) siftDown(i int32) {
@@ -291,6 +297,6 @@ func (g *Greedy) popFront() entry {
 // Cover implements [Counter].
 func (g *Greedy) Cover(dst []int) {
 	for r, i := range g.rk.order {
-		dst[i] = int(g.cnt[r])
+		dst[i] = int(g.st[r].cnt)
 	}
 }

@@ -193,17 +193,32 @@ func (c *coverIndex) appendCovered(dst []int32, sx, sz []uint64) []int32 {
 			dst = dst[:k]
 			return
 		}
-	entries:
-		for e := lo; e < hi; e++ {
-			o := 2 * w * int(e)
-			for k := range w {
-				x, z := c.words[o+k], c.words[o+w+k]
-				if ((x^sx[k])|(z^sz[k]))&(x|z) != 0 {
-					continue entries
-				}
+		k := len(dst)
+		dst = slices.Grow(dst, int(hi-lo))[:k+int(hi-lo)]
+		ids := c.ids[lo:hi]
+		if w == 2 {
+			x0, x1, z0, z1 := sx[0], sx[1], sz[0], sz[1]
+			words := c.words[4*lo : 4*hi]
+			for j, id := range ids {
+				e := words[4*j : 4*j+4 : 4*j+4]
+				m := ((e[0]^x0)|(e[2]^z0))&(e[0]|e[2]) | ((e[1]^x1)|(e[3]^z1))&(e[1]|e[3])
+				dst[k] = id
+				k += int(1 ^ (m|-m)>>63)
 			}
-			dst = append(dst, c.ids[e])
+			dst = dst[:k]
+			return
 		}
+		for j, id := range ids {
+			o := 2 * w * (int(lo) + j)
+			var m uint64
+			for i := range w {
+				x, z := c.words[o+i], c.words[o+w+i]
+				m |= ((x ^ sx[i]) | (z ^ sz[i])) & (x | z)
+			}
+			dst[k] = id
+			k += int(1 ^ (m|-m)>>63)
+		}
+		dst = dst[:k]
 	}
 	n32 := int32(n)
 	base := int32(0)
