@@ -1,0 +1,71 @@
+package main
+
+import (
+	"flag"
+	"fmt"
+
+	"github.com/shotplan/shotplan/guarantee"
+)
+
+func certifyFlags(fs *flag.FlagSet, e *env) func() error {
+	ham := fs.String("ham", "", "Hamiltonian file (required)")
+	plan := fs.String("plan", "", "plan file (required)")
+	delta := fs.Float64("delta", 0.05, "failure probability δ: the bound holds with probability at least 1 − δ")
+	top := fs.Int("top", 5, "number of terms listed by their share of the bound")
+	return func() error {
+		if err := e.positional(0, ""); err != nil {
+			return err
+		}
+		if !(*delta > 0 && *delta < 1) {
+			return badf("-delta %g: want a value in (0, 1)", *delta)
+		}
+		h, err := loadHam(*ham)
+		if err != nil {
+			return err
+		}
+		f, err := loadPlan(*plan, h, *ham)
+		if err != nil {
+			return err
+		}
+		c, err := guarantee.CertifyPlan(h, f.Plan, *delta, &guarantee.Options{Top: max(*top, 0)})
+		if err != nil {
+			return err
+		}
+		if e.json {
+			type term struct {
+				Term  int     `json:"term"`
+				Pauli string  `json:"pauli"`
+				Coeff float64 `json:"coeff"`
+				Cover int     `json:"cover"`
+				Share float64 `json:"share"`
+			}
+			type trunc struct {
+				Dropped int     `json:"dropped"`
+				Epsilon float64 `json:"epsilon"`
+			}
+			out := struct {
+				Shots       int     `json:"shots"`
+				Settings    int     `json:"settings"`
+				Delta       float64 `json:"delta"`
+				Epsilon     float64 `json:"epsilon"`
+				EpsilonStat float64 `json:"epsilon_stat"`
+				Bias        float64 `json:"bias"`
+				Uncovered   int     `json:"uncovered"`
+				OneNorm     float64 `json:"one_norm"`
+				Relaxed     float64 `json:"epsilon_relaxed"`
+				Variance    float64 `json:"variance"`
+				Top         []term  `json:"top"`
+				Threshold   trunc   `json:"truncation_threshold"`
+				Optimal     trunc   `json:"truncation_optimal"`
+			}{c.Shots, c.Settings, c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered, c.OneNorm, c.RelaxedRadius + c.Bias, c.Variance,
+				[]term{}, trunc{c.Threshold.Dropped, c.Threshold.Total}, trunc{c.Optimal.Dropped, c.Optimal.Total}}
+			for _, t := range c.Top {
+				out.Top = append(out.Top, term{t.Term, t.Pauli.String(), t.Coeff, t.Cover, t.Share})
+			}
+			return e.writeJSON(out)
+		}
+		fmt.Fprintf(e.stdout, "%s on %s: certified before any shot, for every state (shot noise only)\n", *plan, *ham)
+		fmt.Fprintln(e.stdout, c.String())
+		return nil
+	}
+}

@@ -1,0 +1,97 @@
+package main
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/atomicfile"
+)
+
+// loadHam reads the Hamiltonian file given by -ham.
+func loadHam(path string) (*hamiltonian.Hamiltonian, error) {
+	if err := need("ham", path); err != nil {
+		return nil, err
+	}
+	h, err := hamiltonian.ReadFile(path)
+	return h, bad(err)
+}
+
+// loadPlan reads the plan file given by -plan and, if h is not nil, checks
+// that the plan was made for h (read from hamPath).
+func loadPlan(path string, h *hamiltonian.Hamiltonian, hamPath string) (*allocate.PlanFile, error) {
+	if err := need("plan", path); err != nil {
+		return nil, err
+	}
+	f, err := allocate.ReadPlanFile(path)
+	if err != nil {
+		return nil, bad(err)
+	}
+	if h != nil {
+		if err := f.Check(h); err != nil {
+			return nil, badf("%w (Hamiltonian %s)", err, hamPath)
+		}
+	}
+	return f, nil
+}
+
+// isJSON reports whether a file name asks for the JSON form.
+func isJSON(path string) bool { return strings.EqualFold(filepath.Ext(path), ".json") }
+
+// writeHam writes h in the text format, or in the JSON form for a .json
+// name, atomically.
+func writeHam(path string, h *hamiltonian.Hamiltonian) error {
+	if !isJSON(path) {
+		return hamiltonian.WriteFile(path, h)
+	}
+	b, err := json.MarshalIndent(h, "", "  ")
+	if err != nil {
+		return err
+	}
+	return atomicfile.Write(path, func(w io.Writer) error {
+		_, err := w.Write(append(b, '\n'))
+		return err
+	})
+}
+
+// parseReadout parses -readout: empty for none, "P" for a symmetric flip
+// probability on every qubit, or "P01,P10".
+func parseReadout(s string, qubits int) ([]estimate.Readout, error) {
+	if s == "" {
+		return nil, nil
+	}
+	parts := strings.Split(s, ",")
+	if len(parts) > 2 {
+		return nil, badf("-readout %q: want P or P01,P10", s)
+	}
+	var p [2]float64
+	for k, f := range parts {
+		v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil || v < 0 || v >= 0.5 {
+			return nil, badf("-readout %q: %q is not a probability in [0, 0.5)", s, f)
+		}
+		p[k] = v
+	}
+	if len(parts) == 1 {
+		p[1] = p[0]
+	}
+	r := make([]estimate.Readout, qubits)
+	for q := range r {
+		r[q] = estimate.Readout{P01: p[0], P10: p[1]}
+	}
+	return r, nil
+}
+
+// plural returns "1 term" or "2 terms".
+func plural(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return fmt.Sprintf("%d %ss", n, word)
+}

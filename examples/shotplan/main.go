@@ -1,0 +1,219 @@
+// Command shotplan runs the file-based workflow of the shotplan library, one
+// subcommand per step. Every step reads and writes files, so the steps can
+// run on different machines (plan on a laptop, measure on the device's host,
+// estimate anywhere):
+//
+//	shotplan info     [-exact] [-json] HAMILTONIAN
+//	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
+//	shotplan plan     -ham H -strategy NAME -shots N [-seed S] -o PLAN
+//	shotplan certify  -ham H -plan PLAN [-delta 0.05]
+//	shotplan export   -plan PLAN -o DIR
+//	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P] -o RECORDS
+//	shotplan estimate -ham H -plan PLAN -records RECORDS [-delta 0.05]
+//
+// Every subcommand takes -h for its flags and -json for machine-readable
+// output on standard output. Hamiltonian files are in the text or JSON
+// format of package hamiltonian, plan files in the format of
+// allocate.WritePlan, records in the CSV or JSON form of package estimate
+// (chosen by the file name's extension, .json or anything else).
+//
+// Bad input — a missing or malformed file, an unknown strategy, a plan made
+// for another Hamiltonian — ends the command with exit status 2 and one line
+// on standard error naming the file, the line and the problem. Output files
+// are written atomically: a failed step leaves no partial file.
+package main
+
+import (
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+)
+
+func main() {
+	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+// command is one subcommand.
+type command struct {
+	name    string
+	summary string
+	// flags defines the subcommand's flags on fs and returns the function
+	// that runs it once they are parsed.
+	flags func(fs *flag.FlagSet, env *env) func() error
+	usage string // the argument synopsis after the name
+	// more, if not nil, returns text printed after the flags by -h.
+	more func() string
+}
+
+var commands = []command{
+	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact] [-json] HAMILTONIAN", nil},
+	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
+	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H -strategy NAME -shots N [-seed S] -o PLAN", strategyHelp},
+	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta 0.05]", nil},
+	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
+	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] -o RECORDS", nil},
+	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05]", nil},
+}
+
+// env is what a subcommand writes to.
+type env struct {
+	stdout, stderr io.Writer
+	json           bool
+	args           []string // positional arguments, wherever they stood among the flags
+}
+
+// inputError marks an error caused by the command's input (files, flags,
+// arguments): it ends the command with exit status 2.
+type inputError struct{ err error }
+
+func (e inputError) Error() string { return e.err.Error() }
+func (e inputError) Unwrap() error { return e.err }
+
+// bad marks err as an input error; nil stays nil.
+func bad(err error) error {
+	if err == nil {
+		return nil
+	}
+	return inputError{err}
+}
+
+// badf is bad(fmt.Errorf(...)).
+func badf(format string, args ...any) error { return inputError{fmt.Errorf(format, args...)} }
+
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		mainUsage(stderr)
+		return 2
+	}
+	switch args[0] {
+	case "-h", "-help", "--help", "help":
+		mainUsage(stdout)
+		return 0
+	}
+	for _, c := range commands {
+		if c.name == args[0] {
+			return runCommand(c, args[1:], stdout, stderr)
+		}
+	}
+	fmt.Fprintf(stderr, "shotplan: unknown command %q (commands: %s; see shotplan -h)\n", args[0], commandNames())
+	return 2
+}
+
+func commandNames() string {
+	var names []string
+	for _, c := range commands {
+		names = append(names, c.name)
+	}
+	return strings.Join(names, ", ")
+}
+
+func mainUsage(w io.Writer) {
+	fmt.Fprintln(w, "usage: shotplan COMMAND [flags]\n\nThe file-based workflow of shotplan, one step per command:")
+	for _, c := range commands {
+		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintln(w, "\nRun shotplan COMMAND -h for the flags of a command. Every command takes -json.")
+}
+
+func runCommand(c command, args []string, stdout, stderr io.Writer) int {
+	e := &env{stdout: stdout, stderr: stderr}
+	fs := flag.NewFlagSet("shotplan "+c.name, flag.ContinueOnError)
+	fs.SetOutput(io.Discard) // parse errors are reported in one line below
+	fs.BoolVar(&e.json, "json", false, "print the result as JSON on standard output")
+	exec := c.flags(fs, e)
+	fs.Usage = func() {
+		fmt.Fprintf(fs.Output(), "usage: shotplan %s %s\n\n%s.\n\nflags:\n", c.name, c.usage, upperFirst(c.summary))
+		fs.PrintDefaults()
+		if c.more != nil {
+			fmt.Fprint(fs.Output(), c.more())
+		}
+	}
+	if err := parse(fs, args, e); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			fs.SetOutput(stdout)
+			fs.Usage()
+			return 0
+		}
+		fmt.Fprintf(stderr, "shotplan %s: %v (see shotplan %s -h)\n", c.name, err, c.name)
+		return 2
+	}
+	err := exec()
+	if err == nil {
+		return 0
+	}
+	fmt.Fprintf(stderr, "shotplan %s: %s\n", c.name, firstLine(err))
+	var ie inputError
+	if errors.As(err, &ie) {
+		return 2
+	}
+	return 1
+}
+
+func upperFirst(s string) string {
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + s[1:]
+}
+
+// firstLine returns the first line of an error's message, noting how many
+// more there were: the readers join one error per bad line.
+func firstLine(err error) string {
+	msg := err.Error()
+	i := strings.IndexByte(msg, '\n')
+	if i < 0 {
+		return msg
+	}
+	return fmt.Sprintf("%s (and %d more errors)", msg[:i], strings.Count(msg, "\n"))
+}
+
+// writeJSON prints v as indented JSON.
+func (e *env) writeJSON(v any) error {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		return err
+	}
+	b = append(b, '\n')
+	_, err = e.stdout.Write(b)
+	return err
+}
+
+// parse parses flags and positional arguments in any order.
+func parse(fs *flag.FlagSet, args []string, e *env) error {
+	for {
+		if err := fs.Parse(args); err != nil {
+			return err
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return nil
+		}
+		e.args = append(e.args, args[0])
+		args = args[1:]
+	}
+}
+
+// positional checks the number of positional arguments.
+func (e *env) positional(n int, what string) error {
+	switch {
+	case len(e.args) == n:
+		return nil
+	case n == 0:
+		return badf("unexpected argument %q (inputs are given by flags)", e.args[0])
+	case len(e.args) == 0:
+		return badf("missing argument: %s", what)
+	}
+	return badf("want one argument, %s; got %d", what, len(e.args))
+}
+
+// need checks that a required flag was given.
+func need(flagName, value string) error {
+	if value == "" {
+		return badf("flag -%s is required", flagName)
+	}
+	return nil
+}

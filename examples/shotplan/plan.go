@@ -1,0 +1,139 @@
+package main
+
+import (
+	"bufio"
+	"flag"
+	"fmt"
+	"os"
+	"strings"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// strategyNotes describes the built-in strategies in -h; a name that
+// allocate.Names lists and this map lacks is still listed.
+var strategyNotes = map[string]string{
+	"greedy":     "greedy one-norm descent (ShadowGrouping, arXiv:2301.03385)",
+	"derand":     "derandomized classical shadows (arXiv:2103.07510)",
+	"random":     "uniformly random bases, classical shadows (arXiv:2002.08953)",
+	"biased":     "locally biased random bases (arXiv:2006.15788)",
+	"sorted":     "sorted insertion, shots ∝ group one-norm (arXiv:1908.06942)",
+	"importance": "single-term importance sampling (closed-form baseline)",
+	"fixed":      "your own settings from -settings, cycled",
+}
+
+func strategyHelp() string {
+	var b strings.Builder
+	b.WriteString("\nstrategies (-strategy):\n")
+	for _, n := range allocate.Names() {
+		fmt.Fprintf(&b, "  %-10s %s\n", n, strategyNotes[n])
+	}
+	return b.String()
+}
+
+func planFlags(fs *flag.FlagSet, e *env) func() error {
+	ham := fs.String("ham", "", "Hamiltonian file (required)")
+	strategy := fs.String("strategy", "greedy", "allocation strategy: "+strings.Join(allocate.Names(), ", "))
+	shots := fs.Int("shots", 1000, "number of shots to plan")
+	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
+	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
+	out := fs.String("o", "", "output plan file (required)")
+	return func() error {
+		if err := e.positional(0, ""); err != nil {
+			return err
+		}
+		if err := need("o", *out); err != nil {
+			return err
+		}
+		a, err := allocate.ByName(*strategy, *seed)
+		if err != nil {
+			return bad(err)
+		}
+		if *shots < 1 {
+			return badf("-shots %d: want at least 1", *shots)
+		}
+		h, err := loadHam(*ham)
+		if err != nil {
+			return err
+		}
+		if f, ok := a.(*allocate.Fixed); ok {
+			if f.Settings, err = readSettings(*settings, h.Qubits()); err != nil {
+				return err
+			}
+		} else if *settings != "" {
+			return badf("-settings is for -strategy fixed, not %s", *strategy)
+		}
+		p, err := allocate.Run(h, *shots, a, nil)
+		if err != nil {
+			return err
+		}
+		if err := allocate.WritePlanFile(*out, p, *seed); err != nil {
+			return bad(err)
+		}
+		distinct, _ := p.Distinct()
+		uncovered := 0
+		for _, c := range p.Cover {
+			if c == 0 {
+				uncovered++
+			}
+		}
+		res := struct {
+			Output    string  `json:"output"`
+			Strategy  string  `json:"strategy"`
+			Seed      uint64  `json:"seed"`
+			Qubits    int     `json:"qubits"`
+			Terms     int     `json:"terms"`
+			Shots     int     `json:"shots"`
+			Settings  int     `json:"settings"`
+			Uncovered int     `json:"uncovered"`
+			Seconds   float64 `json:"seconds"`
+		}{*out, p.Stats.Strategy, *seed, p.Qubits, len(p.Cover), p.TotalShots(), len(distinct), uncovered, p.Stats.Elapsed.Seconds()}
+		if e.json {
+			return e.writeJSON(res)
+		}
+		fmt.Fprintf(e.stdout, "wrote %s: %s strategy, %d shots on %s", *out, res.Strategy, res.Shots, plural(res.Settings, "distinct setting"))
+		if uncovered > 0 {
+			fmt.Fprintf(e.stdout, "; %s never measured", plural(uncovered, "term"))
+		}
+		fmt.Fprintln(e.stdout)
+		return nil
+	}
+}
+
+// readSettings reads a file of settings, one per line; blank lines and
+// text after '#' are ignored.
+func readSettings(path string, qubits int) ([]pauli.Setting, error) {
+	if path == "" {
+		return nil, badf("-strategy fixed needs -settings FILE (one setting per line)")
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, bad(err)
+	}
+	defer f.Close()
+	var out []pauli.Setting
+	sc := bufio.NewScanner(f)
+	for line := 1; sc.Scan(); line++ {
+		text, _, _ := strings.Cut(sc.Text(), "#")
+		text = strings.TrimSpace(text)
+		if text == "" {
+			continue
+		}
+		s, err := pauli.ParseSetting(text)
+		if err != nil {
+			return nil, badf("%s: line %d: %w", path, line, err)
+		}
+		if s.Qubits() != qubits {
+			return nil, badf("%s: line %d: setting %s has %d qubits, the Hamiltonian %d", path, line, text, s.Qubits(), qubits)
+		}
+		out = append(out, s)
+	}
+	if err := sc.Err(); err != nil {
+		return nil, badf("%s: %w", path, err)
+	}
+	if len(out) == 0 {
+		return nil, badf("%s: no settings", path)
+	}
+	return out, nil
+}
