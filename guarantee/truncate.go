@@ -88,11 +88,16 @@ func thresholdTruncation(c *coverage, a []float64, delta float64) Truncation {
 // With at most enumerate candidates, every subset is tried in Gray-code order
 // (each step moves one term and updates the s_Q of its settings), which is
 // exact. With more, a local search (single moves until none improves F)
-// starts from "drop none" and from "drop all candidates", and the better
-// result is reported with a lower bound from the convex relaxation: F
-// extended to kept fractions x ∈ [0, 1] is linear plus a norm, hence convex,
-// and a Frank–Wolfe run gives F(x) + min_y ∇F(x)·(y − x) ≤ min F. Exact is
-// then true only if the bound meets the value found.
+// starts from "drop none" and from "drop all candidates", and its better
+// result seeds a depth-first branch and bound (see branchAndBound), which is
+// exact when it completes within bnbBudget steps. If it does not, the best
+// set found is reported with a lower bound: the smallest bound of the open
+// nodes, or, if larger, one from the convex relaxation — F extended to kept
+// fractions x ∈ [0, 1] is linear plus a norm, hence convex, and a Frank–Wolfe
+// run gives F(x) + min_y ∇F(x)·(y − x) ≤ min F. The general problem (a
+// linear term plus the norm of a nonnegative combination, over subsets) has
+// no known polynomial algorithm, so a search this size can fail to finish;
+// Exact says whether it did.
 func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int) Truncation {
 	l := math.Log(2 / delta)
 	cc := math.Sqrt(2 * l)
@@ -179,8 +184,15 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int
 		} else {
 			best = fromNone
 		}
-		method = fmt.Sprintf("local search over %d candidate terms (more than %d), lower bound by Frank–Wolfe on the convex relaxation", len(cand), enumerate)
-		lower = st.frankWolfeLower(best)
+		var complete bool
+		best, lower, complete = st.branchAndBound(best, bnbBudget)
+		if complete {
+			exact = true
+			method = fmt.Sprintf("exact: branch and bound over the %d terms with 0 < N_i < 2 ln(2/δ)", len(cand))
+		} else {
+			method = fmt.Sprintf("branch and bound over %d candidate terms stopped at its work limit; lower bound from the open nodes and Frank–Wolfe on the convex relaxation", len(cand))
+			lower = max(lower, st.frankWolfeLower(best))
+		}
 	}
 	for k, i := range cand {
 		drop[i] = best[k]
@@ -194,6 +206,9 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int
 	}
 	return t
 }
+
+// bnbBudget bounds the work of the branch and bound, in elementary steps.
+var bnbBudget = 20_000_000
 
 // dropState tracks the kept loads s_Q, V and the bias while candidate terms
 // move in and out of the dropped set.

@@ -64,10 +64,33 @@ func TestOptimalTruncationExact(t *testing.T) {
 	}
 }
 
-// With enumeration switched off (Enumerate 1), the local search and the
-// Frank–Wolfe bound bracket the brute-force optimum.
-func TestOptimalTruncationLocalSearchBracket(t *testing.T) {
+// With enumeration switched off (Enumerate 1), branch and bound finds the
+// brute-force optimum and says so.
+func TestOptimalTruncationBranchAndBound(t *testing.T) {
 	rng := rand.New(rand.NewPCG(13, 14))
+	for trial := range 100 {
+		n := 3 + rng.IntN(3)
+		h := randomH(t, rng, n, 6+rng.IntN(8), 2)
+		settings, shots := randomPlan(rng, n, 3+rng.IntN(6), 3)
+		c, err := newCoverage(h, settings, shots)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert := certify(c, 0.05, &Options{Enumerate: 1})
+		want := bruteForceOptimum(c, c.weights(), 0.05)
+		if o := cert.Optimal; !o.Exact || !close(o.Total, want, 1e-12) || !close(o.Lower, want, 1e-12) {
+			t.Errorf("trial %d: branch and bound = %.15g (lower %.15g, exact %v), brute force %.15g", trial, o.Total, o.Lower, o.Exact, want)
+		}
+	}
+}
+
+// With the branch and bound cut off at once, the local search and the lower
+// bounds still bracket the brute-force optimum.
+func TestOptimalTruncationBracket(t *testing.T) {
+	defer func(old int) { bnbBudget = old }(bnbBudget)
+	bnbBudget = 0
+	rng := rand.New(rand.NewPCG(15, 16))
+	inexact := 0
 	for trial := range 100 {
 		n := 3 + rng.IntN(3)
 		h := randomH(t, rng, n, 6+rng.IntN(8), 2)
@@ -80,10 +103,16 @@ func TestOptimalTruncationLocalSearchBracket(t *testing.T) {
 		want := bruteForceOptimum(c, c.weights(), 0.05)
 		o := cert.Optimal
 		if o.Total < want*(1-1e-12) || o.Lower > want*(1+1e-9) {
-			t.Errorf("trial %d: local search %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Total, o.Lower, want)
+			t.Errorf("trial %d: found %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Total, o.Lower, want)
 		}
 		if o.Exact && !close(o.Total, want, 1e-9) {
 			t.Errorf("trial %d: Exact claimed at %.12g, optimum %.12g", trial, o.Total, want)
 		}
+		if !o.Exact {
+			inexact++
+		}
+	}
+	if inexact == 0 {
+		t.Errorf("no trial left inexact: the cut-off path is not exercised")
 	}
 }
