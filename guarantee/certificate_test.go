@@ -49,7 +49,7 @@ func TestCertifyWorkedExample(t *testing.T) {
 		{"RelaxedShare[IZ]", c.RelaxedShare[1], math.Sqrt(2*l) * 0.25},
 	}
 	for _, ch := range checks {
-		if !close(ch.got, ch.want, tol) {
+		if !near(ch.got, ch.want, tol) {
 			t.Errorf("Certify(worked example).%s = %.15g, want %.15g", ch.name, ch.got, ch.want)
 		}
 	}
@@ -92,7 +92,7 @@ func TestCertifyRandomPlans(t *testing.T) {
 			t.Fatal(err)
 		}
 		v, one, bias := referenceV(h, settings, shots)
-		if !close(c.Variance, v, 1e-12) || !close(c.OneNorm, one, 1e-12) || !close(c.Bias, bias, 1e-12) {
+		if !near(c.Variance, v, 1e-12) || !near(c.OneNorm, one, 1e-12) || !near(c.Bias, bias, 1e-12) {
 			t.Errorf("trial %d: (V, ‖h'‖_1, B_0) = (%g, %g, %g), reference (%g, %g, %g)", trial, c.Variance, c.OneNorm, c.Bias, v, one, bias)
 		}
 		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
@@ -102,7 +102,7 @@ func TestCertifyRandomPlans(t *testing.T) {
 		for _, s := range c.Share {
 			sum += s
 		}
-		if !close(sum, c.Total, 1e-12) {
+		if !near(sum, c.Total, 1e-12) {
 			t.Errorf("trial %d: Σ Share = %.15g, want Total %.15g", trial, sum, c.Total)
 		}
 	}
@@ -126,7 +126,7 @@ func FuzzVarianceBelowOneNorm(f *testing.F) {
 		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
 			t.Fatalf("V = %g > ‖h'‖_1² = %g", c.Variance, c.OneNorm*c.OneNorm)
 		}
-		if v, _, _ := referenceV(h, settings, shots); !close(c.Variance, v, 1e-12) {
+		if v, _, _ := referenceV(h, settings, shots); !near(c.Variance, v, 1e-12) {
 			t.Fatalf("V = %g, shot-by-shot reference %g", c.Variance, v)
 		}
 	})

@@ -229,7 +229,7 @@ func TestCoverage(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
-					if !close(b.Energy, e, 1e-12) || !close(b.Total, total, 1e-12) {
+					if !near(b.Energy, e, 1e-12) || !near(b.Total, total, 1e-12) {
 						t.Errorf("%s: Empirical(%v) = %.15g ± %.15g, table-driven %.15g ± %.15g", cc.name, form, b.Energy, b.Total, e, total)
 					}
 				}
@@ -242,7 +242,7 @@ func TestCoverage(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				if !close(g.Energy, e, 1e-12) {
+				if !near(g.Energy, e, 1e-12) {
 					t.Errorf("%s: estimate.Grouped = %.15g, table-driven estimate %.15g", cc.name, g.Energy, e)
 				}
 			}

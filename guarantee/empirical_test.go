@@ -75,14 +75,14 @@ func TestEmpiricalSingleTerm(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !close(b.Radius, c.want, tol) || !close(b.Energy, 0.25+mean, tol) || b.Bias != 0 {
+		if !near(b.Radius, c.want, tol) || !near(b.Energy, 0.25+mean, tol) || b.Bias != 0 {
 			t.Errorf("Empirical(%v): energy %g radius %.15g bias %g, want %g, %.15g, 0", c.form, b.Energy, b.Radius, b.Bias, 0.25+mean, c.want)
 		}
 	}
 	// The approximate radius is z_{0.975} · (sample sd)/sqrt(m) with
 	// z_{0.975} = 1.959963984540054 (standard normal quantile; any table).
 	b, _ := Empirical(h, rec, delta, nil)
-	if want := 1.959963984540054 * math.Sqrt(unbiased/200); !close(b.ApproxRadius, want, 1e-9) {
+	if want := 1.959963984540054 * math.Sqrt(unbiased/200); !near(b.ApproxRadius, want, 1e-9) {
 		t.Errorf("Empirical.ApproxRadius = %g, want %g", b.ApproxRadius, want)
 	}
 }
@@ -108,7 +108,7 @@ func TestEmpiricalMatchesGrouped(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !close(b.Energy, g.Energy, 1e-12) || !close(b.Bias, g.Bias, 1e-12) {
+			if !near(b.Energy, g.Energy, 1e-12) || !near(b.Bias, g.Bias, 1e-12) {
 				t.Errorf("Empirical(%v, exclude %v) energy %.15g bias %g; estimate.Grouped %.15g, %g", form, ex != nil, b.Energy, b.Bias, g.Energy, g.Bias)
 			}
 		}
@@ -135,13 +135,13 @@ func TestEmpiricalShares(t *testing.T) {
 	sumD, sumR := 0.0, 0.0
 	total := float64(len(shares)*(len(shares)+1)) / 2
 	for g, gb := range b.Groups {
-		if !close(gb.Delta, 0.1*shares[g]/total, 1e-14) {
+		if !near(gb.Delta, 0.1*shares[g]/total, 1e-14) {
 			t.Errorf("group %d: δ share %g, want %g", g, gb.Delta, 0.1*shares[g]/total)
 		}
 		sumD += gb.Delta
 		sumR += gb.Weight * gb.Radius
 	}
-	if !close(sumD, 0.1, 1e-14) || !close(sumR, b.Radius, 1e-12) {
+	if !near(sumD, 0.1, 1e-14) || !near(sumR, b.Radius, 1e-12) {
 		t.Errorf("Σ shares = %g (want 0.1), Σ weight·radius = %g (want Radius %g)", sumD, sumR, b.Radius)
 	}
 	// Pooled: the variance bounds share δ/2 in the same proportions.
@@ -150,7 +150,7 @@ func TestEmpiricalShares(t *testing.T) {
 		t.Fatal(err)
 	}
 	for g, gb := range pooled.Groups {
-		if want := 0.05 * shares[g] / total; !close(gb.Delta, want, 1e-14) {
+		if want := 0.05 * shares[g] / total; !near(gb.Delta, want, 1e-14) {
 			t.Errorf("pooled group %d: δ share %g, want %g", g, gb.Delta, want)
 		}
 	}

@@ -100,6 +100,6 @@ func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []in
 	return v, oneNorm, bias
 }
 
-func close(got, want, rel float64) bool {
+func near(got, want, rel float64) bool {
 	return math.Abs(got-want) <= rel*math.Max(1, math.Abs(want))
 }

@@ -30,12 +30,12 @@ func TestProductOfUniform(t *testing.T) {
 	width := 0.0
 	for i := range h.Len() {
 		k := h.Pauli(i).Weight()
-		if want := math.Pow(3, -float64(k)); !close(d.Cover[i], want, 1e-14) {
+		if want := math.Pow(3, -float64(k)); !near(d.Cover[i], want, 1e-14) {
 			t.Errorf("ProductOf(uniform).Cover[%s] = %g, want 3^-%d = %g", h.Pauli(i), d.Cover[i], k, want)
 		}
 		width += 2 * math.Abs(h.Coeff(i)) * math.Pow(3, float64(k))
 	}
-	if !close(d.Width, width, 1e-14) {
+	if !near(d.Width, width, 1e-14) {
 		t.Errorf("ProductOf(uniform).Width = %g, want 2Σ|h_i|3^k = %g", d.Width, width)
 	}
 }
@@ -48,7 +48,7 @@ func TestMixtureOf(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !close(d.Cover[0], 0.75, 1e-15) || !close(d.Cover[1], 0.25, 1e-15) || !close(d.Width, 4, 1e-15) {
+	if !near(d.Cover[0], 0.75, 1e-15) || !near(d.Cover[1], 0.25, 1e-15) || !near(d.Width, 4, 1e-15) {
 		t.Errorf("MixtureOf = cover %v width %g, want [0.75 0.25], 4", d.Cover, d.Width)
 	}
 	rec := estimate.NewRecords(2)
@@ -100,7 +100,7 @@ func TestRandomizedBoundCoverage(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !close(b.Energy, u.Energy, 1e-12) {
+			if !near(b.Energy, u.Energy, 1e-12) {
 				t.Errorf("RandomizedBound.Energy = %.15g, estimate.UniformShadow = %.15g", b.Energy, u.Energy)
 			}
 		}

@@ -46,7 +46,7 @@ func TestSequentialStops(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !close(res.Bound.Energy, g.Energy, 1e-12) {
+		if !near(res.Bound.Energy, g.Energy, 1e-12) {
 			t.Errorf("Sequential(growth %g) energy %.15g, estimate.Grouped on its records %.15g", growth, res.Bound.Energy, g.Energy)
 		}
 		// A single seeded run: the bound holds with probability ≥ 95%;

@@ -43,7 +43,7 @@ func TestOptimalTruncationExact(t *testing.T) {
 		}
 		cert := certify(c, delta, nil)
 		want := bruteForceOptimum(c, c.weights(), delta)
-		if !close(cert.Optimal.Total, want, 1e-12) || !cert.Optimal.Exact {
+		if !near(cert.Optimal.Total, want, 1e-12) || !cert.Optimal.Exact {
 			t.Errorf("trial %d: Optimal.Total = %.15g (exact %v), brute force over all subsets %.15g", trial, cert.Optimal.Total, cert.Optimal.Exact, want)
 		}
 		if cert.Optimal.Total > cert.Threshold.Total*(1+1e-12) || cert.Optimal.Total > cert.Total*(1+1e-12) {
@@ -78,7 +78,7 @@ func TestOptimalTruncationBranchAndBound(t *testing.T) {
 		}
 		cert := certify(c, 0.05, &Options{Enumerate: 1})
 		want := bruteForceOptimum(c, c.weights(), 0.05)
-		if o := cert.Optimal; !o.Exact || !close(o.Total, want, 1e-12) || !close(o.Lower, want, 1e-12) {
+		if o := cert.Optimal; !o.Exact || !near(o.Total, want, 1e-12) || !near(o.Lower, want, 1e-12) {
 			t.Errorf("trial %d: branch and bound = %.15g (lower %.15g, exact %v), brute force %.15g", trial, o.Total, o.Lower, o.Exact, want)
 		}
 	}
@@ -105,7 +105,7 @@ func TestOptimalTruncationBracket(t *testing.T) {
 		if o.Total < want*(1-1e-12) || o.Lower > want*(1+1e-9) {
 			t.Errorf("trial %d: found %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Total, o.Lower, want)
 		}
-		if o.Exact && !close(o.Total, want, 1e-9) {
+		if o.Exact && !near(o.Total, want, 1e-9) {
 			t.Errorf("trial %d: Exact claimed at %.12g, optimum %.12g", trial, o.Total, want)
 		}
 		if !o.Exact {
