@@ -108,7 +108,7 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 			return badf("%s: no shot of setting %s, the plan asks for %d", path, s, shots[k])
 		}
 		if n := rec.GroupLen(g); n != shots[k] {
-			return badf("%s: %d shots of setting %s, the plan asks for %d", path, n, s, shots[k])
+			return badf("%s: %s of setting %s, the plan asks for %d", path, plural(n, "shot"), s, shots[k])
 		}
 	}
 	if rec.Groups() != len(settings) {
