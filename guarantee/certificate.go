@@ -19,7 +19,9 @@ type Options struct {
 	Top int
 	// Enumerate is the largest number of candidate terms for which the
 	// optimal truncation is found by trying every subset (2^Enumerate
-	// evaluations). Zero means 16; past it, see [Truncation].Exact.
+	// evaluations); more candidates go to a branch and bound, which may
+	// stop at its work limit (see [Truncation].Exact). Zero means 16;
+	// values above 30 count as 30.
 	Enumerate int
 }
 
