@@ -26,9 +26,9 @@ import (
 // fixed: for a randomised plan this is the variance given the settings
 // drawn, and for an adaptive plan it ignores the adaptation.
 //
-// The work is one pass over the (term, shot) samples plus about
-// weight·G/64 word operations per term for G distinct settings, twice (three
-// times if some setting has a single shot); memory is a few words per shot.
+// The work is two passes over the (term, shot) samples, each with about
+// weight·G/64 word operations per term for G distinct settings; memory is
+// a few words per shot.
 //
 // Grouped returns an error if the widths differ or the options are invalid.
 func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
@@ -40,77 +40,72 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	coef := h.Coeffs()
 	sw := newSweep(rec, h.Table())
 	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: rec.Len(), Energy: h.Offset()}
-
-	// Pass 1: cover counts, and a_i = h_i·scale_i/N_i for the terms in the
-	// energy.
-	a := make([]float64, m)
-	for i := range m {
-		n := sw.cover(i)
-		res.Cover[i] = n
-		if n > 0 && !c.excluded(i) {
-			a[i] = coef[i] * c.scale[i] / float64(n)
-		}
-	}
-
-	// Pass 2, by blocks of groups: the number of −1 samples of every term,
-	// and Z_n of every shot.
+	// Pass 1, by blocks of groups: cover counts and the number of −1
+	// samples of every term.
 	ones := make([]int, m)
-	z := make([]float64, rec.Len()) // Z_n by position
 	w := sw.w
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
 		for i := range m {
-			if res.Cover[i] == 0 {
-				continue
-			}
-			rs, supp, ai := sw.rows(i), sw.termSupp(i), a[i]
-			odd := 0
+			rs, supp := sw.rows(i), sw.termSupp(i)
+			n, odd := 0, 0
 			for k := k0; k < k1; k++ {
 				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
 					g := k<<6 + bits.TrailingZeros64(v)
 					lo, hi := sw.off[g], sw.off[g+1]
+					n += hi - lo
 					if hi-lo == 1 && w == 1 {
-						o := bits.OnesCount64(sw.flat[lo]&supp[0]) & 1
-						odd += o
-						z[lo] += ai - 2*ai*float64(o)
+						odd += bits.OnesCount64(sw.flat[lo]&supp[0]) & 1
 						continue
 					}
-					odd += addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
+					odd += countOdd(sw.flat[lo*w:hi*w], supp)
 				}
 			}
+			res.Cover[i] += n
 			ones[i] += odd
 		}
 	}
-	raw := make([]float64, m) // unmitigated means
+	// a_i = h_i·scale_i/N_i for the terms in the energy, zero for the
+	// others; raw_i the unmitigated mean.
+	a := make([]float64, m)
+	raw := make([]float64, m)
 	for i := range m {
-		if res.Cover[i] == 0 {
+		n := res.Cover[i]
+		if n == 0 {
 			res.Means[i] = math.NaN()
 			continue
 		}
-		raw[i] = 1 - 2*float64(ones[i])/float64(res.Cover[i])
+		raw[i] = 1 - 2*float64(ones[i])/float64(n)
 		res.Means[i] = c.scale[i] * raw[i]
 		if !c.excluded(i) {
+			a[i] = coef[i] * c.scale[i] / float64(n)
 			res.Energy += coef[i] * res.Means[i]
 		}
 	}
 
-	// Pass 3, only for one-shot groups: μ̂_g = Σ_{i ◁ g} a_i·raw_i.
+	// Pass 2, by blocks of groups: Z_n of every shot, and for one-shot
+	// groups μ̂_g = Σ_{i ◁ g} a_i·raw_i.
+	z := make([]float64, rec.Len()) // Z_n by position
 	mu := make([]float64, rec.Groups())
-	if anySet(sw.single) {
-		for k0 := 0; k0 < sw.words; k0 += blockWords {
-			k1 := min(k0+blockWords, sw.words)
-			for i := range m {
-				if a[i] == 0 {
-					continue
-				}
-				rs, u := sw.rows(i), a[i]*raw[i]
-				for k := k0; k < k1; k++ {
-					if sw.single[k] == 0 {
+	for k0 := 0; k0 < sw.words; k0 += blockWords {
+		k1 := min(k0+blockWords, sw.words)
+		for i := range m {
+			ai := a[i]
+			if ai == 0 {
+				continue
+			}
+			rs, supp, u := sw.rows(i), sw.termSupp(i), ai*raw[i]
+			for k := k0; k < k1; k++ {
+				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
+					g := k<<6 + bits.TrailingZeros64(v)
+					lo, hi := sw.off[g], sw.off[g+1]
+					if hi-lo == 1 {
+						o := parity(sw.flat[lo*w:hi*w], supp)
+						z[lo] += ai - 2*ai*float64(o)
+						mu[g] += u
 						continue
 					}
-					for v := sw.covering(rs, k) & sw.single[k]; v != 0; v &= v - 1 {
-						mu[k<<6+bits.TrailingZeros64(v)] += u
-					}
+					addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
 				}
 			}
 		}
@@ -131,36 +126,39 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	return res, nil
 }
 
-func anySet(s []uint64) bool {
-	for _, v := range s {
-		if v != 0 {
-			return true
+// countOdd returns the number of outcomes in out (len(supp) words each)
+// with odd parity over the support words supp.
+func countOdd(out, supp []uint64) int {
+	n := 0
+	if len(supp) == 1 {
+		s := supp[0]
+		for _, b := range out {
+			n += bits.OnesCount64(b&s) & 1
 		}
+		return n
 	}
-	return false
+	w := len(supp)
+	for j := 0; j < len(out); j += w {
+		n += int(parity(out[j:j+w], supp))
+	}
+	return n
 }
 
 // addSamples adds a·s_n to z[n] for each outcome n of out (len(supp) words
-// each), s_n = ±1 the sample of the string with support words supp, and
-// returns the number of −1 samples. The loops are free of branches on the
-// parity, which is random.
-func addSamples(z []float64, out, supp []uint64, a float64) int {
-	ones := 0
+// each), s_n = ±1 the sample of the string with support words supp. The
+// loops are free of branches on the parity, which is random.
+func addSamples(z []float64, out, supp []uint64, a float64) {
 	if len(supp) == 1 {
 		s := supp[0]
 		out = out[:len(z)]
 		for j, b := range out {
 			odd := bits.OnesCount64(b&s) & 1
-			ones += odd
 			z[j] += a - 2*a*float64(odd)
 		}
-		return ones
+		return
 	}
 	w := len(supp)
 	for j := range z {
-		odd := int(parity(out[j*w:(j+1)*w], supp))
-		ones += odd
-		z[j] += a - 2*a*float64(odd)
+		z[j] += a - 2*a*float64(parity(out[j*w:(j+1)*w], supp))
 	}
-	return ones
 }

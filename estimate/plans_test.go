@@ -104,7 +104,8 @@ func TestPlansEndToEnd(t *testing.T) {
 	const reps, budget = 400, 200
 	for _, tc := range tests {
 		es := make([]float64, 0, reps)
-		bias := 0.0 // mean bias bound: uncovered terms of random plans
+		bias := 0.0     // mean bias bound: uncovered terms of random plans
+		reported := 0.0 // mean reported variance
 		for r := range uint64(reps) {
 			plan, err := allocate.Run(h, budget, tc.strategy(r), nil)
 			if err != nil {
@@ -120,10 +121,11 @@ func TestPlansEndToEnd(t *testing.T) {
 			}
 			es = append(es, res.Energy)
 			bias += res.Bias / reps
+			reported += res.StdErr * res.StdErr / reps
 		}
 		mean, sd := meanSD(es)
 		se := sd / math.Sqrt(reps)
-		t.Logf("%s: mean %.5f, exact %.5f, %.2f standard errors apart; single-run spread %.4f; mean bias bound %.4f", tc.name, mean, ev.Energy, (mean-ev.Energy)/se, sd, bias)
+		t.Logf("%s: mean %.5f, exact %.5f, %.2f standard errors apart; single-run spread %.4f, reported %.4f; mean bias bound %.4f", tc.name, mean, ev.Energy, (mean-ev.Energy)/se, sd, math.Sqrt(reported), bias)
 		if math.Abs(mean-ev.Energy) > 4*se+bias {
 			t.Errorf("%s: mean %v over %d runs is %.1f standard errors (plus bias bound %v) from %v, want at most 4", tc.name, mean, reps, (math.Abs(mean-ev.Energy)-bias)/se, bias, ev.Energy)
 		}
@@ -139,4 +141,49 @@ func meanSD(x []float64) (mean, sd float64) {
 		sd += (v - mean) * (v - mean)
 	}
 	return mean, math.Sqrt(sd / float64(len(x)-1))
+}
+
+// TestGroupedOneShotSettings checks the standard error of the grouped
+// estimator when almost every setting has a single shot (a fixed uniform
+// random plan of 200 shots for H2): over 400 runs of the same plan, the
+// mean reported variance must be within [0.7, 1.4] of the observed
+// variance of the estimates (the observed variance of 400 values has a
+// relative standard deviation of about 7%).
+func TestGroupedOneShotSettings(t *testing.T) {
+	if testing.Short() {
+		t.Skip("400 repetitions")
+	}
+	h := loadH2(t)
+	sim, _, err := estimate.GroundStateSimulator(h, 3, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	plan, err := allocate.Run(h, 200, &allocate.Random{Seed: 1}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(plan.Settings) < 150 {
+		t.Fatalf("plan has %d distinct entries, want mostly one-shot settings", len(plan.Settings))
+	}
+	const reps = 400
+	es := make([]float64, 0, reps)
+	reported := 0.0
+	for range reps {
+		rec := estimate.NewRecords(4)
+		if err := sim.Run(plan.Settings, plan.Shots, rec); err != nil {
+			t.Fatal(err)
+		}
+		res, err := estimate.Grouped(h, rec, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		es = append(es, res.Energy)
+		reported += res.StdErr * res.StdErr / reps
+	}
+	_, sd := meanSD(es)
+	r := reported / (sd * sd)
+	t.Logf("observed variance %.3g, mean reported %.3g, ratio %.3f", sd*sd, reported, r)
+	if r < 0.7 || r > 1.4 {
+		t.Errorf("mean reported variance %v, observed %v: ratio %.2f, want [0.7, 1.4]", reported, sd*sd, r)
+	}
 }

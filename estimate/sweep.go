@@ -20,12 +20,11 @@ import (
 // in blocks of groups so that the outcomes and per-shot sums of a block stay
 // in cache while every term passes over them.
 type sweep struct {
-	n, w   int
-	words  int      // words per group set: ⌈G/64⌉
-	sets   []uint64 // set of (q, l) at sets[(3q+l−1)·words:]
-	single []uint64 // the groups with exactly one shot
-	off    []int    // group g's outcomes are at positions off[g]..off[g+1]
-	flat   []uint64 // outcomes by position, w words each
+	n, w  int
+	words int      // words per group set: ⌈G/64⌉
+	sets  []uint64 // set of (q, l) at sets[(3q+l−1)·words:]
+	off   []int    // group g's outcomes are at positions off[g]..off[g+1]
+	flat  []uint64 // outcomes by position, w words each
 
 	rowOff []int    // term i's letters are rowIdx[rowOff[i]:rowOff[i+1]]
 	rowIdx []int32  // 3q+l−1 for each letter
@@ -40,16 +39,12 @@ func newSweep(rec *Records, t *pauli.Table) *sweep {
 	ng := rec.Groups()
 	s := &sweep{n: rec.Qubits(), w: rec.w, words: (ng + 63) >> 6}
 	s.sets = make([]uint64, 3*s.n*s.words)
-	s.single = make([]uint64, s.words)
 	s.off = make([]int, ng+1)
 	s.flat = make([]uint64, 0, rec.Len()*s.w)
 	for g := range ng {
 		x, z := rec.Setting(g).Words()
 		for q := range s.n {
 			s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
-		}
-		if rec.GroupLen(g) == 1 {
-			s.single[g>>6] |= 1 << (g & 63)
 		}
 		s.off[g+1] = s.off[g] + rec.GroupLen(g)
 		s.flat = append(s.flat, rec.out[g]...)
@@ -92,24 +87,6 @@ func (s *sweep) covering(rs []int32, k int) uint64 {
 		v &= s.sets[int(r)*s.words+k]
 	}
 	return v
-}
-
-// cover returns the number of shots whose setting covers term i.
-func (s *sweep) cover(i int) int {
-	rs := s.rows(i)
-	n := 0
-	for k := range s.words {
-		v := s.covering(rs, k)
-		if v == 0 {
-			continue
-		}
-		n += bits.OnesCount64(v & s.single[k])
-		for u := v &^ s.single[k]; u != 0; u &= u - 1 {
-			g := k<<6 + bits.TrailingZeros64(u)
-			n += s.off[g+1] - s.off[g]
-		}
-	}
-	return n
 }
 
 // termSupp returns the support words of term i.
