@@ -127,11 +127,11 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 	if len(cert.Top) == 0 {
 		return
 	}
-	fmt.Fprintf(w, "\nterms that dominate the certified bound:\n")
+	fmt.Fprintf(w, "\nterms that dominate the certified bound (their shares add up to ±%.5f over all %d terms):\n", cert.Total, len(cert.Share))
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "share of bound\tcoefficient\tshots covering\tterm\t\n")
+	fmt.Fprintf(tw, "share\tcoefficient\tshots covering it\t  term (qubit 0 first)\n")
 	for _, t := range cert.Top {
-		fmt.Fprintf(tw, "%.4f\t%.3g\t%d\t%s\t\n", t.Share, t.Coeff, t.Cover, t.Pauli)
+		fmt.Fprintf(tw, "%.4f\t%.3g\t%d\t  %s\n", t.Share, t.Coeff, t.Cover, t.Pauli)
 	}
 	tw.Flush()
 }
