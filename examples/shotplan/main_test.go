@@ -302,6 +302,7 @@ func TestBadInput(t *testing.T) {
 	recPath := filepath.Join(dir, "rec.csv")
 	ok(t, "simulate", "-ham", ham, "-plan", planPath, "-o", recPath)
 
+	offsetOnly := write("offset.txt", "qubits 4\n-0.5 I\n")
 	badHam := write("bad.txt", "qubits 4\n-1 ZZII\n0.5 XQII\n")
 	wide := write("wide.txt", "-1 ZZIIII\n-0.5 XIIIII\n")
 	badDump := write("bad.fcidump", "&FCI NORB=2, NELEC=2 &END\n 0.67 1 1 1 1\n 0.5 1 1 x 0\n")
@@ -328,6 +329,7 @@ func TestBadInput(t *testing.T) {
 		{"missing argument file", []string{"info", filepath.Join(dir, "none.txt")}, []string{"none.txt", "no such file"}},
 		{"malformed Hamiltonian line", []string{"plan", "-ham", badHam, "-o", out}, []string{"bad.txt", "line 3", "unknown letter 'Q'"}},
 		{"malformed FCIDUMP line", []string{"convert", "-o", out, badDump}, []string{"bad.fcidump", "line 3", "not an integer"}},
+		{"nothing to measure", []string{"plan", "-ham", offsetOnly, "-o", out}, []string{"offset.txt", "no non-identity terms"}},
 		{"unknown strategy", []string{"plan", "-ham", ham, "-strategy", "best", "-o", out}, []string{`unknown strategy "best"`, "greedy"}},
 		{"qubit mismatch", []string{"simulate", "-ham", wide, "-plan", planPath, "-o", out}, []string{"plan.json", "line 4", "4 qubits", "has 6", "wide.txt"}},
 		{"qubit mismatch certify", []string{"certify", "-ham", wide, "-plan", planPath}, []string{"plan.json", "line 4", "4 qubits"}},
@@ -387,4 +389,21 @@ func listDir(t *testing.T, dir string) []string {
 		t.Fatal(err)
 	}
 	return names
+}
+
+// TestConvertFrozenCore freezes LiH's lowest orbital and checks the exact
+// energy of the 10-qubit Hamiltonian against psi4's frozen-core full CI,
+// −7.8821759908 hartree (testdata/README.md). The lowest eigenvalue over all
+// electron numbers is the two-electron one here (checked by this value).
+func TestConvertFrozenCore(t *testing.T) {
+	ham := filepath.Join(t.TempDir(), "lih.txt")
+	ok(t, "convert", "-frozen", "1", "-o", ham, "testdata/lih_sto3g_1.5949A.fcidump")
+	var info struct {
+		Qubits int
+		Ground float64 `json:"ground_energy"`
+	}
+	okJSON(t, &info, "info", "-exact", ham)
+	if info.Qubits != 10 || math.Abs(info.Ground-(-7.8821759908)) > 1e-8 { // psi4 value given to 1e-10
+		t.Errorf("frozen-core LiH: %d qubits, ground energy %.10f; want 10 and −7.8821759908 within 1e-8", info.Qubits, info.Ground)
+	}
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -65,6 +66,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
 		}
 		p, err := allocate.Run(h, *shots, a, nil)
+		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
+			return badf("%s: %w", *ham, err)
+		}
 		if err != nil {
 			return err
 		}
