@@ -52,7 +52,9 @@
 // [Grouped] (MATH.md §2) works on every plan: deterministic, randomised or
 // adaptive, with each term averaged over the shots that cover it. Its
 // standard error is estimated from the data and includes the covariance of
-// terms that share shots; see [Grouped].
+// terms that share shots: the sample variance of the per-shot contributions
+// within each distinct setting, and a leave-one-out residual for settings
+// measured once; see [Grouped].
 //
 // The inverse-probability estimators are unbiased only for the plan they
 // were made for: [UniformShadow] for settings drawn uniformly at random
@@ -78,6 +80,22 @@
 // symmetric flips and leaves a bias bounded by [Result.ReadoutBias]
 // otherwise. The division scales the spread up by the same factor, so
 // mitigation widens the error bar.
+//
+// # Cost
+//
+// The estimators walk the Hamiltonian term by term. For every qubit and
+// letter they keep the set of distinct settings with that letter there, as
+// a bit set, so the settings covering a term are an intersection of bit
+// sets: about weight·G/64 word operations per term for G distinct
+// settings, with no search per setting. Then every (term, shot) sample is
+// read once or twice, a parity by popcount. Memory is a few words per shot.
+//
+// The simulator costs O(n·2^n) per distinct setting when settings get many
+// shots. When they get few (random plans), it rotates the highest qubits
+// once for all settings that agree on them, draws those qubits' bits from
+// their marginal distribution, and rotates only the 2^(n−h) amplitudes
+// that agree with the drawn bits; the split h is chosen per call to
+// minimise the work.
 //
 // # Circuits
 //

@@ -19,12 +19,19 @@ import (
 // Var(Σ_n Y_n) = Σ_g m_g Var_g(Z) over the distinct settings g with m_g
 // shots. Because Z_n sums every term the shot feeds, the covariances of
 // terms that share shots are included. A setting with m_g ≥ 2 shots
-// contributes m_g times the unbiased sample variance of its Z_n; a setting
-// with one shot has no variance of its own, and contributes (Z_n − μ̂_g)²
-// with μ̂_g = Σ_{i ◁ Q_g} (h_i/N_i) ô_i, the pooled estimate of its mean
-// (slightly low, by a share of order 1/N_i). The settings are taken as
-// fixed: for a randomised plan this is the variance given the settings
-// drawn, and for an adaptive plan it ignores the adaptation.
+// contributes m_g times the unbiased sample variance of its Z_n. A setting
+// with one shot has no variance of its own; it contributes the square of
+// its leave-one-out residual R_g = Σ_{i ◁ Q_g} (h_i/N_i)(s_{i,g} − ô_i^{(−g)}),
+// where ô_i^{(−g)} is term i's mean over its other N_i − 1 shots. For a
+// single term E[R_g²] = Var(s_i)·N_i/(N_i − 1), so this errs on the high
+// side by that factor rather than on the low side as the residual from ô_i
+// itself would. A term covered by a single shot (N_i = 1) leaves nothing to
+// compare with; it adds h_i² (times the square of the mitigation factor),
+// the largest variance a ±1 sample can have, and its covariance with other
+// terms is ignored. The
+// settings are taken as fixed: for a randomised plan this is the variance
+// given the settings drawn, and for an adaptive plan it ignores the
+// adaptation.
 //
 // The work is two passes over the (term, shot) samples, each with about
 // weight·G/64 word operations per term for G distinct settings; memory is
@@ -83,10 +90,15 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 		}
 	}
 
-	// Pass 2, by blocks of groups: Z_n of every shot, and for one-shot
-	// groups μ̂_g = Σ_{i ◁ g} a_i·raw_i.
-	z := make([]float64, rec.Len()) // Z_n by position
-	mu := make([]float64, rec.Groups())
+	// Pass 2, by blocks of groups: Z_n of every shot of a many-shot group;
+	// for a one-shot group, its leave-one-out residual R_g (see above).
+	z := make([]float64, rec.Len()) // Z_n or R_g by position
+	vsum := 0.0
+	for i := range m {
+		if a[i] != 0 && res.Cover[i] == 1 {
+			vsum += a[i] * a[i] // no data on its spread: the bound Var(s) ≤ 1
+		}
+	}
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
 		for i := range m {
@@ -94,15 +106,19 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			if ai == 0 {
 				continue
 			}
-			rs, supp, u := sw.rows(i), sw.termSupp(i), ai*raw[i]
+			rs, supp := sw.rows(i), sw.termSupp(i)
+			n := res.Cover[i]
+			di := 0.0 // a_i·N_i/(N_i − 1), zero for N_i = 1
+			if n > 1 {
+				di = ai * float64(n) / float64(n-1)
+			}
 			for k := k0; k < k1; k++ {
 				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
 					g := k<<6 + bits.TrailingZeros64(v)
 					lo, hi := sw.off[g], sw.off[g+1]
 					if hi-lo == 1 {
 						o := parity(sw.flat[lo*w:hi*w], supp)
-						z[lo] += ai - 2*ai*float64(o)
-						mu[g] += u
+						z[lo] += di * (1 - 2*float64(o) - raw[i])
 						continue
 					}
 					addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
@@ -110,13 +126,10 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			}
 		}
 	}
-
-	vsum := 0.0
 	for g := range rec.Groups() {
 		zs := z[sw.off[g]:sw.off[g+1]]
 		if len(zs) == 1 {
-			d := zs[0] - mu[g]
-			vsum += d * d
+			vsum += zs[0] * zs[0]
 			continue
 		}
 		vsum += float64(len(zs)) * sampleVariance(zs)

@@ -85,8 +85,9 @@ func refLetterCovers(s pauli.Setting, p pauli.String) bool {
 }
 
 // refGrouped is a direct, shot-by-shot transcription of MATH.md §2 and of
-// the variance estimate documented on Grouped, used as the reference for
-// the word-wise implementation.
+// the variance estimate documented on Grouped (the leave-one-out means
+// computed as written there), used as the reference for the word-wise
+// implementation.
 func refGrouped(h *hamiltonian.Hamiltonian, rec *Records, exclude []bool, scale []float64) (energy, stderr float64, means []float64, cover []int) {
 	m := h.Len()
 	cover = make([]int, m)
@@ -110,26 +111,35 @@ func refGrouped(h *hamiltonian.Hamiltonian, rec *Records, exclude []bool, scale 
 			}
 		}
 	}
-	// Z_n per shot, grouped by setting.
+	// Z_n per shot, grouped by setting; for a one-shot setting the
+	// leave-one-out residual R_g, computed from the other shots' mean.
 	zs := map[string][]float64{}
-	mu := map[string]float64{}
+	loo := map[string]float64{}
+	v := 0.0
+	for i := range m {
+		if !exclude[i] && cover[i] == 1 {
+			v += math.Pow(h.Coeff(i)*scale[i], 2)
+		}
+	}
 	for _, sh := range rec.Shots() {
-		z, u := 0.0, 0.0
+		z, r := 0.0, 0.0
 		for i := range m {
 			if exclude[i] || !refLetterCovers(sh.Setting, h.Pauli(i)) {
 				continue
 			}
 			a := h.Coeff(i) / float64(cover[i])
-			z += a * scale[i] * refLetterSample(h.Pauli(i), sh.Outcome)
-			u += a * means[i]
+			x := scale[i] * refLetterSample(h.Pauli(i), sh.Outcome)
+			z += a * x
+			if cover[i] > 1 {
+				r += a * (x - (sum[i]-x)/float64(cover[i]-1))
+			}
 		}
 		zs[sh.Setting.String()] = append(zs[sh.Setting.String()], z)
-		mu[sh.Setting.String()] = u
+		loo[sh.Setting.String()] = r
 	}
-	v := 0.0
 	for k, z := range zs {
 		if len(z) == 1 {
-			v += (z[0] - mu[k]) * (z[0] - mu[k])
+			v += loo[k] * loo[k]
 			continue
 		}
 		mean := 0.0
@@ -478,5 +488,22 @@ func TestGroupedOptionErrors(t *testing.T) {
 		if _, err := Grouped(tc.h, tc.rec, tc.opts); err == nil {
 			t.Errorf("%s: Grouped succeeded", tc.name)
 		}
+	}
+}
+
+// TestGroupedSingleShot: a term seen in one shot only has no data on its
+// spread, and Grouped charges it the largest variance of a ±1 sample,
+// h_i², as documented.
+func TestGroupedSingleShot(t *testing.T) {
+	h := mustH(t, 2, 0, map[string]float64{"ZI": 0.5, "ZZ": 2, "XX": 1})
+	rec := NewRecords(2)
+	rec.Add(pauli.MustParseSetting("ZZ"), pauli.Bits{0b01})
+	res, err := Grouped(h, rec, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// ZI and ZZ both read −1: −0.5 − 2; XX is never covered (bias 1).
+	if res.Energy != -2.5 || res.Bias != 1 || math.Abs(res.StdErr-math.Sqrt(0.25+4)) > 1e-15 {
+		t.Errorf("Grouped = %v ± %v (bias %v), want -2.5 ± %v (bias 1)", res.Energy, res.StdErr, res.Bias, math.Sqrt(0.25+4))
 	}
 }

@@ -188,3 +188,35 @@ func TestBiasedShadowErrors(t *testing.T) {
 		t.Errorf("BiasedShadow with Y never drawn: Bias = %v, Means = %v, want 2 and NaN for YI", res.Bias, res.Means)
 	}
 }
+
+// TestInverseProbabilityMitigation: with readout mitigation a covering
+// shot's value is divided by Π(1 − P01 − P10) over the term's support.
+func TestInverseProbabilityMitigation(t *testing.T) {
+	h := mustH(t, 2, 0, map[string]float64{"ZZ": 1})
+	flips := []Readout{{0.1, 0.1}, {0.05, 0.15}}
+	lambda := 0.8 * 0.8
+	rec := oneShot(2, pauli.MustParseSetting("ZZ"), 0)
+	us, err := UniformShadow(h, rec, &Options{Readout: flips})
+	if err != nil {
+		t.Fatal(err)
+	}
+	is, err := ImportanceSampling(h, rec, []int{0}, &Options{Readout: flips})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"UniformShadow", us.Energy, 9 / lambda},
+		{"ImportanceSampling", is.Energy, 1 / lambda},
+	} {
+		if math.Abs(c.got-c.want) > 1e-12 {
+			t.Errorf("%s with mitigation = %v, want %v", c.name, c.got, c.want)
+		}
+	}
+	// ReadoutBias: qubit 1 has |P10 − P01| / λ = 0.1/0.8.
+	if want := 1.125 - 1; math.Abs(us.ReadoutBias-want) > 1e-12 {
+		t.Errorf("ReadoutBias = %v, want %v", us.ReadoutBias, want)
+	}
+}
