@@ -52,12 +52,13 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 				Bias        float64 `json:"bias"`
 				Uncovered   int     `json:"uncovered"`
 				OneNorm     float64 `json:"one_norm"`
+				HamOneNorm  float64 `json:"hamiltonian_one_norm"`
 				Relaxed     float64 `json:"epsilon_relaxed"`
 				Variance    float64 `json:"variance"`
 				Top         []term  `json:"top"`
 				Threshold   trunc   `json:"truncation_threshold"`
 				Optimal     trunc   `json:"truncation_optimal"`
-			}{c.Shots, c.Settings, c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered, c.OneNorm, c.RelaxedRadius + c.Bias, c.Variance,
+			}{c.Shots, c.Settings, c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered, c.OneNorm, h.OneNorm(), c.RelaxedRadius + c.Bias, c.Variance,
 				[]term{}, trunc{c.Threshold.Dropped, c.Threshold.Total}, trunc{c.Optimal.Dropped, c.Optimal.Total}}
 			for _, t := range c.Top {
 				out.Top = append(out.Top, term{t.Term, t.Pauli.String(), t.Coeff, t.Cover, t.Share})
@@ -68,4 +69,19 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		fmt.Fprintln(e.stdout, c.String())
 		return nil
 	}
+}
+
+func certifyHelp() string {
+	return `
+The bound holds with probability at least 1 − δ for every state, counting shot
+noise only (ideal, independent shots of one state); the plan must be fixed
+before the data.
+
+JSON keys: epsilon = epsilon_stat + bias is the certified bound; epsilon_stat
+is the shot-wise Hoeffding radius; bias bounds the terms no shot measures;
+one_norm is Σ|h_i|/sqrt(N_i), the plan's figure of merit (ShadowGrouping),
+and epsilon_relaxed = one_norm·sqrt(2 ln(2/δ)) + bias the looser bound it
+gives; hamiltonian_one_norm is Σ|h_i|; top lists the
+terms with the largest share of epsilon.
+`
 }

@@ -128,3 +128,13 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 	}
 	return nil
 }
+
+func estimateHelp() string {
+	return `
+The records must hold exactly the plan's shots (any order). The energy is the
+grouped estimate; std_error and approx_interval come from the data by the
+normal approximation and are NOT guarantees. epsilon is the plan's certified
+bound and data_epsilon an empirical Bernstein bound from these shots, each at
+confidence 1 − δ for shot noise only (readout error and drift not covered).
+`
+}
