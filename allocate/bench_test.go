@@ -67,4 +67,3 @@ func BenchmarkBiased(b *testing.B) {
 func BenchmarkImportance(b *testing.B) {
 	benchPlan(b, func() allocate.Allocator { return &allocate.Importance{Seed: 1} }, size1e5)
 }
-
