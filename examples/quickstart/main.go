@@ -114,7 +114,7 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 
 	conf := 100 * (1 - c.delta)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintf(tw, "exact ground energy\t%.5f\t\n", exact)
+	fmt.Fprintf(tw, "exact ground energy\t%.5f\tby exact diagonalisation: what the estimate aims at\n", exact)
 	fmt.Fprintf(tw, "estimate\t%.5f\tgrouped estimator, shots simulated on the exact ground state (seed %d)\n", res.Energy, c.seed)
 	fmt.Fprintf(tw, "certified bound\t±%.5f\tholds with probability ≥ %g%% for every state, before any shot (δ = %g)\n", cert.Total, conf, c.delta)
 	fmt.Fprintf(tw, "error bar from data\t±%.5f\tAPPROXIMATE (normal approximation, %g%%), not a guarantee\n", res.ApproxInterval[1]-res.Energy, conf)
