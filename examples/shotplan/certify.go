@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"strings"
 
 	"github.com/shotplan/shotplan/guarantee"
 )
@@ -66,7 +67,7 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 			return e.writeJSON(out)
 		}
 		fmt.Fprintf(e.stdout, "%s on %s: certified before any shot, for every state (shot noise only)\n", *plan, *ham)
-		fmt.Fprintln(e.stdout, c.String())
+		fmt.Fprintln(e.stdout, strings.TrimRight(c.String(), "\n"))
 		return nil
 	}
 }
