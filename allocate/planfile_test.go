@@ -3,6 +3,7 @@ package allocate_test
 import (
 	"bytes"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -219,4 +220,41 @@ func TestWritePlanFileLeavesNothingOnError(t *testing.T) {
 	if err := allocate.WritePlan(&b, bad, 0); err == nil || b.Len() != 0 {
 		t.Errorf("WritePlan of a bad plan = %v with %d bytes written, want an error and nothing written", err, b.Len())
 	}
+}
+
+// A plan file records a plan so that later steps — certifying, exporting,
+// estimating — can run elsewhere; Check refuses it for another Hamiltonian.
+func ExampleWritePlan() {
+	h, _ := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(3, false), 1, 0.5)
+	// Sorted insertion: the ZZ group (one-norm 2) and the X group (1.5)
+	// share 4 shots as 2.29 and 1.71, rounded by largest remainder to 2 and 2.
+	p, _ := allocate.Run(h, 4, &allocate.Sorted{}, nil)
+
+	var b bytes.Buffer
+	if err := allocate.WritePlan(&b, p, 0); err != nil {
+		panic(err)
+	}
+	fmt.Print(b.String())
+
+	f, err := allocate.ReadPlan(&b)
+	if err != nil {
+		panic(err)
+	}
+	fmt.Println("fits its Hamiltonian:", f.Check(h) == nil)
+	// Output:
+	// {
+	//   "format": "shotplan plan",
+	//   "version": 1,
+	//   "qubits": 3,
+	//   "strategy": "sorted",
+	//   "seed": 0,
+	//   "shots": 4,
+	//   "settings": [
+	//     {"setting": "ZZZ", "shots": 2},
+	//     {"setting": "XXX", "shots": 2}
+	//   ],
+	//   "cover": [2, 2, 2, 2, 2],
+	//   "drawn": null
+	// }
+	// fits its Hamiltonian: true
 }
