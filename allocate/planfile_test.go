@@ -258,3 +258,34 @@ func ExampleWritePlan() {
 	// }
 	// fits its Hamiltonian: true
 }
+
+// FuzzReadPlan checks that any input either fails with a one-line
+// *PlanFileError or reads back identically after writing.
+func FuzzReadPlan(f *testing.F) {
+	f.Add([]byte(goodPlan))
+	f.Add([]byte(strings.Replace(goodPlan, `"drawn": null`, `"drawn": [0, 1, 2, 3, 4]`, 1)))
+	f.Add([]byte(`{"format": "shotplan plan", "version": 1, "qubits": 1, "settings": [{"setting": "X", "shots": 1}], "cover": []}`))
+	f.Add([]byte(`{`))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		pf, err := allocate.ReadPlan(bytes.NewReader(data))
+		if err != nil {
+			var pe *allocate.PlanFileError
+			if !errors.As(err, &pe) || strings.Contains(err.Error(), "\n") {
+				t.Fatalf("ReadPlan error %q is not a one-line *PlanFileError", err)
+			}
+			return
+		}
+		var b bytes.Buffer
+		if err := allocate.WritePlan(&b, pf.Plan, pf.Seed); err != nil {
+			t.Fatalf("WritePlan of a plan ReadPlan accepted: %v", err)
+		}
+		again, err := allocate.ReadPlan(&b)
+		if err != nil {
+			t.Fatalf("ReadPlan of WritePlan output: %v\n%s", err, b.String())
+		}
+		if fmt.Sprint(again.Plan.Settings, again.Plan.Shots, again.Plan.Cover, again.Plan.Drawn, again.Seed, again.Plan.Stats.Strategy) !=
+			fmt.Sprint(pf.Plan.Settings, pf.Plan.Shots, pf.Plan.Cover, pf.Plan.Drawn, pf.Seed, pf.Plan.Stats.Strategy) {
+			t.Fatalf("plan changed in a write-read round trip")
+		}
+	})
+}
