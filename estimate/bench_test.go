@@ -79,20 +79,25 @@ func BenchmarkUniformShadow(b *testing.B) {
 	})
 }
 
-// BenchmarkSimulator measures 10^4 shots, one for each of 10^4 distinct
-// random settings, of a random state.
+// BenchmarkSimulator measures 10^4 shots of a random state, one for each of
+// 10^4 distinct random settings (as random plans give), or 100 for each of
+// 100 settings (as grouped plans give).
 func BenchmarkSimulator(b *testing.B) {
-	for _, n := range []int{16, 20} {
-		const count = 10000
+	for _, c := range []struct{ n, settings, each int }{
+		{16, 10000, 1},
+		{16, 100, 100},
+		{20, 10000, 1},
+		{20, 100, 100},
+	} {
 		rng := rand.New(rand.NewPCG(3, 4))
-		settings := make([]pauli.Setting, count)
-		shots := make([]int, count)
+		settings := make([]pauli.Setting, c.settings)
+		shots := make([]int, c.settings)
 		for k := range settings {
-			settings[k] = randomSetting(rng, n)
-			shots[k] = 1
+			settings[k] = randomSetting(rng, c.n)
+			shots[k] = c.each
 		}
-		psi := randomState(n, 8)
-		b.Run(fmt.Sprintf("qubits=%d/settings=%d/shots=%d", n, count, count), func(b *testing.B) {
+		psi := randomState(c.n, 8)
+		b.Run(fmt.Sprintf("qubits=%d/settings=%d/shots=%d", c.n, c.settings, c.settings*c.each), func(b *testing.B) {
 			b.ReportAllocs()
 			start := cpuTime()
 			for b.Loop() {
@@ -100,7 +105,7 @@ func BenchmarkSimulator(b *testing.B) {
 				if err != nil {
 					b.Fatal(err)
 				}
-				if err := sim.Run(settings, shots, NewRecords(n)); err != nil {
+				if err := sim.Run(settings, shots, NewRecords(c.n)); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -49,8 +49,10 @@
 //
 // # Which estimator fits which plan
 //
-// [Grouped] (MATH.md §2) works on every plan: deterministic, randomised or
-// adaptive, with each term averaged over the shots that cover it. Its
+// [Grouped] (MATH.md §2) works on every plan, since it needs to know
+// nothing about how the settings were chosen: each term is averaged over
+// the shots that cover it. (For a plan that chose settings from earlier
+// outcomes, its error bar ignores the adaptation.) Its
 // standard error is estimated from the data and includes the covariance of
 // terms that share shots: the sample variance of the per-shot contributions
 // within each distinct setting, and a leave-one-out residual for settings
