@@ -407,3 +407,28 @@ func TestConvertFrozenCore(t *testing.T) {
 		t.Errorf("frozen-core LiH: %d qubits, ground energy %.10f; want 10 and −7.8821759908 within 1e-8", info.Qubits, info.Ground)
 	}
 }
+
+// TestJSONEverywhere checks that every step's -json output is one valid
+// JSON object and nothing else.
+func TestJSONEverywhere(t *testing.T) {
+	dir := t.TempDir()
+	ham := filepath.Join(dir, "h2.txt")
+	planPath := filepath.Join(dir, "plan.json")
+	recPath := filepath.Join(dir, "rec.csv")
+	steps := [][]string{
+		{"convert", "-o", ham, h2Dump},
+		{"info", ham},
+		{"plan", "-ham", ham, "-strategy", "importance", "-shots", "100", "-o", planPath},
+		{"certify", "-ham", ham, "-plan", planPath},
+		{"export", "-plan", planPath, "-o", filepath.Join(dir, "qasm")},
+		{"simulate", "-ham", ham, "-plan", planPath, "-o", recPath},
+		{"estimate", "-ham", ham, "-plan", planPath, "-records", recPath},
+	}
+	for _, s := range steps {
+		out := ok(t, append(s, "-json")...)
+		var m map[string]any
+		if err := json.Unmarshal([]byte(out), &m); err != nil {
+			t.Errorf("shotplan %s -json: %v in %q", s[0], err, out)
+		}
+	}
+}
