@@ -121,7 +121,7 @@ func (f figure) String() string {
 	if f.missing == 0 {
 		return fmt.Sprintf("%.4f", f.norm)
 	}
-	return fmt.Sprintf("∞ (%.4f over covered; %d uncovered, Σ|h| %.3g)", f.norm, f.missing, f.uncovered)
+	return fmt.Sprintf("∞ (%.4f over covered; %d uncovered, their ‖h‖₁ %.3g)", f.norm, f.missing, f.uncovered)
 }
 
 func TestGreedyBeatsRandom(t *testing.T) {
