@@ -53,18 +53,26 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	w := sw.w
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
+		// One-shot groups are counted 64 at a time: the parities of their
+		// outcomes on a term's qubits are XORs of bit-sliced outcomes.
+		sw.sliceBlock(k0, k1)
 		for i := range m {
 			rs, supp := sw.rows(i), sw.termSupp(i)
 			n, odd := 0, 0
 			for k := k0; k < k1; k++ {
-				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
+				v := sw.covering(rs, k)
+				if v == 0 {
+					continue
+				}
+				if one := v & sw.one[k]; one != 0 {
+					n += bits.OnesCount64(one)
+					odd += bits.OnesCount64(one & sw.oddSlice(rs, k, k0))
+					v &^= one
+				}
+				for ; v != 0; v &= v - 1 {
 					g := k<<6 + bits.TrailingZeros64(v)
 					lo, hi := sw.off[g], sw.off[g+1]
 					n += hi - lo
-					if hi-lo == 1 && w == 1 {
-						odd += bits.OnesCount64(sw.flat[lo]&supp[0]) & 1
-						continue
-					}
 					odd += countOdd(sw.flat[lo*w:hi*w], supp)
 				}
 			}
@@ -108,17 +116,20 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			}
 			rs, supp := sw.rows(i), sw.termSupp(i)
 			n := res.Cover[i]
-			di := 0.0 // a_i·N_i/(N_i − 1), zero for N_i = 1
+			// A one-shot group adds d_i·(s − raw_i) = base − step·odd, with
+			// d_i = a_i·N_i/(N_i − 1), zero for N_i = 1.
+			di := 0.0
 			if n > 1 {
 				di = ai * float64(n) / float64(n-1)
 			}
+			base, step := di*(1-raw[i]), 2*di
 			for k := k0; k < k1; k++ {
 				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
 					g := k<<6 + bits.TrailingZeros64(v)
 					lo, hi := sw.off[g], sw.off[g+1]
 					if hi-lo == 1 {
 						o := parity(sw.flat[lo*w:hi*w], supp)
-						z[lo] += di * (1 - 2*float64(o) - raw[i])
+						z[lo] += base - step*float64(o)
 						continue
 					}
 					addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)

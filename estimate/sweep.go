@@ -25,6 +25,11 @@ type sweep struct {
 	sets  []uint64 // set of (q, l) at sets[(3q+l−1)·words:]
 	off   []int    // group g's outcomes are at positions off[g]..off[g+1]
 	flat  []uint64 // outcomes by position, w words each
+	one   []uint64 // the groups with a single shot, a bit set
+
+	// Bit q of the single outcome of each one-shot group of the current
+	// block, as a bit set over the block's groups: slice[q*blockWords+k−k0].
+	slice []uint64
 
 	rowOff []int    // term i's letters are rowIdx[rowOff[i]:rowOff[i+1]]
 	rowIdx []int32  // 3q+l−1 for each letter
@@ -41,7 +46,11 @@ func newSweep(rec *Records, t *pauli.Table) *sweep {
 	s.sets = make([]uint64, 3*s.n*s.words)
 	s.off = make([]int, ng+1)
 	s.flat = make([]uint64, 0, rec.Len()*s.w)
+	s.one = make([]uint64, s.words)
 	for g := range ng {
+		if rec.GroupLen(g) == 1 {
+			s.one[g>>6] |= 1 << (g & 63)
+		}
 		x, z := rec.Setting(g).Words()
 		for q := range s.n {
 			s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
@@ -87,6 +96,38 @@ func (s *sweep) covering(rs []int32, k int) uint64 {
 		v &= s.sets[int(r)*s.words+k]
 	}
 	return v
+}
+
+// sliceBlock fills s.slice with the outcome bits of the one-shot groups in
+// group-set words k0..k1−1 (at most blockWords of them).
+func (s *sweep) sliceBlock(k0, k1 int) {
+	if s.slice == nil {
+		s.slice = make([]uint64, s.n*blockWords)
+	}
+	clear(s.slice)
+	for k := k0; k < k1; k++ {
+		for v := s.one[k]; v != 0; v &= v - 1 {
+			t := bits.TrailingZeros64(v)
+			b := s.flat[s.off[k<<6+t]*s.w:]
+			for wd := range s.w {
+				for u := b[wd]; u != 0; u &= u - 1 {
+					q := wd<<6 + bits.TrailingZeros64(u)
+					s.slice[q*blockWords+k-k0] |= 1 << t
+				}
+			}
+		}
+	}
+}
+
+// oddSlice returns, for word k of the current block (k0 its first word),
+// the one-shot groups whose outcome has odd parity on the qubits of term
+// letters rs.
+func (s *sweep) oddSlice(rs []int32, k, k0 int) uint64 {
+	var p uint64
+	for _, r := range rs {
+		p ^= s.slice[int(r/3)*blockWords+k-k0]
+	}
+	return p
 }
 
 // termSupp returns the support words of term i.
