@@ -289,3 +289,44 @@ func FuzzReadPlan(f *testing.F) {
 		}
 	})
 }
+
+// BenchmarkPlanFile reads and writes importance-sampling plans (one drawn
+// term per shot, few merged settings) of growing size on a random
+// 40-qubit Hamiltonian.
+func BenchmarkPlanFile(b *testing.B) {
+	h, err := hamiltonian.RandomLocal(40, 1000, 4, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	for _, shots := range []int{10000, 1000000} {
+		p, err := allocate.Run(h, shots, &allocate.Importance{Seed: 1}, nil)
+		if err != nil {
+			b.Fatal(err)
+		}
+		var buf bytes.Buffer
+		if err := allocate.WritePlan(&buf, p, 1); err != nil {
+			b.Fatal(err)
+		}
+		data := buf.Bytes()
+		b.Run(fmt.Sprintf("op=write/shots=%d", shots), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			var w bytes.Buffer
+			for b.Loop() {
+				w.Reset()
+				if err := allocate.WritePlan(&w, p, 1); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("op=read/shots=%d", shots), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				if _, err := allocate.ReadPlan(bytes.NewReader(data)); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
