@@ -273,3 +273,10 @@ func Write(w io.Writer, h *Hamiltonian) error {
 func WriteFile(path string, h *Hamiltonian) error {
 	return atomicfile.Write(path, func(w io.Writer) error { return Write(w, h) })
 }
+
+// String returns h in the text format of [Write].
+func (h *Hamiltonian) String() string {
+	var b strings.Builder
+	Write(&b, h)
+	return b.String()
+}

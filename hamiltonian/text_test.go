@@ -304,3 +304,10 @@ func FuzzUnmarshalJSON(f *testing.F) {
 		}
 	})
 }
+
+func TestString(t *testing.T) {
+	h := mustNew(t, 2, -0.5, []Term{{pauli.MustParse("ZZ"), -1}, {pauli.MustParse("XI"), 0.25}})
+	if got, want := h.String(), "qubits 2\n-0.5 I\n-1 ZZ\n0.25 XI\n"; got != want {
+		t.Errorf("String() = %q, want %q", got, want)
+	}
+}
