@@ -47,7 +47,7 @@ type config struct {
 	seed       uint64
 	plotPath   string
 	strategies []string
-	skipped    []string // adaptive strategies: no a-priori certificate
+	skipped    []string  // adaptive strategies: no a-priori certificate
 	progress   io.Writer // nil: no progress bar
 }
 
