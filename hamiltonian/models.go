@@ -11,7 +11,8 @@ import (
 // Sign conventions of the model builders. Every coupling and field enters
 // exactly as written below; a bond's Weight multiplies the coupling of that
 // bond. Site q is qubit q. Terms come in lattice bond order (for each bond the
-// XX, YY, ZZ terms it carries, in that order), then the field terms by site.
+// XX, YY, ZZ terms it carries, in that order), then the field terms by site
+// (for Ising, all X fields before all Z fields).
 //
 //	TransverseFieldIsing:  H = −J Σ_b w_b Z_i Z_j − h Σ_q X_q
 //	Ising:                 H = −J Σ_b w_b Z_i Z_j − Σ_q hx_q X_q − Σ_q hz_q Z_q
