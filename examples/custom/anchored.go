@@ -16,8 +16,10 @@ import (
 // §3.5), fixes the anchor's letters, and then packs in every other term that
 // still fits — qubit-wise compatible with the letters fixed so far — taking
 // the terms by |h_i| descending. Qubits no packed term touches are read in Z.
-// So each shot measures its anchor like importance sampling would, and the
-// heavy terms around it for free.
+// So each shot measures its anchor like importance sampling would, plus the
+// heavy terms that fit around it. Whether that packing pays off is what the
+// certificate tells you, before any shot: on the built-in ladder it does not
+// beat greedy, whose three settings cover every term far more evenly.
 //
 // It needs no knob but the seed, and keeps no state across runs: Init resets
 // everything, as the Allocator contract asks. The cost is O(Σ_i k_i) per
