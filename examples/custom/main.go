@@ -85,6 +85,6 @@ func compare(w io.Writer, shots int, seed uint64, delta float64) error {
 	}
 	tw.Flush()
 	fmt.Fprintln(w, "\ncertified ±: holds with probability ≥ 1 − δ for every state; error bar: normal approximation from the data.")
-	fmt.Fprintln(w, "At the same number of shots, the plan with the lower certified bound is the better one for every state.")
+	fmt.Fprintln(w, "At the same number of shots, the plan with the lower certified bound has the better guarantee.")
 	return nil
 }
