@@ -340,3 +340,34 @@ func TestSortedSmallBudgetDropsGroups(t *testing.T) {
 		t.Errorf("plan = %s, want %s", got, want)
 	}
 }
+
+func TestCoverIndexMatchesTable(t *testing.T) {
+	// The bucketed cover search against pauli.Table.Covered, which tests
+	// every row: registers of one, two and three words, in pair mode and
+	// beyond it, with terms up to weight 6 (past the four support qubits
+	// the index pre-filters on).
+	for _, n := range []int{5, 64, 100, allocate.PairIndexMaxQubit, allocate.PairIndexMaxQubit + 1, 150} {
+		t.Run(fmt.Sprintf("qubits=%d", n), func(t *testing.T) {
+			h, err := hamiltonian.RandomLocal(n, 400, min(6, n), uint64(n))
+			if err != nil {
+				t.Fatal(err)
+			}
+			p, err := allocate.Run(h, 60, &allocate.Random{Seed: uint64(n)}, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// Add the settings that cover terms: each term completed with Z.
+			settings := slices.Clone(p.Settings)
+			for i := range 30 {
+				settings = append(settings, pauli.Complete(h.Pauli(i), pauli.Z))
+			}
+			got := allocate.CoveredByIndex(h.Table(), settings)
+			for k, s := range settings {
+				want := h.Table().Covered(nil, s)
+				if !slices.Equal(got[k], want) && !(len(got[k]) == 0 && len(want) == 0) {
+					t.Errorf("setting %s: index finds rows %v, table finds %v", s, got[k], want)
+				}
+			}
+		})
+	}
+}
