@@ -95,10 +95,11 @@ const pairIndexMaxQubits = 128
 // A setting covers a term only if it agrees with the term's letters on the
 // term's two lowest support qubits, so the terms are bucketed by those
 // qubits and letters, and a query reads only the buckets whose letters agree
-// with the setting: about a ninth of the terms of weight ≥ 2. Each entry also
-// carries its third and fourth support qubits and letters in one word, which
-// settles terms of weight ≤ 4 without reading their bit words; only heavier
-// terms that pass are tested word-wise. Registers wider than
+// with the setting: about a ninth of the terms of weight ≥ 2. For registers
+// of more than 64 qubits each entry also carries its third and fourth
+// support qubits and letters in one word, which settles terms of weight ≤ 4
+// without reading their bit words; only heavier terms that pass are tested
+// word-wise. Registers wider than
 // pairIndexMaxQubits are bucketed by the lowest support qubit alone (a
 // third of the terms read) and tested word-wise.
 type coverIndex struct {
@@ -235,6 +236,20 @@ func (c *coverIndex) appendCovered(dst []int32, sx, sz []uint64) []int32 {
 		k := len(dst)
 		dst = slices.Grow(dst, int(hi-lo))[:k+int(hi-lo)]
 		ids, extra := c.ids[lo:hi], c.extra[lo:hi]
+		if w == 1 {
+			// One word per bit vector is as cheap to read as the extra
+			// word: test it directly, branch-free.
+			x0, z0 := sx[0], sz[0]
+			words := c.words[2*lo : 2*hi]
+			for j, id := range ids {
+				x, z := words[2*j], words[2*j+1]
+				m := ((x ^ x0) | (z ^ z0)) & (x | z)
+				dst[k] = id
+				k += int(1 ^ (m|-m)>>63)
+			}
+			dst = dst[:k]
+			return
+		}
 		for j, id := range ids {
 			ex := extra[j]
 			d3 := (uint32(code[ex&127]) ^ ex>>7&3) & -(ex >> 9 & 1)
