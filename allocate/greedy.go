@@ -9,8 +9,8 @@ import (
 )
 
 // Greedy is greedy one-norm descent, the allocation of ShadowGrouping
-// (Gresch & Kliesch, "Guaranteed efficient energy estimation of quantum
-// many-body Hamiltonians using ShadowGrouping", arXiv:2301.03385; MATH §5.1).
+// ("Guaranteed efficient energy estimation of quantum many-body Hamiltonians
+// using ShadowGrouping", arXiv:2301.03385; MATH §5.1).
 //
 // Each round gives term i the weight of its marginal gain in the objective
 // Σ_i |h_i|/sqrt(N_i) (MATH §3.2), w_i = |h_i|(1/sqrt(N_i) − 1/sqrt(N_i+1)),

@@ -22,9 +22,9 @@ const (
 )
 
 // Sorted is sorted insertion into qubit-wise commuting groups with weighted
-// shot allocation (Crawford, van Straaten, Wang, Parks, Campbell & Brierley,
-// "Efficient quantum measurement of Pauli operators in the presence of
-// finite sampling error", arXiv:1908.06942; MATH §5.5).
+// shot allocation (Crawford et al., "Efficient quantum measurement of Pauli
+// operators in the presence of finite sampling error", arXiv:1908.06942;
+// MATH §5.5).
 //
 // The terms are taken by |h_i| descending (ties by term index); each joins
 // the first group all of whose members it commutes with qubit-wise, which is
