@@ -128,7 +128,8 @@ func TestGreedyBeatsRandom(t *testing.T) {
 	// The greedy strategy minimises ‖h'‖_1 = Σ|h_i|/sqrt(N_i) (MATH §3.2)
 	// step by step, so after 1000 shots its value is below that of
 	// uniformly random bases — an expected property of an objective-greedy
-	// method (arXiv:2301.03385 reports it on molecules), not a tuned
+	// method (arXiv:2301.03385 compares with random bases on molecules —
+	// from memory), not a tuned
 	// number. An uncovered term makes the objective unbounded, so a plan
 	// with fewer uncovered terms counts as lower.
 	if testing.Short() {
