@@ -129,9 +129,9 @@ func TestGreedyBeatsRandom(t *testing.T) {
 	// step by step, so after 1000 shots its value is below that of
 	// uniformly random bases — an expected property of an objective-greedy
 	// method (arXiv:2301.03385 compares with random bases on molecules —
-	// from memory), not a tuned
-	// number. An uncovered term makes the objective unbounded, so a plan
-	// with fewer uncovered terms counts as lower.
+	// from memory), not a tuned number. An uncovered term makes the
+	// objective unbounded, so a plan with fewer uncovered terms counts as
+	// lower.
 	if testing.Short() {
 		t.Skip("plans 1000 shots with every strategy on four Hamiltonians")
 	}
