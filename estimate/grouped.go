@@ -98,9 +98,11 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 		}
 	}
 
-	// Pass 2, by blocks of groups: Z_n of every shot of a many-shot group;
-	// for a one-shot group, its leave-one-out residual R_g (see above).
-	z := make([]float64, rec.Len()) // Z_n or R_g by position
+	// Pass 2, by blocks of groups: Z_n of every shot of a many-shot group,
+	// by position, and the leave-one-out residual R_g of every one-shot
+	// group (see above), by group.
+	z := make([]float64, rec.Len())
+	r := make([]float64, 64*sw.words) // by group; padded to whole words
 	vsum := 0.0
 	for i := range m {
 		if a[i] != 0 && res.Cover[i] == 1 {
@@ -109,6 +111,7 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	}
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
+		sw.sliceBlock(k0, k1)
 		for i := range m {
 			ai := a[i]
 			if ai == 0 {
@@ -124,26 +127,32 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			}
 			base, step := di*(1-raw[i]), 2*di
 			for k := k0; k < k1; k++ {
-				for v := sw.covering(rs, k); v != 0; v &= v - 1 {
+				v := sw.covering(rs, k)
+				if v == 0 {
+					continue
+				}
+				if one := v & sw.one[k]; one != 0 && di != 0 {
+					odd := sw.oddSlice(rs, k, k0)
+					rk := r[k<<6 : k<<6+64]
+					for ; one != 0; one &= one - 1 {
+						t := bits.TrailingZeros64(one)
+						rk[t] += base - step*float64(odd>>t&1)
+					}
+				}
+				for v &^= sw.one[k]; v != 0; v &= v - 1 {
 					g := k<<6 + bits.TrailingZeros64(v)
 					lo, hi := sw.off[g], sw.off[g+1]
-					if hi-lo == 1 {
-						o := parity(sw.flat[lo*w:hi*w], supp)
-						z[lo] += base - step*float64(o)
-						continue
-					}
 					addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
 				}
 			}
 		}
 	}
 	for g := range rec.Groups() {
-		zs := z[sw.off[g]:sw.off[g+1]]
-		if len(zs) == 1 {
-			vsum += zs[0] * zs[0]
-			continue
+		if zs := z[sw.off[g]:sw.off[g+1]]; len(zs) > 1 {
+			vsum += float64(len(zs)) * sampleVariance(zs)
+		} else {
+			vsum += r[g] * r[g]
 		}
-		vsum += float64(len(zs)) * sampleVariance(zs)
 	}
 	res.StdErr = math.Sqrt(vsum)
 	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })

@@ -146,9 +146,33 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 		}
 	}
 	termSum := make([]float64, m*k) // term i's batch sums at termSum[i*k:]
+	// One-shot groups are visited 64 at a time with bit-sliced outcomes;
+	// their energies and batches are kept by group.
+	xg := make([]float64, 64*sw.words)
+	bg := make([]int32, 64*sw.words)
+	// wb[kw] is the batch shared by all groups of word kw when they all
+	// have one shot, or −1: then a term's batch sum over the word is one
+	// signed count.
+	wb := make([]int32, sw.words)
+	for kw := range wb {
+		wb[kw] = -1
+	}
+	for g := range rec.Groups() {
+		bg[g] = batch[sw.off[g]]
+		kw := g >> 6
+		switch {
+		case sw.off[g+1]-sw.off[g] != 1:
+			wb[kw] = -2 // never shared
+		case g&63 == 0:
+			wb[kw] = bg[g]
+		case wb[kw] != bg[g]:
+			wb[kw] = -2
+		}
+	}
 	w := sw.w
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
+		sw.sliceBlock(k0, k1)
 		for i := range m {
 			if wt[i] == 0 {
 				continue
@@ -156,7 +180,31 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 			rs, supp, vi, ei := sw.rows(i), sw.termSupp(i), v[i], e[i]
 			ts := termSum[i*k : (i+1)*k]
 			for kw := k0; kw < k1; kw++ {
-				for u := sw.covering(rs, kw); u != 0; u &= u - 1 {
+				u := sw.covering(rs, kw)
+				if u == 0 {
+					continue
+				}
+				if one := u & sw.one[kw]; one != 0 {
+					c := bits.OnesCount64(one)
+					res.Cover[i] += c
+					odd := sw.oddSlice(rs, kw, k0)
+					xk, bk := xg[kw<<6:kw<<6+64], bg[kw<<6:kw<<6+64]
+					if b := wb[kw]; b >= 0 {
+						ts[b] += vi * float64(c-2*bits.OnesCount64(one&odd))
+						for ; one != 0; one &= one - 1 {
+							t := bits.TrailingZeros64(one)
+							xk[t] += ei - 2*ei*float64(odd>>t&1)
+						}
+					} else {
+						for ; one != 0; one &= one - 1 {
+							t := bits.TrailingZeros64(one)
+							sign := 1 - 2*float64(odd>>t&1)
+							xk[t] += sign * ei
+							ts[bk[t]] += sign * vi
+						}
+					}
+				}
+				for u &^= sw.one[kw]; u != 0; u &= u - 1 {
 					g := kw<<6 + bits.TrailingZeros64(u)
 					lo, hi := sw.off[g], sw.off[g+1]
 					res.Cover[i] += hi - lo
@@ -167,6 +215,11 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 					}
 				}
 			}
+		}
+	}
+	for g := range rec.Groups() {
+		if sw.off[g+1]-sw.off[g] == 1 {
+			x[sw.off[g]] += xg[g]
 		}
 	}
 	bs := make([]float64, k)
