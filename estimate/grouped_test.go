@@ -507,3 +507,33 @@ func TestGroupedSingleShot(t *testing.T) {
 		t.Errorf("Grouped = %v ± %v (bias %v), want -2.5 ± %v (bias 1)", res.Energy, res.StdErr, res.Bias, math.Sqrt(0.25+4))
 	}
 }
+
+func TestGroupedEdgeCases(t *testing.T) {
+	h := mustH(t, 2, 0.75, map[string]float64{"ZZ": -1, "XI": 0.5})
+	offsetOnly, err := hamiltonian.New(2, 0.75, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	one := NewRecords(2)
+	one.Add(pauli.MustParseSetting("ZZ"), pauli.Bits{0})
+	tests := []struct {
+		name             string
+		h                *hamiltonian.Hamiltonian
+		rec              *Records
+		energy, se, bias float64
+	}{
+		// No shots: only the offset, every term left out.
+		{"no shots", h, NewRecords(2), 0.75, 0, 1.5},
+		// No terms: the offset exactly.
+		{"offset only", offsetOnly, one, 0.75, 0, 0},
+	}
+	for _, tc := range tests {
+		res, err := Grouped(tc.h, tc.rec, nil)
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if res.Energy != tc.energy || res.StdErr != tc.se || res.Bias != tc.bias {
+			t.Errorf("%s: Grouped = %v ± %v (bias %v), want %v ± %v (bias %v)", tc.name, res.Energy, res.StdErr, res.Bias, tc.energy, tc.se, tc.bias)
+		}
+	}
+}
