@@ -1,6 +1,7 @@
 // Package pauli provides n-qubit Pauli strings stored as symplectic bit words,
-// single-qubit measurement settings, and a column store of many strings for
-// the hot loops of allocation and estimation.
+// measurement settings (local ones, and entangled ones that measure a
+// commuting family through a Clifford circuit), and a column store of many
+// strings for the hot loops of allocation and estimation.
 //
 // # Conventions
 //
@@ -34,6 +35,17 @@
 // [Table.Samples] write into the caller's buffers. Tests pin this with
 // testing.AllocsPerRun. Methods that return a new [String] ([Mul],
 // [String.With], [String.Clone], [Table.At]) allocate its words.
+//
+// # Settings
+//
+// A [Setting] is local (one of X, Y, Z per qubit, [NewSetting]) or entangled
+// ([NewFamilySetting]: a generally commuting family, measured by its
+// diagonalising circuit and a Z readout). Coverage, samples, equality, keys
+// and the text form work for both kinds; the text form of an entangled
+// setting is its generators joined by '|', such as "XX|ZZ". The methods that
+// return letters ([Setting.At], [Setting.Pauli], [Setting.Words]) panic on an
+// entangled setting; code that handles both checks [Setting.IsLocal] or uses
+// [Setting.Diagonal] and [Setting.Circuit], which work for both.
 //
 // # Panics
 //

@@ -1,15 +1,43 @@
 package pauli
 
 import (
+	"errors"
 	"math/bits"
 	"strconv"
+	"strings"
 )
 
-// Setting is a local measurement setting: one of X, Y, Z on every qubit. Each
-// qubit is rotated into its basis and read out. A Setting is an immutable
-// value; its zero value has zero qubits.
+// Setting is a measurement setting of one of two kinds.
+//
+// A local setting puts one of X, Y, Z on every qubit: each qubit is rotated
+// into its basis and read out. It covers a string that, on every qubit, is
+// the identity or the setting's letter.
+//
+// An entangled setting (made by [NewFamilySetting]) measures a generally
+// commuting family: the family's diagonalising Clifford circuit U (see
+// [Diagonalize]) runs before every qubit is read in the Z basis. It covers a
+// string that U maps to ±(a Z-string) — every product of the family's
+// members, and possibly more.
+//
+// [Setting.Covers], [Setting.Sample], [Setting.Diagonal], [Setting.Circuit],
+// [Setting.Equal], [Setting.Key], the text form and the coverage queries of
+// [Table] are defined for both kinds. [Setting.At], [Setting.Pauli] and
+// [Setting.Words] describe a setting by one letter per qubit, which an
+// entangled setting does not have: they panic on one (a programmer error;
+// check [Setting.IsLocal] first).
+//
+// A Setting is an immutable value; its zero value is the local setting on
+// zero qubits.
 type Setting struct {
-	p String
+	p   String     // local: the letters; entangled: only the width n
+	fam *entangled // nil for a local setting
+}
+
+// entangled is the shared, immutable part of an entangled setting.
+type entangled struct {
+	gens []String // independent generators, in the order Diagonalize chose them
+	d    *Diagonalization
+	key  string
 }
 
 // NewSetting returns the setting whose letters are those of p. It returns an
@@ -48,9 +76,15 @@ func Complete(p String, fill Letter) Setting {
 	return Setting{p: c}
 }
 
-// ParseSetting parses a dense setting such as "XZZY"; the identity letter is
-// an error.
+// ParseSetting parses the text form of [Setting.String]: a dense local
+// setting such as "XZZY", where the identity letter is an error, or the
+// generators of an entangled setting joined by '|', such as "XXII|ZZII",
+// which [NewFamilySetting] turns into a setting (so a family that commutes
+// qubit-wise reads back as a local setting).
 func ParseSetting(s string) (Setting, error) {
+	if strings.IndexByte(s, '|') >= 0 {
+		return parseFamily(s)
+	}
 	p, err := Parse(s)
 	if err != nil {
 		return Setting{}, err
@@ -74,29 +108,86 @@ func MustParseSetting(s string) Setting {
 // Qubits returns the number of qubits.
 func (s Setting) Qubits() int { return s.p.n }
 
-// At returns the basis of qubit q.
-func (s Setting) At(q int) Letter { return s.p.At(q) }
+// IsLocal reports whether s is a local setting (one letter per qubit, no
+// entangling gates).
+func (s Setting) IsLocal() bool { return s.fam == nil }
 
-// Pauli returns the setting as a Pauli string with no identity letters.
-func (s Setting) Pauli() String { return s.p }
+// mustLocal panics for an entangled setting: the caller asked for letters it
+// does not have.
+func (s Setting) mustLocal(method string) {
+	if s.fam != nil {
+		panic("pauli: Setting." + method + " called on entangled setting " + s.String() + "; check IsLocal first")
+	}
+}
 
-// Words returns the symplectic words of the setting; they must not be
-// modified.
-func (s Setting) Words() (x, z []uint64) { return s.p.x, s.p.z }
+// At returns the basis of qubit q. It panics if s is entangled or q is out
+// of range.
+func (s Setting) At(q int) Letter {
+	s.mustLocal("At")
+	return s.p.At(q)
+}
 
-// Equal reports whether s and o measure the same bases.
-func (s Setting) Equal(o Setting) bool { return s.p.Equal(o.p) }
+// Pauli returns a local setting as a Pauli string with no identity letters.
+// It panics if s is entangled.
+func (s Setting) Pauli() String {
+	s.mustLocal("Pauli")
+	return s.p
+}
 
-// Key returns a compact map key, as [String.Key].
-func (s Setting) Key() string { return s.p.Key() }
+// Words returns the symplectic words of a local setting; they must not be
+// modified. It panics if s is entangled.
+func (s Setting) Words() (x, z []uint64) {
+	s.mustLocal("Words")
+	return s.p.x, s.p.z
+}
 
-// String returns the dense form, such as "XZZY".
-func (s Setting) String() string { return s.p.String() }
+// Equal reports whether s and o are the same setting: both local with the
+// same letters, or both entangled with the same generators in the same order
+// (and so the same circuit).
+func (s Setting) Equal(o Setting) bool {
+	switch {
+	case s.fam == nil && o.fam == nil:
+		return s.p.Equal(o.p)
+	case s.fam == nil || o.fam == nil:
+		return false
+	}
+	return s.p.n == o.p.n && s.fam.key == o.fam.key
+}
 
-// MarshalText returns the dense form.
-func (s Setting) MarshalText() ([]byte, error) { return s.p.AppendText(nil), nil }
+// Key returns a compact map key that identifies s among settings of the
+// same width: [String.Key] of the letters for a local setting. The key of an
+// entangled setting has a different length from every local key of its
+// width, so the two kinds never collide.
+func (s Setting) Key() string {
+	if s.fam != nil {
+		return s.fam.key
+	}
+	return s.p.Key()
+}
 
-// UnmarshalText parses the dense form into s.
+// String returns the text form: the dense letters, such as "XZZY", for a
+// local setting; the dense generators joined by '|', such as "XXII|ZZII|IIZZ",
+// for an entangled one. [ParseSetting] reads both back.
+func (s Setting) String() string { return string(s.AppendText(nil)) }
+
+// AppendText appends the text form of s to b.
+func (s Setting) AppendText(b []byte) []byte {
+	if s.fam == nil {
+		return s.p.AppendText(b)
+	}
+	for i, g := range s.fam.gens {
+		if i > 0 {
+			b = append(b, '|')
+		}
+		b = g.AppendText(b)
+	}
+	return b
+}
+
+// MarshalText returns the text form.
+func (s Setting) MarshalText() ([]byte, error) { return s.AppendText(nil), nil }
+
+// UnmarshalText parses the text form into s.
 func (s *Setting) UnmarshalText(b []byte) error {
 	t, err := ParseSetting(string(b))
 	if err != nil {
@@ -106,10 +197,14 @@ func (s *Setting) UnmarshalText(b []byte) error {
 	return nil
 }
 
-// Covers reports whether s measures p: on every qubit p is the identity or
-// equal to the setting's letter. It panics if the widths differ.
+// Covers reports whether s measures p. For a local setting, on every qubit
+// p is the identity or equal to the setting's letter; for an entangled one,
+// the circuit maps p to ±(a Z-string). It panics if the widths differ.
 func (s Setting) Covers(p String) bool {
 	mustSameWidth(s.p.n, p.n)
+	if s.fam != nil {
+		return s.fam.d.Diagonalizes(p)
+	}
 	for i := range p.x {
 		if ((p.x[i]^s.p.x[i])|(p.z[i]^s.p.z[i]))&(p.x[i]|p.z[i]) != 0 {
 			return false
@@ -118,15 +213,177 @@ func (s Setting) Covers(p String) bool {
 	return true
 }
 
-// Sample returns the ±1 value that outcome b gives the covered string p: the
-// product of (−1)^bit over p's support. It does not check coverage; a
+// Sample returns the ±1 value that outcome b gives the covered string p. For
+// a local setting it is the product of (−1)^bit over p's support; for an
+// entangled one, the sign times (−1) to the parity of b on the support of
+// p's Z-image (see [Setting.Diagonal]). It does not check coverage; a
 // caller that has not checked [Setting.Covers] gets a meaningless value. It
-// panics if the widths differ.
+// panics if the widths differ. On an entangled setting it conjugates p
+// through the circuit's tableau, and allocates; callers sampling many
+// outcomes should take the image from [Setting.Diagonal] once.
 func (s Setting) Sample(p String, b Bits) int {
 	mustSameWidth(s.p.n, p.n)
+	if s.fam != nil {
+		z, sign, ok := s.fam.d.Diagonal(p)
+		if !ok {
+			return 1
+		}
+		return sign * (1 - 2*b.Parity(z.z))
+	}
 	c := 0
 	for i := range p.x {
 		c ^= bits.OnesCount64(b[i] & (p.x[i] | p.z[i]))
 	}
 	return 1 - 2*(c&1)
+}
+
+// NewFamilySetting returns the setting that measures a commuting family in
+// one shot: the family's diagonalising circuit from [Diagonalize], then a Z
+// readout of every qubit. The setting keeps the family's independent
+// generators ([Diagonalization.Generators]), in order; the circuit depends
+// only on them, so [ParseSetting] of the text form rebuilds the same circuit.
+//
+// A family that commutes qubit-wise gives a local setting instead: its
+// letters, and Z on qubits no member touches. It measures exactly what the
+// one-qubit circuit of [Diagonalize] would, through the local fast paths.
+//
+// It returns the error of [Diagonalize] (wrapping [ErrNotCommuting] for two
+// members that do not commute), or an error if no member differs from the
+// identity.
+func NewFamilySetting(family []String) (Setting, error) {
+	d, err := Diagonalize(family)
+	if err != nil {
+		return Setting{}, err
+	}
+	n := d.Qubits()
+	gi := d.Generators()
+	if len(gi) == 0 {
+		return Setting{}, errors.New("pauli: NewFamilySetting: every member is the identity")
+	}
+	gens := make([]String, len(gi))
+	union := Identity(n)
+	qwc := true
+	for k, i := range gi {
+		gens[k] = family[i].Clone()
+		if !union.QubitwiseCommutes(gens[k]) {
+			qwc = false
+		}
+		for j := range union.x {
+			union.x[j] |= gens[k].x[j]
+			union.z[j] |= gens[k].z[j]
+		}
+	}
+	if qwc {
+		return Complete(union, Z), nil
+	}
+	if !sameGenerators(d, gens) {
+		// The family's circuit depends only on its generators; rebuild
+		// from them so that the text form reads back to this circuit.
+		if d, err = Diagonalize(gens); err != nil {
+			return Setting{}, err
+		}
+	}
+	// The key: every generator's words, then one byte, so its length
+	// (16·words·r + 1) differs from a local key's (16·words).
+	var b []byte
+	for _, g := range gens {
+		b = append(b, g.Key()...)
+	}
+	b = append(b, '|')
+	return Setting{p: String{n: n}, fam: &entangled{gens: gens, d: d, key: string(b)}}, nil
+}
+
+// sameGenerators reports whether d's members are exactly gens.
+func sameGenerators(d *Diagonalization, gens []String) bool {
+	if d.Len() != len(gens) {
+		return false
+	}
+	for i, g := range gens {
+		if !d.Member(i).Equal(g) {
+			return false
+		}
+	}
+	return true
+}
+
+// parseFamily parses generators joined by '|'.
+func parseFamily(s string) (Setting, error) {
+	var gens []String
+	off := 0
+	for part := range strings.SplitSeq(s, "|") {
+		p, err := Parse(part)
+		if err != nil {
+			pe := err.(*ParseError)
+			return Setting{}, &ParseError{Input: s, Offset: off + pe.Offset, Reason: pe.Reason, Err: pe.Err}
+		}
+		if len(gens) > 0 && p.n != gens[0].n {
+			return Setting{}, &ParseError{Input: s, Offset: off, Reason: "generator " + strconv.Itoa(len(gens)) + " has " + strconv.Itoa(p.n) + " qubits, want " + strconv.Itoa(gens[0].n), Err: ErrSyntax}
+		}
+		gens = append(gens, p)
+		off += len(part) + 1
+	}
+	st, err := NewFamilySetting(gens)
+	if err != nil {
+		return Setting{}, &ParseError{Input: s, Offset: 0, Reason: strings.TrimPrefix(err.Error(), "pauli: "), Err: ErrSyntax}
+	}
+	return st, nil
+}
+
+// Diagonalization returns the diagonalisation behind an entangled setting,
+// or nil for a local one. It is shared and immutable.
+func (s Setting) Diagonalization() *Diagonalization {
+	if s.fam == nil {
+		return nil
+	}
+	return s.fam.d
+}
+
+// Generators returns the generators of an entangled setting, in order, or
+// nil for a local one. The strings are immutable values; the slice is a
+// copy.
+func (s Setting) Generators() []String {
+	if s.fam == nil {
+		return nil
+	}
+	return append([]String(nil), s.fam.gens...)
+}
+
+// Circuit returns the basis-change circuit that runs before every qubit is
+// read in the Z basis. For an entangled setting it is the family's circuit
+// (shared; must not be modified); for a local one it is H on qubits read in
+// X and S† then H on qubits read in Y (a new circuit), which maps X and Y to
+// +Z.
+func (s Setting) Circuit() *Circuit {
+	if s.fam != nil {
+		return s.fam.d.Circuit()
+	}
+	c := NewCircuit(s.p.n)
+	for q := range s.p.n {
+		switch s.p.At(q) {
+		case Y:
+			c.Sdg(q).H(q)
+		case X:
+			c.H(q)
+		}
+	}
+	return c
+}
+
+// Diagonal reports whether s covers p and, if so, returns the Z-string z and
+// the sign with which p is read: the sample of p from outcome b is
+// sign·(−1)^(parity of b on z's support). For a local setting z is Z on p's
+// support and the sign is +1. It panics if the widths differ.
+func (s Setting) Diagonal(p String) (z String, sign int, ok bool) {
+	mustSameWidth(s.p.n, p.n)
+	if s.fam != nil {
+		return s.fam.d.Diagonal(p)
+	}
+	if !s.Covers(p) {
+		return String{}, 0, false
+	}
+	z = Identity(p.n)
+	for i := range z.z {
+		z.z[i] = p.x[i] | p.z[i]
+	}
+	return z, 1, true
 }

@@ -87,9 +87,14 @@ func (t *Table) Clone() *Table {
 
 // Covered appends to dst the indices of the rows that s covers, in
 // increasing order, and returns the extended slice. It allocates only when
-// dst lacks capacity. It panics if s has a different width.
+// dst lacks capacity. It panics if s has a different width. An entangled
+// setting goes through [Diagonalization.Covered], a slower scan of the rows
+// against the circuit's n preimages of Z.
 func (t *Table) Covered(dst []int, s Setting) []int {
 	mustSameWidth(t.n, s.p.n)
+	if s.fam != nil {
+		return s.fam.d.Covered(dst, t)
+	}
 	// Rows go 64 at a time. When dst has room for 64 more indices, every
 	// row index is written and the length advanced by the coverage bit, with
 	// no branch per row. Otherwise the block's coverage is collected into a
@@ -163,6 +168,10 @@ func isZero(v uint64) uint64 { return 1 ^ (v|-v)>>63 }
 // not t.Len() or s has a different width. It never allocates.
 func (t *Table) CoverMask(dst []bool, s Setting) {
 	mustSameWidth(t.n, s.p.n)
+	if s.fam != nil {
+		s.fam.d.CoverMask(dst, t)
+		return
+	}
 	if len(dst) != t.rows {
 		panic("pauli: CoverMask: destination length differs from table length")
 	}
@@ -189,6 +198,9 @@ func (t *Table) CoversRow(r int, s Setting) bool {
 	}
 	mustSameWidth(t.n, s.p.n)
 	o := r * t.stride
+	if s.fam != nil {
+		return s.fam.d.diagonalWords(t.data[o:o+t.w], t.data[o+t.w:o+t.stride])
+	}
 	return coversRow(t.data[o:o+t.stride], s.p.x, s.p.z, t.w)
 }
 
@@ -214,7 +226,8 @@ func (t *Table) Parity(r int, b Bits) int {
 }
 
 // Samples sets dst[k] to the ±1 sample that outcome b gives row rows[k]. The
-// rows are assumed covered by the setting that produced b. It panics if
+// rows are assumed covered by the local setting that produced b; for an
+// outcome of an entangled setting use [Table.SettingSamples]. It panics if
 // len(dst) < len(rows). It never allocates.
 func (t *Table) Samples(dst []int8, rows []int, b Bits) {
 	dst = dst[:len(rows)]
@@ -227,5 +240,23 @@ func (t *Table) Samples(dst []int8, rows []int, b Bits) {
 	}
 	for k, r := range rows {
 		dst[k] = int8(1 - 2*t.Parity(r, b))
+	}
+}
+
+// SettingSamples sets dst[k] to the ±1 sample that outcome b of setting s
+// gives row rows[k], which s must cover (see [Setting.Sample]). For a local
+// setting it is [Table.Samples] and never allocates; for an entangled one
+// each row is conjugated through the circuit's tableau, which allocates a
+// string per row. It panics if len(dst) < len(rows) or s has a different
+// width.
+func (t *Table) SettingSamples(dst []int8, rows []int, s Setting, b Bits) {
+	mustSameWidth(t.n, s.p.n)
+	if s.fam == nil {
+		t.Samples(dst, rows, b)
+		return
+	}
+	dst = dst[:len(rows)]
+	for k, r := range rows {
+		dst[k] = int8(s.Sample(t.At(r), b))
 	}
 }
