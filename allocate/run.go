@@ -53,6 +53,9 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 	if settings != nil {
 		set = *settings
 	}
+	if a == nil {
+		return nil, fmt.Errorf("%w: nil Allocator", ErrStrategy)
+	}
 	name := Name(a)
 	if h == nil || h.Len() == 0 {
 		return nil, fmt.Errorf("%w (strategy %s)", ErrEmpty, name)

@@ -258,6 +258,7 @@ func TestRunErrors(t *testing.T) {
 		{"too many qubits", h, 5, &limited{*ok}, allocate.ErrTooManyQubits, "at most 1 qubits, Hamiltonian has 2"},
 		{"fixed of other width", h, 5, allocate.NewFixed(pauli.MustParseSetting("Z")), allocate.ErrTooManyQubits, ""},
 		{"fixed without settings", h, 5, &allocate.Fixed{}, nil, "no settings"},
+		{"nil allocator", h, 5, nil, allocate.ErrStrategy, "nil Allocator"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			_, err := allocate.Run(tc.h, tc.budget, tc.a, nil)
