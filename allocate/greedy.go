@@ -3,6 +3,7 @@ package allocate
 import (
 	"fmt"
 	"math"
+	"math/bits"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -55,6 +56,9 @@ type Greedy struct {
 	px    []uint64 // letters fixed so far
 	pz    []uint64
 	fixed []uint64 // qubits fixed so far
+	uses  []int32  // terms whose support holds qubit q
+	left  []int32  // of those, the ones the walk has not processed yet
+	spent []uint64 // free qubits with no unprocessed term left
 }
 
 // state is what a cover changes about a term.
@@ -103,6 +107,14 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.gain = g.gain[:0]
 	w := rk.w
 	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
+	g.spent = make([]uint64, w)
+	g.uses, g.left = make([]int32, rk.n), make([]int32, rk.n)
+	for r := range m {
+		x, z := rk.row(r)
+		for q := range supportOf(x, z) {
+			g.uses[q]++
+		}
+	}
 	g.front, g.stale = g.front[:0], g.stale[:0]
 	return nil
 }
@@ -137,7 +149,10 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 
 // walk visits the terms in descending weight and fixes the letters of those
 // compatible with the partial setting. It reads the heap without changing
-// it, through a frontier heap, then repairs the stale entries it met.
+// it, through a frontier heap, then repairs the stale entries it met. It
+// stops when every qubit is fixed, or when no term left could fix a free
+// qubit (every term holding one has been visited), which gives the same
+// setting as walking to the end.
 func (g *Greedy) walk() {
 	if g.allFixed() {
 		return
@@ -145,6 +160,8 @@ func (g *Greedy) walk() {
 	rk := g.rk
 	w := rk.w
 	words := rk.words
+	copy(g.left, g.uses)
+	clear(g.spent)
 	g.front = g.front[:0]
 	g.stale = g.stale[:0]
 	g.pushFront(0)
@@ -165,6 +182,18 @@ func (g *Greedy) walk() {
 			}
 		}
 		o := 2 * w * int(e.r)
+		exhausted := false
+		for k := range w {
+			free := (words[o+k] | words[o+w+k]) &^ g.fixed[k]
+			for free != 0 {
+				q := k<<6 + bits.TrailingZeros64(free)
+				free &= free - 1
+				if g.left[q]--; g.left[q] == 0 {
+					g.spent[k] |= 1 << (q & 63)
+					exhausted = true
+				}
+			}
+		}
 		ok, grow := true, false
 		for k := range w {
 			x, z := words[o+k], words[o+w+k]
@@ -187,6 +216,10 @@ func (g *Greedy) walk() {
 			if g.allFixed() {
 				break
 			}
+			exhausted = true
+		}
+		if exhausted && g.allSpent() {
+			break
 		}
 	}
 	for _, r := range g.stale {
@@ -194,6 +227,16 @@ func (g *Greedy) walk() {
 		g.heap[p].key = g.st[r].cur
 		g.siftDown(p)
 	}
+}
+
+// allSpent reports whether every free qubit has no unprocessed term left.
+func (g *Greedy) allSpent() bool {
+	for k, f := range g.fixed {
+		if g.rk.all[k]&^f&^g.spent[k] != 0 {
+			return false
+		}
+	}
+	return true
 }
 
 func (g *Greedy) allFixed() bool {

@@ -27,7 +27,16 @@ func referenceCases(t testing.TB) []allocatetest.Case {
 		}
 		cases = append(cases, allocatetest.Case{Name: fmt.Sprintf("random-%dq-%dterms", c.n, c.m), H: h})
 	}
-	return cases
+	// Qubit 1 appears only in X0 Z1, which the larger Z0 blocks in the
+	// first round: the walk must stop early and leave qubit 1 to the fill.
+	blocked, err := hamiltonian.New(4, 0, []hamiltonian.Term{
+		{Pauli: pauli.MustParse("ZIII"), Coeff: 1}, {Pauli: pauli.MustParse("XZII"), Coeff: 0.5},
+		{Pauli: pauli.MustParse("IIXY"), Coeff: 0.25}, {Pauli: pauli.MustParse("IIZZ"), Coeff: 0.2},
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return append(cases, allocatetest.Case{Name: "blocked-qubit", H: blocked})
 }
 
 // rankOf returns the term indices by |h_i| descending, ties by index.
