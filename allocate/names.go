@@ -16,10 +16,15 @@ var strategies = map[string]func(seed uint64) Allocator{
 	"sorted":     func(uint64) Allocator { return &Sorted{} },
 	"importance": func(seed uint64) Allocator { return &Importance{Seed: seed} },
 	"fixed":      func(uint64) Allocator { return &Fixed{} },
+	"sorted-gc":  func(uint64) Allocator { return &SortedGC{} },
+	"color-gc":   func(uint64) Allocator { return &ColorGC{} },
+	"greedy-gc":  func(uint64) Allocator { return &GreedyGC{} },
 }
 
 // Names returns the short names of the built-in strategies, sorted:
-// "biased", "derand", "fixed", "greedy", "importance", "random", "sorted".
+// "biased", "color-gc", "derand", "fixed", "greedy", "greedy-gc",
+// "importance", "random", "sorted", "sorted-gc". The "-gc" strategies group
+// by general commutation and produce entangled settings.
 func Names() []string {
 	names := make([]string, 0, len(strategies))
 	for k := range strategies {

@@ -169,6 +169,15 @@ func checkPlan(t *testing.T, h *hamiltonian.Hamiltonian, budget int, seed uint64
 			t.Errorf("Settings[%d] has %d qubits, want %d", k, s.Qubits(), n)
 			continue
 		}
+		if !s.IsLocal() {
+			// An entangled setting has no letters; its text form must
+			// read back to the same setting (same generators and circuit).
+			back, err := pauli.ParseSetting(s.String())
+			if err != nil || !back.Equal(s) || !back.Circuit().Equal(s.Circuit()) {
+				t.Errorf("Settings[%d] = %s: ParseSetting of its text gives %s, %v; want the same entangled setting", k, s, back, err)
+			}
+			continue
+		}
 		for q := range n {
 			if l := s.At(q); l == pauli.I || l > pauli.Z {
 				t.Errorf("Settings[%d].At(%d) = %v, want X, Y or Z", k, q, l)
@@ -237,10 +246,23 @@ func (r *recorder) Observe(s pauli.Setting, b pauli.Bits) {
 
 func (r *recorder) String() string { return allocate.Name(r.Allocator) }
 
+// batchRecorder is a recorder that forwards [allocate.Batcher], so that a
+// strategy whose settings are entangled (and so cannot be written as
+// letters by Next) runs through the wrapper too.
+type batchRecorder struct{ *recorder }
+
+func (r batchRecorder) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
+	return r.Allocator.(allocate.Batcher).NextBatch(settings, shots, remaining)
+}
+
 func checkObserver(t *testing.T, h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) {
 	rec := &recorder{Allocator: a}
+	var wrapped allocate.Allocator = rec
+	if _, ok := a.(allocate.Batcher); ok {
+		wrapped = batchRecorder{rec}
+	}
 	measure, measured := measurer(h.Qubits())
-	p, err := allocate.Run(h, budget, rec, &allocate.Settings{Measure: measure})
+	p, err := allocate.Run(h, budget, wrapped, &allocate.Settings{Measure: measure})
 	if err != nil {
 		t.Errorf("Run with an observing wrapper: %v", err)
 		return

@@ -1,0 +1,322 @@
+package allocate
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"math/bits"
+	"slices"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// SortedGC is sorted insertion into generally commuting groups (Crawford et
+// al., "Efficient quantum measurement of Pauli operators in the presence of
+// finite sampling error", arXiv:1908.06942; MATH §5.5): the terms are taken
+// by |h_i| descending (ties by term index), each joins the first group all
+// of whose members it commutes with as operators, and otherwise opens a new
+// group. Each group is measured by an entangled setting
+// ([pauli.NewFamilySetting]): its diagonalising Clifford circuit, then a Z
+// readout. A group that happens to commute qubit-wise becomes a local
+// setting, with Z on the qubits no member touches.
+//
+// The shots are divided among the groups exactly as by [Sorted], with the
+// same [Share] rule and largest-remainder rounding; a group whose rounded
+// share is 0 is not measured.
+//
+// # Cost
+//
+// Each group keeps a reduced basis of the symplectic vectors of its members
+// (at most n of them, since the members commute), so testing a term against
+// a group costs at most n word-wise symplectic products, whatever the
+// group's size: grouping is O(M·G·n·⌈n/64⌉) at worst for G groups, plus
+// one [pauli.Diagonalize] per group. SortedGC implements [Batcher] and uses
+// no randomness, and [Counter]; [SortedGC.Next] works only while the next
+// setting is local.
+type SortedGC struct {
+	// Share selects the weight of a group; the zero value is ShareOneNorm.
+	Share Share
+
+	groupShots
+}
+
+// String returns "sorted-gc".
+func (s *SortedGC) String() string { return "sorted-gc" }
+
+// Init implements [Allocator]. It forms the groups and divides the budget.
+func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
+	rk := newRanked(h)
+	order := make([]int32, len(rk.order))
+	for r := range order {
+		order[r] = int32(r)
+	}
+	return s.init("sorted-gc", h, rk, order, s.Share, budget)
+}
+
+// ColorGC is largest-degree-first greedy colouring of the complement of the
+// commutation graph (MATH §5.6): two terms are joined when they
+// anticommute, the terms are coloured in order of their number of
+// anticommuting partners, most first (ties by |h_i| descending, then term
+// index), and each takes the smallest colour none of its partners already
+// has — that is, it joins the first group all of whose members it commutes
+// with. A colour is a generally commuting group, measured by an entangled
+// setting as in [SortedGC], with the same [Share] rule and rounding as
+// [Sorted].
+//
+// # Cost
+//
+// The degrees need every pair: O(M²·⌈n/64⌉), the only quadratic step. The
+// colouring then costs as the grouping of [SortedGC]. ColorGC implements
+// [Batcher] and [Counter] and uses no randomness.
+type ColorGC struct {
+	// Share selects the weight of a group; the zero value is ShareOneNorm.
+	Share Share
+
+	groupShots
+}
+
+// String returns "color-gc".
+func (s *ColorGC) String() string { return "color-gc" }
+
+// Init implements [Allocator]. It colours the terms and divides the budget.
+func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
+	rk := newRanked(h)
+	m, w := len(rk.order), rk.w
+	deg := make([]int32, m)
+	for a := range m {
+		xa, za := rk.row(a)
+		for b := a + 1; b < m; b++ {
+			xb, zb := rk.row(b)
+			c := 0
+			for k := range w {
+				c += bits.OnesCount64(xa[k]&zb[k] ^ za[k]&xb[k])
+			}
+			if c&1 == 1 {
+				deg[a]++
+				deg[b]++
+			}
+		}
+	}
+	order := make([]int32, m)
+	for r := range order {
+		order[r] = int32(r)
+	}
+	// Ranks already order ties by |h_i| descending, then term index.
+	slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(deg[b], deg[a]) })
+	return s.init("color-gc", h, rk, order, s.Share, budget)
+}
+
+// groupShots holds the groups of a grouping strategy and hands them out
+// with their shares, as [Sorted] does.
+type groupShots struct {
+	groups   []pauli.Setting // every group's setting, in the order opened
+	members  [][]int         // every group's term indices
+	quota    []int           // every group's rounded share, possibly 0
+	settings []pauli.Setting // the groups with shots
+	shots    []int
+	next     int
+	name     string
+	cover    []int // N_i of the measured groups
+}
+
+// init groups the ranks of rk, taken in the given order, by general
+// commutation, and divides budget by the share rule.
+func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, budget int) error {
+	g.name = name
+	if share != ShareOneNorm && share != ShareTwoNorm {
+		return fmt.Errorf("%s: unknown share rule %d", name, share)
+	}
+	gs := newCommutingGroups(rk.w)
+	var weight []float64
+	var ranks [][]int32
+	for _, r := range order {
+		x, z := rk.row(int(r))
+		k := gs.insert(x, z)
+		if k == len(weight) {
+			weight = append(weight, 0)
+			ranks = append(ranks, nil)
+		}
+		ranks[k] = append(ranks[k], r)
+		if share == ShareOneNorm {
+			weight[k] += rk.abs[r]
+		} else {
+			weight[k] += rk.abs[r] * rk.abs[r]
+		}
+	}
+	if share == ShareTwoNorm {
+		for k := range weight {
+			weight[k] = math.Sqrt(weight[k])
+		}
+	}
+	g.quota = largestRemainder(budget, weight)
+	g.groups, g.members = g.groups[:0], g.members[:0]
+	g.settings, g.shots, g.next = g.settings[:0], g.shots[:0], 0
+	for k, rs := range ranks {
+		fam := make([]pauli.String, len(rs))
+		terms := make([]int, len(rs))
+		for j, r := range rs {
+			x, z := rk.row(int(r))
+			fam[j] = pauli.FromWords(rk.n, x, z)
+			terms[j] = int(rk.order[r])
+		}
+		st, err := pauli.NewFamilySetting(fam)
+		if err != nil {
+			return fmt.Errorf("%s: group %d: %w", name, k, err)
+		}
+		g.groups = append(g.groups, st)
+		g.members = append(g.members, terms)
+		if g.quota[k] == 0 {
+			continue
+		}
+		g.settings = append(g.settings, st)
+		g.shots = append(g.shots, g.quota[k])
+	}
+	// Count the covers here: a setting may cover terms of other groups,
+	// and the driver's letter-bucketed count does not apply to entangled
+	// settings.
+	g.cover = make([]int, h.Len())
+	var idx []int
+	for j, st := range g.settings {
+		idx = h.Table().Covered(idx[:0], st)
+		for _, i := range idx {
+			g.cover[i] += g.shots[j]
+		}
+	}
+	return nil
+}
+
+// Cover implements [Counter]: the cover counts of the whole plan.
+func (g *groupShots) Cover(dst []int) { copy(dst, g.cover) }
+
+// Next implements [Allocator] for the groups whose setting is local; it
+// returns an error for an entangled setting, which has no letters. The
+// driver calls NextBatch instead.
+func (g *groupShots) Next(dst []pauli.Letter) (int, error) {
+	if g.next >= len(g.settings) {
+		return 0, fmt.Errorf("%s: all %d groups already given", g.name, len(g.settings))
+	}
+	st := g.settings[g.next]
+	if !st.IsLocal() {
+		return 0, fmt.Errorf("%s: group setting %s is entangled and has no letters; use NextBatch", g.name, st)
+	}
+	for q := range dst {
+		dst[q] = st.At(q)
+	}
+	g.next++
+	return g.shots[g.next-1], nil
+}
+
+// NextBatch implements [Batcher]: every group with its shots at once.
+func (g *groupShots) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
+	if g.next >= len(g.settings) {
+		return settings, shots, fmt.Errorf("%s: all %d groups already given", g.name, len(g.settings))
+	}
+	settings = append(settings, g.settings[g.next:]...)
+	shots = append(shots, g.shots[g.next:]...)
+	g.next = len(g.settings)
+	return settings, shots, nil
+}
+
+// Groups returns, after Init, the setting of every group in the order the
+// groups were opened and its rounded share of the budget, which is 0 for a
+// group that is not measured. The slices must not be modified.
+func (g *groupShots) Groups() ([]pauli.Setting, []int) { return g.groups, g.quota }
+
+// Members returns, after Init, the term indices of every group, in the
+// order the terms joined it. A group's setting covers its members and may
+// cover more terms. The slices must not be modified.
+func (g *groupShots) Members() [][]int { return g.members }
+
+// commutingGroups is first-fit grouping by general commutation. Each group
+// keeps a basis of the span of its members' symplectic vectors, reduced so
+// that every basis vector has a pivot bit no other has: by bilinearity of
+// the symplectic form a string commutes with every member exactly when it
+// commutes with every basis vector, and the basis has at most n vectors.
+type commutingGroups struct {
+	w     int
+	basis [][]uint64 // per group: vectors of 2w words (x then z), back to back
+	pivot [][]int32  // per group: pivot bit of each basis vector
+	v     []uint64   // scratch
+}
+
+func newCommutingGroups(w int) *commutingGroups {
+	return &commutingGroups{w: w, v: make([]uint64, 2*w)}
+}
+
+// len returns the number of groups.
+func (c *commutingGroups) len() int { return len(c.basis) }
+
+// fits reports whether (x, z) commutes with every member of group k.
+func (c *commutingGroups) fits(k int, x, z []uint64) bool {
+	b, w := c.basis[k], c.w
+	if w == 1 {
+		x0, z0 := x[0], z[0]
+		for o := 0; o+1 < len(b); o += 2 {
+			if bits.OnesCount64(x0&b[o+1]^z0&b[o])&1 != 0 {
+				return false
+			}
+		}
+		return true
+	}
+	for o := 0; o < len(b); o += 2 * w {
+		bx, bz := b[o:o+w], b[o+w:o+2*w]
+		n := 0
+		for i := range w {
+			n += bits.OnesCount64(x[i]&bz[i] ^ z[i]&bx[i])
+		}
+		if n&1 != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// first returns the first group that (x, z) commutes with, or len().
+func (c *commutingGroups) first(x, z []uint64) int {
+	for k := range c.basis {
+		if c.fits(k, x, z) {
+			return k
+		}
+	}
+	return len(c.basis)
+}
+
+// add puts (x, z) into group k (k == len() opens a new group), extending
+// its basis if the vector is independent of it.
+func (c *commutingGroups) add(k int, x, z []uint64) {
+	if k == len(c.basis) {
+		c.basis = append(c.basis, nil)
+		c.pivot = append(c.pivot, nil)
+	}
+	w, v := c.w, c.v
+	copy(v[:w], x)
+	copy(v[w:], z)
+	b := c.basis[k]
+	for j, p := range c.pivot[k] {
+		if v[p>>6]>>(p&63)&1 == 1 {
+			row := b[2*w*j : 2*w*(j+1)]
+			for i := range v {
+				v[i] ^= row[i]
+			}
+		}
+	}
+	for i, u := range v {
+		if u != 0 {
+			c.pivot[k] = append(c.pivot[k], int32(i<<6+bits.TrailingZeros64(u)))
+			c.basis[k] = append(b, v...)
+			return
+		}
+	}
+}
+
+// insert adds (x, z) to the first group it fits, opening a new group if
+// none, and returns the group.
+func (c *commutingGroups) insert(x, z []uint64) int {
+	k := c.first(x, z)
+	c.add(k, x, z)
+	return k
+}
+
+// rank returns the dimension of group k's span.
+func (c *commutingGroups) rank(k int) int { return len(c.pivot[k]) }
