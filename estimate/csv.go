@@ -40,7 +40,7 @@ func WriteCSV(w io.Writer, rec *Records) error {
 	bw.WriteString(csvHeader + "\n")
 	text := make([][]byte, rec.Groups())
 	for g := range text {
-		text[g] = rec.Setting(g).Pauli().AppendText(nil)
+		text[g] = rec.Setting(g).AppendText(nil)
 	}
 	var buf []byte
 	for _, s := range rec.Shots() {

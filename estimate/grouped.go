@@ -35,12 +35,18 @@ import (
 //
 // The work is two passes over the (term, shot) samples, each with about
 // weight·G/64 word operations per term for G distinct settings; memory is
-// a few words per shot.
+// a few words per shot. Entangled settings ([pauli.NewFamilySetting]) are
+// handled apart: their covered terms are found through their circuits, and
+// each term is read as the sign times the parity of the outcome on its
+// Z-image; readout mitigation (Options.Readout) is refused for them.
 //
 // Grouped returns an error if the widths differ or the options are invalid.
 func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
 	c, err := newConfig(h, rec, opts, "Grouped")
 	if err != nil {
+		return nil, err
+	}
+	if err := readoutEntangled(opts, rec, "Grouped"); err != nil {
 		return nil, err
 	}
 	m := h.Len()
@@ -80,6 +86,8 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			ones[i] += odd
 		}
 	}
+	eg := entangledGroups(rec, h.Table())
+	groupedEntangledCounts(sw, eg, res.Cover, ones)
 	// a_i = h_i·scale_i/N_i for the terms in the energy, zero for the
 	// others; raw_i the unmitigated mean.
 	a := make([]float64, m)
@@ -147,6 +155,7 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			}
 		}
 	}
+	groupedEntangledSums(sw, eg, a, raw, res.Cover, z, r)
 	for g := range rec.Groups() {
 		if zs := z[sw.off[g]:sw.off[g+1]]; len(zs) > 1 {
 			vsum += float64(len(zs)) * sampleVariance(zs)

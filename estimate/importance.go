@@ -27,6 +27,9 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 	if err != nil {
 		return nil, err
 	}
+	if err := readoutEntangled(opts, rec, "ImportanceSampling"); err != nil {
+		return nil, err
+	}
 	nShots := rec.Len()
 	if len(drawn) != nShots {
 		return nil, fmt.Errorf("estimate: ImportanceSampling: %d drawn terms for %d shots", len(drawn), nShots)
@@ -49,8 +52,7 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 		if !t.CoversRow(i, s.Setting) {
 			return nil, fmt.Errorf("estimate: ImportanceSampling: shot %d: setting %s does not cover its drawn term %d (%s)", k, s.Setting, i, h.Pauli(i))
 		}
-		px, pz := t.Words(i)
-		v := c.scale[i] * (1 - 2*float64(parityXZ(s.Outcome, px, pz)))
+		v := c.scale[i] * importanceSample(h, i, s.Setting, s.Outcome)
 		res.Cover[i]++
 		sums[i] += v
 		x[k] = h.Offset()

@@ -16,13 +16,13 @@ import (
 )
 
 // AppendQASM appends to dst an OpenQASM 3 program that measures setting s:
-// the basis change of every qubit, then a measurement of every qubit q into
-// bit c[q].
+// the basis change of every qubit (or, for an entangled setting, its
+// Clifford circuit), then a measurement of every qubit q into bit c[q].
 func AppendQASM(dst []byte, s pauli.Setting) []byte {
 	n := strconv.Itoa(s.Qubits())
 	dst = append(dst, "OPENQASM 3.0;\ninclude \"stdgates.inc\";\n"...)
 	dst = append(dst, "// setting "...)
-	dst = s.Pauli().AppendText(dst)
+	dst = s.AppendText(dst)
 	dst = append(dst, "; bit c[q] holds qubit q\n"...)
 	dst = append(dst, "qubit["+n+"] q;\nbit["+n+"] c;\n"...)
 	dst = appendBasisChange(dst, s)
@@ -33,9 +33,32 @@ func AppendQASM(dst []byte, s pauli.Setting) []byte {
 // measurement basis, one statement a line: X needs h (Hadamard), Y needs
 // sdg then h (S† maps the +1 eigenstate of Y to that of X), Z needs
 // nothing. After them, reading a qubit in the computational basis gives 0
-// for eigenvalue +1 of its letter. A setting that needs an entangling
-// circuit would extend this function.
+// for eigenvalue +1 of its letter. An entangled setting gets its circuit,
+// gate by gate in order: h, s, sdg, cx (control first), cz.
 func appendBasisChange(dst []byte, s pauli.Setting) []byte {
+	if !s.IsLocal() {
+		for _, g := range s.Circuit().Gates() {
+			switch g.Kind {
+			case pauli.GateH:
+				dst = append(dst, "h q["...)
+			case pauli.GateS:
+				dst = append(dst, "s q["...)
+			case pauli.GateSdg:
+				dst = append(dst, "sdg q["...)
+			case pauli.GateCNOT:
+				dst = append(dst, "cx q["...)
+			case pauli.GateCZ:
+				dst = append(dst, "cz q["...)
+			}
+			dst = strconv.AppendInt(dst, int64(g.Q0), 10)
+			if g.Kind.TwoQubit() {
+				dst = append(dst, "], q["...)
+				dst = strconv.AppendInt(dst, int64(g.Q1), 10)
+			}
+			dst = append(dst, "];\n"...)
+		}
+		return dst
+	}
 	for q := range s.Qubits() {
 		switch s.At(q) {
 		case pauli.X:

@@ -96,6 +96,9 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 	if nShots == 0 {
 		return nil, fmt.Errorf("estimate: shadow estimate: no shots")
 	}
+	if err := noEntangled(rec, "shadow estimate"); err != nil {
+		return nil, err
+	}
 	k := c.batches
 	if k > nShots {
 		return nil, fmt.Errorf("estimate: %w: %d batches for %d shots", ErrFormat, k, nShots)

@@ -58,7 +58,8 @@ const defaultCacheBytes = 256 << 20
 // Simulator is a [Device] that measures copies of a pure state held as a
 // state vector. For each distinct setting it rotates every qubit into its
 // basis (X: Hadamard; Y: S† then Hadamard; Z: nothing), which costs
-// O(n·2^n), forms the cumulative Born distribution, and draws outcomes by
+// O(n·2^n) — or, for an entangled setting, applies its Clifford circuit to
+// the amplitudes, O(2^n) a gate — forms the cumulative Born distribution, and draws outcomes by
 // binary search on it, O(n) a shot. Readout errors, if set, flip the drawn
 // bits afterwards. All randomness comes from the seed: the same seed, state,
 // settings and calls give the same outcomes.
@@ -155,7 +156,8 @@ func (sim *Simulator) Qubits() int { return sim.n }
 // settings that agree there, samples those qubits from their marginal
 // distribution (which the rotations of the other qubits leave unchanged),
 // and then rotates and samples the remaining 2^(n−h) amplitudes that agree
-// with the drawn bits. It picks h to minimise the estimated work.
+// with the drawn bits. It picks h to minimise the estimated work. A call
+// with any entangled setting always uses the full distributions.
 func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) error {
 	if err := checkRun(sim.n, settings, shots, rec); err != nil {
 		return err
@@ -183,11 +185,17 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 		}
 		order[d] = append(order[d], k)
 	}
-	keys := make([]uint64, len(order))
-	for d, ks := range order {
-		keys[d] = letterKey(settings[ks[0]])
+	// Entangled settings have no letters to split on: every distinct
+	// setting's full distribution is used.
+	h := sim.n
+	var keys []uint64
+	if !anyEntangled(settings, shots) {
+		keys = make([]uint64, len(order))
+		for d, ks := range order {
+			keys[d] = letterKey(settings[ks[0]])
+		}
+		h = sim.split(keys, offset[len(settings)])
 	}
-	h := sim.split(keys, offset[len(settings)])
 	if h == sim.n {
 		for _, ks := range order {
 			cum := sim.distribution(settings[ks[0]])
@@ -363,7 +371,7 @@ func (sim *Simulator) distribution(s pauli.Setting) []float64 {
 		}
 	}
 	copy(sim.work, sim.state)
-	rotateQubits(sim.work, s, 0, sim.n)
+	rotate(sim.work, s, sim.n)
 	var cum []float64
 	if sim.cache.limit >= 8*len(sim.work) {
 		cum = sim.cache.put(key, 8*len(sim.work))
@@ -394,7 +402,7 @@ func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
 	}
 	dst = dst[:len(sim.state)]
 	copy(sim.work, sim.state)
-	rotateQubits(sim.work, s, 0, sim.n)
+	rotate(sim.work, s, sim.n)
 	t := 0.0
 	for a, v := range sim.work {
 		dst[a] = real(v)*real(v) + imag(v)*imag(v)

@@ -52,6 +52,9 @@ func BasisState(n int, b pauli.Bits) ([]complex128, error) {
 // Chuang §2.1.3; common practice).
 func EigenState(s pauli.Setting, b pauli.Bits) ([]complex128, error) {
 	n := s.Qubits()
+	if !s.IsLocal() {
+		return nil, fmt.Errorf("estimate: EigenState: setting %s is entangled; its eigenstates are not product states", s)
+	}
 	if n < 1 || len(b) != pauli.Words(n) || (n&63 != 0 && b[len(b)-1]>>(n&63) != 0) {
 		return nil, fmt.Errorf("estimate: EigenState: bit-string does not fit setting %s", s)
 	}

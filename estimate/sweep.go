@@ -51,9 +51,13 @@ func newSweep(rec *Records, t *pauli.Table) *sweep {
 		if rec.GroupLen(g) == 1 {
 			s.one[g>>6] |= 1 << (g & 63)
 		}
-		x, z := rec.Setting(g).Words()
-		for q := range s.n {
-			s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
+		// An entangled setting has no letters: it is in no letter set, so
+		// covering never returns it (see entangled.go for its path).
+		if st := rec.Setting(g); st.IsLocal() {
+			x, z := st.Words()
+			for q := range s.n {
+				s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
+			}
 		}
 		s.off[g+1] = s.off[g] + rec.GroupLen(g)
 		s.flat = append(s.flat, rec.out[g]...)
