@@ -74,7 +74,7 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 	stored := 0
 	for q, s := range c.settings {
 		if c.rows == nil {
-			c.b32 = c.index.covered(c.b32[:0], s)
+			c.b32 = c.covered(c.b32[:0], s)
 			for _, i := range c.b32 {
 				c.cover[i] += c.mult[q]
 			}
@@ -91,7 +91,7 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 			block = make([]int32, 0, min(max(guess, low), 1<<20))
 		}
 		start := len(block)
-		block = c.index.covered(block, s)
+		block = c.covered(block, s)
 		row := block[start:len(block):len(block)]
 		for _, i := range row {
 			c.cover[i] += c.mult[q]
@@ -111,7 +111,7 @@ func (c *coverage) terms(q int) []int32 {
 	if c.rows != nil {
 		return c.rows[q]
 	}
-	c.b32 = c.index.covered(c.b32[:0], c.settings[q])
+	c.b32 = c.covered(c.b32[:0], c.settings[q])
 	return c.b32
 }
 

@@ -156,7 +156,12 @@ func (g *groupStat) addOutcomes(tab *pauli.Table, out func(j int) pauli.Bits, co
 	}
 	buf = buf[:len(g.rows)]
 	for j := range count {
-		tab.Samples(buf, g.rows, out(j))
+		if g.setting.IsLocal() {
+			tab.Samples(buf, g.rows, out(j))
+		} else {
+			// An entangled setting reads each term through its circuit.
+			tab.SettingSamples(buf, g.rows, g.setting, out(j))
+		}
 		w := 0.0
 		for k, s := range buf {
 			w += g.coef[k] * float64(s)

@@ -128,6 +128,9 @@ func ProductOf(h *hamiltonian.Hamiltonian, probs [][3]float64) (*Randomized, err
 		}
 	}
 	r.accepts = func(s pauli.Setting) bool {
+		if !s.IsLocal() {
+			return false // letter-by-letter draws give local settings only
+		}
 		for q := range s.Qubits() {
 			if probs[q][s.At(q)-1] == 0 {
 				return false

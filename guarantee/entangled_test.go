@@ -1,0 +1,139 @@
+package guarantee_test
+
+import (
+	"math"
+	"os"
+	"testing"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/guarantee"
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/hamiltonian/fermion"
+	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// TestCertifyEntangledHandCount evaluates the certificate of MATH.md §3.1
+// for a plan with an entangled setting, against a count by hand. The
+// Bell-basis setting XX|ZZ covers XX, ZZ and YY (= −XX·ZZ) and neither XI
+// nor IZ, which anticommute with one of its generators; the local settings
+// cover as usual. Tolerance 1e-12 (a few roundings).
+func TestCertifyEntangledHandCount(t *testing.T) {
+	coef := map[string]float64{"XX": 0.5, "ZZ": -0.3, "YY": 0.2, "XI": 0.4, "IZ": 0.1}
+	var terms []hamiltonian.Term
+	for p, c := range coef {
+		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(p), Coeff: c})
+	}
+	h, err := hamiltonian.New(2, 0, terms)
+	if err != nil {
+		t.Fatal(err)
+	}
+	settings := []pauli.Setting{pauli.MustParseSetting("XX|ZZ"), pauli.MustParseSetting("XZ"), pauli.MustParseSetting("ZZ")}
+	shots := []int{3, 2, 1}
+	const delta = 0.05
+	c, err := guarantee.Certify(h, settings, shots, delta, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// By hand: N = 3 (XX), 3+1 (ZZ), 3 (YY), 2 (XI), 2+1 (IZ).
+	wantN := map[string]int{"XX": 3, "ZZ": 4, "YY": 3, "XI": 2, "IZ": 3}
+	for i := range h.Len() {
+		p := h.Pauli(i).String()
+		if c.Cover[i] != wantN[p] {
+			t.Errorf("Cover of %s = %d, want %d", p, c.Cover[i], wantN[p])
+		}
+	}
+	// s_Q = Σ_{i◁Q} |h_i|/N_i per setting; V = Σ_Q m_Q s_Q².
+	sBell := 0.5/3 + 0.3/4 + 0.2/3
+	sXZ := 0.4/2 + 0.1/3
+	sZZ := 0.3/4 + 0.1/3
+	wantV := 3*sBell*sBell + 2*sXZ*sXZ + 1*sZZ*sZZ
+	if math.Abs(c.Variance-wantV) > 1e-12 {
+		t.Errorf("Variance = %.15f, want %.15f", c.Variance, wantV)
+	}
+	wantR := math.Sqrt(2 * wantV * math.Log(2/delta))
+	if math.Abs(c.Radius-wantR) > 1e-12 || math.Abs(c.Total-wantR) > 1e-12 || c.Bias != 0 {
+		t.Errorf("Radius %v, Total %v, Bias %v; want %v, %v, 0", c.Radius, c.Total, c.Bias, wantR, wantR)
+	}
+}
+
+// TestCertifyEntangledCoverage runs plans of general-commutation groups on
+// the H2 ground state (Jordan–Wigner) 300 times and counts how often the
+// grouped estimate misses the exact energy by more than the certificate's
+// Total at δ = 0.2. The certificate promises at most a fraction δ; the test
+// fails if more than 30% of runs miss (a binomial(300, 0.2) count exceeds
+// 90 with probability below 1e-4, and Hoeffding bounds are conservative,
+// so the true miss rate is far below δ).
+func TestCertifyEntangledCoverage(t *testing.T) {
+	if testing.Short() {
+		t.Skip("300 simulated runs")
+	}
+	f, err := os.Open("../estimate/testdata/h2_sto3g_0.74A.fcidump")
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	g, err := molecule.ReadFCIDUMP(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	h, err := g.QubitHamiltonian(fermion.JordanWigner)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sim, ev, err := estimate.GroundStateSimulator(h, 3, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc"} {
+		a, err := allocate.ByName(name, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		plan, err := allocate.Run(h, 100, a, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert, err := guarantee.CertifyPlan(h, plan, 0.2, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		miss := 0
+		const runs = 300
+		for range runs {
+			rec := estimate.NewRecords(h.Qubits())
+			if err := sim.Run(plan.Settings, plan.Shots, rec); err != nil {
+				t.Fatal(err)
+			}
+			res, err := estimate.Grouped(h, rec, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if math.Abs(res.Energy-ev.Energy) > cert.Total {
+				miss++
+			}
+		}
+		// The data-dependent bound reads the same shots through the
+		// circuits: its energy must be the grouped estimate (1e-12).
+		rec := estimate.NewRecords(h.Qubits())
+		if err := sim.Run(plan.Settings, plan.Shots, rec); err != nil {
+			t.Fatal(err)
+		}
+		res, err := estimate.Grouped(h, rec, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		db, err := guarantee.Empirical(h, rec, 0.2, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(db.Energy-res.Energy) > 1e-12 {
+			t.Errorf("%s: Empirical energy %v, Grouped %v; want equal", name, db.Energy, res.Energy)
+		}
+		t.Logf("%s: %d settings, certified %.4f at δ = 0.2, %d of %d runs miss; empirical bound %.4f", name, cert.Settings, cert.Total, miss, runs, db.Total)
+		if miss > 90 {
+			t.Errorf("%s: %d of %d runs miss the certified bound %v at δ = 0.2, want at most 90", name, miss, runs, cert.Total)
+		}
+	}
+}
