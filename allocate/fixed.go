@@ -68,9 +68,20 @@ func (f *Fixed) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // Next implements [Allocator].
 func (f *Fixed) Next(dst []pauli.Letter) (int, error) {
 	s := f.Settings[f.next%len(f.Settings)]
+	if !s.IsLocal() {
+		return 0, fmt.Errorf("fixed: setting %s is entangled and has no letters; use NextBatch", s)
+	}
 	f.next++
 	for q := range dst {
 		dst[q] = s.At(q)
 	}
 	return max(f.Block, 1), nil
+}
+
+// NextBatch implements [Batcher]: the next visit, as Next gives it, for
+// local and entangled settings alike.
+func (f *Fixed) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
+	s := f.Settings[f.next%len(f.Settings)]
+	f.next++
+	return append(settings, s), append(shots, max(f.Block, 1)), nil
 }

@@ -8,6 +8,7 @@ import (
 	"io"
 	"os"
 	"strconv"
+	"strings"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
@@ -451,16 +452,23 @@ func readPlan(data []byte, name string) (*PlanFile, error) {
 	p.Settings = make([]pauli.Setting, len(settingTexts))
 	for k, text := range settingTexts {
 		entry := fmt.Sprintf("settings[%d]", k)
-		if len(text) != p.Qubits {
+		entangled := strings.IndexByte(text, '|') >= 0 // generators joined by '|'
+		if !entangled && len(text) != p.Qubits {
 			return nil, pr.fail(settingLines[k], entry, "setting %q has %d letters, the plan has %d qubits", text, len(text), p.Qubits)
 		}
 		s, err := pauli.ParseSetting(text)
 		if err != nil {
 			var pe *pauli.ParseError
-			if errors.As(err, &pe) {
+			if errors.As(err, &pe) && !entangled {
 				return nil, pr.fail(settingLines[k], entry, "setting %q: %s at qubit %d (want X, Y or Z)", text, pe.Reason, pe.Offset)
 			}
+			if errors.As(err, &pe) {
+				return nil, pr.fail(settingLines[k], entry, "entangled setting %q: %s at offset %d", text, pe.Reason, pe.Offset)
+			}
 			return nil, pr.fail(settingLines[k], entry, "setting %q: %v", text, err)
+		}
+		if s.Qubits() != p.Qubits {
+			return nil, pr.fail(settingLines[k], entry, "setting %q has %d qubits, the plan has %d", text, s.Qubits(), p.Qubits)
 		}
 		if p.Shots[k] < 1 {
 			return nil, pr.fail(settingLines[k], entry, "shot count %d, want at least 1", p.Shots[k])
