@@ -36,8 +36,21 @@
 //	sorted      [Sorted]        sorted insertion, shots ∝ group one-norm (§5.5)
 //	importance  [Importance]    single-term importance sampling (§3.5)
 //	fixed       [Fixed]         a user's list of settings, cycled
+//	sorted-gc   [SortedGC]      sorted insertion by general commutation (§5.5)
+//	color-gc    [ColorGC]       largest-degree-first colouring, general commutation (§5.6)
+//	greedy-gc   [GreedyGC]      greedy one-norm descent, settings grown as commuting families (§5.1)
 //
 // [ByName] makes one from its short name, [Names] lists the names.
+//
+// # Entangled settings
+//
+// The "-gc" strategies group terms that commute as operators, not only
+// qubit-wise, and measure each group with an entangled setting
+// ([pauli.NewFamilySetting]): a Clifford circuit of H, S, S†, CNOT and CZ
+// gates before a Z readout (MATH §8). They hand their settings out through
+// [Batcher], since an entangled setting has no letter per qubit for Next to
+// write; [Fixed] accepts entangled settings too. Plans, plan files, cover
+// counts and the conformance suite work for both kinds.
 //
 // # Randomness and reproducibility
 //

@@ -6,7 +6,16 @@
 //
 // # Conventions
 //
-// A setting measures every qubit in X, Y or Z (see package pauli). A
+// A local setting measures every qubit in X, Y or Z (see package pauli);
+// an entangled setting runs the Clifford circuit of a commuting family and
+// then measures every qubit in Z, and a term it covers is read as the sign
+// times the parity of the outcome on the term's Z-image. [Grouped],
+// [ImportanceSampling], the [Simulator] (which applies the circuit to the
+// amplitudes), the record files (an entangled setting is written as its
+// generators joined by '|', such as "XXII|ZZII|IIZZ") and [ExportQASM] (the
+// circuit's h, s, sdg, cx and cz gates before the measurement) handle both
+// kinds; the classical-shadow estimators, [EigenState] and readout
+// mitigation need local settings and return an error otherwise. A
 // measured bit 0 means eigenvalue +1 and 1 means −1; a bit-string as text
 // is read left to right, qubit 0 first. A state vector's amplitude a
 // belongs to the basis state with bit q of a on qubit q.
