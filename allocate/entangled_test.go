@@ -90,3 +90,31 @@ func TestConformanceFixedEntangled(t *testing.T) {
 	}
 	allocatetest.Test(t, mk, &allocatetest.Options{Cases: cases})
 }
+
+// TestRunManyEntangledSettings: the driver counts covers for a strategy
+// that does not keep them (Fixed) with more than a handful of distinct
+// entangled settings, and the counts equal CoverCounts (Table.Covered).
+func TestRunManyEntangledSettings(t *testing.T) {
+	h := gcMolecule(t, "lih_sto3g_1.5949A.fcidump", 0)
+	g := &allocate.SortedGC{}
+	if err := g.Init(h, 1000); err != nil {
+		t.Fatal(err)
+	}
+	settings, _ := g.Groups()
+	if len(settings) < 20 {
+		t.Fatalf("%d groups, want at least 20 for this test", len(settings))
+	}
+	p, err := allocate.Run(h, 3*len(settings), &allocate.Fixed{Settings: settings}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want, err := allocate.CoverCounts(h, p.Settings, p.Shots)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range want {
+		if p.Cover[i] != want[i] {
+			t.Fatalf("Cover[%d] = %d, want CoverCounts %d", i, p.Cover[i], want[i])
+		}
+	}
+}

@@ -254,7 +254,16 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	// the buckets it can cover.
 	ci := newCoverIndex(t.Qubits(), t.Len(), t.Words)
 	var idx []int32
+	var rows []int
 	for j, s := range distinct {
+		if !s.IsLocal() {
+			// An entangled setting has no letters to bucket by.
+			rows = t.Covered(rows[:0], s)
+			for _, i := range rows {
+				cover[i] += total[j]
+			}
+			continue
+		}
 		x, z := s.Words()
 		idx = ci.appendCovered(idx[:0], x, z)
 		for _, i := range idx {
