@@ -99,7 +99,7 @@ func (m *Moments) Observe(s pauli.Setting, b pauli.Bits) {
 	tab := m.h.Table()
 	if q, ok := m.key[s.Key()]; ok {
 		rows := m.rows[q]
-		m.buf = samples(tab, m.buf, rows, b)
+		m.buf = samples(tab, m.buf, rows, s, b)
 		p := 0
 		for a := range rows {
 			for c := a + 1; c < len(rows); c++ {
@@ -112,7 +112,7 @@ func (m *Moments) Observe(s pauli.Setting, b pauli.Bits) {
 		return
 	}
 	m.cov = tab.Covered(m.cov[:0], s)
-	m.buf = samples(tab, m.buf, m.cov, b)
+	m.buf = samples(tab, m.buf, m.cov, s, b)
 	for a, i := range m.cov {
 		for c := a + 1; c < len(m.cov); c++ {
 			if id, ok := m.pairOf[[2]int{i, m.cov[c]}]; ok {
@@ -123,12 +123,14 @@ func (m *Moments) Observe(s pauli.Setting, b pauli.Bits) {
 	}
 }
 
-func samples(tab *pauli.Table, buf []int8, rows []int, b pauli.Bits) []int8 {
+// samples returns the ±1 samples that outcome b of setting s gives rows;
+// an entangled setting reads each row through its circuit.
+func samples(tab *pauli.Table, buf []int8, rows []int, s pauli.Setting, b pauli.Bits) []int8 {
 	if cap(buf) < len(rows) {
 		buf = make([]int8, len(rows))
 	}
 	buf = buf[:len(rows)]
-	tab.Samples(buf, rows, b)
+	tab.SettingSamples(buf, rows, s, b)
 	return buf
 }
 

@@ -137,3 +137,38 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 		}
 	}
 }
+
+// TestIIDValueEntangled: the single-shot value of an entangled setting in
+// an i.i.d. plan reads each term through the circuit. The Bell state
+// (|00⟩+|11⟩)/√2 has XX = ZZ = +1 and YY = −1 (Nielsen & Chuang §2.6), so
+// for H = 0.5 XX + 0.3 ZZ + 0.2 YY + 0.1 every shot of XX|ZZ on it has value
+// 0.5 + 0.3 − 0.2 + 0.1 = 0.7.
+func TestIIDValueEntangled(t *testing.T) {
+	h, err := hamiltonian.New(2, 0.1, []hamiltonian.Term{
+		{Pauli: pauli.MustParse("XX"), Coeff: 0.5},
+		{Pauli: pauli.MustParse("ZZ"), Coeff: 0.3},
+		{Pauli: pauli.MustParse("YY"), Coeff: 0.2},
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := pauli.MustParseSetting("XX|ZZ")
+	d, err := guarantee.NewIID(h, []pauli.Setting{s}, []float64{1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := complex(1/math.Sqrt2, 0)
+	sim, err := estimate.NewSimulator([]complex128{r, 0, 0, r}, 1, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec := estimate.NewRecords(2)
+	if err := sim.Run([]pauli.Setting{s}, []int{5}, rec); err != nil {
+		t.Fatal(err)
+	}
+	for k, sh := range rec.Shots() {
+		if got := d.Value(0, sh.Outcome); math.Abs(got-0.7) > 1e-12 {
+			t.Errorf("shot %d outcome %s: Value = %v, want 0.7", k, sh.Outcome.Format(2), got)
+		}
+	}
+}

@@ -149,6 +149,13 @@ func (d *IID) Index(s pauli.Setting) (int, bool) {
 func (d *IID) Value(k int, b pauli.Bits) float64 {
 	tab := d.h.Table()
 	x := d.Offset
+	if s := d.Settings[k]; !s.IsLocal() {
+		// An entangled setting reads each term through its circuit.
+		for j, i := range d.rows[k] {
+			x += d.coef[k][j] * float64(s.Sample(tab.At(i), b))
+		}
+		return x
+	}
 	for j, i := range d.rows[k] {
 		if tab.Parity(i, b) == 0 {
 			x += d.coef[k][j]
