@@ -419,3 +419,25 @@ func TestEntangledPlansUnbiased(t *testing.T) {
 func simRun(sim *estimate.Simulator, plan *allocate.Plan, rec *estimate.Records) error {
 	return sim.Run(plan.Settings, plan.Shots, rec)
 }
+
+// TestExportQASMEntangledManifest: the manifest of exported programs lists
+// entangled settings in their text form, and ReadManifest reads them back.
+func TestExportQASMEntangledManifest(t *testing.T) {
+	settings := []pauli.Setting{pauli.MustParseSetting("XXX|ZZI|IZZ"), pauli.MustParseSetting("XYZ")}
+	dir := t.TempDir() + "/progs"
+	if err := estimate.ExportQASM(dir, settings, []int{3, 4}); err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.Open(dir + "/" + estimate.ManifestName)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	got, shots, err := estimate.ReadManifest(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != 2 || !got[0].Equal(settings[0]) || !got[1].Equal(settings[1]) || shots[0] != 3 || shots[1] != 4 {
+		t.Errorf("ReadManifest = %v %v, want %v [3 4]", got, shots, settings)
+	}
+}
