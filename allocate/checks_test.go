@@ -1,64 +1,34 @@
 package allocate_test
 
 import (
-	"encoding/json"
 	"flag"
 	"fmt"
 	"io"
-	"os"
-	"slices"
 	"strings"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 var tablePath = flag.String("table", "", "write the markdown table of TestGreedyBeatsRandom to this file")
 
-// h2JW reads H2's Jordan–Wigner Hamiltonian at 0.7414 Å from the JSON file
-// made by an independent script (testdata/README.md).
+// h2JW returns H2's Jordan–Wigner Hamiltonian at 0.7414 Å, computed by an
+// independent script (internal/refdata/README.md).
 func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
-	b, err := os.ReadFile("testdata/h2_qubit_hamiltonians.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var doc map[string]json.RawMessage
-	if err := json.Unmarshal(b, &doc); err != nil {
-		t.Fatal(err)
-	}
-	var mol struct {
-		JW map[string]float64 `json:"jw"`
-	}
-	if err := json.Unmarshal(doc["h2_sto3g_0.7414A"], &mol); err != nil {
-		t.Fatal(err)
-	}
-	keys := make([]string, 0, len(mol.JW))
-	for k := range mol.JW {
-		keys = append(keys, k)
-	}
-	slices.Sort(keys)
-	var terms []hamiltonian.Term
-	for _, k := range keys {
-		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(k), Coeff: mol.JW[k]})
-	}
-	h, err := hamiltonian.New(4, 0, terms)
+	h, _, err := refdata.H2Qubit(refdata.H2Alt, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
 	return h
 }
 
-func moleculeJW(t testing.TB, file string) *hamiltonian.Hamiltonian {
-	g, err := molecule.ReadFCIDUMPFile("testdata/" + file)
-	if err != nil {
-		t.Fatal(err)
-	}
-	h, err := g.QubitHamiltonian(fermion.JordanWigner)
+func moleculeJW(t testing.TB, name string) *hamiltonian.Hamiltonian {
+	h, err := refdata.Molecule(name, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -77,8 +47,8 @@ func checkCases(t testing.TB) []checkCase {
 	}
 	return []checkCase{
 		{"H2 (JW, 4 qubits)", h2JW(t)},
-		{"LiH (JW, 12 qubits)", moleculeJW(t, "lih_sto3g_1.5949A.fcidump")},
-		{"H2O (JW, 14 qubits)", moleculeJW(t, "h2o_sto3g.fcidump")},
+		{"LiH (JW, 12 qubits)", moleculeJW(t, refdata.LiH)},
+		{"H2O (JW, 14 qubits)", moleculeJW(t, refdata.H2O)},
 		{"TFIM 4×4 open, J = h = 1", tfim},
 	}
 }

@@ -7,6 +7,7 @@ import (
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/allocate/allocatetest"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -15,7 +16,7 @@ import (
 // (generators and circuits), shots and cover counts, and the plan checks
 // against its Hamiltonian.
 func TestPlanFileEntangled(t *testing.T) {
-	h := gcMolecule(t, "lih_sto3g_1.5949A.fcidump", 0)
+	h := gcMolecule(t, refdata.LiH, 0)
 	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc"} {
 		a, err := allocate.ByName(name, 0)
 		if err != nil {
@@ -95,7 +96,7 @@ func TestConformanceFixedEntangled(t *testing.T) {
 // that does not keep them (Fixed) with more than a handful of distinct
 // entangled settings, and the counts equal CoverCounts (Table.Covered).
 func TestRunManyEntangledSettings(t *testing.T) {
-	h := gcMolecule(t, "lih_sto3g_1.5949A.fcidump", 0)
+	h := gcMolecule(t, refdata.LiH, 0)
 	g := &allocate.SortedGC{}
 	if err := g.Init(h, 1000); err != nil {
 		t.Fatal(err)

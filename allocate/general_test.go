@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math/rand/v2"
 	"os"
-	"path/filepath"
 	"strings"
 	"testing"
 
@@ -12,27 +11,22 @@ import (
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// molecules are the FCIDUMP copies of shared/data/fcidump (psi4 1.3.2,
-// STO-3G; see testdata/README.md).
+// gcMolecules are the STO-3G molecules of internal/refdata (psi4 1.3.2).
 var gcMolecules = []struct{ name, file string }{
-	{"H2", "h2_sto3g_0.74A.fcidump"},
-	{"LiH", "lih_sto3g_1.5949A.fcidump"},
-	{"H2O", "h2o_sto3g.fcidump"},
+	{"H2", refdata.H2},
+	{"LiH", refdata.LiH},
+	{"H2O", refdata.H2O},
 }
 
 var gcEncodings = []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity}
 
-func gcMolecule(t testing.TB, file string, enc fermion.Encoding) *hamiltonian.Hamiltonian {
+func gcMolecule(t testing.TB, name string, enc fermion.Encoding) *hamiltonian.Hamiltonian {
 	t.Helper()
-	g, err := molecule.ReadFCIDUMPFile(filepath.Join("testdata", file))
-	if err != nil {
-		t.Fatal(err)
-	}
-	h, err := g.QubitHamiltonian(enc)
+	h, err := refdata.Molecule(name, enc)
 	if err != nil {
 		t.Fatal(err)
 	}

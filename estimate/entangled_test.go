@@ -14,7 +14,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -313,20 +313,9 @@ func TestEntangledNeedsLocal(t *testing.T) {
 	}
 }
 
-// jwHamiltonian builds the Jordan–Wigner qubit Hamiltonian of a molecule
-// from its FCIDUMP (copies of /work/shared/data/fcidump in testdata).
-func jwHamiltonian(t *testing.T, path string) *hamiltonian.Hamiltonian {
+func jwHamiltonian(t *testing.T, name string) *hamiltonian.Hamiltonian {
 	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	g, err := molecule.ReadFCIDUMP(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	h, err := g.QubitHamiltonian(fermion.JordanWigner)
+	h, err := refdata.Molecule(name, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -352,8 +341,8 @@ func TestEntangledPlansUnbiased(t *testing.T) {
 		name, path string
 		fci        float64 // 0: not checked
 	}{
-		{"H2", "testdata/h2_sto3g_0.74A.fcidump", -1.1372838344855134},
-		{"LiH", "testdata/lih_sto3g_1.5949A.fcidump", 0},
+		{"H2", refdata.H2, -1.1372838344855134},
+		{"LiH", refdata.LiH, 0},
 	}
 	for _, c := range cases {
 		h := jwHamiltonian(t, c.path)

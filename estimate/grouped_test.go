@@ -1,46 +1,21 @@
 package estimate
 
 import (
-	"encoding/json"
 	"math"
 	"math/rand/v2"
-	"os"
 	"slices"
 	"testing"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// h2JW returns the Jordan–Wigner H2 Hamiltonian at 0.74 Å from
-// testdata/h2_qubit_hamiltonians.json (copied from the shared reference
-// data; qubit q is character q).
+// h2JW returns the Jordan–Wigner H2 Hamiltonian at 0.74 Å, computed by an
+// independent script (internal/refdata/README.md; qubit q is character q).
 func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	t.Helper()
-	data, err := os.ReadFile("testdata/h2_qubit_hamiltonians.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var all map[string]json.RawMessage
-	if err := json.Unmarshal(data, &all); err != nil {
-		t.Fatal(err)
-	}
-	var mol struct {
-		JW map[string]float64 `json:"jw"`
-	}
-	if err := json.Unmarshal(all["h2_sto3g_0.74A"], &mol); err != nil {
-		t.Fatal(err)
-	}
-	keys := make([]string, 0, len(mol.JW))
-	for k := range mol.JW {
-		keys = append(keys, k)
-	}
-	slices.Sort(keys)
-	var terms []hamiltonian.Term
-	for _, k := range keys {
-		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(k), Coeff: mol.JW[k]})
-	}
-	h, err := hamiltonian.New(4, 0, terms)
+	h, _, err := refdata.H2Qubit(refdata.H2, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}

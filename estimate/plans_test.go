@@ -1,46 +1,20 @@
 package estimate_test
 
 import (
-	"encoding/json"
 	"math"
-	"os"
-	"slices"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/pauli"
+	"github.com/shotplan/shotplan/internal/refdata"
 )
 
-// loadH2 reads the Jordan–Wigner H2 Hamiltonian at 0.74 Å (testdata, copied
-// from the shared reference data).
+// loadH2 returns the Jordan–Wigner H2 Hamiltonian at 0.74 Å
+// (internal/refdata, computed outside this project).
 func loadH2(t *testing.T) *hamiltonian.Hamiltonian {
 	t.Helper()
-	data, err := os.ReadFile("testdata/h2_qubit_hamiltonians.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var raw map[string]json.RawMessage
-	if err := json.Unmarshal(data, &raw); err != nil {
-		t.Fatal(err)
-	}
-	var mol struct {
-		JW map[string]float64 `json:"jw"`
-	}
-	if err := json.Unmarshal(raw["h2_sto3g_0.74A"], &mol); err != nil {
-		t.Fatal(err)
-	}
-	keys := make([]string, 0, len(mol.JW))
-	for k := range mol.JW {
-		keys = append(keys, k)
-	}
-	slices.Sort(keys)
-	var terms []hamiltonian.Term
-	for _, k := range keys {
-		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(k), Coeff: mol.JW[k]})
-	}
-	h, err := hamiltonian.New(4, 0, terms)
+	h, _, err := refdata.H2Qubit(refdata.H2, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
