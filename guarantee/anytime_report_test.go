@@ -80,7 +80,9 @@ func TestAnytimeReport(t *testing.T) {
 	fmt.Fprintf(&b, "\n## Without a known horizon: time-uniform bets and the epoch bound (greedy π)\n\n")
 	fmt.Fprintf(&b, "The rows above tune the bets for a sample size fixed in advance. With no horizon the betting CS uses the paper's\n")
 	fmt.Fprintf(&b, "time-uniform bets, and BernsteinCS checks at epochs growing by 1.2 with δ_k = δ(P−1)/(P k^P), P = 1.5.\n\n")
-	fmt.Fprintf(&b, "| system | method | N | reps | median half-width | 95%% quantile of error | ratio | vs normal |\n|---|---|---|---|---|---|---|---|\n")
+	fmt.Fprintf(&b, "The estimate is the interval's midpoint; with time-uniform bets the capital weighs early shots more, so the midpoint\n")
+	fmt.Fprintf(&b, "errs more than the plain mean of X. \"ratio (mean)\" divides by the 95%% quantile of the plain mean's error instead.\n\n")
+	fmt.Fprintf(&b, "| system | method | N | reps | median half-width | 95%% quantile of error (midpoint) | ratio | ratio (mean) | vs normal |\n|---|---|---|---|---|---|---|---|---|\n")
 	for _, sys := range systems {
 		_, base := greedyIID(t, sys.h, 1000)
 		mean, second := exactMoments(sys.h, sys.state)
@@ -89,7 +91,7 @@ func TestAnytimeReport(t *testing.T) {
 		for _, m := range []AnytimeMethod{Betting, BernsteinEpochs} {
 			for _, n := range []int{10000, 100000} {
 				const reps = 100
-				var radii, errs []float64
+				var radii, errs, merrs []float64
 				for r := range reps {
 					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n, Method: m,
 						Seed: uint64(7000*n + r), FirstRound: n})
@@ -98,13 +100,16 @@ func TestAnytimeReport(t *testing.T) {
 					}
 					radii = append(radii, res.Radius)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
+					merrs = append(merrs, math.Abs(res.Mean-sys.energy))
 				}
 				slices.Sort(radii)
 				slices.Sort(errs)
+				slices.Sort(merrs)
 				med := radii[len(radii)/2]
 				q95 := errs[int(math.Ceil(0.95*float64(len(errs))))-1]
+				m95 := merrs[int(math.Ceil(0.95*float64(len(merrs))))-1]
 				normal := 1.959963984540054 * sigma / math.Sqrt(float64(n))
-				fmt.Fprintf(&b, "| %s | %s | %d | %d | %.3g | %.3g | %.2f | %.2f |\n", sys.name, m, n, reps, med, q95, med/q95, med/normal)
+				fmt.Fprintf(&b, "| %s | %s | %d | %d | %.3g | %.3g | %.2f | %.2f | %.2f |\n", sys.name, m, n, reps, med, q95, med/q95, med/m95, med/normal)
 				t.Logf("%s %s N=%d: ratio %.2f, vs normal %.2f", sys.name, m, n, med/q95, med/normal)
 			}
 		}
