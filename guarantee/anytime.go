@@ -36,10 +36,12 @@ type AnytimeSettings struct {
 	// Method is the confidence sequence; the zero value is [Betting].
 	Method AnytimeMethod
 	// Betting tunes the betting sequence; nil means its defaults, except
-	// that after a pilot with a Target a zero Horizon is set to the
-	// pilot's estimate of the shots needed, 2 ln(2/δ) σ̂²/Target², with σ̂²
-	// the estimated single-shot variance of the re-weighted distribution
-	// (a choice of bets, which never affects validity).
+	// with a Target and neither Horizon nor Aim set: after a pilot, Horizon
+	// is set to the pilot's estimate of the shots needed,
+	// 2 ln(2/δ) σ̂²/Target², with σ̂² the estimated single-shot variance of
+	// the re-weighted distribution; without a pilot, Aim is set to Target
+	// less the bias. Either is a choice of bets, which never affects
+	// validity.
 	Betting *BettingOptions
 	// Seed seeds the draws of the settings.
 	Seed uint64
@@ -209,6 +211,15 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 	}
 	if s.Method == Betting {
 		res.Horizon = bopt.Horizon
+	}
+	if s.Method == Betting && bopt.Horizon == 0 && bopt.Aim == 0 && s.Pilot == 0 && s.Target > d.Bias {
+		// No pilot to estimate the horizon: aim the bets at the target
+		// from the certified shots themselves (predictably).
+		bopt.Aim = s.Target - d.Bias
+		cs, err = NewBettingCS(lo, hi, s.Delta, &bopt)
+		if err != nil {
+			return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+		}
 	}
 	rec := estimate.NewRecords(h.Qubits())
 	res.Records = rec

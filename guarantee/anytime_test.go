@@ -36,7 +36,7 @@ func TestAnytimeCoverage(t *testing.T) {
 			method AnytimeMethod
 			pilot  int
 		}{
-			{"betting", Betting, 0},
+			{"betting aimed at the target", Betting, 0},
 			{"bernstein epochs", BernsteinEpochs, 0},
 			{"betting after a pilot", Betting, 300},
 		} {

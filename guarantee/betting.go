@@ -34,7 +34,8 @@ import (
 //
 // the plug-in bet the paper tunes for a fixed sample size n* (its betting
 // confidence intervals); the sequence stays valid at every time, and is
-// narrowest near t = n*.
+// narrowest near t = n*. With an aim instead (BettingOptions.Aim), n* is
+// re-estimated from the past samples before every bet.
 //
 // The confidence sequence is C_t = {m : K±_t(m) < 1/δ} (the paper's Theorem
 // 3 for the hedged process).
@@ -85,6 +86,7 @@ type BettingCS struct {
 	l, u       float64   // current interval in [0, 1]
 	tRegrid    int       // t at the last regrid
 	horizon    int
+	aim        float64 // ρ, in [0, 1] units
 }
 
 // bettingC and bettingTheta are the truncation c and the hedging weight θ.
@@ -102,6 +104,14 @@ type BettingOptions struct {
 	// Horizon, if positive, is the sample size the bets are tuned for;
 	// zero means the time-uniform bets of the paper's confidence sequence.
 	Horizon int
+	// Aim, if positive and Horizon is zero, is a target radius in the
+	// samples' units: the bets are tuned for the horizon at which a
+	// sample of the variance seen so far would reach it,
+	// n*_t = 2 ln(2/δ) σ̂²_{t−1}/ρ² with ρ = Aim/(Hi − Lo), which gives
+	// λ̇_t = ρ/σ̂²_{t−1}. The horizon is estimated from past samples only,
+	// so the bets stay predictable and the sequence valid (our choice, not
+	// the paper's).
+	Aim float64
 }
 
 // NewBettingCS returns the betting confidence sequence at level 1 − delta
@@ -125,7 +135,13 @@ func NewBettingCS(lo, hi, delta float64, o *BettingOptions) (*BettingCS, error) 
 	if opt.Horizon < 0 {
 		return nil, fmt.Errorf("guarantee: betting horizon %d, want zero or a positive number", opt.Horizon)
 	}
+	if opt.Aim < 0 || math.IsNaN(opt.Aim) || math.IsInf(opt.Aim, 0) {
+		return nil, fmt.Errorf("guarantee: betting aim %v, want zero or a positive number", opt.Aim)
+	}
 	c := &BettingCS{lo: lo, width: hi - lo, delta: delta, thresh: 1 / delta, g: g, l: 0, u: 1, horizon: opt.Horizon}
+	if opt.Horizon == 0 {
+		c.aim = opt.Aim / c.width
+	}
 	c.regrid()
 	return c, nil
 }
@@ -146,6 +162,9 @@ func (c *BettingCS) Add(x float64) error {
 		scale = float64(c.horizon)
 	}
 	lam := math.Sqrt(2 * math.Log(2/c.delta) / (sigma2 * scale))
+	if c.aim > 0 {
+		lam = c.aim / sigma2
+	}
 	c.ys, c.lams = append(c.ys, y), append(c.lams, lam)
 	c.sum += y
 	muHat := (0.5 + c.sum) / (t + 1)

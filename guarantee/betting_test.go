@@ -17,6 +17,7 @@ type directCS struct {
 	t         int
 	ssq, sum  float64
 	horizon   int
+	aim       float64
 }
 
 func newDirectCS(points int, delta float64) *directCS {
@@ -42,6 +43,9 @@ func (d *directCS) add(y float64) {
 		scale = float64(d.horizon)
 	}
 	lam := math.Sqrt(2 * math.Log(2/d.delta) / (sigma2 * scale))
+	if d.aim > 0 {
+		lam = d.aim / sigma2
+	}
 	d.sum += y
 	mu := (0.5 + d.sum) / (t + 1)
 	d.ssq += (y - mu) * (y - mu)
@@ -77,20 +81,22 @@ func TestBettingMatchesDirect(t *testing.T) {
 	for _, c := range []struct {
 		name    string
 		horizon int
+		aim     float64
 		draw    func(r *rand.Rand) float64
 	}{
-		{"bernoulli 0.3", 0, func(r *rand.Rand) float64 { return float64(bool2int(r.Float64() < 0.3)) }},
-		{"uniform on [0.4, 0.6]", 0, func(r *rand.Rand) float64 { return 0.4 + 0.2*r.Float64() }},
-		{"three points, horizon 500", 500, func(r *rand.Rand) float64 { return []float64{0, 0.5, 0.9}[r.IntN(3)] }},
+		{"bernoulli 0.3", 0, 0, func(r *rand.Rand) float64 { return float64(bool2int(r.Float64() < 0.3)) }},
+		{"uniform on [0.4, 0.6]", 0, 0, func(r *rand.Rand) float64 { return 0.4 + 0.2*r.Float64() }},
+		{"three points, horizon 500", 500, 0, func(r *rand.Rand) float64 { return []float64{0, 0.5, 0.9}[r.IntN(3)] }},
+		{"three points, aim 0.02", 0, 0.02, func(r *rand.Rand) float64 { return []float64{0, 0.5, 0.9}[r.IntN(3)] }},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(9, 10))
-			cs, err := NewBettingCS(0, 1, 0.05, &BettingOptions{Horizon: c.horizon})
+			cs, err := NewBettingCS(0, 1, 0.05, &BettingOptions{Horizon: c.horizon, Aim: c.aim})
 			if err != nil {
 				t.Fatal(err)
 			}
 			ref := newDirectCS(4000, 0.05)
-			ref.horizon = c.horizon
+			ref.horizon, ref.aim = c.horizon, c.aim
 			for step := 1; step <= 3000; step++ {
 				y := c.draw(rng)
 				if err := cs.Add(y); err != nil {
@@ -210,6 +216,7 @@ func TestConfSeqErrors(t *testing.T) {
 		{"betting δ", func() error { _, err := NewBettingCS(0, 1, 1, nil); return err }, "δ = 1"},
 		{"betting grid", func() error { _, err := NewBettingCS(0, 1, 0.1, &BettingOptions{Grid: 3}); return err }, "grid of 3"},
 		{"betting horizon", func() error { _, err := NewBettingCS(0, 1, 0.1, &BettingOptions{Horizon: -1}); return err }, "horizon -1"},
+		{"betting aim", func() error { _, err := NewBettingCS(0, 1, 0.1, &BettingOptions{Aim: math.Inf(1)}); return err }, "aim +Inf"},
 		{"bernstein growth", func() error { _, err := NewBernsteinCS(0, 1, 0.1, 0.5, 0); return err }, "growth 0.5"},
 		{"bernstein exponent", func() error { _, err := NewBernsteinCS(0, 1, 0.1, 0, 1); return err }, "exponent 1"},
 		{"betting sample outside", func() error {
