@@ -9,7 +9,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -76,11 +76,7 @@ func (f *varianceFixture) exact() *Moments {
 
 func lihJW(t *testing.T) *hamiltonian.Hamiltonian {
 	t.Helper()
-	g, err := molecule.ReadFCIDUMPFile("testdata/lih_sto3g_1.5949A.fcidump")
-	if err != nil {
-		t.Fatal(err)
-	}
-	h, err := g.QubitHamiltonian(fermion.JordanWigner)
+	h, err := refdata.Molecule(refdata.LiH, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,7 +11,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -25,7 +25,7 @@ type anytimeSystem struct {
 }
 
 // anytimeSystems returns the H2 and LiH (Jordan–Wigner, from the FCIDUMP
-// copies in testdata) and 10-qubit TFIM ground states.
+// internal/refdata) and 10-qubit TFIM ground states.
 // The systems are built once per test binary.
 func anytimeSystems(t testing.TB) []anytimeSystem {
 	t.Helper()
@@ -44,17 +44,13 @@ func buildAnytimeSystems(t testing.TB) []anytimeSystem {
 		name, file string
 		fci        float64
 	}{
-		// Full-CI energies from /work/shared/data/fcidump/README.md
-		// (psi4 1.3.2), equal to the lowest eigenvalue of the qubit
-		// Hamiltonian over all electron numbers (same README).
-		{"H2 (JW)", "testdata/h2_sto3g_0.7414A.fcidump", -1.1372701747},
-		{"LiH (JW)", "testdata/lih_sto3g_1.5949A.fcidump", -7.8824034103},
+		// Full-CI energies of the shared reference data (psi4 1.3.2;
+		// internal/refdata/README.md), equal to the lowest eigenvalue of
+		// the qubit Hamiltonian over all electron numbers.
+		{"H2 (JW)", refdata.H2Alt, -1.1372701747},
+		{"LiH (JW)", refdata.LiH, -7.8824034103},
 	} {
-		ints, err := molecule.ReadFCIDUMPFile(c.file)
-		if err != nil {
-			t.Fatal(err)
-		}
-		h, err := ints.QubitHamiltonian(fermion.JordanWigner)
+		h, err := refdata.Molecule(c.file, fermion.JordanWigner)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -63,7 +59,7 @@ func buildAnytimeSystems(t testing.TB) []anytimeSystem {
 			t.Fatal(err)
 		}
 		if math.Abs(ev.Energy-c.fci) > 1e-8 {
-			t.Fatalf("%s ground energy %.10f, want the full-CI %.10f (fcidump/README.md)", c.name, ev.Energy, c.fci)
+			t.Fatalf("%s ground energy %.10f, want the full-CI %.10f (internal/refdata)", c.name, ev.Energy, c.fci)
 		}
 		out = append(out, anytimeSystem{c.name, true, h, ev.State, ev.Energy})
 	}

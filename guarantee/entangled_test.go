@@ -2,7 +2,6 @@ package guarantee_test
 
 import (
 	"math"
-	"os"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -10,7 +9,7 @@ import (
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -69,16 +68,7 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 	if testing.Short() {
 		t.Skip("300 simulated runs")
 	}
-	f, err := os.Open("../estimate/testdata/h2_sto3g_0.74A.fcidump")
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	g, err := molecule.ReadFCIDUMP(f)
-	if err != nil {
-		t.Fatal(err)
-	}
-	h, err := g.QubitHamiltonian(fermion.JordanWigner)
+	h, err := refdata.Molecule(refdata.H2, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}
