@@ -46,6 +46,17 @@
 // δ_k from a [StoppingSchedule], so that the bound at whichever round it
 // stops holds with probability 1 − δ.
 //
+// # Stopping whenever you like
+//
+// [Anytime] runs i.i.d. shots of a randomised plan ([IID], MATH.md §4.1) on
+// an estimate.Device and feeds a confidence sequence — [BettingCS] (the
+// betting sequence of Waudby-Smith & Ramdas, arXiv:2010.09686) or
+// [BernsteinCS] (empirical Bernstein at stated epochs) — whose interval is
+// valid at every time at once, so the user may stop after looking at the
+// data. An optional pilot re-weights the plan with allocate.Moments; its
+// shots only choose the distribution and never enter the certificate
+// (sample splitting). [AnytimeMethod] documents which bound fits which plan.
+//
 // # Sources
 //
 // The formulas are those of the project's MATH.md §3–§4: the shot-wise
