@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/allocate/allocatetest"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -13,8 +14,9 @@ import (
 // termCycle is a custom strategy: it visits the terms by |h_i| descending,
 // over and over, and gives each visit the setting that measures the term,
 // with Z on the qubits the term leaves free. A term with twice the weight of
-// the smallest gets two consecutive shots, and so on. Conformance is checked
-// by TestConformanceCustom, which runs the allocatetest suite on it.
+// the smallest gets two consecutive shots, and so on. The example below runs
+// the allocatetest conformance suite on it (a user's own tests would call
+// allocatetest.Test, as TestConformanceCustom does).
 type termCycle struct {
 	h     *hamiltonian.Hamiltonian
 	order []int // term indices by |h_i| descending
@@ -90,10 +92,15 @@ func Example_customAllocator() {
 		fmt.Println(s, p.Shots[k])
 	}
 	fmt.Println("cover:", p.Cover)
+
+	// The conformance suite every strategy should pass.
+	err = allocatetest.Check(func(uint64) allocate.Allocator { return &termCycle{} }, nil)
+	fmt.Println("conformance suite passed:", err == nil)
 	// Output:
 	// ZZZ 4
 	// XZZ 1
 	// ZXX 1
 	// ZZZ 4
 	// cover: [8 9 1 1]
+	// conformance suite passed: true
 }

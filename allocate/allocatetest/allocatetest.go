@@ -76,6 +76,49 @@ func Cases() []Case {
 // A Hamiltonian wider than the strategy's [allocate.QubitLimit] is skipped.
 func Test(t *testing.T, newAllocator func(seed uint64) allocate.Allocator, opts *Options) {
 	t.Helper()
+	o, limit := prepare(newAllocator, opts)
+	for _, c := range o.Cases {
+		if limit >= 0 && c.H.Qubits() > limit {
+			t.Run(c.Name, func(t *testing.T) {
+				t.Skipf("%d qubits, beyond the strategy's limit of %d", c.H.Qubits(), limit)
+			})
+			continue
+		}
+		for _, budget := range o.Budgets {
+			for _, seed := range o.Seeds {
+				name := fmt.Sprintf("%s/budget=%d/seed=%d", c.Name, budget, seed)
+				t.Run(name, func(t *testing.T) { checkPlan(t, c.H, budget, seed, newAllocator) })
+			}
+		}
+	}
+	t.Run("errors", func(t *testing.T) { checkErrors(t, newAllocator, o) })
+}
+
+// Check runs the same suite as [Test] without a testing.T, for programs and
+// examples: it returns nil if the strategy passes every check, and otherwise
+// the failures joined with errors.Join, each prefixed by the check's name
+// (Hamiltonian, budget and seed, or "errors").
+func Check(newAllocator func(seed uint64) allocate.Allocator, opts *Options) error {
+	o, limit := prepare(newAllocator, opts)
+	var errs []error
+	for _, c := range o.Cases {
+		if limit >= 0 && c.H.Qubits() > limit {
+			continue
+		}
+		for _, budget := range o.Budgets {
+			for _, seed := range o.Seeds {
+				name := fmt.Sprintf("%s/budget=%d/seed=%d", c.Name, budget, seed)
+				errs = collect(errs, name, func(r reporter) { checkPlan(r, c.H, budget, seed, newAllocator) })
+			}
+		}
+	}
+	errs = collect(errs, "errors", func(r reporter) { checkErrors(r, newAllocator, o) })
+	return errors.Join(errs...)
+}
+
+// prepare fills in the defaults of opts and finds the strategy's qubit
+// limit (−1 for none).
+func prepare(newAllocator func(seed uint64) allocate.Allocator, opts *Options) (Options, int) {
 	var o Options
 	if opts != nil {
 		o = *opts
@@ -93,21 +136,56 @@ func Test(t *testing.T, newAllocator func(seed uint64) allocate.Allocator, opts 
 	if l, ok := newAllocator(o.Seeds[0]).(allocate.QubitLimit); ok {
 		limit = l.MaxQubits()
 	}
-	for _, c := range o.Cases {
-		if limit >= 0 && c.H.Qubits() > limit {
-			t.Run(c.Name, func(t *testing.T) {
-				t.Skipf("%d qubits, beyond the strategy's limit of %d", c.H.Qubits(), limit)
-			})
-			continue
-		}
-		for _, budget := range o.Budgets {
-			for _, seed := range o.Seeds {
-				name := fmt.Sprintf("%s/budget=%d/seed=%d", c.Name, budget, seed)
-				t.Run(name, func(t *testing.T) { checkPlan(t, c.H, budget, seed, newAllocator) })
+	return o, limit
+}
+
+// reporter is the part of *testing.T the checks use, so that [Check] can run
+// them outside a test.
+type reporter interface {
+	Errorf(format string, args ...any)
+	Fatalf(format string, args ...any)
+	Fatal(args ...any)
+}
+
+// collector is a reporter that keeps failures; Fatal and Fatalf end the
+// check by panicking with stopCheck, which collect recovers.
+type collector struct {
+	name string
+	errs []error
+}
+
+type stopCheck struct{}
+
+func (c *collector) Errorf(format string, args ...any) {
+	c.errs = append(c.errs, fmt.Errorf("%s: %s", c.name, fmt.Sprintf(format, args...)))
+}
+
+func (c *collector) Fatalf(format string, args ...any) {
+	c.Errorf(format, args...)
+	panic(stopCheck{})
+}
+
+func (c *collector) Fatal(args ...any) {
+	c.errs = append(c.errs, fmt.Errorf("%s: %s", c.name, fmt.Sprint(args...)))
+	panic(stopCheck{})
+}
+
+// collect runs one check with a collector and appends its failures to errs.
+// A panic other than stopCheck (a strategy that panics) is reported as a
+// failure of that check.
+func collect(errs []error, name string, check func(reporter)) []error {
+	c := &collector{name: name}
+	func() {
+		defer func() {
+			if r := recover(); r != nil {
+				if _, ok := r.(stopCheck); !ok {
+					c.errs = append(c.errs, fmt.Errorf("%s: panic: %v", name, r))
+				}
 			}
-		}
-	}
-	t.Run("errors", func(t *testing.T) { checkErrors(t, newAllocator, o) })
+		}()
+		check(c)
+	}()
+	return append(errs, c.errs...)
 }
 
 // measurer returns a fake measurement for the Observer checks: every shot's
@@ -135,7 +213,7 @@ func run(h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) (*allocat
 	return allocate.Run(h, budget, a, &allocate.Settings{Measure: measure})
 }
 
-func checkPlan(t *testing.T, h *hamiltonian.Hamiltonian, budget int, seed uint64, newAllocator func(uint64) allocate.Allocator) {
+func checkPlan(t reporter, h *hamiltonian.Hamiltonian, budget int, seed uint64, newAllocator func(uint64) allocate.Allocator) {
 	before := snapshot(h)
 	a := newAllocator(seed)
 	p, err := run(h, budget, a)
@@ -255,7 +333,7 @@ func (r batchRecorder) NextBatch(settings []pauli.Setting, shots []int, remainin
 	return r.Allocator.(allocate.Batcher).NextBatch(settings, shots, remaining)
 }
 
-func checkObserver(t *testing.T, h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) {
+func checkObserver(t reporter, h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) {
 	rec := &recorder{Allocator: a}
 	var wrapped allocate.Allocator = rec
 	if _, ok := a.(allocate.Batcher); ok {
@@ -285,7 +363,7 @@ func checkObserver(t *testing.T, h *hamiltonian.Hamiltonian, budget int, a alloc
 	}
 }
 
-func checkErrors(t *testing.T, newAllocator func(uint64) allocate.Allocator, o Options) {
+func checkErrors(t reporter, newAllocator func(uint64) allocate.Allocator, o Options) {
 	h := o.Cases[0].H
 	for _, c := range o.Cases {
 		if l, ok := newAllocator(1).(allocate.QubitLimit); !ok || c.H.Qubits() <= l.MaxQubits() {

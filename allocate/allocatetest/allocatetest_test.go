@@ -112,3 +112,37 @@ func TestSuiteCatchesFlaws(t *testing.T) {
 		})
 	}
 }
+
+// TestCheckCatchesFlaws checks that Check, the suite without a testing.T,
+// returns the same verdicts as Test: an error naming the flaw for a flawed
+// strategy, nil for a sound one, and a panicking strategy reported as a
+// failure instead of crashing the caller.
+func TestCheckCatchesFlaws(t *testing.T) {
+	opts := &allocatetest.Options{Budgets: []int{5}, Seeds: []uint64{1}}
+	for _, tc := range []struct {
+		flaw string
+		mk   func(uint64) allocate.Allocator
+		want string
+	}{
+		{"forgetful", func(uint64) allocate.Allocator { return &zeds{forgetful: true} }, "running the same value twice gave different plans"},
+		{"lying-cover", func(uint64) allocate.Allocator { return &lying{} }, "Plan.Cover = "},
+		{"wrong-drawn", func(uint64) allocate.Allocator { return &drawing{} }, "out of range"},
+		{"panicking", func(uint64) allocate.Allocator { return &panicking{} }, "panic: "},
+		{"sound", func(uint64) allocate.Allocator { return &zeds{} }, ""},
+	} {
+		err := allocatetest.Check(tc.mk, opts)
+		switch {
+		case tc.want == "" && err != nil:
+			t.Errorf("Check(%s) = %v, want nil", tc.flaw, err)
+		case tc.want != "" && err == nil:
+			t.Errorf("Check(%s) = nil, want an error containing %q", tc.flaw, tc.want)
+		case tc.want != "" && !strings.Contains(err.Error(), tc.want):
+			t.Errorf("Check(%s) = %v, want an error containing %q", tc.flaw, err, tc.want)
+		}
+	}
+}
+
+// panicking is a strategy whose Next panics.
+type panicking struct{ zeds }
+
+func (p *panicking) Next(dst []pauli.Letter) (int, error) { panic("boom") }

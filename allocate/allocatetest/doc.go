@@ -10,6 +10,9 @@
 //		}, nil)
 //	}
 //
+// Outside a test (a program, or an Example), [Check] runs the same suite and
+// returns the failures as an error.
+//
 // # What the suite checks
 //
 // [Test] runs the strategy through [allocate.Run] on a set of Hamiltonians
