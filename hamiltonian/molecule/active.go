@@ -22,8 +22,8 @@ import (
 //
 // It returns an error if frozen is negative, active is not positive,
 // frozen+active exceeds the orbital count, the frozen orbitals need more
-// electrons than there are, or the remaining electrons do not fit in the
-// active orbitals.
+// electrons than there are, the remaining electrons do not fit in the
+// active orbitals, or OrbSym is set but does not have one label per orbital.
 func (g *Integrals) ActiveSpace(frozen, active int) (*Integrals, error) {
 	switch {
 	case frozen < 0:
@@ -36,6 +36,8 @@ func (g *Integrals) ActiveSpace(frozen, active int) (*Integrals, error) {
 		return nil, fmt.Errorf("molecule: active space: %d frozen orbitals need %d electrons, have %d", frozen, 2*frozen, g.Electrons)
 	case g.Electrons-2*frozen > 2*active:
 		return nil, fmt.Errorf("molecule: active space: %d electrons left after freezing do not fit in %d orbitals", g.Electrons-2*frozen, active)
+	case g.OrbSym != nil && len(g.OrbSym) != g.norb:
+		return nil, fmt.Errorf("molecule: active space: OrbSym has %d labels for %d orbitals", len(g.OrbSym), g.norb)
 	}
 	a, err := New(active)
 	if err != nil {

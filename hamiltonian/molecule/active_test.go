@@ -86,6 +86,13 @@ func TestActiveSpaceErrors(t *testing.T) {
 			t.Errorf("ActiveSpace(%d, %d) error = %v, want %q", tc.frozen, tc.active, err, tc.reason)
 		}
 	}
+	// OrbSym is an exported field a caller may set to any length; a short
+	// one must give an error, not an out-of-range panic.
+	short := g.Clone()
+	short.OrbSym = []int{1}
+	if _, err := short.ActiveSpace(1, 2); err == nil || !strings.Contains(err.Error(), "OrbSym has 1 labels for 6 orbitals") {
+		t.Errorf("ActiveSpace(1, 2) with 1 ORBSYM label: error = %v, want %q", err, "OrbSym has 1 labels for 6 orbitals")
+	}
 }
 
 // TestSpinOrderInvariance checks that the spin-blocked numbering gives the

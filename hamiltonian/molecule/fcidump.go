@@ -71,6 +71,11 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 			text = t[4:]
 		}
 		if k := endOfHeader(text); k >= 0 {
+			// Integrals on the terminator's own line would otherwise be
+			// dropped without a word; the body starts on the next line.
+			if rest := strings.TrimSpace(text[k+terminatorLen(text[k:]):]); rest != "" {
+				bad(lineNo, ErrFormat, "text %q after the end of the header; integrals start on the next line", rest)
+			}
 			text = text[:k]
 			ended = true
 		}
@@ -246,6 +251,15 @@ func endOfHeader(s string) int {
 		}
 	}
 	return -1
+}
+
+// terminatorLen returns the length of the terminator at the start of s,
+// as found by endOfHeader: 1 for "/", 4 for "&END" or "$END".
+func terminatorLen(s string) int {
+	if s[0] == '/' {
+		return 1
+	}
+	return 4
 }
 
 // tokenize appends the words of a header line: names, "=" and values,

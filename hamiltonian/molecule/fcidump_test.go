@@ -109,6 +109,10 @@ func TestBadFiles(t *testing.T) {
 		{"conflicting one-electron", head + " 0.25 2 1 0 0\n 0.5 1 2 0 0\n", "line 5", "h(1 2) = 0.5 conflicts", ErrFormat},
 		{"conflicting constant", head + " 1 0 0 0 0\n 2 0 0 0 0\n", "line 5", "the constant = 2 conflicts", ErrFormat},
 		{"bad index pattern", head + " 0.5 0 1 0 0\n", "line 4", "index pattern", ErrFormat},
+		// Common practice: the FCIDUMP body starts on the line after the
+		// header's terminator; a value there would otherwise be lost.
+		{"integral after &END", "&FCI NORB=1,NELEC=2 &END 0.5 1 1 1 1\n", "line 1", `text "0.5 1 1 1 1" after the end of the header`, ErrFormat},
+		{"integral after slash", "&FCI NORB=1,NELEC=2 / 0.5 1 1 1 1\n", "line 1", "after the end of the header", ErrFormat},
 	}
 	for _, tc := range tests {
 		_, err := ReadFCIDUMP(strings.NewReader(tc.text))
