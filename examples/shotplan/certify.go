@@ -28,7 +28,13 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		c, err := guarantee.CertifyPlan(h, f.Plan, *delta, &guarantee.Options{Top: max(*top, 0)})
+		// Options.Top counts zero as its default of 10: ask for none
+		// with a negative value.
+		n := *top
+		if n <= 0 {
+			n = -1
+		}
+		c, err := guarantee.CertifyPlan(h, f.Plan, *delta, &guarantee.Options{Top: n})
 		if err != nil {
 			return err
 		}

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 	"text/tabwriter"
@@ -53,6 +54,11 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta, Readout: ro})
+		if errors.Is(err, estimate.ErrFormat) {
+			// For example -readout with entangled settings, which the
+			// mitigation cannot read.
+			return badf("%s: %w", *records, err)
+		}
 		if err != nil {
 			return err
 		}

@@ -279,6 +279,11 @@ func TestHelp(t *testing.T) {
 			t.Errorf("shotplan plan -h does not list strategy %q:\n%s", n, out)
 		}
 	}
+	for _, n := range allocate.Names() {
+		if strategyNotes[n] == "" {
+			t.Errorf("shotplan plan -h lists strategy %q without a description", n)
+		}
+	}
 	if code, out, _ := sp(t, "-h"); code != 0 || !strings.Contains(out, "estimate") {
 		t.Errorf("shotplan -h: exit %d, output %q", code, out)
 	}
@@ -301,6 +306,10 @@ func TestBadInput(t *testing.T) {
 	ok(t, "plan", "-ham", ham, "-shots", "50", "-o", planPath)
 	recPath := filepath.Join(dir, "rec.csv")
 	ok(t, "simulate", "-ham", ham, "-plan", planPath, "-o", recPath)
+	gcPlan := filepath.Join(dir, "gcplan.json")
+	ok(t, "plan", "-ham", ham, "-strategy", "sorted-gc", "-shots", "50", "-o", gcPlan)
+	gcRec := filepath.Join(dir, "gcrec.csv")
+	ok(t, "simulate", "-ham", ham, "-plan", gcPlan, "-o", gcRec)
 
 	offsetOnly := write("offset.txt", "qubits 4\n-0.5 I\n")
 	badHam := write("bad.txt", "qubits 4\n-1 ZZII\n0.5 XQII\n")
@@ -344,6 +353,7 @@ func TestBadInput(t *testing.T) {
 		{"unknown command", []string{"measure"}, []string{`"measure"`}},
 		{"fixed without settings", []string{"plan", "-ham", ham, "-strategy", "fixed", "-o", out}, []string{"-settings"}},
 		{"bad delta", []string{"certify", "-ham", ham, "-plan", planPath, "-delta", "1.5"}, []string{"-delta"}},
+		{"readout mitigation of entangled settings", []string{"estimate", "-ham", ham, "-plan", gcPlan, "-records", gcRec, "-readout", "0.01"}, []string{"gcrec.csv", "readout mitigation", "entangled"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -429,6 +439,26 @@ func TestJSONEverywhere(t *testing.T) {
 		var m map[string]any
 		if err := json.Unmarshal([]byte(out), &m); err != nil {
 			t.Errorf("shotplan %s -json: %v in %q", s[0], err, out)
+		}
+	}
+}
+
+// TestCertifyTop checks that -top N lists exactly N terms, -top 0 none.
+func TestCertifyTop(t *testing.T) {
+	dir := t.TempDir()
+	ham := filepath.Join(dir, "h2.txt")
+	ok(t, "convert", "-o", ham, h2Dump)
+	planPath := filepath.Join(dir, "plan.json")
+	ok(t, "plan", "-ham", ham, "-shots", "100", "-o", planPath)
+	for _, n := range []int{0, 3, -2} {
+		var c struct{ Top []json.RawMessage }
+		okJSON(t, &c, "certify", "-ham", ham, "-plan", planPath, "-top", fmt.Sprint(n))
+		if want := max(n, 0); len(c.Top) != want {
+			t.Errorf("certify -top %d -json lists %d terms, want %d", n, len(c.Top), want)
+		}
+		out := ok(t, "certify", "-ham", ham, "-plan", planPath, "-top", fmt.Sprint(n))
+		if got, want := strings.Count(out, "  term "), max(n, 0); got != want {
+			t.Errorf("certify -top %d lists %d terms, want %d:\n%s", n, got, want, out)
 		}
 	}
 }

@@ -22,6 +22,9 @@ var strategyNotes = map[string]string{
 	"sorted":     "sorted insertion, shots ∝ group one-norm (arXiv:1908.06942)",
 	"importance": "single-term importance sampling (closed-form baseline)",
 	"fixed":      "your own settings from -settings, cycled",
+	"sorted-gc":  "sorted insertion by general commutation, entangled settings (arXiv:1908.06942)",
+	"color-gc":   "largest-degree-first colouring by general commutation, entangled settings",
+	"greedy-gc":  "greedy one-norm descent grown as commuting families, entangled settings",
 }
 
 func strategyHelp() string {
