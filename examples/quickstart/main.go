@@ -29,7 +29,7 @@ type config struct {
 
 func run(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("quickstart", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs.SetOutput(io.Discard) // parse errors are reported in one line below
 	var c config
 	fs.IntVar(&c.shots, "shots", 1000, "number of shots to plan and simulate")
 	fs.Uint64Var(&c.seed, "seed", 1, "seed of the simulated shots (and of random strategies)")
@@ -42,12 +42,15 @@ func run(args []string, stdout, stderr io.Writer) int {
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
+			fs.SetOutput(stdout)
+			fs.Usage()
 			return 0
 		}
+		fmt.Fprintf(stderr, "quickstart: %v (see quickstart -h)\n", err)
 		return 2
 	}
-	if fs.NArg() > 0 {
-		fmt.Fprintf(stderr, "quickstart: unexpected argument %q (it takes flags only)\n", fs.Arg(0))
+	if err := c.check(fs); err != nil {
+		fmt.Fprintf(stderr, "quickstart: %v\n", err)
 		return 2
 	}
 	if err := quickstart(stdout, c); err != nil {
@@ -55,6 +58,26 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	return 0
+}
+
+// check rejects bad flag values before any work, as input errors.
+func (c *config) check(fs *flag.FlagSet) error {
+	switch {
+	case fs.NArg() > 0:
+		return fmt.Errorf("unexpected argument %q (it takes flags only)", fs.Arg(0))
+	case c.shots < 1:
+		return fmt.Errorf("-shots %d: want at least 1", c.shots)
+	case !(c.delta > 0 && c.delta < 1):
+		return fmt.Errorf("-delta %g: want a value in (0, 1)", c.delta)
+	}
+	a, err := allocate.ByName(c.strategy, c.seed)
+	if err != nil {
+		return err
+	}
+	if _, ok := a.(*allocate.Fixed); ok {
+		return fmt.Errorf("-strategy fixed needs settings of your own; use the shotplan command's plan -settings")
+	}
+	return nil
 }
 
 func quickstart(w io.Writer, c config) error {
@@ -71,7 +94,11 @@ func quickstart(w io.Writer, c config) error {
 	}
 
 	// 2. Certify the plan before any shot: this bound holds for every state.
-	cert, err := guarantee.CertifyPlan(h, plan, c.delta, &guarantee.Options{Top: c.top})
+	top := c.top // Options.Top counts zero as its default: ask for none with −1
+	if top <= 0 {
+		top = -1
+	}
+	cert, err := guarantee.CertifyPlan(h, plan, c.delta, &guarantee.Options{Top: top})
 	if err != nil {
 		return err
 	}

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"math"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -69,12 +70,52 @@ func TestQuickstartDefaults(t *testing.T) {
 	}
 }
 
+// TestQuickstartBadFlag: every bad flag is an input error, exit status 2
+// and one line on standard error, before any work.
 func TestQuickstartBadFlag(t *testing.T) {
-	var out, errOut bytes.Buffer
-	if code := run([]string{"-strategy", "best"}, &out, &errOut); code != 1 || !strings.Contains(errOut.String(), `unknown strategy "best"`) {
-		t.Errorf("quickstart -strategy best: exit %d, stderr %q", code, errOut.String())
+	cases := []struct {
+		args []string
+		want string
+	}{
+		{[]string{"-strategy", "best"}, `unknown strategy "best"`},
+		{[]string{"-strategy", "fixed"}, "-strategy fixed"},
+		{[]string{"-shots", "0"}, "-shots 0"},
+		{[]string{"-delta", "3"}, "-delta 3"},
+		{[]string{"-shots", "x"}, "-shots"},
+		{[]string{"-bogus"}, "-bogus"},
+		{[]string{"extra"}, `"extra"`},
 	}
-	if code := run([]string{"extra"}, &out, &errOut); code != 2 {
-		t.Errorf("quickstart extra: exit %d, want 2", code)
+	for _, c := range cases {
+		var out, errOut bytes.Buffer
+		code := run(c.args, &out, &errOut)
+		if e := errOut.String(); code != 2 || strings.Count(e, "\n") != 1 || !strings.HasSuffix(e, "\n") || !strings.Contains(e, c.want) {
+			t.Errorf("quickstart %v: exit %d, stderr %q; want 2 and one line mentioning %q", c.args, code, e, c.want)
+		}
+		if out.Len() != 0 {
+			t.Errorf("quickstart %v: stdout %q, want nothing", c.args, out.String())
+		}
+	}
+}
+
+// TestQuickstartTop: -top N lists N dominating terms, -top 0 none.
+func TestQuickstartTop(t *testing.T) {
+	for _, n := range []int{0, 2} {
+		var out, errOut bytes.Buffer
+		if code := run([]string{"-shots", "100", "-top", strconv.Itoa(n)}, &out, &errOut); code != 0 {
+			t.Fatalf("quickstart -top %d: exit %d, stderr %q", n, code, errOut.String())
+		}
+		lines := strings.Split(out.String(), "\n")
+		i := slices.IndexFunc(lines, func(l string) bool { return strings.Contains(l, "term (qubit 0 first)") })
+		got := 0
+		if i >= 0 {
+			for _, l := range lines[i+1:] {
+				if strings.TrimSpace(l) != "" {
+					got++
+				}
+			}
+		}
+		if got != n {
+			t.Errorf("quickstart -top %d lists %d terms, want %d:\n%s", n, got, n, out.String())
+		}
 	}
 }
