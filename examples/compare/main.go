@@ -53,7 +53,7 @@ type config struct {
 
 func run(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("compare", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs.SetOutput(io.Discard) // parse errors are reported in one line below
 	var c config
 	var sweep, strategies string
 	fs.StringVar(&c.ham, "ham", "", "Hamiltonian file (text or JSON); empty means the built-in spin ladder")
@@ -70,8 +70,11 @@ func run(args []string, stdout, stderr io.Writer) int {
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
+			fs.SetOutput(stdout)
+			fs.Usage()
 			return 0
 		}
+		fmt.Fprintf(stderr, "compare: %v (see compare -h)\n", err)
 		return 2
 	}
 	if err := c.check(fs, sweep, strategies); err != nil {
@@ -90,6 +93,10 @@ func run(args []string, stdout, stderr io.Writer) int {
 			return 2
 		}
 		name = c.ham
+		if h.Len() == 0 {
+			fmt.Fprintf(stderr, "compare: %s: no non-identity terms, nothing to measure\n", c.ham)
+			return 2
+		}
 	}
 	if err := compare(stdout, h, name, c); err != nil {
 		fmt.Fprintf(stderr, "compare: %s\n", firstLine(err))
@@ -136,6 +143,13 @@ func (c *config) check(fs *flag.FlagSet, sweep, strategies string) error {
 	case c.plotPath == "":
 	case ext != ".png" && ext != ".svg":
 		return fmt.Errorf("-plot %s: the file name must end in .png or .svg", c.plotPath)
+	default:
+		// Fail before the run, not after it, if the plot cannot be written.
+		if fi, err := os.Stat(filepath.Dir(c.plotPath)); err != nil {
+			return fmt.Errorf("-plot %s: %w", c.plotPath, err)
+		} else if !fi.IsDir() {
+			return fmt.Errorf("-plot %s: %s is not a directory", c.plotPath, filepath.Dir(c.plotPath))
+		}
 	}
 	return nil
 }

@@ -69,6 +69,10 @@ func TestCompareFile(t *testing.T) {
 
 func TestCompareBadInput(t *testing.T) {
 	dir := t.TempDir()
+	offsetOnly := filepath.Join(t.TempDir(), "offset.txt")
+	if err := os.WriteFile(offsetOnly, []byte("qubits 4\n-0.5 I\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	cases := []struct {
 		name string
 		args []string
@@ -78,6 +82,10 @@ func TestCompareBadInput(t *testing.T) {
 		{"plot format", []string{"-plot", filepath.Join(dir, "x.pdf")}, ".png or .svg"},
 		{"unknown strategy", []string{"-strategies", "greedy,best"}, `"best"`},
 		{"bad sweep", []string{"-sweep", "100,x"}, `"x"`},
+		{"unknown flag", []string{"-bogus"}, "-bogus"},
+		{"bad flag value", []string{"-reps", "x"}, "-reps"},
+		{"plot directory missing", []string{"-plot", filepath.Join(dir, "nodir", "x.png"), "-reps", "1", "-sweep", "10", "-shots", "10"}, "nodir"},
+		{"nothing to measure", []string{"-ham", offsetOnly, "-plot", ""}, "no non-identity terms"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
