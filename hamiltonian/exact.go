@@ -28,7 +28,7 @@ type EigenSettings struct {
 	// KrylovDim is the number of Lanczos vectors built before a restart
 	// (capped at 2^n). Memory is about (KrylovDim+2)·2^n complex128 values.
 	// Zero means 40, lowered above 22 qubits so that the vectors stay
-	// within about 4 GiB (16 at 24 qubits).
+	// within about 4 GiB (14 at 24 qubits).
 	KrylovDim int
 
 	// MaxApply bounds the number of products H·ψ. Zero means 5000.

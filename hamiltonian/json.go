@@ -54,8 +54,9 @@ type jsonInput struct {
 // UnmarshalJSON decodes the JSON form into h, reporting the first bad term by
 // its index: a missing field, a coefficient that is not a finite real
 // number (a complex value such as [1, 2] or "1+2i" included), or a Pauli
-// string that does not parse or has the wrong width. Qubit counts of
-// [MaxReadQubits] or more are rejected.
+// string that does not parse or has the wrong width. Qubit counts above
+// [MaxReadQubits] are rejected. "I" alone (either case, as in the text
+// format) is the identity term at any width.
 func (h *Hamiltonian) UnmarshalJSON(b []byte) error {
 	var j jsonInput
 	if err := json.Unmarshal(b, &j); err != nil {
@@ -91,7 +92,7 @@ func (h *Hamiltonian) UnmarshalJSON(b []byte) error {
 		}
 		var p pauli.String
 		var err error
-		if strings.ContainsAny(ps, "0123456789") || strings.TrimSpace(ps) == "I" {
+		if strings.ContainsAny(ps, "0123456789") || strings.EqualFold(strings.TrimSpace(ps), "I") {
 			p, err = pauli.ParseSparse(ps, n)
 		} else {
 			p, err = pauli.Parse(ps)

@@ -41,7 +41,8 @@ const MaxReadQubits = 1 << 16
 // Read parses the text format described in the package documentation. It
 // reports every bad line (up to 50, then a count of the rest), each as a
 // [*LineError], joined with errors.Join; errors.Is(err, ErrFormat) holds.
-// A qubit count or index of [MaxReadQubits] or more is an error.
+// A qubit count above [MaxReadQubits], or a qubit index of MaxReadQubits or
+// more, is an error.
 func Read(r io.Reader) (*Hamiltonian, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 64*1024), 64<<20)

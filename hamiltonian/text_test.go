@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -246,6 +247,49 @@ func TestJSONForm(t *testing.T) {
 	b, _ := json.Marshal(want)
 	if got := string(b); got != `{"qubits":2,"offset":-0.5,"terms":[{"pauli":"ZZ","coeff":-1},{"pauli":"XI","coeff":-0.7}]}` {
 		t.Errorf("Marshal = %s", got)
+	}
+}
+
+// TestJSONIdentityEitherCase checks that "i" is the identity term in the
+// JSON form as it is in the text format (package documentation: "I" alone
+// is the identity; letters are read in either case), at a width other
+// than 1.
+func TestJSONIdentityEitherCase(t *testing.T) {
+	want := mustNew(t, 2, 1.5, []Term{{pauli.MustParse("ZZ"), -1}})
+	for _, id := range []string{"I", "i", " i "} {
+		in := `{"qubits": 2, "terms": [{"pauli": "` + id + `", "coeff": 1.5}, {"pauli": "ZZ", "coeff": -1}]}`
+		var h Hamiltonian
+		if err := json.Unmarshal([]byte(in), &h); err != nil {
+			t.Errorf("Unmarshal with identity %q: %v", id, err)
+			continue
+		}
+		if !h.Equal(want) {
+			t.Errorf("Unmarshal with identity %q = %v, want %v", id, &h, want)
+		}
+	}
+}
+
+// TestReadWidthLimit checks the documented bound: a width of exactly
+// MaxReadQubits is accepted, one more is an error.
+func TestReadWidthLimit(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		n    int
+		ok   bool
+	}{
+		{"at the limit", MaxReadQubits, true},
+		{"above the limit", MaxReadQubits + 1, false},
+	} {
+		text := "qubits " + strconv.Itoa(tc.n) + "\n1 Z0\n"
+		_, err := Read(strings.NewReader(text))
+		if (err == nil) != tc.ok {
+			t.Errorf("%s: Read(qubits %d) error = %v, want ok = %v", tc.name, tc.n, err, tc.ok)
+		}
+		var h Hamiltonian
+		err = json.Unmarshal([]byte(`{"qubits": `+strconv.Itoa(tc.n)+`, "terms": [{"pauli": "Z0", "coeff": 1}]}`), &h)
+		if (err == nil) != tc.ok {
+			t.Errorf("%s: UnmarshalJSON(qubits %d) error = %v, want ok = %v", tc.name, tc.n, err, tc.ok)
+		}
 	}
 }
 
