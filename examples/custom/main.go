@@ -21,14 +21,18 @@ func main() {
 
 func run(args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("custom", flag.ContinueOnError)
-	fs.SetOutput(stderr)
+	fs.SetOutput(io.Discard) // parse errors are reported in one line below
 	shots := fs.Int("shots", 1000, "shots per plan")
 	seed := fs.Uint64("seed", 1, "seed of the random strategies and of the simulation")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the certified bound")
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, flag.ErrHelp) {
+			fmt.Fprintln(stdout, "usage: custom [-shots N] [-seed S] [-delta D]")
+			fs.SetOutput(stdout)
+			fs.PrintDefaults()
 			return 0
 		}
+		fmt.Fprintf(stderr, "custom: %v (see custom -h)\n", err)
 		return 2
 	}
 	if fs.NArg() > 0 || *shots < 1 || !(*delta > 0 && *delta < 1) {

@@ -39,3 +39,14 @@ func TestCustom(t *testing.T) {
 		t.Errorf("rows %q, want anchored,greedy,importance:\n%s", got, out.String())
 	}
 }
+
+// TestCustomBadInput: bad flags give exit status 2 and one line.
+func TestCustomBadInput(t *testing.T) {
+	for _, args := range [][]string{{"-bogus"}, {"-shots", "x"}, {"-shots", "0"}, {"-delta", "2"}, {"extra"}} {
+		var out, errOut bytes.Buffer
+		code := run(args, &out, &errOut)
+		if e := errOut.String(); code != 2 || strings.Count(e, "\n") != 1 || !strings.HasPrefix(e, "custom: ") || out.Len() != 0 {
+			t.Errorf("custom %v: exit %d, stdout %q, stderr %q; want 2, nothing on stdout and one line on stderr", args, code, out.String(), e)
+		}
+	}
+}
