@@ -329,6 +329,11 @@ func TestLargestRemainder(t *testing.T) {
 		{"tie to the earlier group", 3, []float64{1, 1}, []int{2, 1}},
 		{"exact", 10, []float64{2, 3}, []int{4, 6}},
 		{"fewer shots than groups", 2, []float64{1, 1, 1, 1}, []int{1, 1, 0, 0}},
+		// Weights near the float64 limit: their sum and budget·weight
+		// overflow unless the weights are scaled first; the quotas are the
+		// same as for {1, 1}.
+		{"huge weights", 4, []float64{1e308, 1e308}, []int{2, 2}},
+		{"huge single weight", 100, []float64{1e307}, []int{100}},
 	} {
 		if got := allocate.LargestRemainder(tc.total, tc.weight); !slices.Equal(got, tc.want) {
 			t.Errorf("%s: largestRemainder(%d, %v) = %v, want %v", tc.name, tc.total, tc.weight, got, tc.want)
@@ -347,6 +352,33 @@ func TestSortedSmallBudgetDropsGroups(t *testing.T) {
 	got := fmt.Sprint(p.Settings, p.Shots)
 	if want := "[XZ ZZ] [1 1]"; got != want {
 		t.Errorf("plan = %s, want %s", got, want)
+	}
+}
+
+func TestSortedHugeCoefficients(t *testing.T) {
+	// Coefficients near the float64 limit: the group weights (their sum
+	// for the one-norm rule, their squares for the two-norm rule) overflow
+	// unless they are scaled first. The shares depend only on the ratios
+	// of the coefficients, so they are those of the same Hamiltonian
+	// divided by 1e300: groups {XI, XX} and {ZI} with one-norm weights
+	// 2 : 1 and two-norm weights √2 : 1, budget 30 → 20, 10 and
+	// 30·√2/(1+√2) = 17.57 → 18, 12 (largest remainder, hand-worked).
+	h := mustH(t, 0, "XI", 1e308, "XX", 1e308, "ZI", 1e308)
+	for _, tc := range []struct {
+		name  string
+		share allocate.Share
+		want  string
+	}{
+		{"one-norm", allocate.ShareOneNorm, "[XX ZZ] [20 10]"},
+		{"two-norm", allocate.ShareTwoNorm, "[XX ZZ] [18 12]"},
+	} {
+		p, err := allocate.Run(h, 30, &allocate.Sorted{Share: tc.share}, nil)
+		if err != nil {
+			t.Fatalf("%s: %v", tc.name, err)
+		}
+		if got := fmt.Sprint(p.Settings, p.Shots); got != tc.want {
+			t.Errorf("%s: plan = %s, want %s", tc.name, got, tc.want)
+		}
 	}
 }
 

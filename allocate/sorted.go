@@ -104,10 +104,13 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 			gz[g*w+k] |= z[k]
 			gm[g*w+k] |= x[k] | z[k]
 		}
+		// Relative to the largest |h| (rank 0), so that sums and squares
+		// neither overflow nor underflow; the shares are unchanged.
+		a := rk.abs[r] / rk.abs[0]
 		if s.Share == ShareOneNorm {
-			weight[g] += rk.abs[r]
+			weight[g] += a
 		} else {
-			weight[g] += rk.abs[r] * rk.abs[r]
+			weight[g] += a * a
 		}
 	}
 	if s.Share == ShareTwoNorm {
@@ -148,15 +151,21 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // by the largest-remainder method (ties to the lower index). The result sums
 // to total.
 func largestRemainder(total int, weight []float64) []int {
+	// Scale by the largest weight first, so that neither the sum nor
+	// total·v overflows for weights near the float64 limit.
+	top := 0.0
+	for _, v := range weight {
+		top = max(top, v)
+	}
 	sum := 0.0
 	for _, v := range weight {
-		sum += v
+		sum += v / top
 	}
 	out := make([]int, len(weight))
 	frac := make([]float64, len(weight))
 	given := 0
 	for g, v := range weight {
-		q := float64(total) * v / sum
+		q := float64(total) * (v / top / sum)
 		out[g] = int(math.Floor(q))
 		frac[g] = q - math.Floor(q)
 		given += out[g]
