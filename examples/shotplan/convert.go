@@ -22,6 +22,9 @@ func convertFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		path := e.args[0]
+		if err := notInput(*out, path); err != nil {
+			return err
+		}
 		g, err := molecule.ReadFCIDUMPFile(path)
 		if err != nil {
 			return bad(err)

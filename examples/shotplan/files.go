@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -94,4 +95,22 @@ func plural(n int, word string) string {
 		return "1 " + word
 	}
 	return fmt.Sprintf("%d %ss", n, word)
+}
+
+// notInput refuses an output path that names one of the command's input
+// files: writing it would destroy the input.
+func notInput(out string, inputs ...string) error {
+	o, err := os.Stat(out)
+	if err != nil {
+		return nil // a new file: cannot be an input
+	}
+	for _, in := range inputs {
+		if in == "" {
+			continue
+		}
+		if i, err := os.Stat(in); err == nil && os.SameFile(o, i) {
+			return badf("-o %s is the input file %s; choose another output name", out, in)
+		}
+	}
+	return nil
 }

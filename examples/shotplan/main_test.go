@@ -353,6 +353,9 @@ func TestBadInput(t *testing.T) {
 		{"unknown command", []string{"measure"}, []string{`"measure"`}},
 		{"fixed without settings", []string{"plan", "-ham", ham, "-strategy", "fixed", "-o", out}, []string{"-settings"}},
 		{"bad delta", []string{"certify", "-ham", ham, "-plan", planPath, "-delta", "1.5"}, []string{"-delta"}},
+		{"plan over its Hamiltonian", []string{"plan", "-ham", ham, "-o", ham}, []string{"h2.txt", "input file"}},
+		{"simulate over its plan", []string{"simulate", "-ham", ham, "-plan", planPath, "-o", planPath}, []string{"plan.json", "input file"}},
+		{"convert over its FCIDUMP", []string{"convert", "-o", badDump, badDump}, []string{"bad.fcidump", "input file"}},
 		{"readout mitigation of entangled settings", []string{"estimate", "-ham", ham, "-plan", gcPlan, "-records", gcRec, "-readout", "0.01"}, []string{"gcrec.csv", "readout mitigation", "entangled"}},
 	}
 	for _, c := range cases {

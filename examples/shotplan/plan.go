@@ -50,6 +50,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := need("o", *out); err != nil {
 			return err
 		}
+		if err := notInput(*out, *ham, *settings); err != nil {
+			return err
+		}
 		a, err := allocate.ByName(*strategy, *seed)
 		if err != nil {
 			return bad(err)

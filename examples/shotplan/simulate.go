@@ -21,6 +21,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := need("o", *out); err != nil {
 			return err
 		}
+		if err := notInput(*out, *ham, *plan); err != nil {
+			return err
+		}
 		h, err := loadHam(*ham)
 		if err != nil {
 			return err
