@@ -355,6 +355,9 @@ func parseHeader(toks []token, endLine int) (header, []error) {
 	intItem("MS2", false, &h.ms2)
 	intItem("ISYM", false, &h.isym)
 	if vals, ok := items["ORBSYM"]; ok {
+		// labels counts every label; only the first maxOrbitals are kept,
+		// so a hostile repeat count cannot claim unbounded memory.
+		labels := 0
 		for _, t := range vals {
 			// Fortran repeat form "k*v".
 			rep, val := 1, t.text
@@ -371,12 +374,13 @@ func parseHeader(toks []token, endLine int) (header, []error) {
 				bad(t.line, ErrFormat, "header: ORBSYM value %q is not an integer", t.text)
 				continue
 			}
-			for range rep {
+			labels += rep
+			for range min(rep, maxOrbitals-len(h.orbsym)) {
 				h.orbsym = append(h.orbsym, v)
 			}
 		}
-		if h.norb > 0 && len(h.orbsym) != h.norb {
-			bad(lines["ORBSYM"], ErrFormat, "header: ORBSYM has %d labels, NORB=%d", len(h.orbsym), h.norb)
+		if h.norb > 0 && labels != h.norb {
+			bad(lines["ORBSYM"], ErrFormat, "header: ORBSYM has %d labels, NORB=%d", labels, h.norb)
 		}
 	}
 	for _, name := range []string{"UHF", "IUHF"} {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 )
@@ -131,6 +132,29 @@ func TestBadFiles(t *testing.T) {
 		if !errors.As(err, &le) {
 			t.Errorf("%s: error %v is not a *LineError", tc.name, err)
 		}
+	}
+}
+
+// TestORBSYMRepeatBounded checks that a header whose ORBSYM repeat counts
+// add up to millions of labels is rejected without building them all: the
+// reader may keep at most MaxOrbitals labels (here it would otherwise hold
+// 128·200000 ints, about 200 MB).
+func TestORBSYMRepeatBounded(t *testing.T) {
+	text := "&FCI NORB=2,NELEC=2,ORBSYM=" + strings.Repeat("128*1,", 200000) + " &END\n"
+	var before, after runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&before)
+	_, err := ReadFCIDUMP(strings.NewReader(text))
+	runtime.ReadMemStats(&after)
+	if err == nil || !strings.Contains(err.Error(), "ORBSYM has 25600000 labels, NORB=2") {
+		t.Errorf("ReadFCIDUMP(huge ORBSYM) error = %v, want %q", err, "ORBSYM has 25600000 labels, NORB=2")
+	}
+	// The header text and its tokens take about 30 MB; 100 MB leaves room
+	// for them and fails when the labels are all built.
+	got := after.TotalAlloc - before.TotalAlloc
+	t.Logf("allocated %d MB", got>>20)
+	if got > 100<<20 {
+		t.Errorf("ReadFCIDUMP(huge ORBSYM) allocated %d MB, want under 100 MB", got>>20)
 	}
 }
 
