@@ -72,5 +72,8 @@
 //
 // Building an operator is under the caller's control: [Operator.Add] and
 // [Encoding.Ladder] panic for a mode out of range, [NewOperator] for a
-// negative mode count. Every other problem is returned as an error.
+// negative mode count, [Encoding.Ladder] and [Operator.QubitOperator] for an
+// undefined [Encoding] (one not among the constants), which
+// [Operator.QubitHamiltonian] returns as an error. Every other problem is
+// returned as an error.
 package fermion

@@ -242,6 +242,26 @@ func popcount(v uint) int {
 	return c
 }
 
+// TestQubitHamiltonianUndefinedEncoding checks the package documentation's
+// promise that mapping to a qubit Hamiltonian returns an error, not a panic,
+// for an encoding outside the defined constants.
+func TestQubitHamiltonianUndefinedEncoding(t *testing.T) {
+	o := NewOperator(2)
+	o.Add(1, Create(0), Annihilate(0))
+	for _, e := range []Encoding{-1, Parity + 1, 99} {
+		func() {
+			defer func() {
+				if r := recover(); r != nil {
+					t.Errorf("QubitHamiltonian(%v) panicked: %v", e, r)
+				}
+			}()
+			if h, err := o.QubitHamiltonian(e); err == nil || !strings.Contains(err.Error(), "undefined encoding") {
+				t.Errorf("QubitHamiltonian(%v) = %v, %v; want an undefined-encoding error", e, h, err)
+			}
+		}()
+	}
+}
+
 func TestParseEncoding(t *testing.T) {
 	tests := []struct {
 		in   string

@@ -32,7 +32,8 @@ func abs(c complex128) float64 { return cmplx.Abs(c) }
 // appears while the terms are expanded. The identity, if present, is a term
 // like any other. A merged coefficient is dropped when its magnitude is below
 // 1.4e-14 times the sum of the magnitudes of its contributions, that is when
-// it is rounding residue of an exact cancellation.
+// it is rounding residue of an exact cancellation. It panics if e is not a
+// defined encoding.
 func (o *Operator) QubitOperator(e Encoding) []PauliTerm {
 	m := o.mapAll(e)
 	out := make([]PauliTerm, 0, len(m.coef))
@@ -50,8 +51,12 @@ func (o *Operator) QubitOperator(e Encoding) []PauliTerm {
 // It returns an error naming the Pauli term when a mapped coefficient has an
 // imaginary part above [ImagTolerance] (o is then not Hermitian), or when a
 // coefficient is not finite. Real parts that are rounding residue of an exact
-// cancellation are dropped as in [Operator.QubitOperator].
+// cancellation are dropped as in [Operator.QubitOperator]. An undefined
+// encoding is an error.
 func (o *Operator) QubitHamiltonian(e Encoding) (*hamiltonian.Hamiltonian, error) {
+	if !e.valid() {
+		return nil, fmt.Errorf("fermion: QubitHamiltonian: undefined encoding %d", int(e))
+	}
 	m := o.mapAll(e)
 	var offset float64
 	terms := make([]hamiltonian.Term, 0, len(m.coef))
