@@ -2,7 +2,9 @@ package estimate
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -40,13 +42,45 @@ func (r *Records) MarshalJSON() ([]byte, error) {
 }
 
 // UnmarshalJSON decodes the JSON form into r, replacing its contents. It
-// reports the first bad setting or shot by its index, and leaves r
-// unchanged on error; errors.Is(err, ErrFormat) holds.
+// reports the first bad setting or shot by its index, a syntax or type
+// error by its line, and an unknown or missing "shots" key (so that a
+// misspelt key is not read as records without shots); it leaves r
+// unchanged on error. errors.Is(err, ErrFormat) holds.
 func (r *Records) UnmarshalJSON(b []byte) error {
-	var j jsonRecords
-	if err := json.Unmarshal(b, &j); err != nil {
+	var j struct {
+		jsonRecords
+		Shots *[]jsonShot `json:"shots"`
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	err := dec.Decode(&j)
+	if err == nil {
+		if _, end := dec.Token(); end != io.EOF {
+			err = fmt.Errorf("text after the closing brace")
+		}
+	}
+	if err != nil {
+		var (
+			se  *json.SyntaxError
+			te  *json.UnmarshalTypeError
+			off int64 = -1
+		)
+		switch {
+		case errors.As(err, &se):
+			off = se.Offset
+		case errors.As(err, &te):
+			off = te.Offset
+		}
+		if off >= 0 && off <= int64(len(b)) {
+			line := 1 + bytes.Count(b[:off], []byte{'\n'})
+			return fmt.Errorf("estimate: %w: line %d: %w", ErrFormat, line, err)
+		}
 		return fmt.Errorf("estimate: %w: %w", ErrFormat, err)
 	}
+	if j.Shots == nil {
+		return fmt.Errorf("estimate: %w: no \"shots\" key", ErrFormat)
+	}
+	j.jsonRecords.Shots = *j.Shots
 	if j.Qubits < 1 {
 		return fmt.Errorf("estimate: %w: qubit count %d, want at least 1", ErrFormat, j.Qubits)
 	}
@@ -66,7 +100,7 @@ func (r *Records) UnmarshalJSON(b []byte) error {
 	if len(settings) > 0 { // the settings' text bounds the width
 		bits = pauli.NewBits(j.Qubits)
 	}
-	for k, s := range j.Shots {
+	for k, s := range j.jsonRecords.Shots {
 		if s.Setting < 0 || s.Setting >= len(settings) {
 			return fmt.Errorf("estimate: %w: shot %d: setting index %d out of range: %d settings", ErrFormat, k, s.Setting, len(settings))
 		}

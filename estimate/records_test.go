@@ -218,6 +218,12 @@ func TestJSONBad(t *testing.T) {
 		{"setting width", `{"qubits":2,"settings":["ZZZ"],"shots":[]}`, "setting 0"},
 		{"no qubits", `{"settings":[],"shots":[]}`, "qubit count 0"},
 		{"not JSON", `{"qubits":`, "malformed"},
+		// A misspelt key would otherwise read as records with no shots.
+		{"unknown key", `{"qubits":2,"settings":["ZZ"],"shot":[{"setting":0,"outcome":"00"}]}`, `unknown field "shot"`},
+		{"no shots key", `{"qubits":2,"settings":["ZZ"]}`, `no "shots" key`},
+		{"syntax error line", "{\"qubits\": 2,\n \"settings\": [\"ZZ\"],\n \"shots\": [{\"setting\": 0 \"outcome\": \"00\"}]}", "line 3"},
+		{"type error line", "{\"qubits\": 2,\n \"settings\": [\"ZZ\"],\n \"shots\": [\n  {\"setting\": \"0\", \"outcome\": \"00\"}]}", "line 4"},
+		{"text after the object", `{"qubits":1,"settings":[],"shots":[]} {}`, "after"},
 	}
 	for _, tc := range tests {
 		rec, err := ReadJSON(strings.NewReader(tc.in))
