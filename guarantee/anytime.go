@@ -137,6 +137,8 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 		return nil, fmt.Errorf("guarantee: Anytime: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.Method != Betting && s.Method != BernsteinEpochs:
 		return nil, fmt.Errorf("guarantee: Anytime: unknown method %d", int(s.Method))
+	case s.Plan.h == nil || s.Plan.Dist == nil || len(s.Plan.Settings) == 0:
+		return nil, fmt.Errorf("guarantee: Anytime: the plan was not made by NewIID or IIDOf")
 	case s.Plan.h != h && !s.Plan.h.Equal(h):
 		return nil, fmt.Errorf("guarantee: Anytime: the plan was made for another Hamiltonian")
 	}

@@ -153,6 +153,7 @@ func TestAnytimeErrors(t *testing.T) {
 		{"growth", func(s *AnytimeSettings) { s.Growth = 0.5 }, sim, "Growth = 0.5"},
 		{"method", func(s *AnytimeSettings) { s.Method = 7 }, sim, "unknown method 7"},
 		{"plan", func(s *AnytimeSettings) { s.Plan = nil }, sim, "nil Hamiltonian, device, settings or plan"},
+		{"plan built by hand", func(s *AnytimeSettings) { s.Plan = &IID{} }, sim, "not made by NewIID"},
 		{"device fails", func(s *AnytimeSettings) {}, brokenDevice{}, "round 1: hardware offline"},
 		{"device records too few", func(s *AnytimeSettings) {}, brokenDevice{short: true}, "did not record"},
 	} {
