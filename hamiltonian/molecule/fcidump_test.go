@@ -253,3 +253,23 @@ func TestLongLine(t *testing.T) {
 		t.Errorf("ReadFCIDUMP(17 MiB line) error = %v, want a format error on line 3", err)
 	}
 }
+
+// TestISymDefault pins the documented defaults of Integrals.ISym: an
+// FCIDUMP without ISYM reads as 1 (common practice: the totally symmetric
+// irrep is label 1), New leaves 0.
+func TestISymDefault(t *testing.T) {
+	g, err := ReadFCIDUMP(strings.NewReader("&FCI NORB=1,NELEC=2 &END\n 0.5 1 1 1 1\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if g.ISym != 1 {
+		t.Errorf("ReadFCIDUMP(no ISYM).ISym = %d, want 1", g.ISym)
+	}
+	n, err := New(1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n.ISym != 0 {
+		t.Errorf("New(1).ISym = %d, want 0", n.ISym)
+	}
+}

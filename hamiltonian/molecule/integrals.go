@@ -31,7 +31,7 @@ type Integrals struct {
 	Electrons int   // number of electrons (NELEC)
 	SpinTwice int   // 2S_z, the number of α minus β electrons (MS2)
 	OrbSym    []int // irrep label of each orbital (ORBSYM), or nil
-	ISym      int   // irrep of the target state (ISYM), 0 if unknown
+	ISym      int   // irrep of the target state (ISYM); 0 from New, 1 from an FCIDUMP without ISYM
 
 	norb int
 	core float64
