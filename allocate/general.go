@@ -138,10 +138,13 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 			ranks = append(ranks, nil)
 		}
 		ranks[k] = append(ranks[k], r)
+		// Relative to the largest |h| (rank 0), so that sums and squares
+		// neither overflow nor underflow; the shares are unchanged.
+		a := rk.abs[r] / rk.abs[0]
 		if share == ShareOneNorm {
-			weight[k] += rk.abs[r]
+			weight[k] += a
 		} else {
-			weight[k] += rk.abs[r] * rk.abs[r]
+			weight[k] += a * a
 		}
 	}
 	if share == ShareTwoNorm {

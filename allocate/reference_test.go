@@ -368,9 +368,10 @@ func TestSortedHugeCoefficients(t *testing.T) {
 		name  string
 		share allocate.Share
 		want  string
+		shots []int // shares of the groups {XI, XX} and {ZI}
 	}{
-		{"one-norm", allocate.ShareOneNorm, "[XX ZZ] [20 10]"},
-		{"two-norm", allocate.ShareTwoNorm, "[XX ZZ] [18 12]"},
+		{"one-norm", allocate.ShareOneNorm, "[XX ZZ] [20 10]", []int{20, 10}},
+		{"two-norm", allocate.ShareTwoNorm, "[XX ZZ] [18 12]", []int{18, 12}},
 	} {
 		p, err := allocate.Run(h, 30, &allocate.Sorted{Share: tc.share}, nil)
 		if err != nil {
@@ -378,6 +379,22 @@ func TestSortedHugeCoefficients(t *testing.T) {
 		}
 		if got := fmt.Sprint(p.Settings, p.Shots); got != tc.want {
 			t.Errorf("%s: plan = %s, want %s", tc.name, got, tc.want)
+		}
+		// The generally commuting groups are the same two here (XI and XX
+		// commute, ZI anticommutes with both), with the same shares;
+		// ColorGC takes ZI (two anticommuting partners) first.
+		for _, a := range []allocate.Allocator{&allocate.SortedGC{Share: tc.share}, &allocate.ColorGC{Share: tc.share}} {
+			p, err := allocate.Run(h, 30, a, nil)
+			if err != nil {
+				t.Fatalf("%s %s: %v", allocate.Name(a), tc.name, err)
+			}
+			want := tc.shots
+			if _, ok := a.(*allocate.ColorGC); ok {
+				want = []int{tc.shots[1], tc.shots[0]}
+			}
+			if !slices.Equal(p.Shots, want) {
+				t.Errorf("%s %s: shots = %v, want %v", allocate.Name(a), tc.name, p.Shots, want)
+			}
 		}
 	}
 }
