@@ -116,3 +116,23 @@ func TestOptimalTruncationBracket(t *testing.T) {
 		t.Errorf("no trial left inexact: the cut-off path is not exercised")
 	}
 }
+
+// MATH.md §3.3: at δ = 0.05 the threshold is c² = 2 ln 40 ≈ 7.38, so a term
+// covered 7 times is dropped and one covered 8 times is kept.
+func TestThresholdAtDelta005(t *testing.T) {
+	h := mustH(t, 2, 0, 1.0, "ZI", 1.0, "IX")
+	c, err := Certify(h, settingsOf("ZZ", "ZX"), []int{0, 7}, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !c.Threshold.Drop[0] || !c.Threshold.Drop[1] {
+		t.Errorf("N = (7, 7) at δ = 0.05: Threshold.Drop = %v, want both dropped (7 < 7.38)", c.Threshold.Drop)
+	}
+	c, err = Certify(h, settingsOf("ZZ", "ZX"), []int{1, 7}, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Threshold.Drop[0] || !c.Threshold.Drop[1] {
+		t.Errorf("N = (8, 7) at δ = 0.05: Threshold.Drop = %v, want [false true] (8 > 7.38 > 7)", c.Threshold.Drop)
+	}
+}
