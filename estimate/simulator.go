@@ -147,8 +147,9 @@ func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *Simulat
 func (sim *Simulator) Qubits() int { return sim.n }
 
 // Run measures shots[k] copies in settings[k] for each k and appends the
-// outcomes to rec in that order; see [Device]. On bad arguments Run returns
-// an error and appends nothing.
+// outcomes to rec in that order; see [Device]. On bad arguments (including
+// more than 2^40 shots in one call, whose outcomes could not be held in
+// memory) Run returns an error and appends nothing.
 //
 // When settings get many shots each, every distinct setting's full
 // distribution is computed once (or taken from the cache) and sampled. When

@@ -236,6 +236,10 @@ func TestSimulatorErrors(t *testing.T) {
 		{"negative count", []pauli.Setting{zz, zz}, []int{1, -1}, rec},
 		{"records width", []pauli.Setting{zz}, []int{1}, NewRecords(3)},
 		{"nil records", []pauli.Setting{zz}, []int{1}, nil},
+		// Counts whose total overflows an int, or exceeds what one call can
+		// hold, must be refused rather than panic in make.
+		{"total overflows", []pauli.Setting{zz, zz}, []int{math.MaxInt, math.MaxInt}, rec},
+		{"total too large", []pauli.Setting{zz}, []int{math.MaxInt}, rec},
 	}
 	for _, tc := range tests {
 		if err := sim.Run(tc.settings, tc.shots, tc.rec); err == nil {
