@@ -58,7 +58,9 @@ func (im *Importance) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		return fmt.Errorf("importance: one-norm of the coefficients is %v", s)
 	}
 	im.table = h.Table()
-	im.drawn = make([]int, 0, budget)
+	// Reserve at most a million entries and let append grow past that:
+	// reserving a budget beyond memory would panic in make.
+	im.drawn = make([]int, 0, min(budget, 1<<20))
 	return nil
 }
 

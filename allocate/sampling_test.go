@@ -83,6 +83,19 @@ func TestImportanceShots(t *testing.T) {
 	}
 }
 
+// TestImportanceInitHugeBudget: Init must not reserve the whole budget up
+// front, or a budget beyond memory panics in make before the first shot.
+func TestImportanceInitHugeBudget(t *testing.T) {
+	h := mustH(t, 0, "XX", 1.0, "ZI", 0.5)
+	im := &allocate.Importance{}
+	if err := im.Init(h, math.MaxInt); err != nil {
+		t.Fatalf("Init(budget MaxInt) = %v, want nil", err)
+	}
+	if got := len(im.Drawn()); got != 0 {
+		t.Errorf("len(Drawn()) after Init = %d, want 0", got)
+	}
+}
+
 func TestRandomIsUniform(t *testing.T) {
 	// Every letter of every qubit is uniform on X, Y, Z (MATH §5.3). The
 	// chi-square test of all 3·n letter counts against N/3 each fails
