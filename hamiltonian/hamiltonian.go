@@ -131,11 +131,11 @@ func (h *Hamiltonian) OneNorm() float64 {
 }
 
 // Prune returns a Hamiltonian without the terms whose |coefficient| is at
-// most tol. The offset is kept.
+// most tol. The offset is kept. A NaN tol removes nothing.
 func (h *Hamiltonian) Prune(tol float64) *Hamiltonian {
 	p := &Hamiltonian{n: h.n, offset: h.offset, table: pauli.NewTable(h.n, h.Len())}
 	for i, c := range h.coef {
-		if math.Abs(c) > tol {
+		if !(math.Abs(c) <= tol) { // NaN tol: keep the term
 			p.table.Append(h.table.At(i))
 			p.coef = append(p.coef, c)
 		}
