@@ -59,7 +59,7 @@ func refLetterCovers(s pauli.Setting, p pauli.String) bool {
 	return true
 }
 
-// refGrouped is a direct, shot-by-shot transcription of MATH.md §2 and of
+// refGrouped computes MATH.md §2 directly, shot by shot, together with
 // the variance estimate documented on Grouped (the leave-one-out means
 // computed as written there), used as the reference for the word-wise
 // implementation.

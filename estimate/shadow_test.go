@@ -222,7 +222,7 @@ func TestInverseProbabilityMitigation(t *testing.T) {
 	}
 }
 
-// refShadow is a shot-by-shot transcription of the shadow estimate with
+// refShadow computes the shadow estimate directly, shot by shot, with
 // median of means, used as the reference for the word-wise code: shot k of
 // N goes to batch ⌊k·K/N⌋; a covering shot gives term i the value
 // 3^weight·s (uniform shadows).
