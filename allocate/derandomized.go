@@ -142,21 +142,6 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// supportOf iterates over the support of the string with words x, z.
-func supportOf(x, z []uint64) func(func(int) bool) {
-	return func(yield func(int) bool) {
-		for i := range x {
-			s := x[i] | z[i]
-			for s != 0 {
-				if !yield(i<<6 + bitsTrailing(s)) {
-					return
-				}
-				s &= s - 1
-			}
-		}
-	}
-}
-
 // Next implements [Allocator].
 func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	// Future factor of a term of weight k, relative to the largest over k.

@@ -65,6 +65,23 @@ func letterAt(x, z []uint64, q int) pauli.Letter {
 	return [4]pauli.Letter{pauli.I, pauli.X, pauli.Z, pauli.Y}[b]
 }
 
+// supportOf iterates over the support of the string with words x, z: the
+// word-level form of [pauli.String.Support], for rows read from a table or
+// [ranked] without copying them into a String.
+func supportOf(x, z []uint64) func(func(int) bool) {
+	return func(yield func(int) bool) {
+		for i := range x {
+			s := x[i] | z[i]
+			for s != 0 {
+				if !yield(i<<6 + bits.TrailingZeros64(s)) {
+					return
+				}
+				s &= s - 1
+			}
+		}
+	}
+}
+
 // letterBits returns the symplectic bits of a letter as all-zero or
 // all-one words.
 func letterBits(l pauli.Letter) (x, z uint64) {
@@ -298,5 +315,3 @@ func (c *coverIndex) appendCovered(dst []int32, sx, sz []uint64) []int32 {
 	}
 	return dst
 }
-
-func bitsTrailing(s uint64) int { return bits.TrailingZeros64(s) }
