@@ -196,8 +196,7 @@ func anyEntangled(settings []pauli.Setting, shots []int) bool {
 func importanceSample(h *hamiltonian.Hamiltonian, i int, s pauli.Setting, b pauli.Bits) float64 {
 	t := h.Table()
 	if s.IsLocal() {
-		px, pz := t.Words(i)
-		return 1 - 2*float64(parityXZ(b, px, pz))
+		return float64(1 - 2*t.Parity(i, b))
 	}
 	return float64(s.Sample(t.At(i), b))
 }

@@ -148,13 +148,3 @@ func parity(b, supp []uint64) uint64 {
 	}
 	return uint64(c & 1)
 }
-
-// parityXZ returns the parity of outcome b over the support of the string
-// with words x, z.
-func parityXZ(b, x, z []uint64) uint64 {
-	c := 0
-	for k := range x {
-		c += bits.OnesCount64(b[k] & (x[k] | z[k]))
-	}
-	return uint64(c & 1)
-}
