@@ -108,6 +108,7 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 	if rec.Qubits() != p.Qubits {
 		return badf("%s: records of %d qubits, the plan has %d", path, rec.Qubits(), p.Qubits)
 	}
+	inPlan := make([]bool, rec.Groups())
 	for k, s := range settings {
 		g, ok := rec.Group(s)
 		if !ok {
@@ -116,20 +117,11 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 		if n := rec.GroupLen(g); n != shots[k] {
 			return badf("%s: %s of setting %s, the plan asks for %d", path, plural(n, "shot"), s, shots[k])
 		}
+		inPlan[g] = true
 	}
-	if rec.Groups() != len(settings) {
-		for g := range rec.Groups() {
-			s := rec.Setting(g)
-			found := false
-			for _, t := range settings {
-				if t.Equal(s) {
-					found = true
-					break
-				}
-			}
-			if !found {
-				return badf("%s: setting %s is not in the plan", path, s)
-			}
+	for g, ok := range inPlan {
+		if !ok {
+			return badf("%s: setting %s is not in the plan", path, rec.Setting(g))
 		}
 	}
 	return nil

@@ -322,6 +322,11 @@ func TestBadInput(t *testing.T) {
 	badPlan := write("badplan.json", strings.Replace(string(planText), `"setting": "ZZZZ"`, `"setting": "ZZKZ"`, 1))
 	badRec := write("badrec.csv", "setting,outcome\nZZZZ,0101\nZZZZ,01x1\n")
 	shortRec := write("short.csv", "setting,outcome\nZZZZ,0101\n")
+	recText, err := os.ReadFile(recPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	extraRec := write("extra.csv", string(recText)+"XZXZ,0000\n")
 	full := filepath.Join(dir, "full")
 	if err := os.Mkdir(full, 0o755); err != nil {
 		t.Fatal(err)
@@ -345,6 +350,7 @@ func TestBadInput(t *testing.T) {
 		{"malformed plan", []string{"export", "-plan", badPlan, "-o", out}, []string{"badplan.json", "line 9", "settings[0]", "unknown letter 'K'"}},
 		{"malformed records line", []string{"estimate", "-ham", ham, "-plan", planPath, "-records", badRec}, []string{"badrec.csv", "line 3", "'x'"}},
 		{"records short of the plan", []string{"estimate", "-ham", ham, "-plan", planPath, "-records", shortRec}, []string{"short.csv", "the plan asks for"}},
+		{"records beyond the plan", []string{"estimate", "-ham", ham, "-plan", planPath, "-records", extraRec}, []string{"extra.csv", "setting XZXZ is not in the plan"}},
 		{"export into a full directory", []string{"export", "-plan", planPath, "-o", full}, []string{"full"}},
 		{"output directory missing", []string{"simulate", "-ham", ham, "-plan", planPath, "-o", filepath.Join(dir, "nodir", "rec.csv")}, []string{"nodir"}},
 		{"missing -o", []string{"simulate", "-ham", ham, "-plan", planPath}, []string{"-o is required"}},
