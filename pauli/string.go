@@ -252,18 +252,26 @@ func (ph Phase) String() string { return [4]string{"+1", "+i", "-1", "-i"}[ph&3]
 func Mul(a, b String) (c String, ph Phase) {
 	mustSameWidth(a.n, b.n)
 	c = Identity(a.n)
+	return c, Phase(mulWords(c.x, c.z, a.x, a.z, b.x, b.z))
+}
+
+// mulWords writes the string of (x1s,z1s)·(x2s,z2s) into (dx,dz) and returns
+// the exponent e ∈ {0,1,2,3} of the phase i^e. The destination may be the
+// first operand (each word is read before it is written). It does not
+// allocate.
+func mulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) int {
 	var pos, neg int
-	for i := range a.x {
-		x1, z1, x2, z2 := a.x[i], a.z[i], b.x[i], b.z[i]
-		xa, za, ya := x1&^z1, z1&^x1, x1&z1 // where a is X, Z, Y
-		xb, zb, yb := x2&^z2, z2&^x2, x2&z2 // where b is X, Z, Y
+	for i := range dx {
+		x1, z1, x2, z2 := x1s[i], z1s[i], x2s[i], z2s[i]
+		xa, za, ya := x1&^z1, z1&^x1, x1&z1 // where the first is X, Z, Y
+		xb, zb, yb := x2&^z2, z2&^x2, x2&z2 // where the second is X, Z, Y
 		// XY=iZ, ZX=iY, YZ=iX count +1; the reversed orders count −1.
 		pos += bits.OnesCount64(xa&yb | za&xb | ya&zb)
 		neg += bits.OnesCount64(xa&zb | za&yb | ya&xb)
-		c.x[i] = x1 ^ x2
-		c.z[i] = z1 ^ z2
+		dx[i] = x1 ^ x2
+		dz[i] = z1 ^ z2
 	}
-	return c, Phase((pos - neg) & 3)
+	return (pos - neg) & 3
 }
 
 func mustSameWidth(a, b int) {

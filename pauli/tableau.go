@@ -202,15 +202,5 @@ func (t *Tableau) conjugateInto(ox, oz, px, pz []uint64) int {
 func (t *Tableau) mulRow(ox, oz []uint64, k int) int {
 	o := t.row(k)
 	rx, rz := t.data[o:o+t.w], t.data[o+t.w:o+2*t.w]
-	var pos, neg int
-	for i := range ox {
-		x1, z1, x2, z2 := ox[i], oz[i], rx[i], rz[i]
-		xa, za, ya := x1&^z1, z1&^x1, x1&z1
-		xb, zb, yb := x2&^z2, z2&^x2, x2&z2
-		pos += bits.OnesCount64(xa&yb | za&xb | ya&zb)
-		neg += bits.OnesCount64(xa&zb | za&yb | ya&xb)
-		ox[i] = x1 ^ x2
-		oz[i] = z1 ^ z2
-	}
-	return pos - neg + 2*int(t.neg[k>>6]>>(k&63)&1)
+	return mulWords(ox, oz, ox, oz, rx, rz) + 2*int(t.neg[k>>6]>>(k&63)&1)
 }
