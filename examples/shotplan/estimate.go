@@ -22,14 +22,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
 		}
-		if !(*delta > 0 && *delta < 1) {
-			return badf("-delta %g: want a value in (0, 1)", *delta)
-		}
-		h, err := loadHam(*ham)
-		if err != nil {
+		if err := checkDelta(*delta); err != nil {
 			return err
 		}
-		f, err := loadPlan(*plan, h, *ham)
+		h, f, err := loadHamPlan(*ham, *plan)
 		if err != nil {
 			return err
 		}

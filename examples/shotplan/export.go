@@ -18,7 +18,7 @@ func exportFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := need("o", *out); err != nil {
 			return err
 		}
-		f, err := loadPlan(*plan, nil, "")
+		f, err := loadPlan(*plan)
 		if err != nil {
 			return err
 		}

@@ -24,22 +24,38 @@ func loadHam(path string) (*hamiltonian.Hamiltonian, error) {
 	return h, bad(err)
 }
 
-// loadPlan reads the plan file given by -plan and, if h is not nil, checks
-// that the plan was made for h (read from hamPath).
-func loadPlan(path string, h *hamiltonian.Hamiltonian, hamPath string) (*allocate.PlanFile, error) {
+// loadPlan reads the plan file given by -plan.
+func loadPlan(path string) (*allocate.PlanFile, error) {
 	if err := need("plan", path); err != nil {
 		return nil, err
 	}
 	f, err := allocate.ReadPlanFile(path)
+	return f, bad(err)
+}
+
+// loadHamPlan reads the files given by -ham and -plan and checks that the
+// plan was made for the Hamiltonian.
+func loadHamPlan(hamPath, planPath string) (*hamiltonian.Hamiltonian, *allocate.PlanFile, error) {
+	h, err := loadHam(hamPath)
 	if err != nil {
-		return nil, bad(err)
+		return nil, nil, err
 	}
-	if h != nil {
-		if err := f.Check(h); err != nil {
-			return nil, badf("%w (Hamiltonian %s)", err, hamPath)
-		}
+	f, err := loadPlan(planPath)
+	if err != nil {
+		return nil, nil, err
 	}
-	return f, nil
+	if err := f.Check(h); err != nil {
+		return nil, nil, badf("%w (Hamiltonian %s)", err, hamPath)
+	}
+	return h, f, nil
+}
+
+// checkDelta checks the -delta flag: a failure probability in (0, 1).
+func checkDelta(delta float64) error {
+	if !(delta > 0 && delta < 1) {
+		return badf("-delta %g: want a value in (0, 1)", delta)
+	}
+	return nil
 }
 
 // isJSON reports whether a file name asks for the JSON form.

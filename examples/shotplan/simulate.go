@@ -24,11 +24,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := notInput(*out, *ham, *plan); err != nil {
 			return err
 		}
-		h, err := loadHam(*ham)
-		if err != nil {
-			return err
-		}
-		f, err := loadPlan(*plan, h, *ham)
+		h, f, err := loadHamPlan(*ham, *plan)
 		if err != nil {
 			return err
 		}
