@@ -10,6 +10,10 @@ import (
 // directCS keeps the hedged capitals of BettingCS's doc comment on a fine
 // fixed grid, written directly from the formulas, and the running
 // intersection of {m : K±_t(m) < 1/δ} over that grid: the slow reference.
+// It repeats the bet formula of the doc comment, so it checks the grid,
+// regrid and exclusion machinery only; the bets are checked independently of
+// the code by the miss rate (TestBettingCoverageStopped, the Ville bound)
+// and the width against the normal approximation (TestBettingNormalRatio).
 type directCS struct {
 	m, kp, km []float64
 	out       []bool
