@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -183,7 +184,7 @@ func TestReadReportsEveryBadLine(t *testing.T) {
 			lines = append(lines, le.Line)
 		}
 	}
-	if want := []int{3, 4, 5, 6}; !equalInts(lines, want) {
+	if want := []int{3, 4, 5, 6}; !slices.Equal(lines, want) {
 		t.Errorf("bad lines reported = %v, want %v (error %v)", lines, want, err)
 	}
 	// More than 50 bad lines: the first 50 and a count of the rest.
@@ -192,18 +193,6 @@ func TestReadReportsEveryBadLine(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "10 more bad lines") || !strings.Contains(err.Error(), "line 50:") {
 		t.Errorf("60 bad lines: error %v should list 50 and count 10 more", err)
 	}
-}
-
-func equalInts(a, b []int) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 func TestUnmarshalJSONErrors(t *testing.T) {

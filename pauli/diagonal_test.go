@@ -3,6 +3,7 @@ package pauli
 import (
 	"errors"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -181,7 +182,7 @@ func TestDiagonalizeExamples(t *testing.T) {
 		if d.Rank() != tc.rank {
 			t.Errorf("%s: Rank() = %d, want %d", tc.name, d.Rank(), tc.rank)
 		}
-		if g := d.Generators(); len(g) != len(tc.gens) || (len(g) > 0 && !equalInts(g, tc.gens)) {
+		if g := d.Generators(); !slices.Equal(g, tc.gens) {
 			t.Errorf("%s: Generators() = %v, want %v", tc.name, g, tc.gens)
 		}
 		if tc.twoQ >= 0 && d.Circuit().TwoQubitGates() != tc.twoQ {
@@ -191,18 +192,6 @@ func TestDiagonalizeExamples(t *testing.T) {
 			t.Errorf("%s: circuit %q, want %q", tc.name, d.Circuit(), tc.circuit)
 		}
 	}
-}
-
-func equalInts(a, b []int) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
-		}
-	}
-	return true
 }
 
 // A qubit-wise commuting family needs one-qubit gates only.
@@ -480,7 +469,7 @@ func TestDiagonalizationCovered(t *testing.T) {
 				}
 			}
 			got := d.Covered(nil, tab)
-			if !equalInts(got, want) {
+			if !slices.Equal(got, want) {
 				t.Fatalf("Covered = %v, want %v (circuit %v)", got, want, d.Circuit())
 			}
 			mask := make([]bool, tab.Len())
