@@ -3,7 +3,6 @@ package allocate
 import (
 	"cmp"
 	"fmt"
-	"math"
 	"math/bits"
 	"slices"
 
@@ -124,8 +123,8 @@ type groupShots struct {
 // commutation, and divides budget by the share rule.
 func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, budget int) error {
 	g.name = name
-	if share != ShareOneNorm && share != ShareTwoNorm {
-		return fmt.Errorf("%s: unknown share rule %d", name, share)
+	if err := share.check(name); err != nil {
+		return err
 	}
 	gs := newCommutingGroups(rk.w)
 	var weight []float64
@@ -140,19 +139,9 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		ranks[k] = append(ranks[k], r)
 		// Relative to the largest |h| (rank 0), so that sums and squares
 		// neither overflow nor underflow; the shares are unchanged.
-		a := rk.abs[r] / rk.abs[0]
-		if share == ShareOneNorm {
-			weight[k] += a
-		} else {
-			weight[k] += a * a
-		}
+		weight[k] += share.term(rk.abs[r] / rk.abs[0])
 	}
-	if share == ShareTwoNorm {
-		for k := range weight {
-			weight[k] = math.Sqrt(weight[k])
-		}
-	}
-	g.quota = largestRemainder(budget, weight)
+	g.quota = share.divide(budget, weight)
 	g.groups, g.members = g.groups[:0], g.members[:0]
 	g.settings, g.shots, g.next = g.settings[:0], g.shots[:0], 0
 	for k, rs := range ranks {

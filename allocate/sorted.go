@@ -21,6 +21,35 @@ const (
 	ShareTwoNorm
 )
 
+// check returns an error naming the strategy if s is not a known rule.
+func (s Share) check(name string) error {
+	if s != ShareOneNorm && s != ShareTwoNorm {
+		return fmt.Errorf("%s: unknown share rule %d", name, s)
+	}
+	return nil
+}
+
+// term returns what a term of relative size a adds to its group's sum:
+// a for ShareOneNorm, a² for ShareTwoNorm.
+func (s Share) term(a float64) float64 {
+	if s == ShareTwoNorm {
+		return a * a
+	}
+	return a
+}
+
+// divide turns the groups' sums of [Share.term] into their weights (the
+// square root for ShareTwoNorm) and rounds budget among them by
+// [largestRemainder].
+func (s Share) divide(budget int, sum []float64) []int {
+	if s == ShareTwoNorm {
+		for g := range sum {
+			sum[g] = math.Sqrt(sum[g])
+		}
+	}
+	return largestRemainder(budget, sum)
+}
+
 // Sorted is sorted insertion into qubit-wise commuting groups with weighted
 // shot allocation (Crawford et al., "Efficient quantum measurement of Pauli
 // operators in the presence of finite sampling error", arXiv:1908.06942;
@@ -70,8 +99,8 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	if s.Fill > pauli.Z {
 		return fmt.Errorf("sorted: fill letter %d is not I, X, Y or Z", s.Fill)
 	}
-	if s.Share != ShareOneNorm && s.Share != ShareTwoNorm {
-		return fmt.Errorf("sorted: unknown share rule %d", s.Share)
+	if err := s.Share.check("sorted"); err != nil {
+		return err
 	}
 	rk := newRanked(h)
 	n, w := rk.n, rk.w
@@ -106,19 +135,9 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 		// Relative to the largest |h| (rank 0), so that sums and squares
 		// neither overflow nor underflow; the shares are unchanged.
-		a := rk.abs[r] / rk.abs[0]
-		if s.Share == ShareOneNorm {
-			weight[g] += a
-		} else {
-			weight[g] += a * a
-		}
+		weight[g] += s.Share.term(rk.abs[r] / rk.abs[0])
 	}
-	if s.Share == ShareTwoNorm {
-		for g := range weight {
-			weight[g] = math.Sqrt(weight[g])
-		}
-	}
-	shots := largestRemainder(budget, weight)
+	shots := s.Share.divide(budget, weight)
 	fill := s.Fill
 	if fill == pauli.I {
 		fill = pauli.Z
