@@ -14,9 +14,14 @@ import (
 // a qubit-wise group, measured locally as ZZ. The shots follow the groups'
 // one-norms, 2.5 : 0.4. Qubit-wise sorted insertion needs three groups.
 func ExampleSortedGC() {
+	// A slice, not a map: ties in |h_i| are broken by term index, so the
+	// order of XX and YY decides how the group's setting prints.
 	var terms []hamiltonian.Term
-	for p, c := range map[string]float64{"XX": 1, "YY": 1, "ZZ": 0.5, "ZI": 0.2, "IZ": 0.2} {
-		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(p), Coeff: c})
+	for _, t := range []struct {
+		p string
+		c float64
+	}{{"XX", 1}, {"YY", 1}, {"ZZ", 0.5}, {"ZI", 0.2}, {"IZ", 0.2}} {
+		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(t.p), Coeff: t.c})
 	}
 	h, err := hamiltonian.New(2, 0, terms)
 	if err != nil {
