@@ -61,6 +61,23 @@ func (a sum) equalsIdentity(n int, c complex128) bool {
 	return ok || c == 0
 }
 
+// ladderProducts maps o term by term: each product of ladder operators
+// becomes the product of their images under enc, the sum a mapping must
+// equal by linearity.
+func ladderProducts(o *Operator, enc Encoding) sum {
+	n := o.Modes()
+	want := sum{}
+	for _, term := range o.Terms() {
+		prod := sum{pauli.Identity(n).String(): term.Coeff}
+		for _, op := range term.Ops {
+			l := enc.Ladder(n, op)
+			prod = prod.mul(sumOf(l[:]))
+		}
+		want = want.plus(prod)
+	}
+	return want
+}
+
 // TestCAR checks the canonical anticommutation relations
 // {a_i, a_j†} = δ_ij and {a_i, a_j} = 0 for every pair of modes, n = 1..8,
 // in every encoding, computed in the Pauli algebra with pauli.Mul. Source:
@@ -117,15 +134,7 @@ func TestQubitOperatorMatchesProducts(t *testing.T) {
 			o.Add(complex(rng.NormFloat64(), 0), adj...)
 		}
 		for _, enc := range []Encoding{JordanWigner, BravyiKitaev, Parity} {
-			want := sum{}
-			for _, term := range o.Terms() {
-				prod := sum{pauli.Identity(n).String(): term.Coeff}
-				for _, op := range term.Ops {
-					l := enc.Ladder(n, op)
-					prod = prod.mul(sumOf(l[:]))
-				}
-				want = want.plus(prod)
-			}
+			want := ladderProducts(o, enc)
 			got := sumOf(o.QubitOperator(enc))
 			for p, c := range got.plus(scaled(want, -1)) {
 				if cmplx.Abs(c) > 1e-12 {
@@ -165,15 +174,7 @@ func TestWideOperators(t *testing.T) {
 			}
 			o.Add(complex(rng.NormFloat64(), rng.NormFloat64()), ops...)
 		}
-		want := sum{}
-		for _, term := range o.Terms() {
-			prod := sum{pauli.Identity(n).String(): term.Coeff}
-			for _, op := range term.Ops {
-				l := enc.Ladder(n, op)
-				prod = prod.mul(sumOf(l[:]))
-			}
-			want = want.plus(prod)
-		}
+		want := ladderProducts(o, enc)
 		for p, c := range sumOf(o.QubitOperator(enc)).plus(scaled(want, -1)) {
 			if cmplx.Abs(c) > 1e-12 {
 				t.Fatalf("%s n=%d: QubitOperator differs from the ladder products by %v on %s", enc, n, c, p)
