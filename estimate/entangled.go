@@ -97,7 +97,7 @@ func groupedEntangledSums(sw *sweep, eg []entangledCovers, a, raw []float64, cov
 			}
 			if n := cover[i]; n > 1 {
 				di := ai * float64(n) / float64(n-1)
-				s := e.signs[j] * (1 - 2*float64(parity(out, mask)))
+				s := e.signs[j] * (1 - 2*float64(pauli.Bits(out).Parity(mask)))
 				r[e.g] += di * (s - raw[i])
 			}
 		}

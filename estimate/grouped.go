@@ -5,6 +5,7 @@ import (
 	"math/bits"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
 )
 
 // Grouped returns the grouped estimate of MATH.md §2, which works for every
@@ -181,7 +182,7 @@ func countOdd(out, supp []uint64) int {
 	}
 	w := len(supp)
 	for j := 0; j < len(out); j += w {
-		n += int(parity(out[j:j+w], supp))
+		n += pauli.Bits(out[j : j+w]).Parity(supp)
 	}
 	return n
 }
@@ -201,6 +202,6 @@ func addSamples(z []float64, out, supp []uint64, a float64) {
 	}
 	w := len(supp)
 	for j := range z {
-		z[j] += a - 2*a*float64(parity(out[j*w:(j+1)*w], supp))
+		z[j] += a - 2*a*float64(pauli.Bits(out[j*w:(j+1)*w]).Parity(supp))
 	}
 }

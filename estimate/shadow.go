@@ -212,7 +212,7 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 					lo, hi := sw.off[g], sw.off[g+1]
 					res.Cover[i] += hi - lo
 					for p := lo; p < hi; p++ {
-						sign := 1 - 2*float64(parity(sw.flat[p*w:(p+1)*w], supp))
+						sign := 1 - 2*float64(pauli.Bits(sw.flat[p*w:(p+1)*w]).Parity(supp))
 						x[p] += sign * ei
 						ts[batch[p]] += sign * vi
 					}

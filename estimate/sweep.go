@@ -136,15 +136,3 @@ func (s *sweep) oddSlice(rs []int32, k, k0 int) uint64 {
 
 // termSupp returns the support words of term i.
 func (s *sweep) termSupp(i int) []uint64 { return s.supp[i*s.w : (i+1)*s.w] }
-
-// parity returns the parity of outcome b over the support words supp.
-func parity(b, supp []uint64) uint64 {
-	if len(supp) == 1 {
-		return uint64(bits.OnesCount64(b[0]&supp[0]) & 1)
-	}
-	c := 0
-	for k, m := range supp {
-		c += bits.OnesCount64(b[k] & m)
-	}
-	return uint64(c & 1)
-}
