@@ -2,24 +2,22 @@ package guarantee
 
 import (
 	"math"
-	"os"
 	"strings"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
-func readH(t testing.TB, path string) *hamiltonian.Hamiltonian {
+// h2JW returns the 15-term H2 qubit Hamiltonian (STO-3G, R = 0.7414 Å,
+// Jordan–Wigner) of internal/refdata, computed outside this project; its
+// lowest eigenvalue is −1.137270174657 hartree.
+func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	h, err := hamiltonian.Read(f)
+	h, _, err := refdata.H2Qubit(refdata.H2Alt, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -90,7 +88,7 @@ func TestEmpiricalSingleTerm(t *testing.T) {
 // The estimate the data bound is about is the grouped estimator of the
 // estimate package, with and without excluded terms.
 func TestEmpiricalMatchesGrouped(t *testing.T) {
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	p, err := allocate.Run(h, 300, &allocate.Greedy{}, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -118,7 +116,7 @@ func TestEmpiricalMatchesGrouped(t *testing.T) {
 // The per-group forms add Weight·Radius over the groups, with δ split
 // by the shares.
 func TestEmpiricalShares(t *testing.T) {
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	p, err := allocate.Run(h, 300, &allocate.Greedy{}, nil)
 	if err != nil {
 		t.Fatal(err)

@@ -71,7 +71,7 @@ func TestMixtureOf(t *testing.T) {
 // at most δ + 3σ of the time (σ the binomial standard deviation; the
 // false-failure rate of this check is about 0.1%).
 func TestRandomizedBoundCoverage(t *testing.T) {
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	d, err := ProductOf(h, uniform(4))
 	if err != nil {
 		t.Fatal(err)

@@ -13,7 +13,7 @@ import (
 )
 
 func TestSequentialStops(t *testing.T) {
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	base, err := allocate.Run(h, 40, &allocate.Greedy{}, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -59,7 +59,7 @@ func TestSequentialStops(t *testing.T) {
 }
 
 func TestSequentialCap(t *testing.T) {
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	base, err := allocate.Run(h, 40, &allocate.Greedy{}, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -135,7 +135,7 @@ func TestSequentialCoverage(t *testing.T) {
 	if testing.Short() {
 		reps = 200
 	}
-	h := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h := h2JW(t)
 	base, err := allocate.Run(h, 40, &allocate.Greedy{}, nil)
 	if err != nil {
 		t.Fatal(err)

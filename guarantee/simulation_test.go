@@ -34,7 +34,7 @@ func coverageCases(t *testing.T) []coverageCase {
 
 	// H2 (Jordan–Wigner) ground state; its energy is the full-CI value
 	// −1.137270174657 hartree of h2_qubit_hamiltonians.json.
-	h2 := readH(t, "testdata/h2_jw_0.7414A.txt")
+	h2 := h2JW(t)
 	ev, err := hamiltonian.GroundState(h2, nil)
 	if err != nil {
 		t.Fatal(err)
