@@ -205,29 +205,23 @@ func randomStrings(n, m int, seed uint64) (*hamiltonian.Hamiltonian, error) {
 // commutation (target: 10^4 terms on 20 qubits in at most 10 s), including
 // one diagonalisation and cover count per group.
 func BenchmarkSortedGCInit(b *testing.B) {
-	for _, sz := range []struct{ qubits, terms int }{{20, 1000}, {20, 10000}} {
-		b.Run(fmt.Sprintf("qubits=%d/terms=%d", sz.qubits, sz.terms), func(b *testing.B) {
-			h, err := randomStrings(sz.qubits, sz.terms, 1)
-			if err != nil {
-				b.Fatal(err)
-			}
-			b.ReportAllocs()
-			var groups int
-			for b.Loop() {
-				a := &allocate.SortedGC{}
-				if err := a.Init(h, 1000); err != nil {
-					b.Fatal(err)
-				}
-				g, _ := a.Groups()
-				groups = len(g)
-			}
-			b.ReportMetric(float64(groups), "groups")
-		})
-	}
+	benchGroupingInit(b, func() grouping { return &allocate.SortedGC{} })
 }
 
 // BenchmarkColorGCInit colours the same Hamiltonians largest degree first.
 func BenchmarkColorGCInit(b *testing.B) {
+	benchGroupingInit(b, func() grouping { return &allocate.ColorGC{} })
+}
+
+// grouping is a strategy that reports its groups.
+type grouping interface {
+	allocate.Allocator
+	Groups() ([]pauli.Setting, []int)
+}
+
+// benchGroupingInit times Init of a fresh strategy from mk on uniformly
+// random strings and reports the number of groups formed.
+func benchGroupingInit(b *testing.B, mk func() grouping) {
 	for _, sz := range []struct{ qubits, terms int }{{20, 1000}, {20, 10000}} {
 		b.Run(fmt.Sprintf("qubits=%d/terms=%d", sz.qubits, sz.terms), func(b *testing.B) {
 			h, err := randomStrings(sz.qubits, sz.terms, 1)
@@ -237,7 +231,7 @@ func BenchmarkColorGCInit(b *testing.B) {
 			b.ReportAllocs()
 			var groups int
 			for b.Loop() {
-				a := &allocate.ColorGC{}
+				a := mk()
 				if err := a.Init(h, 1000); err != nil {
 					b.Fatal(err)
 				}
