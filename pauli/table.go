@@ -186,8 +186,8 @@ func (t *Table) CoverMask(dst []bool, s Setting) {
 		}
 		return
 	}
-	for r, o := 0, 0; r < t.rows; r, o = r+1, o+t.stride {
-		dst[r] = coversRow(d[o:o+t.stride], s.p.x, s.p.z, t.w)
+	for r := range dst {
+		dst[r] = t.badRow(r, s.p.x, s.p.z) == 0
 	}
 }
 
@@ -201,17 +201,7 @@ func (t *Table) CoversRow(r int, s Setting) bool {
 	if s.fam != nil {
 		return s.fam.d.diagonalWords(t.data[o:o+t.w], t.data[o+t.w:o+t.stride])
 	}
-	return coversRow(t.data[o:o+t.stride], s.p.x, s.p.z, t.w)
-}
-
-func coversRow(row, sx, sz []uint64, w int) bool {
-	x, z := row[:w], row[w:2*w]
-	for i := range x {
-		if ((x[i]^sx[i])|(z[i]^sz[i]))&(x[i]|z[i]) != 0 {
-			return false
-		}
-	}
-	return true
+	return t.badRow(r, s.p.x, s.p.z) == 0
 }
 
 // Parity returns the parity (0 or 1) of outcome b over the support of row r;
