@@ -109,20 +109,14 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // groupShots holds the groups of a grouping strategy and hands them out
 // with their shares, as [Sorted] does.
 type groupShots struct {
-	groups   []pauli.Setting // every group's setting, in the order opened
-	members  [][]int         // every group's term indices
-	quota    []int           // every group's rounded share, possibly 0
-	settings []pauli.Setting // the groups with shots
-	shots    []int
-	next     int
-	name     string
-	cover    []int // N_i of the measured groups
+	groupQueue
+	members [][]int // every group's term indices
+	cover   []int   // N_i of the measured groups
 }
 
 // init groups the ranks of rk, taken in the given order, by general
 // commutation, and divides budget by the share rule.
 func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, budget int) error {
-	g.name = name
 	if err := share.check(name); err != nil {
 		return err
 	}
@@ -141,9 +135,8 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		// neither overflow nor underflow; the shares are unchanged.
 		weight[k] += share.term(rk.abs[r] / rk.abs[0])
 	}
-	g.quota = share.divide(budget, weight)
-	g.groups, g.members = g.groups[:0], g.members[:0]
-	g.settings, g.shots, g.next = g.settings[:0], g.shots[:0], 0
+	g.reset(name, share.divide(budget, weight))
+	g.members = g.members[:0]
 	for k, rs := range ranks {
 		fam := make([]pauli.String, len(rs))
 		terms := make([]int, len(rs))
@@ -156,13 +149,8 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		if err != nil {
 			return fmt.Errorf("%s: group %d: %w", name, k, err)
 		}
-		g.groups = append(g.groups, st)
+		g.add(st)
 		g.members = append(g.members, terms)
-		if g.quota[k] == 0 {
-			continue
-		}
-		g.settings = append(g.settings, st)
-		g.shots = append(g.shots, g.quota[k])
 	}
 	// Count the covers here: a setting may cover terms of other groups,
 	// and the driver's letter-bucketed count does not apply to entangled
@@ -180,40 +168,6 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 
 // Cover implements [Counter]: the cover counts of the whole plan.
 func (g *groupShots) Cover(dst []int) { copy(dst, g.cover) }
-
-// Next implements [Allocator] for the groups whose setting is local; it
-// returns an error for an entangled setting, which has no letters. The
-// driver calls NextBatch instead.
-func (g *groupShots) Next(dst []pauli.Letter) (int, error) {
-	if g.next >= len(g.settings) {
-		return 0, fmt.Errorf("%s: all %d groups already given", g.name, len(g.settings))
-	}
-	st := g.settings[g.next]
-	if !st.IsLocal() {
-		return 0, fmt.Errorf("%s: group setting %s is entangled and has no letters; use NextBatch", g.name, st)
-	}
-	for q := range dst {
-		dst[q] = st.At(q)
-	}
-	g.next++
-	return g.shots[g.next-1], nil
-}
-
-// NextBatch implements [Batcher]: every group with its shots at once.
-func (g *groupShots) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
-	if g.next >= len(g.settings) {
-		return settings, shots, fmt.Errorf("%s: all %d groups already given", g.name, len(g.settings))
-	}
-	settings = append(settings, g.settings[g.next:]...)
-	shots = append(shots, g.shots[g.next:]...)
-	g.next = len(g.settings)
-	return settings, shots, nil
-}
-
-// Groups returns, after Init, the setting of every group in the order the
-// groups were opened and its rounded share of the budget, which is 0 for a
-// group that is not measured. The slices must not be modified.
-func (g *groupShots) Groups() ([]pauli.Setting, []int) { return g.groups, g.quota }
 
 // Members returns, after Init, the term indices of every group, in the
 // order the terms joined it. A group's setting covers its members and may

@@ -84,11 +84,7 @@ type Sorted struct {
 	// (pauli.I) means Z.
 	Fill pauli.Letter
 
-	groups   []pauli.Setting // every group's setting, in the order opened
-	quota    []int           // every group's rounded share, possibly 0
-	settings []pauli.Setting // the groups with shots
-	shots    []int
-	next     int
+	groupQueue
 }
 
 // String returns "sorted".
@@ -143,10 +139,9 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		fill = pauli.Z
 	}
 	fx, fz := letterBits(fill)
-	s.settings, s.shots, s.next = s.settings[:0], s.shots[:0], 0
-	s.groups, s.quota = s.groups[:0], shots
+	s.reset("sorted", shots)
 	x, z := make([]uint64, w), make([]uint64, w)
-	for g, k := range shots {
+	for g := range shots {
 		for i := range w {
 			free := rk.all[i] &^ gm[g*w+i]
 			x[i] = gx[g*w+i] | free&fx
@@ -156,12 +151,7 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		if err != nil {
 			return fmt.Errorf("sorted: group %d: %w", g, err)
 		}
-		s.groups = append(s.groups, st)
-		if k == 0 {
-			continue
-		}
-		s.settings = append(s.settings, st)
-		s.shots = append(s.shots, k)
+		s.add(st)
 	}
 	return nil
 }
@@ -201,31 +191,66 @@ func largestRemainder(total int, weight []float64) []int {
 	return out
 }
 
-// Next implements [Allocator]: the groups in order, each once.
-func (s *Sorted) Next(dst []pauli.Letter) (int, error) {
-	if s.next >= len(s.settings) {
-		return 0, fmt.Errorf("sorted: all %d groups already given", len(s.settings))
+// groupQueue holds the groups of a grouping strategy with their rounded
+// shares and hands out those with shots, in the order opened, each once.
+type groupQueue struct {
+	name     string
+	groups   []pauli.Setting // every group's setting, in the order opened
+	quota    []int           // every group's rounded share, possibly 0
+	settings []pauli.Setting // the groups with shots
+	shots    []int
+	next     int
+}
+
+// reset empties the queue for groups with the given rounded shares, whose
+// settings [groupQueue.add] then appends in order.
+func (q *groupQueue) reset(name string, quota []int) {
+	q.name, q.quota = name, quota
+	q.groups, q.settings, q.shots, q.next = q.groups[:0], q.settings[:0], q.shots[:0], 0
+}
+
+// add appends the setting of the next group; it is measured if its share
+// is not 0.
+func (q *groupQueue) add(st pauli.Setting) {
+	k := q.quota[len(q.groups)]
+	q.groups = append(q.groups, st)
+	if k == 0 {
+		return
 	}
-	st := s.settings[s.next]
-	for q := range dst {
-		dst[q] = st.At(q)
+	q.settings = append(q.settings, st)
+	q.shots = append(q.shots, k)
+}
+
+// Next implements [Allocator]: the groups with shots in order, each once.
+// It returns an error for an entangled group setting, which has no
+// letters; the driver calls NextBatch instead.
+func (q *groupQueue) Next(dst []pauli.Letter) (int, error) {
+	if q.next >= len(q.settings) {
+		return 0, fmt.Errorf("%s: all %d groups already given", q.name, len(q.settings))
 	}
-	s.next++
-	return s.shots[s.next-1], nil
+	st := q.settings[q.next]
+	if !st.IsLocal() {
+		return 0, fmt.Errorf("%s: group setting %s is entangled and has no letters; use NextBatch", q.name, st)
+	}
+	for i := range dst {
+		dst[i] = st.At(i)
+	}
+	q.next++
+	return q.shots[q.next-1], nil
 }
 
 // NextBatch implements [Batcher]: every group with its shots at once.
-func (s *Sorted) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
-	if s.next >= len(s.settings) {
-		return settings, shots, fmt.Errorf("sorted: all %d groups already given", len(s.settings))
+func (q *groupQueue) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
+	if q.next >= len(q.settings) {
+		return settings, shots, fmt.Errorf("%s: all %d groups already given", q.name, len(q.settings))
 	}
-	settings = append(settings, s.settings[s.next:]...)
-	shots = append(shots, s.shots[s.next:]...)
-	s.next = len(s.settings)
+	settings = append(settings, q.settings[q.next:]...)
+	shots = append(shots, q.shots[q.next:]...)
+	q.next = len(q.settings)
 	return settings, shots, nil
 }
 
 // Groups returns, after Init, the setting of every group in the order the
 // groups were opened and its rounded share of the budget, which is 0 for a
 // group that is not measured. The slices must not be modified.
-func (s *Sorted) Groups() ([]pauli.Setting, []int) { return s.groups, s.quota }
+func (q *groupQueue) Groups() ([]pauli.Setting, []int) { return q.groups, q.quota }
