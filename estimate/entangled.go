@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -189,14 +188,4 @@ func anyEntangled(settings []pauli.Setting, shots []int) bool {
 		}
 	}
 	return false
-}
-
-// importanceSample returns the ±1 sample that outcome b of setting s gives
-// term i of h, which s covers.
-func importanceSample(h *hamiltonian.Hamiltonian, i int, s pauli.Setting, b pauli.Bits) float64 {
-	t := h.Table()
-	if s.IsLocal() {
-		return float64(1 - 2*t.Parity(i, b))
-	}
-	return float64(s.Sample(t.At(i), b))
 }

@@ -44,6 +44,11 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: nShots}
 	sums := make([]float64, m)
 	x := make([]float64, nShots)
+	type image struct {
+		mask []uint64
+		sign int
+	}
+	images := make(map[[2]int]image)
 	for k, s := range rec.Shots() {
 		i := drawn[k]
 		if i < 0 || i >= m {
@@ -52,7 +57,24 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 		if !t.CoversRow(i, s.Setting) {
 			return nil, fmt.Errorf("estimate: ImportanceSampling: shot %d: setting %s does not cover its drawn term %d (%s)", k, s.Setting, i, h.Pauli(i))
 		}
-		v := c.scale[i] * importanceSample(h, i, s.Setting, s.Outcome)
+		var v float64
+		if s.Setting.IsLocal() {
+			v = float64(1 - 2*t.Parity(i, s.Outcome))
+		} else {
+			// An entangled setting reads term i as sign·(−1)^(parity on
+			// its Z-image); the image is found once per (group, term),
+			// not conjugated through the circuit every shot.
+			key := [2]int{s.Group, i}
+			im, ok := images[key]
+			if !ok {
+				z, sign, _ := s.Setting.Diagonal(t.At(i))
+				_, im.mask = z.Words()
+				im.sign = sign
+				images[key] = im
+			}
+			v = float64(im.sign * (1 - 2*s.Outcome.Parity(im.mask)))
+		}
+		v *= c.scale[i]
 		res.Cover[i]++
 		sums[i] += v
 		x[k] = h.Offset()
