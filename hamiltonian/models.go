@@ -27,9 +27,6 @@ import (
 // J > 0 the coupling is ferromagnetic. It returns an error if l is invalid
 // (see [Lattice.Validate]) or a constant is not finite.
 func TransverseFieldIsing(l Lattice, j, field float64) (*Hamiltonian, error) {
-	if err := l.Validate(); err != nil {
-		return nil, err
-	}
 	return Ising(l, j, constant(l.Sites, field), nil)
 }
 
@@ -54,9 +51,6 @@ func Ising(l Lattice, j float64, hx, hz []float64) (*Hamiltonian, error) {
 // XXZ returns H = Σ_b w_b [Jxy (X_i X_j + Y_i Y_j) + Jz Z_i Z_j] − h Σ_q Z_q on
 // l. It returns an error if l is invalid or a constant is not finite.
 func XXZ(l Lattice, jxy, jz, field float64) (*Hamiltonian, error) {
-	if err := l.Validate(); err != nil {
-		return nil, err
-	}
 	return XXZFields(l, jxy, jz, constant(l.Sites, field))
 }
 
@@ -143,9 +137,10 @@ func pair(n int, b Bond, l pauli.Letter) pauli.String {
 	return pauli.Identity(n).With(b.I, l).With(b.J, l)
 }
 
-// constant returns n copies of v, or nil if v is zero.
+// constant returns n copies of v, or nil if v is zero or n is negative (a
+// lattice the model builders then reject).
 func constant(n int, v float64) []float64 {
-	if v == 0 {
+	if v == 0 || n < 0 {
 		return nil
 	}
 	c := make([]float64, n)
