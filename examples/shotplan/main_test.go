@@ -17,49 +17,14 @@ import (
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/hamiltonian/molecule"
-	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 // h2FCI is the full-CI energy of H2/STO-3G at 0.74 Å in hartree (Debian's
-// psi4 1.3.2, energy('fci'); internal/refdata/energies.json). It is also the
-// lowest eigenvalue of the 4-qubit Hamiltonian over all electron numbers.
+// psi4 1.3.2, energy('fci'); see testdata/README.md).
 const h2FCI = -1.1372838344855134
 
-// h2Dump and lihDump are the FCIDUMP files of H2 (0.74 Å) and LiH
-// (1.5949 Å) in STO-3G from internal/refdata, written by TestMain to a
-// temporary directory for the commands to read.
-var h2Dump, lihDump string
-
-func TestMain(m *testing.M) {
-	dir, err := os.MkdirTemp("", "shotplan-test-")
-	if err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-	h2Dump, err = writeRefdata(dir, refdata.H2)
-	if err == nil {
-		lihDump, err = writeRefdata(dir, refdata.LiH)
-	}
-	code := 1
-	if err == nil {
-		code = m.Run()
-	} else {
-		fmt.Fprintln(os.Stderr, err)
-	}
-	os.RemoveAll(dir)
-	os.Exit(code)
-}
-
-// writeRefdata writes the named molecule's FCIDUMP file into dir.
-func writeRefdata(dir, name string) (string, error) {
-	b, err := refdata.FCIDUMP(name)
-	if err != nil {
-		return "", err
-	}
-	path := filepath.Join(dir, name+".fcidump")
-	return path, os.WriteFile(path, b, 0o644)
-}
+const h2Dump = "testdata/h2_sto3g_0.74A.fcidump"
 
 // sp runs the command in-process and returns its exit status and outputs.
 func sp(t *testing.T, args ...string) (code int, stdout, stderr string) {
@@ -142,7 +107,7 @@ func TestWorkflowH2(t *testing.T) {
 	if info.Qubits != 4 || info.Terms != h.Len() || info.Offset != h.Offset() || info.OneNorm != h.OneNorm() {
 		t.Errorf("info = %+v, want 4 qubits, %d terms, offset %v, one-norm %v", info, h.Len(), h.Offset(), h.OneNorm())
 	}
-	if math.Abs(info.Ground-h2FCI) > 1e-8 { // psi4 FCI, internal/refdata; tolerance covers its 1e-9 agreement
+	if math.Abs(info.Ground-h2FCI) > 1e-8 { // psi4 FCI, testdata/README.md; tolerance covers its 1e-9 agreement
 		t.Errorf("info ground_energy = %.12f, want %.12f (psi4 full CI) within 1e-8", info.Ground, h2FCI)
 	}
 
@@ -447,13 +412,11 @@ func listDir(t *testing.T, dir string) []string {
 
 // TestConvertFrozenCore freezes LiH's lowest orbital and checks the exact
 // energy of the 10-qubit Hamiltonian against psi4's frozen-core full CI,
-// −7.8821759908 hartree (psi4 1.3.2 with freeze_core, computed outside this
-// project; hamiltonian/testdata/REFERENCE_VALUES.md). The lowest eigenvalue
-// over all electron numbers is the two-electron one here (checked by this
-// value).
+// −7.8821759908 hartree (testdata/README.md). The lowest eigenvalue over all
+// electron numbers is the two-electron one here (checked by this value).
 func TestConvertFrozenCore(t *testing.T) {
 	ham := filepath.Join(t.TempDir(), "lih.txt")
-	ok(t, "convert", "-frozen", "1", "-o", ham, lihDump)
+	ok(t, "convert", "-frozen", "1", "-o", ham, "testdata/lih_sto3g_1.5949A.fcidump")
 	var info struct {
 		Qubits int
 		Ground float64 `json:"ground_energy"`
