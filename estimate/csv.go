@@ -98,9 +98,8 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 			break
 		}
 		if err != nil {
-			var pe *csv.ParseError
-			if errors.As(err, &pe) {
-				return nil, &LineError{Line: pe.Line, Reason: pe.Err.Error()}
+			if le := csvLineError(err); le != nil {
+				return nil, le
 			}
 			return nil, fmt.Errorf("estimate: reading records: %w", err)
 		}
@@ -174,6 +173,16 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		rec = NewRecords(n)
 	}
 	return rec, nil
+}
+
+// csvLineError returns the [*LineError] for a syntax error of
+// [csv.Reader.Read], or nil for any other error.
+func csvLineError(err error) *LineError {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		return &LineError{Line: pe.Line, Reason: pe.Err.Error()}
+	}
+	return nil
 }
 
 // parseBitsInto sets b from the text s ('0' and '1', qubit 0 first; len(s)

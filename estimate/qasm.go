@@ -185,9 +185,8 @@ func ReadManifest(r io.Reader) (settings []pauli.Setting, shots []int, err error
 			break
 		}
 		if err != nil {
-			var pe *csv.ParseError
-			if errors.As(err, &pe) {
-				return nil, nil, &LineError{Line: pe.Line, Reason: pe.Err.Error()}
+			if le := csvLineError(err); le != nil {
+				return nil, nil, le
 			}
 			return nil, nil, err
 		}
