@@ -187,6 +187,9 @@ func csvLineError(err error) *LineError {
 
 // parseBitsInto sets b from the text s ('0' and '1', qubit 0 first; len(s)
 // qubits). It returns the offending qubit and false on another character.
+// It is [pauli.ParseBits] into a reused buffer, so readers do not allocate
+// an outcome per shot, and it reports the qubit for the caller's own
+// line-numbered message.
 func parseBitsInto(b pauli.Bits, s string) (int, bool) {
 	clear(b)
 	for q := 0; q < len(s); q++ {
