@@ -252,14 +252,15 @@ func (ph Phase) String() string { return [4]string{"+1", "+i", "-1", "-i"}[ph&3]
 func Mul(a, b String) (c String, ph Phase) {
 	mustSameWidth(a.n, b.n)
 	c = Identity(a.n)
-	return c, Phase(mulWords(c.x, c.z, a.x, a.z, b.x, b.z))
+	return c, MulWords(c.x, c.z, a.x, a.z, b.x, b.z)
 }
 
-// mulWords writes the string of (x1s,z1s)·(x2s,z2s) into (dx,dz) and returns
-// the exponent e ∈ {0,1,2,3} of the phase i^e. The destination may be the
-// first operand (each word is read before it is written). It does not
-// allocate.
-func mulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) int {
+// MulWords is [Mul] on raw symplectic words, for callers that keep strings
+// in their own buffers: it writes the words of (x1s,z1s)·(x2s,z2s) into
+// (dx,dz) and returns the phase. All six slices have the same length (a
+// shorter operand panics); dx, dz may alias x1s, z1s (each word is read
+// before it is written). It does not allocate.
+func MulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) Phase {
 	var pos, neg int
 	for i := range dx {
 		x1, z1, x2, z2 := x1s[i], z1s[i], x2s[i], z2s[i]
@@ -271,7 +272,7 @@ func mulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) int {
 		dx[i] = x1 ^ x2
 		dz[i] = z1 ^ z2
 	}
-	return (pos - neg) & 3
+	return Phase((pos - neg) & 3)
 }
 
 func mustSameWidth(a, b int) {

@@ -108,6 +108,12 @@ func TestWordwiseMatchesReference(t *testing.T) {
 					t.Fatalf("Mul(%s, %s) = %v·%s, want %v·%s", a, b, ph, c, rph, rc)
 				}
 				checkPadding(t, "Mul", c)
+				// MulWords in place over a copy of a's words (the aliasing
+				// its doc allows).
+				d := a.Clone()
+				if wph := MulWords(d.x, d.z, d.x, d.z, b.x, b.z); !d.Equal(rc) || wph != rph {
+					t.Fatalf("MulWords(%s, %s) in place = %v·%s, want %v·%s", a, b, wph, d, rph, rc)
+				}
 				if got, want := a.Commutes(b), refCommutes(a, b); got != want {
 					t.Fatalf("Commutes(%s, %s) = %v, want %v", a, b, got, want)
 				}

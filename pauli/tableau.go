@@ -202,5 +202,5 @@ func (t *Tableau) conjugateInto(ox, oz, px, pz []uint64) int {
 func (t *Tableau) mulRow(ox, oz []uint64, k int) int {
 	o := t.row(k)
 	rx, rz := t.data[o:o+t.w], t.data[o+t.w:o+2*t.w]
-	return mulWords(ox, oz, ox, oz, rx, rz) + 2*int(t.neg[k>>6]>>(k&63)&1)
+	return int(MulWords(ox, oz, ox, oz, rx, rz)) + 2*int(t.neg[k>>6]>>(k&63)&1)
 }

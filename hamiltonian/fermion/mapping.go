@@ -4,7 +4,6 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
-	"math/bits"
 	"math/cmplx"
 	"strings"
 
@@ -242,23 +241,6 @@ func (m *mapper) expand(ops []Op, level int, ph int) {
 	}
 	px, pz := m.lx[level], m.lz[level]
 	nx, nz := m.lx[level+1], m.lz[level+1]
-	m.expand(ops, level+1, ph+mulWords(nx, nz, px, pz, x, za))
-	m.expand(ops, level+1, ph+im+mulWords(nx, nz, px, pz, x, zb))
-}
-
-// mulWords writes the string of (x1,z1)·(x2,z2) into (dx,dz) and returns the
-// phase exponent: the product is i^phase times the string. Same rule as
-// [pauli.Mul] (XY = iZ, YZ = iX, ZX = iY).
-func mulWords(dx, dz, x1s, z1s, x2s, z2s []uint64) int {
-	var pos, neg int
-	for i := range dx {
-		x1, z1, x2, z2 := x1s[i], z1s[i], x2s[i], z2s[i]
-		xa, za, ya := x1&^z1, z1&^x1, x1&z1
-		xb, zb, yb := x2&^z2, z2&^x2, x2&z2
-		pos += bits.OnesCount64(xa&yb | za&xb | ya&zb)
-		neg += bits.OnesCount64(xa&zb | za&yb | ya&xb)
-		dx[i] = x1 ^ x2
-		dz[i] = z1 ^ z2
-	}
-	return (pos - neg) & 3
+	m.expand(ops, level+1, ph+int(pauli.MulWords(nx, nz, px, pz, x, za)))
+	m.expand(ops, level+1, ph+im+int(pauli.MulWords(nx, nz, px, pz, x, zb)))
 }
