@@ -67,14 +67,10 @@ func (f *Fixed) Init(h *hamiltonian.Hamiltonian, budget int) error {
 
 // Next implements [Allocator].
 func (f *Fixed) Next(dst []pauli.Letter) (int, error) {
-	s := f.Settings[f.next%len(f.Settings)]
-	if !s.IsLocal() {
-		return 0, fmt.Errorf("fixed: setting %s is entangled and has no letters; use NextBatch", s)
+	if err := writeSetting(dst, "fixed", f.Settings[f.next%len(f.Settings)]); err != nil {
+		return 0, err
 	}
 	f.next++
-	for q := range dst {
-		dst[q] = s.At(q)
-	}
 	return max(f.Block, 1), nil
 }
 

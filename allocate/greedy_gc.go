@@ -78,11 +78,8 @@ func (g *GreedyGC) Next(dst []pauli.Letter) (int, error) {
 	if err != nil {
 		return 0, err
 	}
-	if !s.IsLocal() {
-		return 0, fmt.Errorf("greedy-gc: setting %s is entangled and has no letters; use NextBatch", s)
-	}
-	for q := range dst {
-		dst[q] = s.At(q)
+	if err := writeSetting(dst, "greedy-gc", s); err != nil {
+		return 0, err
 	}
 	return 1, nil
 }

@@ -228,12 +228,8 @@ func (q *groupQueue) Next(dst []pauli.Letter) (int, error) {
 	if q.next >= len(q.settings) {
 		return 0, fmt.Errorf("%s: all %d groups already given", q.name, len(q.settings))
 	}
-	st := q.settings[q.next]
-	if !st.IsLocal() {
-		return 0, fmt.Errorf("%s: group setting %s is entangled and has no letters; use NextBatch", q.name, st)
-	}
-	for i := range dst {
-		dst[i] = st.At(i)
+	if err := writeSetting(dst, q.name, q.settings[q.next]); err != nil {
+		return 0, err
 	}
 	q.next++
 	return q.shots[q.next-1], nil

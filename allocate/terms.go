@@ -2,6 +2,7 @@ package allocate
 
 import (
 	"cmp"
+	"fmt"
 	"math"
 	"math/bits"
 	"slices"
@@ -101,6 +102,19 @@ func writeLetters(dst []pauli.Letter, x, z []uint64) {
 	for q := range dst {
 		dst[q] = letterAt(x, z, q)
 	}
+}
+
+// writeSetting writes the letters of the local setting s into dst. An
+// entangled setting has no letters: the error, prefixed by the strategy's
+// name, tells the caller to use NextBatch.
+func writeSetting(dst []pauli.Letter, name string, s pauli.Setting) error {
+	if !s.IsLocal() {
+		return fmt.Errorf("%s: setting %s is entangled and has no letters; use NextBatch", name, s)
+	}
+	for q := range dst {
+		dst[q] = s.At(q)
+	}
+	return nil
 }
 
 // pairIndexMaxQubits is the widest register for which coverIndex buckets
