@@ -3,6 +3,7 @@ package guarantee
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
@@ -240,22 +241,22 @@ func approxRadius(gs []*groupStat, delta float64) float64 {
 	return distuv.UnitNormal.Quantile(1-delta/2) * math.Sqrt(v)
 }
 
-// prepareGroups builds the groups of a plan given by distinct settings with
-// per-term weights coef_i (h_i/N_i, zero for excluded and uncovered terms),
-// and returns them with the bias.
-func prepareGroups(h *hamiltonian.Hamiltonian, settings []pauli.Setting, coef []float64) []*groupStat {
-	tab := h.Table()
-	gs := make([]*groupStat, len(settings))
-	var buf []int
-	for q, s := range settings {
+// prepareGroups builds the groups of c's distinct settings with per-term
+// weights coef_i (h_i/N_i, zero for excluded and uncovered terms), reading
+// the covered terms from c instead of scanning the table again.
+func prepareGroups(c *coverage, coef []float64) []*groupStat {
+	gs := make([]*groupStat, len(c.settings))
+	for q, s := range c.settings {
 		g := &groupStat{setting: s}
-		buf = tab.Covered(buf[:0], s)
-		for _, i := range buf {
+		for _, i := range c.terms(q) {
 			if coef[i] != 0 {
-				g.rows = append(g.rows, i)
-				g.coef = append(g.coef, coef[i])
-				g.half += math.Abs(coef[i])
+				g.rows = append(g.rows, int(i))
 			}
+		}
+		slices.Sort(g.rows) // table order, as Table.Covered gives them
+		for _, i := range g.rows {
+			g.coef = append(g.coef, coef[i])
+			g.half += math.Abs(coef[i])
 		}
 		gs[q] = g
 	}
@@ -314,12 +315,14 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 		settings[g] = rec.Setting(g)
 		shots[g] = rec.GroupLen(g)
 	}
+	// Every group of the records holds shots, so the coverage keeps the
+	// groups in their order: distinct setting q is group q.
 	c, err := newCoverage(h, settings, shots)
 	if err != nil {
 		return nil, err
 	}
 	coef, bias := estimatorWeights(h, c.cover, 1, o.Exclude)
-	gs := prepareGroups(h, settings, coef)
+	gs := prepareGroups(c, coef)
 	var buf []int8
 	for g, gr := range gs {
 		gr.weight = float64(shots[g])

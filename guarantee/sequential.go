@@ -101,7 +101,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 	sched := StoppingSchedule{Delta: s.Delta, P: s.P}
 
 	coef, bias := estimatorWeights(h, c.cover, 1, s.Exclude)
-	gs := prepareGroups(h, c.settings, coef)
+	gs := prepareGroups(c, coef)
 	for q, g := range gs {
 		g.weight = float64(c.mult[q])
 	}
