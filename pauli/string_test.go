@@ -102,34 +102,41 @@ func TestWordwiseMatchesReference(t *testing.T) {
 					// Sparse strings make commuting pairs common.
 					a, b = genSparse(rng, n, 3/float64(n+1)), genSparse(rng, n, 3/float64(n+1))
 				}
-				c, ph := Mul(a, b)
-				rc, rph := refMul(a, b)
-				if !c.Equal(rc) || ph != rph {
-					t.Fatalf("Mul(%s, %s) = %v·%s, want %v·%s", a, b, ph, c, rph, rc)
-				}
-				checkPadding(t, "Mul", c)
-				// MulWords in place over a copy of a's words (the aliasing
-				// its doc allows).
-				d := a.Clone()
-				if wph := MulWords(d.x, d.z, d.x, d.z, b.x, b.z); !d.Equal(rc) || wph != rph {
-					t.Fatalf("MulWords(%s, %s) in place = %v·%s, want %v·%s", a, b, wph, d, rph, rc)
-				}
-				if got, want := a.Commutes(b), refCommutes(a, b); got != want {
-					t.Fatalf("Commutes(%s, %s) = %v, want %v", a, b, got, want)
-				}
-				if got, want := a.QubitwiseCommutes(b), refQubitwise(a, b); got != want {
-					t.Fatalf("QubitwiseCommutes(%s, %s) = %v, want %v", a, b, got, want)
-				}
-				if got, want := a.Weight(), refWeight(a); got != want {
-					t.Fatalf("Weight(%s) = %d, want %d", a, got, want)
-				}
-				if got, want := a.IsIdentity(), refWeight(a) == 0; got != want {
-					t.Fatalf("IsIdentity(%s) = %v, want %v", a, got, want)
-				}
-				checkSupport(t, a)
+				checkPair(t, a, b)
 			}
 		})
 	}
+}
+
+// checkPair compares the word-wise products and predicates of a and b with
+// their letter-by-letter references.
+func checkPair(t *testing.T, a, b String) {
+	t.Helper()
+	c, ph := Mul(a, b)
+	rc, rph := refMul(a, b)
+	if !c.Equal(rc) || ph != rph {
+		t.Fatalf("Mul(%s, %s) = %v·%s, want %v·%s", a, b, ph, c, rph, rc)
+	}
+	checkPadding(t, "Mul", c)
+	// MulWords in place over a copy of a's words (the aliasing
+	// its doc allows).
+	d := a.Clone()
+	if wph := MulWords(d.x, d.z, d.x, d.z, b.x, b.z); !d.Equal(rc) || wph != rph {
+		t.Fatalf("MulWords(%s, %s) in place = %v·%s, want %v·%s", a, b, wph, d, rph, rc)
+	}
+	if got, want := a.Commutes(b), refCommutes(a, b); got != want {
+		t.Fatalf("Commutes(%s, %s) = %v, want %v", a, b, got, want)
+	}
+	if got, want := a.QubitwiseCommutes(b), refQubitwise(a, b); got != want {
+		t.Fatalf("QubitwiseCommutes(%s, %s) = %v, want %v", a, b, got, want)
+	}
+	if got, want := a.Weight(), refWeight(a); got != want {
+		t.Fatalf("Weight(%s) = %d, want %d", a, got, want)
+	}
+	if got, want := a.IsIdentity(), refWeight(a) == 0; got != want {
+		t.Fatalf("IsIdentity(%s) = %v, want %v", a, got, want)
+	}
+	checkSupport(t, a)
 }
 
 func checkSupport(t *testing.T, p String) {
