@@ -267,28 +267,20 @@ func drawRound(dev estimate.Device, d *IID, rng *rand.Rand, n int, rec *estimate
 	}
 	var settings []pauli.Setting
 	var shots, which []int
-	before := make([]int, len(d.Settings))
 	for k, c := range counts {
-		if c == 0 {
-			continue
-		}
-		settings, shots, which = append(settings, d.Settings[k]), append(shots, c), append(which, k)
-		if g, ok := rec.Group(d.Settings[k]); ok {
-			before[k] = rec.GroupLen(g)
+		if c > 0 {
+			settings, shots, which = append(settings, d.Settings[k]), append(shots, c), append(which, k)
 		}
 	}
-	if err := dev.Run(settings, shots, rec); err != nil {
+	gs, first, err := measure(dev, settings, shots, rec)
+	if err != nil {
 		return err
 	}
 	groups := make([]int, len(d.Settings))
-	for _, k := range which {
-		g, ok := rec.Group(d.Settings[k])
-		if !ok || rec.GroupLen(g)-before[k] != counts[k] {
-			return fmt.Errorf("device did not record %d shots of %s", counts[k], d.Settings[k])
-		}
-		groups[k] = g
+	used := make([]int, len(d.Settings))
+	for j, k := range which {
+		groups[k], used[k] = gs[j], first[j]
 	}
-	used := before
 	for _, k := range draws {
 		b := rec.Outcome(groups[k], used[k])
 		used[k]++

@@ -121,21 +121,12 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 		for q, m := range c.mult {
 			roundShots[q] = copies * m
 		}
-		before := make([]int, len(gs))
-		for q, g := range c.settings {
-			if gi, ok := rec.Group(g); ok {
-				before[q] = rec.GroupLen(gi)
-			}
-		}
-		if err := dev.Run(c.settings, roundShots, rec); err != nil {
+		groups, first, err := measure(dev, c.settings, roundShots, rec)
+		if err != nil {
 			return nil, fmt.Errorf("guarantee: Sequential: round %d: %w", k, err)
 		}
 		for q, g := range gs {
-			gi, ok := rec.Group(g.setting)
-			if !ok || rec.GroupLen(gi)-before[q] != roundShots[q] {
-				return nil, fmt.Errorf("guarantee: Sequential: round %d: device did not record %d shots of %s", k, roundShots[q], g.setting)
-			}
-			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(gi, before[q]+j) }, roundShots[q], buf)
+			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
 		}
 		res.Rounds, res.Copies = k, res.Copies+copies
 		res.Bound = finishBound(h, gs, bias, rec.Len(), sched.At(k), s.Form, nil)
@@ -146,4 +137,28 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 		}
 	}
 	return res, nil
+}
+
+// measure runs settings on dev into rec and checks that the device recorded
+// exactly shots[k] new outcomes of settings[k]. It returns the group of each
+// setting in rec and the position of its first new outcome there.
+func measure(dev estimate.Device, settings []pauli.Setting, shots []int, rec *estimate.Records) (groups, first []int, err error) {
+	first = make([]int, len(settings))
+	for k, s := range settings {
+		if g, ok := rec.Group(s); ok {
+			first[k] = rec.GroupLen(g)
+		}
+	}
+	if err := dev.Run(settings, shots, rec); err != nil {
+		return nil, nil, err
+	}
+	groups = make([]int, len(settings))
+	for k, s := range settings {
+		g, ok := rec.Group(s)
+		if !ok || rec.GroupLen(g)-first[k] != shots[k] {
+			return nil, nil, fmt.Errorf("device did not record %d shots of %s", shots[k], s)
+		}
+		groups[k] = g
+	}
+	return groups, first, nil
 }
