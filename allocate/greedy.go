@@ -1,7 +1,6 @@
 package allocate
 
 import (
-	"fmt"
 	"math"
 	"math/bits"
 
@@ -59,6 +58,8 @@ type Greedy struct {
 	uses  []int32  // terms whose support holds qubit q
 	left  []int32  // of those, the ones the walk has not processed yet
 	spent []uint64 // free qubits with no unprocessed term left
+
+	fx, fz uint64 // symplectic bits of the fill letter, set by Init
 }
 
 // state is what a cover changes about a term.
@@ -87,9 +88,11 @@ func (g *Greedy) String() string { return "greedy" }
 
 // Init implements [Allocator].
 func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
-	if g.Fill > pauli.Z {
-		return fmt.Errorf("greedy: fill letter %d is not I, X, Y or Z", g.Fill)
+	fill, err := fillLetter("greedy", g.Fill)
+	if err != nil {
+		return err
 	}
+	g.fx, g.fz = letterBits(fill)
 	g.rk = newRanked(h)
 	rk := g.rk
 	m := len(rk.order)
@@ -129,15 +132,10 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 		g.px[k], g.pz[k], g.fixed[k] = 0, 0, rk.all[k]&^rk.used[k]
 	}
 	g.walk()
-	fill := g.Fill
-	if fill == pauli.I {
-		fill = pauli.Z
-	}
-	fx, fz := letterBits(fill)
 	for k := range w {
 		free := rk.all[k] &^ (g.px[k] | g.pz[k])
-		g.px[k] |= free & fx
-		g.pz[k] |= free & fz
+		g.px[k] |= free & g.fx
+		g.pz[k] |= free & g.fz
 	}
 	writeLetters(dst, g.px, g.pz)
 	g.hit = g.index.appendCovered(g.hit[:0], g.px, g.pz)

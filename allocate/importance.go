@@ -33,6 +33,7 @@ type Importance struct {
 	// (pauli.I) means Z.
 	Fill pauli.Letter
 
+	fill  pauli.Letter // Fill resolved by Init
 	rng   *rand.Rand
 	cum   []float64 // cum[i] = Σ_{j≤i} |h_j|
 	table *pauli.Table
@@ -44,9 +45,11 @@ func (im *Importance) String() string { return "importance" }
 
 // Init implements [Allocator].
 func (im *Importance) Init(h *hamiltonian.Hamiltonian, budget int) error {
-	if im.Fill > pauli.Z {
-		return fmt.Errorf("importance: fill letter %d is not I, X, Y or Z", im.Fill)
+	fill, err := fillLetter("importance", im.Fill)
+	if err != nil {
+		return err
 	}
+	im.fill = fill
 	im.rng = rand.New(rand.NewPCG(im.Seed, seedStream))
 	im.cum = im.cum[:0]
 	s := 0.0
@@ -74,15 +77,11 @@ func (im *Importance) Next(dst []pauli.Letter) (int, error) {
 	}
 	im.drawn = append(im.drawn, i)
 	x, z := im.table.Words(i)
-	fill := im.Fill
-	if fill == pauli.I {
-		fill = pauli.Z
-	}
 	for q := range dst {
 		if l := letterAt(x, z, q); l != pauli.I {
 			dst[q] = l
 		} else {
-			dst[q] = fill
+			dst[q] = im.fill
 		}
 	}
 	return 1, nil

@@ -92,8 +92,9 @@ func (s *Sorted) String() string { return "sorted" }
 
 // Init implements [Allocator]. It forms the groups and divides the budget.
 func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
-	if s.Fill > pauli.Z {
-		return fmt.Errorf("sorted: fill letter %d is not I, X, Y or Z", s.Fill)
+	fill, err := fillLetter("sorted", s.Fill)
+	if err != nil {
+		return err
 	}
 	if err := s.Share.check("sorted"); err != nil {
 		return err
@@ -134,10 +135,6 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		weight[g] += s.Share.term(rk.abs[r] / rk.abs[0])
 	}
 	shots := s.Share.divide(budget, weight)
-	fill := s.Fill
-	if fill == pauli.I {
-		fill = pauli.Z
-	}
 	fx, fz := letterBits(fill)
 	s.reset("sorted", shots)
 	x, z := make([]uint64, w), make([]uint64, w)

@@ -104,6 +104,19 @@ func writeLetters(dst []pauli.Letter, x, z []uint64) {
 	}
 }
 
+// fillLetter returns the letter a strategy puts on the qubits it leaves
+// free: l, or Z for the zero value pauli.I. The error, prefixed by the
+// strategy's name, rejects a value that is not a letter.
+func fillLetter(name string, l pauli.Letter) (pauli.Letter, error) {
+	switch {
+	case l > pauli.Z:
+		return 0, fmt.Errorf("%s: fill letter %d is not I, X, Y or Z", name, l)
+	case l == pauli.I:
+		return pauli.Z, nil
+	}
+	return l, nil
+}
+
 // writeSetting writes the letters of the local setting s into dst. An
 // entangled setting has no letters: the error, prefixed by the strategy's
 // name, tells the caller to use NextBatch.
