@@ -22,12 +22,6 @@ func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	return h
 }
 
-// h2FCI is the full-CI energy of H2/STO-3G at 0.74 Å in hartree, from
-// fcidump/README.md of the shared reference data (psi4 1.3.2, reproduced
-// independently there); the lowest eigenvalue of the JW qubit Hamiltonian
-// equals it.
-const h2FCI = -1.1372838344855134
-
 // h2Plan measures the Z terms together and each XY term on its own setting.
 func h2Plan(shotsEach int) ([]pauli.Setting, []int) {
 	var settings []pauli.Setting
@@ -353,8 +347,15 @@ func TestGroupedUnbiasedH2(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if math.Abs(ev.Energy-h2FCI) > 1e-8 {
-		t.Fatalf("ground energy of the H2 JW Hamiltonian = %v, want the full-CI %v (tolerance 1e-8)", ev.Energy, h2FCI)
+	// The full-CI energy of H2/STO-3G at 0.74 Å (psi4 1.3.2,
+	// internal/refdata/energies.json) is the lowest eigenvalue of the JW
+	// qubit Hamiltonian.
+	fci, err := refdata.FullCI(refdata.H2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(ev.Energy-fci) > 1e-8 {
+		t.Fatalf("ground energy of the H2 JW Hamiltonian = %v, want the full-CI %v (tolerance 1e-8)", ev.Energy, fci)
 	}
 	settings, shots := h2Plan(40)
 	const reps = 400

@@ -24,8 +24,8 @@ func loadH2(t *testing.T) *hamiltonian.Hamiltonian {
 // TestPlansEndToEnd plans 200 shots for the H2 ground state with allocate's
 // strategies, runs them on the simulator and estimates with the estimator
 // that fits each plan, 400 times with fresh seeds. The mean estimate must
-// lie within 4 standard errors of the exact energy (the full-CI value
-// −1.1372838344855134 hartree of fcidump/README.md), widened by the mean
+// lie within 4 standard errors of the exact energy (the full-CI value of
+// internal/refdata/energies.json, psi4), widened by the mean
 // bias bound (terms a random plan happened not to cover, for the grouped
 // estimator); for a normal mean the false-failure rate is 6e-5 per case.
 func TestPlansEndToEnd(t *testing.T) {
@@ -37,8 +37,12 @@ func TestPlansEndToEnd(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if math.Abs(ev.Energy - -1.1372838344855134) > 1e-8 {
-		t.Fatalf("ground energy %v, want the full-CI -1.1372838344855134", ev.Energy)
+	fci, err := refdata.FullCI(refdata.H2)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(ev.Energy-fci) > 1e-8 {
+		t.Fatalf("ground energy %v, want the full-CI %v", ev.Energy, fci)
 	}
 	beta, err := allocate.BiasedDistributions(h)
 	if err != nil {
