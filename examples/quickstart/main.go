@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"text/tabwriter"
 
@@ -135,7 +136,7 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 	fmt.Fprintf(tw, "estimate\t%.5f\tgrouped estimator, shots simulated on the exact ground state (seed %d)\n", res.Energy, c.seed)
 	fmt.Fprintf(tw, "certified bound\t±%.5f\tholds with probability ≥ %g%% for every state, before any shot (δ = %g)\n", cert.Total, conf, c.delta)
 	fmt.Fprintf(tw, "error bar from data\t±%.5f\tAPPROXIMATE (normal approximation, %g%%), not a guarantee\n", res.ApproxInterval[1]-res.Energy, conf)
-	fmt.Fprintf(tw, "actual error\t%.5f\t|estimate − exact|\n", abs(res.Energy-exact))
+	fmt.Fprintf(tw, "actual error\t%.5f\t|estimate − exact|\n", math.Abs(res.Energy-exact))
 	tw.Flush()
 	if cert.Uncovered > 0 {
 		fmt.Fprintf(w, "(%d terms are never measured; their bias bound %.4g is part of the certified bound)\n", cert.Uncovered, cert.Bias)
@@ -151,11 +152,4 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 		fmt.Fprintf(tw, "%.4f\t%.3g\t%d\t  %s\n", t.Share, t.Coeff, t.Cover, t.Pauli)
 	}
 	tw.Flush()
-}
-
-func abs(x float64) float64 {
-	if x < 0 {
-		return -x
-	}
-	return x
 }
