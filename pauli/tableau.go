@@ -64,53 +64,14 @@ func (t *Tableau) row(k int) int { return 2 * t.w * k }
 func (t *Tableau) Qubits() int { return t.n }
 
 // Apply composes g after the map: t becomes P ↦ g (U P U†) g†. It panics if
-// a qubit of g is outside [0, n) or g is not a valid gate.
+// a qubit of g is outside [0, n) or g is not a valid gate. It runs the
+// one-string rules of [Circuit.Conjugate] on every row; [Circuit.Tableau]
+// is the fast way to build the map of a whole circuit.
 func (t *Tableau) Apply(g Gate) {
-	t.apply((&Circuit{n: t.n}).valid(g))
-}
-
-// apply runs the update rules of conjugateWords on every row, with the
-// switch on the gate kind outside the row loops.
-func (t *Tableau) apply(g Gate) {
-	w, w2, rows := t.w, 2*t.w, 2*t.n
-	ia, sa := g.Q0>>6, uint(g.Q0&63)
-	ib, sb := g.Q1>>6, uint(g.Q1&63)
-	d, neg := t.data, t.neg
-	switch g.Kind {
-	case GateH:
-		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
-			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
-			m := (xa ^ za) << sa
-			d[o+ia] ^= m
-			d[o+w+ia] ^= m
-			neg[k>>6] ^= (xa & za) << (k & 63)
-		}
-	case GateS, GateSdg:
-		flip := uint64(0) // S: neg = x·z; S†: neg = x·(1−z)
-		if g.Kind == GateSdg {
-			flip = 1
-		}
-		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
-			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
-			d[o+w+ia] ^= xa << sa
-			neg[k>>6] ^= (xa & (za ^ flip)) << (k & 63)
-		}
-	case GateCNOT:
-		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
-			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
-			xb, zb := d[o+ib]>>sb&1, d[o+w+ib]>>sb&1
-			d[o+ib] ^= xa << sb
-			d[o+w+ia] ^= zb << sa
-			neg[k>>6] ^= (xa & zb & (xb ^ za ^ 1)) << (k & 63)
-		}
-	case GateCZ:
-		for k, o := 0, 0; k < rows; k, o = k+1, o+w2 {
-			xa, za := d[o+ia]>>sa&1, d[o+w+ia]>>sa&1
-			xb, zb := d[o+ib]>>sb&1, d[o+w+ib]>>sb&1
-			d[o+w+ia] ^= xb << sa
-			d[o+w+ib] ^= xa << sb
-			neg[k>>6] ^= (xa & xb & (za ^ zb)) << (k & 63)
-		}
+	g = (&Circuit{n: t.n}).valid(g)
+	for k := range 2 * t.n {
+		o := t.row(k)
+		t.neg[k>>6] ^= conjugateWords(t.data[o:o+t.w], t.data[o+t.w:o+2*t.w], g) << (k & 63)
 	}
 }
 
