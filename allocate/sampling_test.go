@@ -123,19 +123,6 @@ func TestRandomIsUniform(t *testing.T) {
 	}
 }
 
-// proxy is the variance proxy of MATH §5.4, Σ_i h_i² Π 1/β_q(P_i[q]).
-func proxy(h *hamiltonian.Hamiltonian, beta [][3]float64) float64 {
-	s := 0.0
-	for _, term := range h.Terms() {
-		v := term.Coeff * term.Coeff
-		for q, l := range term.Pauli.Letters() {
-			v /= beta[q][l-1]
-		}
-		s += v
-	}
-	return s
-}
-
 func TestBiasedDistributions(t *testing.T) {
 	t.Run("one qubit, closed form", func(t *testing.T) {
 		// For h_X X + h_Z Z the proxy is h_X²/β_X + h_Z²/β_Z, minimised on
@@ -180,8 +167,8 @@ func TestBiasedDistributions(t *testing.T) {
 		for q := range uniform {
 			uniform[q] = [3]float64{1.0 / 3, 1.0 / 3, 1.0 / 3}
 		}
-		f := proxy(h, beta)
-		if u := proxy(h, uniform); !(f < u) {
+		f := biasedProxy(h, beta)
+		if u := biasedProxy(h, uniform); !(f < u) {
 			t.Errorf("optimised proxy %.6g not below the uniform one %.6g", f, u)
 		}
 		// First-order optimality on each simplex: moving probability
@@ -196,7 +183,7 @@ func TestBiasedDistributions(t *testing.T) {
 					moved := append([][3]float64(nil), beta...)
 					moved[q][a] -= 1e-4
 					moved[q][b] += 1e-4
-					if g := proxy(h, moved); g < f*(1-1e-8) {
+					if g := biasedProxy(h, moved); g < f*(1-1e-8) {
 						t.Errorf("qubit %d: moving 1e-4 from %s to %s lowers the proxy from %.9g to %.9g", q, pauli.Letter(a+1), pauli.Letter(b+1), f, g)
 					}
 				}
