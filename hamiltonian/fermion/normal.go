@@ -121,13 +121,6 @@ func opsKey(b []byte, ops []Op) []byte {
 // ordering both, every product's coefficients differ by at most tol in
 // absolute value.
 func (o *Operator) IsHermitian(tol float64) bool {
-	_, ok := o.hermitianDefect(tol)
-	return ok
-}
-
-// hermitianDefect returns the first normal-ordered product whose
-// coefficient in o and in o† differ by more than tol.
-func (o *Operator) hermitianDefect(tol float64) (Term, bool) {
 	n := o.NormalOrder()
 	a := o.Adjoint().NormalOrder()
 	coef := make(map[string]complex128, n.Len())
@@ -141,14 +134,14 @@ func (o *Operator) hermitianDefect(tol float64) (Term, bool) {
 		d := t.Coeff - coef[string(key)]
 		delete(coef, string(key))
 		if abs(d) > tol {
-			return t, false
+			return false
 		}
 	}
 	for _, t := range a.Terms() {
 		key = opsKey(key[:0], t.Ops)
 		if c, ok := coef[string(key)]; ok && abs(c) > tol {
-			return Term{Coeff: 0, Ops: t.Ops}, false
+			return false
 		}
 	}
-	return Term{}, true
+	return true
 }
