@@ -27,8 +27,11 @@ func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	return h
 }
 
-func moleculeJW(t testing.TB, name string) *hamiltonian.Hamiltonian {
-	h, err := refdata.Molecule(name, fermion.JordanWigner)
+// molecule returns a reference molecule's qubit Hamiltonian in the given
+// encoding (internal/refdata).
+func molecule(t testing.TB, name string, enc fermion.Encoding) *hamiltonian.Hamiltonian {
+	t.Helper()
+	h, err := refdata.Molecule(name, enc)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -47,8 +50,8 @@ func checkCases(t testing.TB) []checkCase {
 	}
 	return []checkCase{
 		{"H2 (JW, 4 qubits)", h2JW(t)},
-		{"LiH (JW, 12 qubits)", moleculeJW(t, refdata.LiH)},
-		{"H2O (JW, 14 qubits)", moleculeJW(t, refdata.H2O)},
+		{"LiH (JW, 12 qubits)", molecule(t, refdata.LiH, fermion.JordanWigner)},
+		{"H2O (JW, 14 qubits)", molecule(t, refdata.H2O, fermion.JordanWigner)},
 		{"TFIM 4×4 open, J = h = 1", tfim},
 	}
 }

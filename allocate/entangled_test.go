@@ -7,6 +7,7 @@ import (
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/allocate/allocatetest"
+	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -16,7 +17,7 @@ import (
 // (generators and circuits), shots and cover counts, and the plan checks
 // against its Hamiltonian.
 func TestPlanFileEntangled(t *testing.T) {
-	h := gcMolecule(t, refdata.LiH, 0)
+	h := molecule(t, refdata.LiH, fermion.JordanWigner)
 	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc"} {
 		a, err := allocate.ByName(name, 0)
 		if err != nil {
@@ -96,7 +97,7 @@ func TestConformanceFixedEntangled(t *testing.T) {
 // that does not keep them (Fixed) with more than a handful of distinct
 // entangled settings, and the counts equal CoverCounts (Table.Covered).
 func TestRunManyEntangledSettings(t *testing.T) {
-	h := gcMolecule(t, refdata.LiH, 0)
+	h := molecule(t, refdata.LiH, fermion.JordanWigner)
 	g := &allocate.SortedGC{}
 	if err := g.Init(h, 1000); err != nil {
 		t.Fatal(err)

@@ -24,15 +24,6 @@ var gcMolecules = []struct{ name, file string }{
 
 var gcEncodings = []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity}
 
-func gcMolecule(t testing.TB, name string, enc fermion.Encoding) *hamiltonian.Hamiltonian {
-	t.Helper()
-	h, err := refdata.Molecule(name, enc)
-	if err != nil {
-		t.Fatal(err)
-	}
-	return h
-}
-
 type grouper interface {
 	allocate.Allocator
 	Groups() ([]pauli.Setting, []int)
@@ -47,7 +38,7 @@ func TestGeneralGroupsValid(t *testing.T) {
 		if testing.Short() && m.name == "H2O" {
 			continue
 		}
-		h := gcMolecule(t, m.file, fermion.JordanWigner)
+		h := molecule(t, m.file, fermion.JordanWigner)
 		for _, mk := range []func() interface {
 			grouper
 			Members() [][]int
@@ -105,7 +96,7 @@ func TestGeneralNoMoreGroups(t *testing.T) {
 			if testing.Short() && m.name == "H2O" {
 				continue
 			}
-			h := gcMolecule(t, m.file, enc)
+			h := molecule(t, m.file, enc)
 			qwc := &allocate.Sorted{}
 			if err := qwc.Init(h, 1000); err != nil {
 				t.Fatal(err)
@@ -141,7 +132,7 @@ func TestGeneralCommutationReport(t *testing.T) {
 	b.WriteString("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|\n")
 	for _, m := range gcMolecules {
 		for _, enc := range gcEncodings {
-			h := gcMolecule(t, m.file, enc)
+			h := molecule(t, m.file, enc)
 			row := fmt.Sprintf("| %s | %v | %d | %d |", m.name, enc, h.Qubits(), h.Len())
 			var groups, bounds, gset, gbound []string
 			for _, a := range []grouper{&allocate.Sorted{}, &allocate.SortedGC{}, &allocate.ColorGC{}} {
@@ -205,23 +196,17 @@ func randomStrings(n, m int, seed uint64) (*hamiltonian.Hamiltonian, error) {
 // commutation (target: 10^4 terms on 20 qubits in at most 10 s), including
 // one diagonalisation and cover count per group.
 func BenchmarkSortedGCInit(b *testing.B) {
-	benchGroupingInit(b, func() grouping { return &allocate.SortedGC{} })
+	benchGroupingInit(b, func() grouper { return &allocate.SortedGC{} })
 }
 
 // BenchmarkColorGCInit colours the same Hamiltonians largest degree first.
 func BenchmarkColorGCInit(b *testing.B) {
-	benchGroupingInit(b, func() grouping { return &allocate.ColorGC{} })
-}
-
-// grouping is a strategy that reports its groups.
-type grouping interface {
-	allocate.Allocator
-	Groups() ([]pauli.Setting, []int)
+	benchGroupingInit(b, func() grouper { return &allocate.ColorGC{} })
 }
 
 // benchGroupingInit times Init of a fresh strategy from mk on uniformly
 // random strings and reports the number of groups formed.
-func benchGroupingInit(b *testing.B, mk func() grouping) {
+func benchGroupingInit(b *testing.B, mk func() grouper) {
 	for _, sz := range []struct{ qubits, terms int }{{20, 1000}, {20, 10000}} {
 		b.Run(fmt.Sprintf("qubits=%d/terms=%d", sz.qubits, sz.terms), func(b *testing.B) {
 			h, err := randomStrings(sz.qubits, sz.terms, 1)
