@@ -1,6 +1,7 @@
 package molecule
 
 import (
+	"bytes"
 	"fmt"
 	"math/rand/v2"
 	"testing"
@@ -67,6 +68,26 @@ func BenchmarkFermionOperator(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
 				g.FermionOperator(fermion.Interleaved)
+			}
+		})
+	}
+}
+
+// BenchmarkReadFCIDUMP parses the FCIDUMP text of random integrals, written
+// beforehand by WriteFCIDUMP.
+func BenchmarkReadFCIDUMP(b *testing.B) {
+	for _, orbitals := range benchOrbitals {
+		var buf bytes.Buffer
+		if err := WriteFCIDUMP(&buf, randomIntegrals(b, orbitals, 1)); err != nil {
+			b.Fatal(err)
+		}
+		lines := bytes.Count(buf.Bytes(), []byte("\n"))
+		b.Run(fmt.Sprintf("orbitals=%d/lines=%d", orbitals, lines), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := ReadFCIDUMP(bytes.NewReader(buf.Bytes())); err != nil {
+					b.Fatal(err)
+				}
 			}
 		})
 	}

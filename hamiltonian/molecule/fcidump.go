@@ -218,10 +218,14 @@ func ReadFCIDUMPFile(path string) (*Integrals, error) {
 	return g, nil
 }
 
+// fortranExponent turns a Fortran D exponent into E. A Replacer is safe for
+// concurrent use, so one serves every read.
+var fortranExponent = strings.NewReplacer("D", "E", "d", "e")
+
 // parseValue parses a real number, accepting a Fortran D exponent, and
 // explains a bad one.
 func parseValue(s string) (float64, string) {
-	v, err := strconv.ParseFloat(strings.NewReplacer("D", "E", "d", "e").Replace(s), 64)
+	v, err := strconv.ParseFloat(fortranExponent.Replace(s), 64)
 	switch {
 	case err == nil && (math.IsNaN(v) || math.IsInf(v, 0)):
 		return 0, fmt.Sprintf("value %q is not finite", s)
