@@ -152,9 +152,10 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		g.add(st)
 		g.members = append(g.members, terms)
 	}
-	// Count the covers here: a setting may cover terms of other groups,
-	// and the driver's letter-bucketed count does not apply to entangled
-	// settings.
+	// Count the covers for [Counter], group by group: a setting may cover
+	// terms of other groups. The settings are distinct and mostly
+	// entangled, so countCover's deduplication and letter buckets would not
+	// pay here.
 	g.cover = make([]int, h.Len())
 	var idx []int
 	for j, st := range g.settings {
