@@ -47,9 +47,7 @@ func (s *SortedGC) String() string { return "sorted-gc" }
 func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	rk := newRanked(h)
 	order := make([]int32, len(rk.order))
-	for r := range order {
-		order[r] = int32(r)
-	}
+	fillIota(order)
 	return s.init("sorted-gc", h, rk, order, s.Share, budget)
 }
 
@@ -98,9 +96,7 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 	}
 	order := make([]int32, m)
-	for r := range order {
-		order[r] = int32(r)
-	}
+	fillIota(order)
 	// Ranks already order ties by |h_i| descending, then term index.
 	slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(deg[b], deg[a]) })
 	return s.init("color-gc", h, rk, order, s.Share, budget)

@@ -29,9 +29,7 @@ func newRanked(h *hamiltonian.Hamiltonian) *ranked {
 	w := pauli.Words(n)
 	rk := &ranked{n: n, w: w, order: make([]int32, m), abs: make([]float64, m), words: make([]uint64, 2*w*m), used: make([]uint64, w), all: make([]uint64, w)}
 	coef := h.Coeffs()
-	for i := range rk.order {
-		rk.order[i] = int32(i)
-	}
+	fillIota(rk.order)
 	slices.SortFunc(rk.order, func(a, b int32) int {
 		if c := cmp.Compare(math.Abs(coef[b]), math.Abs(coef[a])); c != 0 {
 			return c
@@ -52,6 +50,13 @@ func newRanked(h *hamiltonian.Hamiltonian) *ranked {
 		rk.all[q>>6] |= 1 << (q & 63)
 	}
 	return rk
+}
+
+// fillIota sets v[i] = i.
+func fillIota(v []int32) {
+	for i := range v {
+		v[i] = int32(i)
+	}
 }
 
 // row returns the x and z words of rank r.
