@@ -49,7 +49,7 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 	type pending struct {
 		line   int
 		coeff  float64
-		dense  string // dense letters, or "" for sparse
+		dense  pauli.String // the parsed dense string when sparse is ""
 		sparse string
 	}
 	var (
@@ -115,7 +115,8 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 		rest := fields[1:]
 		if len(rest) == 1 && !strings.ContainsAny(rest[0], "0123456789") {
 			s := rest[0]
-			if _, err := pauli.Parse(s); err != nil {
+			p, err := pauli.Parse(s)
+			if err != nil {
 				var pe *pauli.ParseError
 				errors.As(err, &pe)
 				bad(raw, "Pauli string %q: %s", s, pe.Reason)
@@ -139,7 +140,7 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 			if width < 0 {
 				width, widthLine = len(s), lineNo
 			}
-			items = append(items, pending{line: lineNo, coeff: c, dense: s})
+			items = append(items, pending{line: lineNo, coeff: c, dense: p})
 			continue
 		}
 		sp := strings.Join(rest, " ")
@@ -170,8 +171,8 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 	for _, it := range items {
 		lineNo = it.line
 		var p pauli.String
-		if it.dense != "" {
-			p = pauli.MustParse(it.dense)
+		if it.sparse == "" {
+			p = it.dense
 		} else {
 			var err error
 			p, err = pauli.ParseSparse(it.sparse, n)
