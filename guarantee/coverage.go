@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -25,7 +26,7 @@ type coverage struct {
 	cover    []int           // N_i
 	shots    int             // Σ m_Q
 
-	index *scanIndex
+	index *coverindex.Index
 	b32   []int32 // scratch for rescans
 }
 
@@ -68,7 +69,7 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 	}
 	// The rows are cut from blocks of up to 1<<20 entries, so that no
 	// stored index is ever copied by a growing slice.
-	c.index = newScanIndex(h.Table())
+	c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
 	c.rows = make([][]int32, len(c.settings))
 	var block []int32
 	stored := 0
