@@ -113,3 +113,31 @@ func BenchmarkDiagonalizationCovered(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkSettingSamples reads the rows an entangled setting covers
+// (products of two family members) from one outcome, as an estimator does
+// per shot.
+func BenchmarkSettingSamples(b *testing.B) {
+	for _, sz := range []struct{ n, terms int }{{20, 1000}, {50, 10000}} {
+		rng := rand.New(rand.NewPCG(5, uint64(sz.n)))
+		fam := randomCommutingFamily(rng, sz.n, sz.n/2, 100, true)
+		s, err := NewFamilySetting(fam)
+		if err != nil || s.IsLocal() {
+			b.Fatalf("NewFamilySetting: %v, local %v", err, s.IsLocal())
+		}
+		tab := NewTable(sz.n, sz.terms)
+		for range sz.terms {
+			p, _ := Mul(fam[rng.IntN(len(fam))], fam[rng.IntN(len(fam))])
+			tab.Append(p)
+		}
+		rows := tab.Covered(nil, s)
+		out := make([]int8, len(rows))
+		bits := genBits(rng, sz.n)
+		b.Run(fmt.Sprintf("qubits=%d/rows=%d", sz.n, len(rows)), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				tab.SettingSamples(out, rows, s, bits)
+			}
+		})
+	}
+}

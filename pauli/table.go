@@ -236,9 +236,9 @@ func (t *Table) Samples(dst []int8, rows []int, b Bits) {
 // SettingSamples sets dst[k] to the ±1 sample that outcome b of setting s
 // gives row rows[k], which s must cover (see [Setting.Sample]). For a local
 // setting it is [Table.Samples] and never allocates; for an entangled one
-// each row is conjugated through the circuit's tableau, which allocates a
-// string per row. It panics if len(dst) < len(rows) or s has a different
-// width.
+// each row is conjugated through the circuit's tableau into one scratch
+// string (at most one small allocation per call, none per row). It panics if len(dst) < len(rows) or s
+// has a different width.
 func (t *Table) SettingSamples(dst []int8, rows []int, s Setting, b Bits) {
 	mustSameWidth(t.n, s.p.n)
 	if s.fam == nil {
@@ -246,7 +246,20 @@ func (t *Table) SettingSamples(dst []int8, rows []int, s Setting, b Bits) {
 		return
 	}
 	dst = dst[:len(rows)]
+	img := make([]uint64, 2*t.w)
+	ix, iz := img[:t.w], img[t.w:]
 	for k, r := range rows {
-		dst[k] = int8(s.Sample(t.At(r), b))
+		clear(img)
+		x, z := t.Words(r)
+		e := s.fam.d.tab.conjugateInto(ix, iz, x, z) // sign i^e, e ∈ {0, 2}
+		var xs uint64
+		for _, v := range ix {
+			xs |= v
+		}
+		if xs != 0 {
+			dst[k] = 1 // not covered: the value Setting.Sample gives
+			continue
+		}
+		dst[k] = int8((1 - e) * (1 - 2*b.Parity(iz)))
 	}
 }
