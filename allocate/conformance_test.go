@@ -42,14 +42,27 @@ func TestConformanceImportance(t *testing.T) {
 	allocatetest.Test(t, func(seed uint64) allocate.Allocator { return &allocate.Importance{Seed: seed} }, nil)
 }
 
+// TestConformanceFixed runs the suite on fixed lists of local settings,
+// and of local and entangled settings mixed.
 func TestConformanceFixed(t *testing.T) {
 	cases := allocatetest.Cases()[1:2] // the four-qubit case
-	mk := func(uint64) allocate.Allocator {
-		return &allocate.Fixed{Block: 3, Settings: []pauli.Setting{
-			pauli.MustParseSetting("ZZZZ"), pauli.MustParseSetting("XXYY"), pauli.MustParseSetting("ZZZX"),
-		}}
+	for _, c := range []struct {
+		name     string
+		block    int
+		settings []string
+	}{
+		{"local", 3, []string{"ZZZZ", "XXYY", "ZZZX"}},
+		{"entangled", 2, []string{"ZZZZ", "XXYY|YYXX|ZZII", "XXXX|ZZII|IIZZ"}},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			var settings []pauli.Setting
+			for _, s := range c.settings {
+				settings = append(settings, pauli.MustParseSetting(s))
+			}
+			mk := func(uint64) allocate.Allocator { return &allocate.Fixed{Block: c.block, Settings: settings} }
+			allocatetest.Test(t, mk, &allocatetest.Options{Cases: cases})
+		})
 	}
-	allocatetest.Test(t, mk, &allocatetest.Options{Cases: cases})
 }
 
 func TestConformanceByName(t *testing.T) {

@@ -6,10 +6,8 @@ import (
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
-	"github.com/shotplan/shotplan/allocate/allocatetest"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/internal/refdata"
-	"github.com/shotplan/shotplan/pauli"
 )
 
 // TestPlanFileEntangled writes and reads back plans with entangled
@@ -79,18 +77,6 @@ func TestReadPlanEntangledErrors(t *testing.T) {
 			}
 		})
 	}
-}
-
-// TestConformanceFixedEntangled runs the conformance suite on a fixed list
-// that mixes local and entangled settings.
-func TestConformanceFixedEntangled(t *testing.T) {
-	cases := allocatetest.Cases()[1:2] // the four-qubit case
-	mk := func(uint64) allocate.Allocator {
-		return &allocate.Fixed{Block: 2, Settings: []pauli.Setting{
-			pauli.MustParseSetting("ZZZZ"), pauli.MustParseSetting("XXYY|YYXX|ZZII"), pauli.MustParseSetting("XXXX|ZZII|IIZZ"),
-		}}
-	}
-	allocatetest.Test(t, mk, &allocatetest.Options{Cases: cases})
 }
 
 // TestRunManyEntangledSettings: the driver counts covers for a strategy
