@@ -223,3 +223,37 @@ func TestFamilySettingLocalCircuit(t *testing.T) {
 		}
 	}
 }
+
+// TestSettingSamplesWide compares Table.SettingSamples with Setting.Sample
+// row by row on entangled settings over several 64-bit words, for products
+// of members (covered) and random strings (mostly not).
+func TestSettingSamplesWide(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	for _, n := range []int{65, 130} {
+		fam := randomCommutingFamily(rng, n, n/3, 20, true)
+		s, err := NewFamilySetting(fam)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tab := NewTable(n, 60)
+		for range 40 {
+			p, _ := Mul(fam[rng.IntN(len(fam))], fam[rng.IntN(len(fam))])
+			tab.Append(p)
+		}
+		for range 20 {
+			tab.Append(randomString(rng, n))
+		}
+		rows := make([]int, tab.Len())
+		for r := range rows {
+			rows[r] = r
+		}
+		got := make([]int8, len(rows))
+		b := genBits(rng, n)
+		tab.SettingSamples(got, rows, s, b)
+		for r := range rows {
+			if want := s.Sample(tab.At(r), b); int(got[r]) != want {
+				t.Errorf("n=%d row %d (%s): SettingSamples %d, Sample %d", n, r, tab.At(r), got[r], want)
+			}
+		}
+	}
+}
