@@ -171,9 +171,8 @@ func appendInts(b *bytes.Buffer, v []int) {
 // atomically: a failed write leaves any earlier file in place and no partial
 // file behind.
 func WritePlanFile(path string, p *Plan, seed uint64) error {
-	if err := validPlan(p); err != nil {
-		return err
-	}
+	// WritePlan checks p before writing; on its error atomicfile.Write
+	// leaves path as it was.
 	return atomicfile.Write(path, func(w io.Writer) error { return WritePlan(w, p, seed) })
 }
 
