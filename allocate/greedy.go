@@ -246,6 +246,13 @@ func (g *Greedy) allFixed() bool {
 	return true
 }
 
+// marginalGain is 1/sqrt(N) − 1/sqrt(N+1), the fall of a term's share of
+// the objective Σ_i |h_i|/sqrt(N_i) per unit |h_i| when N_i = N ≥ 1 grows by
+// one (MATH §5.1).
+func marginalGain(n int) float64 {
+	return 1/math.Sqrt(float64(n)) - 1/math.Sqrt(float64(n+1))
+}
+
 // bump records one more cover of rank r. Its weight falls; the heap entry
 // keeps the old, larger key until a walk meets it.
 func (g *Greedy) bump(r int32) {
@@ -253,9 +260,7 @@ func (g *Greedy) bump(r int32) {
 	st.cnt++
 	n := int(st.cnt)
 	for len(g.gain) <= n {
-		// gain[N] = 1/sqrt(N) − 1/sqrt(N+1), MATH §5.1.
-		k := float64(len(g.gain))
-		g.gain = append(g.gain, 1/math.Sqrt(k)-1/math.Sqrt(k+1))
+		g.gain = append(g.gain, marginalGain(len(g.gain)))
 	}
 	st.cur = st.abs * g.gain[n]
 }

@@ -4,7 +4,6 @@ import (
 	"cmp"
 	"encoding/binary"
 	"fmt"
-	"math"
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -117,7 +116,7 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 		if n := g.cnt[r]; n == 0 {
 			g.key[r] = tier + rk.abs[r]
 		} else {
-			g.key[r] = rk.abs[r] * (1/math.Sqrt(float64(n)) - 1/math.Sqrt(float64(n+1)))
+			g.key[r] = rk.abs[r] * marginalGain(n)
 		}
 	}
 	slices.SortFunc(g.order, func(a, b int32) int {
