@@ -62,20 +62,11 @@ type Diagonalization struct {
 // from the first, or, wrapping [ErrNotCommuting] as a [*NonCommutingError],
 // if two members do not commute. Identity and repeated members are allowed.
 func Diagonalize(family []String) (*Diagonalization, error) {
-	if len(family) == 0 {
-		return nil, errors.New("pauli: Diagonalize: empty family")
-	}
-	n := family[0].n
-	for i, p := range family {
-		if p.n != n {
-			return nil, errors.New("pauli: family member " + strconv.Itoa(i) + " (" + p.String() + ") has " +
-				strconv.Itoa(p.n) + " qubits, want " + strconv.Itoa(n))
-		}
-	}
-	gens, err := independent(family)
+	gens, err := generators(family)
 	if err != nil {
 		return nil, err
 	}
+	n := family[0].n
 	s := newSynth(n, family, gens)
 	s.reduce()
 
@@ -114,6 +105,22 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 		d.images.Append(img)
 	}
 	return d, nil
+}
+
+// generators checks that family is non-empty, of one width and commuting,
+// and returns the indices of its independent generators (see independent).
+func generators(family []String) ([]int, error) {
+	if len(family) == 0 {
+		return nil, errors.New("pauli: Diagonalize: empty family")
+	}
+	n := family[0].n
+	for i, p := range family {
+		if p.n != n {
+			return nil, errors.New("pauli: family member " + strconv.Itoa(i) + " (" + p.String() + ") has " +
+				strconv.Itoa(p.n) + " qubits, want " + strconv.Itoa(n))
+		}
+	}
+	return independent(family)
 }
 
 // independent returns the indices of a maximal independent subset of family,

@@ -251,15 +251,14 @@ func (s Setting) Sample(p String, b Bits) int {
 // members that do not commute), or an error if no member differs from the
 // identity.
 func NewFamilySetting(family []String) (Setting, error) {
-	d, err := Diagonalize(family)
+	gi, err := generators(family)
 	if err != nil {
 		return Setting{}, err
 	}
-	n := d.Qubits()
-	gi := d.Generators()
 	if len(gi) == 0 {
 		return Setting{}, errors.New("pauli: NewFamilySetting: every member is the identity")
 	}
+	n := family[0].n
 	gens := make([]String, len(gi))
 	union := Identity(n)
 	qwc := true
@@ -276,12 +275,11 @@ func NewFamilySetting(family []String) (Setting, error) {
 	if qwc {
 		return Complete(union, Z), nil
 	}
-	if !sameGenerators(d, gens) {
-		// The family's circuit depends only on its generators; rebuild
-		// from them so that the text form reads back to this circuit.
-		if d, err = Diagonalize(gens); err != nil {
-			return Setting{}, err
-		}
+	// The circuit depends only on the generators; diagonalising them alone
+	// gives the circuit the text form reads back to.
+	d, err := Diagonalize(gens)
+	if err != nil {
+		return Setting{}, err
 	}
 	// The key: every generator's words, then one byte, so its length
 	// (16·words·r + 1) differs from a local key's (16·words).
@@ -291,19 +289,6 @@ func NewFamilySetting(family []String) (Setting, error) {
 	}
 	b = append(b, '|')
 	return Setting{p: String{n: n}, fam: &entangled{gens: gens, d: d, key: string(b)}}, nil
-}
-
-// sameGenerators reports whether d's members are exactly gens.
-func sameGenerators(d *Diagonalization, gens []String) bool {
-	if d.Len() != len(gens) {
-		return false
-	}
-	for i, g := range gens {
-		if !d.Member(i).Equal(g) {
-			return false
-		}
-	}
-	return true
 }
 
 // parseFamily parses generators joined by '|'.
