@@ -5,6 +5,7 @@ import (
 	"math/bits"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -30,7 +31,7 @@ import (
 // true weight, and repaired in the heap (one sift-down) after the walk, so
 // the walk is exact and costs O(W log W) for W visited entries. Finding the
 // terms the setting covers reads only the terms whose two lowest support
-// qubits agree with the setting (about a ninth of them; see coverIndex),
+// qubits agree with the setting (about a ninth of them; see internal/coverindex),
 // O(M⌈n/64⌉/9); recording a cover is O(1). A setting therefore costs
 // O(W log W + S log M + M⌈n/64⌉/9) for S stale entries met by the walk;
 // memory is O(M⌈n/64⌉).
@@ -43,7 +44,7 @@ type Greedy struct {
 	Fill pauli.Letter
 
 	rk    *ranked
-	index *coverIndex
+	index *coverindex.Index
 	st    []state // per rank, in one cache line: cover count and weights
 	tier  float64 // added to |h| for uncovered terms, above every w_i
 	heap  []entry // max-heap by (key desc, rank asc); key ≥ cur
@@ -96,7 +97,7 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.rk = newRanked(h)
 	rk := g.rk
 	m := len(rk.order)
-	g.index = newCoverIndex(rk.n, m, rk.row)
+	g.index = coverindex.New(rk.n, m, rk.row)
 	g.st = make([]state, m)
 	g.heap = make([]entry, m)
 	g.pos = make([]int32, m)
@@ -138,7 +139,7 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 		g.pz[k] |= free & g.fz
 	}
 	writeLetters(dst, g.px, g.pz)
-	g.hit = g.index.appendCovered(g.hit[:0], g.px, g.pz)
+	g.hit = g.index.AppendCovered(g.hit[:0], g.px, g.pz)
 	for _, r := range g.hit {
 		g.bump(r)
 	}

@@ -10,6 +10,7 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/allocate/allocatetest"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -20,7 +21,7 @@ import (
 // including registers wider than one word and wider than the pair index.
 func referenceCases(t testing.TB) []allocatetest.Case {
 	cases := allocatetest.Cases()
-	for _, c := range []struct{ n, m, k int }{{8, 60, 3}, {70, 150, 3}, {allocate.PairIndexMaxQubit + 5, 80, 2}} {
+	for _, c := range []struct{ n, m, k int }{{8, 60, 3}, {70, 150, 3}, {coverindex.PairMaxQubits + 5, 80, 2}} {
 		h, err := hamiltonian.RandomLocal(c.n, c.m, c.k, uint64(c.n))
 		if err != nil {
 			t.Fatal(err)
@@ -396,36 +397,5 @@ func TestSortedHugeCoefficients(t *testing.T) {
 				t.Errorf("%s %s: shots = %v, want %v", allocate.Name(a), tc.name, p.Shots, want)
 			}
 		}
-	}
-}
-
-func TestCoverIndexMatchesTable(t *testing.T) {
-	// The bucketed cover search against pauli.Table.Covered, which tests
-	// every row: registers of one, two and three words, in pair mode and
-	// beyond it, with terms up to weight 6 (past the four support qubits
-	// the index pre-filters on).
-	for _, n := range []int{5, 64, 100, allocate.PairIndexMaxQubit, allocate.PairIndexMaxQubit + 1, 150} {
-		t.Run(fmt.Sprintf("qubits=%d", n), func(t *testing.T) {
-			h, err := hamiltonian.RandomLocal(n, 400, min(6, n), uint64(n))
-			if err != nil {
-				t.Fatal(err)
-			}
-			p, err := allocate.Run(h, 60, &allocate.Random{Seed: uint64(n)}, nil)
-			if err != nil {
-				t.Fatal(err)
-			}
-			// Add the settings that cover terms: each term completed with Z.
-			settings := slices.Clone(p.Settings)
-			for i := range 30 {
-				settings = append(settings, pauli.Complete(h.Pauli(i), pauli.Z))
-			}
-			got := allocate.CoveredByIndex(h.Table(), settings)
-			for k, s := range settings {
-				want := h.Table().Covered(nil, s)
-				if !slices.Equal(got[k], want) && !(len(got[k]) == 0 && len(want) == 0) {
-					t.Errorf("setting %s: index finds rows %v, table finds %v", s, got[k], want)
-				}
-			}
-		})
 	}
 }

@@ -7,6 +7,7 @@ import (
 	"time"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -252,7 +253,7 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	}
 	// Many settings: bucket the terms once so that each setting reads only
 	// the buckets it can cover.
-	ci := newCoverIndex(t.Qubits(), t.Len(), t.Words)
+	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
 	var idx []int32
 	var rows []int
 	for j, s := range distinct {
@@ -265,7 +266,7 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 			continue
 		}
 		x, z := s.Words()
-		idx = ci.appendCovered(idx[:0], x, z)
+		idx = ci.AppendCovered(idx[:0], x, z)
 		for _, i := range idx {
 			cover[i] += total[j]
 		}
