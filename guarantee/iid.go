@@ -43,7 +43,12 @@ type IID struct {
 	cum  []float64   // cumulative Prob, last entry exactly 1
 	rows [][]int     // rows[k]: terms with f_i > 0 that Settings[k] covers
 	coef [][]float64 // coef[k][j] = h_i/f_i for i = rows[k][j]
-	key  map[string]int
+	// For an entangled Settings[k], term rows[k][j] is read as
+	// sign[k][j]·(−1)^(parity of b on image[k][j·w:(j+1)·w]), its Z-image
+	// through the circuit, found once here rather than on every shot.
+	image [][]uint64
+	sign  [][]int8
+	key   map[string]int
 }
 
 // NewIID returns the distribution that draws settings[k] with probability
@@ -83,13 +88,22 @@ func NewIID(h *hamiltonian.Hamiltonian, settings []pauli.Setting, weights []floa
 	for _, s := range d.Settings {
 		var rows []int
 		var coef []float64
+		var image []uint64
+		var sign []int8
 		for _, i := range tab.Covered(nil, s) {
 			if f := dist.Cover[i]; f > 0 {
 				rows = append(rows, i)
 				coef = append(coef, h.Coeff(i)/f)
+				if !s.IsLocal() {
+					z, sg, _ := s.Diagonal(tab.At(i))
+					_, zz := z.Words() // a Z-string has no x bits
+					image = append(image, zz...)
+					sign = append(sign, int8(sg))
+				}
 			}
 		}
 		d.rows, d.coef = append(d.rows, rows), append(d.coef, coef)
+		d.image, d.sign = append(d.image, image), append(d.sign, sign)
 	}
 	for k := range d.Prob {
 		acc += d.Prob[k]
@@ -149,10 +163,17 @@ func (d *IID) Index(s pauli.Setting) (int, bool) {
 func (d *IID) Value(k int, b pauli.Bits) float64 {
 	tab := d.h.Table()
 	x := d.Offset
-	if s := d.Settings[k]; !s.IsLocal() {
-		// An entangled setting reads each term through its circuit.
-		for j, i := range d.rows[k] {
-			x += d.coef[k][j] * float64(s.Sample(tab.At(i), b))
+	if !d.Settings[k].IsLocal() {
+		// An entangled setting reads each term through its circuit's
+		// Z-image, prepared by the constructor.
+		w := pauli.Words(d.h.Qubits())
+		for j := range d.rows[k] {
+			v := float64(d.sign[k][j]) * d.coef[k][j]
+			if b.Parity(d.image[k][j*w:(j+1)*w]) == 0 {
+				x += v
+			} else {
+				x -= v
+			}
 		}
 		return x
 	}
