@@ -6,6 +6,7 @@ import (
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/cputime"
 )
 
 // benchLocality is the largest weight of the terms of the benchmark
@@ -25,16 +26,13 @@ func benchPlan(b *testing.B, mk func() allocate.Allocator, sizes ...benchSize) {
 				b.Fatal(err)
 			}
 			b.ReportAllocs()
-			start := cpuTime()
+			start := cputime.Now()
 			for b.Loop() {
 				if _, err := allocate.Run(h, sz.settings, mk(), nil); err != nil {
 					b.Fatal(err)
 				}
 			}
-			// CPU time of the process (user + system) per run, which a
-			// shared machine does not inflate the way it does wall time;
-			// it includes the garbage collector's work.
-			b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
+			cputime.Report(b, start)
 		})
 	}
 }

@@ -4,9 +4,9 @@ import (
 	"fmt"
 	"math/rand/v2"
 	"testing"
-	"time"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/cputime"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -48,13 +48,13 @@ func BenchmarkGrouped(b *testing.B) {
 		rec := benchRecords(c.n, c.shots, c.settings, 2)
 		b.Run(fmt.Sprintf("qubits=%d/terms=%d/shots=%d/settings=%d", c.n, c.terms, c.shots, c.settings), func(b *testing.B) {
 			b.ReportAllocs()
-			start := cpuTime()
+			start := cputime.Now()
 			for b.Loop() {
 				if _, err := Grouped(h, rec, nil); err != nil {
 					b.Fatal(err)
 				}
 			}
-			reportCPU(b, start)
+			cputime.Report(b, start)
 		})
 	}
 }
@@ -69,13 +69,13 @@ func BenchmarkUniformShadow(b *testing.B) {
 	rec := benchRecords(50, 100000, 100000, 2)
 	b.Run("qubits=50/terms=100000/shots=100000/settings=100000", func(b *testing.B) {
 		b.ReportAllocs()
-		start := cpuTime()
+		start := cputime.Now()
 		for b.Loop() {
 			if _, err := UniformShadow(h, rec, &Options{Batches: 10}); err != nil {
 				b.Fatal(err)
 			}
 		}
-		reportCPU(b, start)
+		cputime.Report(b, start)
 	})
 }
 
@@ -99,7 +99,7 @@ func BenchmarkSimulator(b *testing.B) {
 		psi := randomState(c.n, 8)
 		b.Run(fmt.Sprintf("qubits=%d/settings=%d/shots=%d", c.n, c.settings, c.settings*c.each), func(b *testing.B) {
 			b.ReportAllocs()
-			start := cpuTime()
+			start := cputime.Now()
 			for b.Loop() {
 				sim, err := NewSimulator(psi, 1, nil)
 				if err != nil {
@@ -109,16 +109,7 @@ func BenchmarkSimulator(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
-			reportCPU(b, start)
+			cputime.Report(b, start)
 		})
-	}
-}
-
-// reportCPU reports the process CPU time per operation since start, which
-// on a machine shared with other work is a fairer single-core figure than
-// the wall-clock ns/op (run with GOMAXPROCS=1).
-func reportCPU(b *testing.B, start time.Duration) {
-	if t := cpuTime(); t > 0 {
-		b.ReportMetric(float64(t-start)/float64(b.N), "cpu-ns/op")
 	}
 }

@@ -21,7 +21,7 @@ type Device interface {
 // maxRunShots bounds the shots of one call of [Simulator.Run], whose
 // outcomes are held in memory at once: 2^40 shots take 8 TiB, beyond any
 // machine, and larger totals would overflow the allocation.
-const maxRunShots = 1 << 40
+const maxRunShots int64 = 1 << 40
 
 // checkRun validates the arguments of [Device.Run].
 func checkRun(n int, settings []pauli.Setting, shots []int, rec *Records) error {
@@ -34,7 +34,7 @@ func checkRun(n int, settings []pauli.Setting, shots []int, rec *Records) error 
 	if rec.Qubits() != n {
 		return fmt.Errorf("estimate: Run: records have %d qubits, device has %d", rec.Qubits(), n)
 	}
-	total := 0
+	var total int64
 	for k, s := range settings {
 		if s.Qubits() != n {
 			return fmt.Errorf("estimate: Run: setting %d (%s) has %d qubits, device has %d", k, s, s.Qubits(), n)
@@ -42,10 +42,10 @@ func checkRun(n int, settings []pauli.Setting, shots []int, rec *Records) error 
 		if shots[k] < 0 {
 			return fmt.Errorf("estimate: Run: setting %d (%s) has negative shot count %d", k, s, shots[k])
 		}
-		if shots[k] > maxRunShots-total {
+		if int64(shots[k]) > maxRunShots-total {
 			return fmt.Errorf("estimate: Run: setting %d (%s): more than %d shots in one call", k, s, maxRunShots)
 		}
-		total += shots[k]
+		total += int64(shots[k])
 	}
 	return nil
 }

@@ -3,13 +3,12 @@ package guarantee
 import (
 	"fmt"
 	"math/rand/v2"
-	"syscall"
 	"testing"
-	"time"
 
 	"github.com/shotplan/shotplan/allocate"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/cputime"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -66,13 +65,13 @@ func BenchmarkCertify(b *testing.B) {
 				shots[k] = 1 + rng.IntN(3)
 			}
 			b.ReportAllocs()
-			cpu := processCPU()
+			cpu := cputime.Now()
 			for b.Loop() {
 				if _, err := Certify(h, settings, shots, 0.05, nil); err != nil {
 					b.Fatal(err)
 				}
 			}
-			reportCPU(b, cpu)
+			cputime.Report(b, cpu)
 		})
 	}
 }
@@ -94,28 +93,13 @@ func BenchmarkCertifyGreedy(b *testing.B) {
 				b.Fatal(err)
 			}
 			b.ReportAllocs()
-			cpu := processCPU()
+			cpu := cputime.Now()
 			for b.Loop() {
 				if _, err := CertifyPlan(h, p, 0.05, nil); err != nil {
 					b.Fatal(err)
 				}
 			}
-			reportCPU(b, cpu)
+			cputime.Report(b, cpu)
 		})
 	}
-}
-
-// processCPU returns the CPU time (user + system) the process has used. On
-// a shared machine the CPU time per operation, reported beside ns/op, is
-// the figure that does not depend on how busy the other cores are.
-func processCPU() time.Duration {
-	var ru syscall.Rusage
-	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
-		return 0
-	}
-	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
-}
-
-func reportCPU(b *testing.B, start time.Duration) {
-	b.ReportMetric(float64(processCPU()-start)/float64(b.N), "cpu-ns/op")
 }

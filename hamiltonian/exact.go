@@ -83,7 +83,9 @@ func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
 		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
 	}
 	if s.KrylovDim == 0 {
-		s.KrylovDim = min(40, max(10, (4<<30)/(16<<h.n)-2))
+		// About 4 GiB of Lanczos vectors (16 bytes per amplitude), in int64
+		// so that the constant fits on 32-bit targets.
+		s.KrylovDim = int(min(40, max(10, int64(4<<30)/(int64(16)<<h.n)-2)))
 	}
 	if s.MaxApply == 0 {
 		s.MaxApply = 5000
