@@ -11,9 +11,12 @@ import (
 // of MATH §3.2 (the objective of ShadowGrouping, arXiv:2301.03385) over the
 // terms with N_i > 0, and the number of terms with N_i = 0, whose share is
 // unbounded; uncovered is their one-norm Σ|h_i|, the bias bound B_0 of
-// MATH §2. It returns an error if len(cover) differs from h.Len() or a count
-// is negative.
+// MATH §2. It returns an error if h is nil, len(cover) differs from h.Len()
+// or a count is negative.
 func ScaledOneNorm(h *hamiltonian.Hamiltonian, cover []int) (norm float64, missing int, uncovered float64, err error) {
+	if h == nil {
+		return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: nil Hamiltonian")
+	}
 	if len(cover) != h.Len() {
 		return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: %d cover counts for %d terms", len(cover), h.Len())
 	}

@@ -66,8 +66,11 @@ func (p *Plan) Distinct() (settings []pauli.Setting, shots []int) {
 
 // CoverCounts returns N_i for every term of h under the given settings and
 // shot counts: the number of shots whose setting covers term i. It returns an
-// error if the lengths or widths disagree or a count is negative.
+// error if h is nil, the lengths or widths disagree or a count is negative.
 func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) ([]int, error) {
+	if h == nil {
+		return nil, fmt.Errorf("allocate: CoverCounts: nil Hamiltonian")
+	}
 	if len(settings) != len(shots) {
 		return nil, fmt.Errorf("allocate: %d settings but %d shot counts", len(settings), len(shots))
 	}

@@ -34,8 +34,11 @@ const csvHeader = "setting,outcome"
 
 // WriteCSV writes rec in the CSV form described in the package
 // documentation: the header, then one row per shot in shot order with the
-// setting as text.
+// setting as text. A nil rec is an error; nothing is written then.
 func WriteCSV(w io.Writer, rec *Records) error {
+	if rec == nil {
+		return fmt.Errorf("estimate: WriteCSV: nil records")
+	}
 	bw := bufio.NewWriter(w)
 	bw.WriteString(csvHeader + "\n")
 	text := make([][]byte, rec.Groups())

@@ -65,10 +65,13 @@ type Eigenpair struct {
 // Near-degenerate ground states (a tiny gap) converge in energy long before
 // the vector is pinned down; compare energies, not vectors.
 //
-// GroundState returns an error for more than [MaxExactQubits] qubits, for
-// invalid settings, and [ErrNotConverged] (with the best pair found) when
-// MaxApply products were not enough.
+// GroundState returns an error for a nil h, for more than [MaxExactQubits]
+// qubits, for invalid settings, and [ErrNotConverged] (with the best pair
+// found) when MaxApply products were not enough.
 func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
+	if h == nil {
+		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: nil Hamiltonian")
+	}
 	if h.n > MaxExactQubits {
 		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
 	}
@@ -283,8 +286,12 @@ const MaxMatrixQubits = 12
 
 // Matrix returns H as a dense 2^n×2^n complex matrix, with row and column
 // index a meaning the basis state with bit q of a on qubit q. It is meant for
-// cross-checks on small n and returns an error above [MaxMatrixQubits].
+// cross-checks on small n and returns an error for a nil h and above
+// [MaxMatrixQubits].
 func (h *Hamiltonian) Matrix() (*mat.CDense, error) {
+	if h == nil {
+		return nil, fmt.Errorf("hamiltonian: Matrix: nil Hamiltonian")
+	}
 	if h.n > MaxMatrixQubits {
 		return nil, fmt.Errorf("hamiltonian: Matrix: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
 	}

@@ -157,8 +157,12 @@ func (h *Hamiltonian) Equal(o *Hamiltonian) bool {
 	return true
 }
 
-// Add returns h + o. It returns an error if the widths differ.
+// Add returns h + o. It returns an error if h or o is nil or the widths
+// differ.
 func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
+	if h == nil || o == nil {
+		return nil, fmt.Errorf("hamiltonian: Add: nil Hamiltonian")
+	}
 	if h.n != o.n {
 		return nil, fmt.Errorf("hamiltonian: Add: %d qubits and %d qubits", h.n, o.n)
 	}
@@ -172,8 +176,11 @@ func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
 	return New(h.n, h.offset+o.offset, terms)
 }
 
-// Scale returns c·h.
+// Scale returns c·h. It returns an error if h is nil.
 func (h *Hamiltonian) Scale(c float64) (*Hamiltonian, error) {
+	if h == nil {
+		return nil, fmt.Errorf("hamiltonian: Scale: nil Hamiltonian")
+	}
 	terms := make([]Term, 0, h.Len())
 	for _, t := range h.Terms() {
 		t.Coeff *= c

@@ -246,8 +246,12 @@ const denseLimit = 32
 // Write writes h in the text format: a "qubits N" line, the offset as an
 // identity term, then one term per line. Strings are dense up to 32 qubits
 // and sparse beyond. Coefficients are printed with the shortest decimal that
-// reads back to the same float64, so Read(Write(h)) equals h exactly.
+// reads back to the same float64, so Read(Write(h)) equals h exactly. A nil
+// h is an error; nothing is written then.
 func Write(w io.Writer, h *Hamiltonian) error {
+	if h == nil {
+		return fmt.Errorf("hamiltonian: Write: nil Hamiltonian")
+	}
 	bw := bufio.NewWriter(w)
 	fmt.Fprintf(bw, "qubits %d\n", h.n)
 	var buf []byte
