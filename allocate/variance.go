@@ -5,12 +5,13 @@ import (
 	"math"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 // maxPairs caps the (setting, pair of covered terms) entries a Moments
 // keeps: 4 bytes each.
-const maxPairs = 1 << 27
+const maxPairs = coverindex.MaxStored
 
 // Moments collects, from measured shots, estimates of tr(ρ P_i P_k) for the
 // pairs of terms that some candidate setting covers together: the data a

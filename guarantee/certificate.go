@@ -23,6 +23,11 @@ type Options struct {
 	// stop at its work limit (see [Truncation].Exact). Zero means 16;
 	// values above 30 count as 30.
 	Enumerate int
+
+	// searchSteps bounds the work of the branch and bound, in elementary
+	// steps. Zero means 20 000 000; a negative value means none (tests use
+	// it to cut the search off at once).
+	searchSteps int
 }
 
 func (o *Options) top() int {
@@ -33,6 +38,16 @@ func (o *Options) top() int {
 		return 0
 	}
 	return o.Top
+}
+
+func (o *Options) searchBudget() int {
+	switch {
+	case o == nil || o.searchSteps == 0:
+		return 20_000_000
+	case o.searchSteps < 0:
+		return 0
+	}
+	return o.searchSteps
 }
 
 func (o *Options) enumerate() int {
@@ -219,7 +234,7 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 		}
 	}
 	cert.Threshold = thresholdTruncation(c, a, delta)
-	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate())
+	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate(), opts.searchBudget())
 	return cert
 }
 

@@ -232,12 +232,14 @@ func TestCertifyRescanPath(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	defer func(old int) { maxStored = old }(maxStored)
-	maxStored = 10
-	rescanned, err := Certify(h, settings, shots, 0.05, nil)
+	c, err := newCoverageStoring(h, settings, shots, 10)
 	if err != nil {
 		t.Fatal(err)
 	}
+	if c.rows != nil {
+		t.Fatal("a cap of 10 stored pairs kept the rows; the rescan path is not exercised")
+	}
+	rescanned := certify(c, 0.05, nil)
 	if diff := cmp.Diff(stored, rescanned, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
 		t.Errorf("certificate with rescans differs (-stored +rescanned):\n%s", diff)
 	}

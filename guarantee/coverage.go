@@ -9,10 +9,6 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// maxStored is the number of (setting, term) cover pairs a coverage keeps in
-// memory (4 bytes each); past it, the covered terms of a setting are found
-// again by a scan when needed, which costs time instead of memory.
-var maxStored = 1 << 27
 
 // coverage is a plan reduced to its distinct settings, their multiplicities
 // m_Q, the terms each covers (a compressed row list) and every term's cover
@@ -33,6 +29,14 @@ type coverage struct {
 // newCoverage checks a plan against h and builds its coverage. Entries with
 // zero shots are ignored.
 func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*coverage, error) {
+	return newCoverageStoring(h, settings, shots, coverindex.MaxStored)
+}
+
+// newCoverageStoring is newCoverage keeping at most maxStored (setting, term)
+// cover pairs in memory (4 bytes each); past it, the covered terms of a
+// setting are found again by a scan when needed, which costs time instead of
+// memory. Tests lower it to exercise the rescans.
+func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, maxStored int) (*coverage, error) {
 	if h == nil {
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian")
 	}

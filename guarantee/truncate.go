@@ -90,7 +90,7 @@ func thresholdTruncation(c *coverage, a []float64, delta float64) Truncation {
 // exact. With more, a local search (single moves until none improves F)
 // starts from "drop none" and from "drop all candidates", and its better
 // result seeds a depth-first branch and bound (see branchAndBound), which is
-// exact when it completes within bnbBudget steps. If it does not, the best
+// exact when it completes within budget steps. If it does not, the best
 // set found is reported with a lower bound: the smallest bound of the open
 // nodes, or, if larger, one from the convex relaxation — F extended to kept
 // fractions x ∈ [0, 1] is linear plus a norm, hence convex, and a Frank–Wolfe
@@ -98,7 +98,7 @@ func thresholdTruncation(c *coverage, a []float64, delta float64) Truncation {
 // linear term plus the norm of a nonnegative combination, over subsets) has
 // no known polynomial algorithm, so a search this size can fail to finish;
 // Exact says whether it did.
-func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int) Truncation {
+func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, budget int) Truncation {
 	l := math.Log(2 / delta)
 	cc := math.Sqrt(2 * l)
 	c2 := 2 * l
@@ -185,7 +185,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int
 			best = fromNone
 		}
 		var complete bool
-		best, lower, complete = st.branchAndBound(best, bnbBudget)
+		best, lower, complete = st.branchAndBound(best, budget)
 		if complete {
 			exact = true
 			method = fmt.Sprintf("exact: branch and bound over the %d terms with 0 < N_i < 2 ln(2/δ)", len(cand))
@@ -206,9 +206,6 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate int
 	}
 	return t
 }
-
-// bnbBudget bounds the work of the branch and bound, in elementary steps.
-var bnbBudget = 20_000_000
 
 // dropState tracks the kept loads s_Q, V and the bias while candidate terms
 // move in and out of the dropped set.

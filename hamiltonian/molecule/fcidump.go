@@ -41,7 +41,11 @@ const maxLineErrors = 20
 // documentation. It reports every bad line (up to 20), each a [*LineError],
 // joined with errors.Join; errors.Is(err, ErrFormat) holds, or
 // errors.Is(err, ErrUnrestricted) for a UHF file.
-func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
+func ReadFCIDUMP(r io.Reader) (*Integrals, error) { return readFCIDUMP(r, MaxOrbitals) }
+
+// readFCIDUMP is [ReadFCIDUMP] accepting at most maxOrbitals orbitals (the
+// fuzz test lowers it to keep each input's allocation small).
+func readFCIDUMP(r io.Reader, maxOrbitals int) (*Integrals, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 64*1024), 16<<20)
 	lineNo := 0
@@ -92,7 +96,7 @@ func ReadFCIDUMP(r io.Reader) (*Integrals, error) {
 		bad(lineNo, ErrFormat, "header has no &END (or /) before the end of the file")
 		return nil, errors.Join(errs...)
 	}
-	hdr, herrs := parseHeader(toks, lineNo)
+	hdr, herrs := parseHeader(toks, lineNo, maxOrbitals)
 	for _, e := range herrs {
 		if len(errs) < maxLineErrors {
 			errs = append(errs, e)
@@ -299,8 +303,9 @@ type header struct {
 }
 
 // parseHeader reads the NAME = value, value, ... items. endLine is the line
-// of the terminator, where a missing item is reported.
-func parseHeader(toks []token, endLine int) (header, []error) {
+// of the terminator, where a missing item is reported; NORB may be at most
+// maxOrbitals.
+func parseHeader(toks []token, endLine, maxOrbitals int) (header, []error) {
 	var errs []error
 	bad := func(line int, sentinel error, format string, args ...any) {
 		errs = append(errs, &LineError{Line: line, Reason: fmt.Sprintf(format, args...), Err: sentinel})

@@ -183,11 +183,9 @@ func FuzzReadFCIDUMP(f *testing.F) {
 	f.Add("&FCI NORB=2,NELEC=2,ORBSYM=2*1 /\n 0.5 1 2 2 1\n 1 1 1 0 0\n")
 	f.Add("&FCI NORB=3 NELEC=2 UHF=.TRUE. &END\n")
 	f.Add("&fci norb=1, nelec=0\n&end\n 1d0 1 1 1 1\n")
-	old := maxOrbitals
-	maxOrbitals = 12 // keep each input's allocation small
-	defer func() { maxOrbitals = old }()
+	const maxOrbitals = 12 // keep each input's allocation small
 	f.Fuzz(func(t *testing.T, text string) {
-		g, err := ReadFCIDUMP(strings.NewReader(text))
+		g, err := readFCIDUMP(strings.NewReader(text), maxOrbitals)
 		if err != nil {
 			if !errors.Is(err, ErrFormat) && !errors.Is(err, ErrUnrestricted) {
 				t.Fatalf("error %v wraps neither ErrFormat nor ErrUnrestricted", err)

@@ -10,9 +10,6 @@ import (
 // the two-electron integrals, far beyond what a qubit Hamiltonian can use.
 const MaxOrbitals = 128
 
-// maxOrbitals is MaxOrbitals, lowered by the fuzz test to keep it fast.
-var maxOrbitals = MaxOrbitals
-
 // Integrals are the one- and two-electron integrals of a molecule over real
 // spatial orbitals, with the constant energy (nuclear repulsion plus any
 // frozen-core energy), in chemists' notation:
@@ -50,8 +47,8 @@ func pair(p, q int) int {
 // New returns zero integrals over the given number of spatial orbitals. It
 // returns an error if orbitals is not in [1, MaxOrbitals].
 func New(orbitals int) (*Integrals, error) {
-	if orbitals < 1 || orbitals > maxOrbitals {
-		return nil, fmt.Errorf("molecule: %d orbitals, want 1 to %d", orbitals, maxOrbitals)
+	if orbitals < 1 || orbitals > MaxOrbitals {
+		return nil, fmt.Errorf("molecule: %d orbitals, want 1 to %d", orbitals, MaxOrbitals)
 	}
 	np := orbitals * (orbitals + 1) / 2
 	return &Integrals{norb: orbitals, one: make([]float64, np), two: make([]float64, np*(np+1)/2)}, nil

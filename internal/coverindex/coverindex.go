@@ -12,6 +12,12 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
+// MaxStored is the number of cover entries (4-byte term indices, 512 MiB
+// in all) that a user of an Index keeps in memory from its answers: the
+// allocate package's covered pairs and the guarantee package's covered
+// terms per setting. Past it they recompute or refuse instead.
+const MaxStored = 1 << 27
+
 // PairMaxQubits is the widest register for which an Index buckets
 // terms by their two lowest support qubits (n²·9 buckets) and pre-filters by
 // the next two; wider registers use the lowest qubit alone (3n buckets).
