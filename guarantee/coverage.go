@@ -9,7 +9,6 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-
 // coverage is a plan reduced to its distinct settings, their multiplicities
 // m_Q, the terms each covers (a compressed row list) and every term's cover
 // count N_i. It is built by one scan of the Hamiltonian's table per distinct
