@@ -20,7 +20,7 @@ func validDelta(delta float64) bool { return delta > 0 && delta < 1 }
 // (Hoeffding 1963, Theorem 2, two-sided). For samples in [−1, 1] (width 2)
 // this is sqrt(2 ln(2/δ)/n).
 func HoeffdingRadius(n int, width, delta float64) float64 {
-	if n < 1 || width < 0 || !validDelta(delta) {
+	if n < 1 || !(width >= 0) || !validDelta(delta) {
 		return math.NaN()
 	}
 	return width * math.Sqrt(math.Log(2/delta)/(2*float64(n)))
@@ -28,13 +28,14 @@ func HoeffdingRadius(n int, width, delta float64) float64 {
 
 // HoeffdingShots returns the smallest n for which [HoeffdingRadius] is at most
 // ε: n = ⌈width² ln(2/δ) / (2ε²)⌉. It returns −1 for an argument outside the
-// domain (ε ≤ 0, negative width, δ outside (0, 1)) and 0 for width 0.
+// domain (ε ≤ 0 or infinite, negative width, δ outside (0, 1), any of them
+// NaN), 0 for width 0, and math.MaxInt when n would exceed half of it.
 func HoeffdingShots(eps, width, delta float64) int {
-	if !(eps > 0) || width < 0 || !validDelta(delta) || math.IsInf(eps, 0) {
+	if !(eps > 0) || !(width >= 0) || !validDelta(delta) || math.IsInf(eps, 0) {
 		return -1
 	}
 	x := width * width * math.Log(2/delta) / (2 * eps * eps)
-	if x > math.MaxInt32*float64(1<<31) {
+	if x > float64(math.MaxInt/2) {
 		return math.MaxInt
 	}
 	n := int(math.Ceil(x))

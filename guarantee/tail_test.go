@@ -98,8 +98,27 @@ func TestTailBoundsDomain(t *testing.T) {
 			t.Errorf("%s = %g, want NaN", c.name, c.got)
 		}
 	}
-	if got := HoeffdingShots(0, 2, 0.05); got != -1 {
-		t.Errorf("HoeffdingShots(ε=0) = %d, want -1", got)
+	// HoeffdingShots documents −1 for every argument outside its domain,
+	// NaN included (a NaN once converted to math.MinInt64).
+	nan := math.NaN()
+	for _, c := range []struct {
+		name              string
+		eps, width, delta float64
+	}{
+		{"ε=0", 0, 2, 0.05},
+		{"ε=NaN", nan, 2, 0.05},
+		{"ε=+Inf", math.Inf(1), 2, 0.05},
+		{"width=NaN", 0.1, nan, 0.05},
+		{"width<0", 0.1, -1, 0.05},
+		{"δ=NaN", 0.1, 2, nan},
+		{"δ=1", 0.1, 2, 1},
+	} {
+		if got := HoeffdingShots(c.eps, c.width, c.delta); got != -1 {
+			t.Errorf("HoeffdingShots(%s) = %d, want -1", c.name, got)
+		}
+	}
+	if got := HoeffdingRadius(10, nan, 0.05); !math.IsNaN(got) {
+		t.Errorf("HoeffdingRadius(width=NaN) = %g, want NaN", got)
 	}
 }
 
