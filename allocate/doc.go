@@ -69,6 +69,7 @@
 //
 // # Figures of merit
 //
-// [ScaledOneNorm] gives the plan objective Σ_i |h_i|/sqrt(N_i) of MATH §3.2;
-// [ImportanceShots] the closed-form budget of importance sampling.
+// [ScaledOneNorm] gives the plan objective Σ_i |h_i|/sqrt(N_i) of MATH §3.2.
+// The closed-form budget of importance sampling, and every other guarantee,
+// is in the guarantee package (guarantee.ImportanceShots).
 package allocate

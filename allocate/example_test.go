@@ -91,15 +91,6 @@ func ExampleScaledOneNorm() {
 	// Σ|h_i|/sqrt(N_i) = 0.3381, uncovered terms: 0
 }
 
-func ExampleImportanceShots() {
-	// ‖h‖_1 = 2.4; within ±0.1 with probability 95%:
-	// 2·2.4²·ln(40)/0.01 = 4249.6 → 4250 shots.
-	n, err := allocate.ImportanceShots(twoSpins(), 0.1, 0.05)
-	fmt.Println(n, err)
-	// Output:
-	// 4250 <nil>
-}
-
 func ExampleBiasedDistributions() {
 	// One qubit, h = 0.6 X − 0.2 Z: the proxy 0.36/β_X + 0.04/β_Z is least
 	// at β ∝ |h| = (0.75, 0, 0.25).

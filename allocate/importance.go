@@ -14,8 +14,8 @@ import (
 // draws term i with probability |h_i|/‖h‖_1 and measures the setting that
 // agrees with P_i on its support and has the letter Fill elsewhere. The
 // estimate ‖h‖_1·sign(h_i)·s of one shot lies in [−‖h‖_1, ‖h‖_1], which gives
-// the closed-form budget of [ImportanceShots]. It is the baseline every plan
-// can be compared against.
+// the closed-form budget of guarantee.ImportanceShots. It is the baseline
+// every plan can be compared against.
 //
 // The drawn term of every shot is reported by [Importance.Drawn] and lands
 // in [Plan].Drawn, for the estimator that needs it.
@@ -89,27 +89,3 @@ func (im *Importance) Next(dst []pauli.Letter) (int, error) {
 
 // Drawn implements [TermDrawer]: the term drawn for each shot so far.
 func (im *Importance) Drawn() []int { return im.drawn }
-
-// ImportanceShots returns the number of shots that single-term importance
-// sampling needs to estimate the energy of h within ±eps with probability
-// at least 1 − delta, for every state: N = ⌈2‖h‖_1² ln(2/δ)/ε²⌉, from
-// Hoeffding's inequality for shot values in [−‖h‖_1, ‖h‖_1] (MATH §3.5). It
-// returns an error unless eps > 0 and 0 < delta < 1, or if h has no
-// non-identity term.
-func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error) {
-	if !(eps > 0) || math.IsInf(eps, 0) {
-		return 0, fmt.Errorf("allocate: ImportanceShots: eps = %v, want a finite positive number", eps)
-	}
-	if !(delta > 0 && delta < 1) {
-		return 0, fmt.Errorf("allocate: ImportanceShots: delta = %v, want 0 < delta < 1", delta)
-	}
-	if h == nil || h.Len() == 0 {
-		return 0, ErrEmpty
-	}
-	l1 := h.OneNorm()
-	n := math.Ceil(2 * l1 * l1 * math.Log(2/delta) / (eps * eps))
-	if n > math.MaxInt64/2 {
-		return 0, fmt.Errorf("allocate: ImportanceShots: %g shots overflow an int", n)
-	}
-	return int(n), nil
-}

@@ -57,32 +57,6 @@ func TestImportanceDrawsInProportion(t *testing.T) {
 	}
 }
 
-func TestImportanceShots(t *testing.T) {
-	// N = ⌈2‖h‖_1² ln(2/δ)/ε²⌉ (MATH §3.5). Values worked by hand:
-	// ‖h‖_1 = 1, ε = 0.1, δ = 0.05: 2·ln 40/0.01 = 737.78 → 738;
-	// ‖h‖_1 = 3, ε = 0.5, δ = 0.01: 2·9·ln 200/0.25 = 381.47 → 382.
-	for _, tc := range []struct {
-		name       string
-		h          *hamiltonian.Hamiltonian
-		eps, delta float64
-		want       int
-	}{
-		{"unit norm", mustH(t, 7, "XI", 0.5, "IZ", -0.5), 0.1, 0.05, 738},
-		{"norm 3", mustH(t, 0, "XX", 2.0, "ZZ", -1.0), 0.5, 0.01, 382},
-	} {
-		got, err := allocate.ImportanceShots(tc.h, tc.eps, tc.delta)
-		if err != nil || got != tc.want {
-			t.Errorf("%s: ImportanceShots(ε=%v, δ=%v) = %d, %v; want %d", tc.name, tc.eps, tc.delta, got, err, tc.want)
-		}
-	}
-	h := mustH(t, 0, "XX", 1.0)
-	for _, bad := range [][2]float64{{0, 0.1}, {-1, 0.1}, {math.Inf(1), 0.1}, {0.1, 0}, {0.1, 1}, {0.1, math.NaN()}} {
-		if _, err := allocate.ImportanceShots(h, bad[0], bad[1]); err == nil {
-			t.Errorf("ImportanceShots(ε=%v, δ=%v) = nil error, want one", bad[0], bad[1])
-		}
-	}
-}
-
 // TestImportanceInitHugeBudget: Init must not reserve the whole budget up
 // front, or a budget beyond memory panics in make before the first shot.
 func TestImportanceInitHugeBudget(t *testing.T) {

@@ -236,8 +236,8 @@ func samePlan(a, b *allocate.Plan) bool {
 // sampling (MATH.md §3.5): every output lies in [−‖h‖_1, ‖h‖_1], so by
 // Hoeffding N = ⌈2‖h‖_1² ln(2/δ)/ε²⌉ shots give |error| ≤ ε with probability
 // at least 1 − δ, for every state. It is [HoeffdingShots] with width
-// 2‖h‖_1, and returns an error unless ε > 0 and 0 < δ < 1, or if h has no
-// non-identity term.
+// 2‖h‖_1, and returns an error unless ε > 0 is finite and 0 < δ < 1, if h
+// has no non-identity term, or if the count is beyond math.MaxInt/2.
 func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error) {
 	switch {
 	case h == nil || h.Len() == 0:
@@ -247,5 +247,9 @@ func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error
 	case !validDelta(delta):
 		return 0, fmt.Errorf("guarantee: ImportanceShots: δ = %v is not in (0, 1)", delta)
 	}
-	return HoeffdingShots(eps, 2*h.OneNorm(), delta), nil
+	n := HoeffdingShots(eps, 2*h.OneNorm(), delta)
+	if n == math.MaxInt {
+		return 0, fmt.Errorf("guarantee: ImportanceShots: ε = %v with ‖h‖_1 = %v needs more shots than an int holds", eps, h.OneNorm())
+	}
+	return n, nil
 }
