@@ -14,6 +14,8 @@ import (
 type Allocator interface {
 	// Init prepares the allocator to plan budget shots for h. It must not
 	// modify h. It returns an error if the allocator cannot plan for h.
+	// [Run] prefixes the errors of Init and Next with "allocate: " and the
+	// strategy's name, so they should not name the strategy themselves.
 	Init(h *hamiltonian.Hamiltonian, budget int) error
 
 	// Next writes the basis of every qubit of the next setting into dst,

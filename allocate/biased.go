@@ -41,7 +41,7 @@ func (b *Biased) String() string { return "biased" }
 
 // Init implements [Allocator]. It optimises the distributions for h.
 func (b *Biased) Init(h *hamiltonian.Hamiltonian, budget int) error {
-	beta, err := BiasedDistributions(h)
+	beta, err := biasedDistributions(h)
 	if err != nil {
 		return err
 	}
@@ -101,6 +101,17 @@ func BiasedDistributions(h *hamiltonian.Hamiltonian) ([][3]float64, error) {
 	if h == nil || h.Len() == 0 {
 		return nil, ErrEmpty
 	}
+	beta, err := biasedDistributions(h)
+	if err != nil {
+		return nil, fmt.Errorf("allocate: BiasedDistributions: %w", err)
+	}
+	return beta, nil
+}
+
+// biasedDistributions is [BiasedDistributions] for a Hamiltonian with
+// terms; its errors do not name the caller ([Run] prefixes the strategy's
+// name, BiasedDistributions its own).
+func biasedDistributions(h *hamiltonian.Hamiltonian) ([][3]float64, error) {
 	n, m := h.Qubits(), h.Len()
 	t := h.Table()
 	scale := 0.0
@@ -167,7 +178,7 @@ func BiasedDistributions(h *hamiltonian.Hamiltonian) ([][3]float64, error) {
 		}
 		g := sum()
 		if math.IsNaN(g) || math.IsInf(g, 0) {
-			return nil, fmt.Errorf("biased: variance proxy overflows (%v) while optimising the distributions", g)
+			return nil, fmt.Errorf("variance proxy overflows (%v) while optimising the distributions", g)
 		}
 		done := f-g <= 1e-10*g
 		f = g

@@ -78,7 +78,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		eps = 0.9
 	}
 	if !(eps > 0) || math.IsInf(eps, 0) {
-		return fmt.Errorf("derand: epsilon %v is not a positive number", d.Epsilon)
+		return fmt.Errorf("epsilon %v is not a positive number", d.Epsilon)
 	}
 	nu := eps * eps / 2
 	d.decay = math.Exp(-nu)

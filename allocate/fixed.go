@@ -54,11 +54,11 @@ func (f *Fixed) MaxQubits() int {
 // a setting's width differs from the Hamiltonian's.
 func (f *Fixed) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	if len(f.Settings) == 0 {
-		return errors.New("fixed: no settings to cycle through")
+		return errors.New("no settings to cycle through")
 	}
 	for k, s := range f.Settings {
 		if s.Qubits() != h.Qubits() {
-			return fmt.Errorf("fixed: setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), h.Qubits())
+			return fmt.Errorf("setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), h.Qubits())
 		}
 	}
 	f.next = 0

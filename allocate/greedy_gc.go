@@ -3,7 +3,7 @@ package allocate
 import (
 	"cmp"
 	"encoding/binary"
-	"fmt"
+	"errors"
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -103,7 +103,7 @@ func (g *GreedyGC) Cover(dst []int) {
 func (g *GreedyGC) round() (pauli.Setting, error) {
 	rk := g.rk
 	if rk == nil {
-		return pauli.Setting{}, fmt.Errorf("greedy-gc: Next before Init")
+		return pauli.Setting{}, errors.New("Next before Init")
 	}
 	// Uncovered terms sort above every covered one: their key is |h|
 	// plus a tier above every marginal gain (each gain is below |h|).
@@ -151,7 +151,7 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 		}
 		s, err := pauli.NewFamilySetting(fam)
 		if err != nil {
-			return pauli.Setting{}, fmt.Errorf("greedy-gc: %w", err)
+			return pauli.Setting{}, err
 		}
 		f = gcFamily{s: s, covers: g.tab.Covered(nil, s)}
 		g.cache[string(g.kbuf)] = f

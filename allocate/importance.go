@@ -58,7 +58,7 @@ func (im *Importance) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		im.cum = append(im.cum, s)
 	}
 	if !(s > 0) || math.IsInf(s, 0) {
-		return fmt.Errorf("importance: one-norm of the coefficients is %v", s)
+		return fmt.Errorf("one-norm of the coefficients is %v", s)
 	}
 	im.table = h.Table()
 	// Reserve at most a million entries and let append grow past that:

@@ -146,7 +146,7 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
 		if err != nil {
-			return fmt.Errorf("sorted: group %d: %w", g, err)
+			return fmt.Errorf("group %d: %w", g, err)
 		}
 		s.add(st)
 	}
