@@ -48,20 +48,9 @@ func (p *Plan) TotalShots() int {
 }
 
 // Distinct returns each distinct setting once, in order of first use, with
-// its total number of shots.
+// its total number of shots ([pauli.MergeSettings]).
 func (p *Plan) Distinct() (settings []pauli.Setting, shots []int) {
-	index := make(map[string]int, len(p.Settings))
-	for k, s := range p.Settings {
-		key := s.Key()
-		if i, ok := index[key]; ok {
-			shots[i] += p.Shots[k]
-			continue
-		}
-		index[key] = len(settings)
-		settings = append(settings, s)
-		shots = append(shots, p.Shots[k])
-	}
-	return settings, shots
+	return pauli.MergeSettings(p.Settings, p.Shots)
 }
 
 // CoverCounts returns N_i for every term of h under the given settings and

@@ -228,19 +228,7 @@ func settingOf(letters []pauli.Letter) (pauli.Setting, error) {
 // countCover adds to cover[i] the shots of every distinct setting that
 // covers row i of t.
 func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []int) {
-	index := make(map[string]int, len(settings))
-	var distinct []pauli.Setting
-	var total []int
-	for k, s := range settings {
-		key := s.Key()
-		if j, ok := index[key]; ok {
-			total[j] += shots[k]
-			continue
-		}
-		index[key] = len(distinct)
-		distinct = append(distinct, s)
-		total = append(total, shots[k])
-	}
+	distinct, total := pauli.MergeSettings(settings, shots)
 	if len(distinct) < 16 {
 		var idx []int
 		for j, s := range distinct {

@@ -87,7 +87,7 @@ const ManifestName = "manifest.csv"
 // zero-padded to a common width, in order of first appearance) and a
 // manifest, manifest.csv, with the header "index,program,setting,shots" and
 // one row per program giving its total shot count. Repeated settings are
-// merged and their shots added. The manifest's settings, in index order,
+// merged and their shots added; settings with no shots get no program. The manifest's settings, in index order,
 // are the list that a records CSV with setting indices refers to (see
 // [ReadCSV] and [ReadManifestFile]).
 //
@@ -103,9 +103,6 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 	if len(settings) == 0 {
 		return fmt.Errorf("estimate: ExportQASM: no settings")
 	}
-	var distinct []pauli.Setting
-	var total []int
-	index := make(map[string]int)
 	for k, s := range settings {
 		if s.Qubits() != settings[0].Qubits() {
 			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has %d qubits, setting 0 has %d", k, s, s.Qubits(), settings[0].Qubits())
@@ -113,15 +110,10 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 		if shots[k] < 0 {
 			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has negative shot count %d", k, s, shots[k])
 		}
-		key := s.Key()
-		d, ok := index[key]
-		if !ok {
-			d = len(distinct)
-			index[key] = d
-			distinct = append(distinct, s)
-			total = append(total, 0)
-		}
-		total[d] += shots[k]
+	}
+	distinct, total := pauli.MergeSettings(settings, shots)
+	if len(distinct) == 0 {
+		return errors.New("estimate: ExportQASM: no setting has shots")
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
 		return fmt.Errorf("estimate: ExportQASM: directory %s is not empty", dir)

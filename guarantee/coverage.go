@@ -46,7 +46,6 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 		return nil, fmt.Errorf("guarantee: %d terms is more than this package indexes", h.Len())
 	}
 	c := &coverage{h: h, cover: make([]int, h.Len())}
-	index := make(map[string]int)
 	for k, s := range settings {
 		if s.Qubits() != h.Qubits() {
 			return nil, fmt.Errorf("guarantee: setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), h.Qubits())
@@ -61,15 +60,8 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 			return nil, fmt.Errorf("guarantee: setting %d (%s): total shot count overflows", k, s)
 		}
 		c.shots += shots[k]
-		key := s.Key()
-		if q, ok := index[key]; ok {
-			c.mult[q] += shots[k]
-			continue
-		}
-		index[key] = len(c.settings)
-		c.settings = append(c.settings, s)
-		c.mult = append(c.mult, shots[k])
 	}
+	c.settings, c.mult = pauli.MergeSettings(settings, shots)
 	// The rows are cut from blocks of up to 1<<20 entries, so that no
 	// stored index is ever copied by a growing slice.
 	c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)

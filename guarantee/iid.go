@@ -65,18 +65,10 @@ func NewIID(h *hamiltonian.Hamiltonian, settings []pauli.Setting, weights []floa
 	for _, w := range weights {
 		total += w
 	}
-	for k, s := range settings {
-		if weights[k] == 0 {
-			continue
-		}
-		key := s.Key()
-		if j, ok := d.key[key]; ok {
-			d.Prob[j] += weights[k] / total
-			continue
-		}
-		d.key[key] = len(d.Settings)
-		d.Settings = append(d.Settings, s)
-		d.Prob = append(d.Prob, weights[k]/total)
+	d.Settings, d.Prob = pauli.MergeSettings(settings, weights)
+	for j, s := range d.Settings {
+		d.key[s.Key()] = j
+		d.Prob[j] /= total
 	}
 	for i, f := range dist.Cover {
 		if f <= 0 {
