@@ -92,7 +92,9 @@ const ManifestName = "manifest.csv"
 // [ReadCSV] and [ReadManifestFile]).
 //
 // The directory appears complete or not at all: everything is written to a
-// temporary directory beside it, which is then renamed. ExportQASM refuses
+// temporary directory beside it (named .DIR.tmp-HOST-PID-RANDOM), which is
+// then renamed. A temporary directory left by a killed process of this host
+// is removed by the next export to the same directory. ExportQASM refuses
 // a dir that exists and is not empty, so old programs never mix with new
 // ones. It returns an error if the lengths differ, the widths differ, a
 // count is negative or there are no settings.
@@ -128,48 +130,26 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 	} else if err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}
-	parent, base := filepath.Split(filepath.Clean(dir))
-	if parent == "" {
-		parent = "."
-	}
-	tmp, err := os.MkdirTemp(parent, "."+base+".tmp*")
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if err != nil {
-			os.RemoveAll(tmp)
-		}
-	}()
-	if err = os.Chmod(tmp, 0o755); err != nil {
-		return err
-	}
-	digits := len(strconv.Itoa(len(distinct) - 1))
-	names := make([]string, len(distinct))
-	var buf []byte
-	for d, s := range distinct {
-		names[d] = fmt.Sprintf("setting_%0*d.qasm", digits, d)
-		buf = AppendQASM(buf[:0], s)
-		if err = os.WriteFile(filepath.Join(tmp, names[d]), buf, 0o644); err != nil {
-			return err
-		}
-	}
-	err = atomicfile.Write(filepath.Join(tmp, ManifestName), func(w io.Writer) error {
-		bw := bufio.NewWriter(w)
-		bw.WriteString(manifestHeader + "\n")
+	return atomicfile.WriteDir(dir, func(tmp string) error {
+		digits := len(strconv.Itoa(len(distinct) - 1))
+		names := make([]string, len(distinct))
+		var buf []byte
 		for d, s := range distinct {
-			fmt.Fprintf(bw, "%d,%s,%s,%d\n", d, names[d], s, total[d])
+			names[d] = fmt.Sprintf("setting_%0*d.qasm", digits, d)
+			buf = AppendQASM(buf[:0], s)
+			if err := os.WriteFile(filepath.Join(tmp, names[d]), buf, 0o666); err != nil {
+				return err
+			}
 		}
-		return bw.Flush()
+		return atomicfile.Write(filepath.Join(tmp, ManifestName), func(w io.Writer) error {
+			bw := bufio.NewWriter(w)
+			bw.WriteString(manifestHeader + "\n")
+			for d, s := range distinct {
+				fmt.Fprintf(bw, "%d,%s,%s,%d\n", d, names[d], s, total[d])
+			}
+			return bw.Flush()
+		})
 	})
-	if err != nil {
-		return err
-	}
-	// An empty existing directory is replaced.
-	if err = os.Remove(dir); err != nil && !errors.Is(err, os.ErrNotExist) {
-		return err
-	}
-	return os.Rename(tmp, dir)
 }
 
 // ReadManifest reads a manifest written by [ExportQASM] and returns its
