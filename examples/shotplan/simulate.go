@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"io"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -13,7 +14,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	plan := fs.String("plan", "", "plan file (required)")
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
 	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P, P01,P10 sets the two directions (default none)")
-	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required)")
+	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -22,6 +23,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		if err := notInput(*out, *ham, *plan); err != nil {
+			return err
+		}
+		if err := e.output(*out); err != nil {
 			return err
 		}
 		h, f, err := loadHamPlan(*ham, *plan)
@@ -43,13 +47,12 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := sim.Run(f.Plan.Settings, f.Plan.Shots, rec); err != nil {
 			return err
 		}
+		write := estimate.WriteCSV
 		if isJSON(*out) {
-			err = estimate.WriteJSONFile(*out, rec)
-		} else {
-			err = estimate.WriteCSVFile(*out, rec)
+			write = estimate.WriteJSON
 		}
-		if err != nil {
-			return bad(err)
+		if err := e.writeOutput(*out, func(w io.Writer) error { return write(w, rec) }); err != nil {
+			return err
 		}
 		res := struct {
 			Output       string  `json:"output"`
@@ -61,7 +64,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", *out, rec.Len(), ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", outName(*out), rec.Len(), ground.Energy, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}

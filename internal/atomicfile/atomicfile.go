@@ -9,7 +9,9 @@
 // replace, say, /dev/null with a regular file when run as root. A symbolic
 // link to a regular file is followed: the file it points to is replaced
 // (the temporary file is made beside it) and the link stays. A link to
-// anything else, or to nothing, is refused. The check is made before the
+// anything else, or to nothing, is refused, and so is a link that leads
+// through /dev/ or /proc/ (such as /dev/stdout or /proc/self/fd/1, which
+// name what a process has open) even when it ends at a regular file. The check is made before the
 // write and again just before the rename; a target swapped in between by
 // another process is not detected.
 //
@@ -60,7 +62,7 @@ type NotRegularError struct {
 }
 
 func (e *NotRegularError) Error() string {
-	return fmt.Sprintf("%s is a %s, not a regular file: refusing to replace it (to see the output, write to standard output instead)", e.Path, e.Kind)
+	return fmt.Sprintf("%s is a %s, not a regular file: refusing to replace it (to see the output, write to standard output instead of naming it)", e.Path, e.Kind)
 }
 
 // Is makes errors.Is(err, ErrNotRegular) true.
@@ -110,11 +112,49 @@ func resolve(path string) (real string, mode fs.FileMode, exists bool, err error
 	if !fi.Mode().IsRegular() {
 		return "", 0, false, &NotRegularError{Path: path, Kind: "symbolic link to a " + kind(fi.Mode())}
 	}
+	if hop := specialHop(path); hop != "" {
+		return "", 0, false, &NotRegularError{Path: path, Kind: "symbolic link through " + hop + " (a name for a process's open file)"}
+	}
 	real, err = filepath.EvalSymlinks(path)
 	if err != nil {
 		return "", 0, false, err
 	}
 	return real, fi.Mode().Perm(), true, nil
+}
+
+// Check returns the error [Write] would give for path's target before
+// writing anything: a [*NotRegularError] for a device, pipe, socket,
+// directory or a link to one of them. A program can call it before a long
+// computation whose result goes to path.
+func Check(path string) error {
+	_, _, _, err := resolve(path)
+	return err
+}
+
+// specialHop returns path, if it is under /dev/ or /proc/, or the first link
+// target under them on the chain of symbolic links from path, or "". Such a
+// link (/dev/stdout, /proc/self/fd/1) names whatever the process has open,
+// possibly a regular file that the caller did not mean to replace.
+func specialHop(path string) string {
+	p := path
+	if a, err := filepath.Abs(p); err == nil && (strings.HasPrefix(a, "/dev/") || strings.HasPrefix(a, "/proc/")) {
+		return a
+	}
+	for range 40 {
+		t, err := os.Readlink(p)
+		if err != nil {
+			return ""
+		}
+		if !filepath.IsAbs(t) {
+			t = filepath.Join(filepath.Dir(p), t)
+		}
+		t = filepath.Clean(t)
+		if strings.HasPrefix(t, "/dev/") || strings.HasPrefix(t, "/proc/") {
+			return t
+		}
+		p = t
+	}
+	return ""
 }
 
 // Write creates or replaces the file at path with what write produces. If

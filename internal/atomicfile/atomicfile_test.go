@@ -77,3 +77,16 @@ func TestWriteDir(t *testing.T) {
 		t.Errorf("parent holds %d entries, want 1", len(entries))
 	}
 }
+
+func TestCheck(t *testing.T) {
+	dir := t.TempDir()
+	if err := Check(filepath.Join(dir, "new.txt")); err != nil {
+		t.Errorf("Check(new file) = %v, want nil", err)
+	}
+	if err := Check(dir); !errors.Is(err, ErrNotRegular) {
+		t.Errorf("Check(directory) = %v, want ErrNotRegular", err)
+	}
+	if entries, _ := os.ReadDir(dir); len(entries) != 0 {
+		t.Errorf("Check created %d entries", len(entries))
+	}
+}

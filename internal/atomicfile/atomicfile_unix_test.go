@@ -32,7 +32,18 @@ func TestWriteRefusesNonRegular(t *testing.T) {
 	if err := os.Mkdir(sub, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	links := map[string]string{"to-null": "/dev/null", "to-fifo": fifo, "to-nothing": filepath.Join(dir, "absent")}
+	regular := filepath.Join(dir, "regular")
+	if err := os.WriteFile(regular, nil, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	// A file opened by this process: /proc/self/fd/N leads to it.
+	open, err := os.Open(regular)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer open.Close()
+	procFd := "/proc/self/fd/" + strconv.Itoa(int(open.Fd()))
+	links := map[string]string{"to-null": "/dev/null", "to-fifo": fifo, "to-nothing": filepath.Join(dir, "absent"), "to-fd": procFd}
 	for name, to := range links {
 		if err := os.Symlink(to, filepath.Join(dir, name)); err != nil {
 			t.Fatal(err)
@@ -45,6 +56,8 @@ func TestWriteRefusesNonRegular(t *testing.T) {
 		{filepath.Join(dir, "to-null"), "symbolic link to a character device"},
 		{filepath.Join(dir, "to-fifo"), "symbolic link to a named pipe"},
 		{filepath.Join(dir, "to-nothing"), "symbolic link to nothing"},
+		{filepath.Join(dir, "to-fd"), "symbolic link through " + procFd + " (a name for a process's open file)"},
+		{procFd, "symbolic link through " + procFd + " (a name for a process's open file)"},
 	}
 	for _, c := range cases {
 		before, err := os.Lstat(c.path)
@@ -65,8 +78,8 @@ func TestWriteRefusesNonRegular(t *testing.T) {
 		}
 	}
 	entries, _ := os.ReadDir(dir)
-	if len(entries) != 2+len(links) {
-		t.Errorf("directory holds %d entries after refused writes, want %d", len(entries), 2+len(links))
+	if len(entries) != 3+len(links) {
+		t.Errorf("directory holds %d entries after refused writes, want %d", len(entries), 3+len(links))
 	}
 }
 
