@@ -99,31 +99,9 @@ const ManifestName = "manifest.csv"
 // ones. It returns an error if the lengths differ, the widths differ, a
 // count is negative or there are no settings.
 func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
-	if len(settings) != len(shots) {
-		return fmt.Errorf("estimate: ExportQASM: %d settings but %d shot counts", len(settings), len(shots))
-	}
-	if len(settings) == 0 {
-		return fmt.Errorf("estimate: ExportQASM: no settings")
-	}
-	var distinct []pauli.Setting
-	var total []int
-	index := make(map[string]int)
-	for k, s := range settings {
-		if s.Qubits() != settings[0].Qubits() {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has %d qubits, setting 0 has %d", k, s, s.Qubits(), settings[0].Qubits())
-		}
-		if shots[k] < 0 {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has negative shot count %d", k, s, shots[k])
-		}
-		key := s.Key()
-		d, ok := index[key]
-		if !ok {
-			d = len(distinct)
-			index[key] = d
-			distinct = append(distinct, s)
-			total = append(total, 0)
-		}
-		total[d] += shots[k]
+	distinct, total, err := mergeSettings("ExportQASM", settings, shots)
+	if err != nil {
+		return err
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
 		return fmt.Errorf("estimate: ExportQASM: directory %s is not empty", dir)
@@ -141,15 +119,52 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 				return err
 			}
 		}
-		return atomicfile.Write(filepath.Join(tmp, ManifestName), func(w io.Writer) error {
-			bw := bufio.NewWriter(w)
-			bw.WriteString(manifestHeader + "\n")
-			for d, s := range distinct {
-				fmt.Fprintf(bw, "%d,%s,%s,%d\n", d, names[d], s, total[d])
-			}
-			return bw.Flush()
-		})
+		return writeManifest(filepath.Join(tmp, ManifestName), distinct, names, total)
 	})
+}
+
+// writeManifest writes a manifest: row d gives program names[d], setting
+// distinct[d] and shot count total[d].
+func writeManifest(path string, distinct []pauli.Setting, names []string, total []int) error {
+	return atomicfile.Write(path, func(w io.Writer) error {
+		bw := bufio.NewWriter(w)
+		bw.WriteString(manifestHeader + "\n")
+		for d, s := range distinct {
+			fmt.Fprintf(bw, "%d,%s,%s,%d\n", d, names[d], s, total[d])
+		}
+		return bw.Flush()
+	})
+}
+
+// mergeSettings checks the arguments of an export and merges repeated
+// settings, adding their shots: it returns the distinct settings in order
+// of first appearance with their total shot counts.
+func mergeSettings(fn string, settings []pauli.Setting, shots []int) (distinct []pauli.Setting, total []int, err error) {
+	if len(settings) != len(shots) {
+		return nil, nil, fmt.Errorf("estimate: %s: %d settings but %d shot counts", fn, len(settings), len(shots))
+	}
+	if len(settings) == 0 {
+		return nil, nil, fmt.Errorf("estimate: %s: no settings", fn)
+	}
+	index := make(map[string]int)
+	for k, s := range settings {
+		if s.Qubits() != settings[0].Qubits() {
+			return nil, nil, fmt.Errorf("estimate: %s: setting %d (%s) has %d qubits, setting 0 has %d", fn, k, s, s.Qubits(), settings[0].Qubits())
+		}
+		if shots[k] < 0 {
+			return nil, nil, fmt.Errorf("estimate: %s: setting %d (%s) has negative shot count %d", fn, k, s, shots[k])
+		}
+		key := s.Key()
+		d, ok := index[key]
+		if !ok {
+			d = len(distinct)
+			index[key] = d
+			distinct = append(distinct, s)
+			total = append(total, 0)
+		}
+		total[d] += shots[k]
+	}
+	return distinct, total, nil
 }
 
 // ReadManifest reads a manifest written by [ExportQASM] and returns its

@@ -9,6 +9,7 @@ import (
 
 func infoFlags(fs *flag.FlagSet, e *env) func() error {
 	exact := fs.Bool("exact", false, fmt.Sprintf("also compute the exact ground energy (up to %d qubits)", hamiltonian.MaxExactQubits))
+	memLimit := memoryLimitFlag(fs, "-exact")
 	return func() error {
 		if err := e.positional(1, "the Hamiltonian file"); err != nil {
 			return err
@@ -34,6 +35,9 @@ func infoFlags(fs *flag.FlagSet, e *env) func() error {
 		if *exact {
 			if h.Qubits() > hamiltonian.MaxExactQubits {
 				return badf("%s: -exact: %d qubits, the exact solver takes at most %d", path, h.Qubits(), hamiltonian.MaxExactQubits)
+			}
+			if err := checkMemory(fmt.Sprintf("%s: -exact on %d qubits", path, h.Qubits()), exactBytes(h.Qubits()), memLimit); err != nil {
+				return err
 			}
 			g, err := hamiltonian.GroundState(h, nil)
 			if err != nil {

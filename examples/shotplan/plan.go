@@ -44,6 +44,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
 	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
 	out := fs.String("o", "", "output plan file (required; - for standard output)")
+	shotLimit := fs.Int("shot-limit", defaultShotLimit, "refuse more shots than this with a strategy that chooses a setting for every shot")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -75,7 +76,12 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
 		}
-		p, err := allocate.Run(h, *shots, a, nil)
+		if err := checkShotLimit(*strategy, a, *shots, *shotLimit, h.Qubits()); err != nil {
+			return err
+		}
+		report, done := e.planProgress("planning " + *strategy)
+		p, err := allocate.Run(h, *shots, a, &allocate.Settings{Progress: report})
+		done()
 		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
 			return badf("%s: %w", *ham, err)
 		}

@@ -15,6 +15,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
 	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P, P01,P10 sets the two directions (default none)")
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
+	memLimit := memoryLimitFlag(fs, "the simulation")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -34,6 +35,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if h.Qubits() > hamiltonian.MaxExactQubits {
 			return badf("%s: %d qubits, the simulator takes at most %d", *ham, h.Qubits(), hamiltonian.MaxExactQubits)
+		}
+		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()), simulateBytes(h.Qubits(), f.Plan.TotalShots()), memLimit); err != nil {
+			return err
 		}
 		ro, err := parseReadout(*readout, h.Qubits())
 		if err != nil {
