@@ -39,7 +39,9 @@ func infoFlags(fs *flag.FlagSet, e *env) func() error {
 			if err := checkMemory(fmt.Sprintf("%s: -exact on %d qubits", path, h.Qubits()), exactBytes(h.Qubits()), memLimit); err != nil {
 				return err
 			}
+			stop := e.busy(fmt.Sprintf("exact ground state of %d qubits", h.Qubits()))
 			g, err := hamiltonian.GroundState(h, nil)
+			stop()
 			if err != nil {
 				return err
 			}

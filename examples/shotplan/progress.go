@@ -54,3 +54,47 @@ func (e *env) planProgress(desc string) (func(allocate.Progress), func()) {
 	}
 	return report, done
 }
+
+// busy shows a spinner with the elapsed time on standard error while a step
+// that gives no progress reports runs (the exact ground state), once it has
+// taken progressDelay, when standard error is a terminal. The returned
+// function stops and clears it.
+func (e *env) busy(desc string) (stop func()) {
+	w := terminal(e.stderr)
+	if w == nil {
+		return func() {}
+	}
+	quit := make(chan struct{})
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		delay := time.NewTimer(progressDelay)
+		defer delay.Stop()
+		select {
+		case <-quit:
+			return
+		case <-delay.C:
+		}
+		bar := progressbar.NewOptions(-1,
+			progressbar.OptionSetWriter(w),
+			progressbar.OptionSetDescription(desc),
+			progressbar.OptionSpinnerType(14),
+			progressbar.OptionSetElapsedTime(true),
+			progressbar.OptionClearOnFinish())
+		tick := time.NewTicker(200 * time.Millisecond)
+		defer tick.Stop()
+		for {
+			select {
+			case <-quit:
+				bar.Finish()
+				return
+			case <-tick.C:
+				bar.Add(1)
+			}
+		}
+	}()
+	return func() {
+		close(quit)
+		<-done
+	}
+}

@@ -43,12 +43,16 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
 		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
 		if err != nil {
+			stop()
 			return err
 		}
 		rec := estimate.NewRecords(h.Qubits())
-		if err := sim.Run(f.Plan.Settings, f.Plan.Shots, rec); err != nil {
+		err = sim.Run(f.Plan.Settings, f.Plan.Shots, rec)
+		stop()
+		if err != nil {
 			return err
 		}
 		write := estimate.WriteCSV
