@@ -106,3 +106,50 @@ func TestSignalsRemoveTemps(t *testing.T) {
 		}
 	}
 }
+
+// A command killed by SIGKILL mid-write leaves its temporary file; the next
+// run that writes the same output removes it.
+func TestStaleTempRemovedByNextRun(t *testing.T) {
+	dir := t.TempDir()
+	target := filepath.Join(dir, "rec.csv")
+	cmd := exec.Command(os.Args[0], "-test.run=^TestSignalChild$")
+	cmd.Env = append(os.Environ(), signalChildEnv+"="+target)
+	stdin, err := cmd.StdinPipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer stdin.Close()
+	stdout, err := cmd.StdoutPipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := cmd.Start(); err != nil {
+		t.Fatal(err)
+	}
+	if line, _ := bufio.NewReader(stdout).ReadString('\n'); line != "ready\n" {
+		cmd.Process.Kill()
+		cmd.Wait()
+		t.Fatalf("child said %q, want ready", line)
+	}
+	cmd.Process.Signal(syscall.SIGKILL)
+	cmd.Wait()
+	if entries, _ := os.ReadDir(dir); len(entries) != 1 {
+		t.Fatalf("after SIGKILL the directory holds %d entries, want the temporary", len(entries))
+	}
+	ham := filepath.Join(t.TempDir(), "h.txt")
+	if err := os.WriteFile(ham, []byte("0.5 ZZ\n0.25 XX\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var out, errs strings.Builder
+	if code := run([]string{"plan", "-ham", ham, "-shots", "10", "-o", target}, &out, &errs); code != 0 {
+		t.Fatalf("plan: exit %d, stderr %q", code, errs.String())
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 || entries[0].Name() != "rec.csv" {
+		var names []string
+		for _, e := range entries {
+			names = append(names, e.Name())
+		}
+		t.Errorf("after the next run the directory holds %v, want [rec.csv]", names)
+	}
+}
