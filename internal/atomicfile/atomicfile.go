@@ -18,7 +18,9 @@
 // Modes. A replaced file keeps its permission bits (0600 stays 0600). A new
 // file gets 0666 less the process's umask, as a file made by open(2) does:
 // the temporary file is created with that request and the operating system
-// applies the umask. Owner and group are those of the writing process.
+// applies the umask. Owner and group are those of the writing process. A
+// replaced file with other hard links is replaced by a new file: its other
+// names keep the old content.
 //
 // Temporary names. A temporary file is named
 // ".NAME.tmp-HOST-PID-RANDOM" beside its target, where HOST is a short hash of
