@@ -92,61 +92,41 @@ const ManifestName = "manifest.csv"
 // [ReadCSV] and [ReadManifestFile]).
 //
 // The directory appears complete or not at all: everything is written to a
-// temporary directory beside it, which is then renamed. ExportQASM refuses
+// temporary directory beside it (named .DIR.tmp-HOST-PID-RANDOM), which is
+// then renamed. A temporary directory left by a killed process of this host
+// is removed by the next export to the same directory. ExportQASM refuses
 // a dir that exists and is not empty, so old programs never mix with new
 // ones. It returns an error if the lengths differ, the widths differ, a
 // count is negative or there are no settings.
 func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
-	if len(settings) != len(shots) {
-		return fmt.Errorf("estimate: ExportQASM: %d settings but %d shot counts", len(settings), len(shots))
-	}
-	if len(settings) == 0 {
-		return fmt.Errorf("estimate: ExportQASM: no settings")
-	}
-	for k, s := range settings {
-		if s.Qubits() != settings[0].Qubits() {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has %d qubits, setting 0 has %d", k, s, s.Qubits(), settings[0].Qubits())
-		}
-		if shots[k] < 0 {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has negative shot count %d", k, s, shots[k])
-		}
-	}
-	distinct, total := pauli.MergeSettings(settings, shots)
-	if len(distinct) == 0 {
-		return errors.New("estimate: ExportQASM: no setting has shots")
+	distinct, total, err := mergeSettings("ExportQASM", settings, shots)
+	if err != nil {
+		return err
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
 		return fmt.Errorf("estimate: ExportQASM: directory %s is not empty", dir)
 	} else if err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}
-	parent, base := filepath.Split(filepath.Clean(dir))
-	if parent == "" {
-		parent = "."
-	}
-	tmp, err := os.MkdirTemp(parent, "."+base+".tmp*")
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if err != nil {
-			os.RemoveAll(tmp)
+	return atomicfile.WriteDir(dir, func(tmp string) error {
+		digits := len(strconv.Itoa(len(distinct) - 1))
+		names := make([]string, len(distinct))
+		var buf []byte
+		for d, s := range distinct {
+			names[d] = fmt.Sprintf("setting_%0*d.qasm", digits, d)
+			buf = AppendQASM(buf[:0], s)
+			if err := os.WriteFile(filepath.Join(tmp, names[d]), buf, 0o666); err != nil {
+				return err
+			}
 		}
-	}()
-	if err = os.Chmod(tmp, 0o755); err != nil {
-		return err
-	}
-	digits := len(strconv.Itoa(len(distinct) - 1))
-	names := make([]string, len(distinct))
-	var buf []byte
-	for d, s := range distinct {
-		names[d] = fmt.Sprintf("setting_%0*d.qasm", digits, d)
-		buf = AppendQASM(buf[:0], s)
-		if err = os.WriteFile(filepath.Join(tmp, names[d]), buf, 0o644); err != nil {
-			return err
-		}
-	}
-	err = atomicfile.Write(filepath.Join(tmp, ManifestName), func(w io.Writer) error {
+		return writeManifest(filepath.Join(tmp, ManifestName), distinct, names, total)
+	})
+}
+
+// writeManifest writes a manifest: row d gives program names[d], setting
+// distinct[d] and shot count total[d].
+func writeManifest(path string, distinct []pauli.Setting, names []string, total []int) error {
+	return atomicfile.Write(path, func(w io.Writer) error {
 		bw := bufio.NewWriter(w)
 		bw.WriteString(manifestHeader + "\n")
 		for d, s := range distinct {
@@ -154,14 +134,31 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 		}
 		return bw.Flush()
 	})
-	if err != nil {
-		return err
+}
+
+// mergeSettings checks the arguments of an export and merges repeated
+// settings, adding their shots: it returns the distinct settings in order
+// of first appearance with their total shot counts.
+func mergeSettings(fn string, settings []pauli.Setting, shots []int) (distinct []pauli.Setting, total []int, err error) {
+	if len(settings) != len(shots) {
+		return nil, nil, fmt.Errorf("estimate: %s: %d settings but %d shot counts", fn, len(settings), len(shots))
 	}
-	// An empty existing directory is replaced.
-	if err = os.Remove(dir); err != nil && !errors.Is(err, os.ErrNotExist) {
-		return err
+	if len(settings) == 0 {
+		return nil, nil, fmt.Errorf("estimate: %s: no settings", fn)
 	}
-	return os.Rename(tmp, dir)
+	for k, s := range settings {
+		if s.Qubits() != settings[0].Qubits() {
+			return nil, nil, fmt.Errorf("estimate: %s: setting %d (%s) has %d qubits, setting 0 has %d", fn, k, s, s.Qubits(), settings[0].Qubits())
+		}
+		if shots[k] < 0 {
+			return nil, nil, fmt.Errorf("estimate: %s: setting %d (%s) has negative shot count %d", fn, k, s, shots[k])
+		}
+	}
+	distinct, total = pauli.MergeSettings(settings, shots)
+	if len(distinct) == 0 {
+		return nil, nil, fmt.Errorf("estimate: %s: no setting has shots", fn)
+	}
+	return distinct, total, nil
 }
 
 // ReadManifest reads a manifest written by [ExportQASM] and returns its

@@ -13,7 +13,7 @@ func convertFlags(fs *flag.FlagSet, e *env) func() error {
 	fs.TextVar(&enc, "encoding", fermion.JordanWigner, "fermion-to-qubit encoding: jw (Jordan–Wigner), bk (Bravyi–Kitaev) or parity")
 	frozen := fs.Int("frozen", 0, "number of lowest spatial orbitals frozen doubly occupied")
 	active := fs.Int("active", 0, "number of active spatial orbitals above the frozen ones (0: all the rest)")
-	out := fs.String("o", "", "output Hamiltonian file (text format; JSON if the name ends in .json)")
+	out := fs.String("o", "", "output Hamiltonian file (text format; JSON if the name ends in .json; - for standard output)")
 	return func() error {
 		if err := e.positional(1, "the FCIDUMP file"); err != nil {
 			return err
@@ -23,6 +23,9 @@ func convertFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		path := e.args[0]
 		if err := notInput(*out, path); err != nil {
+			return err
+		}
+		if err := e.output(*out); err != nil {
 			return err
 		}
 		g, err := molecule.ReadFCIDUMPFile(path)
@@ -42,8 +45,8 @@ func convertFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		if err := writeHam(*out, h); err != nil {
-			return bad(err)
+		if err := e.writeHamOutput(*out, h); err != nil {
+			return err
 		}
 		res := struct {
 			Input     string  `json:"input"`
@@ -59,7 +62,7 @@ func convertFlags(fs *flag.FlagSet, e *env) func() error {
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d qubits, %s, offset %.10g, one-norm %.6g\n", *out, h.Qubits(), plural(h.Len(), "term"), h.Offset(), h.OneNorm())
+		fmt.Fprintf(e.stdout, "wrote %s: %d qubits, %s, offset %.10g, one-norm %.6g\n", outName(*out), h.Qubits(), plural(h.Len(), "term"), h.Offset(), h.OneNorm())
 		fmt.Fprintf(e.stdout, "(%s encoding of %d active orbitals with %d electrons; spin orbitals interleaved α, β)\n", enc, g.Orbitals(), g.Electrons)
 		return nil
 	}

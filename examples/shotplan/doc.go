@@ -20,5 +20,11 @@
 // Bad input — a missing or malformed file, an unknown strategy, a plan made
 // for another Hamiltonian — ends the command with exit status 2 and one line
 // on standard error naming the file, the line and the problem. Output files
-// are written atomically: a failed step leaves no partial file.
+// are written atomically: a failed step leaves no partial file. Only regular
+// files are written; -o - writes a plan, records or Hamiltonian to standard
+// output. SIGINT and SIGTERM remove the temporary files of a step and end it
+// with status 130 or 143. Costly steps are estimated before they start and
+// refused past a limit that a flag raises (plan -shot-limit, info -exact and
+// simulate -memory-limit, export -program-limit; see the README's "Limits
+// and bad input").
 package main

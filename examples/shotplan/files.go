@@ -117,7 +117,7 @@ func plural(n int, word string) string {
 // files: writing it would destroy the input.
 func notInput(out string, inputs ...string) error {
 	o, err := os.Stat(out)
-	if err != nil {
+	if err != nil || out == stdoutName {
 		return nil // a new file: cannot be an input
 	}
 	for _, in := range inputs {

@@ -9,6 +9,7 @@ import (
 
 func infoFlags(fs *flag.FlagSet, e *env) func() error {
 	exact := fs.Bool("exact", false, fmt.Sprintf("also compute the exact ground energy (up to %d qubits)", hamiltonian.MaxExactQubits))
+	memLimit := memoryLimitFlag(fs, "-exact")
 	return func() error {
 		if err := e.positional(1, "the Hamiltonian file"); err != nil {
 			return err
@@ -35,7 +36,12 @@ func infoFlags(fs *flag.FlagSet, e *env) func() error {
 			if h.Qubits() > hamiltonian.MaxExactQubits {
 				return badf("%s: -exact: %d qubits, the exact solver takes at most %d", path, h.Qubits(), hamiltonian.MaxExactQubits)
 			}
+			if err := checkMemory(fmt.Sprintf("%s: -exact on %d qubits", path, h.Qubits()), exactBytes(h.Qubits()), memLimit); err != nil {
+				return err
+			}
+			stop := e.busy(fmt.Sprintf("exact ground state of %d qubits", h.Qubits()))
 			g, err := hamiltonian.GroundState(h, nil)
+			stop()
 			if err != nil {
 				return err
 			}

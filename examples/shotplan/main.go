@@ -11,6 +11,7 @@ import (
 )
 
 func main() {
+	handleSignals(os.Stderr)
 	os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 }
 
@@ -39,6 +40,7 @@ var commands = []command{
 // env is what a subcommand writes to.
 type env struct {
 	stdout, stderr io.Writer
+	data           io.Writer // standard output, when -o - sends the output there
 	json           bool
 	args           []string // positional arguments, wherever they stood among the flags
 }

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"os"
 	"strings"
 
@@ -42,7 +43,8 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	shots := fs.Int("shots", 1000, "number of shots to plan")
 	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
 	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
-	out := fs.String("o", "", "output plan file (required)")
+	out := fs.String("o", "", "output plan file (required; - for standard output)")
+	shotLimit := fs.Int("shot-limit", defaultShotLimit, "refuse more shots than this with a strategy that chooses a setting for every shot")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -51,6 +53,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		if err := notInput(*out, *ham, *settings); err != nil {
+			return err
+		}
+		if err := e.output(*out); err != nil {
 			return err
 		}
 		a, err := allocate.ByName(*strategy, *seed)
@@ -71,15 +76,20 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
 		}
-		p, err := allocate.Run(h, *shots, a, nil)
+		if err := checkShotLimit(*strategy, a, *shots, *shotLimit, h.Qubits()); err != nil {
+			return err
+		}
+		report, done := e.planProgress("planning " + *strategy)
+		p, err := allocate.Run(h, *shots, a, &allocate.Settings{Progress: report})
+		done()
 		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
 			return badf("%s: %w", *ham, err)
 		}
 		if err != nil {
 			return err
 		}
-		if err := allocate.WritePlanFile(*out, p, *seed); err != nil {
-			return bad(err)
+		if err := e.writeOutput(*out, func(w io.Writer) error { return allocate.WritePlan(w, p, *seed) }); err != nil {
+			return err
 		}
 		distinct, _ := p.Distinct()
 		uncovered := 0
@@ -102,7 +112,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %s strategy, %d shots on %s", *out, res.Strategy, res.Shots, plural(res.Settings, "distinct setting"))
+		fmt.Fprintf(e.stdout, "wrote %s: %s strategy, %d shots on %s", outName(*out), res.Strategy, res.Shots, plural(res.Settings, "distinct setting"))
 		if uncovered > 0 {
 			fmt.Fprintf(e.stdout, "; %s never measured", plural(uncovered, "term"))
 		}

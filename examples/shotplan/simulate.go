@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"io"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -13,7 +14,8 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	plan := fs.String("plan", "", "plan file (required)")
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
 	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P, P01,P10 sets the two directions (default none)")
-	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required)")
+	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
+	memLimit := memoryLimitFlag(fs, "the simulation")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -24,6 +26,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := notInput(*out, *ham, *plan); err != nil {
 			return err
 		}
+		if err := e.output(*out); err != nil {
+			return err
+		}
 		h, f, err := loadHamPlan(*ham, *plan)
 		if err != nil {
 			return err
@@ -31,25 +36,31 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if h.Qubits() > hamiltonian.MaxExactQubits {
 			return badf("%s: %d qubits, the simulator takes at most %d", *ham, h.Qubits(), hamiltonian.MaxExactQubits)
 		}
+		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()), simulateBytes(h.Qubits(), f.Plan.TotalShots()), memLimit); err != nil {
+			return err
+		}
 		ro, err := parseReadout(*readout, h.Qubits())
 		if err != nil {
 			return err
 		}
+		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
 		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
 		if err != nil {
+			stop()
 			return err
 		}
 		rec := estimate.NewRecords(h.Qubits())
-		if err := sim.Run(f.Plan.Settings, f.Plan.Shots, rec); err != nil {
+		err = sim.Run(f.Plan.Settings, f.Plan.Shots, rec)
+		stop()
+		if err != nil {
 			return err
 		}
+		write := estimate.WriteCSV
 		if isJSON(*out) {
-			err = estimate.WriteJSONFile(*out, rec)
-		} else {
-			err = estimate.WriteCSVFile(*out, rec)
+			write = estimate.WriteJSON
 		}
-		if err != nil {
-			return bad(err)
+		if err := e.writeOutput(*out, func(w io.Writer) error { return write(w, rec) }); err != nil {
+			return err
 		}
 		res := struct {
 			Output       string  `json:"output"`
@@ -61,7 +72,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", *out, rec.Len(), ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", outName(*out), rec.Len(), ground.Energy, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
