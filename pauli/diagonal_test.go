@@ -47,7 +47,7 @@ func checkDiagonalization(t *testing.T, fam []String, d *Diagonalization) {
 	}
 }
 
-// TestDiagonalizeMatrix is the check of issue 8: for random commuting
+// TestDiagonalizeMatrix checks Diagonalize against matrices: for random commuting
 // families on n ≤ 6 qubits, every member's image is ±(a Z-string), verified by
 // explicit matrix conjugation U P U† with gonum dense matrices.
 func TestDiagonalizeMatrix(t *testing.T) {
