@@ -8,6 +8,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // mustH builds a Hamiltonian from "coeff pauli" pairs.
@@ -129,3 +130,18 @@ func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []in
 func near(got, want, rel float64) bool {
 	return math.Abs(got-want) <= rel*math.Max(1, math.Abs(want))
 }
+
+// binomialLimit returns the smallest k with P(X > k) ≤ alpha for X
+// binomial(n, p), from gonum's binomial CDF.
+func binomialLimit(n int, p, alpha float64) int {
+	b := distuv.Binomial{N: float64(n), P: p}
+	for k := range n {
+		if 1-b.CDF(float64(k)) <= alpha {
+			return k
+		}
+	}
+	return n
+}
+
+// BinomialLimit exports binomialLimit to the external tests.
+var BinomialLimit = binomialLimit
