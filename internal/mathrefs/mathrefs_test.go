@@ -1,4 +1,6 @@
-package shotplan_test
+// Package mathrefs holds only a test: every citation of the repository's
+// MATH.md must name a section it has.
+package mathrefs_test
 
 import (
 	"io/fs"
@@ -9,6 +11,9 @@ import (
 	"strings"
 	"testing"
 )
+
+// root is the repository root, seen from this package's directory.
+const root = "../.."
 
 // The repository's MATH.md is the single place code and docs cite for
 // formulas. These tests read every .go and .md file of the module and fail
@@ -57,7 +62,7 @@ func citations(text string) []string {
 
 func readMath(t *testing.T) string {
 	t.Helper()
-	b, err := os.ReadFile("MATH.md")
+	b, err := os.ReadFile(filepath.Join(root, "MATH.md"))
 	if err != nil {
 		t.Fatalf("the repository must carry its math document: %v", err)
 	}
@@ -105,12 +110,12 @@ func TestMathCitationsExist(t *testing.T) {
 		}
 	}
 	files, cites := 0, 0
-	err := filepath.WalkDir(".", func(path string, d fs.DirEntry, err error) error {
+	err := filepath.WalkDir(root, func(path string, d fs.DirEntry, err error) error {
 		if err != nil {
 			return err
 		}
 		if d.IsDir() {
-			if path != "." && strings.HasPrefix(d.Name(), ".") && d.Name() != ".ci" {
+			if path != root && strings.HasPrefix(d.Name(), ".") && d.Name() != ".ci" {
 				return filepath.SkipDir // .git and the like
 			}
 			return nil
@@ -123,10 +128,11 @@ func TestMathCitationsExist(t *testing.T) {
 			return err
 		}
 		files++
+		rel, _ := filepath.Rel(root, path)
 		for _, s := range citations(string(b)) {
 			cites++
 			if !secs[s] {
-				t.Errorf("%s cites MATH.md §%s, which has no heading in MATH.md", path, s)
+				t.Errorf("%s cites MATH.md §%s, which has no heading in MATH.md", rel, s)
 			}
 		}
 		return nil
