@@ -149,7 +149,7 @@ type VarianceSettings struct {
 }
 
 // Reweight returns weights over [Moments.Settings] that minimise the
-// estimated second moment of the single-shot value of MATH.md §4.1,
+// estimated second moment of the single-shot value of MATH.md §4.1 (§4.6),
 //
 //	S(π) = Ê[(X − h_0)²] = Σ_i h_i²/f_i + 2 Σ_{i<k} h_i h_k m̂_ik f_ik/(f_i f_k),
 //

@@ -91,8 +91,8 @@
 // symmetric flips and leaves a bias bounded by [Result.ReadoutBias]
 // otherwise. The division scales the spread up by the same factor, so
 // mitigation widens the error bar. (Independent per-qubit flips and the
-// per-qubit rescaling are common practice; MATH.md does not cover readout,
-// so the expectation above is derived here: a flipped qubit multiplies
+// per-qubit rescaling are common practice; the expectation and the bias
+// bound are derived in MATH.md §2.1: a flipped qubit multiplies
 // (−1)^bit by −1, so E[(−1)^read] = (1 − P01 − P10)·(−1)^bit + (P10 − P01)
 // per qubit, and the product over the support gives the factor and the
 // asymmetry terms.)

@@ -12,8 +12,8 @@ import "strconv"
 //
 //	plan of the shots                 stop decided          use                                  why
 //	fixed list, counts set in advance  before any shot       Certify / CertifyPlan (a priori)     worst case over all states; no data needed (MATH §3.1)
-//	fixed list, counts set in advance  after the shots       Empirical                            adapts to the state's variance; one look at the data (§4)
-//	fixed list, repeated in rounds     after each round      Sequential                           δ spent over the rounds by StoppingSchedule (§4)
+//	fixed list, counts set in advance  after the shots       Empirical                            adapts to the state's variance; one look at the data (§4.3)
+//	fixed list, repeated in rounds     after each round      Sequential                           δ spent over the rounds by StoppingSchedule (§4.4)
 //	settings drawn i.i.d. from π       after the shots       RandomizedBound                      one look; i.i.d. single-shot values (§4.1)
 //	settings drawn i.i.d. from π       whenever you like     Anytime with Betting (default)       valid at every time at once; near the normal width for many shots
 //	settings drawn i.i.d. from π       whenever you like     Anytime with BernsteinEpochs         same guarantee, closed form, wider by the union over epochs

@@ -16,7 +16,11 @@ var anytimeReport = flag.String("anytime.report", "", "write the tightness repor
 
 // TestAnytimeReport measures how close the certified intervals come to the
 // truth and writes the tables to the file named by -anytime.report; it is
-// skipped without the flag. Reproduce with
+// skipped without the flag (it takes several minutes). It checks that every
+// row's intervals miss the exact energy no more often than δ allows
+// (checkMisses: false failure at most 10^-3 per row, 30 rows) and that every
+// molecule run certifies its target. With -short only the first table's
+// rows at N = 1000 are run, 100 repetitions each. Reproduce with
 //
 //	go test ./guarantee -run TestAnytimeReport -anytime.report /tmp/bench/anytime.md -timeout 30m
 func TestAnytimeReport(t *testing.T) {
@@ -41,11 +45,16 @@ func TestAnytimeReport(t *testing.T) {
 		mean, second := exactMoments(sys.h, sys.state)
 		dev := newTableDevice(t, sys.state, 99)
 		for _, pilot := range []int{0, 1000} {
-			for _, n := range []int{1000, 10000, 100000} {
+			sizes := []int{1000, 10000, 100000}
+			if testing.Short() {
+				sizes = sizes[:1]
+			}
+			for _, n := range sizes {
 				reps := 400
-				if n == 100000 {
+				if n == 100000 || testing.Short() {
 					reps = 100
 				}
+				miss := 0
 				var radii, errs []float64
 				var sigma float64
 				for r := range reps {
@@ -57,9 +66,13 @@ func TestAnytimeReport(t *testing.T) {
 					if r == 0 {
 						sigma = math.Sqrt(res.Plan.Variance(mean, second))
 					}
+					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
+						miss++
+					}
 					radii = append(radii, res.Radius)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 				}
+				checkMisses(t, fmt.Sprintf("%s pilot %d N=%d", sys.name, pilot, n), miss, reps, delta)
 				slices.Sort(radii)
 				slices.Sort(errs)
 				med := radii[len(radii)/2]
@@ -75,6 +88,11 @@ func TestAnytimeReport(t *testing.T) {
 		}
 	}
 
+	if testing.Short() {
+		// A smoke run of the first table only (about half a minute of CPU).
+		writeAnytimeReport(t, b.String())
+		return
+	}
 	fmt.Fprintf(&b, "\n## Without a known horizon: time-uniform bets and the epoch bound (greedy π)\n\n")
 	fmt.Fprintf(&b, "The rows above tune the bets for a sample size fixed in advance. With no horizon the betting CS uses the paper's\n")
 	fmt.Fprintf(&b, "time-uniform bets, and BernsteinCS checks at epochs growing by 1.2 with δ_k = δ(P−1)/(P k^P), P = 1.5.\n\n")
@@ -89,6 +107,7 @@ func TestAnytimeReport(t *testing.T) {
 		for _, m := range []AnytimeMethod{Betting, BernsteinEpochs} {
 			for _, n := range []int{10000, 100000} {
 				const reps = 100
+				miss := 0
 				var radii, errs, merrs []float64
 				for r := range reps {
 					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n, Method: m,
@@ -96,10 +115,14 @@ func TestAnytimeReport(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
+					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
+						miss++
+					}
 					radii = append(radii, res.Radius)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 					merrs = append(merrs, math.Abs(res.Mean-sys.energy))
 				}
+				checkMisses(t, fmt.Sprintf("%s %v N=%d", sys.name, m, n), miss, reps, delta)
 				slices.Sort(radii)
 				slices.Sort(errs)
 				slices.Sort(merrs)
@@ -151,10 +174,28 @@ func TestAnytimeReport(t *testing.T) {
 		fmt.Fprintf(&b, "| %s | %.3g | %.3g | %.0f× fewer |\n", sys.name, med, worst, worst/med)
 		t.Logf("%s: anytime %.3g shots, worst case %.3g", sys.name, med, worst)
 	}
+	writeAnytimeReport(t, b.String())
+}
+
+// writeAnytimeReport writes the report to the file named by -anytime.report.
+func writeAnytimeReport(t *testing.T, report string) {
+	t.Helper()
 	if err := atomicfile.Write(*anytimeReport, func(w io.Writer) error {
-		_, err := io.WriteString(w, b.String())
+		_, err := io.WriteString(w, report)
 		return err
 	}); err != nil {
 		t.Fatal(err)
+	}
+}
+
+// checkMisses fails when a row's intervals miss the exact energy more often
+// than a confidence sequence at level 1 − δ allows: the misses of
+// independent repetitions are at most binomial(reps, δ) in distribution, and
+// the limit is exceeded with probability at most 10^-3 per row
+// (binomialLimit).
+func checkMisses(t *testing.T, row string, miss, reps int, delta float64) {
+	t.Helper()
+	if limit := binomialLimit(reps, delta, 1e-3); miss > limit {
+		t.Errorf("%s: %d of %d intervals miss E, want at most %d at δ = %v", row, miss, reps, limit, delta)
 	}
 }

@@ -8,15 +8,16 @@ import (
 // BettingCS is the hedged betting confidence sequence of Waudby-Smith &
 // Ramdas, "Estimating means of bounded random variables by betting" (JRSS B
 // 86(1), 2024; arXiv:2010.09686), with their predictable plug-in bets,
-// implemented from the paper's description. Equation and theorem numbers
-// below are from memory of the arXiv version and may be off by one between
-// versions; the construction is stated in full so that it can be checked.
+// implemented from the paper's description. The construction is stated in
+// full so that it can be checked, and its validity is derived in MATH.md
+// §4.5 (the martingale property and Ville's inequality), so no numbered
+// result of the paper is relied on.
 //
 // # The method
 //
 // Samples x are rescaled to y = (x − Lo)/(Hi − Lo) ∈ [0, 1], mean m* =
 // (μ − Lo)/(Hi − Lo). For every candidate mean m ∈ [0, 1] two capital
-// processes bet on y_t − m (the paper's §4, "hedged capital process"):
+// processes bet on y_t − m (the paper's "hedged capital process"):
 //
 //	K⁺_t(m) = Π_{i≤t} (1 + λ⁺_i(m) (y_i − m)),   λ⁺_i(m) = min(λ̇_i, c/m),
 //	K⁻_t(m) = Π_{i≤t} (1 − λ⁻_i(m) (y_i − m)),   λ⁻_i(m) = min(λ̇_i, c/(1−m)),
@@ -37,8 +38,7 @@ import (
 // narrowest near t = n*. With an aim instead (BettingOptions.Aim), n* is
 // re-estimated from the past samples before every bet.
 //
-// The confidence sequence is C_t = {m : K±_t(m) < 1/δ} (the paper's Theorem
-// 3 for the hedged process).
+// The confidence sequence is C_t = {m : K±_t(m) < 1/δ} (MATH.md §4.5).
 //
 // # Why it is valid (checkable without the paper)
 //

@@ -1,8 +1,10 @@
 package guarantee
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -132,38 +134,86 @@ func FuzzVarianceBelowOneNorm(f *testing.F) {
 	})
 }
 
-func TestCertifyPlanEqualsList(t *testing.T) {
-	rng := rand.New(rand.NewPCG(5, 6))
-	h := randomH(t, rng, 6, 40, 3)
-	settings, shots := randomPlan(rng, 6, 30, 6)
-	for k := range shots {
-		shots[k]++ // a Plan's counts are positive
+// TestCertifyPlanReference checks CertifyPlan against MATH.md §3.1–3.2
+// evaluated independently: cover counts and V shot by shot with covers
+// tested letter by letter on the text forms (referenceV), then
+// Radius = sqrt(2 V ln(2/δ)), RelaxedRadius = ‖h'‖_1 sqrt(2 ln(2/δ)) and
+// Total = Radius + B_0, the number of distinct settings counted by their
+// text. A plan split into repeated entries (the same settings, each shot
+// count cut in two) must give the same numbers: the certificate depends on
+// multiplicities only (§3.1). A plan whose Cover disagrees with its settings
+// is refused, naming the term.
+func TestCertifyPlanReference(t *testing.T) {
+	if !letterCovers("IXIZ", "YXZZ") || letterCovers("IXIZ", "YYZZ") || !letterCovers("II", "XY") {
+		t.Fatal("letterCovers disagrees with MATH.md §1 on hand cases")
 	}
-	cover, err := allocate.CoverCounts(h, settings, shots)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p := &allocate.Plan{Qubits: 6, Settings: settings, Shots: shots, Cover: cover}
-	fromPlan, err := CertifyPlan(h, p, 0.05, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	fromList, err := Certify(h, settings, shots, 0.05, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if diff := cmp.Diff(fromList, fromPlan, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
-		t.Errorf("CertifyPlan differs from Certify on the same settings (-list +plan):\n%s", diff)
-	}
-	// Merging the plan's repeated settings (Plan.Distinct) changes nothing
-	// either: the certificate depends on multiplicities only.
-	ds, dn := p.Distinct()
-	fromDistinct, err := Certify(h, ds, dn, 0.05, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if diff := cmp.Diff(fromList, fromDistinct, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
-		t.Errorf("Certify on Plan.Distinct differs (-list +distinct):\n%s", diff)
+	const delta = 0.05
+	l := math.Log(2 / delta)
+	for trial := range 20 {
+		rng := rand.New(rand.NewPCG(5, uint64(6+trial)))
+		nq := 2 + trial%7
+		h := randomH(t, rng, nq, 5+3*trial, min(nq, 3))
+		settings, shots := randomPlan(rng, nq, 3+trial, 6)
+		for k := range shots {
+			shots[k]++ // a Plan's counts are positive
+		}
+		// Cover counts letter by letter, as the plan carries them.
+		cover := make([]int, h.Len())
+		distinct := make(map[string]bool)
+		total := 0
+		for k, s := range settings {
+			distinct[s.String()] = true
+			total += shots[k]
+			for i := range h.Len() {
+				if letterCovers(h.Pauli(i).String(), s.String()) {
+					cover[i] += shots[k]
+				}
+			}
+		}
+		v, one, bias := referenceV(h, settings, shots)
+		want := struct{ v, radius, relaxed, total float64 }{v, math.Sqrt(2 * v * l), one * math.Sqrt(2*l), math.Sqrt(2*v*l) + bias}
+		p := &allocate.Plan{Qubits: nq, Settings: settings, Shots: shots, Cover: cover}
+		// The same plan with every entry split in two (a shot count of 1
+		// stays whole): the same multiplicities.
+		var ss []pauli.Setting
+		var sn []int
+		for k, s := range settings {
+			if a := shots[k] / 2; a > 0 {
+				ss, sn = append(ss, s), append(sn, a)
+			}
+			ss, sn = append(ss, s), append(sn, shots[k]-shots[k]/2)
+		}
+		split := &allocate.Plan{Qubits: nq, Settings: ss, Shots: sn, Cover: cover}
+		for name, plan := range map[string]*allocate.Plan{"plan": p, "split": split} {
+			c, err := CertifyPlan(h, plan, delta, nil)
+			if err != nil {
+				t.Fatalf("trial %d %s: %v", trial, name, err)
+			}
+			if c.Shots != total || c.Settings != len(distinct) {
+				t.Errorf("trial %d %s: %d shots in %d settings, want %d in %d", trial, name, c.Shots, c.Settings, total, len(distinct))
+			}
+			if !slices.Equal(c.Cover, cover) {
+				t.Errorf("trial %d %s: Cover = %v, letter by letter %v", trial, name, c.Cover, cover)
+			}
+			for _, x := range []struct {
+				what      string
+				got, want float64
+			}{
+				{"Variance", c.Variance, want.v}, {"Radius", c.Radius, want.radius},
+				{"RelaxedRadius", c.RelaxedRadius, want.relaxed}, {"Bias", c.Bias, bias}, {"Total", c.Total, want.total},
+			} {
+				if !near(x.got, x.want, 1e-12) {
+					t.Errorf("trial %d %s: %s = %.15g, reference %.15g", trial, name, x.what, x.got, x.want)
+				}
+			}
+		}
+		// A plan made for another Hamiltonian: one cover count off.
+		bad := append([]int(nil), cover...)
+		bad[len(bad)-1]++
+		_, err := CertifyPlan(h, &allocate.Plan{Qubits: nq, Settings: settings, Shots: shots, Cover: bad}, delta, nil)
+		if wantErr := fmt.Sprintf("term %d ", len(bad)-1); err == nil || !strings.Contains(err.Error(), wantErr) {
+			t.Errorf("trial %d: plan with a wrong cover count: error %v, want one naming %q", trial, err, wantErr)
+		}
 	}
 }
 

@@ -22,10 +22,9 @@ const (
 	// square root of the number of groups instead of linearly (derived
 	// here). With probability 1 − δ/2, every group's standard deviation is
 	// at most sqrt(V_g) + w_g sqrt(2 ln(2G/δ)/(t_g − 1)) (Maurer & Pontil
-	// 2009, Theorem 10, one-sided, rescaled to width w_g, V_g the unbiased
-	// sample variance of t_g samples, G groups; recalled from memory, and
-	// consistent with their Theorem 4, which follows from it and Bernstein's
-	// inequality and whose value REFERENCE_VALUES.md checks), capped at the
+	// 2009, their bound on the sample standard deviation, one-sided,
+	// rescaled to width w_g, V_g the unbiased sample variance of t_g
+	// samples, G groups; MATH.md §4.2, §4.3), capped at the
 	// largest possible value w_g/2, which a group of one shot gets. Then
 	// Bernstein's inequality for the independent centred shot terms, each
 	// within ±b with b the largest group width, bounds the sum at δ/2
@@ -272,7 +271,7 @@ func checkExclude(h *hamiltonian.Hamiltonian, exclude []bool) error {
 }
 
 // Empirical bounds the error of the grouped estimate from the records of a
-// plan of fixed settings (MATH.md §4): the shots of one distinct setting Q
+// plan of fixed settings (MATH.md §4.3): the shots of one distinct setting Q
 // are i.i.d., each giving w = Σ_{i◁Q} (h_i/N_i) s_i in [−s_Q, s_Q], and the
 // estimate is h_0 + Σ_Q m_Q · mean_Q(w), so its error is at most
 // Σ_Q m_Q |mean_Q(w) − E w| plus the bias of the terms left out. Each group's

@@ -60,10 +60,17 @@ func TestCertifyEntangledHandCount(t *testing.T) {
 // TestCertifyEntangledCoverage runs plans of general-commutation groups on
 // the H2 ground state (Jordan–Wigner) 300 times and counts how often the
 // grouped estimate misses the exact energy by more than the certificate's
-// Total at δ = 0.2. The certificate promises at most a fraction δ; the test
-// fails if more than 30% of runs miss (a binomial(300, 0.2) count exceeds
-// 90 with probability below 1e-4, and Hoeffding bounds are conservative,
-// so the true miss rate is far below δ).
+// Total at δ = 0.2. The certificate promises a miss probability of at most
+// δ per run, and the runs are independent, so the count is at most
+// binomial(300, 0.2) in distribution (stochastically dominated). The test
+// fails when the count exceeds the smallest k with P(binomial(300, 0.2) > k)
+// ≤ 10^-3, computed with gonum's binomial distribution (guarantee.BinomialLimit): a correct
+// certificate fails it with probability at most 10^-3 per strategy (three
+// strategies: at most 0.3% in all). The threshold is 82 misses (27%). The
+// worst-case bound is conservative on this state (no run misses), so the
+// count catches gross errors only: a radius 8 times too small gives about
+// 140 misses, one 3 times too small still passes. The exact radius is
+// checked by TestCertifyEntangledHandCount.
 func TestCertifyEntangledCoverage(t *testing.T) {
 	if testing.Short() {
 		t.Skip("300 simulated runs")
@@ -116,8 +123,8 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 			t.Errorf("%s: Empirical energy %v, Grouped %v; want equal", name, db.Energy, res.Energy)
 		}
 		t.Logf("%s: %d settings, certified %.4f at δ = 0.2, %d of %d runs miss; empirical bound %.4f", name, cert.Settings, cert.Total, miss, runs, db.Total)
-		if miss > 90 {
-			t.Errorf("%s: %d of %d runs miss the certified bound %v at δ = 0.2, want at most 90", name, miss, runs, cert.Total)
+		if limit := guarantee.BinomialLimit(runs, 0.2, 1e-3); miss > limit {
+			t.Errorf("%s: %d of %d runs miss the certified bound %v at δ = 0.2, want at most %d", name, miss, runs, cert.Total, limit)
 		}
 	}
 }
@@ -154,5 +161,22 @@ func TestIIDValueEntangled(t *testing.T) {
 		if got := d.Value(0, sh.Outcome); math.Abs(got-0.7) > 1e-12 {
 			t.Errorf("shot %d outcome %s: Value = %v, want 0.7", k, sh.Outcome.Format(2), got)
 		}
+	}
+}
+
+// TestBinomialLimit checks binomialLimit against hand values: for
+// binomial(1, 1/2), P(X > 0) = 1/2, so the limit at α = 1/2 is 0 and at
+// α = 0.4 it is 1; for binomial(300, 0.2) (mean 60, standard deviation
+// sqrt(48) ≈ 6.93) the 10^-3 limit lies about 3.1 standard deviations up,
+// between 80 and 84.
+func TestBinomialLimit(t *testing.T) {
+	if got := guarantee.BinomialLimit(1, 0.5, 0.5); got != 0 {
+		t.Errorf("guarantee.BinomialLimit(1, 1/2, 1/2) = %d, want 0", got)
+	}
+	if got := guarantee.BinomialLimit(1, 0.5, 0.4); got != 1 {
+		t.Errorf("guarantee.BinomialLimit(1, 1/2, 0.4) = %d, want 1", got)
+	}
+	if got := guarantee.BinomialLimit(300, 0.2, 1e-3); got < 80 || got > 84 {
+		t.Errorf("guarantee.BinomialLimit(300, 0.2, 1e-3) = %d, want 80 to 84", got)
 	}
 }

@@ -8,6 +8,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // mustH builds a Hamiltonian from "coeff pauli" pairs.
@@ -68,13 +69,39 @@ func randomPlan(rng *rand.Rand, n, k, maxShots int) ([]pauli.Setting, []int) {
 	return settings, shots
 }
 
-// referenceV computes V of MATH.md §3.1 shot by shot with Setting.Covers:
-// the slow, letter-level reference for the certificate's word-wise sums.
+// letterCovers is P ◁ Q of MATH.md §1 on the dense text forms, letter by
+// letter: on every qubit P is I or Q's letter. It does not touch the bit
+// words the library tests covers with.
+func letterCovers(p, q string) bool {
+	if len(p) != len(q) {
+		panic("letterCovers: widths differ")
+	}
+	for k := range len(p) {
+		if p[k] != 'I' && p[k] != q[k] {
+			return false
+		}
+	}
+	return true
+}
+
+// referenceV computes V of MATH.md §3.1 shot by shot, testing covers letter
+// by letter on the text forms (letterCovers) of local settings: the slow
+// reference for the certificate's word-wise sums.
 func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (v, oneNorm, bias float64) {
+	terms := make([]string, h.Len())
+	for i := range terms {
+		terms[i] = h.Pauli(i).String()
+	}
+	covers := func(s pauli.Setting, i int) bool {
+		if !s.IsLocal() {
+			panic("referenceV: local settings only")
+		}
+		return letterCovers(terms[i], s.String())
+	}
 	cover := make([]int, h.Len())
 	for k, s := range settings {
 		for i := range h.Len() {
-			if s.Covers(h.Pauli(i)) {
+			if covers(s, i) {
 				cover[i] += shots[k]
 			}
 		}
@@ -83,7 +110,7 @@ func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []in
 		for range shots[k] {
 			sum := 0.0
 			for i := range h.Len() {
-				if s.Covers(h.Pauli(i)) {
+				if covers(s, i) {
 					sum += math.Abs(h.Coeff(i)) / float64(cover[i])
 				}
 			}
@@ -103,3 +130,18 @@ func referenceV(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []in
 func near(got, want, rel float64) bool {
 	return math.Abs(got-want) <= rel*math.Max(1, math.Abs(want))
 }
+
+// binomialLimit returns the smallest k with P(X > k) ≤ alpha for X
+// binomial(n, p), from gonum's binomial CDF.
+func binomialLimit(n int, p, alpha float64) int {
+	b := distuv.Binomial{N: float64(n), P: p}
+	for k := range n {
+		if 1-b.CDF(float64(k)) <= alpha {
+			return k
+		}
+	}
+	return n
+}
+
+// BinomialLimit exports binomialLimit to the external tests.
+var BinomialLimit = binomialLimit

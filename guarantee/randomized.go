@@ -145,7 +145,7 @@ func ProductOf(h *hamiltonian.Hamiltonian, probs [][3]float64) (*Randomized, err
 // MATH.md §4.1 from records of a randomised plan with distribution d: the
 // X_n are i.i.d. in an interval of width d.Width, so a bound for the mean of
 // bounded i.i.d. samples applies directly: with form Pooled (the default), a
-// variance bound (Maurer & Pontil 2009, Theorem 10) and Bernstein's
+// variance bound (Maurer & Pontil 2009; MATH.md §4.2) and Bernstein's
 // inequality at δ/2 each; with PerGroupAMS the empirical Bernstein bound of
 // Audibert, Munos & Szepesvári; with PerGroupMP that of Maurer & Pontil,
 // Theorem 4, two-sided. The

@@ -305,7 +305,7 @@ func TestGroundStateTransverseFieldIsingClosedForm(t *testing.T) {
 }
 
 func TestGroundStateTwentyQubits(t *testing.T) {
-	// The widest case the issue asks for: a 20-site ring at J = 1, h = 2,
+	// A wide case, 20 qubits: a 20-site ring at J = 1, h = 2,
 	// against the sum formula E0(N) = −2 Σ_m sqrt(J² + h² − 2Jh
 	// cos((2m−1)π/N)) (Pfeuty 1970, testdata/REFERENCE_VALUES.md). h = 2 is
 	// gapped, so it converges in a few dozen products H·ψ. Tolerance 1e-8.

@@ -17,7 +17,7 @@ import (
 //
 // The one- and two-qubit matrices are those of Nielsen & Chuang, Quantum
 // Computation and Quantum Information, §2.1.3 (Pauli matrices) and §4.2–4.3
-// (H, S, CNOT, controlled-Z); common practice. Following ARCHITECTURE.md, the
+// (H, S, CNOT, controlled-Z); common practice. Following DEVELOPERS.md (Conventions), the
 // basis index is Σ_q bit_q·2^q, so qubit 0 is the rightmost Kronecker factor.
 
 type cmat struct {

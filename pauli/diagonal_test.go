@@ -47,7 +47,7 @@ func checkDiagonalization(t *testing.T, fam []String, d *Diagonalization) {
 	}
 }
 
-// TestDiagonalizeMatrix is the check of issue 8: for random commuting
+// TestDiagonalizeMatrix checks Diagonalize against matrices: for random commuting
 // families on n ≤ 6 qubits, every member's image is ±(a Z-string), verified by
 // explicit matrix conjugation U P U† with gonum dense matrices.
 func TestDiagonalizeMatrix(t *testing.T) {
@@ -84,7 +84,7 @@ func TestDiagonalizeMatrix(t *testing.T) {
 // TestDiagonalizeSampleExpectation checks the meaning of Sample end to end
 // on random states: Σ_b |⟨b|Uψ⟩|² · Sample(i, b) = ⟨ψ|P_i|ψ⟩ exactly (MATH.md
 // §8), with ⟨ψ|P|ψ⟩ from the explicit matrix. Basis index b = Σ_q bit_q·2^q
-// (ARCHITECTURE.md), so for n ≤ 64 the outcome Bits is the index itself.
+// (DEVELOPERS.md, Conventions), so for n ≤ 64 the outcome Bits is the index itself.
 // Tolerance 1e-9: sums of 2^n products of unit-norm quantities.
 func TestDiagonalizeSampleExpectation(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 8))

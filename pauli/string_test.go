@@ -10,7 +10,7 @@ import (
 )
 
 // testWidths cross word boundaries: empty, one word, exactly full words,
-// one qubit into the next word, and the n = 1000.
+// one qubit into the next word, and a wide n = 1000.
 var testWidths = []int{0, 1, 3, 63, 64, 65, 127, 128, 129, 200, 1000}
 
 // genString returns a uniformly random string on n qubits, built letter by

@@ -7,7 +7,7 @@ import (
 
 // BenchmarkQuickstart runs the whole default job — plan 1000 greedy shots,
 // certify, find the exact ground state, simulate, estimate, report — as
-// `go run ./examples/quickstart` does (issue target: under 30 s).
+// `go run ./examples/quickstart` does (target: under 30 s; BENCHMARKS.md).
 func BenchmarkQuickstart(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
