@@ -59,10 +59,10 @@ func ExampleGroundState() {
 	fmt.Printf("E0 = %.9f (closed form %.9f)\n", gs.Energy, -2/math.Sin(math.Pi/16))
 	// By Hellmann–Feynman on the same formula, ⟨X_q⟩ = −(1/N) dE0/dh =
 	// (1/4) Σ_{m=1..4} sin((2m−1)π/16) = 0.640729.
-	fmt.Printf("<X0> = %.6f\n", hamiltonian.Expectation(gs.State, pauli.MustParse("XIIIIIII")))
+	fmt.Printf("<X_0> = %.6f\n", hamiltonian.Expectation(gs.State, pauli.MustParse("XIIIIIII")))
 	// Output:
 	// E0 = -10.251661791 (closed form -10.251661791)
-	// <X0> = 0.640729
+	// <X_0> = 0.640729
 }
 
 func ExampleHamiltonian_Apply() {
