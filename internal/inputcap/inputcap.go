@@ -57,3 +57,10 @@ func ReadAll(r io.Reader, limit int64) ([]byte, error) {
 	}
 	return data, nil
 }
+
+// MaxShots is the most shots one plan may hold and one simulator run may
+// take: 2^32 (about 4.3·10^9). The simulator holds 8 bytes an outcome, 32 GiB
+// at the cap, and budgets in practice stay below 10^9. The plan reader
+// refuses a plan above it, so that a plan it accepts is one the simulator
+// takes, and every shot total stays far from overflowing an int.
+const MaxShots = 1 << 32
