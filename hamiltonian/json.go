@@ -386,8 +386,12 @@ func ReadFile(path string) (*Hamiltonian, error) {
 		}
 		return h, nil
 	}
-	data, err := inputcap.ReadAll(br, MaxReadBytes)
+	cr := &countingReader{r: br} // refuses a NUL byte, which JSON never holds
+	data, err := inputcap.ReadAll(cr, MaxReadBytes)
 	if err != nil {
+		if errors.Is(err, errBinary) {
+			return nil, fmt.Errorf("%s: %w", path, lineError(cr.nulLine, "", "NUL byte: binary data, not a JSON Hamiltonian"))
+		}
 		if errors.Is(err, inputcap.ErrTooLarge) {
 			return nil, fmt.Errorf("%s: hamiltonian: %w: %w (MaxReadBytes)", path, ErrFormat, err)
 		}

@@ -123,6 +123,9 @@ type countingReader struct {
 }
 
 func (c *countingReader) Read(b []byte) (int, error) {
+	if c.nulLine > 0 {
+		return 0, errBinary
+	}
 	if c.n > MaxReadBytes {
 		return 0, io.EOF
 	}

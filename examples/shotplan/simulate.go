@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 
@@ -36,6 +37,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
+		if errors.Is(err, estimate.ErrFormat) {
+			return bad(err) // the library refused an input value
+		}
 		if err != nil {
 			return err
 		}
