@@ -297,6 +297,7 @@ func FuzzRead(f *testing.F) {
 		"1e400 ZZ\n", "1+2i XX\n", "qubits 3\n1 X_5\n", "1 XX\n1 XXX\n",
 		"qubits 99999999999\n", "1 X_99999999\n", "# only a comment\n",
 		"1 I\n", "qubits 0\n", "nan Z\n", "0x1p-3 Z\n", "1 X_0 X_0\n",
+		"\ufeff1 Z\n", "1 Z\n\x00\n", "1_000 ZZ\n", "1e-400 XI\n", "1 X0 Z2\n", "",
 	} {
 		f.Add(s)
 	}
@@ -340,6 +341,49 @@ func FuzzUnmarshalJSON(f *testing.F) {
 		var g Hamiltonian
 		if err := json.Unmarshal(b, &g); err != nil || !g.Equal(&h) {
 			t.Fatalf("round trip of %q: %v", s, err)
+		}
+	})
+}
+
+// FuzzJSONKeys inserts one member, with a fuzzed key and value, into a
+// valid JSON Hamiltonian, at the top level or in its term. Every key of the
+// form is already present except "offset" at the top, so the reader must
+// refuse the result with a *LineError unless the member is a valid offset;
+// it must never panic or accept an unknown or repeated key.
+func FuzzJSONKeys(f *testing.F) {
+	for _, c := range []struct {
+		key, val string
+		inTerm   bool
+	}{
+		{"imag", "0.5", true}, {"terms", "[]", false}, {"coeff", "2", true},
+		{"term", "[]", false}, {"Qubits", "2", false}, {"offset", "1", false},
+		{"offset", "[1, 2]", false}, {"pauli", `"XX"`, true}, {"", "null", false},
+	} {
+		f.Add(c.key, c.val, c.inTerm)
+	}
+	f.Fuzz(func(t *testing.T, key, val string, inTerm bool) {
+		k, _ := json.Marshal(key)
+		member := string(k) + ": " + val
+		var in string
+		if inTerm {
+			in = "{\"qubits\": 2,\n\"terms\": [{\"pauli\": \"ZZ\", \"coeff\": 1,\n" + member + "}]}"
+		} else {
+			in = "{\"qubits\": 2,\n\"terms\": [{\"pauli\": \"ZZ\", \"coeff\": 1}],\n" + member + "}"
+		}
+		if !json.Valid([]byte(in)) {
+			return
+		}
+		var h Hamiltonian
+		err := h.UnmarshalJSON([]byte(in))
+		if err == nil {
+			if inTerm || key != "offset" {
+				t.Fatalf("accepted %q", in)
+			}
+			return
+		}
+		var le *LineError
+		if !errors.Is(err, ErrFormat) || !errors.As(err, &le) || le.Line < 1 || le.Line > 3+strings.Count(val, "\n") {
+			t.Fatalf("UnmarshalJSON(%q) = %v, want a *LineError within the input", in, err)
 		}
 	})
 }
