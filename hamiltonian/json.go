@@ -248,14 +248,15 @@ func readJSON(data []byte) (*Hamiltonian, error) {
 			}
 		}
 	}
+	endLine := jr.line(jr.dec.InputOffset())
 	if _, err := jr.dec.Token(); err != io.EOF {
 		return nil, jr.fail(jr.here(), "text after the closing brace")
 	}
 	if n < 0 {
-		return nil, fmt.Errorf("hamiltonian: %w: missing \"qubits\"", ErrFormat)
+		return nil, jr.fail(endLine, "missing \"qubits\" (the object ends here)")
 	}
 	if len(terms) == 0 && !seen["offset"] {
-		return nil, fmt.Errorf("hamiltonian: %w: no \"terms\" and no \"offset\": the input holds no Hamiltonian", ErrFormat)
+		return nil, jr.fail(endLine, "no \"terms\" and no \"offset\": the input holds no Hamiltonian")
 	}
 	ts := termSet{}
 	ts.init()

@@ -451,38 +451,52 @@ func parseHeader(toks []token, endLine int) (header, []error) {
 		bad(lines["ISYM"], ErrFormat, "header: ISYM=%d, want an irrep label 1 to 8 (D2h and its subgroups)", h.isym)
 	}
 	if vals, ok := items["ORBSYM"]; ok {
-		// labels counts every label; only the first maxOrbitals are kept,
-		// so a hostile repeat count cannot claim unbounded memory.
-		labels := 0
-		for _, t := range vals {
-			// Fortran repeat form "k*v".
-			rep, val := 1, t.text
-			if k := strings.IndexByte(t.text, '*'); k >= 0 {
-				r, err := strconv.Atoi(t.text[:k])
-				if err != nil || r < 1 || r > maxOrbitals {
-					bad(t.line, ErrFormat, "header: ORBSYM repeat %q is not a count", t.text)
-					continue
-				}
-				rep, val = r, t.text[k+1:]
-			}
-			v, err := strconv.Atoi(val)
-			if err != nil {
-				bad(t.line, ErrFormat, "header: ORBSYM value %s is not an integer", inputcap.Quote(t.text))
+		h.orbsym = parseOrbSym(vals, h.norb, lines["ORBSYM"], bad)
+	}
+	checkUHF(items, lines, bad)
+	return h, errs
+}
+
+// parseOrbSym reads the ORBSYM labels, in the Fortran repeat form "k*v" or
+// one by one, each an irrep label 1..8; line is the ORBSYM item's line.
+func parseOrbSym(vals []token, norb, line int, bad func(int, error, string, ...any)) []int {
+	var orbsym []int
+	// labels counts every label; only the first maxOrbitals are kept,
+	// so a hostile repeat count cannot claim unbounded memory.
+	labels := 0
+	for _, t := range vals {
+		// Fortran repeat form "k*v".
+		rep, val := 1, t.text
+		if k := strings.IndexByte(t.text, '*'); k >= 0 {
+			r, err := strconv.Atoi(t.text[:k])
+			if err != nil || r < 1 || r > maxOrbitals {
+				bad(t.line, ErrFormat, "header: ORBSYM repeat %q is not a count", t.text)
 				continue
 			}
-			if v < 1 || v > 8 {
-				bad(t.line, ErrFormat, "header: ORBSYM label %d, want an irrep label 1 to 8 (D2h and its subgroups)", v)
-				continue
-			}
-			labels += rep
-			for range min(rep, maxOrbitals-len(h.orbsym)) {
-				h.orbsym = append(h.orbsym, v)
-			}
+			rep, val = r, t.text[k+1:]
 		}
-		if h.norb > 0 && labels != h.norb {
-			bad(lines["ORBSYM"], ErrFormat, "header: ORBSYM has %d labels, NORB=%d", labels, h.norb)
+		v, err := strconv.Atoi(val)
+		if err != nil {
+			bad(t.line, ErrFormat, "header: ORBSYM value %s is not an integer", inputcap.Quote(t.text))
+			continue
+		}
+		if v < 1 || v > 8 {
+			bad(t.line, ErrFormat, "header: ORBSYM label %d, want an irrep label 1 to 8 (D2h and its subgroups)", v)
+			continue
+		}
+		labels += rep
+		for range min(rep, maxOrbitals-len(orbsym)) {
+			orbsym = append(orbsym, v)
 		}
 	}
+	if norb > 0 && labels != norb {
+		bad(line, ErrFormat, "header: ORBSYM has %d labels, NORB=%d", labels, norb)
+	}
+	return orbsym
+}
+
+// checkUHF refuses an unrestricted file (UHF or IUHF true).
+func checkUHF(items map[string][]token, lines map[string]int, bad func(int, error, string, ...any)) {
 	for _, name := range []string{"UHF", "IUHF"} {
 		vals, ok := items[name]
 		if !ok {
@@ -500,5 +514,4 @@ func parseHeader(toks []token, endLine int) (header, []error) {
 			bad(lines[name], ErrFormat, "header: %s=%s is not a logical value", name, vals[0].text)
 		}
 	}
-	return h, errs
 }
