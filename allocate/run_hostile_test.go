@@ -11,7 +11,6 @@ import (
 
 // zOnly measures ZZ every shot, and can be made to misreport.
 type zOnly struct {
-	lieCover  bool
 	drawn     []int
 	panicInit bool
 	panicNext bool
@@ -21,8 +20,7 @@ func (z *zOnly) String() string { return "zonly" }
 
 func (z *zOnly) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	if z.panicInit {
-		var m map[string]int
-		m["x"] = 1 // a nil-map write, as a careless strategy makes
+		_ = z.drawn[5] // an index past the end, as a careless strategy makes
 	}
 	return nil
 }
@@ -67,7 +65,7 @@ func TestRunVerifiesStrategy(t *testing.T) {
 		{"drawn out of range", zDrawer{&zOnly{drawn: []int{0, 0, 7, 0}}}, "zonly: shot 2 drew term 7, outside [0, 2)"},
 		{"drawn not covered", zDrawer{&zOnly{drawn: []int{0, 1, 0, 0}}}, "zonly: shot 1 drew term 1 (XX), which its setting ZZ does not cover"},
 		{"drawn too few", zDrawer{&zOnly{drawn: []int{0}}}, "zonly: drew 1 terms for 4 shots"},
-		{"panic in Init", &zOnly{panicInit: true}, "zonly panicked in Init: assignment to entry in nil map"},
+		{"panic in Init", &zOnly{panicInit: true}, "zonly panicked in Init: runtime error: index out of range [5] with length 0"},
 		{"panic in Next", &zOnly{panicNext: true}, "zonly panicked in Next: out of ideas"},
 	} {
 		p, err := Run(h, 4, tc.a, nil)
