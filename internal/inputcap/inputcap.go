@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"unicode/utf8"
 )
@@ -62,5 +63,6 @@ func ReadAll(r io.Reader, limit int64) ([]byte, error) {
 // take: 2^32 (about 4.3·10^9). The simulator holds 8 bytes an outcome, 32 GiB
 // at the cap, and budgets in practice stay below 10^9. The plan reader
 // refuses a plan above it, so that a plan it accepts is one the simulator
-// takes, and every shot total stays far from overflowing an int.
-const MaxShots = 1 << 32
+// takes, and every shot total stays far from overflowing an int. On a
+// 32-bit platform it is the largest int.
+const MaxShots = min(1<<32, math.MaxInt)
