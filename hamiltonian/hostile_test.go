@@ -108,22 +108,28 @@ func TestReadCapsEndlessInput(t *testing.T) {
 			t.Errorf("ReadFile(/dev/zero) = %v", err)
 		}
 	}
-	// Byte cap: many short valid lines past MaxReadBytes.
+	// Byte cap: comment lines past MaxReadBytes.
 	if testing.Short() {
 		return
 	}
-	r := io.LimitReader(repeat("0 ZZ\n"), MaxReadBytes+100)
+	r := io.LimitReader(&repeat{s: "#" + strings.Repeat("x", 4000) + "\n"}, MaxReadBytes+100)
 	if _, err := Read(r); err == nil || !strings.Contains(err.Error(), "MaxReadBytes") {
 		t.Errorf("Read past MaxReadBytes = %v", err)
 	}
 }
 
-type repeat string
+// repeat is an endless stream of its text, over and over.
+type repeat struct {
+	s   string
+	pos int
+}
 
-func (s repeat) Read(b []byte) (int, error) {
+func (r *repeat) Read(b []byte) (int, error) {
 	n := 0
-	for n+len(s) <= len(b) {
-		n += copy(b[n:], s)
+	for n < len(b) {
+		k := copy(b[n:], r.s[r.pos:])
+		n += k
+		r.pos = (r.pos + k) % len(r.s)
 	}
 	return n, nil
 }
