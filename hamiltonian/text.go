@@ -75,7 +75,8 @@ func lineError(line int, text, format string, args ...any) error {
 // (binary data), or a Hamiltonian whose term table would exceed
 // [MaxReadWords]. A leading UTF-8 byte order mark is skipped.
 func Read(r io.Reader) (*Hamiltonian, error) {
-	tr := &textReader{cr: &countingReader{r: r}}
+	tr := &textReader{cr: &countingReader{r: r}, declared: -1, width: -1}
+	tr.terms.init()
 	tr.bad = func(text, format string, args ...any) {
 		if len(tr.errs) < maxLineErrors {
 			tr.errs = append(tr.errs, lineError(tr.lineNo, text, format, args...))
@@ -158,10 +159,6 @@ type textReader struct {
 
 // line reads one line of the text format.
 func (tr *textReader) line(raw string) {
-	if tr.terms.index == nil {
-		tr.declared, tr.width = -1, -1
-		tr.terms.init()
-	}
 	text := raw
 	if k := strings.IndexByte(text, '#'); k >= 0 {
 		text = text[:k]
@@ -323,10 +320,6 @@ func (tr *textReader) dense(raw string, c float64, s string) {
 
 // finish checks the whole file and builds the Hamiltonian.
 func (tr *textReader) finish() (*Hamiltonian, error) {
-	if tr.terms.index == nil {
-		tr.terms.init()
-		tr.declared, tr.width = -1, -1
-	}
 	n := tr.declared
 	if n < 0 {
 		n = tr.width
