@@ -321,7 +321,7 @@ func (pr *planReader) delim(want json.Delim, line int, entry string) error {
 		return pr.jsonFail(line, entry, err)
 	}
 	if d, ok := tok.(json.Delim); !ok || d != want {
-		return pr.fail(line, entry, "want %q, found %v", string(want), tok)
+		return pr.fail(line, entry, "want %q, found %s", string(want), inputcap.Clip(fmt.Sprint(tok)))
 	}
 	return nil
 }

@@ -310,11 +310,11 @@ func parseValue(s string) (float64, string) {
 	v, err := strconv.ParseFloat(fortranExponent.Replace(s), 64)
 	switch {
 	case err == nil && (math.IsNaN(v) || math.IsInf(v, 0)):
-		return 0, fmt.Sprintf("value %q is not finite", s)
+		return 0, fmt.Sprintf("value %s is not finite", inputcap.Quote(s))
 	case errors.Is(err, strconv.ErrRange):
-		return 0, fmt.Sprintf("value %q out of range", s)
+		return 0, fmt.Sprintf("value %s out of range", inputcap.Quote(s))
 	case err != nil:
-		return 0, fmt.Sprintf("value %q is not a number", s)
+		return 0, fmt.Sprintf("value %s is not a number", inputcap.Quote(s))
 	}
 	return v, ""
 }
@@ -391,7 +391,7 @@ func parseHeader(toks []token, endLine int) (header, []error) {
 	lines := map[string]int{}
 	for i := 0; i < len(toks); {
 		if i+1 >= len(toks) || toks[i+1].text != "=" || toks[i].text == "=" {
-			bad(toks[i].line, ErrFormat, "header: unexpected %q, want NAME=value", toks[i].text)
+			bad(toks[i].line, ErrFormat, "header: unexpected %s, want NAME=value", inputcap.Quote(toks[i].text))
 			i++
 			continue
 		}
@@ -470,7 +470,7 @@ func parseOrbSym(vals []token, norb, line int, bad func(int, error, string, ...a
 		if k := strings.IndexByte(t.text, '*'); k >= 0 {
 			r, err := strconv.Atoi(t.text[:k])
 			if err != nil || r < 1 || r > maxOrbitals {
-				bad(t.line, ErrFormat, "header: ORBSYM repeat %q is not a count", t.text)
+				bad(t.line, ErrFormat, "header: ORBSYM repeat %s is not a count", inputcap.Quote(t.text))
 				continue
 			}
 			rep, val = r, t.text[k+1:]

@@ -37,4 +37,11 @@ func TestFCIDUMPHeaderImplications(t *testing.T) {
 	if _, err := ReadFCIDUMP(strings.NewReader(ok)); err != nil {
 		t.Errorf("integrals allowed by symmetry: %v", err)
 	}
+	// A long bad token is quoted shortened.
+	long := strings.Repeat("Q", 100000)
+	for _, in := range []string{"&FCI " + long + "\n&END\n", "&FCI NORB=1,NELEC=0\n&END\n" + long + " 1 1 1 1\n"} {
+		if _, err := ReadFCIDUMP(strings.NewReader(in)); err == nil || len(err.Error()) > 300 {
+			t.Errorf("a 100 000-byte token is quoted in a %d-byte error", len(err.Error()))
+		}
+	}
 }
