@@ -47,17 +47,18 @@ type Batcher interface {
 }
 
 // Counter is an optional interface of allocators that keep every term's
-// cover count N_i as they go. After the loop the driver copies the counts
-// with Cover instead of recounting them against the table; the conformance
-// suite checks that the two agree. Cover writes N_i into dst[i] for every
-// term of the Hamiltonian given to Init.
+// cover count N_i as they go. After the loop the driver reads the counts
+// with Cover and checks them against its own count (through the shared
+// cover index); a disagreement is an [ErrStrategy]. Cover writes N_i into
+// dst[i] for every term of the Hamiltonian given to Init.
 type Counter interface {
 	Cover(dst []int)
 }
 
 // TermDrawer is an optional interface of allocators that draw one term per
 // shot, such as [Importance]. Drawn returns the index of the term drawn for
-// each shot, in shot order; the driver copies it into [Plan].Drawn.
+// each shot, in shot order; the driver checks that each is a term the
+// shot's setting covers and copies the list into [Plan].Drawn.
 type TermDrawer interface {
 	Drawn() []int
 }

@@ -65,7 +65,10 @@
 // ([ErrBudget]), a non-finite coefficient ([ErrNonFinite]), a Hamiltonian
 // wider than the strategy supports ([ErrTooManyQubits]) and a strategy that
 // breaks the contract ([ErrStrategy]), with messages naming the strategy,
-// round, setting or term. The Hamiltonian is never modified.
+// round, setting or term. A strategy's own cover counts and drawn terms are
+// verified, not trusted, and a panic inside a strategy's methods is
+// recovered into an [ErrStrategy] naming the strategy and the method. The
+// Hamiltonian is never modified.
 //
 // # Figures of merit
 //

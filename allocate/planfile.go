@@ -1,6 +1,7 @@
 package allocate
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -12,6 +13,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -202,30 +204,58 @@ func validPlan(p *Plan) error {
 	return nil
 }
 
+// MaxShots is the most shots a plan may hold: [ReadPlan] refuses a plan
+// above it, and the simulator of package estimate takes no more in one run
+// (2^32; it holds 8 bytes an outcome).
+const MaxShots = inputcap.MaxShots
+
+// MaxPlanBytes is the most bytes [ReadPlan] and [ReadPlanFile] read
+// (256 MiB, a plan with drawn terms for some 40 million shots).
+const MaxPlanBytes = 256 << 20
+
 // ReadPlanFile reads a plan file written by [WritePlanFile]; see [ReadPlan].
 // Errors name the file.
 func ReadPlanFile(path string) (*PlanFile, error) {
-	data, err := os.ReadFile(path)
+	fh, err := os.Open(path)
 	if err != nil {
 		return nil, err
 	}
-	return readPlan(data, path)
+	defer fh.Close()
+	return readPlanFrom(fh, path)
 }
 
 // ReadPlan reads a plan file (see [WritePlan] for the layout) and checks it
 // on its own: the format and version, a positive qubit count, every setting's
 // letters (X, Y or Z) and width, shot counts of at least 1 adding up to
-// "shots", cover counts between 0 and the total, and drawn terms (if any),
-// one per shot, each a term index. A problem is reported as a
-// *[PlanFileError] that names the line and the entry and wraps [ErrPlanFile];
-// unknown keys are errors too. Whether the plan fits a Hamiltonian is
-// checked by [PlanFile.Check].
+// "shots" and to at most [MaxShots], cover counts between 0 and the total,
+// and drawn terms (if any), one per shot, each a term index. A problem is
+// reported as a *[PlanFileError] that names the line and the entry and wraps
+// [ErrPlanFile]; unknown and repeated keys are errors too. Input that does
+// not start with '{' is refused at once, and input beyond [MaxPlanBytes]
+// once the cap is reached. Whether the plan fits a Hamiltonian is checked
+// by [PlanFile.Check].
 func ReadPlan(r io.Reader) (*PlanFile, error) {
-	data, err := io.ReadAll(r)
+	return readPlanFrom(r, "")
+}
+
+func readPlanFrom(r io.Reader, name string) (*PlanFile, error) {
+	fail := func(reason string) error {
+		return &PlanFileError{File: name, Line: 1, Reason: reason, Err: ErrPlanFile}
+	}
+	br := bufio.NewReader(r)
+	head, _ := br.Peek(4096)
+	head = bytes.TrimLeft(bytes.TrimPrefix(head, []byte("\ufeff")), " \t\r\n")
+	if len(head) == 0 || head[0] != '{' {
+		return nil, fail("not a plan file: a plan file is a JSON object starting with '{'")
+	}
+	data, err := inputcap.ReadAll(br, MaxPlanBytes)
 	if err != nil {
+		if errors.Is(err, inputcap.ErrTooLarge) {
+			return nil, fail(fmt.Sprintf("%v: the reader's limit is MaxPlanBytes", err))
+		}
 		return nil, err
 	}
-	return readPlan(data, "")
+	return readPlan(bytes.TrimPrefix(data, []byte("\ufeff")), name)
 }
 
 // planReader decodes a plan file token by token, keeping offsets so that
@@ -291,7 +321,7 @@ func (pr *planReader) delim(want json.Delim, line int, entry string) error {
 		return pr.jsonFail(line, entry, err)
 	}
 	if d, ok := tok.(json.Delim); !ok || d != want {
-		return pr.fail(line, entry, "want %q, found %v", string(want), tok)
+		return pr.fail(line, entry, "want %q, found %s", string(want), inputcap.Clip(fmt.Sprint(tok)))
 	}
 	return nil
 }
@@ -341,163 +371,207 @@ func (pr *planReader) ints(key string, nullable bool) (v []int, lines []int32, e
 	return v, lines, nil
 }
 
+// rawPlan is a plan file's keys as read, before the checks that span
+// several keys.
+type rawPlan struct {
+	format                 string
+	version                int
+	haveQubits, haveShots  bool
+	haveSettings, haveCvr  bool
+	total                  int
+	settingLines           []int
+	settingTexts           []string
+	shotsLine, versionLine int
+}
+
 func readPlan(data []byte, name string) (*PlanFile, error) {
 	pr := &planReader{data: data, dec: json.NewDecoder(bytes.NewReader(data)), name: name, lastLine: 1}
 	pr.dec.DisallowUnknownFields()
 	f := &PlanFile{name: name}
 	p := &Plan{}
-	var (
-		format                 string
-		version                int
-		haveQubits, haveShots  bool
-		haveSettings, haveCvr  bool
-		total                  int
-		settingLines           []int
-		settingTexts           []string
-		shotsLine, versionLine int
-	)
-	if err := pr.delim('{', 1, ""); err != nil {
+	var raw rawPlan
+	if err := pr.readKeys(f, p, &raw); err != nil {
 		return nil, err
+	}
+	if err := pr.checkHeader(f, p, &raw); err != nil {
+		return nil, err
+	}
+	sum, err := pr.parseSettings(p, &raw)
+	if err != nil {
+		return nil, err
+	}
+	if err := pr.checkCounts(f, p, &raw, sum); err != nil {
+		return nil, err
+	}
+	f.Plan = p
+	return f, nil
+}
+
+// readKeys reads the plan file's object key by key.
+func (pr *planReader) readKeys(f *PlanFile, p *Plan, raw *rawPlan) error {
+	if err := pr.delim('{', 1, ""); err != nil {
+		return err
 	}
 	seen := map[string]bool{}
 	for pr.dec.More() {
 		tok, err := pr.dec.Token()
 		if err != nil {
-			return nil, pr.jsonFail(pr.valueLine(), "", err)
+			return pr.jsonFail(pr.valueLine(), "", err)
 		}
 		key, _ := tok.(string)
 		line := pr.valueLine()
 		if seen[key] {
-			return nil, pr.fail(line, key, "key repeated")
+			return pr.fail(line, key, "key repeated")
 		}
 		seen[key] = true
 		switch key {
 		case "format":
-			err = pr.dec.Decode(&format)
+			err = pr.dec.Decode(&raw.format)
 		case "version":
-			versionLine = line
-			err = pr.dec.Decode(&version)
+			raw.versionLine = line
+			err = pr.dec.Decode(&raw.version)
 		case "qubits":
-			f.qubitsLine, haveQubits = line, true
+			f.qubitsLine, raw.haveQubits = line, true
 			err = pr.dec.Decode(&p.Qubits)
 		case "strategy":
 			err = pr.dec.Decode(&p.Stats.Strategy)
 		case "seed":
 			err = pr.dec.Decode(&f.Seed)
 		case "shots":
-			shotsLine, haveShots = line, true
-			err = pr.dec.Decode(&total)
+			raw.shotsLine, raw.haveShots = line, true
+			err = pr.dec.Decode(&raw.total)
 		case "settings":
-			haveSettings = true
-			if err := pr.delim('[', line, key); err != nil {
-				return nil, err
-			}
-			for pr.dec.More() {
-				l := pr.valueLine()
-				entry := fmt.Sprintf("settings[%d]", len(settingTexts))
-				var e planEntry
-				if err := pr.dec.Decode(&e); err != nil {
-					return nil, pr.jsonFail(l, entry, err)
-				}
-				settingTexts = append(settingTexts, e.Setting)
-				settingLines = append(settingLines, l)
-				p.Shots = append(p.Shots, e.Shots)
-			}
-			_, err = pr.dec.Token()
+			raw.haveSettings = true
+			err = pr.settingEntries(line, p, raw)
 		case "cover":
-			f.coverLine, haveCvr = line, true
+			f.coverLine, raw.haveCvr = line, true
 			p.Cover, f.cover, err = pr.ints(key, false)
 		case "drawn":
 			p.Drawn, f.drawn, err = pr.ints(key, true)
 		default:
-			return nil, pr.fail(line, "", "unknown key %q", key)
+			return pr.fail(line, "", "unknown key %s", inputcap.Quote(key))
 		}
 		if err != nil {
 			var pe *PlanFileError
 			if errors.As(err, &pe) {
-				return nil, err
+				return err
 			}
-			return nil, pr.jsonFail(line, key, err)
+			return pr.jsonFail(line, key, err)
 		}
 	}
 	if _, err := pr.dec.Token(); err != nil {
-		return nil, pr.jsonFail(pr.valueLine(), "", err)
+		return pr.jsonFail(pr.valueLine(), "", err)
 	}
 	if _, err := pr.dec.Token(); err != io.EOF {
-		return nil, pr.fail(pr.valueLine(), "", "text after the closing brace")
+		return pr.fail(pr.valueLine(), "", "text after the closing brace")
 	}
+	return nil
+}
 
-	if format != PlanFormat {
-		return nil, pr.fail(1, "format", "not a plan file (format %q, want %q)", format, PlanFormat)
+// settingEntries reads the "settings" array.
+func (pr *planReader) settingEntries(line int, p *Plan, raw *rawPlan) error {
+	if err := pr.delim('[', line, "settings"); err != nil {
+		return err
 	}
-	if version != PlanVersion {
-		return nil, pr.fail(versionLine, "version", "version %d, this reader knows version %d", version, PlanVersion)
+	for pr.dec.More() {
+		l := pr.valueLine()
+		entry := fmt.Sprintf("settings[%d]", len(raw.settingTexts))
+		var e planEntry
+		if err := pr.dec.Decode(&e); err != nil {
+			return pr.jsonFail(l, entry, err)
+		}
+		raw.settingTexts = append(raw.settingTexts, e.Setting)
+		raw.settingLines = append(raw.settingLines, l)
+		p.Shots = append(p.Shots, e.Shots)
+	}
+	_, err := pr.dec.Token()
+	return err
+}
+
+// checkHeader checks the format, version and the presence of the keys.
+func (pr *planReader) checkHeader(f *PlanFile, p *Plan, raw *rawPlan) error {
+	if raw.format != PlanFormat {
+		return pr.fail(1, "format", "not a plan file (format %s, want %q)", inputcap.Quote(raw.format), PlanFormat)
+	}
+	if raw.version != PlanVersion {
+		return pr.fail(raw.versionLine, "version", "version %d, this reader knows version %d", raw.version, PlanVersion)
 	}
 	switch {
-	case !haveQubits:
-		return nil, pr.fail(0, "", "no \"qubits\" key")
-	case !haveSettings:
-		return nil, pr.fail(0, "", "no \"settings\" key")
-	case !haveCvr:
-		return nil, pr.fail(0, "", "no \"cover\" key")
+	case !raw.haveQubits:
+		return pr.fail(0, "", "no \"qubits\" key")
+	case !raw.haveSettings:
+		return pr.fail(0, "", "no \"settings\" key")
+	case !raw.haveCvr:
+		return pr.fail(0, "", "no \"cover\" key")
 	}
 	if p.Qubits < 1 || p.Qubits >= hamiltonian.MaxReadQubits {
-		return nil, pr.fail(f.qubitsLine, "qubits", "qubit count %d out of range [1, %d)", p.Qubits, hamiltonian.MaxReadQubits)
+		return pr.fail(f.qubitsLine, "qubits", "qubit count %d out of range [1, %d)", p.Qubits, hamiltonian.MaxReadQubits)
 	}
-	if len(settingTexts) == 0 {
-		return nil, pr.fail(0, "settings", "no settings")
+	if len(raw.settingTexts) == 0 {
+		return pr.fail(0, "settings", "no settings")
 	}
+	return nil
+}
+
+// parseSettings parses every setting and its shot count, and returns the
+// total, at most MaxShots.
+func (pr *planReader) parseSettings(p *Plan, raw *rawPlan) (int, error) {
 	sum := 0
-	p.Settings = make([]pauli.Setting, len(settingTexts))
-	for k, text := range settingTexts {
+	p.Settings = make([]pauli.Setting, len(raw.settingTexts))
+	for k, text := range raw.settingTexts {
 		entry := fmt.Sprintf("settings[%d]", k)
+		line := raw.settingLines[k]
 		entangled := strings.IndexByte(text, '|') >= 0 // generators joined by '|'
 		if !entangled && len(text) != p.Qubits {
-			return nil, pr.fail(settingLines[k], entry, "setting %q has %d letters, the plan has %d qubits", text, len(text), p.Qubits)
+			return 0, pr.fail(line, entry, "setting %s has %d letters, the plan has %d qubits", inputcap.Quote(text), len(text), p.Qubits)
 		}
 		s, err := pauli.ParseSetting(text)
 		if err != nil {
 			var pe *pauli.ParseError
 			if errors.As(err, &pe) && !entangled {
-				return nil, pr.fail(settingLines[k], entry, "setting %q: %s at qubit %d (want X, Y or Z)", text, pe.Reason, pe.Offset)
+				return 0, pr.fail(line, entry, "setting %s: %s at qubit %d (want X, Y or Z)", inputcap.Quote(text), pe.Reason, pe.Offset)
 			}
 			if errors.As(err, &pe) {
-				return nil, pr.fail(settingLines[k], entry, "entangled setting %q: %s at offset %d", text, pe.Reason, pe.Offset)
+				return 0, pr.fail(line, entry, "entangled setting %s: %s at offset %d", inputcap.Quote(text), pe.Reason, pe.Offset)
 			}
-			return nil, pr.fail(settingLines[k], entry, "setting %q: %v", text, err)
+			return 0, pr.fail(line, entry, "setting %s: %v", inputcap.Quote(text), err)
 		}
 		if s.Qubits() != p.Qubits {
-			return nil, pr.fail(settingLines[k], entry, "setting %q has %d qubits, the plan has %d", text, s.Qubits(), p.Qubits)
+			return 0, pr.fail(line, entry, "setting %s has %d qubits, the plan has %d", inputcap.Quote(text), s.Qubits(), p.Qubits)
 		}
 		if p.Shots[k] < 1 {
-			return nil, pr.fail(settingLines[k], entry, "shot count %d, want at least 1", p.Shots[k])
+			return 0, pr.fail(line, entry, "shot count %d, want at least 1", p.Shots[k])
 		}
-		if sum > int(^uint(0)>>2)-p.Shots[k] {
-			return nil, pr.fail(settingLines[k], entry, "total shot count overflows")
+		if p.Shots[k] > MaxShots-sum {
+			return 0, pr.fail(line, entry, "the shots add up to more than %d, the most a plan may hold (MaxShots)", MaxShots)
 		}
 		p.Settings[k] = s
 		sum += p.Shots[k]
 	}
-	if haveShots && total != sum {
-		return nil, pr.fail(shotsLine, "shots", "total %d, but the settings' shots add up to %d", total, sum)
+	return sum, nil
+}
+
+// checkCounts checks the total, the cover counts and the drawn terms.
+func (pr *planReader) checkCounts(f *PlanFile, p *Plan, raw *rawPlan, sum int) error {
+	if raw.haveShots && raw.total != sum {
+		return pr.fail(raw.shotsLine, "shots", "total %d, but the settings' shots add up to %d", raw.total, sum)
 	}
 	for i, c := range p.Cover {
 		if c < 0 || c > sum {
-			return nil, pr.fail(int(f.cover[i]), fmt.Sprintf("cover[%d]", i), "cover count %d outside [0, %d]", c, sum)
+			return pr.fail(int(f.cover[i]), fmt.Sprintf("cover[%d]", i), "cover count %d outside [0, %d]", c, sum)
 		}
 	}
 	if p.Drawn != nil {
 		if len(p.Drawn) != sum {
-			return nil, pr.fail(0, "drawn", "%d drawn terms for %d shots", len(p.Drawn), sum)
+			return pr.fail(0, "drawn", "%d drawn terms for %d shots", len(p.Drawn), sum)
 		}
 		for n, d := range p.Drawn {
 			if d < 0 || d >= len(p.Cover) {
-				return nil, pr.fail(int(f.drawn[n]), fmt.Sprintf("drawn[%d]", n), "term %d outside [0, %d)", d, len(p.Cover))
+				return pr.fail(int(f.drawn[n]), fmt.Sprintf("drawn[%d]", n), "term %d outside [0, %d)", d, len(p.Cover))
 			}
 		}
 	}
-	f.Plan = p
-	return f, nil
+	return nil
 }
 
 // Check reports whether the plan fits h: the same number of qubits, a cover

@@ -28,7 +28,7 @@ func referenceCases(t testing.TB) []allocatetest.Case {
 		}
 		cases = append(cases, allocatetest.Case{Name: fmt.Sprintf("random-%dq-%dterms", c.n, c.m), H: h})
 	}
-	// Qubit 1 appears only in X0 Z1, which the larger Z0 blocks in the
+	// Qubit 1 appears only in X_0 Z_1, which the larger Z_0 blocks in the
 	// first round: the walk must stop early and leave qubit 1 to the fill.
 	blocked, err := hamiltonian.New(4, 0, []hamiltonian.Term{
 		{Pauli: pauli.MustParse("ZIII"), Coeff: 1}, {Pauli: pauli.MustParse("XZII"), Coeff: 0.5},

@@ -8,6 +8,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
+	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -48,7 +49,17 @@ type Progress struct {
 // [ErrStrategy] if a breaks the [Allocator] contract, and any error of
 // a's methods or of Settings.Measure, prefixed by the strategy's name.
 // h is not modified.
-func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings) (*Plan, error) {
+//
+// Run does not take a strategy's word for its results: the cover counts of
+// a [Counter] are checked against a count of its own (through the shared
+// cover index), and every term a [TermDrawer] reports must be a term of h
+// that the setting of its shot covers; a disagreement is an [ErrStrategy]
+// naming the strategy and the term or shot.
+//
+// A panic inside the strategy's methods (or inside Settings.Measure or
+// Progress) is recovered: Run returns an error wrapping [ErrStrategy] that
+// names the strategy, the method and the panic value, and no plan.
+func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings) (plan *Plan, err error) {
 	start := time.Now()
 	var set Settings
 	if settings != nil {
@@ -57,7 +68,16 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 	if a == nil {
 		return nil, fmt.Errorf("%w: nil Allocator", ErrStrategy)
 	}
-	name := Name(a)
+	name, phase := "", "String"
+	defer func() {
+		if r := recover(); r != nil {
+			if name == "" {
+				name = fmt.Sprintf("%T", a)
+			}
+			plan, err = nil, fmt.Errorf("%w: %s panicked in %s: %v", ErrStrategy, name, phase, r)
+		}
+	}()
+	name = Name(a)
 	if h == nil || h.Len() == 0 {
 		return nil, fmt.Errorf("%w (strategy %s)", ErrEmpty, name)
 	}
@@ -83,6 +103,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 		every = max(1, budget/100)
 	}
 
+	phase = "Init"
 	if err := a.Init(h, budget); err != nil {
 		return nil, fmt.Errorf("allocate: %s: %w", name, err)
 	}
@@ -112,6 +133,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 		}
 		used += k
 		if obs != nil {
+			phase = "Observe"
 			for range k {
 				clear(bits)
 				if err := set.Measure(s, bits); err != nil {
@@ -126,6 +148,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 		rounds++
 		if batch != nil {
 			var err error
+			phase = "NextBatch"
 			batchS, batchK, err = batch.NextBatch(batchS[:0], batchK[:0], budget-used)
 			if err != nil {
 				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
@@ -145,6 +168,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 				}
 			}
 		} else {
+			phase = "Next"
 			k, err := a.Next(letters)
 			if err != nil {
 				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
@@ -158,29 +182,69 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 			}
 		}
 		if set.Progress != nil && used >= nextReport && used < budget {
+			phase = "Progress"
 			set.Progress(Progress{Shots: used, Budget: budget, Rounds: rounds, Elapsed: time.Since(start)})
 			nextReport = (used/every + 1) * every
 		}
 	}
 
 	p.Cover = make([]int, h.Len())
+	countCover(p.Cover, h.Table(), p.Settings, p.Shots)
 	if counter != nil {
-		counter.Cover(p.Cover)
-	} else {
-		countCover(p.Cover, h.Table(), p.Settings, p.Shots)
+		phase = "Cover"
+		if err := checkCounter(counter, p.Cover, h); err != nil {
+			return nil, fmt.Errorf("%w: %s: %v", ErrStrategy, name, err)
+		}
 	}
 	if drawer != nil {
+		phase = "Drawn"
 		d := drawer.Drawn()
-		if len(d) != budget {
-			return nil, fmt.Errorf("%w: %s drew %d terms for %d shots", ErrStrategy, name, len(d), budget)
+		if err := checkDrawn(d, p, h); err != nil {
+			return nil, fmt.Errorf("%w: %s: %v", ErrStrategy, name, err)
 		}
 		p.Drawn = append([]int(nil), d...)
 	}
+	phase = "Progress"
 	p.Stats = Stats{Strategy: name, Rounds: rounds, Elapsed: time.Since(start)}
 	if set.Progress != nil {
 		set.Progress(Progress{Shots: used, Budget: budget, Rounds: rounds, Elapsed: p.Stats.Elapsed})
 	}
 	return p, nil
+}
+
+// checkCounter compares a Counter's cover counts with the driver's own.
+func checkCounter(counter Counter, want []int, h *hamiltonian.Hamiltonian) error {
+	got := make([]int, len(want))
+	counter.Cover(got)
+	for i := range want {
+		if got[i] != want[i] {
+			return fmt.Errorf("reports term %d (%s) covered %d times, its settings cover it %d times", i, inputcap.Clip(h.Pauli(i).String()), got[i], want[i])
+		}
+	}
+	return nil
+}
+
+// checkDrawn checks a TermDrawer's terms: one per shot, each a term of h
+// covered by the setting of its shot.
+func checkDrawn(d []int, p *Plan, h *hamiltonian.Hamiltonian) error {
+	budget := p.TotalShots()
+	if len(d) != budget {
+		return fmt.Errorf("drew %d terms for %d shots", len(d), budget)
+	}
+	t := h.Table()
+	n := 0
+	for k, s := range p.Settings {
+		for range p.Shots[k] {
+			switch i := d[n]; {
+			case i < 0 || i >= h.Len():
+				return fmt.Errorf("shot %d drew term %d, outside [0, %d)", n, i, h.Len())
+			case !t.CoversRow(i, s):
+				return fmt.Errorf("shot %d drew term %d (%s), which its setting %s does not cover", n, i, inputcap.Clip(h.Pauli(i).String()), inputcap.Clip(s.String()))
+			}
+			n++
+		}
+	}
+	return nil
 }
 
 // Name returns the name of a strategy: its String method if it has one,

@@ -3,6 +3,7 @@ package estimate
 import (
 	"fmt"
 
+	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -19,9 +20,9 @@ type Device interface {
 }
 
 // maxRunShots bounds the shots of one call of [Simulator.Run], whose
-// outcomes are held in memory at once: 2^40 shots take 8 TiB, beyond any
-// machine, and larger totals would overflow the allocation.
-const maxRunShots int64 = 1 << 40
+// outcomes are held in memory at once (8 bytes each). It is the cap of the
+// plan reader too (allocate.MaxShots): 2^32 shots.
+const maxRunShots = inputcap.MaxShots
 
 // checkRun validates the arguments of [Device.Run].
 func checkRun(n int, settings []pauli.Setting, shots []int, rec *Records) error {

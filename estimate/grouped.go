@@ -41,7 +41,8 @@ import (
 // each term is read as the sign times the parity of the outcome on its
 // Z-image; readout mitigation (Options.Readout) is refused for them.
 //
-// Grouped returns an error if the widths differ or the options are invalid.
+// Grouped returns an error if the widths differ, the records hold no shot
+// (wrapping [ErrFormat]) or the options are invalid.
 func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
 	c, err := newConfig(h, rec, opts, "Grouped")
 	if err != nil {

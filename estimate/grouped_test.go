@@ -1,9 +1,11 @@
 package estimate
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -498,10 +500,14 @@ func TestGroupedEdgeCases(t *testing.T) {
 		rec              *Records
 		energy, se, bias float64
 	}{
-		// No shots: only the offset, every term left out.
-		{"no shots", h, NewRecords(2), 0.75, 0, 1.5},
 		// No terms: the offset exactly.
 		{"offset only", offsetOnly, one, 0.75, 0, 0},
+	}
+	// No shots: an error, not a zero-width interval around the offset.
+	for _, est := range []func(*hamiltonian.Hamiltonian, *Records, *Options) (*Result, error){Grouped, UniformShadow} {
+		if res, err := est(h, NewRecords(2), nil); err == nil || !errors.Is(err, ErrFormat) || !strings.Contains(err.Error(), "no shot") {
+			t.Errorf("estimating from empty records = %v, %v; want an error", res, err)
+		}
 	}
 	for _, tc := range tests {
 		res, err := Grouped(tc.h, tc.rec, nil)

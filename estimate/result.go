@@ -106,6 +106,11 @@ func newConfig(h *hamiltonian.Hamiltonian, rec *Records, opts *Options, what str
 	if h.Qubits() != rec.Qubits() {
 		return nil, fmt.Errorf("estimate: %s: Hamiltonian has %d qubits, records have %d", what, h.Qubits(), rec.Qubits())
 	}
+	if rec.Len() == 0 {
+		// Without a shot there is no estimate, only a zero-width interval
+		// around the offset.
+		return nil, fmt.Errorf("estimate: %w: %s: the records hold no shot", ErrFormat, what)
+	}
 	var o Options
 	if opts != nil {
 		o = *opts

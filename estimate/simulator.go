@@ -148,8 +148,9 @@ func (sim *Simulator) Qubits() int { return sim.n }
 
 // Run measures shots[k] copies in settings[k] for each k and appends the
 // outcomes to rec in that order; see [Device]. On bad arguments (including
-// more than 2^40 shots in one call, whose outcomes could not be held in
-// memory) Run returns an error and appends nothing.
+// more than 2^32 shots in one call, the cap allocate.MaxShots, whose
+// outcomes could not be held in memory) Run returns an error and appends
+// nothing.
 //
 // When settings get many shots each, every distinct setting's full
 // distribution is computed once (or taken from the cache) and sampled. When

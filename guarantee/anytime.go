@@ -124,7 +124,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Anytime: Delta = %v is not in (0, 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Anytime: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
 	case s.Target < 0 || math.IsNaN(s.Target) || math.IsInf(s.Target, 0):
 		return nil, fmt.Errorf("guarantee: Anytime: Target = %v, want zero or a positive number", s.Target)
 	case s.MaxShots <= 0:
@@ -139,8 +139,10 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 		return nil, fmt.Errorf("guarantee: Anytime: unknown method %d", int(s.Method))
 	case s.Plan.h == nil || s.Plan.Dist == nil || len(s.Plan.Settings) == 0:
 		return nil, fmt.Errorf("guarantee: Anytime: the plan was not made by NewIID or IIDOf")
-	case s.Plan.h != h && !s.Plan.h.Equal(h):
-		return nil, fmt.Errorf("guarantee: Anytime: the plan was made for another Hamiltonian")
+	case s.Plan.fp != fingerprint(h) || s.Plan.h != h && !s.Plan.h.Equal(h):
+		// By content, not by pointer: a Hamiltonian overwritten in place
+		// since NewIID has the same pointer and other terms.
+		return nil, fmt.Errorf("guarantee: Anytime: the plan was made for another Hamiltonian (or its content changed since NewIID)")
 	}
 	first, growth := s.FirstRound, s.Growth
 	if first == 0 {

@@ -78,7 +78,7 @@ func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta flo
 	case !(eps > 0) || math.IsInf(eps, 0):
 		return nil, fmt.Errorf("guarantee: PlanBudget: target ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return nil, fmt.Errorf("guarantee: PlanBudget: δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: PlanBudget: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	case s.MaxShots < 1:
 		return nil, fmt.Errorf("guarantee: PlanBudget: MaxShots = %d, want at least 1", s.MaxShots)
 	case s.Step < 0:
@@ -245,7 +245,7 @@ func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error
 	case !(eps > 0) || math.IsInf(eps, 0):
 		return 0, fmt.Errorf("guarantee: ImportanceShots: ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return 0, fmt.Errorf("guarantee: ImportanceShots: δ = %v is not in (0, 1)", delta)
+		return 0, fmt.Errorf("guarantee: ImportanceShots: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	n := HoeffdingShots(eps, 2*h.OneNorm(), delta)
 	if n == math.MaxInt {

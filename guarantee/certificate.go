@@ -124,13 +124,13 @@ type Contribution struct {
 // Certify returns the certificate of MATH.md §3 at confidence 1 − δ for the
 // plan that measures settings[k] for shots[k] shots. A setting may appear
 // more than once; entries with zero shots are ignored. It returns an error
-// for δ outside (0, 1), lengths that disagree, a setting of the wrong width or
+// for δ outside [MinDelta, 1), lengths that disagree, a setting of the wrong width or
 // a negative shot count, naming the setting.
 //
 // The cost is one coverage scan of h's terms per distinct setting.
 func Certify(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, delta float64, opts *Options) (*Certificate, error) {
 	if !validDelta(delta) {
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	c, err := newCoverage(h, settings, shots)
 	if err != nil {
@@ -148,7 +148,7 @@ func CertifyPlan(h *hamiltonian.Hamiltonian, p *allocate.Plan, delta float64, op
 		return nil, fmt.Errorf("guarantee: nil plan")
 	}
 	if !validDelta(delta) {
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	if h != nil && p.Qubits != h.Qubits() {
 		return nil, fmt.Errorf("guarantee: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())

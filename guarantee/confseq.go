@@ -29,7 +29,7 @@ func checkRange(lo, hi, delta float64) error {
 	case !(hi > lo) || math.IsInf(lo, 0) || math.IsInf(hi, 0):
 		return fmt.Errorf("guarantee: range [%v, %v], want finite lo < hi", lo, hi)
 	case !validDelta(delta):
-		return fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	return nil
 }

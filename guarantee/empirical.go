@@ -291,7 +291,7 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian or records")
 	}
 	if !validDelta(delta) {
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	if rec.Qubits() != h.Qubits() {
 		return nil, fmt.Errorf("guarantee: records have %d qubits, Hamiltonian has %d", rec.Qubits(), h.Qubits())

@@ -49,6 +49,10 @@ type IID struct {
 	image [][]uint64
 	sign  [][]int8
 	key   map[string]int
+	// fp is the fingerprint of h when the distribution was built: the
+	// tables above index h's terms, so a Hamiltonian whose content changed
+	// since (overwritten through its pointer) must not be sampled with them.
+	fp uint64
 }
 
 // NewIID returns the distribution that draws settings[k] with probability
@@ -60,7 +64,7 @@ func NewIID(h *hamiltonian.Hamiltonian, settings []pauli.Setting, weights []floa
 	if err != nil {
 		return nil, err
 	}
-	d := &IID{Dist: dist, Offset: h.Offset(), h: h, key: make(map[string]int)}
+	d := &IID{Dist: dist, Offset: h.Offset(), h: h, key: make(map[string]int), fp: fingerprint(h)}
 	total := 0.0
 	for _, w := range weights {
 		total += w
@@ -200,4 +204,32 @@ func (d *IID) Variance(mean func(i int) float64, second func(i, k int) float64) 
 		}
 	}
 	return m2 - m1*m1
+}
+
+// fingerprint hashes h's content (width, offset, coefficients and term
+// strings) with 64-bit FNV-1a, so that a plan can tell whether the
+// Hamiltonian it is given is, in content, the one it was built for.
+func fingerprint(h *hamiltonian.Hamiltonian) uint64 {
+	const prime = 1099511628211
+	f := uint64(14695981039346656037)
+	mix := func(w uint64) {
+		for range 8 {
+			f ^= w & 0xff
+			f *= prime
+			w >>= 8
+		}
+	}
+	mix(uint64(h.Qubits()))
+	mix(uint64(h.Len()))
+	mix(math.Float64bits(h.Offset()))
+	t := h.Table()
+	for i, c := range h.Coeffs() {
+		mix(math.Float64bits(c))
+		x, z := t.Words(i)
+		for k := range x {
+			mix(x[k])
+			mix(z[k])
+		}
+	}
+	return f
 }

@@ -152,7 +152,7 @@ func ProductOf(h *hamiltonian.Hamiltonian, probs [][3]float64) (*Randomized, err
 // estimate is that mean, and the terms d never covers (f_i = 0) and the
 // excluded ones go into the bias. opts.Shares is ignored (one group).
 //
-// It returns an error for δ outside (0, 1), records of another width or
+// It returns an error for δ outside [MinDelta, 1), records of another width or
 // without shots, or a recorded setting d cannot draw.
 func RandomizedBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, d *Randomized, delta float64, opts *EmpiricalOptions) (*DataBound, error) {
 	var o EmpiricalOptions
@@ -163,7 +163,7 @@ func RandomizedBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, d *Rando
 	case h == nil || rec == nil || d == nil:
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian, records or distribution")
 	case !validDelta(delta):
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	case rec.Qubits() != h.Qubits():
 		return nil, fmt.Errorf("guarantee: records have %d qubits, Hamiltonian has %d", rec.Qubits(), h.Qubits())
 	case rec.Len() == 0:

@@ -71,7 +71,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Sequential: Delta = %v is not in (0, 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Sequential: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
 	case !(s.Target > 0) || math.IsInf(s.Target, 0):
 		return nil, fmt.Errorf("guarantee: Sequential: Target = %v, want a positive number", s.Target)
 	case s.Growth != 0 && !(s.Growth >= 1):

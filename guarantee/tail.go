@@ -4,12 +4,18 @@ import "math"
 
 // The functions in this file are tail bounds for the mean of independent
 // bounded samples. They are pure formulas: an argument outside its domain
-// (n too small, δ outside (0, 1), a negative width or variance) gives NaN,
+// (n too small, δ outside [MinDelta, 1), a negative width or variance) gives NaN,
 // as math.Log does for a negative number. The certificate functions of this
 // package check their input and return errors instead.
 
-// validDelta reports whether δ is a probability strictly between 0 and 1.
-func validDelta(delta float64) bool { return delta > 0 && delta < 1 }
+// MinDelta is the smallest confidence parameter δ the package accepts: the
+// valid range is MinDelta ≤ δ < 1. Below about 1e-308, 2/δ overflows and
+// ln(2/δ) is +Inf, so a smaller δ would give an infinite bound rather than
+// an error; 1e-300 leaves room for the schedules that split δ over rounds.
+const MinDelta = 1e-300
+
+// validDelta reports whether δ is in [MinDelta, 1).
+func validDelta(delta float64) bool { return delta >= MinDelta && delta < 1 }
 
 // HoeffdingRadius returns ε such that the mean of n independent samples, each
 // in an interval of the given width, lies within ε of its expectation with
@@ -28,8 +34,8 @@ func HoeffdingRadius(n int, width, delta float64) float64 {
 
 // HoeffdingShots returns the smallest n for which [HoeffdingRadius] is at most
 // ε: n = ⌈width² ln(2/δ) / (2ε²)⌉. It returns −1 for an argument outside the
-// domain (ε ≤ 0 or infinite, negative width, δ outside (0, 1), any of them
-// NaN), 0 for width 0, and math.MaxInt when n would exceed half of it.
+// domain (ε ≤ 0 or infinite, negative width, δ outside [MinDelta, 1), any
+// of them NaN), 0 for width 0, and math.MaxInt when n would exceed half of it.
 func HoeffdingShots(eps, width, delta float64) int {
 	if !(eps > 0) || !(width >= 0) || !validDelta(delta) || math.IsInf(eps, 0) {
 		return -1

@@ -17,7 +17,10 @@
 // # Text format
 //
 // One term per line: a real coefficient, white space, then a Pauli string,
-// dense ("XIZY", qubit 0 first) or sparse ("X0 Z2 Y3"). "I" alone is the
+// dense ("XIZY", qubit 0 first) or sparse ("X_0 Z_2 Y_3": each factor a
+// letter, an underscore as the subscript mark, and its qubit, as a Pauli
+// operator is written on paper; the unmarked "X0" is refused with a message
+// naming X_0). "I" alone is the
 // identity term; several identity lines add up. A "#" starts a comment that
 // runs to the end of the line; blank lines are ignored. An optional line
 // "qubits N" before the first term declares the width; without it the width
@@ -27,24 +30,36 @@
 //	qubits 2
 //	-0.5 I
 //	-1 ZZ
-//	-0.7 X0
-//	-0.7 X1
+//	-0.7 X_0
+//	-0.7 X_1
 //
 // [Read] reports every bad line by number and reason: a bad or non-finite
-// number, a complex coefficient, an unknown letter, a qubit index beyond the
-// declared count, strings of different widths. [Write] prints coefficients
+// number, a complex coefficient, digit separators ("1_000"), a coefficient
+// that underflows to zero ("1e-400"), an unknown letter, a qubit index
+// beyond the declared count, strings of different widths. Input without a
+// term is an error; a leading UTF-8 byte order mark is skipped. [Write] prints coefficients
 // with the shortest decimal that reads back to the same float64, so a
 // Hamiltonian survives a round trip exactly.
 //
 // # JSON form
 //
 //	{"qubits": 2, "offset": -0.5,
-//	 "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X0", "coeff": -0.7}]}
+//	 "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X_0", "coeff": -0.7}]}
 //
 // A term's "pauli" is dense or sparse, as in the text format. A coefficient
 // must be a JSON number; an array, object or string (such as "1+2i") is
-// rejected with an error naming the term. Reading either form rejects qubit
-// counts and indices of [MaxReadQubits] or more.
+// rejected with an error naming the term and line. Keys are exact: an
+// unknown key (an "imag" part, a misspelt "term", "Qubits") or a repeated
+// one is an error naming its line.
+//
+// # Limits
+//
+// Reading either form rejects qubit counts and indices of [MaxReadQubits] or
+// more, input beyond [MaxReadBytes], text lines beyond [MaxLineBytes], a NUL
+// byte in the text format, and a Hamiltonian whose term table (distinct
+// terms × 2⌈n/64⌉ words) would exceed [MaxReadWords], with the estimate in
+// the message. Terms are held sparse and merged while reading, so memory
+// follows the input's length and not its line count times its width.
 //
 // # Models
 //

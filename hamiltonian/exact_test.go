@@ -583,7 +583,7 @@ func TestGroundStateDegenerate(t *testing.T) {
 	}{
 		{"zero Hamiltonian", mustNew(t, 4, 0, nil), 0},
 		{"offset only", mustNew(t, 3, -1.5, nil), -1.5},
-		{"−X0 on 3 qubits (4-fold)", mustNew(t, 3, 0, []Term{{ps("XII"), -1}}), -1},
+		{"−X_0 on 3 qubits (4-fold)", mustNew(t, 3, 0, []Term{{ps("XII"), -1}}), -1},
 		{"Z0Z1 on 5 qubits (16-fold)", mustNew(t, 5, 0, []Term{{ps("ZZIII"), 1}}), -1},
 		{"commuting XX + ZZ (2-fold)", mustNew(t, 2, 0, []Term{{ps("XX"), 1}, {ps("ZZ"), 1}}), -2},
 	} {

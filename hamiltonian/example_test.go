@@ -15,8 +15,8 @@ func ExampleRead() {
 qubits 2
 -0.5 I
 -1 ZZ
--0.7 X0
--0.7 X1
+-0.7 X_0
+-0.7 X_1
 `
 	h, err := hamiltonian.Read(strings.NewReader(in))
 	if err != nil {
@@ -35,12 +35,12 @@ qubits 2
 }
 
 func ExampleRead_errors() {
-	in := "qubits 3\n1 XYZ\n1+2i ZZI\n0.5 X7\n"
+	in := "qubits 3\n1 XYZ\n1+2i ZZI\n0.5 X_7\n"
 	_, err := hamiltonian.Read(strings.NewReader(in))
 	fmt.Println(err)
 	// Output:
 	// hamiltonian: line 3: complex coefficient "1+2i": Hamiltonian coefficients must be real
-	// hamiltonian: line 4: Pauli string "X7": qubit 7 beyond the qubit count 3
+	// hamiltonian: line 4: Pauli string "X_7": qubit 7 beyond the qubit count 3
 }
 
 func ExampleGroundState() {
@@ -59,10 +59,10 @@ func ExampleGroundState() {
 	fmt.Printf("E0 = %.9f (closed form %.9f)\n", gs.Energy, -2/math.Sin(math.Pi/16))
 	// By Hellmann–Feynman on the same formula, ⟨X_q⟩ = −(1/N) dE0/dh =
 	// (1/4) Σ_{m=1..4} sin((2m−1)π/16) = 0.640729.
-	fmt.Printf("<X0> = %.6f\n", hamiltonian.Expectation(gs.State, pauli.MustParse("XIIIIIII")))
+	fmt.Printf("<X_0> = %.6f\n", hamiltonian.Expectation(gs.State, pauli.MustParse("XIIIIIII")))
 	// Output:
 	// E0 = -10.251661791 (closed form -10.251661791)
-	// <X0> = 0.640729
+	// <X_0> = 0.640729
 }
 
 func ExampleHamiltonian_Apply() {

@@ -103,14 +103,15 @@ func TestReadFormat(t *testing.T) {
 		in   string
 		want string // Write output of the result
 	}{
-		{"doc example", "# a two-site transverse-field Ising model\nqubits 2\n-0.5 I\n-1 ZZ\n-0.7 X0\n-0.7 X1\n",
+		{"doc example", "# a two-site transverse-field Ising model\nqubits 2\n-0.5 I\n-1 ZZ\n-0.7 X_0\n-0.7 X_1\n",
 			"qubits 2\n-0.5 I\n-1 ZZ\n-0.7 XI\n-0.7 IX\n"},
-		{"width from dense", "1 XIZ\n2 Y1\n", "qubits 3\n0 I\n1 XIZ\n2 IYI\n"},
-		{"width from highest sparse index", "1 X0 Z4\n", "qubits 5\n0 I\n1 XIIIZ\n"},
+		{"width from dense", "1 XIZ\n2 Y_1\n", "qubits 3\n0 I\n1 XIZ\n2 IYI\n"},
+		{"width from highest sparse index", "1 X_0 Z_4\n", "qubits 5\n0 I\n1 XIIIZ\n"},
 		{"identity lines add up", "1 I\n2 I\n0.5 ZZ # trailing comment\n\n", "qubits 2\n3 I\n0.5 ZZ\n"},
 		{"duplicates merge in first-seen order", "1 ZZ\n2 XX\n3 ZZ\n", "qubits 2\n0 I\n4 ZZ\n2 XX\n"},
-		{"lower case and tabs", "qubits 2\n1\tx0  z1\n", "qubits 2\n0 I\n1 XZ\n"},
-		{"empty", "", "qubits 0\n0 I\n"},
+		{"lower case and tabs", "qubits 2\n1\tx_0  z_1\n", "qubits 2\n0 I\n1 XZ\n"},
+		{"byte order mark skipped", "\ufeffqubits 1\n1 Z\n", "qubits 1\n0 I\n1 Z\n"},
+		{"zero operator", "qubits 2\n0 I\n", "qubits 2\n0 I\n"},
 	} {
 		h, err := Read(strings.NewReader(tc.in))
 		if err != nil {
@@ -140,20 +141,25 @@ func TestReadBadLines(t *testing.T) {
 		{"complex j in parentheses", "(1+2j) ZZ\n", 1, "complex coefficient"},
 		{"pure imaginary", "2i XX\n", 1, "complex coefficient"},
 		{"unknown letter dense", "1 XQZ\n", 1, "unknown letter 'Q'"},
-		{"unknown letter sparse", "qubits 3\n1 X0 W1\n", 2, "unknown letter 'W'"},
-		{"index beyond declared count", "qubits 3\n1 X5\n", 2, "beyond the qubit count 3"},
-		{"index beyond dense width", "1 XXX\n1 Z3\n", 2, "beyond the qubit count 3"},
+		{"unknown letter sparse", "qubits 3\n1 X_0 W1\n", 2, "unknown letter 'W'"},
+		{"index beyond declared count", "qubits 3\n1 X_5\n", 2, "beyond the qubit count 3"},
+		{"index beyond dense width", "1 XXX\n1 Z_3\n", 2, "beyond the qubit count 3"},
 		{"mixed dense widths", "1 XX\n1 XXX\n", 2, "has 3 qubits, but line 1 has 2"},
 		{"width against declaration", "qubits 4\n\n1 XXX\n", 3, `"qubits 4" was declared`},
 		{"no Pauli string", "qubits 1\n1\n", 2, "no Pauli string"},
 		{"bad qubit count", "qubits x\n", 1, "not a non-negative integer"},
 		{"negative qubit count", "qubits -2\n", 1, "not a non-negative integer"},
 		{"huge qubit count", "qubits 99999999999999999999\n", 1, "exceeds the limit"},
-		{"huge index", "1 X99999999\n", 1, "exceeds the limit"},
+		{"huge index", "1 X_99999999\n", 1, "exceeds the limit"},
 		{"qubits after a term", "1 XX\nqubits 2\n", 2, "must come before the first term"},
 		{"qubits twice", "qubits 2\nqubits 2\n", 2, "declared twice"},
-		{"qubit named twice", "qubits 2\n1 X0 Y0\n", 2, "named twice"},
-		{"glued sparse", "qubits 2\n1 X0Y1\n", 2, "unexpected 'Y'"},
+		{"qubit named twice", "qubits 2\n1 X_0 Y_0\n", 2, "named twice"},
+		{"glued sparse", "qubits 2\n1 X_0Y_1\n", 2, "unexpected 'Y'"},
+		{"unmarked sparse form", "qubits 4\n1 ZZZZ\n1 X0 Z2 Y3\n", 3, `"X0": write X_0 (letter, underscore, qubit)`},
+		{"underflow", "1e-400 XI\n", 1, "underflows to zero"},
+		{"hex underflow", "0x1p-2000 XI\n", 1, "underflows to zero"},
+		{"digit separators", "1_000 ZZ\n", 1, "digit separators"},
+		{"NUL byte", "1 ZZ\n\x00\x00\n", 2, "NUL byte"},
 	} {
 		_, err := Read(strings.NewReader(tc.in))
 		if err == nil {
@@ -175,7 +181,7 @@ func TestReadBadLines(t *testing.T) {
 }
 
 func TestReadReportsEveryBadLine(t *testing.T) {
-	in := "qubits 2\n1 XX\nx ZZ\n1 QQ\n1 XXX\n1 X9\n2 ZZ\n"
+	in := "qubits 2\n1 XX\nx ZZ\n1 QQ\n1 XXX\n1 X_9\n2 ZZ\n"
 	_, err := Read(strings.NewReader(in))
 	var lines []int
 	for _, e := range err.(interface{ Unwrap() []error }).Unwrap() {
@@ -199,15 +205,15 @@ func TestUnmarshalJSONErrors(t *testing.T) {
 	for _, tc := range []struct {
 		name, in, reason string
 	}{
-		{"complex pair", `{"qubits": 2, "terms": [{"pauli": "ZZ", "coeff": [1, 2]}]}`, "term 0 (\"ZZ\"): coefficient [1, 2] is not a real number"},
-		{"complex string", `{"qubits": 2, "terms": [{"pauli": "XX", "coeff": 1}, {"pauli": "ZZ", "coeff": "1+2i"}]}`, "term 1 (\"ZZ\"): complex coefficient"},
+		{"complex pair", `{"qubits": 2, "terms": [{"pauli": "ZZ", "coeff": [1, 2]}]}`, "terms[0] coeff is an array or object, not a real number"},
+		{"complex string", `{"qubits": 2, "terms": [{"pauli": "XX", "coeff": 1}, {"pauli": "ZZ", "coeff": "1+2i"}]}`, "terms[1] coeff: complex coefficient"},
 		{"out of range", `{"qubits": 2, "terms": [{"pauli": "ZZ", "coeff": 1e400}]}`, "out of range"},
 		{"missing qubits", `{"terms": []}`, "missing \"qubits\""},
 		{"negative qubits", `{"qubits": -1, "terms": []}`, "qubit count -1"},
 		{"huge qubits", `{"qubits": 1000000000, "terms": []}`, "qubit count 1000000000"},
 		{"unknown letter", `{"qubits": 2, "terms": [{"pauli": "ZQ", "coeff": 1}]}`, "unknown letter"},
 		{"wrong width", `{"qubits": 3, "terms": [{"pauli": "ZZ", "coeff": 1}]}`, "2 qubits, want 3"},
-		{"index beyond", `{"qubits": 3, "terms": [{"pauli": "Z3", "coeff": 1}]}`, "beyond the qubit count 3"},
+		{"index beyond", `{"qubits": 3, "terms": [{"pauli": "Z_3", "coeff": 1}]}`, "beyond the qubit count 3"},
 		{"missing coeff", `{"qubits": 2, "terms": [{"pauli": "ZZ"}]}`, "missing \"coeff\""},
 		{"missing pauli", `{"qubits": 2, "terms": [{"coeff": 1}]}`, "missing \"pauli\""},
 		{"not JSON", `{"qubits": 2,`, "unexpected end"},
@@ -224,7 +230,7 @@ func TestUnmarshalJSONErrors(t *testing.T) {
 func TestJSONForm(t *testing.T) {
 	// The JSON form of the package documentation.
 	in := `{"qubits": 2, "offset": -0.5,
-	 "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X0", "coeff": -0.7}]}`
+	 "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X_0", "coeff": -0.7}]}`
 	var h Hamiltonian
 	if err := json.Unmarshal([]byte(in), &h); err != nil {
 		t.Fatal(err)
@@ -269,13 +275,13 @@ func TestReadWidthLimit(t *testing.T) {
 		{"at the limit", MaxReadQubits, true},
 		{"above the limit", MaxReadQubits + 1, false},
 	} {
-		text := "qubits " + strconv.Itoa(tc.n) + "\n1 Z0\n"
+		text := "qubits " + strconv.Itoa(tc.n) + "\n1 Z_0\n"
 		_, err := Read(strings.NewReader(text))
 		if (err == nil) != tc.ok {
 			t.Errorf("%s: Read(qubits %d) error = %v, want ok = %v", tc.name, tc.n, err, tc.ok)
 		}
 		var h Hamiltonian
-		err = json.Unmarshal([]byte(`{"qubits": `+strconv.Itoa(tc.n)+`, "terms": [{"pauli": "Z0", "coeff": 1}]}`), &h)
+		err = json.Unmarshal([]byte(`{"qubits": `+strconv.Itoa(tc.n)+`, "terms": [{"pauli": "Z_0", "coeff": 1}]}`), &h)
 		if (err == nil) != tc.ok {
 			t.Errorf("%s: UnmarshalJSON(qubits %d) error = %v, want ok = %v", tc.name, tc.n, err, tc.ok)
 		}
@@ -286,11 +292,12 @@ func TestReadWidthLimit(t *testing.T) {
 // accepts survives Write and Read unchanged.
 func FuzzRead(f *testing.F) {
 	for _, s := range []string{
-		"qubits 2\n-0.5 I\n-1 ZZ\n-0.7 X0\n",
-		"1 XIZ\n2 Y1\n",
-		"1e400 ZZ\n", "1+2i XX\n", "qubits 3\n1 X5\n", "1 XX\n1 XXX\n",
-		"qubits 99999999999\n", "1 X99999999\n", "# only a comment\n",
-		"1 I\n", "qubits 0\n", "nan Z\n", "0x1p-3 Z\n", "1 X0 X0\n",
+		"qubits 2\n-0.5 I\n-1 ZZ\n-0.7 X_0\n",
+		"1 XIZ\n2 Y_1\n",
+		"1e400 ZZ\n", "1+2i XX\n", "qubits 3\n1 X_5\n", "1 XX\n1 XXX\n",
+		"qubits 99999999999\n", "1 X_99999999\n", "# only a comment\n",
+		"1 I\n", "qubits 0\n", "nan Z\n", "0x1p-3 Z\n", "1 X_0 X_0\n",
+		"\ufeff1 Z\n", "1 Z\n\x00\n", "1_000 ZZ\n", "1e-400 XI\n", "1 X0 Z2\n", "",
 	} {
 		f.Add(s)
 	}
@@ -316,7 +323,7 @@ func FuzzRead(f *testing.F) {
 // FuzzUnmarshalJSON checks that decoding never panics and round-trips.
 func FuzzUnmarshalJSON(f *testing.F) {
 	for _, s := range []string{
-		`{"qubits": 2, "offset": -0.5, "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X0", "coeff": -0.7}]}`,
+		`{"qubits": 2, "offset": -0.5, "terms": [{"pauli": "ZZ", "coeff": -1}, {"pauli": "X_0", "coeff": -0.7}]}`,
 		`{"qubits": 2, "terms": [{"pauli": "ZZ", "coeff": [1, 2]}]}`,
 		`{"qubits": 99999999999}`, `{}`, `[]`,
 	} {
@@ -334,6 +341,49 @@ func FuzzUnmarshalJSON(f *testing.F) {
 		var g Hamiltonian
 		if err := json.Unmarshal(b, &g); err != nil || !g.Equal(&h) {
 			t.Fatalf("round trip of %q: %v", s, err)
+		}
+	})
+}
+
+// FuzzJSONKeys inserts one member, with a fuzzed key and value, into a
+// valid JSON Hamiltonian, at the top level or in its term. Every key of the
+// form is already present except "offset" at the top, so the reader must
+// refuse the result with a *LineError unless the member is a valid offset;
+// it must never panic or accept an unknown or repeated key.
+func FuzzJSONKeys(f *testing.F) {
+	for _, c := range []struct {
+		key, val string
+		inTerm   bool
+	}{
+		{"imag", "0.5", true}, {"terms", "[]", false}, {"coeff", "2", true},
+		{"term", "[]", false}, {"Qubits", "2", false}, {"offset", "1", false},
+		{"offset", "[1, 2]", false}, {"pauli", `"XX"`, true}, {"", "null", false},
+	} {
+		f.Add(c.key, c.val, c.inTerm)
+	}
+	f.Fuzz(func(t *testing.T, key, val string, inTerm bool) {
+		k, _ := json.Marshal(key)
+		member := string(k) + ": " + val
+		var in string
+		if inTerm {
+			in = "{\"qubits\": 2,\n\"terms\": [{\"pauli\": \"ZZ\", \"coeff\": 1,\n" + member + "}]}"
+		} else {
+			in = "{\"qubits\": 2,\n\"terms\": [{\"pauli\": \"ZZ\", \"coeff\": 1}],\n" + member + "}"
+		}
+		if !json.Valid([]byte(in)) {
+			return
+		}
+		var h Hamiltonian
+		err := h.UnmarshalJSON([]byte(in))
+		if err == nil {
+			if inTerm || key != "offset" {
+				t.Fatalf("accepted %q", in)
+			}
+			return
+		}
+		var le *LineError
+		if !errors.Is(err, ErrFormat) || !errors.As(err, &le) || le.Line < 1 || le.Line > 3+strings.Count(val, "\n") {
+			t.Fatalf("UnmarshalJSON(%q) = %v, want a *LineError within the input", in, err)
 		}
 	})
 }

@@ -7,7 +7,7 @@
 //
 // Qubit q is character q of a dense string, read left to right: "XIZY" is X on
 // qubit 0, I on qubit 1, Z on qubit 2 and Y on qubit 3. The sparse form
-// "X0 Z2 Y3" names qubits explicitly and needs the qubit count beside it.
+// "X_0 Z_2 Y_3" names qubits explicitly and needs the qubit count beside it.
 //
 // A measured bit 0 means eigenvalue +1 and a bit 1 means −1. [Bits] holds an
 // outcome, bit q in word q/64 at position q%64.

@@ -3,6 +3,8 @@ package pauli
 import (
 	"errors"
 	"strconv"
+
+	"github.com/shotplan/shotplan/internal/inputcap"
 )
 
 // ErrSyntax is wrapped by parse errors for malformed text.
@@ -23,7 +25,7 @@ type ParseError struct {
 }
 
 func (e *ParseError) Error() string {
-	return "pauli: parsing " + strconv.Quote(e.Input) + ": offset " + strconv.Itoa(e.Offset) + ": " + e.Reason
+	return "pauli: parsing " + inputcap.Quote(e.Input) + ": offset " + strconv.Itoa(e.Offset) + ": " + e.Reason
 }
 
 // Unwrap returns the sentinel error.

@@ -20,17 +20,17 @@ func ExampleString_Commutes() {
 }
 
 func ExampleParseSparse() {
-	p, err := pauli.ParseSparse("X0 Z2 Y3", 5)
+	p, err := pauli.ParseSparse("X_0 Z_2 Y_3", 5)
 	if err != nil {
 		fmt.Println(err)
 		return
 	}
 	fmt.Println(p, p.Weight(), p.Sparse())
-	_, err = pauli.ParseSparse("X0 Z7", 5)
+	_, err = pauli.ParseSparse("X_0 Z_7", 5)
 	fmt.Println(err)
 	// Output:
-	// XIZYI 3 X0 Z2 Y3
-	// pauli: parsing "X0 Z7": offset 4: qubit 7 beyond the qubit count 5
+	// XIZYI 3 X_0 Z_2 Y_3
+	// pauli: parsing "X_0 Z_7": offset 6: qubit 7 beyond the qubit count 5
 }
 
 func ExampleSetting_Covers() {

@@ -106,7 +106,7 @@ func FuzzParseSparse(f *testing.F) {
 	for _, c := range []struct {
 		s string
 		n uint16
-	}{{"X0 Z2 Y3", 4}, {"I", 0}, {"X0 Z5", 3}, {"X0Z1", 3}, {"X0 X0", 2}, {"Y999", 1000}, {"  z1\t", 2}} {
+	}{{"X_0 Z_2 Y_3", 4}, {"I", 0}, {"X_0 Z_5", 3}, {"X0Z1", 3}, {"X_0 X_0", 2}, {"Y_999", 1000}, {"  z_1\t", 2}} {
 		f.Add(c.s, c.n)
 	}
 	f.Fuzz(func(t *testing.T, s string, n uint16) {

@@ -6,6 +6,8 @@ import (
 	"strconv"
 	"strings"
 	"unsafe"
+
+	"github.com/shotplan/shotplan/internal/inputcap"
 )
 
 // Words returns the number of 64-bit words that hold n qubits.
@@ -307,8 +309,8 @@ func (p *String) UnmarshalText(b []byte) error {
 	return nil
 }
 
-// Sparse returns the sparse form of p, such as "X0 Z2 Y3", or "I" for the
-// identity.
+// Sparse returns the sparse form of p, such as "X_0 Z_2 Y_3", or "I" for
+// the identity.
 func (p String) Sparse() string {
 	return string(p.AppendSparse(nil))
 }
@@ -321,7 +323,7 @@ func (p String) AppendSparse(b []byte) []byte {
 			b = append(b, ' ')
 		}
 		first = false
-		b = append(b, "IXYZ"[l])
+		b = append(b, "IXYZ"[l], '_')
 		b = strconv.AppendInt(b, int64(q), 10)
 	}
 	if first {
@@ -356,10 +358,12 @@ func MustParse(s string) String {
 	return p
 }
 
-// ParseSparse parses the sparse form on n qubits: letters followed by qubit
-// indices, separated by spaces, such as "X0 Z2 Y3". "I" alone (or an empty
-// string) is the identity. A qubit may appear only once, and an index must be
-// below n.
+// ParseSparse parses the sparse form on n qubits: factors separated by
+// spaces, each a letter, an underscore (the subscript mark) and a qubit
+// index, such as "X_0 Z_2 Y_3". "I" alone (or an empty string) is the
+// identity. A qubit may appear only once, and an index must be below n. A
+// factor without the underscore ("X0") is an error that names the form to
+// write instead.
 func ParseSparse(s string, n int) (String, error) {
 	if n < 0 {
 		return String{}, &ParseError{Input: s, Offset: 0, Reason: "negative qubit count", Err: ErrRange}
@@ -380,19 +384,23 @@ func ParseSparse(s string, n int) (String, error) {
 			return String{}, &ParseError{Input: s, Offset: i, Reason: "unknown letter " + strconv.QuoteRune(rune(s[i])), Err: ErrSyntax}
 		}
 		i++
+		if i >= len(s) || s[i] != '_' {
+			return String{}, &ParseError{Input: s, Offset: i, Reason: sparseHint(s, start, l), Err: ErrSyntax}
+		}
+		i++
 		j := i
 		for j < len(s) && s[j] >= '0' && s[j] <= '9' {
 			j++
 		}
 		if j == i {
-			return String{}, &ParseError{Input: s, Offset: i, Reason: "missing qubit index after " + l.String(), Err: ErrSyntax}
+			return String{}, &ParseError{Input: s, Offset: i, Reason: "missing qubit index after " + l.String() + "_", Err: ErrSyntax}
 		}
 		if j < len(s) && s[j] != ' ' && s[j] != '\t' {
-			return String{}, &ParseError{Input: s, Offset: j, Reason: "unexpected " + strconv.QuoteRune(rune(s[j])) + " after qubit index", Err: ErrSyntax}
+			return String{}, &ParseError{Input: s, Offset: j, Reason: "unexpected " + strconv.QuoteRune(rune(s[j])) + " after qubit index (separate factors with a space)", Err: ErrSyntax}
 		}
 		q, err := strconv.Atoi(s[i:j])
 		if err != nil || q >= n {
-			return String{}, &ParseError{Input: s, Offset: i, Reason: "qubit " + s[i:j] + " beyond the qubit count " + strconv.Itoa(n), Err: ErrRange}
+			return String{}, &ParseError{Input: s, Offset: i, Reason: "qubit " + inputcap.Clip(s[i:j]) + " beyond the qubit count " + strconv.Itoa(n), Err: ErrRange}
 		}
 		if l == I {
 			i = j
@@ -408,4 +416,18 @@ func ParseSparse(s string, n int) (String, error) {
 		i = j
 	}
 	return p, nil
+}
+
+// sparseHint explains a sparse factor that lacks the subscript mark: a
+// letter followed by digits ("X0") is the unmarked form, answered with the
+// form to write instead.
+func sparseHint(s string, start int, l Letter) string {
+	j := start + 1
+	for j < len(s) && s[j] >= '0' && s[j] <= '9' {
+		j++
+	}
+	if j > start+1 {
+		return strconv.Quote(inputcap.Clip(s[start:j])) + ": write " + l.String() + "_" + inputcap.Clip(s[start+1:j]) + " (letter, underscore, qubit)"
+	}
+	return "missing \"_\" and qubit index after " + l.String() + " (write " + l.String() + "_0 for qubit 0)"
 }

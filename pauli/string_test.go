@@ -207,9 +207,9 @@ func TestWeightSupportNamed(t *testing.T) {
 	}{
 		{"", 0, nil, "I"},
 		{"IIII", 0, nil, "I"},
-		{"XIZY", 3, []int{0, 2, 3}, "X0 Z2 Y3"},
-		{strings.Repeat("I", 64) + "Y", 1, []int{64}, "Y64"},
-		{"Z" + strings.Repeat("I", 998) + "X", 2, []int{0, 999}, "Z0 X999"},
+		{"XIZY", 3, []int{0, 2, 3}, "X_0 Z_2 Y_3"},
+		{strings.Repeat("I", 64) + "Y", 1, []int{64}, "Y_64"},
+		{"Z" + strings.Repeat("I", 998) + "X", 2, []int{0, 999}, "Z_0 X_999"},
 	} {
 		p := MustParse(tc.p)
 		if got := p.Weight(); got != tc.weight {
@@ -249,11 +249,33 @@ func TestTextRoundTrip(t *testing.T) {
 		}
 	}
 	// Lower case and repeated spaces are accepted.
-	if p, err := ParseSparse("  x0\tz2  y3 ", 4); err != nil || p.String() != "XIZY" {
-		t.Errorf(`ParseSparse("  x0\tz2  y3 ", 4) = %s, %v, want XIZY`, p, err)
+	if p, err := ParseSparse("  x_0\tz_2  y_3 ", 4); err != nil || p.String() != "XIZY" {
+		t.Errorf(`ParseSparse("  x_0\tz_2  y_3 ", 4) = %s, %v, want XIZY`, p, err)
 	}
 	if p, err := Parse("xizy"); err != nil || p.String() != "XIZY" {
 		t.Errorf(`Parse("xizy") = %s, %v, want XIZY`, p, err)
+	}
+}
+
+// TestParseSparseOldForm checks that a factor without the subscript mark
+// ("X0", the unmarked form) is refused with the form to write instead.
+func TestParseSparseOldForm(t *testing.T) {
+	for _, tc := range []struct{ in, want string }{
+		{"X0 Z2", `"X0": write X_0 (letter, underscore, qubit)`},
+		{"X_0 y12", `"y12": write Y_12 (letter, underscore, qubit)`},
+		{"X_0 Z", `missing "_" and qubit index after Z`},
+		{"X_", "missing qubit index after X_"},
+		{"X_1Z_2", "separate factors with a space"},
+	} {
+		_, err := ParseSparse(tc.in, 20)
+		if err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("ParseSparse(%q) error %v, want it to contain %q", tc.in, err, tc.want)
+		}
+	}
+	// A long token is quoted shortened, not whole.
+	long := "X" + strings.Repeat("7", 10000)
+	if _, err := ParseSparse(long, 3); err == nil || len(err.Error()) > 400 {
+		t.Errorf("error on a 10001-byte factor is %d bytes long", len(err.Error()))
 	}
 }
 
@@ -267,14 +289,14 @@ func TestParseErrors(t *testing.T) {
 	}{
 		{"unknown dense letter", func() error { _, err := Parse("XQZ"); return err }, "XQZ", 1, ErrSyntax},
 		{"digit in dense", func() error { _, err := Parse("X0"); return err }, "X0", 1, ErrSyntax},
-		{"unknown sparse letter", func() error { _, err := ParseSparse("X0 Q1", 3); return err }, "X0 Q1", 3, ErrSyntax},
+		{"unknown sparse letter", func() error { _, err := ParseSparse("X_0 Q1", 3); return err }, "X_0 Q1", 4, ErrSyntax},
 		{"missing index", func() error { _, err := ParseSparse("X", 3); return err }, "X", 1, ErrSyntax},
-		{"glued terms", func() error { _, err := ParseSparse("X0Z1", 3); return err }, "X0Z1", 2, ErrSyntax},
-		{"qubit named twice", func() error { _, err := ParseSparse("X0 Y0", 3); return err }, "X0 Y0", 3, ErrSyntax},
-		{"index beyond count", func() error { _, err := ParseSparse("X0 Z5", 3); return err }, "X0 Z5", 4, ErrRange},
-		{"index equal to count", func() error { _, err := ParseSparse("Z3", 3); return err }, "Z3", 1, ErrRange},
-		{"index overflows int", func() error { _, err := ParseSparse("X99999999999999999999", 3); return err }, "X99999999999999999999", 1, ErrRange},
-		{"negative count", func() error { _, err := ParseSparse("X0", -1); return err }, "X0", 0, ErrRange},
+		{"glued terms", func() error { _, err := ParseSparse("X0Z1", 3); return err }, "X0Z1", 1, ErrSyntax},
+		{"qubit named twice", func() error { _, err := ParseSparse("X_0 Y_0", 3); return err }, "X_0 Y_0", 4, ErrSyntax},
+		{"index beyond count", func() error { _, err := ParseSparse("X_0 Z_5", 3); return err }, "X_0 Z_5", 6, ErrRange},
+		{"index equal to count", func() error { _, err := ParseSparse("Z_3", 3); return err }, "Z_3", 2, ErrRange},
+		{"index overflows int", func() error { _, err := ParseSparse("X_99999999999999999999", 3); return err }, "X_99999999999999999999", 2, ErrRange},
+		{"negative count", func() error { _, err := ParseSparse("X_0", -1); return err }, "X_0", 0, ErrRange},
 		{"bad bit", func() error { _, err := ParseBits("01a"); return err }, "01a", 2, ErrSyntax},
 		{"identity in setting", func() error { _, err := ParseSetting("XIZ"); return err }, "XIZ", 1, ErrSyntax},
 		{"bad letter in setting", func() error { _, err := ParseSetting("XW"); return err }, "XW", 1, ErrSyntax},

@@ -89,8 +89,8 @@ func TestSuiteCatchesFlaws(t *testing.T) {
 		flaw, want string
 	}{
 		{"forgetful", "running the same value twice gave different plans"},
-		{"lying-cover", "Plan.Cover = "},
-		{"wrong-drawn", "out of range"},
+		{"lying-cover", "lying: reports term 0"},
+		{"wrong-drawn", "drawing: shot 0 drew term"},
 		{"sound", ""},
 	} {
 		t.Run(tc.flaw, func(t *testing.T) {
@@ -125,9 +125,9 @@ func TestCheckCatchesFlaws(t *testing.T) {
 		want string
 	}{
 		{"forgetful", func(uint64) allocate.Allocator { return &zeds{forgetful: true} }, "running the same value twice gave different plans"},
-		{"lying-cover", func(uint64) allocate.Allocator { return &lying{} }, "Plan.Cover = "},
-		{"wrong-drawn", func(uint64) allocate.Allocator { return &drawing{} }, "out of range"},
-		{"panicking", func(uint64) allocate.Allocator { return &panicking{} }, "panic: "},
+		{"lying-cover", func(uint64) allocate.Allocator { return &lying{} }, "lying: reports term 0"},
+		{"wrong-drawn", func(uint64) allocate.Allocator { return &drawing{} }, "drawing: shot 0 drew term"},
+		{"panicking", func(uint64) allocate.Allocator { return &panicking{} }, "panicking panicked in Next: boom"},
 		{"sound", func(uint64) allocate.Allocator { return &zeds{} }, ""},
 	} {
 		err := allocatetest.Check(tc.mk, opts)

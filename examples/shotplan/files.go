@@ -90,7 +90,7 @@ func parseReadout(s string, qubits int) ([]estimate.Readout, error) {
 	var p [2]float64
 	for k, f := range parts {
 		v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
-		if err != nil || v < 0 || v >= 0.5 {
+		if err != nil || !(v >= 0 && v < 0.5) { // NaN too
 			return nil, badf("-readout %q: %q is not a probability in [0, 0.5)", s, f)
 		}
 		p[k] = v

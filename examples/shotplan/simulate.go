@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -45,6 +46,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
 		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
+		if errors.Is(err, estimate.ErrFormat) {
+			return bad(err) // the library refused an input value
+		}
 		if err != nil {
 			stop()
 			return err

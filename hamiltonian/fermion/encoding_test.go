@@ -59,8 +59,8 @@ const h, ih = 0.5, 0.5i
 // REFERENCE_VALUES.md exactly. Source: Seeley, Richard & Love,
 // arXiv:1208.5986, §IV, as written in REFERENCE_VALUES.md:
 //
-//	a_0† = ½ X1 X3 (X0 − iY0); a_1† = ½ X3 (Z0 X1 − iY1);
-//	a_2† = ½ Z1 X3 (X2 − iY2); a_3† = ½ (Z1 Z2 X3 − iY3)       (Bravyi–Kitaev)
+//	a_0† = ½ X_1 X_3 (X_0 − iY0); a_1† = ½ X_3 (Z_0 X_1 − iY1);
+//	a_2† = ½ Z_1 X_3 (X_2 − iY2); a_3† = ½ (Z_1 Z_2 X_3 − iY3)       (Bravyi–Kitaev)
 //	a_j† = ½ X_{j+1} ⋯ X_{n−1} (Z_{j−1} X_j − iY_j), Z_{−1} = I  (parity)
 //	a_j† = Z_0 ⋯ Z_{j−1} (X_j − iY_j)/2                         (Jordan–Wigner)
 func TestLadderReference(t *testing.T) {
@@ -69,17 +69,17 @@ func TestLadderReference(t *testing.T) {
 		mode int
 		want []wantTerm
 	}{
-		{BravyiKitaev, 0, []wantTerm{{"X0 X1 X3", h}, {"Y0 X1 X3", -ih}}},
-		{BravyiKitaev, 1, []wantTerm{{"Z0 X1 X3", h}, {"Y1 X3", -ih}}},
-		{BravyiKitaev, 2, []wantTerm{{"Z1 X2 X3", h}, {"Z1 Y2 X3", -ih}}},
-		{BravyiKitaev, 3, []wantTerm{{"Z1 Z2 X3", h}, {"Y3", -ih}}},
-		{Parity, 0, []wantTerm{{"X0 X1 X2 X3", h}, {"Y0 X1 X2 X3", -ih}}},
-		{Parity, 1, []wantTerm{{"Z0 X1 X2 X3", h}, {"Y1 X2 X3", -ih}}},
-		{Parity, 2, []wantTerm{{"Z1 X2 X3", h}, {"Y2 X3", -ih}}},
-		{Parity, 3, []wantTerm{{"Z2 X3", h}, {"Y3", -ih}}},
-		{JordanWigner, 0, []wantTerm{{"X0", h}, {"Y0", -ih}}},
-		{JordanWigner, 2, []wantTerm{{"Z0 Z1 X2", h}, {"Z0 Z1 Y2", -ih}}},
-		{JordanWigner, 3, []wantTerm{{"Z0 Z1 Z2 X3", h}, {"Z0 Z1 Z2 Y3", -ih}}},
+		{BravyiKitaev, 0, []wantTerm{{"X_0 X_1 X_3", h}, {"Y_0 X_1 X_3", -ih}}},
+		{BravyiKitaev, 1, []wantTerm{{"Z_0 X_1 X_3", h}, {"Y_1 X_3", -ih}}},
+		{BravyiKitaev, 2, []wantTerm{{"Z_1 X_2 X_3", h}, {"Z_1 Y_2 X_3", -ih}}},
+		{BravyiKitaev, 3, []wantTerm{{"Z_1 Z_2 X_3", h}, {"Y_3", -ih}}},
+		{Parity, 0, []wantTerm{{"X_0 X_1 X_2 X_3", h}, {"Y_0 X_1 X_2 X_3", -ih}}},
+		{Parity, 1, []wantTerm{{"Z_0 X_1 X_2 X_3", h}, {"Y_1 X_2 X_3", -ih}}},
+		{Parity, 2, []wantTerm{{"Z_1 X_2 X_3", h}, {"Y_2 X_3", -ih}}},
+		{Parity, 3, []wantTerm{{"Z_2 X_3", h}, {"Y_3", -ih}}},
+		{JordanWigner, 0, []wantTerm{{"X_0", h}, {"Y_0", -ih}}},
+		{JordanWigner, 2, []wantTerm{{"Z_0 Z_1 X_2", h}, {"Z_0 Z_1 Y_2", -ih}}},
+		{JordanWigner, 3, []wantTerm{{"Z_0 Z_1 Z_2 X_3", h}, {"Z_0 Z_1 Z_2 Y_3", -ih}}},
 	}
 	for _, tc := range tests {
 		t.Run(fmt.Sprintf("%s/a%d†", tc.enc, tc.mode), func(t *testing.T) {
@@ -101,7 +101,7 @@ func TestLadderReference(t *testing.T) {
 // TestNumberReference checks n_j = a_j† a_j on 4 modes exactly. Source:
 // REFERENCE_VALUES.md (Seeley, Richard & Love, arXiv:1208.5986):
 // Jordan–Wigner n_j = ½(I − Z_j); Bravyi–Kitaev n_j = ½(I − Z_j Z_F(j)) with
-// n_3 = ½(I − Z1 Z2 Z3), F(0) = F(2) = ∅, F(1) = {0}, F(3) = {1, 2};
+// n_3 = ½(I − Z_1 Z_2 Z_3), F(0) = F(2) = ∅, F(1) = {0}, F(3) = {1, 2};
 // parity n_j = ½(I − Z_{j−1} Z_j).
 func TestNumberReference(t *testing.T) {
 	tests := []struct {
@@ -109,16 +109,16 @@ func TestNumberReference(t *testing.T) {
 		mode int
 		want []wantTerm
 	}{
-		{JordanWigner, 0, []wantTerm{{"I", h}, {"Z0", -h}}},
-		{JordanWigner, 3, []wantTerm{{"I", h}, {"Z3", -h}}},
-		{BravyiKitaev, 0, []wantTerm{{"I", h}, {"Z0", -h}}},
-		{BravyiKitaev, 1, []wantTerm{{"I", h}, {"Z0 Z1", -h}}},
-		{BravyiKitaev, 2, []wantTerm{{"I", h}, {"Z2", -h}}},
-		{BravyiKitaev, 3, []wantTerm{{"I", h}, {"Z1 Z2 Z3", -h}}},
-		{Parity, 0, []wantTerm{{"I", h}, {"Z0", -h}}},
-		{Parity, 1, []wantTerm{{"I", h}, {"Z0 Z1", -h}}},
-		{Parity, 2, []wantTerm{{"I", h}, {"Z1 Z2", -h}}},
-		{Parity, 3, []wantTerm{{"I", h}, {"Z2 Z3", -h}}},
+		{JordanWigner, 0, []wantTerm{{"I", h}, {"Z_0", -h}}},
+		{JordanWigner, 3, []wantTerm{{"I", h}, {"Z_3", -h}}},
+		{BravyiKitaev, 0, []wantTerm{{"I", h}, {"Z_0", -h}}},
+		{BravyiKitaev, 1, []wantTerm{{"I", h}, {"Z_0 Z_1", -h}}},
+		{BravyiKitaev, 2, []wantTerm{{"I", h}, {"Z_2", -h}}},
+		{BravyiKitaev, 3, []wantTerm{{"I", h}, {"Z_1 Z_2 Z_3", -h}}},
+		{Parity, 0, []wantTerm{{"I", h}, {"Z_0", -h}}},
+		{Parity, 1, []wantTerm{{"I", h}, {"Z_0 Z_1", -h}}},
+		{Parity, 2, []wantTerm{{"I", h}, {"Z_1 Z_2", -h}}},
+		{Parity, 3, []wantTerm{{"I", h}, {"Z_2 Z_3", -h}}},
 	}
 	for _, tc := range tests {
 		o := NewOperator(4)

@@ -127,7 +127,7 @@ func TestNonHermitianError(t *testing.T) {
 }
 
 // TestComplexHermitian maps i a0† a1 − i a1† a0, Hermitian with imaginary
-// coefficients, to ½(Y0 X1 − X0 Y1) under Jordan–Wigner (worked by hand from
+// coefficients, to ½(Y_0 X_1 − X_0 Y_1) under Jordan–Wigner (worked by hand from
 // a_j† = Z_0⋯Z_{j−1}(X_j − iY_j)/2, Seeley, Richard & Love, arXiv:1208.5986).
 func TestComplexHermitian(t *testing.T) {
 	o := NewOperator(2)

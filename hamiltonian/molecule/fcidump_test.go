@@ -183,6 +183,8 @@ func FuzzReadFCIDUMP(f *testing.F) {
 	f.Add("&FCI NORB=2,NELEC=2,ORBSYM=2*1 /\n 0.5 1 2 2 1\n 1 1 1 0 0\n")
 	f.Add("&FCI NORB=3 NELEC=2 UHF=.TRUE. &END\n")
 	f.Add("&fci norb=1, nelec=0\n&end\n 1d0 1 1 1 1\n")
+	f.Add("&FCI NORB=2,NELEC=2,MS2=0,ORBSYM=1,6,ISYM=1\n&END\n 0.5 1 1 1 2\n 0.2 1 2 0 0\n")
+	f.Add("&FCI NORB=2,NELEC=2,MS2=5,ISYM=99\n&END\n")
 	const maxOrbitals = 12 // keep each input's allocation small
 	f.Fuzz(func(t *testing.T, text string) {
 		g, err := readFCIDUMP(strings.NewReader(text), maxOrbitals)
