@@ -26,7 +26,7 @@ type Allocator interface {
 
 // Observer is an optional interface of adaptive allocators, which read the
 // outcome of every shot before choosing the next setting. The driver detects
-// it once, before the loop; it then needs [Settings].Measure to obtain the
+// it once, before the loop; it then needs [Options].Measure to obtain the
 // outcomes and calls Observe once per shot, in shot order, after the setting
 // of that shot has been produced and before the next call to Next or
 // NextBatch. Observe must not keep b, which the driver reuses.

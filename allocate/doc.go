@@ -9,12 +9,12 @@
 // once, then Next, which writes the next setting's letters into a buffer the
 // driver owns and says how many consecutive shots it gets. The driver owns
 // the loop, the budget (the plan has exactly the budget's shots; the last
-// setting is cut to fit), stopping, the progress callback of [Settings], the
+// setting is cut to fit), stopping, the progress callback of [Options], the
 // merging of consecutive repeats and the cover counts N_i. It detects the
 // optional interfaces once, before the loop:
 //
 //   - [Observer]: an adaptive strategy reads every shot's outcome back, in
-//     shot order; the outcomes come from [Settings].Measure.
+//     shot order; the outcomes come from [Options].Measure.
 //   - [Batcher]: the strategy produces many settings at once.
 //   - [Counter]: the strategy keeps N_i itself, saving the driver a pass.
 //   - [TermDrawer]: the strategy draws one term per shot ([Plan].Drawn).

@@ -11,9 +11,9 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// Settings adjusts a run of [Run]. A nil *Settings means the zero value,
+// Options adjusts a run of [Run]. A nil *Options means the zero value,
 // whose every field has a default described beside it.
-type Settings struct {
+type Options struct {
 	// Progress, if not nil, is called after a round in which the number of
 	// planned shots reached the next multiple of ProgressShots, and once at
 	// the end of the run. Nil means no progress reports.
@@ -46,13 +46,13 @@ type Progress struct {
 // [ErrBudget] if budget ≤ 0, [ErrNonFinite] if a coefficient is NaN or
 // infinite, [ErrTooManyQubits] if a's [QubitLimit] is below h's width,
 // [ErrStrategy] if a breaks the [Allocator] contract, and any error of
-// a's methods or of Settings.Measure, prefixed by the strategy's name.
+// a's methods or of Options.Measure, prefixed by the strategy's name.
 // h is not modified.
-func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings) (*Plan, error) {
+func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (*Plan, error) {
 	start := time.Now()
-	var set Settings
-	if settings != nil {
-		set = *settings
+	var set Options
+	if opts != nil {
+		set = *opts
 	}
 	if a == nil {
 		return nil, fmt.Errorf("%w: nil Allocator", ErrStrategy)
@@ -76,7 +76,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 	counter, _ := a.(Counter)
 	drawer, _ := a.(TermDrawer)
 	if obs != nil && set.Measure == nil {
-		return nil, fmt.Errorf("allocate: %s reads outcomes back (Observer) but Settings.Measure is nil", name)
+		return nil, fmt.Errorf("allocate: %s reads outcomes back (Observer) but Options.Measure is nil", name)
 	}
 	every := set.ProgressShots
 	if every <= 0 {

@@ -102,7 +102,7 @@ func TestRunObserverOrder(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var measured []string
-			p, err := allocate.Run(h, 11, tc.a, &allocate.Settings{Measure: alternating(&measured, 2)})
+			p, err := allocate.Run(h, 11, tc.a, &allocate.Options{Measure: alternating(&measured, 2)})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -145,7 +145,7 @@ func TestRunObserverAdapts(t *testing.T) {
 		k++
 		return nil
 	}
-	p, err := allocate.Run(h, 6, &probe{}, &allocate.Settings{Measure: measure})
+	p, err := allocate.Run(h, 6, &probe{}, &allocate.Options{Measure: measure})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -159,14 +159,14 @@ func TestRunObserverNeedsMeasure(t *testing.T) {
 	h := mustH(t, 0, "ZZ", 1.0)
 	_, err := allocate.Run(h, 3, &probe{}, nil)
 	if err == nil || !strings.Contains(err.Error(), "Measure") {
-		t.Errorf("Run(Observer, no Measure) error = %v, want one naming Settings.Measure", err)
+		t.Errorf("Run(Observer, no Measure) error = %v, want one naming Options.Measure", err)
 	}
 }
 
 func TestRunProgress(t *testing.T) {
 	h := mustH(t, 0, "ZZ", 1.0, "XI", 0.5)
 	var got []int
-	s := &allocate.Settings{ProgressShots: 10, Progress: func(p allocate.Progress) {
+	s := &allocate.Options{ProgressShots: 10, Progress: func(p allocate.Progress) {
 		if p.Budget != 35 {
 			t.Errorf("Progress.Budget = %d, want 35", p.Budget)
 		}

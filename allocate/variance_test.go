@@ -201,14 +201,14 @@ func TestReweightErrors(t *testing.T) {
 	for _, c := range []struct {
 		name  string
 		start []float64
-		s     *VarianceSettings
+		s     *VarianceOptions
 		want  string
 	}{
 		{"length", []float64{1}, nil, "1 weights for 2 candidate settings"},
 		{"negative", []float64{1, -1}, nil, "weight -1"},
 		{"zero", []float64{0, 0}, nil, "positive total"},
-		{"floor", nil, &VarianceSettings{Floor: 1}, "floor 1"},
-		{"iterations", nil, &VarianceSettings{Iterations: -1}, "-1 iterations"},
+		{"floor", nil, &VarianceOptions{Floor: 1}, "floor 1"},
+		{"iterations", nil, &VarianceOptions{Iterations: -1}, "-1 iterations"},
 	} {
 		_, err := m.Reweight(c.start, c.s)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
@@ -228,7 +228,7 @@ func TestReweightErrors(t *testing.T) {
 	}
 	// With only ZX useful (it covers both terms), the descent puts all
 	// free weight there: S = 1 + 0.25 at π(ZX) = 1, more otherwise.
-	w, err = m.Reweight([]float64{1, 1}, &VarianceSettings{Floor: -1})
+	w, err = m.Reweight([]float64{1, 1}, &VarianceOptions{Floor: -1})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -397,7 +397,7 @@ func TestGroupedMitigation(t *testing.T) {
 	}
 	h := h2JW(t)
 	flips := []Readout{{0.05, 0.05}, {0.05, 0.05}, {0.05, 0.05}, {0.05, 0.05}}
-	sim, ev, err := GroundStateSimulator(h, 99, &SimulatorSettings{Readout: flips})
+	sim, ev, err := GroundStateSimulator(h, 99, &SimulatorOptions{Readout: flips})
 	if err != nil {
 		t.Fatal(err)
 	}

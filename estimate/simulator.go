@@ -35,9 +35,9 @@ func checkReadout(r []Readout, n int, what string) error {
 	return nil
 }
 
-// SimulatorSettings tunes a [Simulator]. A nil *SimulatorSettings means the
+// SimulatorOptions tunes a [Simulator]. A nil *SimulatorOptions means the
 // defaults.
-type SimulatorSettings struct {
+type SimulatorOptions struct {
 	// Readout holds the readout error of every qubit, Readout[q] for
 	// qubit q. Nil means perfect readout; otherwise the length must be the
 	// qubit count.
@@ -51,7 +51,7 @@ type SimulatorSettings struct {
 	CacheBytes int
 }
 
-// defaultCacheBytes is the cache size when SimulatorSettings.CacheBytes is
+// defaultCacheBytes is the cache size when SimulatorOptions.CacheBytes is
 // zero.
 const defaultCacheBytes = 256 << 20
 
@@ -84,7 +84,7 @@ type Simulator struct {
 // The amplitudes are copied and normalised. It returns an error if the
 // length is not 2^n for 1 ≤ n ≤ [hamiltonian.MaxExactQubits], an amplitude
 // is not finite, the norm is zero, or the settings are invalid.
-func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Simulator, error) {
+func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Simulator, error) {
 	if len(state) < 2 || len(state)&(len(state)-1) != 0 {
 		return nil, fmt.Errorf("estimate: NewSimulator: %d amplitudes, want 2^n with n ≥ 1", len(state))
 	}
@@ -92,7 +92,7 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Si
 	if n > hamiltonian.MaxExactQubits {
 		return nil, fmt.Errorf("estimate: NewSimulator: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
 	}
-	var set SimulatorSettings
+	var set SimulatorOptions
 	if opts != nil {
 		set = *opts
 	}
@@ -131,7 +131,7 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Si
 // GroundStateSimulator returns a simulator of the ground state of h, found
 // by [hamiltonian.GroundState] with default settings, together with the
 // eigenpair (its Energy is the exact value an unbiased estimate aims at).
-func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorSettings) (*Simulator, hamiltonian.Eigenpair, error) {
+func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorOptions) (*Simulator, hamiltonian.Eigenpair, error) {
 	ev, err := hamiltonian.GroundState(h, nil)
 	if err != nil {
 		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: GroundStateSimulator: %w", err)

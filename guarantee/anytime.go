@@ -11,8 +11,8 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// AnytimeSettings describes a sequential measurement for [Anytime].
-type AnytimeSettings struct {
+// AnytimeOptions describes a sequential measurement for [Anytime].
+type AnytimeOptions struct {
 	// Plan is the distribution the shots draw their settings from; see
 	// [IIDOf] to make one from any plan. Required.
 	Plan *IID
@@ -54,7 +54,7 @@ type AnytimeSettings struct {
 	// The pilot shots never enter the estimate or the interval (sample
 	// splitting; see [Anytime]).
 	Pilot    int
-	Variance *allocate.VarianceSettings
+	Variance *allocate.VarianceOptions
 }
 
 // AnytimeResult is the outcome of [Anytime].
@@ -115,12 +115,12 @@ type AnytimeResult struct {
 // fixed before the certified shots. The pilot costs its shots, which is why
 // it should be a small fraction of the expected total.
 //
-// Anytime returns an error for invalid settings (naming the field), a
+// Anytime returns an error for invalid options (naming the field), a
 // device failure (with the round), or a device that does not record the
 // shots it was asked for.
-func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings) (*AnytimeResult, error) {
+func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions) (*AnytimeResult, error) {
 	if h == nil || dev == nil || s == nil || s.Plan == nil {
-		return nil, fmt.Errorf("guarantee: Anytime: nil Hamiltonian, device, settings or plan")
+		return nil, fmt.Errorf("guarantee: Anytime: nil Hamiltonian, device, options or plan")
 	}
 	switch {
 	case !validDelta(s.Delta):

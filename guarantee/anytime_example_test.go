@@ -32,7 +32,7 @@ func ExampleAnytime() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	res, err := guarantee.Anytime(h, dev, &guarantee.AnytimeSettings{
+	res, err := guarantee.Anytime(h, dev, &guarantee.AnytimeOptions{
 		Plan: d, Target: 0.05, Delta: 0.05, MaxShots: 1000000, Seed: 2,
 		Pilot: 500, // re-weights π from 500 shots that the certificate never uses
 	})

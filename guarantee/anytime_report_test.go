@@ -49,7 +49,7 @@ func TestAnytimeReport(t *testing.T) {
 				var radii, errs []float64
 				var sigma float64
 				for r := range reps {
-					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n + pilot, Pilot: pilot,
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, MaxShots: n + pilot, Pilot: pilot,
 						Seed: uint64(1000*n + r), FirstRound: n, Betting: &BettingOptions{Horizon: n}})
 					if err != nil {
 						t.Fatal(err)
@@ -91,7 +91,7 @@ func TestAnytimeReport(t *testing.T) {
 				const reps = 100
 				var radii, errs, merrs []float64
 				for r := range reps {
-					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n, Method: m,
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, MaxShots: n, Method: m,
 						Seed: uint64(7000*n + r), FirstRound: n})
 					if err != nil {
 						t.Fatal(err)
@@ -133,7 +133,7 @@ func TestAnytimeReport(t *testing.T) {
 		dev := newTableDevice(t, sys.state, 7)
 		var used []float64
 		for r := range 5 {
-			res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, Target: eps, MaxShots: 50000000, Pilot: 2000,
+			res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, Target: eps, MaxShots: 50000000, Pilot: 2000,
 				Seed: uint64(r), FirstRound: 10000})
 			if err != nil {
 				t.Fatal(err)

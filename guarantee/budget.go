@@ -12,11 +12,11 @@ import (
 // ErrBudgetDependent is returned (wrapped) by [PlanBudget] in prefix mode
 // when the strategy's plan for a budget is not the start of its plan for a
 // larger budget, so that prefixes are not the plans the strategy makes; use
-// BudgetSettings.Rerun for such strategies.
+// BudgetOptions.Rerun for such strategies.
 var ErrBudgetDependent = errors.New("guarantee: the strategy's plan depends on its budget")
 
-// BudgetSettings describes the search of [PlanBudget].
-type BudgetSettings struct {
+// BudgetOptions describes the search of [PlanBudget].
+type BudgetOptions struct {
 	// MaxShots is the largest budget considered; it must be positive.
 	MaxShots int
 	// Rerun selects the rerun search (see PlanBudget); false selects the
@@ -71,10 +71,10 @@ type Budget struct {
 //
 // Adaptive strategies (those implementing [allocate.Observer]) are refused:
 // an a-priori certificate needs a plan fixed before the data (MATH.md §4).
-func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	switch {
 	case h == nil || a == nil || s == nil:
-		return nil, fmt.Errorf("guarantee: PlanBudget: nil Hamiltonian, strategy or settings")
+		return nil, fmt.Errorf("guarantee: PlanBudget: nil Hamiltonian, strategy or options")
 	case !(eps > 0) || math.IsInf(eps, 0):
 		return nil, fmt.Errorf("guarantee: PlanBudget: target ε = %v, want a positive number", eps)
 	case !validDelta(delta):
@@ -93,7 +93,7 @@ func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta flo
 	return prefixBudget(h, a, eps, delta, s)
 }
 
-func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	step := max(s.Step, 1)
 	b := &Budget{}
 	for n := step; ; n += step {
@@ -118,7 +118,7 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 	}
 }
 
-func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	full, err := allocate.Run(h, s.MaxShots, a, nil)
 	if err != nil {
 		return nil, fmt.Errorf("guarantee: PlanBudget: %w", err)
@@ -191,7 +191,7 @@ func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta f
 				return nil, fmt.Errorf("guarantee: PlanBudget: budget %d: %w", n, err)
 			}
 			if !samePlan(again, p) {
-				return nil, fmt.Errorf("%w: %s at budget %d differs from the first %d shots of its plan for %d; use BudgetSettings.Rerun", ErrBudgetDependent, allocate.Name(a), n, n, s.MaxShots)
+				return nil, fmt.Errorf("%w: %s at budget %d differs from the first %d shots of its plan for %d; use BudgetOptions.Rerun", ErrBudgetDependent, allocate.Name(a), n, n, s.MaxShots)
 			}
 			b.Certified, b.Shots, b.Plan, b.Certificate = true, n, p, cert
 			return b, nil

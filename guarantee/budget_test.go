@@ -33,7 +33,7 @@ func TestPlanBudgetPrefixIsSmallest(t *testing.T) {
 			t.Fatal(err)
 		}
 		eps := c120.Total * 1.0001
-		b, err := PlanBudget(h, a, eps, 0.05, &BudgetSettings{MaxShots: 1000})
+		b, err := PlanBudget(h, a, eps, 0.05, &BudgetOptions{MaxShots: 1000})
 		if errors.Is(err, ErrBudgetDependent) && name == "derand" {
 			t.Logf("%s: %v", name, err)
 			continue
@@ -55,7 +55,7 @@ func TestPlanBudgetPrefixIsSmallest(t *testing.T) {
 		}
 		// The rerun search over every budget agrees for a strategy whose
 		// plans are prefixes of one another.
-		r, err := PlanBudget(h, a, eps, 0.05, &BudgetSettings{MaxShots: 1000, Rerun: true})
+		r, err := PlanBudget(h, a, eps, 0.05, &BudgetOptions{MaxShots: 1000, Rerun: true})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -83,10 +83,10 @@ func TestPlanBudgetBudgetDependent(t *testing.T) {
 		t.Fatal(err)
 	}
 	eps := c.Total
-	if _, err := PlanBudget(h, a, eps, 0.1, &BudgetSettings{MaxShots: 2000}); !errors.Is(err, ErrBudgetDependent) {
+	if _, err := PlanBudget(h, a, eps, 0.1, &BudgetOptions{MaxShots: 2000}); !errors.Is(err, ErrBudgetDependent) {
 		t.Errorf("PlanBudget(sorted, prefix search) error = %v, want ErrBudgetDependent", err)
 	}
-	r, err := PlanBudget(h, a, eps, 0.1, &BudgetSettings{MaxShots: 2000, Rerun: true})
+	r, err := PlanBudget(h, a, eps, 0.1, &BudgetOptions{MaxShots: 2000, Rerun: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -113,7 +113,7 @@ func TestPlanBudgetBudgetDependent(t *testing.T) {
 
 func TestPlanBudgetNotReached(t *testing.T) {
 	h := mustH(t, 2, 0, 1.0, "ZI", 1.0, "XX")
-	b, err := PlanBudget(h, &allocate.Greedy{}, 1e-3, 0.05, &BudgetSettings{MaxShots: 50})
+	b, err := PlanBudget(h, &allocate.Greedy{}, 1e-3, 0.05, &BudgetOptions{MaxShots: 50})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -57,7 +57,7 @@ func ExampleCertify() {
 // sampling's closed form; plans gain in the data bounds instead.
 func ExamplePlanBudget() {
 	h := mustRead(chain)
-	b, err := guarantee.PlanBudget(h, &allocate.Greedy{}, 0.1, 0.05, &guarantee.BudgetSettings{MaxShots: 100_000})
+	b, err := guarantee.PlanBudget(h, &allocate.Greedy{}, 0.1, 0.05, &guarantee.BudgetOptions{MaxShots: 100_000})
 	if err != nil {
 		log.Fatal(err)
 	}
@@ -118,7 +118,7 @@ func ExampleSequential() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	res, err := guarantee.Sequential(h, sim, &guarantee.SequentialSettings{
+	res, err := guarantee.Sequential(h, sim, &guarantee.SequentialOptions{
 		Settings: base.Settings, Shots: base.Shots,
 		Target: 0.2, Delta: 0.05, MaxShots: 100_000, Growth: 2, Form: guarantee.Pooled,
 	})

@@ -9,8 +9,8 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// SequentialSettings describes a sequential measurement for [Sequential].
-type SequentialSettings struct {
+// SequentialOptions describes a sequential measurement for [Sequential].
+type SequentialOptions struct {
 	// Settings and Shots are the base plan: one copy of it is
 	// Σ Shots shots. Every round measures whole copies.
 	Settings []pauli.Setting
@@ -65,7 +65,7 @@ type SequentialResult struct {
 // Sequential returns an error for invalid settings (naming the field), a
 // device failure (with the round), or records that do not hold the shots
 // the device was asked for.
-func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSettings) (*SequentialResult, error) {
+func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOptions) (*SequentialResult, error) {
 	if h == nil || dev == nil || s == nil {
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian, device or settings")
 	}

@@ -16,9 +16,9 @@ import (
 // Eigenpair returned with it is the best estimate found.
 var ErrNotConverged = errors.New("hamiltonian: ground state did not converge")
 
-// EigenSettings tunes [GroundState]. A nil *EigenSettings, or the zero value
+// EigenOptions tunes [GroundState]. A nil *EigenOptions, or the zero value
 // of any field, means the default.
-type EigenSettings struct {
+type EigenOptions struct {
 	// Tolerance is the residual ‖Hψ − Eψ‖ (ψ normalised) at which the
 	// search stops. Zero means 1e-10·max(1, |h_0| + ‖h‖₁). The energy error
 	// is at most the residual, and at most residual²/gap once the residual
@@ -68,11 +68,11 @@ type Eigenpair struct {
 // GroundState returns an error for more than [MaxExactQubits] qubits, for
 // invalid settings, and [ErrNotConverged] (with the best pair found) when
 // MaxApply products were not enough.
-func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
+func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if h.n > MaxExactQubits {
 		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
 	}
-	var s EigenSettings
+	var s EigenOptions
 	if opts != nil {
 		s = *opts
 	}

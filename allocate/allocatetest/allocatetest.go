@@ -210,7 +210,7 @@ type shot struct {
 
 func run(h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) (*allocate.Plan, error) {
 	measure, _ := measurer(h.Qubits())
-	return allocate.Run(h, budget, a, &allocate.Settings{Measure: measure})
+	return allocate.Run(h, budget, a, &allocate.Options{Measure: measure})
 }
 
 func checkPlan(t reporter, h *hamiltonian.Hamiltonian, budget int, seed uint64, newAllocator func(uint64) allocate.Allocator) {
@@ -340,7 +340,7 @@ func checkObserver(t reporter, h *hamiltonian.Hamiltonian, budget int, a allocat
 		wrapped = batchRecorder{rec}
 	}
 	measure, measured := measurer(h.Qubits())
-	p, err := allocate.Run(h, budget, wrapped, &allocate.Settings{Measure: measure})
+	p, err := allocate.Run(h, budget, wrapped, &allocate.Options{Measure: measure})
 	if err != nil {
 		t.Errorf("Run with an observing wrapper: %v", err)
 		return

@@ -35,7 +35,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
+		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorOptions{Readout: ro})
 		if err != nil {
 			return err
 		}
