@@ -13,7 +13,7 @@ import (
 // The whole job on a small transverse-field Ising ring: plan, certify before
 // any shot, simulate the device, estimate, and bound the error from the data.
 func Example() {
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(6, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(6), 1, 1)
 	if err != nil {
 		panic(err)
 	}

@@ -88,7 +88,7 @@ func lihJW(t *testing.T) *hamiltonian.Hamiltonian {
 // Heisenberg ring). Each mean is of ±1 samples, so it lies within
 // 5/sqrt(count) of the truth except with probability below 6e-7 per pair.
 func TestMomentsEstimates(t *testing.T) {
-	h, err := hamiltonian.Heisenberg(hamiltonian.Chain(6, true), 1)
+	h, err := hamiltonian.Heisenberg(hamiltonian.Ring(6), 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -116,7 +116,7 @@ func TestMomentsEstimates(t *testing.T) {
 // TestReweightGradient checks the analytic gradient of S against central
 // differences (step 1e-6, relative tolerance 1e-4).
 func TestReweightGradient(t *testing.T) {
-	h, err := hamiltonian.Heisenberg(hamiltonian.Chain(6, true), 1)
+	h, err := hamiltonian.Heisenberg(hamiltonian.Ring(6), 1)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -370,7 +370,7 @@ func TestGroupedUnbiasedIsing(t *testing.T) {
 	if testing.Short() {
 		t.Skip("400 repetitions")
 	}
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(10, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(10), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

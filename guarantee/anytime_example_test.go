@@ -14,7 +14,7 @@ import (
 // coupling): certify its ground energy to ±0.05 at 95% confidence,
 // stopping as soon as the data allow.
 func ExampleAnytime() {
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(4, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(4), 1, 1)
 	if err != nil {
 		log.Fatal(err)
 	}

@@ -46,7 +46,7 @@ func coverageCases(t *testing.T) []coverageCase {
 
 	// 10-qubit transverse-field Ising ring at J = h = 1; ground energy
 	// −2/sin(π/(2N)) (REFERENCE_VALUES.md, Pfeuty 1970).
-	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(10, true), 1, 1)
+	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(10), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

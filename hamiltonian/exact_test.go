@@ -229,9 +229,9 @@ func TestEnergyIsSumOfExpectations(t *testing.T) {
 	}
 }
 
-func ring(t testing.TB, n int) Lattice {
+func ring(t testing.TB, n int) Graph {
 	t.Helper()
-	return Chain(n, true)
+	return Ring(n)
 }
 
 func groundEnergy(t *testing.T, h *Hamiltonian) float64 {
