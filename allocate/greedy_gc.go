@@ -70,19 +70,6 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator] for local settings; it returns an error when
-// the round's setting is entangled. The driver calls NextBatch instead.
-func (g *GreedyGC) Next(dst []pauli.Letter) (int, error) {
-	s, err := g.round()
-	if err != nil {
-		return 0, err
-	}
-	if err := writeSetting(dst, "greedy-gc", s); err != nil {
-		return 0, err
-	}
-	return 1, nil
-}
-
 // NextBatch implements [Batcher]: one setting with one shot.
 func (g *GreedyGC) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
 	s, err := g.round()
@@ -103,7 +90,7 @@ func (g *GreedyGC) Cover(dst []int) {
 func (g *GreedyGC) round() (pauli.Setting, error) {
 	rk := g.rk
 	if rk == nil {
-		return pauli.Setting{}, fmt.Errorf("greedy-gc: Next before Init")
+		return pauli.Setting{}, fmt.Errorf("greedy-gc: NextBatch before Init")
 	}
 	// Uncovered terms sort above every covered one: their key is |h|
 	// plus a tier above every marginal gain (each gain is below |h|).

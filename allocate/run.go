@@ -37,8 +37,8 @@ type Progress struct {
 
 // Run runs the allocator a to plan budget shots for h and returns the plan.
 // It is the driver of every strategy: it checks the input, detects the
-// optional interfaces ([Observer], [Batcher], [Counter], [TermDrawer],
-// [QubitLimit]) once, calls Init, then Next (or NextBatch) until the budget
+// interfaces ([Stepper] or [Batcher], and the optional [Observer], [Counter],
+// [TermDrawer], [QubitLimit]) once, calls Init, then NextBatch (or Next) until the budget
 // is spent, merges consecutive repeats of a setting, and counts every term's
 // cover N_i. The plan has exactly budget shots.
 //
@@ -73,6 +73,10 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (*P
 	}
 	obs, _ := a.(Observer)
 	batch, _ := a.(Batcher)
+	step, _ := a.(Stepper)
+	if batch == nil && step == nil {
+		return nil, fmt.Errorf("%w: %s has neither Next (Stepper) nor NextBatch (Batcher)", ErrStrategy, name)
+	}
 	counter, _ := a.(Counter)
 	drawer, _ := a.(TermDrawer)
 	if obs != nil && set.Measure == nil {
@@ -145,7 +149,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (*P
 				}
 			}
 		} else {
-			k, err := a.Next(letters)
+			k, err := step.Next(letters)
 			if err != nil {
 				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
 			}

@@ -228,6 +228,11 @@ func (f *failing) Init(*hamiltonian.Hamiltonian, int) error { return errors.New(
 
 type limited struct{ broken }
 
+// initOnly has Init but neither Next nor NextBatch.
+type initOnly struct{}
+
+func (initOnly) Init(*hamiltonian.Hamiltonian, int) error { return nil }
+
 func (l *limited) MaxQubits() int { return 1 }
 
 func TestRunErrors(t *testing.T) {
@@ -259,6 +264,7 @@ func TestRunErrors(t *testing.T) {
 		{"fixed of other width", h, 5, allocate.NewFixed(pauli.MustParseSetting("Z")), allocate.ErrTooManyQubits, ""},
 		{"fixed without settings", h, 5, &allocate.Fixed{}, nil, "no settings"},
 		{"nil allocator", h, 5, nil, allocate.ErrStrategy, "nil Allocator"},
+		{"neither Next nor NextBatch", h, 5, initOnly{}, allocate.ErrStrategy, "initOnly has neither Next (Stepper) nor NextBatch (Batcher)"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			_, err := allocate.Run(tc.h, tc.budget, tc.a, nil)
