@@ -116,8 +116,8 @@ func TestAnytimeReport(t *testing.T) {
 	fmt.Fprintf(&b, "\n## Shots to certify 1.6 mHa (molecules), δ = %v\n\n", delta)
 	fmt.Fprintf(&b, "anytime = median over 5 runs of the shots the driver used (pilot of 2000 included; betting CS, horizon from the pilot,\n")
 	fmt.Fprintf(&b, "stopping when the certified radius ≤ 1.6 mHa). worst case = shots for which copies of the 10^4-shot greedy plan\n")
-	fmt.Fprintf(&b, "certify 1.6 mHa by the a-priori bound of MATH §3.1 (CertifyPlan Total); replicating a plan k times divides V by k exactly,\n")
-	fmt.Fprintf(&b, "so this is 10^4·(Total/ε)².\n\n")
+	fmt.Fprintf(&b, "certify 1.6 mHa by the a-priori bound of MATH §3.1 (CertifyPlan Bound); replicating a plan k times divides V by k exactly,\n")
+	fmt.Fprintf(&b, "so this is 10^4·(Bound/ε)².\n\n")
 	fmt.Fprintf(&b, "| system | anytime shots | worst-case shots (greedy, a priori) | ratio |\n|---|---|---|---|\n")
 	const eps = 1.6e-3
 	for _, sys := range systems {
@@ -129,7 +129,7 @@ func TestAnytimeReport(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		worst := 1e4 * (c.Total / eps) * (c.Total / eps)
+		worst := 1e4 * (c.Bound / eps) * (c.Bound / eps)
 		dev := newTableDevice(t, sys.state, 7)
 		var used []float64
 		for r := range 5 {

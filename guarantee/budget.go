@@ -44,7 +44,7 @@ type Budget struct {
 
 // PlanBudget finds the smallest number of shots for which strategy a's plan
 // for h certifies accuracy eps at confidence 1 − delta: a [Certificate]
-// Total (radius of MATH.md §3.1 plus bias, nothing dropped) of at most eps.
+// certified bound (radius of MATH.md §3.1 plus bias, nothing dropped) of at most eps.
 // V need not fall with every added shot (MATH.md §3.4), so no budget is
 // skipped on that assumption: every candidate budget is evaluated.
 //
@@ -52,7 +52,7 @@ type Budget struct {
 //
 // The strategy is run once to MaxShots. For n = 1, 2, ..., MaxShots in turn,
 // the first n shots of that plan are certified; the answer is the first n
-// whose Total ≤ eps. V is updated shot by shot (adding a shot of Q changes
+// whose Bound ≤ eps. V is updated shot by shot (adding a shot of Q changes
 // N_i for i ◁ Q, hence s_Q' of every setting Q' seen so far that covers such
 // a term), and a budget that passes is re-certified from scratch before it is
 // accepted, so rounding cannot decide the answer. A shot costs
@@ -108,7 +108,7 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 		}
 		b.Evaluated++
 		b.Shots, b.Plan, b.Certificate = n, p, c
-		if c.Total <= eps {
+		if c.Bound <= eps {
 			b.Certified = true
 			return b, nil
 		}
@@ -183,7 +183,7 @@ func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta f
 			if err != nil {
 				return nil, err
 			}
-			if cert.Total > eps {
+			if cert.Bound > eps {
 				continue
 			}
 			again, err := allocate.Run(h, n, a, nil)

@@ -45,7 +45,7 @@ type SequentialResult struct {
 	// settings' total), every round's bound holds at once, so the bound at
 	// whatever round the run stopped holds too.
 	Bound *DataBound
-	// History[k] is the Total of round k+1's bound.
+	// History[k] is the Bound of round k+1's certificate.
 	History []float64
 	// Records holds every shot.
 	Records *estimate.Records
@@ -130,8 +130,8 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 		}
 		res.Rounds, res.Copies = k, res.Copies+copies
 		res.Bound = finishBound(h, gs, bias, rec.Len(), sched.At(k), s.Form, nil)
-		res.History = append(res.History, res.Bound.Total)
-		if res.Bound.Total <= s.Target {
+		res.History = append(res.History, res.Bound.Bound)
+		if res.Bound.Bound <= s.Target {
 			res.Certified = true
 			break
 		}

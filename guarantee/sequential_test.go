@@ -28,8 +28,8 @@ func TestSequentialStops(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !res.Certified || res.Bound.Total > s.Target {
-			t.Fatalf("Sequential(growth %g) certified %v with bound %g, want ≤ %g", growth, res.Certified, res.Bound.Total, s.Target)
+		if !res.Certified || res.Bound.Bound > s.Target {
+			t.Fatalf("Sequential(growth %g) certified %v with bound %g, want ≤ %g", growth, res.Certified, res.Bound.Bound, s.Target)
 		}
 		if got, want := res.Records.Len(), res.Copies*40; got != want {
 			t.Errorf("Sequential(growth %g): %d shots recorded, want %d copies × 40 = %d", growth, got, res.Copies, want)
@@ -51,10 +51,10 @@ func TestSequentialStops(t *testing.T) {
 		}
 		// A single seeded run: the bound holds with probability ≥ 95%;
 		// this seed's outcome is fixed.
-		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Total {
-			t.Errorf("Sequential(growth %g): |%g − %g| exceeds the bound %g", growth, res.Bound.Energy, ev.Energy, res.Bound.Total)
+		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Bound {
+			t.Errorf("Sequential(growth %g): |%g − %g| exceeds the bound %g", growth, res.Bound.Energy, ev.Energy, res.Bound.Bound)
 		}
-		t.Logf("growth %g: %d rounds, %d shots, bound %.4g", growth, res.Rounds, res.Records.Len(), res.Bound.Total)
+		t.Logf("growth %g: %d rounds, %d shots, bound %.4g", growth, res.Rounds, res.Records.Len(), res.Bound.Bound)
 	}
 }
 
@@ -159,7 +159,7 @@ func TestSequentialCoverage(t *testing.T) {
 		if !res.Certified {
 			t.Fatalf("run %d: not certified within the cap", r)
 		}
-		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Total {
+		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Bound {
 			fail++
 		}
 	}
