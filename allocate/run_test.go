@@ -324,6 +324,9 @@ func TestByName(t *testing.T) {
 			t.Errorf("Name(ByName(%q)) = %q", name, got)
 		}
 	}
+	if a, err := allocate.ByName("Sorted-GC", 1); err != nil || allocate.Name(a) != "sorted-gc" {
+		t.Errorf("ByName(Sorted-GC) = %v, %v; want sorted-gc in any case", a, err)
+	}
 	if _, err := allocate.ByName("nonesuch", 1); err == nil || !strings.Contains(err.Error(), "greedy") {
 		t.Errorf("ByName(nonesuch) error = %v, want one listing the known names", err)
 	}

@@ -12,7 +12,7 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
 	plan := fs.String("plan", "", "plan file (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ: the bound holds with probability at least 1 − δ")
-	top := fs.Int("top", 5, "number of terms listed by their share of the bound")
+	top := fs.Int("top", 5, "list the `N` terms with the largest share of the bound (0: none)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err

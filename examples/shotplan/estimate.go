@@ -17,7 +17,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	plan := fs.String("plan", "", "plan file the shots were measured by (required)")
 	records := fs.String("records", "", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the bounds; the error bar is at confidence 1 − δ too")
-	readout := fs.String("readout", "", "mitigate readout error: P or P01,P10 as in simulate (the bounds assume ideal readout)")
+	readout := fs.String("readout", "", "mitigate readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10, as in simulate (the bounds assume ideal readout)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
