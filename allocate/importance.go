@@ -98,10 +98,10 @@ func (im *Importance) Drawn() []int { return im.drawn }
 // non-identity term.
 func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error) {
 	if !(eps > 0) || math.IsInf(eps, 0) {
-		return 0, fmt.Errorf("allocate: ImportanceShots: eps = %v, want a finite positive number", eps)
+		return 0, fmt.Errorf("allocate: eps = %v, want a finite positive number", eps)
 	}
 	if !(delta > 0 && delta < 1) {
-		return 0, fmt.Errorf("allocate: ImportanceShots: delta = %v, want 0 < delta < 1", delta)
+		return 0, fmt.Errorf("allocate: delta = %v, want 0 < delta < 1", delta)
 	}
 	if h == nil || h.Len() == 0 {
 		return 0, ErrEmpty
@@ -109,7 +109,7 @@ func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error
 	l1 := h.OneNorm()
 	n := math.Ceil(2 * l1 * l1 * math.Log(2/delta) / (eps * eps))
 	if n > math.MaxInt64/2 {
-		return 0, fmt.Errorf("allocate: ImportanceShots: %g shots overflow an int", n)
+		return 0, fmt.Errorf("allocate: %g shots overflow an int", n)
 	}
 	return int(n), nil
 }

@@ -98,20 +98,20 @@ const ManifestName = "manifest.csv"
 // count is negative or there are no settings.
 func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 	if len(settings) != len(shots) {
-		return fmt.Errorf("estimate: ExportQASM: %d settings but %d shot counts", len(settings), len(shots))
+		return fmt.Errorf("estimate: %d settings but %d shot counts", len(settings), len(shots))
 	}
 	if len(settings) == 0 {
-		return fmt.Errorf("estimate: ExportQASM: no settings")
+		return fmt.Errorf("estimate: no settings")
 	}
 	var distinct []pauli.Setting
 	var total []int
 	index := make(map[string]int)
 	for k, s := range settings {
 		if s.Qubits() != settings[0].Qubits() {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has %d qubits, setting 0 has %d", k, s, s.Qubits(), settings[0].Qubits())
+			return fmt.Errorf("estimate: setting %d (%s) has %d qubits, setting 0 has %d", k, s, s.Qubits(), settings[0].Qubits())
 		}
 		if shots[k] < 0 {
-			return fmt.Errorf("estimate: ExportQASM: setting %d (%s) has negative shot count %d", k, s, shots[k])
+			return fmt.Errorf("estimate: setting %d (%s) has negative shot count %d", k, s, shots[k])
 		}
 		key := s.Key()
 		d, ok := index[key]
@@ -124,7 +124,7 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 		total[d] += shots[k]
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
-		return fmt.Errorf("estimate: ExportQASM: directory %s is not empty", dir)
+		return fmt.Errorf("estimate: directory %s is not empty", dir)
 	} else if err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}

@@ -86,11 +86,11 @@ type Simulator struct {
 // is not finite, the norm is zero, or the settings are invalid.
 func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Simulator, error) {
 	if len(state) < 2 || len(state)&(len(state)-1) != 0 {
-		return nil, fmt.Errorf("estimate: NewSimulator: %d amplitudes, want 2^n with n ≥ 1", len(state))
+		return nil, fmt.Errorf("estimate: %d amplitudes, want 2^n with n ≥ 1", len(state))
 	}
 	n := bits.TrailingZeros(uint(len(state)))
 	if n > hamiltonian.MaxExactQubits {
-		return nil, fmt.Errorf("estimate: NewSimulator: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
+		return nil, fmt.Errorf("estimate: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
 	}
 	var set SimulatorOptions
 	if opts != nil {
@@ -102,12 +102,12 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Sim
 	norm := 0.0
 	for a, v := range state {
 		if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
-			return nil, fmt.Errorf("estimate: NewSimulator: amplitude %d is %v", a, v)
+			return nil, fmt.Errorf("estimate: amplitude %d is %v", a, v)
 		}
 		norm += real(v)*real(v) + imag(v)*imag(v)
 	}
 	if norm == 0 || math.IsInf(norm, 0) {
-		return nil, fmt.Errorf("estimate: NewSimulator: state norm² is %v", norm)
+		return nil, fmt.Errorf("estimate: state norm² is %v", norm)
 	}
 	c := complex(1/math.Sqrt(norm), 0)
 	psi := make([]complex128, len(state))
@@ -134,7 +134,7 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Sim
 func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorOptions) (*Simulator, hamiltonian.Eigenpair, error) {
 	ev, err := hamiltonian.GroundState(h, nil)
 	if err != nil {
-		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: GroundStateSimulator: %w", err)
+		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: %w", err)
 	}
 	sim, err := NewSimulator(ev.State, seed, opts)
 	if err != nil {

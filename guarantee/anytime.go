@@ -120,27 +120,27 @@ type AnytimeResult struct {
 // shots it was asked for.
 func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions) (*AnytimeResult, error) {
 	if h == nil || dev == nil || s == nil || s.Plan == nil {
-		return nil, fmt.Errorf("guarantee: Anytime: nil Hamiltonian, device, options or plan")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian, device, options or plan")
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Anytime: Delta = %v is not in (0, 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Delta = %v is not in (0, 1)", s.Delta)
 	case s.Target < 0 || math.IsNaN(s.Target) || math.IsInf(s.Target, 0):
-		return nil, fmt.Errorf("guarantee: Anytime: Target = %v, want zero or a positive number", s.Target)
+		return nil, fmt.Errorf("guarantee: Target = %v, want zero or a positive number", s.Target)
 	case s.MaxShots <= 0:
-		return nil, fmt.Errorf("guarantee: Anytime: MaxShots = %d, want a positive number", s.MaxShots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d, want a positive number", s.MaxShots)
 	case s.Pilot < 0 || s.Pilot >= s.MaxShots:
-		return nil, fmt.Errorf("guarantee: Anytime: Pilot = %d, want 0 ≤ Pilot < MaxShots = %d", s.Pilot, s.MaxShots)
+		return nil, fmt.Errorf("guarantee: Pilot = %d, want 0 ≤ Pilot < MaxShots = %d", s.Pilot, s.MaxShots)
 	case s.FirstRound < 0:
-		return nil, fmt.Errorf("guarantee: Anytime: FirstRound = %d, want a non-negative number", s.FirstRound)
+		return nil, fmt.Errorf("guarantee: FirstRound = %d, want a non-negative number", s.FirstRound)
 	case s.Growth != 0 && !(s.Growth >= 1) || math.IsInf(s.Growth, 0):
-		return nil, fmt.Errorf("guarantee: Anytime: Growth = %v, want 0 or at least 1", s.Growth)
+		return nil, fmt.Errorf("guarantee: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.Method != Betting && s.Method != BernsteinEpochs:
-		return nil, fmt.Errorf("guarantee: Anytime: unknown method %d", int(s.Method))
+		return nil, fmt.Errorf("guarantee: unknown method %d", int(s.Method))
 	case s.Plan.h == nil || s.Plan.Dist == nil || len(s.Plan.Settings) == 0:
-		return nil, fmt.Errorf("guarantee: Anytime: the plan was not made by NewIID or IIDOf")
+		return nil, fmt.Errorf("guarantee: the plan was not made by NewIID or IIDOf")
 	case s.Plan.h != h && !s.Plan.h.Equal(h):
-		return nil, fmt.Errorf("guarantee: Anytime: the plan was made for another Hamiltonian")
+		return nil, fmt.Errorf("guarantee: the plan was made for another Hamiltonian")
 	}
 	first, growth := s.FirstRound, s.Growth
 	if first == 0 {
@@ -169,14 +169,14 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 			pilotSum += d.Value(k, b) - d.Offset
 			return nil
 		}); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		w, err := mo.Reweight(d.Prob, s.Variance)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		if d, err = NewIID(h, mo.Settings(), w); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		res.Plan, res.Pilot, res.PilotShots = d, pilot, s.Pilot
 		if s.Target > 0 && (bopt.Horizon == 0) {
@@ -184,7 +184,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 			// pilot; the mean of X − h_0 does not depend on π.
 			m2, err := mo.SecondMoment(w)
 			if err != nil {
-				return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+				return nil, fmt.Errorf("guarantee: pilot: %w", err)
 			}
 			mu := pilotSum / float64(s.Pilot)
 			v := max(m2-mu*mu, 0)
@@ -209,7 +209,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 		cs, err = NewBernsteinCS(lo, hi, s.Delta, 0, 0)
 	}
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	if s.Method == Betting {
 		res.Horizon = bopt.Horizon
@@ -220,7 +220,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 		bopt.Aim = s.Target - d.Bias
 		cs, err = NewBettingCS(lo, hi, s.Delta, &bopt)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+			return nil, fmt.Errorf("guarantee: %w", err)
 		}
 	}
 	rec := estimate.NewRecords(h.Qubits())
@@ -236,7 +236,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 			sum += x
 			return cs.Add(x)
 		}); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: round %d: %w", res.Rounds+1, err)
+			return nil, fmt.Errorf("guarantee: round %d: %w", res.Rounds+1, err)
 		}
 		res.Rounds++
 		res.Shots += n

@@ -74,18 +74,18 @@ type Budget struct {
 func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	switch {
 	case h == nil || a == nil || s == nil:
-		return nil, fmt.Errorf("guarantee: PlanBudget: nil Hamiltonian, strategy or options")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian, strategy or options")
 	case !(eps > 0) || math.IsInf(eps, 0):
-		return nil, fmt.Errorf("guarantee: PlanBudget: target ε = %v, want a positive number", eps)
+		return nil, fmt.Errorf("guarantee: target ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return nil, fmt.Errorf("guarantee: PlanBudget: δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: δ = %v is not in (0, 1)", delta)
 	case s.MaxShots < 1:
-		return nil, fmt.Errorf("guarantee: PlanBudget: MaxShots = %d, want at least 1", s.MaxShots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d, want at least 1", s.MaxShots)
 	case s.Step < 0:
-		return nil, fmt.Errorf("guarantee: PlanBudget: Step = %d, want 0 or more", s.Step)
+		return nil, fmt.Errorf("guarantee: Step = %d, want 0 or more", s.Step)
 	}
 	if _, ok := a.(allocate.Observer); ok {
-		return nil, fmt.Errorf("guarantee: PlanBudget: strategy %s reads outcomes back; its plan is not fixed before the data and has no a-priori certificate", allocate.Name(a))
+		return nil, fmt.Errorf("guarantee: strategy %s reads outcomes back; its plan is not fixed before the data and has no a-priori certificate", allocate.Name(a))
 	}
 	if s.Rerun {
 		return rerunBudget(h, a, eps, delta, s)
@@ -100,7 +100,7 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 		n = min(n, s.MaxShots)
 		p, err := allocate.Run(h, n, a, nil)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: PlanBudget: budget %d: %w", n, err)
+			return nil, fmt.Errorf("guarantee: budget %d: %w", n, err)
 		}
 		c, err := CertifyPlan(h, p, delta, s.Options)
 		if err != nil {
@@ -121,7 +121,7 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	full, err := allocate.Run(h, s.MaxShots, a, nil)
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: PlanBudget: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	c, err := newCoverage(h, full.Settings, full.Shots)
 	if err != nil {
@@ -188,7 +188,7 @@ func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta f
 			}
 			again, err := allocate.Run(h, n, a, nil)
 			if err != nil {
-				return nil, fmt.Errorf("guarantee: PlanBudget: budget %d: %w", n, err)
+				return nil, fmt.Errorf("guarantee: budget %d: %w", n, err)
 			}
 			if !samePlan(again, p) {
 				return nil, fmt.Errorf("%w: %s at budget %d differs from the first %d shots of its plan for %d; use BudgetOptions.Rerun", ErrBudgetDependent, allocate.Name(a), n, n, s.MaxShots)
@@ -241,11 +241,11 @@ func samePlan(a, b *allocate.Plan) bool {
 func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error) {
 	switch {
 	case h == nil || h.Len() == 0:
-		return 0, fmt.Errorf("guarantee: ImportanceShots: Hamiltonian has no non-identity term")
+		return 0, fmt.Errorf("guarantee: Hamiltonian has no non-identity term")
 	case !(eps > 0) || math.IsInf(eps, 0):
-		return 0, fmt.Errorf("guarantee: ImportanceShots: ε = %v, want a positive number", eps)
+		return 0, fmt.Errorf("guarantee: ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return 0, fmt.Errorf("guarantee: ImportanceShots: δ = %v is not in (0, 1)", delta)
+		return 0, fmt.Errorf("guarantee: δ = %v is not in (0, 1)", delta)
 	}
 	return HoeffdingShots(eps, 2*h.OneNorm(), delta), nil
 }

@@ -71,15 +71,15 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Sequential: Delta = %v is not in (0, 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Delta = %v is not in (0, 1)", s.Delta)
 	case !(s.Target > 0) || math.IsInf(s.Target, 0):
-		return nil, fmt.Errorf("guarantee: Sequential: Target = %v, want a positive number", s.Target)
+		return nil, fmt.Errorf("guarantee: Target = %v, want a positive number", s.Target)
 	case s.Growth != 0 && !(s.Growth >= 1):
-		return nil, fmt.Errorf("guarantee: Sequential: Growth = %v, want 0 or at least 1", s.Growth)
+		return nil, fmt.Errorf("guarantee: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.P != 0 && !(s.P > 1):
-		return nil, fmt.Errorf("guarantee: Sequential: P = %v, want 0 or more than 1", s.P)
+		return nil, fmt.Errorf("guarantee: P = %v, want 0 or more than 1", s.P)
 	case s.Form < Pooled || s.Form > PerGroupMP:
-		return nil, fmt.Errorf("guarantee: Sequential: unknown empirical form %d", int(s.Form))
+		return nil, fmt.Errorf("guarantee: unknown empirical form %d", int(s.Form))
 	}
 	if err := checkExclude(h, s.Exclude); err != nil {
 		return nil, err
@@ -89,10 +89,10 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 		return nil, err
 	}
 	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: Sequential: the base plan has no shots")
+		return nil, fmt.Errorf("guarantee: the base plan has no shots")
 	}
 	if s.MaxShots < c.shots {
-		return nil, fmt.Errorf("guarantee: Sequential: MaxShots = %d is less than one copy of the base plan (%d shots)", s.MaxShots, c.shots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d is less than one copy of the base plan (%d shots)", s.MaxShots, c.shots)
 	}
 	growth := s.Growth
 	if growth == 0 {
@@ -123,7 +123,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 		}
 		groups, first, err := measure(dev, c.settings, roundShots, rec)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Sequential: round %d: %w", k, err)
+			return nil, fmt.Errorf("guarantee: round %d: %w", k, err)
 		}
 		for q, g := range gs {
 			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)

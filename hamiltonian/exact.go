@@ -70,14 +70,14 @@ type Eigenpair struct {
 // MaxApply products were not enough.
 func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if h.n > MaxExactQubits {
-		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
+		return Eigenpair{}, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
 	}
 	var s EigenOptions
 	if opts != nil {
 		s = *opts
 	}
 	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.KrylovDim < 0 || s.MaxApply < 0 {
-		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: negative or NaN setting in %+v", s)
+		return Eigenpair{}, fmt.Errorf("hamiltonian: negative or NaN setting in %+v", s)
 	}
 	if s.Tolerance == 0 {
 		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
@@ -284,7 +284,7 @@ const MaxMatrixQubits = 12
 // cross-checks on small n and returns an error above [MaxMatrixQubits].
 func (h *Hamiltonian) Matrix() (*mat.CDense, error) {
 	if h.n > MaxMatrixQubits {
-		return nil, fmt.Errorf("hamiltonian: Matrix: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
+		return nil, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
 	}
 	dim := 1 << h.n
 	m := mat.NewCDense(dim, dim, nil)

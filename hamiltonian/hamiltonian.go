@@ -160,7 +160,7 @@ func (h *Hamiltonian) Equal(o *Hamiltonian) bool {
 // Add returns h + o. It returns an error if the widths differ.
 func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
 	if h.n != o.n {
-		return nil, fmt.Errorf("hamiltonian: Add: %d qubits and %d qubits", h.n, o.n)
+		return nil, fmt.Errorf("hamiltonian: %d qubits and %d qubits", h.n, o.n)
 	}
 	terms := make([]Term, 0, h.Len()+o.Len())
 	for _, t := range h.Terms() {

@@ -92,7 +92,7 @@ func RandomLocal(n, terms, k int, seed uint64) (*Hamiltonian, error) {
 		return nil, fmt.Errorf("hamiltonian: RandomLocal(n=%d, terms=%d, k=%d): need n ≥ k ≥ 1 and terms ≥ 0", n, terms, k)
 	}
 	if float64(terms) > countLocal(n, k) {
-		return nil, fmt.Errorf("hamiltonian: RandomLocal: only %.0f strings on %d qubits have weight at most %d, asked for %d", countLocal(n, k), n, k, terms)
+		return nil, fmt.Errorf("hamiltonian: only %.0f strings on %d qubits have weight at most %d, asked for %d", countLocal(n, k), n, k, terms)
 	}
 	rng := rand.New(rand.NewPCG(seed, 0x5eed10ca1))
 	seen := make(map[string]bool, terms)

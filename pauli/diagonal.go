@@ -111,7 +111,7 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 // and returns the indices of its independent generators (see independent).
 func generators(family []String) ([]int, error) {
 	if len(family) == 0 {
-		return nil, errors.New("pauli: Diagonalize: empty family")
+		return nil, errors.New("pauli: empty family")
 	}
 	n := family[0].n
 	for i, p := range family {

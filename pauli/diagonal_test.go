@@ -231,7 +231,7 @@ func TestDiagonalizeErrors(t *testing.T) {
 		want string
 		i, j int // -1: not a NonCommutingError
 	}{
-		{"empty", nil, "pauli: Diagonalize: empty family", -1, -1},
+		{"empty", nil, "pauli: empty family", -1, -1},
 		{"widths", parseAll("XX", "XXX"), "pauli: family member 1 (XXX) has 3 qubits, want 2", -1, -1},
 		{"first pair", parseAll("XI", "ZI"), "pauli: family members 0 (XI) and 1 (ZI) do not commute", 0, 1},
 		{"later pair", parseAll("XI", "IZ", "IX", "ZZ"), "pauli: family members 1 (IZ) and 2 (IX) do not commute", 1, 2},

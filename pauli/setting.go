@@ -256,7 +256,7 @@ func NewFamilySetting(family []String) (Setting, error) {
 		return Setting{}, err
 	}
 	if len(gi) == 0 {
-		return Setting{}, errors.New("pauli: NewFamilySetting: every member is the identity")
+		return Setting{}, errors.New("pauli: every member is the identity")
 	}
 	n := family[0].n
 	gens := make([]String, len(gi))
