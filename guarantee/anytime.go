@@ -16,7 +16,7 @@ type AnytimeOptions struct {
 	// Plan is the distribution the shots draw their settings from; see
 	// [IIDOf] to make one from any plan. Required.
 	Plan *IID
-	// Target is the radius ε to certify: the run stops once the certified
+	// Target is the bound ε to certify: the run stops once the certified
 	// interval is at most 2ε wide (bias included). Zero means run to
 	// MaxShots.
 	Target float64
@@ -59,14 +59,14 @@ type AnytimeOptions struct {
 
 // AnytimeResult is the outcome of [Anytime].
 type AnytimeResult struct {
-	// Certified reports that Radius reached Target.
+	// Certified reports that Bound reached Target.
 	Certified bool
 	// Interval contains the energy E with probability at least 1 − Delta,
 	// however the run was stopped; it includes Plan.Bias on each side.
-	// Estimate is its midpoint and Radius its half-width, so
-	// |Estimate − E| ≤ Radius at that confidence.
-	Interval         [2]float64
-	Estimate, Radius float64
+	// Estimate is its midpoint and Bound its half-width, so
+	// |Estimate − E| ≤ Bound at that confidence.
+	Interval        [2]float64
+	Estimate, Bound float64
 	// Mean is the average single-shot value of the certified shots (the
 	// §4.1 estimate); it lies in Interval except on the failure event.
 	Mean float64
@@ -82,7 +82,7 @@ type AnytimeResult struct {
 	// Records holds the certified shots (in the order of their draws
 	// within each setting); Pilot holds the pilot's, or nil.
 	Records, Pilot *estimate.Records
-	// History[k] is Radius after round k+1.
+	// History[k] is Bound after round k+1.
 	History []float64
 }
 
@@ -90,7 +90,7 @@ type AnytimeResult struct {
 // i.i.d. from a distribution (MATH.md §4.1), feeds every shot's single-shot
 // value to an anytime-valid confidence sequence ([BettingCS] or
 // [BernsteinCS] on the range [IID.Range]), and stops when the certified
-// radius reaches Target or the shots reach MaxShots. Because a confidence
+// bound reaches Target or the shots reach MaxShots. Because a confidence
 // sequence holds at all times at once, the interval at the data-dependent
 // stopping time holds with probability at least 1 − Delta; no schedule of
 // checks needs to be fixed in advance.
@@ -242,9 +242,9 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 		res.Shots += n
 		l, u := cs.Interval()
 		res.Interval = [2]float64{l - d.Bias, u + d.Bias}
-		res.Radius = (res.Interval[1] - res.Interval[0]) / 2
-		res.History = append(res.History, res.Radius)
-		if s.Target > 0 && res.Radius <= s.Target {
+		res.Bound = (res.Interval[1] - res.Interval[0]) / 2
+		res.History = append(res.History, res.Bound)
+		if s.Target > 0 && res.Bound <= s.Target {
 			res.Certified = true
 			break
 		}

@@ -39,10 +39,10 @@ func ExampleAnytime() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	fmt.Println("certified:", res.Certified, "radius ≤ 0.05:", res.Radius <= 0.05)
+	fmt.Println("certified:", res.Certified, "bound ≤ 0.05:", res.Bound <= 0.05)
 	fmt.Println("interval contains the exact energy:", res.Interval[0] <= ground.Energy && ground.Energy <= res.Interval[1])
 	// Output:
-	// certified: true radius ≤ 0.05: true
+	// certified: true bound ≤ 0.05: true
 	// interval contains the exact energy: true
 }
 

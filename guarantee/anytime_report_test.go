@@ -57,7 +57,7 @@ func TestAnytimeReport(t *testing.T) {
 					if r == 0 {
 						sigma = math.Sqrt(res.Plan.Variance(mean, second))
 					}
-					radii = append(radii, res.Radius)
+					radii = append(radii, res.Bound)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 				}
 				slices.Sort(radii)
@@ -96,7 +96,7 @@ func TestAnytimeReport(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
-					radii = append(radii, res.Radius)
+					radii = append(radii, res.Bound)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 					merrs = append(merrs, math.Abs(res.Mean-sys.energy))
 				}

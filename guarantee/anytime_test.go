@@ -65,7 +65,7 @@ func TestAnytimeCoverage(t *testing.T) {
 						t.Fatal(err)
 					}
 					if !res.Certified {
-						t.Fatalf("run %d: not certified after %d shots (radius %v)", r, res.Shots, res.Radius)
+						t.Fatalf("run %d: not certified after %d shots (bound %v)", r, res.Shots, res.Bound)
 					}
 					shots += res.Shots
 					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
@@ -99,8 +99,8 @@ func TestAnytimeSimulator(t *testing.T) {
 		return res
 	}
 	res := run()
-	if !res.Certified || res.Radius > 0.05 {
-		t.Fatalf("Certified = %v with radius %v after %d shots, want certified at 0.05", res.Certified, res.Radius, res.Shots)
+	if !res.Certified || res.Bound > 0.05 {
+		t.Fatalf("Certified = %v with bound %v after %d shots, want certified at 0.05", res.Certified, res.Bound, res.Shots)
 	}
 	if res.Pilot.Len() != 500 || res.Records.Len() != res.Shots || res.PilotShots != 500 {
 		t.Errorf("pilot records %d, certified records %d of %d shots, want 500 and all", res.Pilot.Len(), res.Records.Len(), res.Shots)

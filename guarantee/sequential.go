@@ -45,7 +45,7 @@ type SequentialResult struct {
 	// settings' total), every round's bound holds at once, so the bound at
 	// whatever round the run stopped holds too.
 	Bound *DataBound
-	// History[k] is the Bound of round k+1's certificate.
+	// History[k] is Bound.Bound, the data bound, after round k+1.
 	History []float64
 	// Records holds every shot.
 	Records *estimate.Records
