@@ -13,7 +13,7 @@ import (
 // The whole job on a small transverse-field Ising ring: plan, certify before
 // any shot, simulate the device, estimate, and bound the error from the data.
 func Example() {
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(6, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(6), 1, 1)
 	if err != nil {
 		panic(err)
 	}
@@ -45,8 +45,8 @@ func Example() {
 	fmt.Printf("exact %.6f (closed form %.6f)\n", ground.Energy, -2/math.Sin(math.Pi/12))
 	distinct, _ := plan.Distinct()
 	fmt.Printf("plan: %d shots on %d distinct settings\n", plan.TotalShots(), len(distinct))
-	fmt.Println("estimate within the certified bound:", math.Abs(res.Energy-ground.Energy) <= cert.Total)
-	fmt.Println("data bound tighter than the certificate:", data.Total < cert.Total)
+	fmt.Println("estimate within the certified bound:", math.Abs(res.Energy-ground.Energy) <= cert.Bound)
+	fmt.Println("data bound tighter than the certificate:", data.Bound < cert.Bound)
 	// Output:
 	// exact -7.727407 (closed form -7.727407)
 	// plan: 1000 shots on 2 distinct settings

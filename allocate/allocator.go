@@ -7,17 +7,23 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// Allocator is a strategy that chooses measurement settings one at a time.
-// [Run] calls Init once, then Next until the budget is spent. An Allocator
-// is used by one run at a time; Init must reset every piece of state, so that
-// running the same value twice gives the same plan.
+// Allocator is a strategy that chooses measurement settings. [Run] calls
+// Init once, then asks for settings until the budget is spent: through
+// NextBatch if the allocator is a [Batcher], otherwise through Next, so an
+// Allocator must also be a [Stepper] or a [Batcher] (Run returns an error
+// wrapping [ErrStrategy] for one that is neither). An Allocator is used by
+// one run at a time; Init must reset every piece of state, so that running
+// the same value twice gives the same plan.
 type Allocator interface {
 	// Init prepares the allocator to plan budget shots for h. It must not
 	// modify h. It returns an error if the allocator cannot plan for h.
 	// [Run] prefixes the errors of Init and Next with "allocate: " and the
 	// strategy's name, so they should not name the strategy themselves.
 	Init(h *hamiltonian.Hamiltonian, budget int) error
+}
 
+// Stepper is an [Allocator] that gives one local setting at a time.
+type Stepper interface {
 	// Next writes the basis of every qubit of the next setting into dst,
 	// which the driver owns and which has one entry per qubit (the entries
 	// hold the previous setting on entry), and returns how many consecutive
@@ -28,7 +34,7 @@ type Allocator interface {
 
 // Observer is an optional interface of adaptive allocators, which read the
 // outcome of every shot before choosing the next setting. The driver detects
-// it once, before the loop; it then needs [Settings].Measure to obtain the
+// it once, before the loop; it then needs [Options].Measure to obtain the
 // outcomes and calls Observe once per shot, in shot order, after the setting
 // of that shot has been produced and before the next call to Next or
 // NextBatch. Observe must not keep b, which the driver reuses.
@@ -36,9 +42,9 @@ type Observer interface {
 	Observe(s pauli.Setting, b pauli.Bits)
 }
 
-// Batcher is an optional interface of allocators that produce many settings
-// at once. When an allocator implements it, the driver calls NextBatch
-// instead of Next. NextBatch appends one or more settings and their
+// Batcher is an [Allocator] that produces many settings at once, local or
+// entangled. When an allocator implements it, the driver calls NextBatch
+// and never Next, so a Batcher need not be a [Stepper]. NextBatch appends one or more settings and their
 // consecutive shot counts (each at least 1) to settings and shots, and
 // returns the extended slices; remaining is the number of shots left in the
 // budget, and settings past it are cut.

@@ -50,7 +50,7 @@ func (b *Biased) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
+// Next implements [Stepper].
 func (b *Biased) Next(dst []pauli.Letter) (int, error) {
 	for q := range dst {
 		u := b.rng.Float64()

@@ -44,7 +44,7 @@ type checkCase struct {
 }
 
 func checkCases(t testing.TB) []checkCase {
-	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Rectangle(4, 4, false), 1, 1)
+	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Sheet(4, 4), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

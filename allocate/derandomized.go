@@ -142,7 +142,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
+// Next implements [Stepper].
 func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	// Future factor of a term of weight k, relative to the largest over k.
 	rest := float64(d.budget - d.t - 1)

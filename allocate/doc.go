@@ -6,15 +6,16 @@
 //
 // [Run] is the one driver of every strategy, in the manner of gonum's
 // optimize.Minimize: a strategy is a small synchronous [Allocator] — Init
-// once, then Next, which writes the next setting's letters into a buffer the
-// driver owns and says how many consecutive shots it gets. The driver owns
+// once, then Next (a [Stepper]) or NextBatch (a [Batcher]) until the budget
+// is spent. Next writes the next setting's letters into a buffer the driver
+// owns and says how many consecutive shots it gets. The driver owns
 // the loop, the budget (the plan has exactly the budget's shots; the last
-// setting is cut to fit), stopping, the progress callback of [Settings], the
+// setting is cut to fit), stopping, the progress callback of [Options], the
 // merging of consecutive repeats and the cover counts N_i. It detects the
 // optional interfaces once, before the loop:
 //
 //   - [Observer]: an adaptive strategy reads every shot's outcome back, in
-//     shot order; the outcomes come from [Settings].Measure.
+//     shot order; the outcomes come from [Options].Measure.
 //   - [Batcher]: the strategy produces many settings at once.
 //   - [Counter]: the strategy keeps N_i itself, saving the driver a pass.
 //   - [TermDrawer]: the strategy draws one term per shot ([Plan].Drawn).
@@ -48,8 +49,8 @@
 // qubit-wise, and measure each group with an entangled setting
 // ([pauli.NewFamilySetting]): a Clifford circuit of H, S, S†, CNOT and CZ
 // gates before a Z readout (MATH §8). They hand their settings out through
-// [Batcher], since an entangled setting has no letter per qubit for Next to
-// write; [Fixed] accepts entangled settings too. Plans, plan files, cover
+// [Batcher] and have no Next, since an entangled setting has no letter per
+// qubit to write; [Fixed] accepts entangled settings too. Plans, plan files, cover
 // counts and the conformance suite work for both kinds.
 //
 // # Randomness and reproducibility

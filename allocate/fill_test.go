@@ -30,17 +30,14 @@ func TestFillLetter(t *testing.T) {
 				t.Errorf("Init with Fill = %d: error %v, want one starting %q", pauli.Z+1, err, c.name+": fill letter")
 			}
 			for _, tc := range []struct{ fill, want pauli.Letter }{{pauli.I, pauli.Z}, {pauli.Y, pauli.Y}} {
-				a := c.mk(tc.fill)
-				if err := a.Init(h, 1); err != nil {
-					t.Fatal(err)
-				}
-				dst := make([]pauli.Letter, 2)
-				if _, err := a.Next(dst); err != nil {
+				p, err := allocate.Run(h, 1, c.mk(tc.fill), nil)
+				if err != nil {
 					t.Fatal(err)
 				}
 				// Only XI has a letter on qubit 0; qubit 1 is free.
-				if dst[0] != pauli.X || dst[1] != tc.want {
-					t.Errorf("Fill = %v: Next gave %v %v, want X %v", tc.fill, dst[0], dst[1], tc.want)
+				want := pauli.Complete(pauli.Identity(2).With(0, pauli.X), tc.want)
+				if got := p.Settings[0]; !got.Equal(want) {
+					t.Errorf("Fill = %v: first setting %v, want %v", tc.fill, got, want)
 				}
 			}
 		})

@@ -65,17 +65,7 @@ func (f *Fixed) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
-func (f *Fixed) Next(dst []pauli.Letter) (int, error) {
-	if err := writeSetting(dst, "fixed", f.Settings[f.next%len(f.Settings)]); err != nil {
-		return 0, err
-	}
-	f.next++
-	return max(f.Block, 1), nil
-}
-
-// NextBatch implements [Batcher]: the next visit, as Next gives it, for
-// local and entangled settings alike.
+// NextBatch implements [Batcher]: the next visit, local or entangled.
 func (f *Fixed) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
 	s := f.Settings[f.next%len(f.Settings)]
 	f.next++

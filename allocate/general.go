@@ -30,9 +30,8 @@ import (
 // (at most n of them, since the members commute), so testing a term against
 // a group costs at most n word-wise symplectic products, whatever the
 // group's size: grouping is O(M·G·n·⌈n/64⌉) at worst for G groups, plus
-// one [pauli.Diagonalize] per group. SortedGC implements [Batcher] and uses
-// no randomness, and [Counter]; [SortedGC.Next] works only while the next
-// setting is local.
+// one [pauli.Diagonalize] per group. SortedGC implements [Batcher] and
+// [Counter] and uses no randomness.
 type SortedGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
 	Share Share

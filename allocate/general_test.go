@@ -179,7 +179,7 @@ func TestGeneralCommutationReport(t *testing.T) {
 					t.Fatal(err)
 				}
 				groups = append(groups, fmt.Sprint(len(g)))
-				bounds = append(bounds, fmt.Sprintf("%.4f", c.Total))
+				bounds = append(bounds, fmt.Sprintf("%.4f", c.Bound))
 			}
 			for _, a := range []allocate.Allocator{&allocate.Greedy{}, &allocate.GreedyGC{}} {
 				p, err := allocate.Run(h, 1000, a, nil)
@@ -194,7 +194,7 @@ func TestGeneralCommutationReport(t *testing.T) {
 					t.Fatal(err)
 				}
 				gset = append(gset, fmt.Sprint(c.Settings))
-				gbound = append(gbound, fmt.Sprintf("%.4f", c.Total))
+				gbound = append(gbound, fmt.Sprintf("%.4f", c.Bound))
 			}
 			row += " " + strings.Join(groups, " | ") + " | " + strings.Join(bounds, " | ") + " | " + strings.Join(gset, " | ") + " | " + strings.Join(gbound, " | ") + " |\n"
 			b.WriteString(row)

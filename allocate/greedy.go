@@ -123,7 +123,7 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
+// Next implements [Stepper].
 func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 	rk := g.rk
 	w := rk.w

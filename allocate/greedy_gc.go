@@ -70,19 +70,6 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator] for local settings; it returns an error when
-// the round's setting is entangled. The driver calls NextBatch instead.
-func (g *GreedyGC) Next(dst []pauli.Letter) (int, error) {
-	s, err := g.round()
-	if err != nil {
-		return 0, err
-	}
-	if err := writeSetting(dst, "greedy-gc", s); err != nil {
-		return 0, err
-	}
-	return 1, nil
-}
-
 // NextBatch implements [Batcher]: one setting with one shot.
 func (g *GreedyGC) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
 	s, err := g.round()

@@ -67,7 +67,7 @@ func (im *Importance) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
+// Next implements [Stepper].
 func (im *Importance) Next(dst []pauli.Letter) (int, error) {
 	u := im.rng.Float64() * im.cum[len(im.cum)-1]
 	// The first i with cum[i] > u; a term with zero weight is never drawn.

@@ -37,10 +37,11 @@ func Names() []string {
 // ByName returns a new built-in strategy by its short name (see [Names]),
 // with its default knobs; seed seeds the strategies that draw at random and
 // is ignored by the deterministic ones. "fixed" returns a *[Fixed] with no
-// settings, which the caller fills in before running it. An unknown name is
-// an error that lists the known ones.
+// settings, which the caller fills in before running it. Names match in any
+// case ("Greedy" is "greedy"), as encoding names do. An unknown name is an
+// error that lists the known ones.
 func ByName(name string, seed uint64) (Allocator, error) {
-	mk, ok := strategies[name]
+	mk, ok := strategies[strings.ToLower(name)]
 	if !ok {
 		return nil, fmt.Errorf("allocate: unknown strategy %q (known: %s)", name, strings.Join(Names(), ", "))
 	}

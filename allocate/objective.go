@@ -18,12 +18,12 @@ func ScaledOneNorm(h *hamiltonian.Hamiltonian, cover []int) (norm float64, missi
 		return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: nil Hamiltonian")
 	}
 	if len(cover) != h.Len() {
-		return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: %d cover counts for %d terms", len(cover), h.Len())
+		return 0, 0, 0, fmt.Errorf("allocate: %d cover counts for %d terms", len(cover), h.Len())
 	}
 	for i, c := range h.Coeffs() {
 		switch {
 		case cover[i] < 0:
-			return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: term %d (%s) has negative count %d", i, h.Pauli(i), cover[i])
+			return 0, 0, 0, fmt.Errorf("allocate: term %d (%s) has negative count %d", i, h.Pauli(i), cover[i])
 		case cover[i] == 0:
 			missing++
 			uncovered += math.Abs(c)

@@ -20,7 +20,7 @@ import (
 // Ising chain on 4 sites.
 func planFileHam(t *testing.T) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(4, false), 1, 0.7)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Line(4), 1, 0.7)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -172,11 +172,11 @@ func TestPlanFileCheck(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	wide, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(5, false), 1, 0.7)
+	wide, err := hamiltonian.TransverseFieldIsing(hamiltonian.Line(5), 1, 0.7)
 	if err != nil {
 		t.Fatal(err)
 	}
-	fewer, err := hamiltonian.Ising(hamiltonian.Chain(4, false), 1, nil, nil) // ZZ terms only
+	fewer, err := hamiltonian.Ising(hamiltonian.Line(4), 1, nil, nil) // ZZ terms only
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -225,7 +225,7 @@ func TestWritePlanFileLeavesNothingOnError(t *testing.T) {
 // A plan file records a plan so that later steps — certifying, exporting,
 // estimating — can run elsewhere; Check refuses it for another Hamiltonian.
 func ExampleWritePlan() {
-	h, _ := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(3, false), 1, 0.5)
+	h, _ := hamiltonian.TransverseFieldIsing(hamiltonian.Line(3), 1, 0.5)
 	// Sorted insertion: the ZZ group (one-norm 2) and the X group (1.5)
 	// share 4 shots as 2.29 and 1.71, rounded by largest remainder to 2 and 2.
 	p, _ := allocate.Run(h, 4, &allocate.Sorted{}, nil)

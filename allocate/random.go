@@ -35,7 +35,7 @@ func (r *Random) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements [Allocator].
+// Next implements [Stepper].
 func (r *Random) Next(dst []pauli.Letter) (int, error) {
 	for q := range dst {
 		dst[q] = pauli.Letter(1 + r.rng.IntN(3))

@@ -12,9 +12,9 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// Settings adjusts a run of [Run]. A nil *Settings means the zero value,
+// Options adjusts a run of [Run]. A nil *Options means the zero value,
 // whose every field has a default described beside it.
-type Settings struct {
+type Options struct {
 	// Progress, if not nil, is called after a round in which the number of
 	// planned shots reached the next multiple of ProgressShots, and once at
 	// the end of the run. Nil means no progress reports.
@@ -38,8 +38,8 @@ type Progress struct {
 
 // Run runs the allocator a to plan budget shots for h and returns the plan.
 // It is the driver of every strategy: it checks the input, detects the
-// optional interfaces ([Observer], [Batcher], [Counter], [TermDrawer],
-// [QubitLimit]) once, calls Init, then Next (or NextBatch) until the budget
+// interfaces ([Stepper] or [Batcher], and the optional [Observer], [Counter],
+// [TermDrawer], [QubitLimit]) once, calls Init, then NextBatch (or Next) until the budget
 // is spent, merges consecutive repeats of a setting, and counts every term's
 // cover N_i. The plan has exactly budget shots.
 //
@@ -47,7 +47,7 @@ type Progress struct {
 // [ErrBudget] if budget ≤ 0, [ErrNonFinite] if a coefficient is NaN or
 // infinite, [ErrTooManyQubits] if a's [QubitLimit] is below h's width,
 // [ErrStrategy] if a breaks the [Allocator] contract, and any error of
-// a's methods or of Settings.Measure, prefixed by the strategy's name.
+// a's methods or of Options.Measure, prefixed by the strategy's name.
 // h is not modified.
 //
 // Run does not take a strategy's word for its results: the cover counts of
@@ -56,14 +56,14 @@ type Progress struct {
 // that the setting of its shot covers; a disagreement is an [ErrStrategy]
 // naming the strategy and the term or shot.
 //
-// A panic inside the strategy's methods (or inside Settings.Measure or
+// A panic inside the strategy's methods (or inside Options.Measure or
 // Progress) is recovered: Run returns an error wrapping [ErrStrategy] that
 // names the strategy, the method and the panic value, and no plan.
-func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings) (plan *Plan, err error) {
+func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (plan *Plan, err error) {
 	start := time.Now()
-	var set Settings
-	if settings != nil {
-		set = *settings
+	var set Options
+	if opts != nil {
+		set = *opts
 	}
 	if a == nil {
 		return nil, fmt.Errorf("%w: nil Allocator", ErrStrategy)
@@ -93,10 +93,14 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 	}
 	obs, _ := a.(Observer)
 	batch, _ := a.(Batcher)
+	step, _ := a.(Stepper)
+	if batch == nil && step == nil {
+		return nil, fmt.Errorf("%w: %s has neither Next (Stepper) nor NextBatch (Batcher)", ErrStrategy, name)
+	}
 	counter, _ := a.(Counter)
 	drawer, _ := a.(TermDrawer)
 	if obs != nil && set.Measure == nil {
-		return nil, fmt.Errorf("allocate: %s reads outcomes back (Observer) but Settings.Measure is nil", name)
+		return nil, fmt.Errorf("allocate: %s reads outcomes back (Observer) but Options.Measure is nil", name)
 	}
 	every := set.ProgressShots
 	if every <= 0 {
@@ -169,7 +173,7 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, settings *Settings
 			}
 		} else {
 			phase = "Next"
-			k, err := a.Next(letters)
+			k, err := step.Next(letters)
 			if err != nil {
 				return nil, fmt.Errorf("allocate: %s: round %d: %w", name, rounds, err)
 			}

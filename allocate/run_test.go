@@ -102,7 +102,7 @@ func TestRunObserverOrder(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			var measured []string
-			p, err := allocate.Run(h, 11, tc.a, &allocate.Settings{Measure: alternating(&measured, 2)})
+			p, err := allocate.Run(h, 11, tc.a, &allocate.Options{Measure: alternating(&measured, 2)})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -145,7 +145,7 @@ func TestRunObserverAdapts(t *testing.T) {
 		k++
 		return nil
 	}
-	p, err := allocate.Run(h, 6, &probe{}, &allocate.Settings{Measure: measure})
+	p, err := allocate.Run(h, 6, &probe{}, &allocate.Options{Measure: measure})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -159,14 +159,14 @@ func TestRunObserverNeedsMeasure(t *testing.T) {
 	h := mustH(t, 0, "ZZ", 1.0)
 	_, err := allocate.Run(h, 3, &probe{}, nil)
 	if err == nil || !strings.Contains(err.Error(), "Measure") {
-		t.Errorf("Run(Observer, no Measure) error = %v, want one naming Settings.Measure", err)
+		t.Errorf("Run(Observer, no Measure) error = %v, want one naming Options.Measure", err)
 	}
 }
 
 func TestRunProgress(t *testing.T) {
 	h := mustH(t, 0, "ZZ", 1.0, "XI", 0.5)
 	var got []int
-	s := &allocate.Settings{ProgressShots: 10, Progress: func(p allocate.Progress) {
+	s := &allocate.Options{ProgressShots: 10, Progress: func(p allocate.Progress) {
 		if p.Budget != 35 {
 			t.Errorf("Progress.Budget = %d, want 35", p.Budget)
 		}
@@ -228,6 +228,11 @@ func (f *failing) Init(*hamiltonian.Hamiltonian, int) error { return errors.New(
 
 type limited struct{ broken }
 
+// initOnly has Init but neither Next nor NextBatch.
+type initOnly struct{}
+
+func (initOnly) Init(*hamiltonian.Hamiltonian, int) error { return nil }
+
 func (l *limited) MaxQubits() int { return 1 }
 
 func TestRunErrors(t *testing.T) {
@@ -259,6 +264,7 @@ func TestRunErrors(t *testing.T) {
 		{"fixed of other width", h, 5, allocate.NewFixed(pauli.MustParseSetting("Z")), allocate.ErrTooManyQubits, ""},
 		{"fixed without settings", h, 5, &allocate.Fixed{}, nil, "no settings"},
 		{"nil allocator", h, 5, nil, allocate.ErrStrategy, "nil Allocator"},
+		{"neither Next nor NextBatch", h, 5, initOnly{}, allocate.ErrStrategy, "initOnly has neither Next (Stepper) nor NextBatch (Batcher)"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			_, err := allocate.Run(tc.h, tc.budget, tc.a, nil)
@@ -317,6 +323,9 @@ func TestByName(t *testing.T) {
 		if got := allocate.Name(a); got != name {
 			t.Errorf("Name(ByName(%q)) = %q", name, got)
 		}
+	}
+	if a, err := allocate.ByName("Sorted-GC", 1); err != nil || allocate.Name(a) != "sorted-gc" {
+		t.Errorf("ByName(Sorted-GC) = %v, %v; want sorted-gc in any case", a, err)
 	}
 	if _, err := allocate.ByName("nonesuch", 1); err == nil || !strings.Contains(err.Error(), "greedy") {
 		t.Errorf("ByName(nonesuch) error = %v, want one listing the known names", err)

@@ -218,20 +218,6 @@ func (q *groupQueue) add(st pauli.Setting) {
 	q.shots = append(q.shots, k)
 }
 
-// Next implements [Allocator]: the groups with shots in order, each once.
-// It returns an error for an entangled group setting, which has no
-// letters; the driver calls NextBatch instead.
-func (q *groupQueue) Next(dst []pauli.Letter) (int, error) {
-	if q.next >= len(q.settings) {
-		return 0, fmt.Errorf("%s: all %d groups already given", q.name, len(q.settings))
-	}
-	if err := writeSetting(dst, q.name, q.settings[q.next]); err != nil {
-		return 0, err
-	}
-	q.next++
-	return q.shots[q.next-1], nil
-}
-
 // NextBatch implements [Batcher]: every group with its shots at once.
 func (q *groupQueue) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
 	if q.next >= len(q.settings) {

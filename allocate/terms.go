@@ -121,16 +121,3 @@ func fillLetter(name string, l pauli.Letter) (pauli.Letter, error) {
 	}
 	return l, nil
 }
-
-// writeSetting writes the letters of the local setting s into dst. An
-// entangled setting has no letters: the error, prefixed by the strategy's
-// name, tells the caller to use NextBatch.
-func writeSetting(dst []pauli.Letter, name string, s pauli.Setting) error {
-	if !s.IsLocal() {
-		return fmt.Errorf("%s: setting %s is entangled and has no letters; use NextBatch", name, s)
-	}
-	for q := range dst {
-		dst[q] = s.At(q)
-	}
-	return nil
-}

@@ -135,9 +135,9 @@ func samples(tab *pauli.Table, buf []int8, rows []int, s pauli.Setting, b pauli.
 	return buf
 }
 
-// VarianceSettings tunes [Moments.Reweight]. A nil pointer means the
+// VarianceOptions tunes [Moments.Reweight]. A nil pointer means the
 // defaults.
-type VarianceSettings struct {
+type VarianceOptions struct {
 	// Iterations bounds the descent steps; zero means 200.
 	Iterations int
 	// Floor is the share η of the starting distribution kept in the
@@ -170,8 +170,8 @@ type VarianceSettings struct {
 // covers are the terms the result covers. It returns an error if start has
 // the wrong length, a negative or non-finite entry, or no positive one, or
 // for a floor of 1 or more.
-func (m *Moments) Reweight(start []float64, s *VarianceSettings) ([]float64, error) {
-	var o VarianceSettings
+func (m *Moments) Reweight(start []float64, s *VarianceOptions) ([]float64, error) {
+	var o VarianceOptions
 	if s != nil {
 		o = *s
 	}

@@ -88,7 +88,7 @@ func lihJW(t *testing.T) *hamiltonian.Hamiltonian {
 // Heisenberg ring). Each mean is of ±1 samples, so it lies within
 // 5/sqrt(count) of the truth except with probability below 6e-7 per pair.
 func TestMomentsEstimates(t *testing.T) {
-	h, err := hamiltonian.Heisenberg(hamiltonian.Chain(6, true), 1)
+	h, err := hamiltonian.Heisenberg(hamiltonian.Ring(6), 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -116,7 +116,7 @@ func TestMomentsEstimates(t *testing.T) {
 // TestReweightGradient checks the analytic gradient of S against central
 // differences (step 1e-6, relative tolerance 1e-4).
 func TestReweightGradient(t *testing.T) {
-	h, err := hamiltonian.Heisenberg(hamiltonian.Chain(6, true), 1)
+	h, err := hamiltonian.Heisenberg(hamiltonian.Ring(6), 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -223,14 +223,14 @@ func TestReweightErrors(t *testing.T) {
 	for _, c := range []struct {
 		name  string
 		start []float64
-		s     *VarianceSettings
+		s     *VarianceOptions
 		want  string
 	}{
 		{"length", []float64{1}, nil, "1 weights for 2 candidate settings"},
 		{"negative", []float64{1, -1}, nil, "weight -1"},
 		{"zero", []float64{0, 0}, nil, "positive total"},
-		{"floor", nil, &VarianceSettings{Floor: 1}, "floor 1"},
-		{"iterations", nil, &VarianceSettings{Iterations: -1}, "-1 iterations"},
+		{"floor", nil, &VarianceOptions{Floor: 1}, "floor 1"},
+		{"iterations", nil, &VarianceOptions{Iterations: -1}, "-1 iterations"},
 	} {
 		_, err := m.Reweight(c.start, c.s)
 		if err == nil || !strings.Contains(err.Error(), c.want) {
@@ -250,7 +250,7 @@ func TestReweightErrors(t *testing.T) {
 	}
 	// With only ZX useful (it covers both terms), the descent puts all
 	// free weight there: S = 1 + 0.25 at π(ZX) = 1, more otherwise.
-	w, err = m.Reweight([]float64{1, 1}, &VarianceSettings{Floor: -1})
+	w, err = m.Reweight([]float64{1, 1}, &VarianceOptions{Floor: -1})
 	if err != nil {
 		t.Fatal(err)
 	}

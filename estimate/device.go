@@ -27,24 +27,24 @@ const maxRunShots = inputcap.MaxShots
 // checkRun validates the arguments of [Device.Run].
 func checkRun(n int, settings []pauli.Setting, shots []int, rec *Records) error {
 	if rec == nil {
-		return fmt.Errorf("estimate: Run: nil records")
+		return fmt.Errorf("estimate: nil records")
 	}
 	if len(settings) != len(shots) {
-		return fmt.Errorf("estimate: Run: %d settings but %d shot counts", len(settings), len(shots))
+		return fmt.Errorf("estimate: %d settings but %d shot counts", len(settings), len(shots))
 	}
 	if rec.Qubits() != n {
-		return fmt.Errorf("estimate: Run: records have %d qubits, device has %d", rec.Qubits(), n)
+		return fmt.Errorf("estimate: records have %d qubits, device has %d", rec.Qubits(), n)
 	}
 	var total int64
 	for k, s := range settings {
 		if s.Qubits() != n {
-			return fmt.Errorf("estimate: Run: setting %d (%s) has %d qubits, device has %d", k, s, s.Qubits(), n)
+			return fmt.Errorf("estimate: setting %d (%s) has %d qubits, device has %d", k, s, s.Qubits(), n)
 		}
 		if shots[k] < 0 {
-			return fmt.Errorf("estimate: Run: setting %d (%s) has negative shot count %d", k, s, shots[k])
+			return fmt.Errorf("estimate: setting %d (%s) has negative shot count %d", k, s, shots[k])
 		}
 		if int64(shots[k]) > maxRunShots-total {
-			return fmt.Errorf("estimate: Run: setting %d (%s): more than %d shots in one call", k, s, maxRunShots)
+			return fmt.Errorf("estimate: setting %d (%s): more than %d shots in one call", k, s, maxRunShots)
 		}
 		total += int64(shots[k])
 	}

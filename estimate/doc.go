@@ -82,7 +82,7 @@
 //
 // # Readout error
 //
-// [SimulatorSettings.Readout] flips each read bit with probability P01
+// [SimulatorOptions.Readout] flips each read bit with probability P01
 // (0 read as 1) or P10 (1 read as 0), independently per qubit and shot.
 // [Options.Readout] mitigates by dividing each term's sample by
 // Π_{q ∈ supp P_i} (1 − P01_q − P10_q): with independent flips the

@@ -13,7 +13,7 @@ import (
 // A four-site transverse-field Ising ring measured with the all-Z and the
 // all-X setting on the built-in simulator of its ground state.
 func ExampleGrouped() {
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(4, true), 1, 0.5)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(4), 1, 0.5)
 	if err != nil {
 		fmt.Println(err)
 		return

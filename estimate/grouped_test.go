@@ -372,7 +372,7 @@ func TestGroupedUnbiasedIsing(t *testing.T) {
 	if testing.Short() {
 		t.Skip("400 repetitions")
 	}
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(10, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(10), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -399,7 +399,7 @@ func TestGroupedMitigation(t *testing.T) {
 	}
 	h := h2JW(t)
 	flips := []Readout{{0.05, 0.05}, {0.05, 0.05}, {0.05, 0.05}, {0.05, 0.05}}
-	sim, ev, err := GroundStateSimulator(h, 99, &SimulatorSettings{Readout: flips})
+	sim, ev, err := GroundStateSimulator(h, 99, &SimulatorOptions{Readout: flips})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -32,10 +32,10 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 	}
 	nShots := rec.Len()
 	if len(drawn) != nShots {
-		return nil, fmt.Errorf("estimate: ImportanceSampling: %d drawn terms for %d shots", len(drawn), nShots)
+		return nil, fmt.Errorf("estimate: %d drawn terms for %d shots", len(drawn), nShots)
 	}
 	if nShots == 0 {
-		return nil, fmt.Errorf("estimate: ImportanceSampling: no shots")
+		return nil, fmt.Errorf("estimate: no shots")
 	}
 	m := h.Len()
 	coef := h.Coeffs()
@@ -52,10 +52,10 @@ func ImportanceSampling(h *hamiltonian.Hamiltonian, rec *Records, drawn []int, o
 	for k, s := range rec.Shots() {
 		i := drawn[k]
 		if i < 0 || i >= m {
-			return nil, fmt.Errorf("estimate: ImportanceSampling: shot %d drew term %d, Hamiltonian has %d terms", k, i, m)
+			return nil, fmt.Errorf("estimate: shot %d drew term %d, Hamiltonian has %d terms", k, i, m)
 		}
 		if !t.CoversRow(i, s.Setting) {
-			return nil, fmt.Errorf("estimate: ImportanceSampling: shot %d: setting %s does not cover its drawn term %d (%s)", k, s.Setting, i, h.Pauli(i))
+			return nil, fmt.Errorf("estimate: shot %d: setting %s does not cover its drawn term %d (%s)", k, s.Setting, i, h.Pauli(i))
 		}
 		var v float64
 		if s.Setting.IsLocal() {

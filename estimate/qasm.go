@@ -104,7 +104,7 @@ func ExportQASM(dir string, settings []pauli.Setting, shots []int) (err error) {
 		return err
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
-		return fmt.Errorf("estimate: ExportQASM: directory %s is not empty", dir)
+		return fmt.Errorf("estimate: directory %s is not empty", dir)
 	} else if err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}

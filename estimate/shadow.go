@@ -108,7 +108,7 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 			s := rec.Setting(g)
 			for q := range s.Qubits() {
 				if beta[q][s.At(q)-pauli.X] == 0 {
-					return nil, fmt.Errorf("estimate: BiasedShadow: setting %s has basis %v on qubit %d, which beta gives probability zero", s, s.At(q), q)
+					return nil, fmt.Errorf("estimate: setting %s has basis %v on qubit %d, which beta gives probability zero", s, s.At(q), q)
 				}
 			}
 		}

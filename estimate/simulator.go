@@ -35,9 +35,9 @@ func checkReadout(r []Readout, n int, what string) error {
 	return nil
 }
 
-// SimulatorSettings tunes a [Simulator]. A nil *SimulatorSettings means the
+// SimulatorOptions tunes a [Simulator]. A nil *SimulatorOptions means the
 // defaults.
-type SimulatorSettings struct {
+type SimulatorOptions struct {
 	// Readout holds the readout error of every qubit, Readout[q] for
 	// qubit q. Nil means perfect readout; otherwise the length must be the
 	// qubit count.
@@ -51,7 +51,7 @@ type SimulatorSettings struct {
 	CacheBytes int
 }
 
-// defaultCacheBytes is the cache size when SimulatorSettings.CacheBytes is
+// defaultCacheBytes is the cache size when SimulatorOptions.CacheBytes is
 // zero.
 const defaultCacheBytes = 256 << 20
 
@@ -84,15 +84,15 @@ type Simulator struct {
 // The amplitudes are copied and normalised. It returns an error if the
 // length is not 2^n for 1 ≤ n ≤ [hamiltonian.MaxExactQubits], an amplitude
 // is not finite, the norm is zero, or the settings are invalid.
-func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Simulator, error) {
+func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Simulator, error) {
 	if len(state) < 2 || len(state)&(len(state)-1) != 0 {
-		return nil, fmt.Errorf("estimate: NewSimulator: %d amplitudes, want 2^n with n ≥ 1", len(state))
+		return nil, fmt.Errorf("estimate: %d amplitudes, want 2^n with n ≥ 1", len(state))
 	}
 	n := bits.TrailingZeros(uint(len(state)))
 	if n > hamiltonian.MaxExactQubits {
-		return nil, fmt.Errorf("estimate: NewSimulator: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
+		return nil, fmt.Errorf("estimate: %d qubits exceed the maximum of %d", n, hamiltonian.MaxExactQubits)
 	}
-	var set SimulatorSettings
+	var set SimulatorOptions
 	if opts != nil {
 		set = *opts
 	}
@@ -102,12 +102,12 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Si
 	norm := 0.0
 	for a, v := range state {
 		if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
-			return nil, fmt.Errorf("estimate: NewSimulator: amplitude %d is %v", a, v)
+			return nil, fmt.Errorf("estimate: amplitude %d is %v", a, v)
 		}
 		norm += real(v)*real(v) + imag(v)*imag(v)
 	}
 	if norm == 0 || math.IsInf(norm, 0) {
-		return nil, fmt.Errorf("estimate: NewSimulator: state norm² is %v", norm)
+		return nil, fmt.Errorf("estimate: state norm² is %v", norm)
 	}
 	c := complex(1/math.Sqrt(norm), 0)
 	psi := make([]complex128, len(state))
@@ -131,10 +131,10 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorSettings) (*Si
 // GroundStateSimulator returns a simulator of the ground state of h, found
 // by [hamiltonian.GroundState] with default settings, together with the
 // eigenpair (its Energy is the exact value an unbiased estimate aims at).
-func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorSettings) (*Simulator, hamiltonian.Eigenpair, error) {
+func GroundStateSimulator(h *hamiltonian.Hamiltonian, seed uint64, opts *SimulatorOptions) (*Simulator, hamiltonian.Eigenpair, error) {
 	ev, err := hamiltonian.GroundState(h, nil)
 	if err != nil {
-		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: GroundStateSimulator: %w", err)
+		return nil, hamiltonian.Eigenpair{}, fmt.Errorf("estimate: %w", err)
 	}
 	sim, err := NewSimulator(ev.State, seed, opts)
 	if err != nil {

@@ -141,7 +141,7 @@ func TestEigenStateDeterministic(t *testing.T) {
 // below 1e-5).
 func TestSimulatorReadout(t *testing.T) {
 	psi, _ := BasisState(2, pauli.Bits{0b10})
-	sim, err := NewSimulator(psi, 9, &SimulatorSettings{Readout: []Readout{{P01: 0.1, P10: 0.5}, {P01: 0.5, P10: 0.25}}})
+	sim, err := NewSimulator(psi, 9, &SimulatorOptions{Readout: []Readout{{P01: 0.1, P10: 0.5}, {P01: 0.5, P10: 0.25}}})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -172,7 +172,7 @@ func TestSimulatorSeed(t *testing.T) {
 	settings := []pauli.Setting{pauli.MustParseSetting("XYZX"), pauli.MustParseSetting("ZZZZ"), pauli.MustParseSetting("XYZX")}
 	shots := []int{30, 20, 10}
 	run := func(seed uint64, cache int) *Records {
-		sim, err := NewSimulator(psi, seed, &SimulatorSettings{CacheBytes: cache})
+		sim, err := NewSimulator(psi, seed, &SimulatorOptions{CacheBytes: cache})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -219,7 +219,7 @@ func TestSimulatorErrors(t *testing.T) {
 	if _, err := NewSimulator([]complex128{1, complex(math.NaN(), 0)}, 1, nil); err == nil {
 		t.Errorf("NewSimulator(NaN amplitude) succeeded")
 	}
-	if _, err := NewSimulator([]complex128{1, 0}, 1, &SimulatorSettings{Readout: []Readout{{P01: 1.5}}}); err == nil {
+	if _, err := NewSimulator([]complex128{1, 0}, 1, &SimulatorOptions{Readout: []Readout{{P01: 1.5}}}); err == nil {
 		t.Errorf("NewSimulator(P01 = 1.5) succeeded")
 	}
 	sim, _ := NewSimulator([]complex128{1, 0, 0, 0}, 1, nil)

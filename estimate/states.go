@@ -15,7 +15,7 @@ import (
 func ProductState(qubits [][2]complex128) ([]complex128, error) {
 	n := len(qubits)
 	if n < 1 || n > hamiltonian.MaxExactQubits {
-		return nil, fmt.Errorf("estimate: ProductState: %d qubits, want 1 to %d", n, hamiltonian.MaxExactQubits)
+		return nil, fmt.Errorf("estimate: %d qubits, want 1 to %d", n, hamiltonian.MaxExactQubits)
 	}
 	psi := make([]complex128, 1<<n)
 	psi[0] = 1
@@ -35,10 +35,10 @@ func ProductState(qubits [][2]complex128) ([]complex128, error) {
 // bit beyond qubit n−1.
 func BasisState(n int, b pauli.Bits) ([]complex128, error) {
 	if n < 1 || n > hamiltonian.MaxExactQubits {
-		return nil, fmt.Errorf("estimate: BasisState: %d qubits, want 1 to %d", n, hamiltonian.MaxExactQubits)
+		return nil, fmt.Errorf("estimate: %d qubits, want 1 to %d", n, hamiltonian.MaxExactQubits)
 	}
 	if len(b) != 1 || b[0]>>n != 0 {
-		return nil, fmt.Errorf("estimate: BasisState: bit-string does not fit %d qubits", n)
+		return nil, fmt.Errorf("estimate: bit-string does not fit %d qubits", n)
 	}
 	psi := make([]complex128, 1<<n)
 	psi[b[0]] = 1
@@ -53,10 +53,10 @@ func BasisState(n int, b pauli.Bits) ([]complex128, error) {
 func EigenState(s pauli.Setting, b pauli.Bits) ([]complex128, error) {
 	n := s.Qubits()
 	if !s.IsLocal() {
-		return nil, fmt.Errorf("estimate: EigenState: setting %s is entangled; its eigenstates are not product states", s)
+		return nil, fmt.Errorf("estimate: setting %s is entangled; its eigenstates are not product states", s)
 	}
 	if n < 1 || len(b) != pauli.Words(n) || (n&63 != 0 && b[len(b)-1]>>(n&63) != 0) {
-		return nil, fmt.Errorf("estimate: EigenState: bit-string does not fit setting %s", s)
+		return nil, fmt.Errorf("estimate: bit-string does not fit setting %s", s)
 	}
 	r := complex(1/math.Sqrt2, 0)
 	qubits := make([][2]complex128, n)

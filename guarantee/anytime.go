@@ -11,12 +11,12 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// AnytimeSettings describes a sequential measurement for [Anytime].
-type AnytimeSettings struct {
+// AnytimeOptions describes a sequential measurement for [Anytime].
+type AnytimeOptions struct {
 	// Plan is the distribution the shots draw their settings from; see
 	// [IIDOf] to make one from any plan. Required.
 	Plan *IID
-	// Target is the radius ε to certify: the run stops once the certified
+	// Target is the bound ε to certify: the run stops once the certified
 	// interval is at most 2ε wide (bias included). Zero means run to
 	// MaxShots.
 	Target float64
@@ -54,19 +54,19 @@ type AnytimeSettings struct {
 	// The pilot shots never enter the estimate or the interval (sample
 	// splitting; see [Anytime]).
 	Pilot    int
-	Variance *allocate.VarianceSettings
+	Variance *allocate.VarianceOptions
 }
 
 // AnytimeResult is the outcome of [Anytime].
 type AnytimeResult struct {
-	// Certified reports that Radius reached Target.
+	// Certified reports that Bound reached Target.
 	Certified bool
 	// Interval contains the energy E with probability at least 1 − Delta,
 	// however the run was stopped; it includes Plan.Bias on each side.
-	// Estimate is its midpoint and Radius its half-width, so
-	// |Estimate − E| ≤ Radius at that confidence.
-	Interval         [2]float64
-	Estimate, Radius float64
+	// Estimate is its midpoint and Bound its half-width, so
+	// |Estimate − E| ≤ Bound at that confidence.
+	Interval        [2]float64
+	Estimate, Bound float64
 	// Mean is the average single-shot value of the certified shots (the
 	// §4.1 estimate); it lies in Interval except on the failure event.
 	Mean float64
@@ -82,7 +82,7 @@ type AnytimeResult struct {
 	// Records holds the certified shots (in the order of their draws
 	// within each setting); Pilot holds the pilot's, or nil.
 	Records, Pilot *estimate.Records
-	// History[k] is Radius after round k+1.
+	// History[k] is Bound after round k+1.
 	History []float64
 }
 
@@ -90,7 +90,7 @@ type AnytimeResult struct {
 // i.i.d. from a distribution (MATH.md §4.1), feeds every shot's single-shot
 // value to an anytime-valid confidence sequence ([BettingCS] or
 // [BernsteinCS] on the range [IID.Range]), and stops when the certified
-// radius reaches Target or the shots reach MaxShots. Because a confidence
+// bound reaches Target or the shots reach MaxShots. Because a confidence
 // sequence holds at all times at once, the interval at the data-dependent
 // stopping time holds with probability at least 1 − Delta; no schedule of
 // checks needs to be fixed in advance.
@@ -115,34 +115,34 @@ type AnytimeResult struct {
 // fixed before the certified shots. The pilot costs its shots, which is why
 // it should be a small fraction of the expected total.
 //
-// Anytime returns an error for invalid settings (naming the field), a
+// Anytime returns an error for invalid options (naming the field), a
 // device failure (with the round), or a device that does not record the
 // shots it was asked for.
-func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings) (*AnytimeResult, error) {
+func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions) (*AnytimeResult, error) {
 	if h == nil || dev == nil || s == nil || s.Plan == nil {
-		return nil, fmt.Errorf("guarantee: Anytime: nil Hamiltonian, device, settings or plan")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian, device, options or plan")
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Anytime: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
 	case s.Target < 0 || math.IsNaN(s.Target) || math.IsInf(s.Target, 0):
-		return nil, fmt.Errorf("guarantee: Anytime: Target = %v, want zero or a positive number", s.Target)
+		return nil, fmt.Errorf("guarantee: Target = %v, want zero or a positive number", s.Target)
 	case s.MaxShots <= 0:
-		return nil, fmt.Errorf("guarantee: Anytime: MaxShots = %d, want a positive number", s.MaxShots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d, want a positive number", s.MaxShots)
 	case s.Pilot < 0 || s.Pilot >= s.MaxShots:
-		return nil, fmt.Errorf("guarantee: Anytime: Pilot = %d, want 0 ≤ Pilot < MaxShots = %d", s.Pilot, s.MaxShots)
+		return nil, fmt.Errorf("guarantee: Pilot = %d, want 0 ≤ Pilot < MaxShots = %d", s.Pilot, s.MaxShots)
 	case s.FirstRound < 0:
-		return nil, fmt.Errorf("guarantee: Anytime: FirstRound = %d, want a non-negative number", s.FirstRound)
+		return nil, fmt.Errorf("guarantee: FirstRound = %d, want a non-negative number", s.FirstRound)
 	case s.Growth != 0 && !(s.Growth >= 1) || math.IsInf(s.Growth, 0):
-		return nil, fmt.Errorf("guarantee: Anytime: Growth = %v, want 0 or at least 1", s.Growth)
+		return nil, fmt.Errorf("guarantee: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.Method != Betting && s.Method != BernsteinEpochs:
-		return nil, fmt.Errorf("guarantee: Anytime: unknown method %d", int(s.Method))
+		return nil, fmt.Errorf("guarantee: unknown method %d", int(s.Method))
 	case s.Plan.h == nil || s.Plan.Dist == nil || len(s.Plan.Settings) == 0:
-		return nil, fmt.Errorf("guarantee: Anytime: the plan was not made by NewIID or IIDOf")
+		return nil, fmt.Errorf("guarantee: the plan was not made by NewIID or IIDOf")
 	case s.Plan.fp != fingerprint(h) || s.Plan.h != h && !s.Plan.h.Equal(h):
 		// By content, not by pointer: a Hamiltonian overwritten in place
 		// since NewIID has the same pointer and other terms.
-		return nil, fmt.Errorf("guarantee: Anytime: the plan was made for another Hamiltonian (or its content changed since NewIID)")
+		return nil, fmt.Errorf("guarantee: the plan was made for another Hamiltonian (or its content changed since NewIID)")
 	}
 	first, growth := s.FirstRound, s.Growth
 	if first == 0 {
@@ -171,14 +171,14 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 			pilotSum += d.Value(k, b) - d.Offset
 			return nil
 		}); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		w, err := mo.Reweight(d.Prob, s.Variance)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		if d, err = NewIID(h, mo.Settings(), w); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		res.Plan, res.Pilot, res.PilotShots = d, pilot, s.Pilot
 		if s.Target > 0 && (bopt.Horizon == 0) {
@@ -186,7 +186,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 			// pilot; the mean of X − h_0 does not depend on π.
 			m2, err := mo.SecondMoment(w)
 			if err != nil {
-				return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+				return nil, fmt.Errorf("guarantee: pilot: %w", err)
 			}
 			mu := pilotSum / float64(s.Pilot)
 			v := max(m2-mu*mu, 0)
@@ -211,7 +211,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 		cs, err = NewBernsteinCS(lo, hi, s.Delta, 0, 0)
 	}
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	if s.Method == Betting {
 		res.Horizon = bopt.Horizon
@@ -222,7 +222,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 		bopt.Aim = s.Target - d.Bias
 		cs, err = NewBettingCS(lo, hi, s.Delta, &bopt)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+			return nil, fmt.Errorf("guarantee: %w", err)
 		}
 	}
 	rec := estimate.NewRecords(h.Qubits())
@@ -238,15 +238,15 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeSettings
 			sum += x
 			return cs.Add(x)
 		}); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: round %d: %w", res.Rounds+1, err)
+			return nil, fmt.Errorf("guarantee: round %d: %w", res.Rounds+1, err)
 		}
 		res.Rounds++
 		res.Shots += n
 		l, u := cs.Interval()
 		res.Interval = [2]float64{l - d.Bias, u + d.Bias}
-		res.Radius = (res.Interval[1] - res.Interval[0]) / 2
-		res.History = append(res.History, res.Radius)
-		if s.Target > 0 && res.Radius <= s.Target {
+		res.Bound = (res.Interval[1] - res.Interval[0]) / 2
+		res.History = append(res.History, res.Bound)
+		if s.Target > 0 && res.Bound <= s.Target {
 			res.Certified = true
 			break
 		}

@@ -14,7 +14,7 @@ import (
 // coupling): certify its ground energy to ±0.05 at 95% confidence,
 // stopping as soon as the data allow.
 func ExampleAnytime() {
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(4, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(4), 1, 1)
 	if err != nil {
 		log.Fatal(err)
 	}
@@ -32,17 +32,17 @@ func ExampleAnytime() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	res, err := guarantee.Anytime(h, dev, &guarantee.AnytimeSettings{
+	res, err := guarantee.Anytime(h, dev, &guarantee.AnytimeOptions{
 		Plan: d, Target: 0.05, Delta: 0.05, MaxShots: 1000000, Seed: 2,
 		Pilot: 500, // re-weights π from 500 shots that the certificate never uses
 	})
 	if err != nil {
 		log.Fatal(err)
 	}
-	fmt.Println("certified:", res.Certified, "radius ≤ 0.05:", res.Radius <= 0.05)
+	fmt.Println("certified:", res.Certified, "bound ≤ 0.05:", res.Bound <= 0.05)
 	fmt.Println("interval contains the exact energy:", res.Interval[0] <= ground.Energy && ground.Energy <= res.Interval[1])
 	// Output:
-	// certified: true radius ≤ 0.05: true
+	// certified: true bound ≤ 0.05: true
 	// interval contains the exact energy: true
 }
 

@@ -65,7 +65,7 @@ func buildAnytimeSystems(t testing.TB) []anytimeSystem {
 	}
 	// Transverse-field Ising ring, N = 10, J = h = 1: E0 = −2/sin(π/20)
 	// (Pfeuty 1970; REFERENCE_VALUES.md).
-	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(10, true), 1, 1)
+	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(10), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -58,7 +58,7 @@ func TestAnytimeReport(t *testing.T) {
 				var radii, errs []float64
 				var sigma float64
 				for r := range reps {
-					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n + pilot, Pilot: pilot,
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, MaxShots: n + pilot, Pilot: pilot,
 						Seed: uint64(1000*n + r), FirstRound: n, Betting: &BettingOptions{Horizon: n}})
 					if err != nil {
 						t.Fatal(err)
@@ -69,7 +69,7 @@ func TestAnytimeReport(t *testing.T) {
 					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
 						miss++
 					}
-					radii = append(radii, res.Radius)
+					radii = append(radii, res.Bound)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 				}
 				checkMisses(t, fmt.Sprintf("%s pilot %d N=%d", sys.name, pilot, n), miss, reps, delta)
@@ -110,7 +110,7 @@ func TestAnytimeReport(t *testing.T) {
 				miss := 0
 				var radii, errs, merrs []float64
 				for r := range reps {
-					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, MaxShots: n, Method: m,
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, MaxShots: n, Method: m,
 						Seed: uint64(7000*n + r), FirstRound: n})
 					if err != nil {
 						t.Fatal(err)
@@ -118,7 +118,7 @@ func TestAnytimeReport(t *testing.T) {
 					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
 						miss++
 					}
-					radii = append(radii, res.Radius)
+					radii = append(radii, res.Bound)
 					errs = append(errs, math.Abs(res.Estimate-sys.energy))
 					merrs = append(merrs, math.Abs(res.Mean-sys.energy))
 				}
@@ -139,8 +139,8 @@ func TestAnytimeReport(t *testing.T) {
 	fmt.Fprintf(&b, "\n## Shots to certify 1.6 mHa (molecules), δ = %v\n\n", delta)
 	fmt.Fprintf(&b, "anytime = median over 5 runs of the shots the driver used (pilot of 2000 included; betting CS, horizon from the pilot,\n")
 	fmt.Fprintf(&b, "stopping when the certified radius ≤ 1.6 mHa). worst case = shots for which copies of the 10^4-shot greedy plan\n")
-	fmt.Fprintf(&b, "certify 1.6 mHa by the a-priori bound of MATH §3.1 (CertifyPlan Total); replicating a plan k times divides V by k exactly,\n")
-	fmt.Fprintf(&b, "so this is 10^4·(Total/ε)².\n\n")
+	fmt.Fprintf(&b, "certify 1.6 mHa by the a-priori bound of MATH §3.1 (CertifyPlan Bound); replicating a plan k times divides V by k exactly,\n")
+	fmt.Fprintf(&b, "so this is 10^4·(Bound/ε)².\n\n")
 	fmt.Fprintf(&b, "| system | anytime shots | worst-case shots (greedy, a priori) | ratio |\n|---|---|---|---|\n")
 	const eps = 1.6e-3
 	for _, sys := range systems {
@@ -152,11 +152,11 @@ func TestAnytimeReport(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		worst := 1e4 * (c.Total / eps) * (c.Total / eps)
+		worst := 1e4 * (c.Bound / eps) * (c.Bound / eps)
 		dev := newTableDevice(t, sys.state, 7)
 		var used []float64
 		for r := range 5 {
-			res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: base, Delta: delta, Target: eps, MaxShots: 50000000, Pilot: 2000,
+			res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: base, Delta: delta, Target: eps, MaxShots: 50000000, Pilot: 2000,
 				Seed: uint64(r), FirstRound: 10000})
 			if err != nil {
 				t.Fatal(err)

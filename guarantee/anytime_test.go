@@ -59,13 +59,13 @@ func TestAnytimeCoverage(t *testing.T) {
 				}
 				miss, shots := 0, 0
 				for r := range runs {
-					res, err := Anytime(sys.h, dev, &AnytimeSettings{Plan: d, Delta: delta, Target: target,
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: d, Delta: delta, Target: target,
 						MaxShots: 200000, Method: c.method, Pilot: c.pilot, Seed: uint64(r), FirstRound: 50, Growth: 1.2})
 					if err != nil {
 						t.Fatal(err)
 					}
 					if !res.Certified {
-						t.Fatalf("run %d: not certified after %d shots (radius %v)", r, res.Shots, res.Radius)
+						t.Fatalf("run %d: not certified after %d shots (bound %v)", r, res.Shots, res.Bound)
 					}
 					shots += res.Shots
 					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
@@ -92,15 +92,15 @@ func TestAnytimeSimulator(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := Anytime(sys.h, sim, &AnytimeSettings{Plan: d, Delta: 0.05, Target: 0.05, MaxShots: 1000000, Seed: 8, Pilot: 500})
+		res, err := Anytime(sys.h, sim, &AnytimeOptions{Plan: d, Delta: 0.05, Target: 0.05, MaxShots: 1000000, Seed: 8, Pilot: 500})
 		if err != nil {
 			t.Fatal(err)
 		}
 		return res
 	}
 	res := run()
-	if !res.Certified || res.Radius > 0.05 {
-		t.Fatalf("Certified = %v with radius %v after %d shots, want certified at 0.05", res.Certified, res.Radius, res.Shots)
+	if !res.Certified || res.Bound > 0.05 {
+		t.Fatalf("Certified = %v with bound %v after %d shots, want certified at 0.05", res.Certified, res.Bound, res.Shots)
 	}
 	if res.Pilot.Len() != 500 || res.Records.Len() != res.Shots || res.PilotShots != 500 {
 		t.Errorf("pilot records %d, certified records %d of %d shots, want 500 and all", res.Pilot.Len(), res.Records.Len(), res.Shots)
@@ -135,27 +135,27 @@ func TestAnytimeErrors(t *testing.T) {
 	sys := anytimeSystems(t)[0]
 	_, d := greedyIID(t, sys.h, 40)
 	other := mustH(t, 4, 0, 1.0, "ZIII")
-	good := AnytimeSettings{Plan: d, Delta: 0.05, Target: 0.1, MaxShots: 1000}
+	good := AnytimeOptions{Plan: d, Delta: 0.05, Target: 0.1, MaxShots: 1000}
 	sim, err := estimate.NewSimulator(sys.state, 1, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, c := range []struct {
 		name string
-		edit func(s *AnytimeSettings)
+		edit func(s *AnytimeOptions)
 		dev  estimate.Device
 		want string
 	}{
-		{"delta", func(s *AnytimeSettings) { s.Delta = 0 }, sim, "Delta = 0"},
-		{"target", func(s *AnytimeSettings) { s.Target = -1 }, sim, "Target = -1"},
-		{"max shots", func(s *AnytimeSettings) { s.MaxShots = 0 }, sim, "MaxShots = 0"},
-		{"pilot", func(s *AnytimeSettings) { s.Pilot = 1000 }, sim, "Pilot = 1000"},
-		{"growth", func(s *AnytimeSettings) { s.Growth = 0.5 }, sim, "Growth = 0.5"},
-		{"method", func(s *AnytimeSettings) { s.Method = 7 }, sim, "unknown method 7"},
-		{"plan", func(s *AnytimeSettings) { s.Plan = nil }, sim, "nil Hamiltonian, device, settings or plan"},
-		{"plan built by hand", func(s *AnytimeSettings) { s.Plan = &IID{} }, sim, "not made by NewIID"},
-		{"device fails", func(s *AnytimeSettings) {}, brokenDevice{}, "round 1: hardware offline"},
-		{"device records too few", func(s *AnytimeSettings) {}, brokenDevice{short: true}, "did not record"},
+		{"delta", func(s *AnytimeOptions) { s.Delta = 0 }, sim, "Delta = 0"},
+		{"target", func(s *AnytimeOptions) { s.Target = -1 }, sim, "Target = -1"},
+		{"max shots", func(s *AnytimeOptions) { s.MaxShots = 0 }, sim, "MaxShots = 0"},
+		{"pilot", func(s *AnytimeOptions) { s.Pilot = 1000 }, sim, "Pilot = 1000"},
+		{"growth", func(s *AnytimeOptions) { s.Growth = 0.5 }, sim, "Growth = 0.5"},
+		{"method", func(s *AnytimeOptions) { s.Method = 7 }, sim, "unknown method 7"},
+		{"plan", func(s *AnytimeOptions) { s.Plan = nil }, sim, "nil Hamiltonian, device, options or plan"},
+		{"plan built by hand", func(s *AnytimeOptions) { s.Plan = &IID{} }, sim, "not made by NewIID"},
+		{"device fails", func(s *AnytimeOptions) {}, brokenDevice{}, "round 1: hardware offline"},
+		{"device records too few", func(s *AnytimeOptions) {}, brokenDevice{short: true}, "did not record"},
 	} {
 		s := good
 		c.edit(&s)

@@ -12,11 +12,11 @@ import (
 // ErrBudgetDependent is returned (wrapped) by [PlanBudget] in prefix mode
 // when the strategy's plan for a budget is not the start of its plan for a
 // larger budget, so that prefixes are not the plans the strategy makes; use
-// BudgetSettings.Rerun for such strategies.
+// BudgetOptions.Rerun for such strategies.
 var ErrBudgetDependent = errors.New("guarantee: the strategy's plan depends on its budget")
 
-// BudgetSettings describes the search of [PlanBudget].
-type BudgetSettings struct {
+// BudgetOptions describes the search of [PlanBudget].
+type BudgetOptions struct {
 	// MaxShots is the largest budget considered; it must be positive.
 	MaxShots int
 	// Rerun selects the rerun search (see PlanBudget); false selects the
@@ -44,7 +44,7 @@ type Budget struct {
 
 // PlanBudget finds the smallest number of shots for which strategy a's plan
 // for h certifies accuracy eps at confidence 1 − delta: a [Certificate]
-// Total (radius of MATH.md §3.1 plus bias, nothing dropped) of at most eps.
+// certified bound (radius of MATH.md §3.1 plus bias, nothing dropped) of at most eps.
 // V need not fall with every added shot (MATH.md §3.4), so no budget is
 // skipped on that assumption: every candidate budget is evaluated.
 //
@@ -52,7 +52,7 @@ type Budget struct {
 //
 // The strategy is run once to MaxShots. For n = 1, 2, ..., MaxShots in turn,
 // the first n shots of that plan are certified; the answer is the first n
-// whose Total ≤ eps. V is updated shot by shot (adding a shot of Q changes
+// whose Bound ≤ eps. V is updated shot by shot (adding a shot of Q changes
 // N_i for i ◁ Q, hence s_Q' of every setting Q' seen so far that covers such
 // a term), and a budget that passes is re-certified from scratch before it is
 // accepted, so rounding cannot decide the answer. A shot costs
@@ -71,21 +71,21 @@ type Budget struct {
 //
 // Adaptive strategies (those implementing [allocate.Observer]) are refused:
 // an a-priori certificate needs a plan fixed before the data (MATH.md §4).
-func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	switch {
 	case h == nil || a == nil || s == nil:
-		return nil, fmt.Errorf("guarantee: PlanBudget: nil Hamiltonian, strategy or settings")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian, strategy or options")
 	case !(eps > 0) || math.IsInf(eps, 0):
-		return nil, fmt.Errorf("guarantee: PlanBudget: target ε = %v, want a positive number", eps)
+		return nil, fmt.Errorf("guarantee: target ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return nil, fmt.Errorf("guarantee: PlanBudget: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
+		return nil, fmt.Errorf("guarantee: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	case s.MaxShots < 1:
-		return nil, fmt.Errorf("guarantee: PlanBudget: MaxShots = %d, want at least 1", s.MaxShots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d, want at least 1", s.MaxShots)
 	case s.Step < 0:
-		return nil, fmt.Errorf("guarantee: PlanBudget: Step = %d, want 0 or more", s.Step)
+		return nil, fmt.Errorf("guarantee: Step = %d, want 0 or more", s.Step)
 	}
 	if _, ok := a.(allocate.Observer); ok {
-		return nil, fmt.Errorf("guarantee: PlanBudget: strategy %s reads outcomes back; its plan is not fixed before the data and has no a-priori certificate", allocate.Name(a))
+		return nil, fmt.Errorf("guarantee: strategy %s reads outcomes back; its plan is not fixed before the data and has no a-priori certificate", allocate.Name(a))
 	}
 	if s.Rerun {
 		return rerunBudget(h, a, eps, delta, s)
@@ -93,14 +93,14 @@ func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta flo
 	return prefixBudget(h, a, eps, delta, s)
 }
 
-func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	step := max(s.Step, 1)
 	b := &Budget{}
 	for n := step; ; n += step {
 		n = min(n, s.MaxShots)
 		p, err := allocate.Run(h, n, a, nil)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: PlanBudget: budget %d: %w", n, err)
+			return nil, fmt.Errorf("guarantee: budget %d: %w", n, err)
 		}
 		c, err := CertifyPlan(h, p, delta, s.Options)
 		if err != nil {
@@ -108,7 +108,7 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 		}
 		b.Evaluated++
 		b.Shots, b.Plan, b.Certificate = n, p, c
-		if c.Total <= eps {
+		if c.Bound <= eps {
 			b.Certified = true
 			return b, nil
 		}
@@ -118,10 +118,10 @@ func rerunBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta fl
 	}
 }
 
-func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetSettings) (*Budget, error) {
+func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	full, err := allocate.Run(h, s.MaxShots, a, nil)
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: PlanBudget: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	c, err := newCoverage(h, full.Settings, full.Shots)
 	if err != nil {
@@ -183,15 +183,15 @@ func prefixBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta f
 			if err != nil {
 				return nil, err
 			}
-			if cert.Total > eps {
+			if cert.Bound > eps {
 				continue
 			}
 			again, err := allocate.Run(h, n, a, nil)
 			if err != nil {
-				return nil, fmt.Errorf("guarantee: PlanBudget: budget %d: %w", n, err)
+				return nil, fmt.Errorf("guarantee: budget %d: %w", n, err)
 			}
 			if !samePlan(again, p) {
-				return nil, fmt.Errorf("%w: %s at budget %d differs from the first %d shots of its plan for %d; use BudgetSettings.Rerun", ErrBudgetDependent, allocate.Name(a), n, n, s.MaxShots)
+				return nil, fmt.Errorf("%w: %s at budget %d differs from the first %d shots of its plan for %d; use BudgetOptions.Rerun", ErrBudgetDependent, allocate.Name(a), n, n, s.MaxShots)
 			}
 			b.Certified, b.Shots, b.Plan, b.Certificate = true, n, p, cert
 			return b, nil
@@ -241,11 +241,11 @@ func samePlan(a, b *allocate.Plan) bool {
 func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error) {
 	switch {
 	case h == nil || h.Len() == 0:
-		return 0, fmt.Errorf("guarantee: ImportanceShots: Hamiltonian has no non-identity term")
+		return 0, fmt.Errorf("guarantee: Hamiltonian has no non-identity term")
 	case !(eps > 0) || math.IsInf(eps, 0):
-		return 0, fmt.Errorf("guarantee: ImportanceShots: ε = %v, want a positive number", eps)
+		return 0, fmt.Errorf("guarantee: ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return 0, fmt.Errorf("guarantee: ImportanceShots: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
+		return 0, fmt.Errorf("guarantee: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	n := HoeffdingShots(eps, 2*h.OneNorm(), delta)
 	if n == math.MaxInt {

@@ -32,8 +32,8 @@ func TestPlanBudgetPrefixIsSmallest(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		eps := c120.Total * 1.0001
-		b, err := PlanBudget(h, a, eps, 0.05, &BudgetSettings{MaxShots: 1000})
+		eps := c120.Bound * 1.0001
+		b, err := PlanBudget(h, a, eps, 0.05, &BudgetOptions{MaxShots: 1000})
 		if errors.Is(err, ErrBudgetDependent) && name == "derand" {
 			t.Logf("%s: %v", name, err)
 			continue
@@ -41,21 +41,21 @@ func TestPlanBudgetPrefixIsSmallest(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !b.Certified || b.Certificate.Total > eps || b.Shots > 120 {
-			t.Fatalf("%s: PlanBudget(ε=%g) = %d shots, certified %v, total %g; want ≤ 120 shots certified", name, eps, b.Shots, b.Certified, b.Certificate.Total)
+		if !b.Certified || b.Certificate.Bound > eps || b.Shots > 120 {
+			t.Fatalf("%s: PlanBudget(ε=%g) = %d shots, certified %v, total %g; want ≤ 120 shots certified", name, eps, b.Shots, b.Certified, b.Certificate.Bound)
 		}
 		for n := 1; n < b.Shots; n++ {
 			c, err := CertifyPlan(h, prefixPlan(full, n), 0.05, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
-			if c.Total <= eps {
-				t.Fatalf("%s: prefix of %d shots certifies %g ≤ ε = %g, but PlanBudget answered %d", name, n, c.Total, eps, b.Shots)
+			if c.Bound <= eps {
+				t.Fatalf("%s: prefix of %d shots certifies %g ≤ ε = %g, but PlanBudget answered %d", name, n, c.Bound, eps, b.Shots)
 			}
 		}
 		// The rerun search over every budget agrees for a strategy whose
 		// plans are prefixes of one another.
-		r, err := PlanBudget(h, a, eps, 0.05, &BudgetSettings{MaxShots: 1000, Rerun: true})
+		r, err := PlanBudget(h, a, eps, 0.05, &BudgetOptions{MaxShots: 1000, Rerun: true})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -82,11 +82,11 @@ func TestPlanBudgetBudgetDependent(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	eps := c.Total
-	if _, err := PlanBudget(h, a, eps, 0.1, &BudgetSettings{MaxShots: 2000}); !errors.Is(err, ErrBudgetDependent) {
+	eps := c.Bound
+	if _, err := PlanBudget(h, a, eps, 0.1, &BudgetOptions{MaxShots: 2000}); !errors.Is(err, ErrBudgetDependent) {
 		t.Errorf("PlanBudget(sorted, prefix search) error = %v, want ErrBudgetDependent", err)
 	}
-	r, err := PlanBudget(h, a, eps, 0.1, &BudgetSettings{MaxShots: 2000, Rerun: true})
+	r, err := PlanBudget(h, a, eps, 0.1, &BudgetOptions{MaxShots: 2000, Rerun: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -102,8 +102,8 @@ func TestPlanBudgetBudgetDependent(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if c.Total <= eps {
-			t.Fatalf("sorted at budget %d certifies %g ≤ ε, but the rerun search answered %d", n, c.Total, r.Shots)
+		if c.Bound <= eps {
+			t.Fatalf("sorted at budget %d certifies %g ≤ ε, but the rerun search answered %d", n, c.Bound, r.Shots)
 		}
 	}
 	if r.Evaluated != r.Shots {
@@ -113,7 +113,7 @@ func TestPlanBudgetBudgetDependent(t *testing.T) {
 
 func TestPlanBudgetNotReached(t *testing.T) {
 	h := mustH(t, 2, 0, 1.0, "ZI", 1.0, "XX")
-	b, err := PlanBudget(h, &allocate.Greedy{}, 1e-3, 0.05, &BudgetSettings{MaxShots: 50})
+	b, err := PlanBudget(h, &allocate.Greedy{}, 1e-3, 0.05, &BudgetOptions{MaxShots: 50})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -59,7 +59,7 @@ func (o *Options) enumerate() int {
 
 // Certificate is an a-priori guarantee for a fixed plan (MATH.md §3): with
 // probability at least 1 − Delta over the shots, the grouped estimator of
-// MATH.md §2 errs by at most Total, for every state. It depends only on the
+// MATH.md §2 errs by at most Bound, for every state. It depends only on the
 // Hamiltonian, the settings and their shot counts — not on the order of the
 // shots, and not on the data.
 type Certificate struct {
@@ -77,17 +77,17 @@ type Certificate struct {
 	// Radius is ε_stat = sqrt(2 V ln(2/δ)), the shot-wise Hoeffding radius
 	// of MATH.md §3.1.
 	Radius float64
-	// OneNorm is ‖h'‖_1 = Σ_{i: N_i>0} |h_i|/sqrt(N_i) (MATH.md §3.2), and
-	// RelaxedRadius is OneNorm · sqrt(2 ln(2/δ)) ≥ Radius, its relaxation.
-	OneNorm, RelaxedRadius float64
+	// ScaledOneNorm is ‖h'‖_1 = Σ_{i: N_i>0} |h_i|/sqrt(N_i) (MATH.md §3.2), and
+	// RelaxedRadius is ScaledOneNorm · sqrt(2 ln(2/δ)) ≥ Radius, its relaxation.
+	ScaledOneNorm, RelaxedRadius float64
 	// Uncovered is the number of terms with N_i = 0 and Bias their bound
 	// B_0 = Σ_{i: N_i=0} |h_i|: the estimator omits them.
 	Uncovered int
 	Bias      float64
-	// Total is Radius + Bias: the guaranteed error at confidence 1 − Delta.
-	Total float64
+	// Bound is Radius + Bias: the guaranteed error at confidence 1 − Delta.
+	Bound float64
 
-	// Share[i] is term i's part of Total; the shares add up to Total (up
+	// Share[i] is term i's part of Bound; the shares add up to Bound (up
 	// to rounding). A covered term's share is Radius · v_i / V with
 	//
 	//	v_i = a_i Σ_{n: i◁Q_n} s_{Q_n},  a_i = |h_i|/N_i,  s_Q = Σ_{k◁Q} a_k,
@@ -206,14 +206,14 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 			continue
 		}
 		r := abs / math.Sqrt(float64(n))
-		cert.OneNorm += r
+		cert.ScaledOneNorm += r
 		cert.RelaxedShare[i] = sq * r
 		if v > 0 {
 			cert.Share[i] = cert.Radius * a[i] * load[i] / v
 		}
 	}
-	cert.RelaxedRadius = cert.OneNorm * sq
-	cert.Total = cert.Radius + cert.Bias
+	cert.RelaxedRadius = cert.ScaledOneNorm * sq
+	cert.Bound = cert.Radius + cert.Bias
 
 	if k := min(opts.top(), h.Len()); k > 0 {
 		order := make([]int, h.Len())
@@ -241,12 +241,12 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 // String summarises the certificate in a few lines.
 func (c *Certificate) String() string {
 	var b strings.Builder
-	fmt.Fprintf(&b, "confidence %.4g: |error| ≤ %.6g (radius %.6g + bias %.6g of %d uncovered terms)\n",
-		1-c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered)
-	fmt.Fprintf(&b, "%d shots, %d distinct settings; V = %.6g; one-norm relaxation %.6g\n",
+	fmt.Fprintf(&b, "confidence %.4g: certified bound ±%.6g (radius %.6g + bias %.6g of %d uncovered terms)\n",
+		1-c.Delta, c.Bound, c.Radius, c.Bias, c.Uncovered)
+	fmt.Fprintf(&b, "%d shots, %d distinct settings; variance V = %.6g; relaxed bound %.6g\n",
 		c.Shots, c.Settings, c.Variance, c.RelaxedRadius+c.Bias)
 	fmt.Fprintf(&b, "threshold truncation: drop %d terms, bound %.6g; optimal: drop %d terms, bound %.6g\n",
-		c.Threshold.Dropped, c.Threshold.Total, c.Optimal.Dropped, c.Optimal.Total)
+		c.Threshold.Dropped, c.Threshold.Bound, c.Optimal.Dropped, c.Optimal.Bound)
 	for _, t := range c.Top {
 		fmt.Fprintf(&b, "  term %d %s coeff %.6g: %d shots, share %.6g\n", t.Term, t.Pauli, t.Coeff, t.Cover, t.Share)
 	}

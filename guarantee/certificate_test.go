@@ -39,10 +39,10 @@ func TestCertifyWorkedExample(t *testing.T) {
 	}{
 		{"Variance", c.Variance, 0.625},
 		{"Radius", c.Radius, math.Sqrt(2 * 0.625 * l)},
-		{"OneNorm", c.OneNorm, 1},
+		{"OneNorm", c.ScaledOneNorm, 1},
 		{"RelaxedRadius", c.RelaxedRadius, math.Sqrt(2 * l)},
 		{"Bias", c.Bias, 2},
-		{"Total", c.Total, 2 + math.Sqrt(2*0.625*l)},
+		{"Bound", c.Bound, 2 + math.Sqrt(2*0.625*l)},
 		// v_i = a_i Σ_{Q∋i} m_Q s_Q: ZI: 1/4·4·3/8 = 3/8; IZ: 3/16; XX: 1/16.
 		{"Share[ZI]", c.Share[0], c.Radius * (3.0 / 8) / 0.625},
 		{"Share[IZ]", c.Share[1], c.Radius * (3.0 / 16) / 0.625},
@@ -81,7 +81,7 @@ func TestCertifySingleTermIsHoeffding(t *testing.T) {
 }
 
 // The word-wise certificate against the shot-by-shot reference, V ≤ ‖h'‖_1²
-// (MATH.md §3.2), Radius ≤ RelaxedRadius, and shares adding up to Total, over
+// (MATH.md §3.2), Radius ≤ RelaxedRadius, and shares adding up to Bound, over
 // random plans (seeded; deterministic).
 func TestCertifyRandomPlans(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
@@ -94,18 +94,18 @@ func TestCertifyRandomPlans(t *testing.T) {
 			t.Fatal(err)
 		}
 		v, one, bias := referenceV(h, settings, shots)
-		if !near(c.Variance, v, 1e-12) || !near(c.OneNorm, one, 1e-12) || !near(c.Bias, bias, 1e-12) {
-			t.Errorf("trial %d: (V, ‖h'‖_1, B_0) = (%g, %g, %g), reference (%g, %g, %g)", trial, c.Variance, c.OneNorm, c.Bias, v, one, bias)
+		if !near(c.Variance, v, 1e-12) || !near(c.ScaledOneNorm, one, 1e-12) || !near(c.Bias, bias, 1e-12) {
+			t.Errorf("trial %d: (V, ‖h'‖_1, B_0) = (%g, %g, %g), reference (%g, %g, %g)", trial, c.Variance, c.ScaledOneNorm, c.Bias, v, one, bias)
 		}
-		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
-			t.Errorf("trial %d: V = %g > ‖h'‖_1² = %g", trial, c.Variance, c.OneNorm*c.OneNorm)
+		if c.Variance > c.ScaledOneNorm*c.ScaledOneNorm*(1+1e-12) {
+			t.Errorf("trial %d: V = %g > ‖h'‖_1² = %g", trial, c.Variance, c.ScaledOneNorm*c.ScaledOneNorm)
 		}
 		sum := 0.0
 		for _, s := range c.Share {
 			sum += s
 		}
-		if !near(sum, c.Total, 1e-12) {
-			t.Errorf("trial %d: Σ Share = %.15g, want Total %.15g", trial, sum, c.Total)
+		if !near(sum, c.Bound, 1e-12) {
+			t.Errorf("trial %d: Σ Share = %.15g, want Bound %.15g", trial, sum, c.Bound)
 		}
 	}
 }
@@ -125,8 +125,8 @@ func FuzzVarianceBelowOneNorm(f *testing.F) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if c.Variance > c.OneNorm*c.OneNorm*(1+1e-12) {
-			t.Fatalf("V = %g > ‖h'‖_1² = %g", c.Variance, c.OneNorm*c.OneNorm)
+		if c.Variance > c.ScaledOneNorm*c.ScaledOneNorm*(1+1e-12) {
+			t.Fatalf("V = %g > ‖h'‖_1² = %g", c.Variance, c.ScaledOneNorm*c.ScaledOneNorm)
 		}
 		if v, _, _ := referenceV(h, settings, shots); !near(c.Variance, v, 1e-12) {
 			t.Fatalf("V = %g, shot-by-shot reference %g", c.Variance, v)
@@ -200,7 +200,7 @@ func TestCertifyPlanReference(t *testing.T) {
 				got, want float64
 			}{
 				{"Variance", c.Variance, want.v}, {"Radius", c.Radius, want.radius},
-				{"RelaxedRadius", c.RelaxedRadius, want.relaxed}, {"Bias", c.Bias, bias}, {"Total", c.Total, want.total},
+				{"RelaxedRadius", c.RelaxedRadius, want.relaxed}, {"Bias", c.Bias, bias}, {"Total", c.Bound, want.total},
 			} {
 				if !near(x.got, x.want, 1e-12) {
 					t.Errorf("trial %d %s: %s = %.15g, reference %.15g", trial, name, x.what, x.got, x.want)
@@ -254,8 +254,8 @@ func TestCertifyEmptyPlan(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Radius != 0 || c.Bias != 1.5 || c.Total != 1.5 || c.Uncovered != 2 {
-		t.Errorf("Certify(empty plan) = radius %g, bias %g, total %g, uncovered %d; want 0, 1.5, 1.5, 2", c.Radius, c.Bias, c.Total, c.Uncovered)
+	if c.Radius != 0 || c.Bias != 1.5 || c.Bound != 1.5 || c.Uncovered != 2 {
+		t.Errorf("Certify(empty plan) = radius %g, bias %g, total %g, uncovered %d; want 0, 1.5, 1.5, 2", c.Radius, c.Bias, c.Bound, c.Uncovered)
 	}
 }
 
@@ -267,8 +267,8 @@ func TestCertifyOffsetOnly(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c.Total != 0 || len(c.Top) != 0 || c.Optimal.Total != 0 || !c.Optimal.Exact {
-		t.Errorf("Certify(offset only) = total %g, %d top terms, optimal %g (exact %v); want 0, 0, 0, true", c.Total, len(c.Top), c.Optimal.Total, c.Optimal.Exact)
+	if c.Bound != 0 || len(c.Top) != 0 || c.Optimal.Bound != 0 || !c.Optimal.Exact {
+		t.Errorf("Certify(offset only) = total %g, %d top terms, optimal %g (exact %v); want 0, 0, 0, true", c.Bound, len(c.Top), c.Optimal.Bound, c.Optimal.Exact)
 	}
 }
 

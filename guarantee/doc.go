@@ -22,7 +22,7 @@
 // [Certify] (a list of settings with shot counts) and [CertifyPlan] (a plan
 // from any allocator; identical result) compute, at confidence 1 − δ, the
 // shot-wise Hoeffding radius sqrt(2 V ln(2/δ)) of MATH.md §3.1 with V
-// computed exactly, its one-norm relaxation ‖h'‖_1 sqrt(2 ln(2/δ)) (§3.2),
+// computed exactly, its relaxation by the scaled one-norm ‖h'‖_1 sqrt(2 ln(2/δ)) (§3.2),
 // the bias of never-covered terms, their sum, each term's share of the
 // bound (an Euler allocation that adds up to the total; see
 // [Certificate].Share) and the largest contributors. The certificate also
@@ -60,7 +60,7 @@
 // # Sources
 //
 // The formulas are those of the project's MATH.md §3–§4: the shot-wise
-// Hoeffding bound (§3.1, Hoeffding 1963, Theorem 2), its one-norm relaxation
+// Hoeffding bound (§3.1, Hoeffding 1963, Theorem 2), its relaxation by the scaled one-norm
 // (§3.2), truncation (§3.3), budget planning (§3.4, §3.5), and the empirical
 // Bernstein bounds of Maurer & Pontil (2009, Theorem 4) and of Audibert, Munos
 // & Szepesvári (2009, Theorem 1) with the stopping schedule of Mnih,

@@ -74,7 +74,7 @@ type EmpiricalOptions struct {
 }
 
 // DataBound is a bound on the error of the grouped estimate (MATH.md §2)
-// from the data: with probability at least 1 − Delta, |Energy − E| ≤ Total.
+// from the data: with probability at least 1 − Delta, |Energy − E| ≤ Bound.
 type DataBound struct {
 	// Energy is the grouped estimate the bound is about (without the
 	// excluded terms), and Shots the number of shots it uses.
@@ -83,8 +83,8 @@ type DataBound struct {
 	// Delta is the failure probability.
 	Delta float64
 	// Radius bounds the statistical error; Bias = Σ|h_i| over the excluded
-	// and never-covered terms; Total = Radius + Bias.
-	Radius, Bias, Total float64
+	// and never-covered terms; Bound = Radius + Bias.
+	Radius, Bias, Bound float64
 	// Form is the method of Radius.
 	Form EmpiricalForm
 	// Groups details every distinct setting.
@@ -355,7 +355,7 @@ func finishBound(h *hamiltonian.Hamiltonian, gs []*groupStat, bias float64, shot
 		}
 	}
 	return &DataBound{
-		Energy: e, Shots: shots, Delta: delta, Radius: r, Bias: bias, Total: r + bias,
+		Energy: e, Shots: shots, Delta: delta, Radius: r, Bias: bias, Bound: r + bias,
 		Form: form, Groups: groups, ApproxRadius: approxRadius(gs, delta),
 	}
 }

@@ -52,15 +52,15 @@ func TestCertifyEntangledHandCount(t *testing.T) {
 		t.Errorf("Variance = %.15f, want %.15f", c.Variance, wantV)
 	}
 	wantR := math.Sqrt(2 * wantV * math.Log(2/delta))
-	if math.Abs(c.Radius-wantR) > 1e-12 || math.Abs(c.Total-wantR) > 1e-12 || c.Bias != 0 {
-		t.Errorf("Radius %v, Total %v, Bias %v; want %v, %v, 0", c.Radius, c.Total, c.Bias, wantR, wantR)
+	if math.Abs(c.Radius-wantR) > 1e-12 || math.Abs(c.Bound-wantR) > 1e-12 || c.Bias != 0 {
+		t.Errorf("Radius %v, Bound %v, Bias %v; want %v, %v, 0", c.Radius, c.Bound, c.Bias, wantR, wantR)
 	}
 }
 
 // TestCertifyEntangledCoverage runs plans of general-commutation groups on
 // the H2 ground state (Jordan–Wigner) 300 times and counts how often the
 // grouped estimate misses the exact energy by more than the certificate's
-// Total at δ = 0.2. The certificate promises a miss probability of at most
+// Bound at δ = 0.2. The certificate promises a miss probability of at most
 // δ per run, and the runs are independent, so the count is at most
 // binomial(300, 0.2) in distribution (stochastically dominated). The test
 // fails when the count exceeds the smallest k with P(binomial(300, 0.2) > k)
@@ -109,7 +109,7 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if math.Abs(res.Energy-ev.Energy) > cert.Total {
+			if math.Abs(res.Energy-ev.Energy) > cert.Bound {
 				miss++
 			}
 		}
@@ -122,9 +122,9 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 		if math.Abs(db.Energy-res.Energy) > 1e-12 {
 			t.Errorf("%s: Empirical energy %v, Grouped %v; want equal", name, db.Energy, res.Energy)
 		}
-		t.Logf("%s: %d settings, certified %.4f at δ = 0.2, %d of %d runs miss; empirical bound %.4f", name, cert.Settings, cert.Total, miss, runs, db.Total)
+		t.Logf("%s: %d settings, certified %.4f at δ = 0.2, %d of %d runs miss; empirical bound %.4f", name, cert.Settings, cert.Bound, miss, runs, db.Bound)
 		if limit := guarantee.BinomialLimit(runs, 0.2, 1e-3); miss > limit {
-			t.Errorf("%s: %d of %d runs miss the certified bound %v at δ = 0.2, want at most %d", name, miss, runs, cert.Total, limit)
+			t.Errorf("%s: %d of %d runs miss the certified bound %v at δ = 0.2, want at most %d", name, miss, runs, cert.Bound, limit)
 		}
 	}
 }

@@ -40,12 +40,12 @@ func ExampleCertify() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	fmt.Printf("radius %.4f (one-norm relaxation %.4f), bias %.4f, total %.4f\n", c.Radius, c.RelaxedRadius, c.Bias, c.Total)
+	fmt.Printf("radius %.4f (relaxed %.4f), bias %.4f, certified bound %.4f\n", c.Radius, c.RelaxedRadius, c.Bias, c.Bound)
 	fmt.Printf("largest share: term %s, %.4f\n", c.Top[0].Pauli, c.Top[0].Share)
-	fmt.Printf("threshold rule drops %d term(s): total %.4f\n", c.Threshold.Dropped, c.Threshold.Total)
-	fmt.Printf("optimal drop set (exact %v): %d term(s), total %.4f\n", c.Optimal.Exact, c.Optimal.Dropped, c.Optimal.Total)
+	fmt.Printf("threshold rule drops %d term(s): total %.4f\n", c.Threshold.Dropped, c.Threshold.Bound)
+	fmt.Printf("optimal drop set (exact %v): %d term(s), total %.4f\n", c.Optimal.Exact, c.Optimal.Dropped, c.Optimal.Bound)
 	// Output:
-	// radius 0.3905 (one-norm relaxation 0.5755), bias 0.0000, total 0.3905
+	// radius 0.3905 (relaxed 0.5755), bias 0.0000, certified bound 0.3905
 	// largest share: term ZZI, 0.1260
 	// threshold rule drops 1 term(s): total 0.4092
 	// optimal drop set (exact true): 0 term(s), total 0.3905
@@ -57,12 +57,12 @@ func ExampleCertify() {
 // sampling's closed form; plans gain in the data bounds instead.
 func ExamplePlanBudget() {
 	h := mustRead(chain)
-	b, err := guarantee.PlanBudget(h, &allocate.Greedy{}, 0.1, 0.05, &guarantee.BudgetSettings{MaxShots: 100_000})
+	b, err := guarantee.PlanBudget(h, &allocate.Greedy{}, 0.1, 0.05, &guarantee.BudgetOptions{MaxShots: 100_000})
 	if err != nil {
 		log.Fatal(err)
 	}
 	n, _ := guarantee.ImportanceShots(h, 0.1, 0.05)
-	fmt.Printf("greedy: %d shots (certified %v, total %.4f)\n", b.Shots, b.Certified, b.Certificate.Total)
+	fmt.Printf("greedy: %d shots (certified %v, total %.4f)\n", b.Shots, b.Certified, b.Certificate.Bound)
 	fmt.Printf("importance sampling, closed form: %d shots\n", n)
 	// Output:
 	// greedy: 7941 shots (certified true, total 0.1000)
@@ -96,7 +96,7 @@ func ExampleEmpirical() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	fmt.Printf("data bound below the a-priori bound: %v\n", b.Total < c.Optimal.Total)
+	fmt.Printf("data bound below the a-priori bound: %v\n", b.Bound < c.Optimal.Bound)
 	fmt.Println(b.Form)
 	// Output:
 	// data bound below the a-priori bound: true
@@ -118,7 +118,7 @@ func ExampleSequential() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	res, err := guarantee.Sequential(h, sim, &guarantee.SequentialSettings{
+	res, err := guarantee.Sequential(h, sim, &guarantee.SequentialOptions{
 		Settings: base.Settings, Shots: base.Shots,
 		Target: 0.2, Delta: 0.05, MaxShots: 100_000, Growth: 2, Form: guarantee.Pooled,
 	})

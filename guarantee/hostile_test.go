@@ -25,14 +25,14 @@ func TestDeltaRange(t *testing.T) {
 	}
 	for _, d := range []float64{5e-324, 1e-310, 0, -1, 1, math.NaN()} {
 		if c, err := CertifyPlan(h, p, d, nil); err == nil {
-			t.Errorf("CertifyPlan at δ = %v = %v, want an error", d, c.Total)
+			t.Errorf("CertifyPlan at δ = %v = %v, want an error", d, c.Bound)
 		}
 		if _, err := Certify(h, p.Settings, p.Shots, d, nil); err == nil {
 			t.Errorf("Certify at δ = %v succeeded", d)
 		}
 	}
 	c, err := CertifyPlan(h, p, MinDelta, nil)
-	if err != nil || math.IsInf(c.Total, 0) || math.IsNaN(c.Total) {
+	if err != nil || math.IsInf(c.Bound, 0) || math.IsNaN(c.Bound) {
 		t.Errorf("CertifyPlan at δ = MinDelta = %v, %v; want a finite bound", c, err)
 	}
 }
@@ -67,7 +67,7 @@ func TestAnytimeHamiltonianChanged(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	_, err = Anytime(h, dev, &AnytimeSettings{Plan: d, Delta: 0.05, MaxShots: 1000, Seed: 1})
+	_, err = Anytime(h, dev, &AnytimeOptions{Plan: d, Delta: 0.05, MaxShots: 1000, Seed: 1})
 	if err == nil || !strings.Contains(err.Error(), "another Hamiltonian") {
 		t.Errorf("Anytime on a changed Hamiltonian: %v, want an error", err)
 	}

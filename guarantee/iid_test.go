@@ -153,7 +153,7 @@ func TestIIDGroupedOnSameData(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := Anytime(sys.h, sim, &AnytimeSettings{Plan: d, Delta: 0.05, MaxShots: 20000, Seed: 3})
+	res, err := Anytime(sys.h, sim, &AnytimeOptions{Plan: d, Delta: 0.05, MaxShots: 20000, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -104,7 +104,7 @@ func TestRandomizedBoundCoverage(t *testing.T) {
 				t.Errorf("RandomizedBound.Energy = %.15g, estimate.UniformShadow = %.15g", b.Energy, u.Energy)
 			}
 		}
-		if math.Abs(b.Energy-ev.Energy) > b.Total {
+		if math.Abs(b.Energy-ev.Energy) > b.Bound {
 			fail++
 		}
 	}

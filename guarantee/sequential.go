@@ -9,8 +9,8 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// SequentialSettings describes a sequential measurement for [Sequential].
-type SequentialSettings struct {
+// SequentialOptions describes a sequential measurement for [Sequential].
+type SequentialOptions struct {
 	// Settings and Shots are the base plan: one copy of it is
 	// Σ Shots shots. Every round measures whole copies.
 	Settings []pauli.Setting
@@ -45,7 +45,7 @@ type SequentialResult struct {
 	// settings' total), every round's bound holds at once, so the bound at
 	// whatever round the run stopped holds too.
 	Bound *DataBound
-	// History[k] is the Total of round k+1's bound.
+	// History[k] is Bound.Bound, the data bound, after round k+1.
 	History []float64
 	// Records holds every shot.
 	Records *estimate.Records
@@ -65,21 +65,21 @@ type SequentialResult struct {
 // Sequential returns an error for invalid settings (naming the field), a
 // device failure (with the round), or records that do not hold the shots
 // the device was asked for.
-func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSettings) (*SequentialResult, error) {
+func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOptions) (*SequentialResult, error) {
 	if h == nil || dev == nil || s == nil {
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian, device or settings")
 	}
 	switch {
 	case !validDelta(s.Delta):
-		return nil, fmt.Errorf("guarantee: Sequential: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
+		return nil, fmt.Errorf("guarantee: Delta = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", s.Delta)
 	case !(s.Target > 0) || math.IsInf(s.Target, 0):
-		return nil, fmt.Errorf("guarantee: Sequential: Target = %v, want a positive number", s.Target)
+		return nil, fmt.Errorf("guarantee: Target = %v, want a positive number", s.Target)
 	case s.Growth != 0 && !(s.Growth >= 1):
-		return nil, fmt.Errorf("guarantee: Sequential: Growth = %v, want 0 or at least 1", s.Growth)
+		return nil, fmt.Errorf("guarantee: Growth = %v, want 0 or at least 1", s.Growth)
 	case s.P != 0 && !(s.P > 1):
-		return nil, fmt.Errorf("guarantee: Sequential: P = %v, want 0 or more than 1", s.P)
+		return nil, fmt.Errorf("guarantee: P = %v, want 0 or more than 1", s.P)
 	case s.Form < Pooled || s.Form > PerGroupMP:
-		return nil, fmt.Errorf("guarantee: Sequential: unknown empirical form %d", int(s.Form))
+		return nil, fmt.Errorf("guarantee: unknown empirical form %d", int(s.Form))
 	}
 	if err := checkExclude(h, s.Exclude); err != nil {
 		return nil, err
@@ -89,10 +89,10 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 		return nil, err
 	}
 	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: Sequential: the base plan has no shots")
+		return nil, fmt.Errorf("guarantee: the base plan has no shots")
 	}
 	if s.MaxShots < c.shots {
-		return nil, fmt.Errorf("guarantee: Sequential: MaxShots = %d is less than one copy of the base plan (%d shots)", s.MaxShots, c.shots)
+		return nil, fmt.Errorf("guarantee: MaxShots = %d is less than one copy of the base plan (%d shots)", s.MaxShots, c.shots)
 	}
 	growth := s.Growth
 	if growth == 0 {
@@ -123,15 +123,15 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialSe
 		}
 		groups, first, err := measure(dev, c.settings, roundShots, rec)
 		if err != nil {
-			return nil, fmt.Errorf("guarantee: Sequential: round %d: %w", k, err)
+			return nil, fmt.Errorf("guarantee: round %d: %w", k, err)
 		}
 		for q, g := range gs {
 			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
 		}
 		res.Rounds, res.Copies = k, res.Copies+copies
 		res.Bound = finishBound(h, gs, bias, rec.Len(), sched.At(k), s.Form, nil)
-		res.History = append(res.History, res.Bound.Total)
-		if res.Bound.Total <= s.Target {
+		res.History = append(res.History, res.Bound.Bound)
+		if res.Bound.Bound <= s.Target {
 			res.Certified = true
 			break
 		}

@@ -23,13 +23,13 @@ func TestSequentialStops(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, growth := range []float64{0, 1.5} {
-		s := &SequentialSettings{Settings: base.Settings, Shots: base.Shots, Target: 0.1, Delta: 0.05, MaxShots: 200_000, Growth: growth}
+		s := &SequentialOptions{Settings: base.Settings, Shots: base.Shots, Target: 0.1, Delta: 0.05, MaxShots: 200_000, Growth: growth}
 		res, err := Sequential(h, sim, s)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if !res.Certified || res.Bound.Total > s.Target {
-			t.Fatalf("Sequential(growth %g) certified %v with bound %g, want ≤ %g", growth, res.Certified, res.Bound.Total, s.Target)
+		if !res.Certified || res.Bound.Bound > s.Target {
+			t.Fatalf("Sequential(growth %g) certified %v with bound %g, want ≤ %g", growth, res.Certified, res.Bound.Bound, s.Target)
 		}
 		if got, want := res.Records.Len(), res.Copies*40; got != want {
 			t.Errorf("Sequential(growth %g): %d shots recorded, want %d copies × 40 = %d", growth, got, res.Copies, want)
@@ -51,10 +51,10 @@ func TestSequentialStops(t *testing.T) {
 		}
 		// A single seeded run: the bound holds with probability ≥ 95%;
 		// this seed's outcome is fixed.
-		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Total {
-			t.Errorf("Sequential(growth %g): |%g − %g| exceeds the bound %g", growth, res.Bound.Energy, ev.Energy, res.Bound.Total)
+		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Bound {
+			t.Errorf("Sequential(growth %g): |%g − %g| exceeds the bound %g", growth, res.Bound.Energy, ev.Energy, res.Bound.Bound)
 		}
-		t.Logf("growth %g: %d rounds, %d shots, bound %.4g", growth, res.Rounds, res.Records.Len(), res.Bound.Total)
+		t.Logf("growth %g: %d rounds, %d shots, bound %.4g", growth, res.Rounds, res.Records.Len(), res.Bound.Bound)
 	}
 }
 
@@ -68,7 +68,7 @@ func TestSequentialCap(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err := Sequential(h, sim, &SequentialSettings{Settings: base.Settings, Shots: base.Shots, Target: 1e-4, Delta: 0.05, MaxShots: 1000})
+	res, err := Sequential(h, sim, &SequentialOptions{Settings: base.Settings, Shots: base.Shots, Target: 1e-4, Delta: 0.05, MaxShots: 1000})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -99,21 +99,21 @@ func (lazyDevice) Run(settings []pauli.Setting, shots []int, rec *estimate.Recor
 
 func TestSequentialErrors(t *testing.T) {
 	h := mustH(t, 2, 0, 1.0, "ZI")
-	ok := SequentialSettings{Settings: settingsOf("ZZ"), Shots: []int{5}, Target: 0.1, Delta: 0.1, MaxShots: 100}
-	mod := func(f func(*SequentialSettings)) *SequentialSettings { s := ok; f(&s); return &s }
+	ok := SequentialOptions{Settings: settingsOf("ZZ"), Shots: []int{5}, Target: 0.1, Delta: 0.1, MaxShots: 100}
+	mod := func(f func(*SequentialOptions)) *SequentialOptions { s := ok; f(&s); return &s }
 	cases := []struct {
 		name string
 		dev  estimate.Device
-		s    *SequentialSettings
+		s    *SequentialOptions
 		want string
 	}{
 		{"device error", failingDevice{}, &ok, "round 1: hardware offline"},
 		{"missing shots", lazyDevice{}, &ok, "round 1: device did not record 5 shots of ZZ"},
-		{"delta", failingDevice{}, mod(func(s *SequentialSettings) { s.Delta = 0 }), "Delta = 0"},
-		{"target", failingDevice{}, mod(func(s *SequentialSettings) { s.Target = -1 }), "Target = -1"},
-		{"growth", failingDevice{}, mod(func(s *SequentialSettings) { s.Growth = 0.5 }), "Growth = 0.5"},
-		{"cap", failingDevice{}, mod(func(s *SequentialSettings) { s.MaxShots = 4 }), "MaxShots = 4 is less than one copy"},
-		{"empty plan", failingDevice{}, mod(func(s *SequentialSettings) { s.Shots = []int{0} }), "no shots"},
+		{"delta", failingDevice{}, mod(func(s *SequentialOptions) { s.Delta = 0 }), "Delta = 0"},
+		{"target", failingDevice{}, mod(func(s *SequentialOptions) { s.Target = -1 }), "Target = -1"},
+		{"growth", failingDevice{}, mod(func(s *SequentialOptions) { s.Growth = 0.5 }), "Growth = 0.5"},
+		{"cap", failingDevice{}, mod(func(s *SequentialOptions) { s.MaxShots = 4 }), "MaxShots = 4 is less than one copy"},
+		{"empty plan", failingDevice{}, mod(func(s *SequentialOptions) { s.Shots = []int{0} }), "no shots"},
 	}
 	for _, c := range cases {
 		_, err := Sequential(h, c.dev, c.s)
@@ -151,7 +151,7 @@ func TestSequentialCoverage(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		res, err := Sequential(h, sim, &SequentialSettings{Settings: base.Settings, Shots: base.Shots,
+		res, err := Sequential(h, sim, &SequentialOptions{Settings: base.Settings, Shots: base.Shots,
 			Target: 0.15, Delta: delta, MaxShots: 100_000, Growth: 1.5})
 		if err != nil {
 			t.Fatal(err)
@@ -159,7 +159,7 @@ func TestSequentialCoverage(t *testing.T) {
 		if !res.Certified {
 			t.Fatalf("run %d: not certified within the cap", r)
 		}
-		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Total {
+		if math.Abs(res.Bound.Energy-ev.Energy) > res.Bound.Bound {
 			fail++
 		}
 	}

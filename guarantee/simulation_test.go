@@ -46,7 +46,7 @@ func coverageCases(t *testing.T) []coverageCase {
 
 	// 10-qubit transverse-field Ising ring at J = h = 1; ground energy
 	// −2/sin(π/(2N)) (REFERENCE_VALUES.md, Pfeuty 1970).
-	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(10, true), 1, 1)
+	tfim, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(10), 1, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -214,7 +214,7 @@ func TestCoverage(t *testing.T) {
 			}
 			e, gs := sp.repetition(rng, record)
 			errs[r] = math.Abs(e - cc.energy)
-			if errs[r] > cert.Total {
+			if errs[r] > cert.Bound {
 				priorFail++
 			}
 			for f, form := range forms {
@@ -229,8 +229,8 @@ func TestCoverage(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
-					if !near(b.Energy, e, 1e-12) || !near(b.Total, total, 1e-12) {
-						t.Errorf("%s: Empirical(%v) = %.15g ± %.15g, table-driven %.15g ± %.15g", cc.name, form, b.Energy, b.Total, e, total)
+					if !near(b.Energy, e, 1e-12) || !near(b.Bound, total, 1e-12) {
+						t.Errorf("%s: Empirical(%v) = %.15g ± %.15g, table-driven %.15g ± %.15g", cc.name, form, b.Energy, b.Bound, e, total)
 					}
 				}
 			}
@@ -258,7 +258,7 @@ func TestCoverage(t *testing.T) {
 		}
 		q := quantile(errs, 1-delta)
 		fmt.Fprintf(&report, "| %s | %d | %d | %.4g | %.4g | %.1f | %d | %.1f | %d | %.1f | %d | %.1f | %d | %d |\n",
-			cc.name, cc.h.Len(), cert.Settings, cert.Total, q, cert.Total/q, priorFail,
+			cc.name, cc.h.Len(), cert.Settings, cert.Bound, q, cert.Bound/q, priorFail,
 			quantile(eb[0], 0.5)/q, ebFail[0], quantile(eb[1], 0.5)/q, ebFail[1], quantile(eb[2], 0.5)/q, ebFail[2], approxFail)
 	}
 	fmt.Fprintf(&report, "\n%d repetitions per case, δ = %g, 500-shot greedy plan; allowed failures %d (δ + 3σ).\n", reps, delta, int(allow*float64(reps)))

@@ -23,11 +23,11 @@ type Truncation struct {
 	Variance, Radius float64
 	// RelaxedRadius is sqrt(2 ln(2/δ)) Σ_{i kept} |h_i|/sqrt(N_i).
 	RelaxedRadius float64
-	// Total is Bias + Radius: the guaranteed error at confidence 1 − δ of
+	// Bound is Bias + Radius: the guaranteed error at confidence 1 − δ of
 	// the estimator without the dropped terms.
-	Total float64
+	Bound float64
 	// Lower is a lower bound on Bias + Radius over every possible dropped
-	// set, and Exact reports that Total attains the minimum (Lower = Total).
+	// set, and Exact reports that Bound attains the minimum (Lower = Bound).
 	// For the threshold rule, Lower and Exact are those of the optimal
 	// search, for comparison.
 	Lower float64
@@ -52,7 +52,7 @@ func evaluate(c *coverage, a []float64, drop []bool, delta float64, method strin
 	t.RelaxedRadius *= math.Sqrt(2 * l)
 	t.Variance = c.variance(c.loads(a, drop))
 	t.Radius = math.Sqrt(2 * t.Variance * l)
-	t.Total = t.Bias + t.Radius
+	t.Bound = t.Bias + t.Radius
 	return t
 }
 
@@ -124,7 +124,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 	}
 	if len(cand) == 0 {
 		t := evaluate(c, a, drop, delta, "exact: no term has 0 < N_i < 2 ln(2/δ)")
-		t.Lower, t.Exact = t.Total, true
+		t.Lower, t.Exact = t.Bound, true
 		return t
 	}
 	cnt := make([]int, len(cand)+1)
@@ -199,10 +199,10 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 	}
 	t := evaluate(c, a, drop, delta, method)
 	if exact {
-		t.Lower, t.Exact = t.Total, true
+		t.Lower, t.Exact = t.Bound, true
 	} else {
-		t.Lower = min(lower, t.Total)
-		t.Exact = t.Total-t.Lower <= 1e-12*t.Total
+		t.Lower = min(lower, t.Bound)
+		t.Exact = t.Bound-t.Lower <= 1e-12*t.Bound
 	}
 	return t
 }

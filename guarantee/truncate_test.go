@@ -24,7 +24,7 @@ func bruteForceOptimum(c *coverage, a []float64, delta float64) float64 {
 		if !ok {
 			continue
 		}
-		best = min(best, evaluate(c, a, drop, delta, "").Total)
+		best = min(best, evaluate(c, a, drop, delta, "").Bound)
 	}
 	return best
 }
@@ -43,13 +43,13 @@ func TestOptimalTruncationExact(t *testing.T) {
 		}
 		cert := certify(c, delta, nil)
 		want := bruteForceOptimum(c, c.weights(), delta)
-		if !near(cert.Optimal.Total, want, 1e-12) || !cert.Optimal.Exact {
-			t.Errorf("trial %d: Optimal.Total = %.15g (exact %v), brute force over all subsets %.15g", trial, cert.Optimal.Total, cert.Optimal.Exact, want)
+		if !near(cert.Optimal.Bound, want, 1e-12) || !cert.Optimal.Exact {
+			t.Errorf("trial %d: Optimal.Bound = %.15g (exact %v), brute force over all subsets %.15g", trial, cert.Optimal.Bound, cert.Optimal.Exact, want)
 		}
-		if cert.Optimal.Total > cert.Threshold.Total*(1+1e-12) || cert.Optimal.Total > cert.Total*(1+1e-12) {
-			t.Errorf("trial %d: Optimal.Total = %g above threshold %g or none dropped %g", trial, cert.Optimal.Total, cert.Threshold.Total, cert.Total)
+		if cert.Optimal.Bound > cert.Threshold.Bound*(1+1e-12) || cert.Optimal.Bound > cert.Bound*(1+1e-12) {
+			t.Errorf("trial %d: Optimal.Bound = %g above threshold %g or none dropped %g", trial, cert.Optimal.Bound, cert.Threshold.Bound, cert.Bound)
 		}
-		if cert.Optimal.Total < cert.Total*(1-1e-9) {
+		if cert.Optimal.Bound < cert.Bound*(1-1e-9) {
 			found++
 		}
 		// The threshold rule drops exactly the terms with N_i < 2 ln(2/δ).
@@ -78,8 +78,8 @@ func TestOptimalTruncationBranchAndBound(t *testing.T) {
 		}
 		cert := certify(c, 0.05, &Options{Enumerate: 1})
 		want := bruteForceOptimum(c, c.weights(), 0.05)
-		if o := cert.Optimal; !o.Exact || !near(o.Total, want, 1e-12) || !near(o.Lower, want, 1e-12) {
-			t.Errorf("trial %d: branch and bound = %.15g (lower %.15g, exact %v), brute force %.15g", trial, o.Total, o.Lower, o.Exact, want)
+		if o := cert.Optimal; !o.Exact || !near(o.Bound, want, 1e-12) || !near(o.Lower, want, 1e-12) {
+			t.Errorf("trial %d: branch and bound = %.15g (lower %.15g, exact %v), brute force %.15g", trial, o.Bound, o.Lower, o.Exact, want)
 		}
 	}
 }
@@ -100,11 +100,11 @@ func TestOptimalTruncationBracket(t *testing.T) {
 		cert := certify(c, 0.05, &Options{Enumerate: 1, searchSteps: -1})
 		want := bruteForceOptimum(c, c.weights(), 0.05)
 		o := cert.Optimal
-		if o.Total < want*(1-1e-12) || o.Lower > want*(1+1e-9) {
-			t.Errorf("trial %d: found %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Total, o.Lower, want)
+		if o.Bound < want*(1-1e-12) || o.Lower > want*(1+1e-9) {
+			t.Errorf("trial %d: found %.12g, lower bound %.12g, true optimum %.12g: not bracketed", trial, o.Bound, o.Lower, want)
 		}
-		if o.Exact && !near(o.Total, want, 1e-9) {
-			t.Errorf("trial %d: Exact claimed at %.12g, optimum %.12g", trial, o.Total, want)
+		if o.Exact && !near(o.Bound, want, 1e-9) {
+			t.Errorf("trial %d: Exact claimed at %.12g, optimum %.12g", trial, o.Bound, want)
 		}
 		if !o.Exact {
 			inexact++

@@ -63,8 +63,8 @@
 //
 // # Models
 //
-// A [Lattice] lists sites (site q is qubit q) and weighted bonds; [Chain]
-// and [Rectangle] build open or periodic ones, and a bond's Weight scales the
+// A [Graph] lists sites (site q is qubit q) and weighted bonds; [Line],
+// [Ring], [Sheet] and [Torus] build the common ones, and a bond's Weight scales the
 // coupling on that bond. The builders write every sign out:
 //
 //	TransverseFieldIsing(l, J, h):  H = −J Σ_b w_b Z_i Z_j − h Σ_q X_q

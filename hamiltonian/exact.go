@@ -16,9 +16,9 @@ import (
 // Eigenpair returned with it is the best estimate found.
 var ErrNotConverged = errors.New("hamiltonian: ground state did not converge")
 
-// EigenSettings tunes [GroundState]. A nil *EigenSettings, or the zero value
+// EigenOptions tunes [GroundState]. A nil *EigenOptions, or the zero value
 // of any field, means the default.
-type EigenSettings struct {
+type EigenOptions struct {
 	// Tolerance is the residual ‖Hψ − Eψ‖ (ψ normalised) at which the
 	// search stops. Zero means 1e-10·max(1, |h_0| + ‖h‖₁). The energy error
 	// is at most the residual, and at most residual²/gap once the residual
@@ -68,19 +68,19 @@ type Eigenpair struct {
 // GroundState returns an error for a nil h, for more than [MaxExactQubits]
 // qubits, for invalid settings, and [ErrNotConverged] (with the best pair
 // found) when MaxApply products were not enough.
-func GroundState(h *Hamiltonian, opts *EigenSettings) (Eigenpair, error) {
+func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if h == nil {
-		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: nil Hamiltonian")
+		return Eigenpair{}, fmt.Errorf("hamiltonian: nil Hamiltonian")
 	}
 	if h.n > MaxExactQubits {
-		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
+		return Eigenpair{}, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
 	}
-	var s EigenSettings
+	var s EigenOptions
 	if opts != nil {
 		s = *opts
 	}
 	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.KrylovDim < 0 || s.MaxApply < 0 {
-		return Eigenpair{}, fmt.Errorf("hamiltonian: GroundState: negative or NaN setting in %+v", s)
+		return Eigenpair{}, fmt.Errorf("hamiltonian: negative or NaN setting in %+v", s)
 	}
 	if s.Tolerance == 0 {
 		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
@@ -293,7 +293,7 @@ func (h *Hamiltonian) Matrix() (*mat.CDense, error) {
 		return nil, fmt.Errorf("hamiltonian: Matrix: nil Hamiltonian")
 	}
 	if h.n > MaxMatrixQubits {
-		return nil, fmt.Errorf("hamiltonian: Matrix: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
+		return nil, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)
 	}
 	dim := 1 << h.n
 	m := mat.NewCDense(dim, dim, nil)

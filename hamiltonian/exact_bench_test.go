@@ -28,7 +28,7 @@ func BenchmarkApply(b *testing.B) {
 func BenchmarkGroundState(b *testing.B) {
 	for _, n := range []int{12, 16} {
 		b.Run(fmt.Sprintf("model=heisenberg-ring/qubits=%d", n), func(b *testing.B) {
-			h, err := Heisenberg(Chain(n, true), 1)
+			h, err := Heisenberg(Ring(n), 1)
 			if err != nil {
 				b.Fatal(err)
 			}

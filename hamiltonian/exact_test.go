@@ -229,9 +229,9 @@ func TestEnergyIsSumOfExpectations(t *testing.T) {
 	}
 }
 
-func ring(t testing.TB, n int) Lattice {
+func ring(t testing.TB, n int) Graph {
 	t.Helper()
-	return Chain(n, true)
+	return Ring(n)
 }
 
 func groundEnergy(t *testing.T, h *Hamiltonian) float64 {
@@ -455,7 +455,7 @@ func TestGroundStateMatchesDenseEigensolver(t *testing.T) {
 				h = mustNew(t, tc.n, h.Offset(), terms)
 			}
 			want := denseLowest(t, h)
-			got, err := GroundState(h, &EigenSettings{Seed: tc.seed})
+			got, err := GroundState(h, &EigenOptions{Seed: tc.seed})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -478,11 +478,11 @@ func TestGroundStateMatchesDenseEigensolver(t *testing.T) {
 
 func TestGroundStateReproducible(t *testing.T) {
 	h := mustRandom(t, 6, 40, 3, 8)
-	a, err := GroundState(h, &EigenSettings{Seed: 3})
+	a, err := GroundState(h, &EigenOptions{Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
-	b, err := GroundState(h, &EigenSettings{Seed: 3})
+	b, err := GroundState(h, &EigenOptions{Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -504,7 +504,7 @@ func TestGroundStateSmallKrylovRestarts(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	got, err := GroundState(h, &EigenSettings{KrylovDim: 5})
+	got, err := GroundState(h, &EigenOptions{KrylovDim: 5})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -531,11 +531,11 @@ func TestGroundStateErrors(t *testing.T) {
 		t.Errorf("GroundState on %d qubits: no error", MaxExactQubits+1)
 	}
 	small := mustNew(t, 3, 0, []Term{{pauli.MustParse("ZZI"), 1}})
-	if _, err := GroundState(small, &EigenSettings{Tolerance: -1}); err == nil {
+	if _, err := GroundState(small, &EigenOptions{Tolerance: -1}); err == nil {
 		t.Error("negative tolerance: no error")
 	}
 	h := mustRandom(t, 8, 100, 3, 1)
-	_, err := GroundState(h, &EigenSettings{MaxApply: 3, Tolerance: 1e-14})
+	_, err := GroundState(h, &EigenOptions{MaxApply: 3, Tolerance: 1e-14})
 	if !errors.Is(err, ErrNotConverged) {
 		t.Errorf("MaxApply 3: err = %v, want ErrNotConverged", err)
 	}

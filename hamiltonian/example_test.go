@@ -46,7 +46,7 @@ func ExampleRead_errors() {
 func ExampleGroundState() {
 	// The 8-site transverse-field Ising ring at its critical point, whose
 	// ground energy is −2/sin(π/16) (Pfeuty 1970).
-	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Chain(8, true), 1, 1)
+	h, err := hamiltonian.TransverseFieldIsing(hamiltonian.Ring(8), 1, 1)
 	if err != nil {
 		fmt.Println(err)
 		return

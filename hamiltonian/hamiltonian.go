@@ -164,7 +164,7 @@ func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
 		return nil, fmt.Errorf("hamiltonian: Add: nil Hamiltonian")
 	}
 	if h.n != o.n {
-		return nil, fmt.Errorf("hamiltonian: Add: %d qubits and %d qubits", h.n, o.n)
+		return nil, fmt.Errorf("hamiltonian: %d qubits and %d qubits", h.n, o.n)
 	}
 	terms := make([]Term, 0, h.Len()+o.Len())
 	for _, t := range h.Terms() {

@@ -10,7 +10,7 @@ import (
 
 // Sign conventions of the model builders. Every coupling and field enters
 // exactly as written below; a bond's Weight multiplies the coupling of that
-// bond. Site q is qubit q. Terms come in lattice bond order (for each bond the
+// bond. Site q is qubit q. Terms come in bond order (for each bond the
 // XX, YY, ZZ terms it carries, in that order), then the field terms by site
 // (for Ising, all X fields before all Z fields).
 //
@@ -25,8 +25,8 @@ import (
 
 // TransverseFieldIsing returns H = −J Σ_b w_b Z_i Z_j − h Σ_q X_q on l. With
 // J > 0 the coupling is ferromagnetic. It returns an error if l is invalid
-// (see [Lattice.Validate]) or a constant is not finite.
-func TransverseFieldIsing(l Lattice, j, field float64) (*Hamiltonian, error) {
+// (see [Graph.Validate]) or a constant is not finite.
+func TransverseFieldIsing(l Graph, j, field float64) (*Hamiltonian, error) {
 	return Ising(l, j, constant(l.Sites, field), nil)
 }
 
@@ -34,7 +34,7 @@ func TransverseFieldIsing(l Lattice, j, field float64) (*Hamiltonian, error) {
 // the Ising model with per-site transverse (hx) and longitudinal (hz) fields.
 // A nil field slice means zero field; otherwise its length must be l.Sites.
 // Zero-field terms are left out.
-func Ising(l Lattice, j float64, hx, hz []float64) (*Hamiltonian, error) {
+func Ising(l Graph, j float64, hx, hz []float64) (*Hamiltonian, error) {
 	if err := checkModel(l, "hx", hx, "hz", hz, j); err != nil {
 		return nil, err
 	}
@@ -50,14 +50,14 @@ func Ising(l Lattice, j float64, hx, hz []float64) (*Hamiltonian, error) {
 
 // XXZ returns H = Σ_b w_b [Jxy (X_i X_j + Y_i Y_j) + Jz Z_i Z_j] − h Σ_q Z_q on
 // l. It returns an error if l is invalid or a constant is not finite.
-func XXZ(l Lattice, jxy, jz, field float64) (*Hamiltonian, error) {
+func XXZ(l Graph, jxy, jz, field float64) (*Hamiltonian, error) {
 	return XXZFields(l, jxy, jz, constant(l.Sites, field))
 }
 
 // XXZFields is [XXZ] with a field h[q] along Z on each site:
 // H = Σ_b w_b [Jxy (X_i X_j + Y_i Y_j) + Jz Z_i Z_j] − Σ_q h[q] Z_q. A nil h
 // means no field; otherwise its length must be l.Sites.
-func XXZFields(l Lattice, jxy, jz float64, h []float64) (*Hamiltonian, error) {
+func XXZFields(l Graph, jxy, jz float64, h []float64) (*Hamiltonian, error) {
 	if err := checkModel(l, "h", h, "", nil, jxy, jz); err != nil {
 		return nil, err
 	}
@@ -76,7 +76,7 @@ func XXZFields(l Lattice, jxy, jz float64, h []float64) (*Hamiltonian, error) {
 
 // Heisenberg returns H = J Σ_b w_b (X_i X_j + Y_i Y_j + Z_i Z_j) on l, which
 // is 4J Σ_b w_b S_i·S_j in spin-½ operators.
-func Heisenberg(l Lattice, j float64) (*Hamiltonian, error) {
+func Heisenberg(l Graph, j float64) (*Hamiltonian, error) {
 	return XXZFields(l, j, j, nil)
 }
 
@@ -92,7 +92,7 @@ func RandomLocal(n, terms, k int, seed uint64) (*Hamiltonian, error) {
 		return nil, fmt.Errorf("hamiltonian: RandomLocal(n=%d, terms=%d, k=%d): need n ≥ k ≥ 1 and terms ≥ 0", n, terms, k)
 	}
 	if float64(terms) > countLocal(n, k) {
-		return nil, fmt.Errorf("hamiltonian: RandomLocal: only %.0f strings on %d qubits have weight at most %d, asked for %d", countLocal(n, k), n, k, terms)
+		return nil, fmt.Errorf("hamiltonian: only %.0f strings on %d qubits have weight at most %d, asked for %d", countLocal(n, k), n, k, terms)
 	}
 	rng := rand.New(rand.NewPCG(seed, 0x5eed10ca1))
 	seen := make(map[string]bool, terms)
@@ -138,7 +138,7 @@ func pair(n int, b Bond, l pauli.Letter) pauli.String {
 }
 
 // constant returns n copies of v, or nil if v is zero or n is negative (a
-// lattice the model builders then reject).
+// graph the model builders then reject).
 func constant(n int, v float64) []float64 {
 	if v == 0 || n < 0 {
 		return nil
@@ -160,9 +160,9 @@ func appendField(terms []Term, n int, l pauli.Letter, h []float64) []Term {
 	return terms
 }
 
-// checkModel validates the lattice, the lengths of two optional per-site
+// checkModel validates the graph, the lengths of two optional per-site
 // fields and the finiteness of every constant.
-func checkModel(l Lattice, name1 string, f1 []float64, name2 string, f2 []float64, consts ...float64) error {
+func checkModel(l Graph, name1 string, f1 []float64, name2 string, f2 []float64, consts ...float64) error {
 	if err := l.Validate(); err != nil {
 		return err
 	}

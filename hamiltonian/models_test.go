@@ -7,7 +7,7 @@ import (
 	"testing"
 )
 
-func bondList(l Lattice) string {
+func bondList(l Graph) string {
 	var b strings.Builder
 	for _, bd := range l.Bonds {
 		fmt.Fprintf(&b, "%d-%d ", bd.I, bd.J)
@@ -15,21 +15,21 @@ func bondList(l Lattice) string {
 	return strings.TrimSpace(b.String())
 }
 
-func TestLattices(t *testing.T) {
+func TestGraphBuilders(t *testing.T) {
 	for _, tc := range []struct {
 		name  string
-		l     Lattice
+		l     Graph
 		sites int
 		bonds string
 	}{
-		{"open chain", Chain(4, false), 4, "0-1 1-2 2-3"},
-		{"ring", Chain(4, true), 4, "0-1 1-2 2-3 3-0"},
-		{"ring of two has one bond", Chain(2, true), 2, "0-1"},
-		{"single site", Chain(1, true), 1, ""},
-		{"open 2×3", Rectangle(2, 3, false), 6, "0-1 0-3 1-2 1-4 2-5 3-4 4-5"},
-		{"torus 3×3", Rectangle(3, 3, true), 9, "0-1 0-3 1-2 1-4 2-0 2-5 3-4 3-6 4-5 4-7 5-3 5-8 6-7 6-0 7-8 7-1 8-6 8-2"},
-		{"periodic 1×4 is a ring", Rectangle(1, 4, true), 4, "0-1 1-2 2-3 3-0"},
-		{"periodic 2×3 wraps only rows of 3", Rectangle(2, 3, true), 6, "0-1 0-3 1-2 1-4 2-0 2-5 3-4 4-5 5-3"},
+		{"open chain", Line(4), 4, "0-1 1-2 2-3"},
+		{"ring", Ring(4), 4, "0-1 1-2 2-3 3-0"},
+		{"ring of two has one bond", Ring(2), 2, "0-1"},
+		{"single site", Ring(1), 1, ""},
+		{"open 2×3", Sheet(2, 3), 6, "0-1 0-3 1-2 1-4 2-5 3-4 4-5"},
+		{"torus 3×3", Torus(3, 3), 9, "0-1 0-3 1-2 1-4 2-0 2-5 3-4 3-6 4-5 4-7 5-3 5-8 6-7 6-0 7-8 7-1 8-6 8-2"},
+		{"periodic 1×4 is a ring", Torus(1, 4), 4, "0-1 1-2 2-3 3-0"},
+		{"periodic 2×3 wraps only rows of 3", Torus(2, 3), 6, "0-1 0-3 1-2 1-4 2-0 2-5 3-4 4-5 5-3"},
 	} {
 		if tc.l.Sites != tc.sites || bondList(tc.l) != tc.bonds {
 			t.Errorf("%s: %d sites, bonds %q; want %d, %q", tc.name, tc.l.Sites, bondList(tc.l), tc.sites, tc.bonds)
@@ -40,13 +40,13 @@ func TestLattices(t *testing.T) {
 	}
 	for _, tc := range []struct {
 		name string
-		l    Lattice
+		l    Graph
 	}{
-		{"negative chain", Chain(-1, false)},
-		{"negative rectangle", Rectangle(-1, 2, false)},
-		{"site out of range", Lattice{Sites: 2, Bonds: []Bond{{0, 2, 1}}}},
-		{"self bond", Lattice{Sites: 2, Bonds: []Bond{{1, 1, 1}}}},
-		{"NaN weight", Lattice{Sites: 2, Bonds: []Bond{{0, 1, math.NaN()}}}},
+		{"negative chain", Line(-1)},
+		{"negative rectangle", Sheet(-1, 2)},
+		{"site out of range", Graph{Sites: 2, Bonds: []Bond{{0, 2, 1}}}},
+		{"self bond", Graph{Sites: 2, Bonds: []Bond{{1, 1, 1}}}},
+		{"NaN weight", Graph{Sites: 2, Bonds: []Bond{{0, 1, math.NaN()}}}},
 	} {
 		if tc.l.Validate() == nil {
 			t.Errorf("%s: Validate accepted %+v", tc.name, tc.l)
@@ -66,8 +66,8 @@ func termText(h *Hamiltonian) string {
 }
 
 func TestModelTerms(t *testing.T) {
-	chain := Chain(3, false)
-	weighted := Chain(3, false)
+	chain := Line(3)
+	weighted := Line(3)
 	weighted.Bonds[1].Weight = 0.5
 	for _, tc := range []struct {
 		name  string
@@ -80,9 +80,9 @@ func TestModelTerms(t *testing.T) {
 			"-1 ZZI; -0.5 IZZ"},
 		{"Ising per-site fields", func() (*Hamiltonian, error) { return Ising(chain, 1, []float64{1, 0, 2}, []float64{0, 0.25, 0}) },
 			"-1 ZZI; -1 IZZ; -1 XII; -2 IIX; -0.25 IZI"},
-		{"XXZ with field", func() (*Hamiltonian, error) { return XXZ(Chain(2, false), 1, 0.5, 0.1) },
+		{"XXZ with field", func() (*Hamiltonian, error) { return XXZ(Line(2), 1, 0.5, 0.1) },
 			"1 XX; 1 YY; 0.5 ZZ; -0.1 ZI; -0.1 IZ"},
-		{"XXZ per-site fields", func() (*Hamiltonian, error) { return XXZFields(Chain(2, false), 1, 2, []float64{0, 3}) },
+		{"XXZ per-site fields", func() (*Hamiltonian, error) { return XXZFields(Line(2), 1, 2, []float64{0, 3}) },
 			"1 XX; 1 YY; 2 ZZ; -3 IZ"},
 		{"Heisenberg J(XX+YY+ZZ)", func() (*Hamiltonian, error) { return Heisenberg(weighted, 1) },
 			"1 XXI; 1 YYI; 1 ZZI; 0.5 IXX; 0.5 IYY; 0.5 IZZ"},
@@ -119,15 +119,15 @@ func TestModelGroundEnergies(t *testing.T) {
 		want  float64
 		src   string
 	}{
-		{"two-site Heisenberg singlet", func() (*Hamiltonian, error) { return Heisenberg(Chain(2, false), 1) }, -3,
+		{"two-site Heisenberg singlet", func() (*Hamiltonian, error) { return Heisenberg(Line(2), 1) }, -3,
 			"singlet: S·S = −3/4, and XX+YY+ZZ = 4 S·S (common practice)"},
-		{"2×2 open square is the 4-ring", func() (*Hamiltonian, error) { return Heisenberg(Rectangle(2, 2, false), 1) }, -8,
+		{"2×2 open square is the 4-ring", func() (*Hamiltonian, error) { return Heisenberg(Sheet(2, 2), 1) }, -8,
 			"testdata/REFERENCE_VALUES.md, Heisenberg ring \"N = 4: −8 exactly\""},
-		{"XXZ at Jz = Jxy is Heisenberg", func() (*Hamiltonian, error) { return XXZ(Chain(6, true), 1, 1, 0) }, -2 * (2 + math.Sqrt(13)),
+		{"XXZ at Jz = Jxy is Heisenberg", func() (*Hamiltonian, error) { return XXZ(Ring(6), 1, 1, 0) }, -2 * (2 + math.Sqrt(13)),
 			"testdata/REFERENCE_VALUES.md, Heisenberg ring \"N = 6: −2(2 + √13)\""},
-		{"single-site field", func() (*Hamiltonian, error) { return TransverseFieldIsing(Chain(1, false), 1, 0.75) }, -0.75,
+		{"single-site field", func() (*Hamiltonian, error) { return TransverseFieldIsing(Line(1), 1, 0.75) }, -0.75,
 			"−h X has eigenvalues ∓h (common practice)"},
-		{"TFIM 1×6 rectangle ring", func() (*Hamiltonian, error) { return TransverseFieldIsing(Rectangle(1, 6, true), 1, 2) }, -12.769389127207,
+		{"TFIM 1×6 rectangle ring", func() (*Hamiltonian, error) { return TransverseFieldIsing(Torus(1, 6), 1, 2) }, -12.769389127207,
 			"testdata/REFERENCE_VALUES.md, TFIM table \"| 6 | … | −12.769389127207 |\""},
 	} {
 		h, err := tc.build()

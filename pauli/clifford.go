@@ -197,9 +197,9 @@ func (c *Circuit) Clone() *Circuit {
 	return &Circuit{n: c.n, gates: append([]Gate(nil), c.gates...)}
 }
 
-// Inverse returns the circuit of U†: the gates in reverse order, with S and
+// inverse returns the circuit of U†: the gates in reverse order, with S and
 // S† exchanged.
-func (c *Circuit) Inverse() *Circuit {
+func (c *Circuit) inverse() *Circuit {
 	inv := &Circuit{n: c.n, gates: make([]Gate, len(c.gates))}
 	for i, g := range c.gates {
 		inv.gates[len(c.gates)-1-i] = g.inverse()
@@ -209,8 +209,7 @@ func (c *Circuit) Inverse() *Circuit {
 
 // Equal reports whether c and o have the same width and the same gates in
 // the same order. It compares gate lists, not unitaries: CZ(0,1) and CZ(1,0)
-// differ here; compare [Circuit.Tableau] values for equality as Clifford
-// maps.
+// differ here.
 func (c *Circuit) Equal(o *Circuit) bool {
 	if c.n != o.n || len(c.gates) != len(o.gates) {
 		return false
@@ -326,9 +325,9 @@ func parseGate(tok string, n int) (g Gate, off int, reason string, err error) {
 // U P U† = s·P', where U is the unitary of c. It updates a copy of p gate by
 // gate with the rules of Aaronson & Gottesman, "Improved simulation of
 // stabilizer circuits", quant-ph/0406196, §III, costing a few bit
-// operations per gate; to conjugate many strings through a long circuit, use
-// [Circuit.Tableau] once and [Tableau.Conjugate]. It panics if p has a
-// different width.
+// operations per gate (the package conjugates many strings through one
+// circuit with a tableau of the whole map). It panics if p has a different
+// width.
 func (c *Circuit) Conjugate(p String) (String, int) {
 	mustSameWidth(c.n, p.n)
 	q := p.Clone()

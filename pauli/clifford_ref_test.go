@@ -304,7 +304,7 @@ func scrambler(rng *rand.Rand, n int) *Circuit {
 // random Clifford V (conjugation preserves commutation). The first k members
 // are the generators themselves when withGens is set.
 func randomCommutingFamily(rng *rand.Rand, n, k, m int, withGens bool) []String {
-	v := scrambler(rng, n).Tableau()
+	v := scrambler(rng, n).toTableau()
 	qs := rng.Perm(n)[:k]
 	gens := make([]String, k)
 	for i, q := range qs {

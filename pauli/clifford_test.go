@@ -57,7 +57,7 @@ func TestConjugateSingleGates(t *testing.T) {
 		for _, m := range []struct {
 			name string
 			f    func(String) (String, int)
-		}{{"Circuit", c.Conjugate}, {"Tableau", c.Tableau().Conjugate}} {
+		}{{"Circuit", c.Conjugate}, {"Tableau", c.toTableau().Conjugate}} {
 			got, s := m.f(p)
 			if got.String() != tc.want || s != tc.wantSg {
 				t.Errorf("%s.Conjugate[%v](%s) = %s, want %s", m.name, tc.gate, tc.in, signed(s, got), signed(tc.wantSg, MustParse(tc.want)))
@@ -83,7 +83,7 @@ func TestConjugateAgainstReference(t *testing.T) {
 	for _, n := range []int{1, 2, 5, 63, 64, 65, 130} {
 		for range 20 {
 			c := randomCircuit(rng, n, 3*n+5)
-			tab := c.Tableau()
+			tab := c.toTableau()
 			for range 10 {
 				p := randomString(rng, n)
 				want, ws := refConjugate(c, p)
@@ -94,7 +94,7 @@ func TestConjugateAgainstReference(t *testing.T) {
 					t.Fatalf("Tableau.Conjugate(%s) on %d qubits by %v = %s, want %s", p, n, c, signed(s, got), signed(ws, want))
 				}
 				// U† U P U† U = P.
-				back, bs := c.Inverse().Conjugate(want)
+				back, bs := c.inverse().Conjugate(want)
 				if !back.Equal(p) || bs != ws {
 					t.Fatalf("Inverse().Conjugate(%s) = %s, want %s", want, signed(bs, back), signed(ws, p))
 				}
@@ -143,17 +143,17 @@ func TestTableauIdentities(t *testing.T) {
 		{"SWAP as three CNOTs", NewCircuit(3).CNOT(0, 2).CNOT(2, 0).CNOT(0, 2), NewCircuit(3).CNOT(2, 0).CNOT(0, 2).CNOT(2, 0)},
 	}
 	for _, tc := range cases {
-		if !tc.a.Tableau().Equal(tc.b.Tableau()) {
+		if !tc.a.toTableau().Equal(tc.b.toTableau()) {
 			t.Errorf("%s: Tableau(%v) differs from Tableau(%v)", tc.name, tc.a, tc.b)
 		}
 	}
-	if NewCircuit(1).S(0).Tableau().Equal(NewCircuit(1).Sdg(0).Tableau()) {
+	if NewCircuit(1).S(0).toTableau().Equal(NewCircuit(1).Sdg(0).toTableau()) {
 		t.Errorf("Tableau(S) equals Tableau(S†), want different")
 	}
 }
 
 func TestTableauApplyAndImages(t *testing.T) {
-	tab := NewTableau(2)
+	tab := newTableau(2)
 	tab.Apply(Gate{Kind: GateH, Q0: 0})
 	tab.Apply(Gate{Kind: GateCNOT, Q0: 0, Q1: 1})
 	// U = CNOT·H: X0 → CNOT Z0 CNOT = ZI; Z0 → XX; Z1 → ZZ (N&C §10.5.2).
@@ -169,7 +169,7 @@ func TestTableauApplyAndImages(t *testing.T) {
 	}
 	c := tab.Clone()
 	c.Apply(Gate{Kind: GateS, Q0: 1})
-	if c.Equal(tab) || !tab.Equal(NewCircuit(2).H(0).CNOT(0, 1).Tableau()) {
+	if c.Equal(tab) || !tab.Equal(NewCircuit(2).H(0).CNOT(0, 1).toTableau()) {
 		t.Errorf("Clone shares storage with the original")
 	}
 }
@@ -258,7 +258,7 @@ func TestCircuitPanics(t *testing.T) {
 		{"CZ target out of range", func() { NewCircuit(2).CZ(0, 5) }},
 		{"invalid kind", func() { NewCircuit(2).Append(Gate{}) }},
 		{"width mismatch", func() { NewCircuit(2).Conjugate(MustParse("XYZ")) }},
-		{"tableau gate out of range", func() { NewTableau(1).Apply(Gate{Kind: GateH, Q0: 1}) }},
+		{"tableau gate out of range", func() { newTableau(1).Apply(Gate{Kind: GateH, Q0: 1}) }},
 	}
 	for _, tc := range cases {
 		func() {
@@ -275,12 +275,12 @@ func TestCircuitPanics(t *testing.T) {
 func TestInverseGates(t *testing.T) {
 	c := NewCircuit(3).H(0).S(1).CNOT(0, 2).Sdg(2).CZ(1, 2)
 	const want = "CZ(1,2) S(2) CNOT(0,2) Sdg(1) H(0)"
-	if got := c.Inverse().String(); got != want {
+	if got := c.inverse().String(); got != want {
 		t.Errorf("Inverse() = %q, want %q", got, want)
 	}
 	// U U† is the identity map.
-	both := c.Clone().Append(c.Inverse().Gates()...)
-	if !both.Tableau().Equal(NewTableau(3)) {
+	both := c.Clone().Append(c.inverse().Gates()...)
+	if !both.toTableau().Equal(newTableau(3)) {
 		t.Errorf("Tableau(U U†) is not the identity for U = %v", c)
 	}
 }
@@ -320,7 +320,7 @@ func FuzzConjugate(f *testing.F) {
 		if got, s := c.Conjugate(p); !got.Equal(want) || s != ws {
 			t.Fatalf("Circuit.Conjugate(%s) by %v = %s, want %s", p, c, signed(s, got), signed(ws, want))
 		}
-		if got, s := c.Tableau().Conjugate(p); !got.Equal(want) || s != ws {
+		if got, s := c.toTableau().Conjugate(p); !got.Equal(want) || s != ws {
 			t.Fatalf("Tableau.Conjugate(%s) by %v = %s, want %s", p, c, signed(s, got), signed(ws, want))
 		}
 	})

@@ -35,7 +35,7 @@ func (e *NonCommutingError) Unwrap() error { return ErrNotCommuting }
 type Diagonalization struct {
 	n       int
 	circuit *Circuit
-	tab     *Tableau
+	tab     *tableau
 	members *Table
 	images  *Table // Z-strings: x words zero
 	neg     []bool
@@ -74,7 +74,7 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 	d := &Diagonalization{
 		n:       n,
 		circuit: s.c,
-		tab:     s.c.Tableau(),
+		tab:     s.c.toTableau(),
 		members: TableOf(n, family...),
 		images:  NewTable(n, len(family)),
 		gens:    gens,
@@ -84,7 +84,7 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 		zs[q] = Identity(n)
 		zs[q].z[q>>6] |= 1 << (q & 63)
 	}
-	pre := conjugateColumns(s.c.Inverse(), zs)
+	pre := conjugateColumns(s.c.inverse(), zs)
 	d.pre = make([]uint64, 2*w*n)
 	for q := range n {
 		o := 2 * w * q
@@ -111,7 +111,7 @@ func Diagonalize(family []String) (*Diagonalization, error) {
 // and returns the indices of its independent generators (see independent).
 func generators(family []String) ([]int, error) {
 	if len(family) == 0 {
-		return nil, errors.New("pauli: Diagonalize: empty family")
+		return nil, errors.New("pauli: empty family")
 	}
 	n := family[0].n
 	for i, p := range family {
@@ -413,13 +413,13 @@ func (d *Diagonalization) Len() int { return d.members.Len() }
 // modified.
 func (d *Diagonalization) Circuit() *Circuit { return d.circuit }
 
-// Rank returns the number of independent generators of the family.
-func (d *Diagonalization) Rank() int { return len(d.gens) }
+// rank returns the number of independent generators of the family.
+func (d *Diagonalization) rank() int { return len(d.gens) }
 
-// Generators returns the indices of the members chosen as independent
+// generators returns the indices of the members chosen as independent
 // generators: each is the first member that is not a product of earlier
 // ones.
-func (d *Diagonalization) Generators() []int { return append([]int(nil), d.gens...) }
+func (d *Diagonalization) generators() []int { return append([]int(nil), d.gens...) }
 
 // Member returns member i of the family.
 func (d *Diagonalization) Member(i int) String { return d.members.At(i) }
@@ -514,13 +514,13 @@ func (d *Diagonalization) Covered(dst []int, t *Table) []int {
 	return dst
 }
 
-// CoverMask sets dst[r] to whether U maps row r of t to ±(a Z-string). It
+// coverMask sets dst[r] to whether U maps row r of t to ±(a Z-string). It
 // panics if len(dst) is not t.Len() or t has a different width. It never
 // allocates.
-func (d *Diagonalization) CoverMask(dst []bool, t *Table) {
+func (d *Diagonalization) coverMask(dst []bool, t *Table) {
 	mustSameWidth(d.n, t.Qubits())
 	if len(dst) != t.Len() {
-		panic("pauli: CoverMask: destination length differs from table length")
+		panic("pauli: Covered mask: destination length differs from table length")
 	}
 	for r := range dst {
 		x, z := t.Words(r)

@@ -40,7 +40,7 @@ func BenchmarkConjugate(b *testing.B) {
 	for _, sz := range []struct{ n, gates int }{{20, 100}, {50, 1000}, {100, 1000}} {
 		rng := rand.New(rand.NewPCG(1, uint64(sz.n)))
 		c := randomCircuit(rng, sz.n, sz.gates)
-		tab := c.Tableau()
+		tab := c.toTableau()
 		ps := make([]String, 256)
 		for i := range ps {
 			ps[i] = randomString(rng, sz.n)
@@ -65,7 +65,7 @@ func BenchmarkConjugate(b *testing.B) {
 		b.Run("tableau-build/"+name, func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				c.Tableau()
+				c.toTableau()
 			}
 		})
 	}

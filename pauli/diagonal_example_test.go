@@ -67,15 +67,3 @@ func ExampleDiagonalization_Covered() {
 	// YYI -> -1·ZZI
 	// ZZZ -> +1·IZZ
 }
-
-func ExampleTableau() {
-	t := pauli.NewCircuit(2).H(0).CNOT(0, 1).Tableau()
-	for q := range 2 {
-		x, sx := t.ImageX(q)
-		z, sz := t.ImageZ(q)
-		fmt.Printf("X%d -> %+d·%v, Z%d -> %+d·%v\n", q, sx, x, q, sz, z)
-	}
-	// Output:
-	// X0 -> +1·ZI, Z0 -> +1·XX
-	// X1 -> +1·IX, Z1 -> +1·ZZ
-}

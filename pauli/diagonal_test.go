@@ -134,11 +134,11 @@ func TestDiagonalizeReference(t *testing.T) {
 				t.Fatalf("Diagonalize on %d qubits: %v", n, err)
 			}
 			checkDiagonalization(t, fam, d)
-			if rep%2 == 0 && d.Rank() != k {
-				t.Errorf("Rank() = %d, want %d generators", d.Rank(), k)
+			if rep%2 == 0 && d.rank() != k {
+				t.Errorf("Rank() = %d, want %d generators", d.rank(), k)
 			}
 			// Gate-count bounds stated at Diagonalize.
-			c, r := d.Circuit(), d.Rank()
+			c, r := d.Circuit(), d.rank()
 			counts := map[GateKind]int{}
 			for _, g := range c.Gates() {
 				counts[g.Kind]++
@@ -179,10 +179,10 @@ func TestDiagonalizeExamples(t *testing.T) {
 			continue
 		}
 		checkDiagonalization(t, fam, d)
-		if d.Rank() != tc.rank {
-			t.Errorf("%s: Rank() = %d, want %d", tc.name, d.Rank(), tc.rank)
+		if d.rank() != tc.rank {
+			t.Errorf("%s: Rank() = %d, want %d", tc.name, d.rank(), tc.rank)
 		}
-		if g := d.Generators(); !slices.Equal(g, tc.gens) {
+		if g := d.generators(); !slices.Equal(g, tc.gens) {
 			t.Errorf("%s: Generators() = %v, want %v", tc.name, g, tc.gens)
 		}
 		if tc.twoQ >= 0 && d.Circuit().TwoQubitGates() != tc.twoQ {
@@ -231,7 +231,7 @@ func TestDiagonalizeErrors(t *testing.T) {
 		want string
 		i, j int // -1: not a NonCommutingError
 	}{
-		{"empty", nil, "pauli: Diagonalize: empty family", -1, -1},
+		{"empty", nil, "pauli: empty family", -1, -1},
 		{"widths", parseAll("XX", "XXX"), "pauli: family member 1 (XXX) has 3 qubits, want 2", -1, -1},
 		{"first pair", parseAll("XI", "ZI"), "pauli: family members 0 (XI) and 1 (ZI) do not commute", 0, 1},
 		{"later pair", parseAll("XI", "IZ", "IX", "ZZ"), "pauli: family members 1 (IZ) and 2 (IX) do not commute", 1, 2},
@@ -398,7 +398,7 @@ func FuzzDiagonalize(f *testing.F) {
 			tab.Append(FromLetters(ls))
 		}
 		mask := make([]bool, tab.Len())
-		d.CoverMask(mask, tab)
+		d.coverMask(mask, tab)
 		for r := range tab.Len() {
 			img, s := refConjugate(d.Circuit(), tab.At(r))
 			if mask[r] != isZString(img) {
@@ -410,7 +410,7 @@ func FuzzDiagonalize(f *testing.F) {
 
 func TestDiagonalizeZeroQubitsAndInputUnchanged(t *testing.T) {
 	d, err := Diagonalize([]String{Identity(0), Identity(0)})
-	if err != nil || d.Len() != 2 || d.Rank() != 0 || d.Circuit().Len() != 0 {
+	if err != nil || d.Len() != 2 || d.rank() != 0 || d.Circuit().Len() != 0 {
 		t.Fatalf("Diagonalize of two zero-qubit identities = %v, %v; want empty circuit, rank 0", d, err)
 	}
 	if z, s := d.Image(1); z.Qubits() != 0 || s != 1 || d.Sample(1, nil) != 1 {
@@ -473,7 +473,7 @@ func TestDiagonalizationCovered(t *testing.T) {
 				t.Fatalf("Covered = %v, want %v (circuit %v)", got, want, d.Circuit())
 			}
 			mask := make([]bool, tab.Len())
-			d.CoverMask(mask, tab)
+			d.coverMask(mask, tab)
 			k := 0
 			for r, m := range mask {
 				inWant := k < len(want) && want[k] == r

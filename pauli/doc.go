@@ -31,7 +31,7 @@
 //
 // The batch queries of [Table] are the hot loops of allocation and
 // estimation and never allocate: [Table.Covered] appends to the caller's
-// slice (allocating only when it lacks capacity), [Table.CoverMask] and
+// slice (allocating only when it lacks capacity), [Table.coverMask] and
 // [Table.Samples] write into the caller's buffers. Tests pin this with
 // testing.AllocsPerRun. Methods that return a new [String] ([Mul],
 // [String.With], [String.Clone], [Table.At]) allocate its words.

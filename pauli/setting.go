@@ -240,7 +240,7 @@ func (s Setting) Sample(p String, b Bits) int {
 // NewFamilySetting returns the setting that measures a commuting family in
 // one shot: the family's diagonalising circuit from [Diagonalize], then a Z
 // readout of every qubit. The setting keeps the family's independent
-// generators ([Diagonalization.Generators]), in order; the circuit depends
+// generators ([Diagonalization.generators]), in order; the circuit depends
 // only on them, so [ParseSetting] of the text form rebuilds the same circuit.
 //
 // A family that commutes qubit-wise gives a local setting instead: its
@@ -256,7 +256,7 @@ func NewFamilySetting(family []String) (Setting, error) {
 		return Setting{}, err
 	}
 	if len(gi) == 0 {
-		return Setting{}, errors.New("pauli: NewFamilySetting: every member is the identity")
+		return Setting{}, errors.New("pauli: every member is the identity")
 	}
 	n := family[0].n
 	gens := make([]String, len(gi))
@@ -321,16 +321,6 @@ func (s Setting) Diagonalization() *Diagonalization {
 		return nil
 	}
 	return s.fam.d
-}
-
-// Generators returns the generators of an entangled setting, in order, or
-// nil for a local one. The strings are immutable values; the slice is a
-// copy.
-func (s Setting) Generators() []String {
-	if s.fam == nil {
-		return nil
-	}
-	return append([]String(nil), s.fam.gens...)
 }
 
 // Circuit returns the basis-change circuit that runs before every qubit is

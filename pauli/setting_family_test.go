@@ -163,7 +163,7 @@ func TestFamilySettingTable(t *testing.T) {
 			tab.Append(randomString(rng, n))
 		}
 		mask := make([]bool, tab.Len())
-		tab.CoverMask(mask, s)
+		tab.coverMask(mask, s)
 		cov := tab.Covered(nil, s)
 		k := 0
 		u := circuitMatrix(s.Circuit())

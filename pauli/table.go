@@ -164,16 +164,16 @@ func (t *Table) badRow(r int, sx, sz []uint64) uint64 {
 // isZero returns 1 if v is zero and 0 otherwise, without a branch.
 func isZero(v uint64) uint64 { return 1 ^ (v|-v)>>63 }
 
-// CoverMask sets dst[r] to whether s covers row r. It panics if len(dst) is
+// coverMask sets dst[r] to whether s covers row r. It panics if len(dst) is
 // not t.Len() or s has a different width. It never allocates.
-func (t *Table) CoverMask(dst []bool, s Setting) {
+func (t *Table) coverMask(dst []bool, s Setting) {
 	mustSameWidth(t.n, s.p.n)
 	if s.fam != nil {
-		s.fam.d.CoverMask(dst, t)
+		s.fam.d.coverMask(dst, t)
 		return
 	}
 	if len(dst) != t.rows {
-		panic("pauli: CoverMask: destination length differs from table length")
+		panic("pauli: Covered mask: destination length differs from table length")
 	}
 	d := t.data
 	if t.w == 1 {

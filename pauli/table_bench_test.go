@@ -59,7 +59,7 @@ func BenchmarkCoverMask(b *testing.B) {
 			mask := make([]bool, m)
 			b.ReportAllocs()
 			for b.Loop() {
-				t.CoverMask(mask, s)
+				t.coverMask(mask, s)
 			}
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(m), "ns/string")
 		})

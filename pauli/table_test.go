@@ -44,7 +44,7 @@ func TestTableQueriesMatchReference(t *testing.T) {
 				t.Fatalf("Covered did not append to dst")
 			}
 			mask := make([]bool, tab.Len())
-			tab.CoverMask(mask, s)
+			tab.coverMask(mask, s)
 			for r, p := range ps {
 				if mask[r] != refCovers(s, p) || tab.CoversRow(r, s) != mask[r] {
 					t.Fatalf("CoverMask(%s)[%d] = %v, want %v for %s", s, r, mask[r], refCovers(s, p), p)
@@ -94,7 +94,7 @@ func TestTableQueriesDoNotAllocate(t *testing.T) {
 			f    func()
 		}{
 			{"Covered", func() { dst = tab.Covered(dst[:0], s) }},
-			{"CoverMask", func() { tab.CoverMask(mask, s) }},
+			{"CoverMask", func() { tab.coverMask(mask, s) }},
 			{"Samples", func() { tab.Samples(samples, rows, b) }},
 		} {
 			if a := testing.AllocsPerRun(20, tc.f); a != 0 {

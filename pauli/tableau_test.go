@@ -17,11 +17,11 @@ func TestTableauColumnsMatchRows(t *testing.T) {
 			} else {
 				c = randomCircuit(rng, n, 4*n)
 			}
-			rows := NewTableau(n)
+			rows := newTableau(n)
 			for _, g := range c.Gates() {
 				rows.Apply(g)
 			}
-			if !c.Tableau().Equal(rows) {
+			if !c.toTableau().Equal(rows) {
 				t.Fatalf("Circuit.Tableau() on %d qubits differs from gate-by-gate Apply for %v", n, c)
 			}
 			ps := make([]String, 1+rng.IntN(140))

@@ -210,7 +210,7 @@ type shot struct {
 
 func run(h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) (*allocate.Plan, error) {
 	measure, _ := measurer(h.Qubits())
-	return allocate.Run(h, budget, a, &allocate.Settings{Measure: measure})
+	return allocate.Run(h, budget, a, &allocate.Options{Measure: measure})
 }
 
 func checkPlan(t reporter, h *hamiltonian.Hamiltonian, budget int, seed uint64, newAllocator func(uint64) allocate.Allocator) {
@@ -324,9 +324,15 @@ func (r *recorder) Observe(s pauli.Setting, b pauli.Bits) {
 
 func (r *recorder) String() string { return allocate.Name(r.Allocator) }
 
-// batchRecorder is a recorder that forwards [allocate.Batcher], so that a
-// strategy whose settings are entangled (and so cannot be written as
-// letters by Next) runs through the wrapper too.
+// stepRecorder and batchRecorder are recorders that forward
+// [allocate.Stepper] and [allocate.Batcher], so that strategies of either
+// kind run through the wrapper.
+type stepRecorder struct{ *recorder }
+
+func (r stepRecorder) Next(dst []pauli.Letter) (int, error) {
+	return r.Allocator.(allocate.Stepper).Next(dst)
+}
+
 type batchRecorder struct{ *recorder }
 
 func (r batchRecorder) NextBatch(settings []pauli.Setting, shots []int, remaining int) ([]pauli.Setting, []int, error) {
@@ -335,12 +341,18 @@ func (r batchRecorder) NextBatch(settings []pauli.Setting, shots []int, remainin
 
 func checkObserver(t reporter, h *hamiltonian.Hamiltonian, budget int, a allocate.Allocator) {
 	rec := &recorder{Allocator: a}
-	var wrapped allocate.Allocator = rec
-	if _, ok := a.(allocate.Batcher); ok {
+	var wrapped allocate.Allocator
+	switch a.(type) {
+	case allocate.Batcher:
 		wrapped = batchRecorder{rec}
+	case allocate.Stepper:
+		wrapped = stepRecorder{rec}
+	default:
+		t.Errorf("%s has neither Next (allocate.Stepper) nor NextBatch (allocate.Batcher)", allocate.Name(a))
+		return
 	}
 	measure, measured := measurer(h.Qubits())
-	p, err := allocate.Run(h, budget, wrapped, &allocate.Settings{Measure: measure})
+	p, err := allocate.Run(h, budget, wrapped, &allocate.Options{Measure: measure})
 	if err != nil {
 		t.Errorf("Run with an observing wrapper: %v", err)
 		return

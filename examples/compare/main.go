@@ -217,7 +217,7 @@ func compare(w io.Writer, h *hamiltonian.Hamiltonian, name string, c config) err
 				return err
 			}
 			r.settings += float64(cert.Settings) / float64(reps)
-			r.bound += cert.Total / float64(reps)
+			r.bound += cert.Bound / float64(reps)
 			r.bias += cert.Bias / float64(reps)
 			if simulate {
 				sim, err := estimate.NewSimulator(ground.State, c.seed+uint64(rep), nil)
@@ -257,7 +257,7 @@ func compare(w io.Writer, h *hamiltonian.Hamiltonian, name string, c config) err
 			if err != nil {
 				return err
 			}
-			r.bounds = append(r.bounds, cert.Total)
+			r.bounds = append(r.bounds, cert.Bound)
 			bar.add()
 		}
 		rows[k] = r
@@ -291,13 +291,13 @@ func printTable(w io.Writer, h *hamiltonian.Hamiltonian, name string, c config, 
 		width = max(width, len(r.name))
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintf(tw, "%-*s\tsettings\tcertified ±\tof which bias\tsimulated RMSE\terror bar (approx.)\tplan time\t\n", width, "strategy")
+	fmt.Fprintf(tw, "%-*s\tsettings\tcertified bound ±\tof which bias\tsimulated RMSE\terror bar (approx.)\tplan time\t\n", width, "strategy")
 	for _, r := range rows {
 		fmt.Fprintf(tw, "%-*s\t%.0f\t%.4g\t%.3g\t%s\t%s\t%s\t\n", width, r.name, r.settings, r.bound, r.bias,
 			orNA(r.rmse), orNA(r.errBar), r.elapsed.Round(10*time.Microsecond))
 	}
 	tw.Flush()
-	fmt.Fprintln(w, "\ncertified ±: holds with probability ≥ 1 − δ for every state (shot noise only; mean over runs for random strategies).")
+	fmt.Fprintln(w, "\ncertified bound ±: holds with probability ≥ 1 − δ for every state (shot noise only; mean over runs for random strategies).")
 	fmt.Fprintln(w, "error bar (approx.): normal approximation from the data, not a guarantee; fixed = all-X, all-Y, all-Z cycled.")
 	if len(c.skipped) > 0 {
 		fmt.Fprintf(w, "skipped (adaptive, so no certificate before the data): %s\n", strings.Join(c.skipped, ", "))

@@ -67,7 +67,7 @@ func (a *anchored) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// Next implements allocate.Allocator: one setting, one shot.
+// Next implements allocate.Stepper: one setting, one shot.
 func (a *anchored) Next(dst []pauli.Letter) (int, error) {
 	clear(dst) // pauli.I marks a qubit not fixed yet
 	a.fixed = 0

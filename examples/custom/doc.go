@@ -4,7 +4,7 @@
 //
 //	go run ./examples/custom [-shots 1000] [-seed 1]
 //
-// The strategy, anchored (in anchored.go), is an allocate.Allocator: Init
+// The strategy, anchored (in anchored.go), is an allocate.Stepper: Init
 // once, then Next writes one setting at a time. Everything else — the budget,
 // cover counts, the certificate, simulation and estimation — comes from the
 // library and works for it exactly as for the built-in strategies. Its tests

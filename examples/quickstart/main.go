@@ -134,7 +134,7 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(tw, "exact ground energy\t%.5f\tby exact diagonalisation: what the estimate aims at\n", exact)
 	fmt.Fprintf(tw, "estimate\t%.5f\tgrouped estimator, shots simulated on the exact ground state (seed %d)\n", res.Energy, c.seed)
-	fmt.Fprintf(tw, "certified bound\t±%.5f\tholds with probability ≥ %g%% for every state, before any shot (δ = %g)\n", cert.Total, conf, c.delta)
+	fmt.Fprintf(tw, "certified bound\t±%.5f\tholds with probability ≥ %g%% for every state, before any shot (δ = %g)\n", cert.Bound, conf, c.delta)
 	fmt.Fprintf(tw, "error bar from data\t±%.5f\tAPPROXIMATE (normal approximation, %g%%), not a guarantee\n", res.ApproxInterval[1]-res.Energy, conf)
 	fmt.Fprintf(tw, "actual error\t%.5f\t|estimate − exact|\n", math.Abs(res.Energy-exact))
 	tw.Flush()
@@ -145,7 +145,7 @@ func report(w io.Writer, c config, plan *allocate.Plan, cert *guarantee.Certific
 	if len(cert.Top) == 0 {
 		return
 	}
-	fmt.Fprintf(w, "\nterms that dominate the certified bound (their shares add up to ±%.5f over all %d terms):\n", cert.Total, len(cert.Share))
+	fmt.Fprintf(w, "\nterms that dominate the certified bound (their shares add up to ±%.5f over all %d terms):\n", cert.Bound, len(cert.Share))
 	tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintf(tw, "share\tcoefficient\tshots covering it\t  term (qubit 0 first)\n")
 	for _, t := range cert.Top {

@@ -12,7 +12,7 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
 	plan := fs.String("plan", "", "plan file (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ: the bound holds with probability at least 1 − δ")
-	top := fs.Int("top", 5, "number of terms listed by their share of the bound")
+	top := fs.Int("top", 5, "list the `N` terms with the largest share of the bound (0: none)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -44,25 +44,25 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			type trunc struct {
 				Dropped int     `json:"dropped"`
-				Epsilon float64 `json:"epsilon"`
+				Bound   float64 `json:"bound"`
 			}
 			out := struct {
-				Shots       int     `json:"shots"`
-				Settings    int     `json:"settings"`
-				Delta       float64 `json:"delta"`
-				Epsilon     float64 `json:"epsilon"`
-				EpsilonStat float64 `json:"epsilon_stat"`
-				Bias        float64 `json:"bias"`
-				Uncovered   int     `json:"uncovered"`
-				OneNorm     float64 `json:"one_norm"`
-				HamOneNorm  float64 `json:"hamiltonian_one_norm"`
-				Relaxed     float64 `json:"epsilon_relaxed"`
-				Variance    float64 `json:"variance"`
-				Top         []term  `json:"top"`
-				Threshold   trunc   `json:"truncation_threshold"`
-				Optimal     trunc   `json:"truncation_optimal"`
-			}{c.Shots, c.Settings, c.Delta, c.Total, c.Radius, c.Bias, c.Uncovered, c.OneNorm, h.OneNorm(), c.RelaxedRadius + c.Bias, c.Variance,
-				[]term{}, trunc{c.Threshold.Dropped, c.Threshold.Total}, trunc{c.Optimal.Dropped, c.Optimal.Total}}
+				Shots      int     `json:"shots"`
+				Settings   int     `json:"settings"`
+				Delta      float64 `json:"delta"`
+				Bound      float64 `json:"certified_bound"`
+				Radius     float64 `json:"radius"`
+				Bias       float64 `json:"bias"`
+				Uncovered  int     `json:"uncovered"`
+				ScaledNorm float64 `json:"scaled_one_norm"`
+				OneNorm    float64 `json:"one_norm"`
+				Relaxed    float64 `json:"relaxed_bound"`
+				Variance   float64 `json:"variance"`
+				Top        []term  `json:"top"`
+				Threshold  trunc   `json:"truncation_threshold"`
+				Optimal    trunc   `json:"truncation_optimal"`
+			}{c.Shots, c.Settings, c.Delta, c.Bound, c.Radius, c.Bias, c.Uncovered, c.ScaledOneNorm, h.OneNorm(), c.RelaxedRadius + c.Bias, c.Variance,
+				[]term{}, trunc{c.Threshold.Dropped, c.Threshold.Bound}, trunc{c.Optimal.Dropped, c.Optimal.Bound}}
 			for _, t := range c.Top {
 				out.Top = append(out.Top, term{t.Term, t.Pauli.String(), t.Coeff, t.Cover, t.Share})
 			}
@@ -80,11 +80,11 @@ The bound holds with probability at least 1 − δ for every state, counting sho
 noise only (ideal, independent shots of one state); the plan must be fixed
 before the data.
 
-JSON keys: epsilon = epsilon_stat + bias is the certified bound; epsilon_stat
-is the shot-wise Hoeffding radius; bias bounds the terms no shot measures;
-one_norm is Σ|h_i|/sqrt(N_i), the plan's figure of merit (ShadowGrouping),
-and epsilon_relaxed = one_norm·sqrt(2 ln(2/δ)) + bias the looser bound it
-gives; hamiltonian_one_norm is Σ|h_i|; top lists the
-terms with the largest share of epsilon.
+JSON keys: certified_bound = radius + bias; radius is the shot-wise
+Hoeffding radius; bias bounds the terms no shot measures; scaled_one_norm is
+Σ|h_i|/sqrt(N_i), the plan's figure of merit (ShadowGrouping), and
+relaxed_bound = scaled_one_norm·sqrt(2 ln(2/δ)) + bias the looser bound it
+gives; one_norm is Σ|h_i| (as in info); top lists the terms with the largest
+share of the certified bound; truncation_* give the bound after dropping terms.
 `
 }

@@ -10,7 +10,7 @@ import (
 
 func convertFlags(fs *flag.FlagSet, e *env) func() error {
 	enc := fermion.JordanWigner
-	fs.TextVar(&enc, "encoding", fermion.JordanWigner, "fermion-to-qubit encoding: jw (Jordan–Wigner), bk (Bravyi–Kitaev) or parity")
+	fs.TextVar(&enc, "encoding", fermion.JordanWigner, "fermion-to-qubit encoding `jw|bk|parity`: Jordan–Wigner, Bravyi–Kitaev or parity (any case)")
 	frozen := fs.Int("frozen", 0, "number of lowest spatial orbitals frozen doubly occupied")
 	active := fs.Int("active", 0, "number of active spatial orbitals above the frozen ones (0: all the rest)")
 	out := fs.String("o", "", "output Hamiltonian file (text format; JSON if the name ends in .json; - for standard output)")

@@ -5,11 +5,11 @@
 //
 //	shotplan info     [-exact] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
-//	shotplan plan     -ham H -strategy NAME -shots N [-seed S] -o PLAN
-//	shotplan certify  -ham H -plan PLAN [-delta 0.05]
+//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] -o PLAN
+//	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N]
 //	shotplan export   -plan PLAN -o DIR
-//	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P] -o RECORDS
-//	shotplan estimate -ham H -plan PLAN -records RECORDS [-delta 0.05]
+//	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P|P01,P10] -o RECORDS
+//	shotplan estimate -ham H -plan PLAN -records RECORDS [-delta δ] [-readout P|P01,P10]
 //
 // Every subcommand takes -h for its flags and -json for machine-readable
 // output on standard output. Hamiltonian files are in the text or JSON

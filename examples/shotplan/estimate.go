@@ -17,7 +17,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	plan := fs.String("plan", "", "plan file the shots were measured by (required)")
 	records := fs.String("records", "", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the bounds; the error bar is at confidence 1 − δ too")
-	readout := fs.String("readout", "", "mitigate readout error: P or P01,P10 as in simulate (the bounds assume ideal readout)")
+	readout := fs.String("readout", "", "mitigate readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10, as in simulate (the bounds assume ideal readout)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -70,14 +70,14 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			Energy         float64    `json:"energy"`
 			StdError       float64    `json:"std_error"`
 			ApproxInterval [2]float64 `json:"approx_interval"`
-			Epsilon        float64    `json:"epsilon"`
-			DataEpsilon    float64    `json:"data_epsilon"`
+			Bound          float64    `json:"certified_bound"`
+			DataBound      float64    `json:"data_bound"`
 			Bias           float64    `json:"bias"`
 			Delta          float64    `json:"delta"`
 			Shots          int        `json:"shots"`
 			Settings       int        `json:"settings"`
 			Mitigated      bool       `json:"readout_mitigated"`
-		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Total, data.Total, res.Bias, *delta, res.Shots, rec.Groups(), ro != nil}
+		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Bound, data.Bound, res.Bias, *delta, res.Shots, rec.Groups(), ro != nil}
 		if e.json {
 			return e.writeJSON(out)
 		}
@@ -85,8 +85,8 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
 		fmt.Fprintf(tw, "energy\t%.8f\tgrouped estimator, %d shots on %s\n", res.Energy, res.Shots, plural(rec.Groups(), "setting"))
 		fmt.Fprintf(tw, "error bar\t±%.8f\tAPPROXIMATE %g%% interval (standard error %.3g, normal approximation)\n", res.ApproxInterval[1]-res.Energy, conf, res.StdErr)
-		fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Total, conf)
-		fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein), probability ≥ %g%%\n", data.Total, conf)
+		fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Bound, conf)
+		fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein), probability ≥ %g%%\n", data.Bound, conf)
 		tw.Flush()
 		if res.Bias > 0 {
 			fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
@@ -127,8 +127,8 @@ func estimateHelp() string {
 	return `
 The records must hold exactly the plan's shots (any order). The energy is the
 grouped estimate; std_error and approx_interval come from the data by the
-normal approximation and are NOT guarantees. epsilon is the plan's certified
-bound and data_epsilon an empirical Bernstein bound from these shots, each at
+normal approximation and are NOT guarantees. certified_bound is the plan's
+certified bound and data_bound an empirical Bernstein bound from these shots, each at
 confidence 1 − δ for shot noise only (readout error and drift not covered).
 `
 }

@@ -78,14 +78,14 @@ func writeHam(path string, h *hamiltonian.Hamiltonian) error {
 }
 
 // parseReadout parses -readout: empty for none, "P" for a symmetric flip
-// probability on every qubit, or "P01,P10".
+// probability on every qubit, or "P01,P10" (P01: a 0 read as 1; P10: a 1 read as 0).
 func parseReadout(s string, qubits int) ([]estimate.Readout, error) {
 	if s == "" {
 		return nil, nil
 	}
 	parts := strings.Split(s, ",")
 	if len(parts) > 2 {
-		return nil, badf("-readout %q: want P or P01,P10", s)
+		return nil, badf("-readout %q: want P (every bit flips with probability P) or P01,P10 (0 read as 1 with probability P01, 1 read as 0 with P10)", s)
 	}
 	var p [2]float64
 	for k, f := range parts {

@@ -27,7 +27,7 @@ func TestParseBytes(t *testing.T) {
 	}
 }
 
-// The estimate follows hamiltonian.EigenSettings' documented memory,
+// The estimate follows hamiltonian.EigenOptions' documented memory,
 // (KrylovDim+2)·2^n complex128 values with KrylovDim 40, lowered to 14 at
 // 24 qubits, plus the returned state of 2^n values.
 func TestExactBytes(t *testing.T) {

@@ -30,11 +30,11 @@ type command struct {
 var commands = []command{
 	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact] [-json] HAMILTONIAN", nil},
 	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
-	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H -strategy NAME -shots N [-seed S] -o PLAN", strategyHelp},
-	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta 0.05]", certifyHelp},
+	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] -o PLAN", strategyHelp},
+	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta δ] [-top N]", certifyHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
-	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] -o RECORDS", nil},
-	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05]", estimateHelp},
+	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P|P01,P10] -o RECORDS", nil},
+	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta δ] [-readout P|P01,P10]", estimateHelp},
 }
 
 // env is what a subcommand writes to.
@@ -124,12 +124,42 @@ func runCommand(c command, args []string, stdout, stderr io.Writer) int {
 	if err == nil {
 		return 0
 	}
-	fmt.Fprintf(stderr, "shotplan %s: %s\n", c.name, firstLine(err))
+	msg := firstLine(err)
+	if usageMistake(msg) {
+		msg += fmt.Sprintf(" (see shotplan %s -h)", c.name)
+	}
+	fmt.Fprintf(stderr, "shotplan %s: %s\n", c.name, msg)
 	var ie inputError
 	if errors.As(err, &ie) {
 		return 2
 	}
 	return 1
+}
+
+// usageMistake reports whether msg is about the command line itself (a
+// missing flag or argument), where the command's -h is the next step.
+func usageMistake(msg string) bool {
+	return strings.HasPrefix(msg, "flag -") || strings.HasPrefix(msg, "missing argument") || strings.HasPrefix(msg, "want one argument")
+}
+
+// libraryPrefixes are the package names that start the library's error
+// messages; the command drops them, at the start and after a file name,
+// since its own line already says where the message comes from.
+var libraryPrefixes = []string{"pauli: ", "hamiltonian: ", "fermion: ", "molecule: ", "allocate: ", "estimate: ", "guarantee: "}
+
+func dropLibraryPrefix(msg string) string {
+	for _, p := range libraryPrefixes {
+		msg = strings.ReplaceAll(msg, ": "+p, ": ")
+	}
+	for again := true; again; {
+		again = false
+		for _, p := range libraryPrefixes {
+			if strings.HasPrefix(msg, p) {
+				msg, again = msg[len(p):], true
+			}
+		}
+	}
+	return msg
 }
 
 func upperFirst(s string) string {
@@ -142,7 +172,7 @@ func upperFirst(s string) string {
 // firstLine returns the first line of an error's message, noting how many
 // more there were: the readers join one error per bad line.
 func firstLine(err error) string {
-	msg := err.Error()
+	msg := dropLibraryPrefix(err.Error())
 	i := strings.IndexByte(msg, '\n')
 	if i < 0 {
 		return msg

@@ -131,21 +131,21 @@ func TestWorkflowH2(t *testing.T) {
 
 	// certify: the library's certificate, number for number.
 	var cert struct {
-		Shots       int
-		Delta       float64
-		Epsilon     float64
-		EpsilonStat float64 `json:"epsilon_stat"`
-		Bias        float64
-		OneNorm     float64 `json:"one_norm"`
+		Shots         int
+		Delta         float64
+		Bound         float64 `json:"certified_bound"`
+		Radius        float64
+		Bias          float64
+		ScaledOneNorm float64 `json:"scaled_one_norm"`
 	}
 	m = okJSON(t, &cert, "certify", "-ham", ham, "-plan", planPath, "-delta", "0.1")
-	wantKeys(t, "certify", m, "shots", "delta", "epsilon", "epsilon_stat", "bias", "one_norm")
+	wantKeys(t, "certify", m, "shots", "delta", "certified_bound", "radius", "bias", "scaled_one_norm", "one_norm", "relaxed_bound")
 	c, err := guarantee.CertifyPlan(h, want, 0.1, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if cert.Shots != 600 || cert.Delta != 0.1 || cert.Epsilon != c.Total || cert.EpsilonStat != c.Radius || cert.Bias != c.Bias || cert.OneNorm != c.OneNorm {
-		t.Errorf("certify = %+v, want the library's shots 600, δ 0.1, ε %v, ε_stat %v, bias %v, one-norm %v", cert, c.Total, c.Radius, c.Bias, c.OneNorm)
+	if cert.Shots != 600 || cert.Delta != 0.1 || cert.Bound != c.Bound || cert.Radius != c.Radius || cert.Bias != c.Bias || cert.ScaledOneNorm != c.ScaledOneNorm {
+		t.Errorf("certify = %+v, want the library's shots 600, δ 0.1, certified bound %v, radius %v, bias %v, scaled one-norm %v", cert, c.Bound, c.Radius, c.Bias, c.ScaledOneNorm)
 	}
 
 	// export: a manifest listing the plan's distinct settings and shots.
@@ -183,21 +183,21 @@ func TestWorkflowH2(t *testing.T) {
 	var est struct {
 		Energy   float64
 		StdError float64 `json:"std_error"`
-		Epsilon  float64
+		Bound    float64 `json:"certified_bound"`
 		Delta    float64
 		Shots    int
 	}
 	m = okJSON(t, &est, "estimate", "-ham", ham, "-plan", planPath, "-records", recPath, "-delta", "0.1")
-	wantKeys(t, "estimate", m, "energy", "std_error", "epsilon", "delta", "shots")
+	wantKeys(t, "estimate", m, "energy", "std_error", "certified_bound", "data_bound", "delta", "shots")
 	res, err := estimate.Grouped(h, wantRec, &estimate.Options{Confidence: 0.9})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if est.Energy != res.Energy || est.StdError != res.StdErr || est.Epsilon != c.Total || est.Delta != 0.1 || est.Shots != 600 {
-		t.Errorf("estimate = %+v, want energy %v, std_error %v, epsilon %v, δ 0.1, 600 shots", est, res.Energy, res.StdErr, c.Total)
+	if est.Energy != res.Energy || est.StdError != res.StdErr || est.Bound != c.Bound || est.Delta != 0.1 || est.Shots != 600 {
+		t.Errorf("estimate = %+v, want energy %v, std_error %v, certified bound %v, δ 0.1, 600 shots", est, res.Energy, res.StdErr, c.Bound)
 	}
-	if d := math.Abs(est.Energy - h2FCI); d > est.Epsilon {
-		t.Errorf("estimate %v is %v from psi4's %v, beyond its certified bound %v", est.Energy, d, h2FCI, est.Epsilon)
+	if d := math.Abs(est.Energy - h2FCI); d > est.Bound {
+		t.Errorf("estimate %v is %v from psi4's %v, beyond its certified bound %v", est.Energy, d, h2FCI, est.Bound)
 	}
 
 	// Records from a device, written with the manifest's setting indices and
@@ -222,7 +222,7 @@ func TestWorkflowH2(t *testing.T) {
 
 	// The text outputs carry the same numbers.
 	out := ok(t, "estimate", "-ham", ham, "-plan", planPath, "-records", recPath, "-delta", "0.1")
-	for _, w := range []string{fmt.Sprintf("%.8f", res.Energy), "APPROXIMATE", fmt.Sprintf("%.8f", c.Total)} {
+	for _, w := range []string{fmt.Sprintf("%.8f", res.Energy), "APPROXIMATE", fmt.Sprintf("%.8f", c.Bound)} {
 		if !strings.Contains(out, w) {
 			t.Errorf("estimate output lacks %q:\n%s", w, out)
 		}
@@ -257,12 +257,12 @@ func TestWorkflowEncodingsAndJSON(t *testing.T) {
 	recPath := filepath.Join(dir, "rec.json")
 	ok(t, "simulate", "-ham", ham, "-plan", planPath, "-readout", "0.01", "-o", recPath)
 	var est struct {
-		Energy  float64
-		Epsilon float64
+		Energy float64
+		Bound  float64 `json:"certified_bound"`
 	}
 	okJSON(t, &est, "estimate", "-ham", ham, "-plan", planPath, "-records", recPath, "-readout", "0.01")
-	if d := math.Abs(est.Energy - h2FCI); d > est.Epsilon {
-		t.Errorf("mitigated estimate %v is %v from psi4's %v, beyond the bound %v", est.Energy, d, h2FCI, est.Epsilon)
+	if d := math.Abs(est.Energy - h2FCI); d > est.Bound {
+		t.Errorf("mitigated estimate %v is %v from psi4's %v, beyond the bound %v", est.Energy, d, h2FCI, est.Bound)
 	}
 }
 

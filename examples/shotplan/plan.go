@@ -39,7 +39,7 @@ func strategyHelp() string {
 
 func planFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
-	strategy := fs.String("strategy", "greedy", "allocation strategy: "+strings.Join(allocate.Names(), ", "))
+	strategy := fs.String("strategy", "greedy", "allocation `strategy`, any case: "+strings.Join(allocate.Names(), ", "))
 	shots := fs.Int("shots", 1000, "number of shots to plan")
 	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
 	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
@@ -80,7 +80,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		report, done := e.planProgress("planning " + *strategy)
-		p, err := allocate.Run(h, *shots, a, &allocate.Settings{Progress: report})
+		p, err := allocate.Run(h, *shots, a, &allocate.Options{Progress: report})
 		done()
 		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
 			return badf("%s: %w", *ham, err)

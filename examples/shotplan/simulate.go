@@ -14,7 +14,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
 	plan := fs.String("plan", "", "plan file (required)")
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
-	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P, P01,P10 sets the two directions (default none)")
+	readout := fs.String("readout", "", "readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10 (default none)")
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	return func() error {
@@ -45,7 +45,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
-		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
+		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorOptions{Readout: ro})
 		if errors.Is(err, estimate.ErrFormat) {
 			return bad(err) // the library refused an input value
 		}

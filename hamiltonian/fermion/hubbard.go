@@ -81,7 +81,7 @@ func (m Hubbard) Operator() (*Operator, error) {
 		return nil, fmt.Errorf("fermion: Hubbard lattice %d×%d: sides must be positive", m.Width, m.Height)
 	}
 	if m.Order != Interleaved && m.Order != SpinBlocks {
-		return nil, fmt.Errorf("fermion: Hubbard: undefined spin order %d", int(m.Order))
+		return nil, fmt.Errorf("fermion: undefined spin order %d", int(m.Order))
 	}
 	h := max(m.Height, 1)
 	ns := m.Sites()

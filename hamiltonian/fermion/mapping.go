@@ -54,7 +54,7 @@ func (o *Operator) QubitOperator(e Encoding) []PauliTerm {
 // encoding is an error.
 func (o *Operator) QubitHamiltonian(e Encoding) (*hamiltonian.Hamiltonian, error) {
 	if !e.valid() {
-		return nil, fmt.Errorf("fermion: QubitHamiltonian: undefined encoding %d", int(e))
+		return nil, fmt.Errorf("fermion: undefined encoding %d", int(e))
 	}
 	m := o.mapAll(e)
 	var offset float64
