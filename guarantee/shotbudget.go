@@ -24,7 +24,7 @@ type ShotBudget struct {
 	Reference, Settings int
 	// Bias is Σ|h_i| over the terms the plan never covers: no number of
 	// copies removes it. Reachable reports Bias < Epsilon; when it is false
-	// the shot counts below are zero.
+	// the shot counts below are zero and the proxy is not evaluated.
 	Bias      float64
 	Reachable bool
 
@@ -112,16 +112,19 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 			b.Bias += math.Abs(h.Coeff(i))
 		}
 	}
-	if state != nil {
-		if err := proxyVariances(c, state, b); err != nil {
-			return nil, err
-		}
-		b.Proxy = "state"
+	if state != nil && len(state) != 1<<h.Qubits() {
+		return nil, fmt.Errorf("guarantee: BudgetOf: the proxy state has %d amplitudes, want 2^%d", len(state), h.Qubits())
 	}
 	margin := eps - b.Bias
 	b.Reachable = margin > 0
 	if !b.Reachable {
 		return b, nil
+	}
+	if state != nil {
+		if err := proxyVariances(c, state, b); err != nil {
+			return nil, err
+		}
+		b.Proxy = "state"
 	}
 	l := math.Log(2 / delta)
 	// Copies: the smallest R with Bias + sqrt(2 V l / R) ≤ ε. The closed

@@ -34,6 +34,7 @@ var commands = []command{
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
 	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] -o RECORDS", nil},
 	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05]", estimateHelp},
+	{"budget", "count the shots a target accuracy needs, per strategy", budgetFlags, "-ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS]", budgetHelp},
 }
 
 // env is what a subcommand writes to.
