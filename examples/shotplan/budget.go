@@ -89,15 +89,19 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			}{*eps, *delta, proxyName, rows})
 		}
 		fmt.Fprintf(e.stdout, "shots for |error| ≤ %g with probability ≥ %g%% on %s (proxy: %s)\n", *eps, 100*(1-*delta), *ham, proxyName)
+		width := len("strategy")
+		for _, r := range rows {
+			width = max(width, len(r.Strategy))
+		}
 		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
-		fmt.Fprintln(tw, "strategy\treference\tsettings\tcopies\tcertified\tproxy\tanytime\tseconds\t")
+		fmt.Fprintf(tw, "%-*s\treference\tsettings\tcopies\tcertified\tproxy\tanytime\tseconds\t\n", width, "strategy")
 		for _, r := range rows {
 			if !r.Reachable {
-				fmt.Fprintf(tw, "%s\t%d\t%d\t-\t-\t-\t-\t%.2f\t\n", r.Strategy, r.Reference, r.Settings, r.Seconds)
+				fmt.Fprintf(tw, "%-*s\t%d\t%d\t-\t-\t-\t-\t%.2f\t\n", width, r.Strategy, r.Reference, r.Settings, r.Seconds)
 				continue
 			}
-			fmt.Fprintf(tw, "%s\t%d\t%d\t%d\t%.3g\t%.3g\t%.3g\t%.2f\t\n", r.Strategy, r.Reference, r.Settings, r.Copies,
-				float64(r.Shots), float64(r.Proxy), float64(r.Anytime), r.Seconds)
+			fmt.Fprintf(tw, "%-*s\t%d\t%d\t%d\t%d\t%d\t%d\t%.2f\t\n", width, r.Strategy, r.Reference, r.Settings, r.Copies,
+				r.Shots, r.Proxy, r.Anytime, r.Seconds)
 		}
 		tw.Flush()
 		for _, r := range rows {
