@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"crypto/sha256"
+	"encoding/base64"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
@@ -60,9 +61,11 @@ type roundEntry struct {
 	// Digest is the SHA-256 of the round's records in canonical form; a
 	// second submission of the same records is recognised by it.
 	Digest string `json:"records_sha256"`
-	// Outcomes holds the outcome of every shot in draw order, qubit 0
-	// first.
-	Outcomes []string   `json:"outcomes"`
+	// Outcomes holds the outcome of every shot in draw order, packed: each
+	// shot takes ⌈qubits/8⌉ bytes, bit q of the outcome being bit q mod 8
+	// of the shot's byte q/8 (unused high bits zero); the bytes of all
+	// shots in a row, in standard base64.
+	Outcomes string     `json:"outcomes"`
 	Interval [2]float64 `json:"interval"`
 }
 
@@ -229,8 +232,15 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 		if r.spent() || r.certified() {
 			return nil, stateError(path, entry, "a round after the run stopped")
 		}
-		if want := r.roundSize(e.Round, r.used); e.Shots != want || len(e.Outcomes) != want {
-			return nil, stateError(path, entry, "%d shots and %d outcomes, round %d has %d", e.Shots, len(e.Outcomes), e.Round, want)
+		if want := r.roundSize(e.Round, r.used); e.Shots != want {
+			return nil, stateError(path, entry, "%d shots, round %d has %d", e.Shots, e.Round, want)
+		}
+		packed, err := base64.StdEncoding.DecodeString(e.Outcomes)
+		if err != nil {
+			return nil, stateError(path, entry+".outcomes", "not base64: %v", err)
+		}
+		if len(packed) != e.Shots*bytesPerShot(n) {
+			return nil, stateError(path, entry+".outcomes", "%d bytes, %d shots of %d qubits take %d", len(packed), e.Shots, n, e.Shots*bytesPerShot(n))
 		}
 		if len(e.Digest) != 64 {
 			return nil, stateError(path, entry+".records_sha256", "%q is not a SHA-256 in hex", e.Digest)
@@ -241,16 +251,16 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 		seen[e.Digest] = e.Round
 		draws := r.draws(e.Round, e.Shots)
 		rec := estimate.NewRecords(n)
-		for i, text := range e.Outcomes {
-			b, err := pauli.ParseBits(text)
-			if err != nil || len(text) != n {
-				return nil, stateError(path, fmt.Sprintf("%s.outcomes[%d]", entry, i), "%q is not an outcome of %d bits", text, n)
+		b := pauli.NewBits(n)
+		for i := range e.Shots {
+			if !unpackShot(b, packed, i, n) {
+				return nil, stateError(path, entry+".outcomes", "shot %d has bits set beyond qubit %d", i, n-1)
 			}
 			if err := r.feed(draws[i], b); err != nil {
-				return nil, stateError(path, fmt.Sprintf("%s.outcomes[%d]", entry, i), "%v", err)
+				return nil, stateError(path, entry+".outcomes", "shot %d: %v", i, err)
 			}
 			if err := rec.Add(r.d.Settings[draws[i]], b); err != nil {
-				return nil, stateError(path, fmt.Sprintf("%s.outcomes[%d]", entry, i), "%v", err)
+				return nil, stateError(path, entry+".outcomes", "shot %d: %v", i, err)
 			}
 		}
 		if recordsDigest(rec) != e.Digest {
@@ -363,6 +373,37 @@ func (r *roundsRun) nextPlan(k int, draws []int) *allocate.Plan {
 		}
 	}
 	return p
+}
+
+// bytesPerShot is the packed size of one outcome of n qubits.
+func bytesPerShot(n int) int { return (n + 7) / 8 }
+
+// packShot writes outcome b of n qubits as shot j of packed.
+func packShot(packed []byte, j int, b pauli.Bits, n int) {
+	w := bytesPerShot(n)
+	for q := range n {
+		packed[j*w+q/8] |= byte(b.Get(q)) << (q % 8)
+	}
+}
+
+// unpackShot reads shot j of packed into b; it reports false if a bit
+// beyond qubit n−1 is set.
+func unpackShot(b pauli.Bits, packed []byte, j, n int) bool {
+	w := bytesPerShot(n)
+	clear(b)
+	for k, c := range packed[j*w : (j+1)*w] {
+		for i := range 8 {
+			if c>>i&1 == 0 {
+				continue
+			}
+			q := 8*k + i
+			if q >= n {
+				return false
+			}
+			b.Set(q, 1)
+		}
+	}
+	return true
 }
 
 // recordsDigest is the SHA-256 of records in a canonical form: settings in
@@ -590,15 +631,17 @@ func roundsAddFlags(fs *flag.FlagSet, e *env) func() error {
 			g, _ := rec.Group(r.d.Settings[q])
 			group[q] = g
 		}
-		entry := roundEntry{Round: k, Shots: n, Digest: digest, Outcomes: make([]string, n)}
+		entry := roundEntry{Round: k, Shots: n, Digest: digest}
+		packed := make([]byte, n*bytesPerShot(r.h.Qubits()))
 		for j, q := range draws {
 			b := rec.Outcome(group[q], next[q])
 			next[q]++
-			entry.Outcomes[j] = b.Format(r.h.Qubits())
+			packShot(packed, j, b, r.h.Qubits())
 			if err := r.feed(q, b); err != nil {
 				return err
 			}
 		}
+		entry.Outcomes = base64.StdEncoding.EncodeToString(packed)
 		r.used += n
 		r.done++
 		r.update()

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"encoding/base64"
 	"encoding/json"
 	"fmt"
 	"os"
@@ -167,12 +168,17 @@ func TestRoundsStateDamaged(t *testing.T) {
 		{"format", edit(func(c map[string]any) { c["format"] = "other" }), "format"},
 		{"unknown key", edit(func(c map[string]any) { c["extra"] = 1 }), "extra"},
 		{"outcome flipped", edit(func(c map[string]any) {
-			o := round(c)["outcomes"].([]any)
-			s := []byte(o[0].(string))
-			s[0] ^= 1
-			o[0] = string(s)
+			o, _ := base64.StdEncoding.DecodeString(round(c)["outcomes"].(string))
+			o[0] ^= 1
+			round(c)["outcomes"] = base64.StdEncoding.EncodeToString(o)
 		}), "rounds[0].records_sha256"},
-		{"outcome short", edit(func(c map[string]any) { round(c)["outcomes"].([]any)[3] = "01" }), "rounds[0].outcomes[3]"},
+		{"outcome bit beyond the qubits", edit(func(c map[string]any) {
+			o, _ := base64.StdEncoding.DecodeString(round(c)["outcomes"].(string))
+			o[3] |= 0x80
+			round(c)["outcomes"] = base64.StdEncoding.EncodeToString(o)
+		}), "rounds[0].outcomes: shot 3"},
+		{"outcomes short", edit(func(c map[string]any) { round(c)["outcomes"] = "AAAA" }), "rounds[0].outcomes: 3 bytes"},
+		{"outcomes not base64", edit(func(c map[string]any) { round(c)["outcomes"] = "%%" }), "rounds[0].outcomes: not base64"},
 		{"round number", edit(func(c map[string]any) { round(c)["round"] = 2 }), "rounds[0]"},
 		{"weights", edit(func(c map[string]any) { c["weights"].([]any)[0] = 0 }), "weights[0]"},
 		{"setting", edit(func(c map[string]any) { c["settings"].([]any)[0] = "XQ" }), "settings[0]"},
@@ -193,7 +199,7 @@ func TestRoundsStateDamaged(t *testing.T) {
 func FuzzRoundsState(f *testing.F) {
 	f.Add([]byte(`{"format":"shotplan rounds","version":1}`))
 	f.Add([]byte(`{"format":"shotplan rounds","version":1,"hamiltonian":{"qubits":1,"terms":[{"pauli":"Z","coeff":1}]},"strategy":"greedy","seed":1,"epsilon":0.1,"delta":0.05,"first_round":2,"growth":1,"max_shots":10,"settings":["Z"],"weights":[1],"rounds":[]}`))
-	f.Add([]byte("{\"rounds\":[{\"outcomes\":[\"0\"]}]}"))
+	f.Add([]byte("{\"rounds\":[{\"outcomes\":\"AA==\"}]}"))
 	f.Add([]byte("[]"))
 	// A real state of one round of H2.
 	dir := f.TempDir()
