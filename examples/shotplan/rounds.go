@@ -79,6 +79,9 @@ type roundsRun struct {
 	lo   float64           // that value
 	used int               // shots added so far
 	done int               // rounds replayed or added
+	// sorted lists the support's settings in order of their text, for
+	// the digests; made on first use.
+	sorted []int
 	// interval and radius after the last round (bias included).
 	interval [2]float64
 	radius   float64
@@ -250,7 +253,6 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 		}
 		seen[e.Digest] = e.Round
 		draws := r.draws(e.Round, e.Shots)
-		rec := estimate.NewRecords(n)
 		b := pauli.NewBits(n)
 		for i := range e.Shots {
 			if !unpackShot(b, packed, i, n) {
@@ -259,11 +261,8 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 			if err := r.feed(draws[i], b); err != nil {
 				return nil, stateError(path, entry+".outcomes", "shot %d: %v", i, err)
 			}
-			if err := rec.Add(r.d.Settings[draws[i]], b); err != nil {
-				return nil, stateError(path, entry+".outcomes", "shot %d: %v", i, err)
-			}
 		}
-		if recordsDigest(rec) != e.Digest {
+		if r.outcomesDigest(draws, packed) != e.Digest {
 			return nil, stateError(path, entry+".records_sha256", "does not match the round's outcomes (the file was changed)")
 		}
 		r.used += e.Shots
@@ -406,9 +405,15 @@ func unpackShot(b pauli.Bits, packed []byte, j, n int) bool {
 	return true
 }
 
-// recordsDigest is the SHA-256 of records in a canonical form: settings in
-// sorted order, each with its outcomes in order.
+// The digest of a round's records is the SHA-256 of a canonical form: the
+// settings in sorted order of their text, each as its text and a newline
+// followed by its outcomes in order, packed as in roundEntry.Outcomes. It
+// does not depend on the order of the shots between settings, nor on how
+// the records were split into files.
+
+// recordsDigest is the digest of records read from files.
 func recordsDigest(rec *estimate.Records) string {
+	n := rec.Qubits()
 	type group struct {
 		key string
 		g   int
@@ -419,10 +424,53 @@ func recordsDigest(rec *estimate.Records) string {
 	}
 	slices.SortFunc(gs, func(a, b group) int { return strings.Compare(a.key, b.key) })
 	sum := sha256.New()
+	buf := make([]byte, bytesPerShot(n))
 	for _, g := range gs {
-		fmt.Fprintf(sum, "%s\n", g.key)
+		io.WriteString(sum, g.key+"\n")
 		for j := range rec.GroupLen(g.g) {
-			fmt.Fprintf(sum, "%s\n", rec.Outcome(g.g, j).Format(rec.Qubits()))
+			clear(buf)
+			packShot(buf, 0, rec.Outcome(g.g, j), n)
+			sum.Write(buf)
+		}
+	}
+	return hex.EncodeToString(sum.Sum(nil))
+}
+
+// outcomesDigest is the digest of a round as stored: draws[i] is the
+// setting of shot i and packed its outcomes.
+func (r *roundsRun) outcomesDigest(draws []int, packed []byte) string {
+	w := bytesPerShot(r.h.Qubits())
+	// Shots by setting, in draw order (a counting sort).
+	start := make([]int, len(r.d.Settings)+1)
+	for _, q := range draws {
+		start[q+1]++
+	}
+	for q := range r.d.Settings {
+		start[q+1] += start[q]
+	}
+	order := make([]int32, len(draws))
+	fill := slices.Clone(start[:len(r.d.Settings)])
+	for i, q := range draws {
+		order[fill[q]] = int32(i)
+		fill[q]++
+	}
+	if r.sorted == nil {
+		r.sorted = make([]int, len(r.d.Settings))
+		for q := range r.sorted {
+			r.sorted[q] = q
+		}
+		slices.SortFunc(r.sorted, func(a, b int) int {
+			return strings.Compare(r.d.Settings[a].String(), r.d.Settings[b].String())
+		})
+	}
+	sum := sha256.New()
+	for _, q := range r.sorted {
+		if start[q] == start[q+1] {
+			continue
+		}
+		io.WriteString(sum, r.d.Settings[q].String()+"\n")
+		for _, i := range order[start[q]:start[q+1]] {
+			sum.Write(packed[int(i)*w : int(i+1)*w])
 		}
 	}
 	return hex.EncodeToString(sum.Sum(nil))
