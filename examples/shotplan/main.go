@@ -107,7 +107,7 @@ func commandNames() string {
 func mainUsage(w io.Writer) {
 	fmt.Fprintln(w, "usage: shotplan COMMAND [flags]\n\nThe file-based workflow of shotplan, one step per command:")
 	for _, c := range commands {
-		fmt.Fprintf(w, "  %-13s %s\n", c.name, c.summary)
+		fmt.Fprintf(w, "  %-14s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintln(w, "\nRun shotplan COMMAND -h for the flags of a command. Every command takes -json.")
 }
