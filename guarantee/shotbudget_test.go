@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/internal/refdata"
@@ -167,4 +168,57 @@ func TestBudgetOfUnreachable(t *testing.T) {
 	if _, err := BudgetOf(h, p, 0.1, 0.05, make([]complex128, 3)); err == nil {
 		t.Error("state of 3 amplitudes: no error")
 	}
+}
+
+// ProxyShots means what it says: with the exact ground state as the proxy,
+// the grouped estimate of ProxyCopies copies errs by at most ε in about
+// 1 − δ of simulated runs (the normal approximation; shot noise of 2·10³ or
+// more shots). 400 runs at nominal 95%: the count within ε is binomial with
+// standard deviation 4.4, and the check fails below 360 (90%), more than 4
+// deviations away — false-failure rate below 1e-4 if the nominal rate holds.
+func TestBudgetOfProxyCoverage(t *testing.T) {
+	if testing.Short() {
+		t.Skip("400 simulated runs")
+	}
+	h := h2JW(t)
+	ev, err := hamiltonian.GroundState(h, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := allocate.Run(h, 100, &allocate.Greedy{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const eps, delta = 0.01, 0.05
+	b, err := BudgetOf(h, p, eps, delta, ev.State)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if b.ProxyShots < 2000 {
+		t.Fatalf("proxy shots %d: want a target needing at least 2000", b.ProxyShots)
+	}
+	q := copiesOf(p, b.ProxyCopies)
+	within := 0
+	const runs = 400
+	for seed := range uint64(runs) {
+		sim, err := estimate.NewSimulator(ev.State, seed, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec := estimate.NewRecords(h.Qubits())
+		if err := sim.Run(q.Settings, q.Shots, rec); err != nil {
+			t.Fatal(err)
+		}
+		res, err := estimate.Grouped(h, rec, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(res.Energy-ev.Energy) <= eps {
+			within++
+		}
+	}
+	if within < 360 {
+		t.Errorf("%d of %d runs within ε at %d shots; want about %d", within, runs, b.ProxyShots, int((1-delta)*runs))
+	}
+	t.Logf("%d of %d runs within ε = %g at %d proxy shots (certified: %d)", within, runs, eps, b.ProxyShots, b.Shots)
 }
