@@ -47,7 +47,7 @@ func TestRoundsKilledAdd(t *testing.T) {
 		cmd.Process.Signal(syscall.SIGKILL)
 		cmd.Wait()
 
-		r, err := readRoundsState(state)
+		r, err := readRoundsState(state, true)
 		if err != nil {
 			t.Fatalf("kill after %v: the state is unreadable: %v", delay, err)
 		}
@@ -62,7 +62,7 @@ func TestRoundsKilledAdd(t *testing.T) {
 		case before == 1 && (code != 2 || !strings.Contains(errOut, "already added as round 1")):
 			t.Fatalf("kill after %v after the round was saved: adding again gave %d %q", delay, code, errOut)
 		}
-		r, err = readRoundsState(state)
+		r, err = readRoundsState(state, true)
 		if err != nil || r.done != 1 || r.used != 30000 {
 			t.Fatalf("kill after %v: resumed state has %v rounds, %v shots (%v)", delay, r.done, r.used, err)
 		}

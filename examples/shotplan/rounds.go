@@ -106,11 +106,11 @@ func (r *roundsRun) roundSize(k, used int) int {
 // draws returns the setting index of every shot of round k, drawn from the
 // distribution with a generator seeded by the run's seed and k alone, so
 // that the plan of a round is the same whenever it is asked for.
-func (r *roundsRun) draws(k, n int) []int {
+func (r *roundsRun) draws(k, n int) []int32 {
 	rng := rand.New(rand.NewPCG(r.st.Seed, 0x726f756e64<<16|uint64(k)))
-	out := make([]int, n)
+	out := make([]int32, n)
 	for j := range out {
-		out[j] = r.d.Draw(rng)
+		out[j] = int32(r.d.Draw(rng))
 	}
 	return out
 }
@@ -143,8 +143,10 @@ func stateError(path, entry, format string, args ...any) error {
 	return badf("%s: %s", path, msg)
 }
 
-// readRoundsState reads and replays a state file.
-func readRoundsState(path string) (*roundsRun, error) {
+// readRoundsState reads a state file and checks it; with replay it also
+// feeds every outcome to the confidence sequence again and checks the
+// recorded intervals (see parseRoundsState).
+func readRoundsState(path string, replay bool) (*roundsRun, error) {
 	if err := need("state", path); err != nil {
 		return nil, err
 	}
@@ -160,11 +162,17 @@ func readRoundsState(path string) (*roundsRun, error) {
 	if err != nil {
 		return nil, badf("%s: %w", path, err)
 	}
-	return parseRoundsState(path, data)
+	return parseRoundsState(path, data, replay)
 }
 
-// parseRoundsState checks a state file's content and replays its rounds.
-func parseRoundsState(path string, data []byte) (*roundsRun, error) {
+// parseRoundsState checks a state file's content: its fields, every
+// round's size, outcomes and digest. With replay it feeds the outcomes to
+// the confidence sequence again, which adding a round needs, and checks each
+// recorded interval against the replayed one. Without replay, cheaper (the
+// sequence costs most of a replay), it takes the recorded intervals as they
+// are: enough to write the next round's plan, which depends only on the
+// seed, the round's number and whether the run has stopped.
+func parseRoundsState(path string, data []byte, replay bool) (*roundsRun, error) {
 	if len(data) > maxStateBytes {
 		return nil, stateError(path, "", "larger than %d bytes", maxStateBytes)
 	}
@@ -258,7 +266,10 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 			if !unpackShot(b, packed, i, n) {
 				return nil, stateError(path, entry+".outcomes", "shot %d has bits set beyond qubit %d", i, n-1)
 			}
-			if err := r.feed(draws[i], b); err != nil {
+			if !replay {
+				continue
+			}
+			if err := r.feed(int(draws[i]), b); err != nil {
 				return nil, stateError(path, entry+".outcomes", "shot %d: %v", i, err)
 			}
 		}
@@ -267,6 +278,13 @@ func parseRoundsState(path string, data []byte) (*roundsRun, error) {
 		}
 		r.used += e.Shots
 		r.done++
+		if !replay {
+			if iv := e.Interval; !(iv[0] <= iv[1]) || math.IsInf(iv[0], 0) || math.IsInf(iv[1], 0) {
+				return nil, stateError(path, entry+".interval", "[%g, %g] is not an interval", iv[0], iv[1])
+			}
+			r.interval, r.radius = e.Interval, (e.Interval[1]-e.Interval[0])/2
+			continue
+		}
 		r.update()
 		if !sameInterval(r.interval, e.Interval) {
 			return nil, stateError(path, entry+".interval", "[%.10g, %.10g], its outcomes give [%.10g, %.10g]", e.Interval[0], e.Interval[1], r.interval[0], r.interval[1])
@@ -349,12 +367,12 @@ func (st *roundsState) write(path string) error {
 
 // nextPlan returns round k's plan: the distinct drawn settings with their
 // counts, in order of first draw.
-func (r *roundsRun) nextPlan(k int, draws []int) *allocate.Plan {
+func (r *roundsRun) nextPlan(k int, draws []int32) *allocate.Plan {
 	count := make([]int, len(r.d.Settings))
 	var order []int
 	for _, q := range draws {
 		if count[q] == 0 {
-			order = append(order, q)
+			order = append(order, int(q))
 		}
 		count[q]++
 	}
@@ -438,7 +456,7 @@ func recordsDigest(rec *estimate.Records) string {
 
 // outcomesDigest is the digest of a round as stored: draws[i] is the
 // setting of shot i and packed its outcomes.
-func (r *roundsRun) outcomesDigest(draws []int, packed []byte) string {
+func (r *roundsRun) outcomesDigest(draws []int32, packed []byte) string {
 	w := bytesPerShot(r.h.Qubits())
 	// Shots by setting, in draw order (a counting sort).
 	start := make([]int, len(r.d.Settings)+1)
@@ -560,7 +578,7 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		r, err := parseRoundsState(*out, raw)
+		r, err := parseRoundsState(*out, raw, true)
 		if err != nil {
 			return err
 		}
@@ -599,7 +617,7 @@ func roundsNextFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := notInput(*out, *state); err != nil {
 			return err
 		}
-		r, err := readRoundsState(*state)
+		r, err := readRoundsState(*state, false)
 		if err != nil {
 			return err
 		}
@@ -646,7 +664,7 @@ func roundsAddFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
 		}
-		r, err := readRoundsState(*state)
+		r, err := readRoundsState(*state, true)
 		if err != nil {
 			return err
 		}
@@ -685,7 +703,7 @@ func roundsAddFlags(fs *flag.FlagSet, e *env) func() error {
 			b := rec.Outcome(group[q], next[q])
 			next[q]++
 			packShot(packed, j, b, r.h.Qubits())
-			if err := r.feed(q, b); err != nil {
+			if err := r.feed(int(q), b); err != nil {
 				return err
 			}
 		}
@@ -708,7 +726,7 @@ func roundsStatusFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
 		}
-		r, err := readRoundsState(*state)
+		r, err := readRoundsState(*state, true)
 		if err != nil {
 			return err
 		}

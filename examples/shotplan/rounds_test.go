@@ -222,18 +222,26 @@ func FuzzRoundsState(f *testing.F) {
 	}
 	f.Add(good)
 	f.Fuzz(func(t *testing.T, data []byte) {
-		r, err := parseRoundsState("fuzz.json", data)
-		if err != nil {
-			if !strings.HasPrefix(err.Error(), "fuzz.json: ") {
-				t.Fatalf("error %q does not name the file", err)
+		// The light read (no replay) accepts whatever the full read
+		// accepts, with the same rounds.
+		light, lightErr := parseRoundsState("fuzz.json", data, false)
+		r, err := parseRoundsState("fuzz.json", data, true)
+		if err == nil && (lightErr != nil || light.done != r.done || light.used != r.used) {
+			t.Fatalf("the full read accepts, the light read gives %v", lightErr)
+		}
+		for _, e := range []error{err, lightErr} {
+			if e != nil && !strings.HasPrefix(e.Error(), "fuzz.json: ") {
+				t.Fatalf("error %q does not name the file", e)
 			}
+		}
+		if err != nil {
 			return
 		}
 		b, err := json.Marshal(r.st)
 		if err != nil {
 			t.Fatal(err)
 		}
-		r2, err := parseRoundsState("again.json", b)
+		r2, err := parseRoundsState("again.json", b, true)
 		if err != nil {
 			t.Fatalf("written back, the state is refused: %v", err)
 		}
