@@ -25,8 +25,9 @@
 // outcomes with a SHA-256 of its records. It is replaced atomically after
 // each round; the plan of a round is drawn from the run's seed and the
 // round's number, so asking again after a crash gives the same plan; adding
-// the same records twice is refused; and every read replays the rounds and
-// checks the recorded intervals and digests.
+// the same records twice is refused; every read checks the digests, and
+// rounds add and rounds status replay the rounds and check the recorded
+// intervals.
 //
 // -records may be repeated (or hold names separated by commas) to combine
 // files, and "-" reads standard input. A flag that takes one value refuses a

@@ -34,8 +34,8 @@ const (
 
 // roundsState is the state file of a round-by-round run. It holds all the
 // run needs (the Hamiltonian too), so that every step reads only it. The
-// interval is never stored alone: it is recomputed from the outcomes on
-// every read and checked against the one recorded with each round.
+// interval is never trusted alone: rounds add and rounds status recompute it
+// from the outcomes and check it against the one recorded with each round.
 type roundsState struct {
 	Format      string          `json:"format"`
 	Version     int             `json:"version"`
