@@ -87,7 +87,15 @@ func TestBudgetOfProxyExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, name := range []string{"greedy", "sorted", "sorted-gc"} {
+	// A basis state too: the Hartree–Fock determinant of H2 in this
+	// ordering (qubits 0 and 1 occupied), index 0b0011.
+	basis := make([]complex128, 16)
+	basis[3] = 1
+	for _, c := range []struct {
+		name  string
+		state []complex128
+	}{{"greedy", ev.State}, {"sorted", ev.State}, {"sorted-gc", ev.State}, {"sorted", basis}, {"sorted-gc", basis}} {
+		name, state := c.name, c.state
 		a, err := allocate.ByName(name, 1)
 		if err != nil {
 			t.Fatal(err)
@@ -96,7 +104,7 @@ func TestBudgetOfProxyExact(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		b, err := BudgetOf(h, p, 0.01, 0.05, ev.State)
+		b, err := BudgetOf(h, p, 0.01, 0.05, state)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -109,11 +117,11 @@ func TestBudgetOfProxyExact(t *testing.T) {
 				}
 			}
 		}
-		mean := func(i int) float64 { return hamiltonian.Expectation(ev.State, h.Pauli(i)) }
+		mean := func(i int) float64 { return hamiltonian.Expectation(state, h.Pauli(i)) }
 		prod := func(i, j int) float64 {
 			// Co-measured terms commute, so P_i P_j is ± a Pauli string.
 			q, ph := pauli.Mul(h.Pauli(i), h.Pauli(j))
-			return [4]float64{1, 0, -1, 0}[ph&3] * hamiltonian.Expectation(ev.State, q)
+			return [4]float64{1, 0, -1, 0}[ph&3] * hamiltonian.Expectation(state, q)
 		}
 		want := 0.0
 		for k, s := range settings {
