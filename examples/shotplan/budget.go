@@ -202,5 +202,9 @@ re-planning. Columns:
              the price of holding at every round comes on top
 With -proxy worst the expected figures use the largest variance over all
 states and are close to the certified one.
+
+JSON keys, per strategy: reference_shots, settings, bias (of terms the
+reference plan never measures), reachable (bias < ε), copies,
+certified_shots, proxy_shots, anytime_shots, seconds, note.
 `
 }
