@@ -664,6 +664,14 @@ func roundsAddFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
 		}
+		if err := need("state", *state); err != nil {
+			return err
+		}
+		unlock, err := lockDir(*state)
+		if err != nil {
+			return bad(err)
+		}
+		defer unlock()
 		r, err := readRoundsState(*state, true)
 		if err != nil {
 			return err

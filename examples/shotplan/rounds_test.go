@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
 )
 
@@ -249,4 +250,42 @@ func FuzzRoundsState(f *testing.F) {
 			t.Fatalf("written back: %d rounds %v, was %d %v", r2.done, r2.interval, r.done, r.interval)
 		}
 	})
+}
+
+// Two rounds add at once, with different records of the same round (two
+// simulations of round 1's plan): exactly one is added, the other is
+// refused, and the state holds the one that was added — no round is lost
+// by both reading the old state.
+func TestRoundsConcurrentAdd(t *testing.T) {
+	dir := t.TempDir()
+	ham := h2Ham(t, dir)
+	for trial := range 5 {
+		state := filepath.Join(dir, fmt.Sprintf("state%d.json", trial))
+		plan := filepath.Join(dir, "p.json")
+		ok(t, "rounds", "start", "-ham", ham, "-eps", "0.001", "-first", "5000", "-o", state)
+		ok(t, "rounds", "next", "-state", state, "-o", plan)
+		var recs [2]string
+		for k := range recs {
+			recs[k] = filepath.Join(dir, fmt.Sprintf("r%d.csv", k))
+			ok(t, "simulate", "-ham", ham, "-plan", plan, "-seed", fmt.Sprint(10*trial+k), "-o", recs[k])
+		}
+		var codes [2]int
+		var wg sync.WaitGroup
+		for k := range recs {
+			wg.Add(1)
+			go func() {
+				defer wg.Done()
+				var o, e bytes.Buffer
+				codes[k] = run([]string{"rounds", "add", "-state", state, "-records", recs[k]}, &o, &e)
+			}()
+		}
+		wg.Wait()
+		if codes[0]+codes[1] != 2 || codes[0]*codes[1] != 0 {
+			t.Fatalf("trial %d: exit statuses %v, want one 0 and one 2", trial, codes)
+		}
+		r, err := readRoundsState(state, true)
+		if err != nil || r.done != 1 {
+			t.Fatalf("trial %d: %v rounds (%v)", trial, r, err)
+		}
+	}
 }
