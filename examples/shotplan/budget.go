@@ -1,6 +1,7 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 	"math"
@@ -74,7 +75,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			if name == "fixed" {
 				continue
 			}
-			row, err := budgetFor(h, name, *seed, *reference, *eps, *delta, state)
+			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state)
 			if err != nil {
 				return err
 			}
@@ -114,7 +115,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 }
 
 // budgetFor plans the reference plan of one strategy and counts its copies.
-func budgetFor(h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128) (budgetRow, error) {
+func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128) (budgetRow, error) {
 	start := time.Now()
 	row := budgetRow{Strategy: name}
 	a, err := allocate.ByName(name, seed)
@@ -135,7 +136,7 @@ func budgetFor(h *hamiltonian.Hamiltonian, name string, seed uint64, reference i
 	var p *allocate.Plan
 	for {
 		if p, err = allocate.Run(h, n, a, nil); err != nil {
-			return row, fmt.Errorf("%s: %w", name, err)
+			return row, runError(ham, err)
 		}
 		if fixed || !slices.Contains(p.Cover, 0) || n >= 1<<18 {
 			break
@@ -155,6 +156,15 @@ func budgetFor(h *hamiltonian.Hamiltonian, name string, seed uint64, reference i
 	}
 	row.Seconds = time.Since(start).Seconds()
 	return row, nil
+}
+
+// runError marks the driver's refusals of the Hamiltonian itself as input
+// errors.
+func runError(ham string, err error) error {
+	if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
+		return badf("%s: %w", ham, err)
+	}
+	return err
 }
 
 // proxyState returns the state of -proxy: nil for the worst case.

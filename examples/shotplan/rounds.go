@@ -551,7 +551,7 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 		var p *allocate.Plan
 		for {
 			if p, err = allocate.Run(h, n, a, nil); err != nil {
-				return fmt.Errorf("%s: %w", *strategy, err)
+				return runError(*ham, err)
 			}
 			if fixed || !slices.Contains(p.Cover, 0) || n >= 1<<18 {
 				break
