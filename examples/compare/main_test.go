@@ -92,6 +92,8 @@ func TestCompareBadInput(t *testing.T) {
 		{"bad sweep", []string{"-sweep", "100,x"}, `"x"`},
 		{"unknown flag", []string{"-bogus"}, "-bogus"},
 		{"bad flag value", []string{"-reps", "x"}, "-reps"},
+		{"flag given twice", []string{"-reps", "2", "-reps", "3"}, "more than once"},
+		{"bool flag given twice", []string{"-json", "-json"}, "more than once"},
 		{"plot directory missing", []string{"-plot", filepath.Join(dir, "nodir", "x.png"), "-reps", "1", "-sweep", "10", "-shots", "10"}, "nodir"},
 		{"nothing to measure", []string{"-ham", offsetOnly, "-plot", ""}, "no non-identity terms"},
 	}
