@@ -72,7 +72,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 	fs.BoolVar(&c.json, "json", false, "print the table as JSON on standard output instead of text")
 	fs.StringVar(&strategies, "strategies", strings.Join(allocate.Names(), ","), "comma-separated strategies to compare")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nCompares the allocation strategies on one Hamiltonian: certified bound, simulated RMSE, plot.")
+		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nCompares the allocation strategies on one Hamiltonian: certified bound and simulated RMSE as a table (-json, -csv FILE), and a plot with -plot FILE.")
 		fs.PrintDefaults()
 	}
 	// A flag given twice is an error, not last-wins; the wrappers go again
