@@ -71,6 +71,10 @@ type Budget struct {
 //
 // Adaptive strategies (those implementing [allocate.Observer]) are refused:
 // an a-priori certificate needs a plan fixed before the data (MATH.md §4).
+//
+// Every candidate budget costs a pass over the plan, so the search is slow
+// on molecules at chemical accuracy; [BudgetOf] answers in copies of one
+// plan in a single coverage scan.
 func PlanBudget(h *hamiltonian.Hamiltonian, a allocate.Allocator, eps, delta float64, s *BudgetOptions) (*Budget, error) {
 	switch {
 	case h == nil || a == nil || s == nil:

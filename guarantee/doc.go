@@ -2,8 +2,10 @@
 // any shot, from a plan's settings and shot counts alone (a [Certificate]),
 // and after the shots, from the data ([Empirical], [RandomizedBound], and
 // [Sequential], which stops as soon as a target accuracy is certified). It
-// also plans budgets for a target accuracy ([PlanBudget],
-// [ImportanceShots]) and advises which terms to drop ([Truncation]).
+// also plans budgets for a target accuracy ([BudgetOf], in copies of one
+// plan and in one coverage scan; [PlanBudget], the exact smallest prefix of
+// a plan, much slower; [ImportanceShots]) and advises which terms to drop
+// ([Truncation]).
 //
 // # What a guarantee covers
 //

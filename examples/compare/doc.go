@@ -8,12 +8,14 @@
 //     on the exact ground state, over -reps repetitions (random strategies
 //     draw a fresh plan each time),
 //
-// as an aligned table, and writes a plot of the certified bound against the
-// number of shots, one line per strategy on log–log axes, to the PNG or SVG
-// file named by -plot.
+// as an aligned table (-json prints it as JSON instead; -csv FILE also
+// writes it as CSV, with the bound at every -sweep budget). Only when asked
+// with -plot FILE does it write a plot of the certified bound against the
+// number of shots, one line per strategy on log–log axes, each strategy in
+// its own colour and marker, to a PNG or SVG file.
 //
 //	go run ./examples/compare -reps 20 -plot bounds.svg
-//	go run ./examples/compare -ham h2.txt -shots 500 -sweep 100,1000,10000
+//	go run ./examples/compare -ham h2.txt -shots 500 -sweep 100,1000,10000 -json
 //
 // Every strategy's shots are estimated with the grouped estimator, which
 // fits every plan and is the estimator the certificate is about. The

@@ -1,9 +1,12 @@
 package main
 
 import (
+	"encoding/csv"
+	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
+	"image/color"
 	"io"
 	"math"
 	"os"
@@ -46,6 +49,8 @@ type config struct {
 	delta      float64
 	seed       uint64
 	plotPath   string
+	csvPath    string
+	json       bool
 	strategies []string
 	skipped    []string  // adaptive strategies: no a-priori certificate
 	progress   io.Writer // nil: no progress bar
@@ -62,13 +67,27 @@ func run(args []string, stdout, stderr io.Writer) int {
 	fs.IntVar(&c.reps, "reps", 20, "simulated repetitions per strategy for the RMSE")
 	fs.Float64Var(&c.delta, "delta", 0.05, "failure probability δ of the certified bound")
 	fs.Uint64Var(&c.seed, "seed", 1, "seed of the simulations and random strategies")
-	fs.StringVar(&c.plotPath, "plot", "compare.png", "plot file, .png or .svg; empty for no plot")
+	fs.StringVar(&c.plotPath, "plot", "", "write a plot of the certified bound against the -sweep budgets to this .png or .svg file (default: no plot)")
+	fs.StringVar(&c.csvPath, "csv", "", "also write the table, with the bound at every -sweep budget, to this CSV file")
+	fs.BoolVar(&c.json, "json", false, "print the table as JSON on standard output instead of text")
 	fs.StringVar(&strategies, "strategies", strings.Join(allocate.Names(), ","), "comma-separated strategies to compare")
 	fs.Usage = func() {
-		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nCompares the allocation strategies on one Hamiltonian: certified bound, simulated RMSE, plot.")
+		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nCompares the allocation strategies on one Hamiltonian: certified bound and simulated RMSE as a table (-json, -csv FILE), and a plot with -plot FILE.")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
+	// A flag given twice is an error, not last-wins; the wrappers go again
+	// before -h describes the flags.
+	var wrapped []*flag.Flag
+	var values []flag.Value
+	fs.VisitAll(func(f *flag.Flag) {
+		wrapped, values = append(wrapped, f), append(values, f.Value)
+		f.Value = &onceFlag{v: f.Value}
+	})
+	err := fs.Parse(args)
+	for k, f := range wrapped {
+		f.Value = values[k]
+	}
+	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			fs.SetOutput(stdout)
 			fs.Usage()
@@ -144,14 +163,56 @@ func (c *config) check(fs *flag.FlagSet, sweep, strategies string) error {
 	case ext != ".png" && ext != ".svg":
 		return fmt.Errorf("-plot %s: the file name must end in .png or .svg", c.plotPath)
 	default:
-		// Fail before the run, not after it, if the plot cannot be written.
-		if fi, err := os.Stat(filepath.Dir(c.plotPath)); err != nil {
-			return fmt.Errorf("-plot %s: %w", c.plotPath, err)
-		} else if !fi.IsDir() {
-			return fmt.Errorf("-plot %s: %s is not a directory", c.plotPath, filepath.Dir(c.plotPath))
+		if err := writable("-plot", c.plotPath); err != nil {
+			return err
+		}
+	}
+	if c.csvPath != "" {
+		if !strings.EqualFold(filepath.Ext(c.csvPath), ".csv") {
+			return fmt.Errorf("-csv %s: the file name must end in .csv", c.csvPath)
+		}
+		if err := writable("-csv", c.csvPath); err != nil {
+			return err
 		}
 	}
 	return nil
+}
+
+// writable fails before the run, not after it, if an output file's folder
+// is missing.
+func writable(flagName, path string) error {
+	if fi, err := os.Stat(filepath.Dir(path)); err != nil {
+		return fmt.Errorf("%s %s: %w", flagName, path, err)
+	} else if !fi.IsDir() {
+		return fmt.Errorf("%s %s: %s is not a directory", flagName, path, filepath.Dir(path))
+	}
+	return nil
+}
+
+// onceFlag refuses a second value for a flag.
+type onceFlag struct {
+	v   flag.Value
+	set bool
+}
+
+func (o *onceFlag) String() string {
+	if o == nil || o.v == nil {
+		return ""
+	}
+	return o.v.String()
+}
+
+func (o *onceFlag) Set(s string) error {
+	if o.set {
+		return fmt.Errorf("given more than once (it takes one value)")
+	}
+	o.set = true
+	return o.v.Set(s)
+}
+
+func (o *onceFlag) IsBoolFlag() bool {
+	b, ok := o.v.(interface{ IsBoolFlag() bool })
+	return ok && b.IsBoolFlag()
 }
 
 // newStrategy returns the strategy by name; "fixed" gets the all-X, all-Y,
@@ -264,11 +325,24 @@ func compare(w io.Writer, h *hamiltonian.Hamiltonian, name string, c config) err
 	}
 	bar.finish()
 
-	printTable(w, h, name, c, rows, simulate, ground.Energy, reps)
+	if c.csvPath != "" {
+		if err := writeCSV(c.csvPath, c, rows); err != nil {
+			return err
+		}
+	}
 	if c.plotPath != "" {
 		if err := writePlot(c.plotPath, name, c, rows); err != nil {
 			return err
 		}
+	}
+	if c.json {
+		return writeJSON(w, h, name, c, rows, simulate, ground.Energy, reps)
+	}
+	printTable(w, h, name, c, rows, simulate, ground.Energy, reps)
+	if c.csvPath != "" {
+		fmt.Fprintf(w, "\ntable written to %s\n", c.csvPath)
+	}
+	if c.plotPath != "" {
 		fmt.Fprintf(w, "\nplot of certified bound against shots written to %s\n", c.plotPath)
 	}
 	return nil
@@ -320,16 +394,22 @@ func writePlot(path, name string, c config, rows []row) error {
 	p.X.Tick.Marker, p.Y.Tick.Marker = plot.TickerFunc(logTicks), plot.TickerFunc(logTicks)
 	p.Add(plotter.NewGrid())
 	p.Legend.Left = true // the lines fall to the right: the lower left is free
-	var lines []any
-	for _, r := range rows {
+	colors := palette(len(rows))
+	for k, r := range rows {
 		xy := make(plotter.XYs, len(c.sweep))
 		for i, n := range c.sweep {
 			xy[i].X, xy[i].Y = float64(n), r.bounds[i]
 		}
-		lines = append(lines, r.name, xy)
-	}
-	if err := plotutil.AddLinePoints(p, lines...); err != nil {
-		return err
+		line, points, err := plotter.NewLinePoints(xy)
+		if err != nil {
+			return err
+		}
+		line.Color = colors[k]
+		line.Dashes = plotutil.Dashes(k / len(basePalette))
+		points.Color = colors[k]
+		points.Shape = plotutil.Shape(k)
+		p.Add(line, points)
+		p.Legend.Add(r.name, line, points)
 	}
 	wt, err := p.WriterTo(7*vg.Inch, 5*vg.Inch, strings.ToLower(filepath.Ext(path))[1:])
 	if err != nil {
@@ -341,9 +421,48 @@ func writePlot(path, name string, c config, rows []row) error {
 	})
 }
 
-// logTicks labels 1, 2 and 5 times the powers of ten in [min, max] and puts
-// unlabelled ticks at the other integer multiples.
+// basePalette holds twelve colours that are told apart on screen and in
+// print: the "Paired" qualitative scheme of ColorBrewer (Brewer, Harrower &
+// Penn State, colorbrewer2.org), darker member first.
+var basePalette = []color.RGBA{
+	{0x1f, 0x78, 0xb4, 0xff}, {0x33, 0xa0, 0x2c, 0xff}, {0xe3, 0x1a, 0x1c, 0xff}, {0xff, 0x7f, 0x00, 0xff},
+	{0x6a, 0x3d, 0x9a, 0xff}, {0xb1, 0x59, 0x28, 0xff}, {0xa6, 0xce, 0xe3, 0xff}, {0xb2, 0xdf, 0x8a, 0xff},
+	{0xfb, 0x9a, 0x99, 0xff}, {0xfd, 0xbf, 0x6f, 0xff}, {0xca, 0xb2, 0xd6, 0xff}, {0x80, 0x80, 0x80, 0xff},
+}
+
+// palette returns n colours; the first twelve are distinct, and past them
+// the lines differ by their dash pattern as well (see writePlot).
+func palette(n int) []color.Color {
+	out := make([]color.Color, n)
+	for k := range out {
+		out[k] = basePalette[k%len(basePalette)]
+	}
+	return out
+}
+
+// logTicks puts a tick at every integer multiple of the powers of ten in
+// [min, max] and labels those at 1, 2 and 5 times a power of ten; when that
+// gives fewer than four labels (a range of about one decade or less) it
+// labels every tick.
 func logTicks(min, max float64) []plot.Tick {
+	ticks := logTicks125(min, max)
+	labelled := 0
+	for _, t := range ticks {
+		if t.Label != "" {
+			labelled++
+		}
+	}
+	if labelled < 4 {
+		for k := range ticks {
+			ticks[k].Label = tickLabel(ticks[k].Value)
+		}
+	}
+	return ticks
+}
+
+func tickLabel(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
+
+func logTicks125(min, max float64) []plot.Tick {
 	var ticks []plot.Tick
 	for e := math.Floor(math.Log10(min)); e <= math.Ceil(math.Log10(max)); e++ {
 		base := math.Pow(10, e)
@@ -352,9 +471,11 @@ func logTicks(min, max float64) []plot.Tick {
 			if v < min || v > max {
 				continue
 			}
+			// m·10^e as a decimal, not m times a rounded 10^e.
+			v, _ = strconv.ParseFloat(strconv.Itoa(m)+"e"+strconv.Itoa(int(e)), 64)
 			t := plot.Tick{Value: v}
 			if m == 1 || m == 2 || m == 5 {
-				t.Label = strconv.FormatFloat(v, 'g', -1, 64)
+				t.Label = tickLabel(v)
 			}
 			ticks = append(ticks, t)
 		}
@@ -417,4 +538,93 @@ func (p *progress) finish() {
 	if p.bar != nil && !p.bar.IsFinished() {
 		p.bar.Finish()
 	}
+}
+
+// jsonRow is one strategy in the JSON output.
+type jsonRow struct {
+	Strategy  string     `json:"strategy"`
+	Settings  float64    `json:"settings"`
+	Certified float64    `json:"certified_bound"`
+	Bias      float64    `json:"bias"`
+	RMSE      *float64   `json:"simulated_rmse"`
+	ErrorBar  *float64   `json:"approx_error_bar"`
+	Seconds   float64    `json:"plan_seconds"`
+	Sweep     []sweepRow `json:"sweep"`
+}
+
+type sweepRow struct {
+	Shots     int     `json:"shots"`
+	Certified float64 `json:"certified_bound"`
+}
+
+func finite(x float64) *float64 {
+	if math.IsNaN(x) {
+		return nil
+	}
+	return &x
+}
+
+func writeJSON(w io.Writer, h *hamiltonian.Hamiltonian, name string, c config, rows []row, simulate bool, exact float64, reps int) error {
+	out := struct {
+		Hamiltonian string    `json:"hamiltonian"`
+		Qubits      int       `json:"qubits"`
+		Terms       int       `json:"terms"`
+		Exact       *float64  `json:"exact_ground_energy"`
+		Shots       int       `json:"shots"`
+		Delta       float64   `json:"delta"`
+		Reps        int       `json:"reps"`
+		Skipped     []string  `json:"skipped_adaptive"`
+		Rows        []jsonRow `json:"strategies"`
+	}{Hamiltonian: name, Qubits: h.Qubits(), Terms: h.Len(), Shots: c.shots, Delta: c.delta, Reps: reps, Skipped: c.skipped}
+	if simulate {
+		out.Exact = &exact
+	}
+	if out.Skipped == nil {
+		out.Skipped = []string{}
+	}
+	for _, r := range rows {
+		j := jsonRow{Strategy: r.name, Settings: r.settings, Certified: r.bound, Bias: r.bias,
+			RMSE: finite(r.rmse), ErrorBar: finite(r.errBar), Seconds: r.elapsed.Seconds()}
+		for i, n := range c.sweep {
+			j.Sweep = append(j.Sweep, sweepRow{n, r.bounds[i]})
+		}
+		out.Rows = append(out.Rows, j)
+	}
+	b, err := json.MarshalIndent(out, "", "  ")
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(append(b, '\n'))
+	return err
+}
+
+// writeCSV writes the table with one column per -sweep budget, atomically.
+func writeCSV(path string, c config, rows []row) error {
+	return atomicfile.Write(path, func(w io.Writer) error {
+		cw := csv.NewWriter(w)
+		head := []string{"strategy", "settings", "certified_bound", "bias", "simulated_rmse", "approx_error_bar", "plan_seconds"}
+		for _, n := range c.sweep {
+			head = append(head, "certified_bound_at_"+strconv.Itoa(n))
+		}
+		if err := cw.Write(head); err != nil {
+			return err
+		}
+		g := func(x float64) string {
+			if math.IsNaN(x) {
+				return ""
+			}
+			return strconv.FormatFloat(x, 'g', -1, 64)
+		}
+		for _, r := range rows {
+			rec := []string{r.name, g(r.settings), g(r.bound), g(r.bias), g(r.rmse), g(r.errBar), g(r.elapsed.Seconds())}
+			for _, b := range r.bounds {
+				rec = append(rec, g(b))
+			}
+			if err := cw.Write(rec); err != nil {
+				return err
+			}
+		}
+		cw.Flush()
+		return cw.Error()
+	})
 }

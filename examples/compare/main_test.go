@@ -2,10 +2,18 @@ package main
 
 import (
 	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"image/color"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"testing"
+
+	"gonum.org/v1/plot"
 
 	"github.com/shotplan/shotplan/allocate"
 )
@@ -84,6 +92,8 @@ func TestCompareBadInput(t *testing.T) {
 		{"bad sweep", []string{"-sweep", "100,x"}, `"x"`},
 		{"unknown flag", []string{"-bogus"}, "-bogus"},
 		{"bad flag value", []string{"-reps", "x"}, "-reps"},
+		{"flag given twice", []string{"-reps", "2", "-reps", "3"}, "more than once"},
+		{"bool flag given twice", []string{"-json", "-json"}, "more than once"},
 		{"plot directory missing", []string{"-plot", filepath.Join(dir, "nodir", "x.png"), "-reps", "1", "-sweep", "10", "-shots", "10"}, "nodir"},
 		{"nothing to measure", []string{"-ham", offsetOnly, "-plot", ""}, "no non-identity terms"},
 	}
@@ -98,5 +108,108 @@ func TestCompareBadInput(t *testing.T) {
 				t.Errorf("files left behind: %v", entries)
 			}
 		})
+	}
+}
+
+// Without -plot nothing is written; -json and -csv give the table (and the
+// sweep) in machine-readable form, the same numbers in both.
+func TestCompareJSONAndCSV(t *testing.T) {
+	dir := t.TempDir()
+	t.Chdir(dir)
+	csvPath := filepath.Join(dir, "table.csv")
+	var out, errOut bytes.Buffer
+	args := []string{"-shots", "100", "-reps", "2", "-sweep", "50,200", "-strategies", "greedy,sorted,random", "-json", "-csv", csvPath}
+	if code := run(args, &out, &errOut); code != 0 {
+		t.Fatalf("exit %d, stderr %q", code, errOut.String())
+	}
+	var res struct {
+		Exact *float64 `json:"exact_ground_energy"`
+		Rows  []struct {
+			Strategy  string   `json:"strategy"`
+			Certified float64  `json:"certified_bound"`
+			RMSE      *float64 `json:"simulated_rmse"`
+			Sweep     []struct {
+				Shots     int     `json:"shots"`
+				Certified float64 `json:"certified_bound"`
+			} `json:"sweep"`
+		} `json:"strategies"`
+	}
+	if err := json.Unmarshal(out.Bytes(), &res); err != nil {
+		t.Fatalf("%v in %q", err, out.String())
+	}
+	if res.Exact == nil || len(res.Rows) != 3 || res.Rows[0].Strategy != "greedy" || res.Rows[0].RMSE == nil || len(res.Rows[0].Sweep) != 2 || res.Rows[0].Sweep[1].Shots != 200 {
+		t.Fatalf("JSON %s", out.String())
+	}
+	f, err := os.Open(csvPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) != 4 || recs[0][0] != "strategy" || recs[0][len(recs[0])-1] != "certified_bound_at_200" {
+		t.Fatalf("CSV %v", recs)
+	}
+	for k, r := range res.Rows {
+		if recs[k+1][0] != r.Strategy || recs[k+1][2] != strconv.FormatFloat(r.Certified, 'g', -1, 64) {
+			t.Errorf("CSV row %v, JSON %+v", recs[k+1], r)
+		}
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 1 {
+		t.Errorf("files written: %v; want only the CSV asked for", entries)
+	}
+}
+
+// Every strategy gets its own colour (the built-in list has ten), and the
+// SVG carries them all.
+func TestComparePlotColours(t *testing.T) {
+	n := len(allocate.Names())
+	seen := map[color.Color]bool{}
+	for _, c := range palette(n) {
+		seen[c] = true
+	}
+	if len(seen) != n {
+		t.Fatalf("%d distinct colours for %d strategies", len(seen), n)
+	}
+	path := filepath.Join(t.TempDir(), "p.svg")
+	var out, errOut bytes.Buffer
+	if code := run([]string{"-shots", "50", "-reps", "1", "-sweep", "20,60", "-plot", path}, &out, &errOut); code != 0 {
+		t.Fatalf("exit %d, %q", code, errOut.String())
+	}
+	svg, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range palette(n) {
+		r, g, b, _ := c.RGBA()
+		want := fmt.Sprintf("stroke:#%02X%02X%02X", r>>8, g>>8, b>>8)
+		if !strings.Contains(string(svg), want) {
+			t.Errorf("the SVG lacks the colour %s", want)
+		}
+	}
+}
+
+// Log-axis ticks: a label at every decade and at 2 and 5 times it; a
+// range of a decade or less has every tick labelled (at least four labels).
+func TestLogTicks(t *testing.T) {
+	labels := func(ts []plot.Tick) []string {
+		var out []string
+		for _, t := range ts {
+			if t.Label != "" {
+				out = append(out, t.Label)
+			}
+		}
+		return out
+	}
+	got := labels(logTicks(0.001, 1))
+	want := []string{"0.001", "0.002", "0.005", "0.01", "0.02", "0.05", "0.1", "0.2", "0.5", "1"}
+	if !slices.Equal(got, want) {
+		t.Errorf("ticks on [0.001, 1]: %v, want %v", got, want)
+	}
+	if got := labels(logTicks(0.3, 0.9)); len(got) < 4 || got[0] != "0.3" {
+		t.Errorf("ticks on [0.3, 0.9]: %v, want every tick labelled", got)
 	}
 }

@@ -9,10 +9,30 @@
 //	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N]
 //	shotplan export   -plan PLAN -o DIR
 //	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P|P01,P10] -o RECORDS
-//	shotplan estimate -ham H -plan PLAN -records RECORDS [-delta δ] [-readout P|P01,P10]
+//	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|P01,P10]
+//	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS]
+//	shotplan rounds start  -ham H -eps E [-delta 0.05] [-strategy NAME] -o STATE
+//	shotplan rounds next   -state STATE -o PLAN
+//	shotplan rounds add    -state STATE -records RECORDS...
+//	shotplan rounds status -state STATE
+//	shotplan version
 //
-// Every subcommand takes -h for its flags and -json for machine-readable
-// output on standard output. Hamiltonian files are in the text or JSON
+// budget counts the shots a target accuracy needs, per strategy, in copies
+// of one reference plan (guarantee.BudgetOf). The rounds commands run an
+// anytime-valid certified measurement round by round: the state file (JSON,
+// "format": "shotplan rounds", versioned) holds the Hamiltonian, the
+// distribution the shots draw their settings from, and every added round's
+// outcomes with a SHA-256 of its records. It is replaced atomically after
+// each round; the plan of a round is drawn from the run's seed and the
+// round's number, so asking again after a crash gives the same plan; adding
+// the same records twice is refused; every read checks the digests, and
+// rounds add and rounds status replay the rounds and check the recorded
+// intervals.
+//
+// -records may be repeated (or hold names separated by commas) to combine
+// files, and "-" reads standard input. A flag that takes one value refuses a
+// second. Every subcommand takes -h for its flags and -json for
+// machine-readable output on standard output. Hamiltonian files are in the text or JSON
 // format of package hamiltonian, plan files in the format of
 // allocate.WritePlan, records in the CSV or JSON form of package estimate
 // (chosen by the file name's extension, .json or anything else).

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"strings"
 	"text/tabwriter"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -15,7 +16,8 @@ import (
 func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
 	plan := fs.String("plan", "", "plan file the shots were measured by (required)")
-	records := fs.String("records", "", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name (required)")
+	var records listFlag
+	fs.Var(&records, "records", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name; - reads standard input; repeat the flag or separate names by commas to combine files (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the bounds; the error bar is at confidence 1 − δ too")
 	readout := fs.String("readout", "", "mitigate readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10, as in simulate (the bounds assume ideal readout)")
 	return func() error {
@@ -29,20 +31,13 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		if err := need("records", *records); err != nil {
+		settings, shots := f.Plan.Distinct()
+		rec, err := readRecords(records, settings, h.Qubits())
+		if err != nil {
 			return err
 		}
-		settings, shots := f.Plan.Distinct()
-		var rec *estimate.Records
-		if isJSON(*records) {
-			rec, err = estimate.ReadJSONFile(*records)
-		} else {
-			rec, err = estimate.ReadCSVFile(*records, settings)
-		}
-		if err != nil {
-			return bad(err)
-		}
-		if err := matchRecords(*records, rec, f.Plan, settings, shots); err != nil {
+		name := recordsName(strings.Join(records, ", "))
+		if err := matchRecords(name, rec, f.Plan, settings, shots); err != nil {
 			return err
 		}
 		ro, err := parseReadout(*readout, h.Qubits())
@@ -53,7 +48,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if errors.Is(err, estimate.ErrFormat) {
 			// For example -readout with entangled settings, which the
 			// mitigation cannot read.
-			return badf("%s: %w", *records, err)
+			return badf("%s: %w", name, err)
 		}
 		if err != nil {
 			return err

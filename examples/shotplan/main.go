@@ -32,9 +32,15 @@ var commands = []command{
 	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
 	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] -o PLAN", strategyHelp},
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta δ] [-top N]", certifyHelp},
+	{"budget", "count the shots a target accuracy needs, per strategy", budgetFlags, "-ham H -eps E [-delta δ] [-strategy NAME|all] [-proxy worst|exact|BITS]", budgetHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
 	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P|P01,P10] -o RECORDS", nil},
-	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta δ] [-readout P|P01,P10]", estimateHelp},
+	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|P01,P10]", estimateHelp},
+	{"rounds start", "begin a round-by-round certified run; its state goes to one file", roundsStartFlags, "-ham H -eps E [-delta δ] [-strategy NAME] -o STATE", roundsHelp},
+	{"rounds next", "write the plan of the run's next round", roundsNextFlags, "-state STATE -o PLAN", roundsHelp},
+	{"rounds add", "add a round's records; print the interval and whether to stop", roundsAddFlags, "-state STATE -records RECORDS...", roundsHelp},
+	{"rounds status", "print the run's interval and whether to stop", roundsStatusFlags, "-state STATE", roundsHelp},
+	{"version", "print the module version and the versions of the file formats", versionFlags, "", nil},
 }
 
 // env is what a subcommand writes to.
@@ -77,6 +83,13 @@ func run(args []string, stdout, stderr io.Writer) int {
 		if c.name == args[0] {
 			return runCommand(c, args[1:], stdout, stderr)
 		}
+		if len(args) > 1 && c.name == args[0]+" "+args[1] {
+			return runCommand(c, args[2:], stdout, stderr)
+		}
+	}
+	if args[0] == "rounds" {
+		fmt.Fprintf(stderr, "shotplan rounds: want start, next, add or status after rounds (see shotplan -h)\n")
+		return 2
 	}
 	fmt.Fprintf(stderr, "shotplan: unknown command %q (commands: %s; see shotplan -h)\n", args[0], commandNames())
 	return 2
@@ -85,7 +98,10 @@ func run(args []string, stdout, stderr io.Writer) int {
 func commandNames() string {
 	var names []string
 	for _, c := range commands {
-		names = append(names, c.name)
+		first, _, _ := strings.Cut(c.name, " ")
+		if len(names) == 0 || names[len(names)-1] != first {
+			names = append(names, first)
+		}
 	}
 	return strings.Join(names, ", ")
 }
@@ -93,7 +109,7 @@ func commandNames() string {
 func mainUsage(w io.Writer) {
 	fmt.Fprintln(w, "usage: shotplan COMMAND [flags]\n\nThe file-based workflow of shotplan, one step per command:")
 	for _, c := range commands {
-		fmt.Fprintf(w, "  %-9s %s\n", c.name, c.summary)
+		fmt.Fprintf(w, "  %-14s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintln(w, "\nRun shotplan COMMAND -h for the flags of a command. Every command takes -json.")
 }
@@ -111,7 +127,22 @@ func runCommand(c command, args []string, stdout, stderr io.Writer) int {
 			fmt.Fprint(fs.Output(), c.more())
 		}
 	}
-	if err := parse(fs, args, e); err != nil {
+	// A single-valued flag given twice is an error, not last-wins; the
+	// wrappers are removed again so that -h describes the flags' own types.
+	var wrapped []*flag.Flag
+	var values []flag.Value
+	fs.VisitAll(func(f *flag.Flag) {
+		if _, ok := f.Value.(interface{ repeatable() }); ok {
+			return
+		}
+		wrapped, values = append(wrapped, f), append(values, f.Value)
+		f.Value = &onceFlag{name: f.Name, v: f.Value}
+	})
+	err := parse(fs, args, e)
+	for k, f := range wrapped {
+		f.Value = values[k]
+	}
+	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			fs.SetOutput(stdout)
 			fs.Usage()
@@ -120,7 +151,7 @@ func runCommand(c command, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "shotplan %s: %v (see shotplan %s -h)\n", c.name, err, c.name)
 		return 2
 	}
-	err := exec()
+	err = exec()
 	if err == nil {
 		return 0
 	}

@@ -1,0 +1,256 @@
+package guarantee
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/hamiltonian"
+)
+
+// ShotBudget is the answer of [BudgetOf]: the shots a plan needs for
+// accuracy ε at confidence 1 − δ, counted in copies of that plan (the
+// reference plan). A copy of a plan measures every setting of it for as many
+// shots again, so R copies of a plan of N_0 shots are the plan with every
+// shot count multiplied by R: N_i becomes R·N_i, and V of MATH.md §3.1
+// becomes V/R, while the terms the plan never covers stay uncovered.
+type ShotBudget struct {
+	// Epsilon and Delta are the target: |error| ≤ Epsilon with probability
+	// at least 1 − Delta.
+	Epsilon, Delta float64
+	// Reference is the number of shots of one copy, Settings its distinct
+	// settings.
+	Reference, Settings int
+	// Bias is Σ|h_i| over the terms the plan never covers: no number of
+	// copies removes it. Reachable reports Bias < Epsilon; when it is false
+	// the shot counts below are zero and the proxy is not evaluated.
+	Bias      float64
+	Reachable bool
+
+	// Variance is V of one copy (MATH.md §3.1). Copies is the smallest
+	// number R of copies whose certificate has Total = Bias +
+	// sqrt(2 (V/R) ln(2/δ)) ≤ Epsilon, and Shots = Copies·Reference: the
+	// worst-case, a-priori answer. [CertifyPlan] of the plan with every
+	// shot count multiplied by Copies certifies Epsilon; with Copies − 1 it
+	// does not.
+	Variance     float64
+	Copies       int
+	Shots        int
+	ExactShots   float64 // Reference·2 V ln(2/δ)/(Epsilon − Bias)², before rounding up to whole copies
+	ProxyCopies  int     // copies for the normal-approximation error bar under the proxy (see ProxyVariance)
+	ProxyShots   int     // ProxyCopies·Reference
+	AnytimeShots int     // see IIDVariance
+
+	// ProxyVariance is the variance of one copy's grouped estimate (MATH.md
+	// §2) in the proxy state, or V (its largest value over all states)
+	// without one. ProxyCopies is the smallest R with
+	// z·sqrt(ProxyVariance/R) + Bias ≤ Epsilon, z the two-sided normal
+	// quantile at 1 − δ: the copies at which the approximate error bar that
+	// estimate prints is expected to reach Epsilon if the device's state
+	// were the proxy. It is an expectation, not a guarantee.
+	ProxyVariance float64
+	// IIDVariance is the single-shot variance σ² of the plan's i.i.d. view
+	// ([IIDOf]: every shot draws its setting from the plan's shares) in the
+	// proxy state, or its upper bound Reference·V over all states without
+	// one. AnytimeShots is ⌈2 σ² ln(2/δ)/(Epsilon − Bias)²⌉, the sample size
+	// the anytime route ([Anytime]) tunes its bets for when it knows σ²:
+	// the shots at which a normal-width interval at the Hoeffding level
+	// reaches Epsilon. The betting sequence's own price for holding at
+	// every time comes on top (measured in BENCHMARKS.md); it is an
+	// expectation, not a guarantee.
+	IIDVariance float64
+	// Proxy names the variance proxy: "worst case" or "state".
+	Proxy string
+}
+
+// BudgetOf answers "how many shots for accuracy ε?" for the plan p (the
+// reference plan, fixed before the data) in time linear in the plan: one
+// coverage scan, no re-planning. Deterministic strategies make plans whose
+// shot counts grow in proportion to the budget, so copies of one plan at a
+// moderate reference budget are the natural unit; the answer is exact about
+// copies ("Copies copies of p certify ε") and approximate about the
+// strategy's own plan at Shots, which shares out the shots the same way up
+// to rounding.
+//
+// state, if not nil, is the proxy state (2^n amplitudes, for example an
+// exact ground state or a Hartree–Fock determinant) for ProxyVariance and
+// IIDVariance; nil means the worst case. The plan stays fixed before the
+// data, so the a-priori Copies never depends on the proxy. A proxy costs
+// one Walsh–Hadamard transform of 2^n Born probabilities per distinct
+// setting, n·2^n operations, and needs n ≤ [hamiltonian.MaxExactQubits].
+//
+// BudgetOf returns an error for ε ≤ 0, δ outside (0, 1), a plan that does
+// not match h, or a state of the wrong length.
+func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, state []complex128) (*ShotBudget, error) {
+	switch {
+	case h == nil || p == nil:
+		return nil, fmt.Errorf("guarantee: BudgetOf: nil Hamiltonian or plan")
+	case !(eps > 0) || math.IsInf(eps, 0):
+		return nil, fmt.Errorf("guarantee: BudgetOf: target ε = %v, want a positive number", eps)
+	case !validDelta(delta):
+		return nil, fmt.Errorf("guarantee: BudgetOf: δ = %v is not in (0, 1)", delta)
+	case p.Qubits != h.Qubits():
+		return nil, fmt.Errorf("guarantee: BudgetOf: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
+	}
+	c, err := newCoverage(h, p.Settings, p.Shots)
+	if err != nil {
+		return nil, err
+	}
+	if c.shots == 0 {
+		return nil, fmt.Errorf("guarantee: BudgetOf: the plan has no shots")
+	}
+	a := c.weights()
+	s := c.loads(a, nil)
+	v := c.variance(s)
+	b := &ShotBudget{
+		Epsilon: eps, Delta: delta, Reference: c.shots, Settings: len(c.settings),
+		Variance: v, ProxyVariance: v, IIDVariance: float64(c.shots) * v, Proxy: "worst case",
+	}
+	for i, n := range c.cover {
+		if n == 0 {
+			b.Bias += math.Abs(h.Coeff(i))
+		}
+	}
+	if state != nil && len(state) != 1<<h.Qubits() {
+		return nil, fmt.Errorf("guarantee: BudgetOf: the proxy state has %d amplitudes, want 2^%d", len(state), h.Qubits())
+	}
+	margin := eps - b.Bias
+	b.Reachable = margin > 0
+	if !b.Reachable {
+		return b, nil
+	}
+	if state != nil {
+		if err := proxyVariances(c, state, b); err != nil {
+			return nil, err
+		}
+		b.Proxy = "state"
+	}
+	l := math.Log(2 / delta)
+	// Copies: the smallest R with Bias + sqrt(2 V l / R) ≤ ε. The closed
+	// form is checked in floating point (as certify computes it) and
+	// nudged by one copy either way, so rounding cannot decide it.
+	total := func(r float64) float64 { return b.Bias + math.Sqrt(2*(v/r)*l) }
+	x := 2 * v * l / (margin * margin)
+	b.ExactShots = float64(c.shots) * x
+	r, err := wholeCopies(x, c.shots, func(r float64) bool { return total(r) <= eps })
+	if err != nil {
+		return nil, err
+	}
+	b.Copies, b.Shots = r, r*c.shots
+	z := math.Sqrt2 * math.Erfinv(1-delta)
+	xp := z * z * b.ProxyVariance / (margin * margin)
+	if b.ProxyCopies, err = wholeCopies(xp, c.shots, func(r float64) bool {
+		return z*math.Sqrt(b.ProxyVariance/r)+b.Bias <= eps
+	}); err != nil {
+		return nil, err
+	}
+	b.ProxyShots = b.ProxyCopies * c.shots
+	n := math.Ceil(2 * b.IIDVariance * l / (margin * margin))
+	if n > float64(math.MaxInt/2) {
+		return nil, fmt.Errorf("guarantee: BudgetOf: the anytime route needs more than %d shots", math.MaxInt/2)
+	}
+	b.AnytimeShots = max(int(n), 1)
+	return b, nil
+}
+
+// wholeCopies returns the smallest whole R ≥ 1 with ok(R), starting from the
+// real solution x of the closed form.
+func wholeCopies(x float64, shots int, ok func(r float64) bool) (int, error) {
+	if x > float64(math.MaxInt/2)/float64(shots) {
+		return 0, fmt.Errorf("guarantee: BudgetOf: more than %d shots needed", math.MaxInt/2)
+	}
+	r := max(int(math.Ceil(x)), 1)
+	for r > 1 && ok(float64(r-1)) {
+		r--
+	}
+	for !ok(float64(r)) {
+		r++
+	}
+	return r, nil
+}
+
+// proxyVariances sets b.ProxyVariance and b.IIDVariance from the state.
+//
+// For a distinct setting Q let c_i = h_i/N_i and read term i as
+// σ_i·χ_{m_i}(b), with χ_m(b) = (−1)^{|b∧m|} the parity of the outcome on
+// the term's Z-image m_i and σ_i its sign ([pauli.Setting.Diagonal]). With
+// F_Q[m] = Σ_b p_Q(b) χ_m(b), the Walsh–Hadamard transform of the Born
+// probabilities, and χ_{m}χ_{m'} = χ_{m⊕m'},
+//
+//	M1_Q = E_Q[Σ c_i σ_i χ_{m_i}] = Σ_i c_i σ_i F_Q[m_i],
+//	M2_Q = E_Q[(Σ c_i σ_i χ_{m_i})²] = Σ_{i,j} c_i c_j σ_i σ_j F_Q[m_i ⊕ m_j].
+//
+// The grouped estimate of one copy sums m_Q independent shots of each Q, so
+// its variance is Σ_Q m_Q (M2_Q − M1_Q²). The i.i.d. view draws Q with
+// probability m_Q/N_0 and weighs term i by h_i/f_i = N_0 c_i, so its
+// single-shot value (less h_0) has second moment N_0 Σ_Q m_Q M2_Q and mean
+// μ = Σ_Q m_Q M1_Q = Σ_{i covered} h_i ⟨P_i⟩ (as Σ_{Q∋i} m_Q = N_i).
+func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
+	h := c.h
+	n := h.Qubits()
+	if n > hamiltonian.MaxExactQubits || len(state) != 1<<n {
+		return fmt.Errorf("guarantee: BudgetOf: the proxy state has %d amplitudes, want 2^%d", len(state), n)
+	}
+	sim, err := estimate.NewSimulator(state, 0, nil)
+	if err != nil {
+		return fmt.Errorf("guarantee: BudgetOf: proxy state: %w", err)
+	}
+	tab := h.Table()
+	var p []float64
+	var masks []uint64
+	var coef []float64
+	grouped, second, mean := 0.0, 0.0, 0.0
+	for q, s := range c.settings {
+		p = sim.Probabilities(p, s)
+		walshHadamard(p)
+		masks, coef = masks[:0], coef[:0]
+		for _, i := range c.terms(q) {
+			var mask uint64
+			sign := 1
+			if s.IsLocal() {
+				// A local setting reads a term on its support.
+				x, z := tab.Words(int(i))
+				mask = x[0] | z[0]
+			} else {
+				d, sg, ok := s.Diagonal(tab.At(int(i)))
+				if !ok {
+					continue
+				}
+				_, zz := d.Words()
+				mask, sign = zz[0], sg
+			}
+			masks = append(masks, mask)
+			coef = append(coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
+		}
+		m1, m2 := 0.0, 0.0
+		for a, ma := range masks {
+			m1 += coef[a] * p[ma]
+			m2 += coef[a] * coef[a]
+			for j := a + 1; j < len(masks); j++ {
+				m2 += 2 * coef[a] * coef[j] * p[ma^masks[j]]
+			}
+		}
+		w := float64(c.mult[q])
+		grouped += w * max(m2-m1*m1, 0)
+		second += w * m2
+		mean += w * m1
+	}
+	b.ProxyVariance = grouped
+	b.IIDVariance = max(float64(c.shots)*second-mean*mean, 0)
+	return nil
+}
+
+// walshHadamard replaces p by its Walsh–Hadamard transform in place:
+// p'[m] = Σ_b p[b] (−1)^{popcount(b∧m)}. len(p) must be a power of two.
+// The butterfly is the textbook fast transform (common practice).
+func walshHadamard(p []float64) {
+	for h := 1; h < len(p); h <<= 1 {
+		for i := 0; i < len(p); i += h << 1 {
+			for j := i; j < i+h; j++ {
+				x, y := p[j], p[j+h]
+				p[j], p[j+h] = x+y, x-y
+			}
+		}
+	}
+}
