@@ -83,7 +83,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if e.json {
 			return e.writeJSON(struct {
-				Epsilon float64     `json:"epsilon"`
+				Epsilon float64     `json:"target"`
 				Delta   float64     `json:"delta"`
 				Proxy   string      `json:"proxy"`
 				Rows    []budgetRow `json:"strategies"`

@@ -42,7 +42,7 @@ type roundsState struct {
 	Hamiltonian json.RawMessage `json:"hamiltonian"`
 	Strategy    string          `json:"strategy"`
 	Seed        uint64          `json:"seed"`
-	Epsilon     float64         `json:"epsilon"`
+	Epsilon     float64         `json:"target"`
 	Delta       float64         `json:"delta"`
 	FirstRound  int             `json:"first_round"`
 	Growth      float64         `json:"growth"`
@@ -191,7 +191,7 @@ func parseRoundsState(path string, data []byte, replay bool) (*roundsRun, error)
 	case st.Version != roundsVersion:
 		return nil, stateError(path, "version", "%d, this shotplan reads version %d", st.Version, roundsVersion)
 	case !(st.Epsilon > 0) || math.IsInf(st.Epsilon, 0):
-		return nil, stateError(path, "epsilon", "%v, want a positive number", st.Epsilon)
+		return nil, stateError(path, "target", "%v, want a positive number", st.Epsilon)
 	case !(st.Delta > 0 && st.Delta < 1):
 		return nil, stateError(path, "delta", "%v, want a value in (0, 1)", st.Delta)
 	case st.FirstRound < 1:
@@ -757,7 +757,7 @@ func (r *roundsRun) report(e *env) error {
 		Interval [2]float64 `json:"interval"`
 		Estimate float64    `json:"estimate"`
 		Radius   float64    `json:"radius"`
-		Epsilon  float64    `json:"epsilon"`
+		Epsilon  float64    `json:"target"`
 		Delta    float64    `json:"delta"`
 		Verdict  string     `json:"verdict"`
 	}{len(r.st.Rounds), r.used, r.interval, (r.interval[0] + r.interval[1]) / 2, r.radius, r.st.Epsilon, r.st.Delta, verdict}
@@ -770,7 +770,7 @@ func (r *roundsRun) report(e *env) error {
 			return e.writeJSON(struct {
 				Rounds  int     `json:"rounds"`
 				Shots   int     `json:"shots"`
-				Epsilon float64 `json:"epsilon"`
+				Epsilon float64 `json:"target"`
 				Delta   float64 `json:"delta"`
 				Verdict string  `json:"verdict"`
 			}{0, 0, r.st.Epsilon, r.st.Delta, verdict})

@@ -199,7 +199,7 @@ func TestRoundsStateDamaged(t *testing.T) {
 // state it accepts again with the same interval.
 func FuzzRoundsState(f *testing.F) {
 	f.Add([]byte(`{"format":"shotplan rounds","version":1}`))
-	f.Add([]byte(`{"format":"shotplan rounds","version":1,"hamiltonian":{"qubits":1,"terms":[{"pauli":"Z","coeff":1}]},"strategy":"greedy","seed":1,"epsilon":0.1,"delta":0.05,"first_round":2,"growth":1,"max_shots":10,"settings":["Z"],"weights":[1],"rounds":[]}`))
+	f.Add([]byte(`{"format":"shotplan rounds","version":1,"hamiltonian":{"qubits":1,"terms":[{"pauli":"Z","coeff":1}]},"strategy":"greedy","seed":1,"target":0.1,"delta":0.05,"first_round":2,"growth":1,"max_shots":10,"settings":["Z"],"weights":[1],"rounds":[]}`))
 	f.Add([]byte("{\"rounds\":[{\"outcomes\":\"AA==\"}]}"))
 	f.Add([]byte("[]"))
 	// A real state of one round of H2.
