@@ -13,23 +13,6 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// ErrFormat is wrapped by every error about malformed Hamiltonian input.
-var ErrFormat = errors.New("malformed Hamiltonian")
-
-// LineError reports one bad line of a text file.
-type LineError struct {
-	Line   int    // 1-based line number
-	Text   string // the line as read
-	Reason string
-}
-
-func (e *LineError) Error() string {
-	return fmt.Sprintf("hamiltonian: line %d: %s", e.Line, e.Reason)
-}
-
-// Unwrap returns [ErrFormat].
-func (e *LineError) Unwrap() error { return ErrFormat }
-
 // maxLineErrors bounds how many bad lines one error lists.
 const maxLineErrors = 50
 
@@ -65,7 +48,7 @@ func Read(r io.Reader) (*Hamiltonian, error) {
 	)
 	bad := func(text, format string, args ...any) {
 		if len(errs) < maxLineErrors {
-			errs = append(errs, &LineError{Line: lineNo, Text: text, Reason: fmt.Sprintf(format, args...)})
+			errs = append(errs, &LineError{Reader: "hamiltonian", Line: lineNo, Text: text, Reason: fmt.Sprintf(format, args...)})
 		} else {
 			extra++
 		}
