@@ -138,7 +138,7 @@ func biasedDistributions(h *hamiltonian.Hamiltonian) ([][3]float64, error) {
 	for i := range m {
 		x, z := t.Words(i)
 		for q := range supportOf(x, z) {
-			list[fill[q]] = int32(i)<<2 | int32(letterAt(x, z, q))
+			list[fill[q]] = int32(i)<<2 | int32(pauli.LetterAt(x, z, q))
 			fill[q]++
 		}
 	}

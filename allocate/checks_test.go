@@ -10,17 +10,17 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/internal/atomicfile"
-	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 var tablePath = flag.String("table", "", "write the markdown table of TestGreedyBeatsRandom to this file")
 
 // h2JW returns H2's Jordan–Wigner Hamiltonian at 0.7414 Å, computed by an
-// independent script (internal/refdata/README.md).
+// independent script (hamiltonian/hamiltoniantest/README.md).
 func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
-	h, _, err := refdata.H2Qubit(refdata.H2Alt, "jw")
+	h, _, err := hamiltoniantest.H2Qubit(hamiltoniantest.H2Alt, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -28,10 +28,10 @@ func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 }
 
 // molecule returns a reference molecule's qubit Hamiltonian in the given
-// encoding (internal/refdata).
+// encoding (hamiltonian/hamiltoniantest).
 func molecule(t testing.TB, name string, enc fermion.Encoding) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, err := refdata.Molecule(name, enc)
+	h, err := hamiltoniantest.Molecule(name, enc)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -50,8 +50,8 @@ func checkCases(t testing.TB) []checkCase {
 	}
 	return []checkCase{
 		{"H2 (JW, 4 qubits)", h2JW(t)},
-		{"LiH (JW, 12 qubits)", molecule(t, refdata.LiH, fermion.JordanWigner)},
-		{"H2O (JW, 14 qubits)", molecule(t, refdata.H2O, fermion.JordanWigner)},
+		{"LiH (JW, 12 qubits)", molecule(t, hamiltoniantest.LiH, fermion.JordanWigner)},
+		{"H2O (JW, 14 qubits)", molecule(t, hamiltoniantest.H2O, fermion.JordanWigner)},
 		{"TFIM 4×4 open, J = h = 1", tfim},
 	}
 }

@@ -121,7 +121,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		d.b[s] = math.Abs(coef[l]) / maxAbs
 		x, z := t.Words(int(l))
 		for q := range supportOf(x, z) {
-			d.ent = append(d.ent, int32(q)<<2|int32(letterAt(x, z, q)))
+			d.ent = append(d.ent, int32(q)<<2|int32(pauli.LetterAt(x, z, q)))
 		}
 		d.off[s+1] = int32(len(d.ent))
 		d.k[s] = d.off[s+1] - d.off[s]

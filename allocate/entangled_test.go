@@ -7,7 +7,7 @@ import (
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 )
 
 // TestPlanFileEntangled writes and reads back plans with entangled
@@ -15,7 +15,7 @@ import (
 // (generators and circuits), shots and cover counts, and the plan checks
 // against its Hamiltonian.
 func TestPlanFileEntangled(t *testing.T) {
-	h := molecule(t, refdata.LiH, fermion.JordanWigner)
+	h := molecule(t, hamiltoniantest.LiH, fermion.JordanWigner)
 	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc"} {
 		a, err := allocate.ByName(name, 0)
 		if err != nil {
@@ -83,7 +83,7 @@ func TestReadPlanEntangledErrors(t *testing.T) {
 // that does not keep them (Fixed) with more than a handful of distinct
 // entangled settings, and the counts equal CoverCounts (Table.Covered).
 func TestRunManyEntangledSettings(t *testing.T) {
-	h := molecule(t, refdata.LiH, fermion.JordanWigner)
+	h := molecule(t, hamiltoniantest.LiH, fermion.JordanWigner)
 	g := &allocate.SortedGC{}
 	if err := g.Init(h, 1000); err != nil {
 		t.Fatal(err)

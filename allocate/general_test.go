@@ -13,16 +13,16 @@ import (
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/internal/atomicfile"
-	"github.com/shotplan/shotplan/internal/refdata"
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// gcMolecules are the STO-3G molecules of internal/refdata (psi4 1.3.2).
+// gcMolecules are the STO-3G molecules of hamiltonian/hamiltoniantest (psi4 1.3.2).
 var gcMolecules = []struct{ name, file string }{
-	{"H2", refdata.H2},
-	{"LiH", refdata.LiH},
-	{"H2O", refdata.H2O},
+	{"H2", hamiltoniantest.H2},
+	{"LiH", hamiltoniantest.LiH},
+	{"H2O", hamiltoniantest.H2O},
 }
 
 var gcEncodings = []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity}

@@ -78,7 +78,7 @@ func (im *Importance) Next(dst []pauli.Letter) (int, error) {
 	im.drawn = append(im.drawn, i)
 	x, z := im.table.Words(i)
 	for q := range dst {
-		if l := letterAt(x, z, q); l != pauli.I {
+		if l := pauli.LetterAt(x, z, q); l != pauli.I {
 			dst[q] = l
 		} else {
 			dst[q] = im.fill

@@ -65,12 +65,6 @@ func (rk *ranked) row(r int) (x, z []uint64) {
 	return rk.words[o : o+rk.w], rk.words[o+rk.w : o+2*rk.w]
 }
 
-// letterAt returns the letter of qubit q in the words x, z.
-func letterAt(x, z []uint64, q int) pauli.Letter {
-	b := x[q>>6]>>(q&63)&1 | (z[q>>6]>>(q&63)&1)<<1
-	return [4]pauli.Letter{pauli.I, pauli.X, pauli.Z, pauli.Y}[b]
-}
-
 // supportOf iterates over the support of the string with words x, z: the
 // word-level form of [pauli.String.Support], for rows read from a table or
 // [ranked] without copying them into a String.
@@ -105,7 +99,7 @@ func letterBits(l pauli.Letter) (x, z uint64) {
 // writeLetters writes the letters of the n-qubit words x, z into dst.
 func writeLetters(dst []pauli.Letter, x, z []uint64) {
 	for q := range dst {
-		dst[q] = letterAt(x, z, q)
+		dst[q] = pauli.LetterAt(x, z, q)
 	}
 }
 

@@ -9,7 +9,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -76,7 +76,7 @@ func (f *varianceFixture) exact() *Moments {
 
 func lihJW(t *testing.T) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, err := refdata.Molecule(refdata.LiH, fermion.JordanWigner)
+	h, err := hamiltoniantest.Molecule(hamiltoniantest.LiH, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}

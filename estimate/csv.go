@@ -10,24 +10,24 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 // ErrFormat is wrapped by every error about malformed record, manifest or
-// option input.
-var ErrFormat = errors.New("malformed input")
+// option input. It is hamiltonian.ErrFormat, the module's one sentinel for
+// malformed input.
+var ErrFormat = hamiltonian.ErrFormat
 
-// LineError reports a bad line of a CSV file.
-type LineError struct {
-	Line   int // 1-based line number
-	Reason string
+// LineError reports a bad line of a CSV file. It is hamiltonian.LineError,
+// the module's one line error; its Err is nil, meaning [ErrFormat].
+type LineError = hamiltonian.LineError
+
+// lineError returns the [*LineError] of the estimate package for a line.
+func lineError(line int, reason string) *LineError {
+	return &LineError{Reader: "estimate", Line: line, Reason: reason}
 }
-
-func (e *LineError) Error() string { return fmt.Sprintf("estimate: line %d: %s", e.Line, e.Reason) }
-
-// Unwrap returns [ErrFormat].
-func (e *LineError) Unwrap() error { return ErrFormat }
 
 // csvHeader is the first line of a records file.
 const csvHeader = "setting,outcome"
@@ -109,28 +109,28 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		line, _ := cr.FieldPos(0)
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader)}
+				return nil, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
 			}
 			header = true
 			continue
 		}
 		if len(fields) != 2 {
-			return nil, &LineError{Line: line, Reason: fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields))}
+			return nil, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
 		}
 		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
 		var s pauli.Setting
 		if sf == "" {
-			return nil, &LineError{Line: line, Reason: "empty setting"}
+			return nil, lineError(line, "empty setting")
 		}
 		if sf[0] >= '0' && sf[0] <= '9' {
 			k, err := strconv.Atoi(sf)
 			switch {
 			case err != nil:
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %q is not a non-negative integer", sf)}
+				return nil, lineError(line, fmt.Sprintf("setting index %q is not a non-negative integer", sf))
 			case settings == nil:
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %d but no settings list was given", k)}
+				return nil, lineError(line, fmt.Sprintf("setting index %d but no settings list was given", k))
 			case k >= len(settings):
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings))}
+				return nil, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
 			}
 			s = settings[k]
 		} else if t, ok := parsed[sf]; ok {
@@ -143,13 +143,13 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 				if errors.As(err, &pe) {
 					reason = pe.Reason
 				}
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q: %s", sf, reason)}
+				return nil, lineError(line, fmt.Sprintf("setting %q: %s", sf, reason))
 			}
 			if n < 0 {
 				n = t.Qubits()
 			}
 			if t.Qubits() != n {
-				return nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n)}
+				return nil, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
 			}
 			parsed[sf] = t
 			s = t
@@ -159,19 +159,19 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 			bits = pauli.NewBits(n)
 		}
 		if len(bf) != n {
-			return nil, &LineError{Line: line, Reason: fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n)}
+			return nil, lineError(line, fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n))
 		}
 		if q, ok := parseBitsInto(bits, bf); !ok {
-			return nil, &LineError{Line: line, Reason: fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q)}
+			return nil, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
 		}
 		rec.appendShot(rec.group(s), bits)
 	}
 	if !header {
-		return nil, &LineError{Line: 1, Reason: fmt.Sprintf("missing header %q", csvHeader)}
+		return nil, lineError(1, fmt.Sprintf("missing header %q", csvHeader))
 	}
 	if rec == nil {
 		if n < 1 {
-			return nil, &LineError{Line: 2, Reason: "no shots and no settings list to give the qubit count"}
+			return nil, lineError(2, "no shots and no settings list to give the qubit count")
 		}
 		rec = NewRecords(n)
 	}
@@ -183,7 +183,7 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 func csvLineError(err error) *LineError {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &LineError{Line: pe.Line, Reason: pe.Err.Error()}
+		return lineError(pe.Line, pe.Err.Error())
 	}
 	return nil
 }

@@ -14,7 +14,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -315,7 +315,7 @@ func TestEntangledNeedsLocal(t *testing.T) {
 
 func jwHamiltonian(t *testing.T, name string) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, err := refdata.Molecule(name, fermion.JordanWigner)
+	h, err := hamiltoniantest.Molecule(name, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -330,7 +330,7 @@ func jwHamiltonian(t *testing.T, name string) *hamiltonian.Hamiltonian {
 // errors of the estimator's expectation: the exact energy of the simulated
 // state less the terms the plan never covers. The simulated ground energy
 // is also checked against the molecule's full-CI energy (psi4,
-// internal/refdata/energies.json via refdata.FullCI) to 1e-8 hartree. For a
+// hamiltonian/hamiltoniantest/energies.json via hamiltoniantest.FullCI) to 1e-8 hartree. For a
 // normal mean the false-failure rate is
 // 6e-5 per case. The simulator's cache keeps each setting's distribution,
 // so the 400 runs cost one distribution per setting.
@@ -339,8 +339,8 @@ func TestEntangledPlansUnbiased(t *testing.T) {
 		t.Skip("400 repetitions per plan")
 	}
 	cases := []struct{ name, path string }{
-		{"H2", refdata.H2},
-		{"LiH", refdata.LiH},
+		{"H2", hamiltoniantest.H2},
+		{"LiH", hamiltoniantest.LiH},
 	}
 	for _, c := range cases {
 		h := jwHamiltonian(t, c.path)
@@ -348,7 +348,7 @@ func TestEntangledPlansUnbiased(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		fci, err := refdata.FullCI(c.path)
+		fci, err := hamiltoniantest.FullCI(c.path)
 		if err != nil {
 			t.Fatal(err)
 		}

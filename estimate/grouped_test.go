@@ -9,15 +9,15 @@ import (
 	"testing"
 
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 // h2JW returns the Jordan–Wigner H2 Hamiltonian at 0.74 Å, computed by an
-// independent script (internal/refdata/README.md; qubit q is character q).
+// independent script (hamiltonian/hamiltoniantest/README.md; qubit q is character q).
 func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, _, err := refdata.H2Qubit(refdata.H2, "jw")
+	h, _, err := hamiltoniantest.H2Qubit(hamiltoniantest.H2, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -350,9 +350,9 @@ func TestGroupedUnbiasedH2(t *testing.T) {
 		t.Fatal(err)
 	}
 	// The full-CI energy of H2/STO-3G at 0.74 Å (psi4 1.3.2,
-	// internal/refdata/energies.json) is the lowest eigenvalue of the JW
+	// hamiltonian/hamiltoniantest/energies.json) is the lowest eigenvalue of the JW
 	// qubit Hamiltonian.
-	fci, err := refdata.FullCI(refdata.H2)
+	fci, err := hamiltoniantest.FullCI(hamiltoniantest.H2)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -7,14 +7,14 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 )
 
 // loadH2 returns the Jordan–Wigner H2 Hamiltonian at 0.74 Å
-// (internal/refdata, computed outside this project).
+// (hamiltonian/hamiltoniantest, computed outside this project).
 func loadH2(t *testing.T) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, _, err := refdata.H2Qubit(refdata.H2, "jw")
+	h, _, err := hamiltoniantest.H2Qubit(hamiltoniantest.H2, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -25,7 +25,7 @@ func loadH2(t *testing.T) *hamiltonian.Hamiltonian {
 // strategies, runs them on the simulator and estimates with the estimator
 // that fits each plan, 400 times with fresh seeds. The mean estimate must
 // lie within 4 standard errors of the exact energy (the full-CI value of
-// internal/refdata/energies.json, psi4), widened by the mean
+// hamiltonian/hamiltoniantest/energies.json, psi4), widened by the mean
 // bias bound (terms a random plan happened not to cover, for the grouped
 // estimator); for a normal mean the false-failure rate is 6e-5 per case.
 func TestPlansEndToEnd(t *testing.T) {
@@ -37,7 +37,7 @@ func TestPlansEndToEnd(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fci, err := refdata.FullCI(refdata.H2)
+	fci, err := hamiltoniantest.FullCI(hamiltoniantest.H2)
 	if err != nil {
 		t.Fatal(err)
 	}

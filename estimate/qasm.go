@@ -182,33 +182,33 @@ func ReadManifest(r io.Reader) (settings []pauli.Setting, shots []int, err error
 		line, _ := cr.FieldPos(0)
 		if !header {
 			if strings.Join(f, ",") != manifestHeader {
-				return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("header %q, want %q", strings.Join(f, ","), manifestHeader)}
+				return nil, nil, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(f, ","), manifestHeader))
 			}
 			header = true
 			continue
 		}
 		if len(f) != 4 {
-			return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("%d fields, want 4", len(f))}
+			return nil, nil, lineError(line, fmt.Sprintf("%d fields, want 4", len(f)))
 		}
 		if k, err := strconv.Atoi(f[0]); err != nil || k != len(settings) {
-			return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("index %q, want %d", f[0], len(settings))}
+			return nil, nil, lineError(line, fmt.Sprintf("index %q, want %d", f[0], len(settings)))
 		}
 		s, err := pauli.ParseSetting(f[2])
 		if err != nil {
-			return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q: %v", f[2], err)}
+			return nil, nil, lineError(line, fmt.Sprintf("setting %q: %v", f[2], err))
 		}
 		if len(settings) > 0 && s.Qubits() != settings[0].Qubits() {
-			return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("setting %q has %d qubits, want %d", f[2], s.Qubits(), settings[0].Qubits())}
+			return nil, nil, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", f[2], s.Qubits(), settings[0].Qubits()))
 		}
 		m, err := strconv.Atoi(f[3])
 		if err != nil || m < 0 {
-			return nil, nil, &LineError{Line: line, Reason: fmt.Sprintf("shot count %q is not a non-negative integer", f[3])}
+			return nil, nil, lineError(line, fmt.Sprintf("shot count %q is not a non-negative integer", f[3]))
 		}
 		settings = append(settings, s)
 		shots = append(shots, m)
 	}
 	if !header {
-		return nil, nil, &LineError{Line: 1, Reason: fmt.Sprintf("missing header %q", manifestHeader)}
+		return nil, nil, lineError(1, fmt.Sprintf("missing header %q", manifestHeader))
 	}
 	return settings, shots, nil
 }

@@ -172,7 +172,7 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 			wb[kw] = -2
 		}
 	}
-	w := sw.w
+	pass := &shadowPass{sw: sw, cover: res.Cover, x: x, xg: xg, bg: bg, wb: wb, batch: batch}
 	for k0 := 0; k0 < sw.words; k0 += blockWords {
 		k1 := min(k0+blockWords, sw.words)
 		sw.sliceBlock(k0, k1)
@@ -180,42 +180,10 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 			if wt[i] == 0 {
 				continue
 			}
-			rs, supp, vi, ei := sw.rows(i), sw.termSupp(i), v[i], e[i]
-			ts := termSum[i*k : (i+1)*k]
+			rs, ts := sw.rows(i), termSum[i*k:(i+1)*k]
 			for kw := k0; kw < k1; kw++ {
-				u := sw.covering(rs, kw)
-				if u == 0 {
-					continue
-				}
-				if one := u & sw.one[kw]; one != 0 {
-					c := bits.OnesCount64(one)
-					res.Cover[i] += c
-					odd := sw.oddSlice(rs, kw, k0)
-					xk, bk := xg[kw<<6:kw<<6+64], bg[kw<<6:kw<<6+64]
-					if b := wb[kw]; b >= 0 {
-						ts[b] += vi * float64(c-2*bits.OnesCount64(one&odd))
-						for ; one != 0; one &= one - 1 {
-							t := bits.TrailingZeros64(one)
-							xk[t] += ei - 2*ei*float64(odd>>t&1)
-						}
-					} else {
-						for ; one != 0; one &= one - 1 {
-							t := bits.TrailingZeros64(one)
-							sign := 1 - 2*float64(odd>>t&1)
-							xk[t] += sign * ei
-							ts[bk[t]] += sign * vi
-						}
-					}
-				}
-				for u &^= sw.one[kw]; u != 0; u &= u - 1 {
-					g := kw<<6 + bits.TrailingZeros64(u)
-					lo, hi := sw.off[g], sw.off[g+1]
-					res.Cover[i] += hi - lo
-					for p := lo; p < hi; p++ {
-						sign := 1 - 2*float64(pauli.Bits(sw.flat[p*w:(p+1)*w]).Parity(supp))
-						x[p] += sign * ei
-						ts[batch[p]] += sign * vi
-					}
+				if u := sw.covering(rs, kw); u != 0 {
+					pass.addWord(i, kw, k0, u, rs, v[i], e[i], ts)
 				}
 			}
 		}
@@ -252,6 +220,58 @@ func shadow(h *hamiltonian.Hamiltonian, rec *Records, c *config, wt []float64, b
 	// Terms that can never be covered are left out.
 	c.finish(h, res, func(i int) bool { return wt[i] == 0 })
 	return res, nil
+}
+
+// shadowPass holds the accumulators of the shadow estimate's pass over the
+// terms, block of words by block of words.
+type shadowPass struct {
+	sw    *sweep
+	cover []int     // N_i
+	x     []float64 // single-shot energies by position (groups of several shots)
+	xg    []float64 // single-shot energies of one-shot groups, by group
+	bg    []int32   // batches of one-shot groups, by group
+	wb    []int32   // batch shared by every one-shot group of a word, or negative
+	batch []int32   // batch of each position
+}
+
+// addWord adds term i's contributions from the groups u (non-zero) of word
+// kw of the sliced block starting at word k0 that cover it (its letter sets
+// are rs): the term's value ±vi to its batch sums ts and its energy ±ei to
+// the shots' energies.
+func (ps *shadowPass) addWord(i, kw, k0 int, u uint64, rs []int32, vi, ei float64, ts []float64) {
+	sw := ps.sw
+	if one := u & sw.one[kw]; one != 0 {
+		ps.cover[i] += bits.OnesCount64(one)
+		odd := sw.oddSlice(rs, kw, k0)
+		xk, bk := ps.xg[kw<<6:kw<<6+64], ps.bg[kw<<6:kw<<6+64]
+		if b := ps.wb[kw]; b >= 0 {
+			// One batch for the whole word: the batch sum is one signed
+			// count.
+			ts[b] += vi * float64(bits.OnesCount64(one)-2*bits.OnesCount64(one&odd))
+			for ; one != 0; one &= one - 1 {
+				t := bits.TrailingZeros64(one)
+				xk[t] += ei - 2*ei*float64(odd>>t&1)
+			}
+		} else {
+			for ; one != 0; one &= one - 1 {
+				t := bits.TrailingZeros64(one)
+				sign := 1 - 2*float64(odd>>t&1)
+				xk[t] += sign * ei
+				ts[bk[t]] += sign * vi
+			}
+		}
+	}
+	supp, w := sw.termSupp(i), sw.w
+	for u &^= sw.one[kw]; u != 0; u &= u - 1 {
+		g := kw<<6 + bits.TrailingZeros64(u)
+		lo, hi := sw.off[g], sw.off[g+1]
+		ps.cover[i] += hi - lo
+		for p := lo; p < hi; p++ {
+			sign := 1 - 2*float64(pauli.Bits(sw.flat[p*w:(p+1)*w]).Parity(supp))
+			ps.x[p] += sign * ei
+			ts[ps.batch[p]] += sign * vi
+		}
+	}
 }
 
 // median returns the median of v, reordering v. For an even length it is

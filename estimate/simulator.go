@@ -9,6 +9,7 @@ import (
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/symplectic"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -248,7 +249,7 @@ func letterKey(s pauli.Setting) uint64 {
 	x, z := s.Words()
 	var k uint64
 	for q := s.Qubits() - 1; q >= 0; q-- {
-		k = k<<2 | uint64(letterCode(x, z, q))
+		k = k<<2 | uint64(symplectic.Code(x, z, q))
 	}
 	return k
 }

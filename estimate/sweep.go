@@ -3,6 +3,7 @@ package estimate
 import (
 	"math/bits"
 
+	"github.com/shotplan/shotplan/internal/symplectic"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -56,7 +57,7 @@ func newSweep(rec *Records, t *pauli.Table) *sweep {
 		if st := rec.Setting(g); st.IsLocal() {
 			x, z := st.Words()
 			for q := range s.n {
-				s.sets[(3*q+letterCode(x, z, q)-1)*s.words+g>>6] |= 1 << (g & 63)
+				s.sets[(3*q+int(symplectic.Code(x, z, q))-1)*s.words+g>>6] |= 1 << (g & 63)
 			}
 		}
 		s.off[g+1] = s.off[g] + rec.GroupLen(g)
@@ -73,17 +74,12 @@ func newSweep(rec *Records, t *pauli.Table) *sweep {
 			for u != 0 {
 				q := k<<6 + bits.TrailingZeros64(u)
 				u &= u - 1
-				s.rowIdx = append(s.rowIdx, int32(3*q+letterCode(x, z, q)-1))
+				s.rowIdx = append(s.rowIdx, int32(3*q+int(symplectic.Code(x, z, q))-1))
 			}
 		}
 		s.rowOff[i+1] = len(s.rowIdx)
 	}
 	return s
-}
-
-// letterCode returns x | z<<1 for qubit q: X = 1, Z = 2, Y = 3.
-func letterCode(x, z []uint64, q int) int {
-	return int(x[q>>6]>>(q&63)&1 | (z[q>>6]>>(q&63)&1)<<1)
 }
 
 // rows returns the set indices of term i's letters.

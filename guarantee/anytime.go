@@ -144,6 +144,100 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 		// since NewIID has the same pointer and other terms.
 		return nil, fmt.Errorf("guarantee: the plan was made for another Hamiltonian (or its content changed since NewIID)")
 	}
+	rng := rand.New(rand.NewPCG(s.Seed, 0x616e7974696d65))
+	var bopt BettingOptions
+	if s.Betting != nil {
+		bopt = *s.Betting
+	}
+	d := s.Plan
+	res := &AnytimeResult{Plan: d}
+	if s.Pilot > 0 {
+		var err error
+		if d, res.Pilot, err = anytimePilot(h, dev, s, rng, &bopt); err != nil {
+			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+		}
+		res.Plan, res.PilotShots = d, s.Pilot
+	}
+	cs, err := anytimeSequence(d, s, &bopt)
+	if err != nil {
+		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+	}
+	if s.Method == Betting {
+		res.Horizon = bopt.Horizon
+	}
+	if err := anytimeRounds(h.Qubits(), dev, d, rng, s, cs, res); err != nil {
+		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+	}
+	return res, nil
+}
+
+// anytimePilot measures the pilot's s.Pilot shots from s.Plan and returns
+// the distribution re-weighted from their data (which nothing else sees)
+// and the pilot's records. Aiming at a target without a horizon, it also
+// sets bopt.Horizon to the shots the pilot's variance estimate predicts.
+func anytimePilot(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions, rng *rand.Rand, bopt *BettingOptions) (*IID, *estimate.Records, error) {
+	d := s.Plan
+	pilot := estimate.NewRecords(h.Qubits())
+	mo, err := allocate.NewMoments(h, d.Settings)
+	if err != nil {
+		return nil, nil, err
+	}
+	pilotSum := 0.0
+	if err := drawRound(dev, d, rng, s.Pilot, pilot, func(k int, b pauli.Bits) error {
+		mo.Observe(d.Settings[k], b)
+		pilotSum += d.Value(k, b) - d.Offset
+		return nil
+	}); err != nil {
+		return nil, nil, err
+	}
+	w, err := mo.Reweight(d.Prob, s.Variance)
+	if err != nil {
+		return nil, nil, err
+	}
+	if d, err = NewIID(h, mo.Settings(), w); err != nil {
+		return nil, nil, err
+	}
+	if s.Target > 0 && bopt.Horizon == 0 {
+		// Var X = E[(X−h_0)²] − (E − h_0)², both estimated from the
+		// pilot; the mean of X − h_0 does not depend on π.
+		m2, err := mo.SecondMoment(w)
+		if err != nil {
+			return nil, nil, err
+		}
+		mu := pilotSum / float64(s.Pilot)
+		v := max(m2-mu*mu, 0)
+		if n := 2 * math.Log(2/s.Delta) * v / (s.Target * s.Target); n >= 1 && n < float64(s.MaxShots) {
+			bopt.Horizon = int(math.Ceil(n))
+		} else if n >= float64(s.MaxShots) {
+			bopt.Horizon = s.MaxShots - s.Pilot
+		}
+	}
+	return d, pilot, nil
+}
+
+// anytimeSequence builds the confidence sequence for the certified shots
+// of d, once. Without a pilot's horizon, the betting sequence aims its bets
+// at the target from the certified shots themselves (predictably).
+func anytimeSequence(d *IID, s *AnytimeOptions, bopt *BettingOptions) (ConfSeq, error) {
+	lo, hi := d.Range()
+	switch {
+	case d.Dist.Width == 0:
+		// Every shot gives the same value (h_0 plus nothing measurable):
+		// no confidence sequence is needed.
+		return &constantSeq{x: lo}, nil
+	case s.Method == BernsteinEpochs:
+		return NewBernsteinCS(lo, hi, s.Delta, 0, 0)
+	}
+	if bopt.Horizon == 0 && bopt.Aim == 0 && s.Pilot == 0 && s.Target > d.Bias {
+		bopt.Aim = s.Target - d.Bias
+	}
+	return NewBettingCS(lo, hi, s.Delta, bopt)
+}
+
+// anytimeRounds measures rounds of geometrically growing size from d on
+// dev, feeds every shot to cs, and records the interval after each round in
+// res, until the target radius is certified or the budget is spent.
+func anytimeRounds(qubits int, dev estimate.Device, d *IID, rng *rand.Rand, s *AnytimeOptions, cs ConfSeq, res *AnytimeResult) error {
 	first, growth := s.FirstRound, s.Growth
 	if first == 0 {
 		first = 100
@@ -151,81 +245,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 	if growth == 0 {
 		growth = 1.5
 	}
-	rng := rand.New(rand.NewPCG(s.Seed, 0x616e7974696d65))
-	var bopt BettingOptions
-	if s.Betting != nil {
-		bopt = *s.Betting
-	}
-	res := &AnytimeResult{Plan: s.Plan}
-	d := s.Plan
-
-	if s.Pilot > 0 {
-		pilot := estimate.NewRecords(h.Qubits())
-		mo, err := allocate.NewMoments(h, d.Settings)
-		if err != nil {
-			return nil, err
-		}
-		pilotSum := 0.0
-		if err := drawRound(dev, d, rng, s.Pilot, pilot, func(k int, b pauli.Bits) error {
-			mo.Observe(d.Settings[k], b)
-			pilotSum += d.Value(k, b) - d.Offset
-			return nil
-		}); err != nil {
-			return nil, fmt.Errorf("guarantee: pilot: %w", err)
-		}
-		w, err := mo.Reweight(d.Prob, s.Variance)
-		if err != nil {
-			return nil, fmt.Errorf("guarantee: pilot: %w", err)
-		}
-		if d, err = NewIID(h, mo.Settings(), w); err != nil {
-			return nil, fmt.Errorf("guarantee: pilot: %w", err)
-		}
-		res.Plan, res.Pilot, res.PilotShots = d, pilot, s.Pilot
-		if s.Target > 0 && (bopt.Horizon == 0) {
-			// Var X = E[(X−h_0)²] − (E − h_0)², both estimated from the
-			// pilot; the mean of X − h_0 does not depend on π.
-			m2, err := mo.SecondMoment(w)
-			if err != nil {
-				return nil, fmt.Errorf("guarantee: pilot: %w", err)
-			}
-			mu := pilotSum / float64(s.Pilot)
-			v := max(m2-mu*mu, 0)
-			if n := 2 * math.Log(2/s.Delta) * v / (s.Target * s.Target); n >= 1 && n < float64(s.MaxShots) {
-				bopt.Horizon = int(math.Ceil(n))
-			} else if n >= float64(s.MaxShots) {
-				bopt.Horizon = s.MaxShots - s.Pilot
-			}
-		}
-	}
-
-	lo, hi := d.Range()
-	var cs ConfSeq
-	var err error
-	if d.Dist.Width == 0 {
-		// Every shot gives the same value (h_0 plus nothing measurable):
-		// no confidence sequence is needed.
-		cs = &constantSeq{x: lo}
-	} else if s.Method == Betting {
-		cs, err = NewBettingCS(lo, hi, s.Delta, &bopt)
-	} else {
-		cs, err = NewBernsteinCS(lo, hi, s.Delta, 0, 0)
-	}
-	if err != nil {
-		return nil, fmt.Errorf("guarantee: %w", err)
-	}
-	if s.Method == Betting {
-		res.Horizon = bopt.Horizon
-	}
-	if s.Method == Betting && bopt.Horizon == 0 && bopt.Aim == 0 && s.Pilot == 0 && s.Target > d.Bias {
-		// No pilot to estimate the horizon: aim the bets at the target
-		// from the certified shots themselves (predictably).
-		bopt.Aim = s.Target - d.Bias
-		cs, err = NewBettingCS(lo, hi, s.Delta, &bopt)
-		if err != nil {
-			return nil, fmt.Errorf("guarantee: %w", err)
-		}
-	}
-	rec := estimate.NewRecords(h.Qubits())
+	rec := estimate.NewRecords(qubits)
 	res.Records = rec
 	sum := 0.0
 	size := float64(first)
@@ -238,7 +258,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 			sum += x
 			return cs.Add(x)
 		}); err != nil {
-			return nil, fmt.Errorf("guarantee: round %d: %w", res.Rounds+1, err)
+			return fmt.Errorf("round %d: %w", res.Rounds+1, err)
 		}
 		res.Rounds++
 		res.Shots += n
@@ -253,7 +273,7 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 	}
 	res.Estimate = (res.Interval[0] + res.Interval[1]) / 2
 	res.Mean = sum / float64(res.Shots)
-	return res, nil
+	return nil
 }
 
 // drawRound draws n settings from d, measures them on dev into rec with

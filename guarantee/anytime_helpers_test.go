@@ -11,7 +11,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -25,7 +25,7 @@ type anytimeSystem struct {
 }
 
 // anytimeSystems returns the H2 and LiH (Jordan–Wigner, from the FCIDUMP
-// internal/refdata) and 10-qubit TFIM ground states.
+// hamiltonian/hamiltoniantest) and 10-qubit TFIM ground states.
 // The systems are built once per test binary.
 func anytimeSystems(t testing.TB) []anytimeSystem {
 	t.Helper()
@@ -45,12 +45,12 @@ func buildAnytimeSystems(t testing.TB) []anytimeSystem {
 		fci        float64
 	}{
 		// Full-CI energies of the shared reference data (psi4 1.3.2;
-		// internal/refdata/README.md), equal to the lowest eigenvalue of
+		// hamiltonian/hamiltoniantest/README.md), equal to the lowest eigenvalue of
 		// the qubit Hamiltonian over all electron numbers.
-		{"H2 (JW)", refdata.H2Alt, -1.1372701747},
-		{"LiH (JW)", refdata.LiH, -7.8824034103},
+		{"H2 (JW)", hamiltoniantest.H2Alt, -1.1372701747},
+		{"LiH (JW)", hamiltoniantest.LiH, -7.8824034103},
 	} {
-		h, err := refdata.Molecule(c.file, fermion.JordanWigner)
+		h, err := hamiltoniantest.Molecule(c.file, fermion.JordanWigner)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -59,7 +59,7 @@ func buildAnytimeSystems(t testing.TB) []anytimeSystem {
 			t.Fatal(err)
 		}
 		if math.Abs(ev.Energy-c.fci) > 1e-8 {
-			t.Fatalf("%s ground energy %.10f, want the full-CI %.10f (internal/refdata)", c.name, ev.Energy, c.fci)
+			t.Fatalf("%s ground energy %.10f, want the full-CI %.10f (hamiltonian/hamiltoniantest)", c.name, ev.Energy, c.fci)
 		}
 		out = append(out, anytimeSystem{c.name, true, h, ev.State, ev.Energy})
 	}

@@ -8,16 +8,16 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
 // h2JW returns the 15-term H2 qubit Hamiltonian (STO-3G, R = 0.7414 Å,
-// Jordan–Wigner) of internal/refdata, computed outside this project; its
+// Jordan–Wigner) of hamiltonian/hamiltoniantest, computed outside this project; its
 // lowest eigenvalue is −1.137270174657 hartree.
 func h2JW(t testing.TB) *hamiltonian.Hamiltonian {
 	t.Helper()
-	h, _, err := refdata.H2Qubit(refdata.H2Alt, "jw")
+	h, _, err := hamiltoniantest.H2Qubit(hamiltoniantest.H2Alt, "jw")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -9,7 +9,7 @@ import (
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -75,7 +75,7 @@ func TestCertifyEntangledCoverage(t *testing.T) {
 	if testing.Short() {
 		t.Skip("300 simulated runs")
 	}
-	h, err := refdata.Molecule(refdata.H2, fermion.JordanWigner)
+	h, err := hamiltoniantest.Molecule(hamiltoniantest.H2, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}

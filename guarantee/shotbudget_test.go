@@ -9,7 +9,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
-	"github.com/shotplan/shotplan/internal/refdata"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -25,7 +25,7 @@ func copiesOf(p *allocate.Plan, r int) *allocate.Plan {
 // Copies is exactly the smallest number of copies whose certificate meets
 // ε: checked by certifying the replicated plans directly.
 func TestBudgetOfCopiesCertify(t *testing.T) {
-	h, err := refdata.Molecule(refdata.LiH, fermion.JordanWigner)
+	h, err := hamiltoniantest.Molecule(hamiltoniantest.LiH, fermion.JordanWigner)
 	if err != nil {
 		t.Fatal(err)
 	}

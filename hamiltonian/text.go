@@ -17,23 +17,6 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// ErrFormat is wrapped by every error about malformed Hamiltonian input.
-var ErrFormat = errors.New("malformed Hamiltonian")
-
-// LineError reports one bad line of a text file.
-type LineError struct {
-	Line   int    // 1-based line number
-	Text   string // the line as read
-	Reason string
-}
-
-func (e *LineError) Error() string {
-	return fmt.Sprintf("hamiltonian: line %d: %s", e.Line, e.Reason)
-}
-
-// Unwrap returns [ErrFormat].
-func (e *LineError) Unwrap() error { return ErrFormat }
-
 // maxLineErrors bounds how many bad lines one error lists.
 const maxLineErrors = 50
 
@@ -63,7 +46,7 @@ const (
 // lineError builds the error about one line; every reader of the package
 // makes its line errors here.
 func lineError(line int, text, format string, args ...any) error {
-	return &LineError{Line: line, Text: inputcap.Clip(text), Reason: fmt.Sprintf(format, args...)}
+	return &LineError{Reader: "hamiltonian", Line: line, Text: inputcap.Clip(text), Reason: fmt.Sprintf(format, args...)}
 }
 
 // Read parses the text format described in the package documentation. It

@@ -1,5 +1,7 @@
 package pauli
 
+import "github.com/shotplan/shotplan/internal/symplectic"
+
 // Letter is a single-qubit Pauli operator.
 type Letter uint8
 
@@ -32,10 +34,14 @@ func (l Letter) bits() (x, z uint64) {
 	return 0, 0
 }
 
-// letterOf returns the letter of the symplectic pair (x, z), each 0 or 1.
-func letterOf(x, z uint64) Letter {
-	return [4]Letter{I, X, Z, Y}[x|z<<1]
-}
+// codeLetter maps the symplectic code x | z<<1 of a qubit to its letter.
+var codeLetter = [4]Letter{I, X, Z, Y}
+
+// LetterAt returns the letter of qubit q of the string with symplectic words
+// x, z: bit q%64 of word q/64 of each, the layout of [String.Words] and of
+// [Table] rows. It reads the words directly, without building a String, for
+// word-wise loops over many terms. It panics if q is beyond the words.
+func LetterAt(x, z []uint64, q int) Letter { return codeLetter[symplectic.Code(x, z, q)] }
 
 // letterFromByte parses one letter, accepting upper and lower case.
 func letterFromByte(c byte) (Letter, bool) {

@@ -77,7 +77,7 @@ func (p String) At(q int) Letter {
 	if q < 0 || q >= p.n {
 		panic("pauli: qubit index out of range")
 	}
-	return letterOf(p.x[q>>6]>>(q&63)&1, p.z[q>>6]>>(q&63)&1)
+	return LetterAt(p.x, p.z, q)
 }
 
 // With returns a copy of p with letter l on qubit q. It panics if q is out of

@@ -10,30 +10,23 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/inputcap"
 )
 
-// ErrFormat is wrapped by every error about a malformed FCIDUMP file.
-var ErrFormat = errors.New("malformed FCIDUMP")
+// ErrFormat is wrapped by every error about a malformed FCIDUMP file. It is
+// hamiltonian.ErrFormat, the module's one sentinel for malformed input.
+var ErrFormat = hamiltonian.ErrFormat
 
 // ErrUnrestricted is wrapped by the error for an unrestricted (UHF) file,
 // whose α and β integrals differ; this package handles restricted
 // integrals only.
 var ErrUnrestricted = errors.New("unrestricted (UHF) integrals are not supported")
 
-// LineError reports one bad line of an FCIDUMP file.
-type LineError struct {
-	Line   int    // 1-based line number
-	Reason string // what is wrong
-	Err    error  // ErrFormat or ErrUnrestricted
-}
-
-func (e *LineError) Error() string {
-	return fmt.Sprintf("molecule: FCIDUMP line %d: %s", e.Line, e.Reason)
-}
-
-// Unwrap returns [ErrFormat] or [ErrUnrestricted].
-func (e *LineError) Unwrap() error { return e.Err }
+// LineError reports one bad line of an FCIDUMP file; its Err is [ErrFormat]
+// or [ErrUnrestricted]. It is hamiltonian.LineError, the module's one line
+// error.
+type LineError = hamiltonian.LineError
 
 // maxLineErrors bounds how many bad lines one error lists.
 const maxLineErrors = 20
@@ -94,7 +87,7 @@ func (fr *fcidumpReader) bad(line int, sentinel error, format string, args ...an
 // lineError builds the error about one line; every reader of the package
 // makes its line errors here.
 func lineError(line int, sentinel error, format string, args ...any) error {
-	return &LineError{Line: line, Reason: fmt.Sprintf(format, args...), Err: sentinel}
+	return &LineError{Reader: "molecule: FCIDUMP", Line: line, Reason: fmt.Sprintf(format, args...), Err: sentinel}
 }
 
 // header reads the header: "&FCI", then NAME=value items up to "&END" or
@@ -286,7 +279,7 @@ func scanError(err error, line int) error {
 	case err == nil:
 		return nil
 	case errors.Is(err, bufio.ErrTooLong):
-		return &LineError{Line: line, Reason: "line longer than 16 MiB", Err: ErrFormat}
+		return &LineError{Reader: "molecule: FCIDUMP", Line: line, Reason: "line longer than 16 MiB", Err: ErrFormat}
 	}
 	return fmt.Errorf("molecule: FCIDUMP line %d: %w", line, err)
 }

@@ -9,6 +9,7 @@ import (
 	"math/bits"
 	"slices"
 
+	"github.com/shotplan/shotplan/internal/symplectic"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -94,9 +95,7 @@ func New(n, rows int, row func(i int) (x, z []uint64)) *Index {
 }
 
 // letterCode returns 0, 1, 2 for X, Z, Y on qubit q (−1 for I).
-func letterCode(x, z []uint64, q int) int32 {
-	return int32(x[q>>6]>>(q&63)&1|(z[q>>6]>>(q&63)&1)<<1) - 1
-}
+func letterCode(x, z []uint64, q int) int32 { return int32(symplectic.Code(x, z, q)) - 1 }
 
 // supportQubits appends to dst the first up-to-max support qubits of the
 // string with words x, z, and reports whether it has more.

@@ -1,4 +1,4 @@
-package refdata
+package hamiltoniantest
 
 import (
 	"bytes"
@@ -16,7 +16,8 @@ import (
 //go:embed *.fcidump *.json
 var files embed.FS
 
-// The molecules, by the base names of their FCIDUMP files.
+// The molecules, by the base names of their FCIDUMP files (README.md in
+// this package's directory names their source).
 const (
 	H2      = "h2_sto3g_0.74A"    // H2, R = 0.74 Å, 4 spin orbitals
 	H2Alt   = "h2_sto3g_0.7414A"  // H2, R = 0.7414 Å
@@ -26,6 +27,9 @@ const (
 	jsonH2  = "h2_qubit_hamiltonians.json"
 	jsonFCI = "energies.json"
 )
+
+// Molecules lists the names of the embedded molecules.
+var Molecules = []string{H2, H2Alt, H2Bohr, LiH, H2O}
 
 // FCIDUMP returns the bytes of the named molecule's FCIDUMP file.
 func FCIDUMP(name string) ([]byte, error) {
@@ -41,7 +45,7 @@ func Molecule(name string, enc fermion.Encoding) (*hamiltonian.Hamiltonian, erro
 	}
 	g, err := molecule.ReadFCIDUMP(bytes.NewReader(b))
 	if err != nil {
-		return nil, fmt.Errorf("refdata: %s: %w", name, err)
+		return nil, fmt.Errorf("hamiltoniantest: %s: %w", name, err)
 	}
 	return g.QubitHamiltonian(enc)
 }
@@ -62,7 +66,7 @@ func FullCI(name string) (float64, error) {
 		FCI *float64 `json:"E_FCI"`
 	}
 	if err := json.Unmarshal(all[name], &e); err != nil || e.FCI == nil {
-		return 0, fmt.Errorf("refdata: no full-CI energy for %q", name)
+		return 0, fmt.Errorf("hamiltoniantest: no full-CI energy for %q", name)
 	}
 	return *e.FCI, nil
 }
@@ -82,15 +86,15 @@ func H2Qubit(name, encoding string) (*hamiltonian.Hamiltonian, float64, error) {
 	}
 	var mol map[string]json.RawMessage
 	if err := json.Unmarshal(all[name], &mol); err != nil || mol == nil {
-		return nil, 0, fmt.Errorf("refdata: no H2 Hamiltonians for %q", name)
+		return nil, 0, fmt.Errorf("hamiltoniantest: no H2 Hamiltonians for %q", name)
 	}
 	var coeffs map[string]float64
 	var lowest float64
 	if err := json.Unmarshal(mol[encoding], &coeffs); err != nil || coeffs == nil {
-		return nil, 0, fmt.Errorf("refdata: no %q Hamiltonian for %q", encoding, name)
+		return nil, 0, fmt.Errorf("hamiltoniantest: no %q Hamiltonian for %q", encoding, name)
 	}
 	if err := json.Unmarshal(mol[encoding+"_lowest_eigenvalue"], &lowest); err != nil {
-		return nil, 0, fmt.Errorf("refdata: no lowest eigenvalue for %q %q", name, encoding)
+		return nil, 0, fmt.Errorf("hamiltoniantest: no lowest eigenvalue for %q %q", name, encoding)
 	}
 	keys := make([]string, 0, len(coeffs))
 	for k := range coeffs {
@@ -101,7 +105,7 @@ func H2Qubit(name, encoding string) (*hamiltonian.Hamiltonian, float64, error) {
 	for _, k := range keys {
 		p, err := pauli.Parse(k)
 		if err != nil {
-			return nil, 0, fmt.Errorf("refdata: %s: %w", name, err)
+			return nil, 0, fmt.Errorf("hamiltoniantest: %s: %w", name, err)
 		}
 		terms = append(terms, hamiltonian.Term{Pauli: p, Coeff: coeffs[k]})
 	}

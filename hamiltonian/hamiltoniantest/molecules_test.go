@@ -1,4 +1,4 @@
-package refdata
+package hamiltoniantest
 
 import (
 	"math"
