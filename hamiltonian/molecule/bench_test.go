@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 )
 
@@ -91,4 +92,31 @@ func BenchmarkReadFCIDUMP(b *testing.B) {
 			}
 		})
 	}
+}
+
+// BenchmarkSectorGroundState finds the ground state of the Jordan–Wigner
+// Hamiltonian of seeded random integrals on 12 orbitals (24 qubits) in the
+// sector of 12 electrons with S_z = 0 (853 776 determinants).
+func BenchmarkSectorGroundState(b *testing.B) {
+	const orbitals, electrons = 12, 12
+	h, err := randomIntegrals(b, orbitals, 1).QubitHamiltonian(fermion.JordanWigner)
+	if err != nil {
+		b.Fatal(err)
+	}
+	sec, err := hamiltonian.ElectronSector(2*orbitals, electrons, 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.Run(fmt.Sprintf("qubits=%d/terms=%d/dim=%d", h.Qubits(), h.Len(), sec.Dim(h.Qubits())), func(b *testing.B) {
+		b.ReportAllocs()
+		products := 0
+		for b.Loop() {
+			gs, err := hamiltonian.GroundState(h, &hamiltonian.EigenSettings{Sector: &sec})
+			if err != nil {
+				b.Fatal(err)
+			}
+			products = gs.Products
+		}
+		b.ReportMetric(float64(products), "products")
+	})
 }
