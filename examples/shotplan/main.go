@@ -27,12 +27,12 @@ type command struct {
 }
 
 var commands = []command{
-	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact] [-json] HAMILTONIAN", nil},
+	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN", nil},
 	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
 	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H -strategy NAME -shots N [-seed S] -o PLAN", strategyHelp},
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta 0.05]", certifyHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
-	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] -o RECORDS", nil},
+	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS", nil},
 	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05]", estimateHelp},
 }
 

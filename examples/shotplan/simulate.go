@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"os"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -14,6 +15,8 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
 	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P, P01,P10 sets the two directions (default none)")
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required)")
+	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
+	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -24,9 +27,24 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := notInput(*out, *ham, *plan); err != nil {
 			return err
 		}
-		h, f, err := loadHamPlan(*ham, *plan)
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		f, err := loadPlan(*plan)
 		if err != nil {
 			return err
+		}
+		if err := f.Check(h); err != nil {
+			return badf("%w (Hamiltonian %s)", err, *ham)
+		}
+		if *stateFile != "" {
+			if err := notInput(*stateFile, *ham, *plan, *out); err != nil {
+				return err
+			}
 		}
 		if h.Qubits() > hamiltonian.MaxExactQubits {
 			return badf("%s: %d qubits, the simulator takes at most %d", *ham, h.Qubits(), hamiltonian.MaxExactQubits)
@@ -35,7 +53,31 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorSettings{Readout: ro})
+		sec, err := sf.resolve(h.Qubits(), g)
+		if err != nil {
+			return err
+		}
+		var ground hamiltonian.Eigenpair
+		loaded := false
+		if *stateFile != "" {
+			if _, err := os.Stat(*stateFile); err == nil {
+				if ground, err = readState(*stateFile, h, sec); err != nil {
+					return bad(err)
+				}
+				loaded = true
+			}
+		}
+		if !loaded {
+			if ground, err = groundState(h, sec); err != nil {
+				return err
+			}
+			if *stateFile != "" {
+				if err := writeState(*stateFile, h, sec, ground); err != nil {
+					return bad(err)
+				}
+			}
+		}
+		sim, err := estimate.NewSimulator(ground.State, *seed, &estimate.SimulatorSettings{Readout: ro})
 		if err != nil {
 			return err
 		}
@@ -57,11 +99,12 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Seed         uint64  `json:"seed"`
 			GroundEnergy float64 `json:"ground_energy"`
 			Readout      string  `json:"readout,omitempty"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout}
+			Sector       string  `json:"sector"`
+		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String()}
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", *out, rec.Len(), ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (%s, energy %.10f), seed %d", *out, rec.Len(), sec, ground.Energy, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
