@@ -198,6 +198,24 @@ type sectorGroup struct {
 	zout      []uint64
 	tab       [][]complex128
 	realValue bool // every table entry is real
+
+	// sep is the separable form of a real group, nil otherwise: for a row
+	// string sA of the first half with pattern pa on its flipped qubits,
+	// the matrix element at β-link e is Σ_t α_t(sA)·vals[e·T+t] with
+	// α_t(sA) = Σ_{(z, c) ∈ alpha[t]} c·(−1)^{|z∧sA|}.
+	sep []*sepPattern // indexed by pa; nil entries for patterns never met
+}
+
+// sepPattern is the separable form of a group for one pattern of the first
+// half: T terms, each an α-side sum and a column of β-side values.
+type sepPattern struct {
+	alpha [][]sepCoef
+	vals  []float64 // len(links of the second half) × T, row-major
+}
+
+type sepCoef struct {
+	z uint64
+	c float64
 }
 
 const maxPatternBits = 8
@@ -210,6 +228,7 @@ type sectorOp struct {
 	strA, strB []uint64
 	diag       []float64
 	links      [][]sectorLink // per distinct half-flip: A halves first
+	li, lj     [][]int32      // the row and partner indices of links, for tight loops
 	groups     []sectorGroup
 }
 
@@ -242,6 +261,10 @@ func sectorBytes(op *operator, sec Sector) int64 {
 		w := bits.OnesCount64(g.x)
 		if w <= maxPatternBits {
 			total += int64(len(g.zr)+len(g.zi)) * (8 + 16<<w)
+			// The separable form: at most one column per term for each
+			// pattern of the first half.
+			wa := bits.OnesCount64(xa)
+			total += binom(wa, wa/2) * int64(len(g.zr)+len(g.zi)) * (8*linkCount(xb, rest, sec.Rest) + 16)
 		} else {
 			total += int64(len(g.zr)+len(g.zi)) * 24
 		}
@@ -356,6 +379,11 @@ func newSectorOp(op *operator, sec Sector) *sectorOp {
 		}
 		linkIndex[key] = len(so.links)
 		so.links = append(so.links, ls)
+		li, lj := make([]int32, len(ls)), make([]int32, len(ls))
+		for e, l := range ls {
+			li[e], lj[e] = l.i, l.j
+		}
+		so.li, so.lj = append(so.li, li), append(so.lj, lj)
 		return len(so.links) - 1
 	}
 	for _, g := range op.groups {
@@ -421,9 +449,66 @@ func newSectorOp(op *operator, sec Sector) *sectorOp {
 				}
 			}
 		}
+		if sg.realValue && w <= maxPatternBits {
+			so.separate(&sg, g.x&sec.Mask)
+		}
 		so.groups = append(so.groups, sg)
 	}
 	return so
+}
+
+// separate builds the separable form of a real group g whose first-half
+// flip is xa: the parity of zout on the second half and the table entry
+// become the β-side values, the parity on the first half the α-side sums.
+// Terms whose second-half parts agree share one column when the table does
+// not depend on the second half's pattern (wb = 0).
+func (so *sectorOp) separate(g *sectorGroup, xa uint64) {
+	la, lb := so.links[g.la], so.links[g.lb]
+	wa := bits.OnesCount64(xa)
+	maskB := widthMask(so.n) &^ so.sec.Mask
+	g.sep = make([]*sepPattern, 1<<wa)
+	for _, ea := range la {
+		pa := ea.pat
+		if g.sep[pa] != nil {
+			continue
+		}
+		sp := &sepPattern{}
+		type col struct {
+			zb  uint64
+			row uint32 // table row used when wb > 0
+			k   int
+		}
+		var cols []col
+		index := map[uint64]int{}
+		for k, z := range g.zout {
+			zb := z & maskB
+			if g.wb == 0 {
+				if t, ok := index[zb]; ok {
+					sp.alpha[t] = append(sp.alpha[t], sepCoef{z &^ maskB, real(g.tab[k][pa])})
+					continue
+				}
+				index[zb] = len(cols)
+			}
+			cols = append(cols, col{zb, pa << g.wb, k})
+			c := 1.0
+			if g.wb == 0 {
+				c = real(g.tab[k][pa])
+			}
+			sp.alpha = append(sp.alpha, []sepCoef{{z &^ maskB, c}})
+		}
+		T := len(cols)
+		sp.vals = make([]float64, len(lb)*T)
+		for e, eb := range lb {
+			for t, c := range cols {
+				v := 1.0
+				if g.wb > 0 {
+					v = real(g.tab[c.k][(c.row|eb.pat)&g.pmask])
+				}
+				sp.vals[e*T+t] = flip(v, c.zb&eb.s)
+			}
+		}
+		g.sep[pa] = sp
+	}
 }
 
 // apply sets dst = H·src on the sector. Rows are split among goroutines by
@@ -436,9 +521,11 @@ func (so *sectorOp) apply(dst, src []complex128) {
 		for i := lo * dB; i < hi*dB; i++ {
 			dst[i] = complex(so.diag[i], 0) * src[i]
 		}
+		var alpha []float64
 		for gi := range so.groups {
 			g := &so.groups[gi]
 			la, lb := so.links[g.la], so.links[g.lb]
+			li, lj := so.li[g.lb], so.lj[g.lb]
 			// Links are sorted by row index i.
 			from, _ := slices.BinarySearchFunc(la, int32(lo), func(l sectorLink, v int32) int { return int(l.i - v) })
 			for _, ea := range la[from:] {
@@ -447,18 +534,39 @@ func (so *sectorOp) apply(dst, src []complex128) {
 				}
 				out := dst[int(ea.i)*dB : int(ea.i+1)*dB]
 				in := src[int(ea.j)*dB : int(ea.j+1)*dB]
-				base := ea.pat << g.wb
-				if len(g.zout) == 1 && g.realValue {
-					z := g.zout[0]
-					tab := g.tab[0]
-					sa := flip(1, z&ea.s)
-					for _, eb := range lb {
-						v := flip(sa*real(tab[(base|eb.pat)&g.pmask]), z&eb.s)
-						s := in[eb.j]
-						out[eb.i] += complex(v*real(s), v*imag(s))
+				if g.sep != nil {
+					sp := g.sep[ea.pat]
+					alpha = alpha[:0]
+					for _, terms := range sp.alpha {
+						a := 0.0
+						for _, t := range terms {
+							a += flip(t.c, t.z&ea.s)
+						}
+						alpha = append(alpha, a)
+					}
+					if len(alpha) == 1 {
+						a := alpha[0]
+						vals := sp.vals[:len(li)]
+						for e, i := range li {
+							v := a * vals[e]
+							s := in[lj[e]]
+							out[i] += complex(v*real(s), v*imag(s))
+						}
+						continue
+					}
+					T := len(alpha)
+					for e, i := range li {
+						row := sp.vals[e*T : e*T+T]
+						v := 0.0
+						for t, a := range alpha {
+							v += a * row[t]
+						}
+						s := in[lj[e]]
+						out[i] += complex(v*real(s), v*imag(s))
 					}
 					continue
 				}
+				base := ea.pat << g.wb
 				for _, eb := range lb {
 					a := ea.s | eb.s
 					p := (base | eb.pat) & g.pmask
