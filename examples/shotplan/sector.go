@@ -75,9 +75,9 @@ type chosenSector struct {
 
 func (c chosenSector) String() string {
 	if c.sector == nil {
-		return "all electron numbers"
+		return "whole space"
 	}
-	return fmt.Sprintf("%d electrons, 2S_z = %d", c.electrons, c.spinTwice)
+	return fmt.Sprintf("%s, 2S_z = %d", plural(c.electrons, "electron"), c.spinTwice)
 }
 
 // resolve picks the sector from the flags, the FCIDUMP integrals g (nil for
