@@ -82,3 +82,52 @@ func TestSimulateStateFile(t *testing.T) {
 		t.Errorf("truncated state file: exit %d, want 2", code)
 	}
 }
+
+// FuzzReadState feeds arbitrary bytes to the state-file reader: it must
+// return an error or a state of 2^n finite amplitudes, never panic. The
+// seeds are a valid file of the H2 Hamiltonian and cut or altered copies.
+func FuzzReadState(f *testing.F) {
+	h, g, err := readHamAny(h2Dump)
+	if err != nil {
+		f.Fatal(err)
+	}
+	sec, err := sectorFlags{electrons: new(string), spin: new(string)}.resolve(h.Qubits(), g)
+	if err != nil {
+		f.Fatal(err)
+	}
+	gs, err := groundState(h, sec)
+	if err != nil {
+		f.Fatal(err)
+	}
+	dir := f.TempDir()
+	valid := filepath.Join(dir, "valid.state")
+	if err := writeState(valid, h, sec, gs); err != nil {
+		f.Fatal(err)
+	}
+	good, err := os.ReadFile(valid)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(good)
+	f.Add(good[:len(good)-5])
+	f.Add([]byte(strings.Replace(string(good), "amplitudes 2", "amplitudes 99", 1)))
+	f.Add([]byte("shotplan state 1\n"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		path := filepath.Join(t.TempDir(), "s.state")
+		if err := os.WriteFile(path, data, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		st, err := readState(path, h, sec)
+		if err != nil {
+			return
+		}
+		if len(st.State) != 1<<h.Qubits() {
+			t.Fatalf("state of %d amplitudes", len(st.State))
+		}
+		for _, v := range st.State {
+			if math.IsNaN(real(v)+imag(v)) || math.IsInf(real(v)+imag(v), 0) {
+				t.Fatalf("amplitude %v", v)
+			}
+		}
+	})
+}
