@@ -2,9 +2,13 @@ package allocate
 
 import (
 	"fmt"
+	"runtime"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -63,9 +67,6 @@ func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 	if len(settings) != len(shots) {
 		return nil, fmt.Errorf("allocate: %d settings but %d shot counts", len(settings), len(shots))
 	}
-	cover := make([]int, h.Len())
-	var idx []int
-	t := h.Table()
 	for k, s := range settings {
 		if s.Qubits() != h.Qubits() {
 			return nil, fmt.Errorf("allocate: setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), h.Qubits())
@@ -73,10 +74,83 @@ func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 		if shots[k] < 0 {
 			return nil, fmt.Errorf("allocate: setting %d (%s) has negative shot count %d", k, s, shots[k])
 		}
-		idx = t.Covered(idx[:0], s)
-		for _, i := range idx {
-			cover[i] += shots[k]
+	}
+	// Repeated settings are merged and, for many settings, the terms are
+	// found through the letter-bucketed cover index instead of a test of
+	// every term per setting.
+	cover := make([]int, h.Len())
+	coverParallel(cover, h.Table(), settings, shots)
+	return cover, nil
+}
+
+// coverBlock is the number of distinct settings a goroutine of
+// coverParallel takes at a time.
+const coverBlock = 256
+
+// coverParallel is countCover with the distinct settings shared among up to
+// GOMAXPROCS goroutines, each with its own view of one cover index and its
+// own counts, added up at the end. The counts are integers, so the result
+// does not depend on the number of goroutines.
+func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots []int) {
+	workers := runtime.GOMAXPROCS(0)
+	if workers < 2 || len(settings) < 4*coverBlock {
+		countCover(cover, t, settings, shots)
+		return
+	}
+	index := make(map[string]int, len(settings))
+	var distinct []pauli.Setting
+	var total []int
+	for k, s := range settings {
+		key := s.Key()
+		if j, ok := index[key]; ok {
+			total[j] += shots[k]
+			continue
+		}
+		index[key] = len(distinct)
+		distinct = append(distinct, s)
+		total = append(total, shots[k])
+	}
+	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	var next atomic.Int64
+	parts := make([][]int, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Go(func() {
+			part := cover
+			if w > 0 {
+				part = make([]int, len(cover))
+			}
+			parts[w] = part
+			q := ci.Clone()
+			var idx []int32
+			var rows []int
+			for {
+				lo := int(next.Add(coverBlock)) - coverBlock
+				if lo >= len(distinct) {
+					return
+				}
+				for j := lo; j < min(lo+coverBlock, len(distinct)); j++ {
+					s := distinct[j]
+					if !s.IsLocal() {
+						rows = t.Covered(rows[:0], s)
+						for _, i := range rows {
+							part[i] += total[j]
+						}
+						continue
+					}
+					x, z := s.Words()
+					idx = q.AppendCovered(idx[:0], x, z)
+					for _, i := range idx {
+						part[i] += total[j]
+					}
+				}
+			}
+		})
+	}
+	wg.Wait()
+	for _, part := range parts[1:] {
+		for i, c := range part {
+			cover[i] += c
 		}
 	}
-	return cover, nil
 }

@@ -86,7 +86,7 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 	if n == 0 {
 		return nil, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
 	}
-	cr := csv.NewReader(r)
+	cr := csv.NewReader(&lineCap{r: r, max: maxCSVLine(n)})
 	cr.FieldsPerRecord = -1
 	cr.ReuseRecord = true
 	var (
@@ -101,6 +101,10 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 			break
 		}
 		if err != nil {
+			var long *lineTooLong
+			if errors.As(err, &long) {
+				return nil, &LineError{Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
+			}
 			if le := csvLineError(err); le != nil {
 				return nil, le
 			}
@@ -176,6 +180,55 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		rec = NewRecords(n)
 	}
 	return rec, nil
+}
+
+// maxCSVLine is the longest records line accepted: a setting of n qubits
+// (up to two characters a qubit in the entangled form, with separators) and
+// an outcome of n bits, with room for spaces. With n unknown (no settings
+// list) the widest setting is assumed.
+func maxCSVLine(n int) int {
+	if n < 1 {
+		n = hamiltonian.MaxReadQubits
+	}
+	return 8*n + 4096
+}
+
+// lineCap passes bytes through and fails once a line (bytes since the last
+// newline) exceeds max, so that a file without newlines (/dev/zero) is
+// refused instead of read whole.
+type lineCap struct {
+	r         io.Reader
+	max, cur  int
+	line      int
+	exhausted bool
+}
+
+type lineTooLong struct{ line, max int }
+
+func (e *lineTooLong) Error() string {
+	return fmt.Sprintf("line %d longer than %d bytes", e.line, e.max)
+}
+
+func (c *lineCap) Read(p []byte) (int, error) {
+	if c.exhausted {
+		return 0, &lineTooLong{c.line + 1, c.max}
+	}
+	n, err := c.r.Read(p)
+	for i, b := range p[:n] {
+		if b == '\n' {
+			c.line++
+			c.cur = 0
+			continue
+		}
+		c.cur++
+		if c.cur > c.max {
+			c.exhausted = true
+			// Hand over what precedes the offending byte; the next call
+			// reports the error.
+			return i, nil
+		}
+	}
+	return n, err
 }
 
 // csvLineError returns the [*LineError] for a syntax error of

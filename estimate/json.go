@@ -133,11 +133,36 @@ func WriteJSONFile(path string, rec *Records) error {
 	return atomicfile.Write(path, func(w io.Writer) error { return WriteJSON(w, rec) })
 }
 
-// ReadJSON reads records in the JSON form. On error it returns nil.
+// MaxJSONRecordsBytes is the largest JSON records input [ReadJSON] reads:
+// 1 GiB. Larger record sets belong in the CSV form, which is read line by
+// line.
+const MaxJSONRecordsBytes = 1 << 30
+
+// ReadJSON reads records in the JSON form. On error it returns nil. Input
+// that does not start with '{' (after white space) is refused at once, and
+// input beyond [MaxJSONRecordsBytes] is refused without being read whole.
 func ReadJSON(r io.Reader) (*Records, error) {
-	b, err := io.ReadAll(r)
+	br := bufio.NewReader(io.LimitReader(r, MaxJSONRecordsBytes+1))
+	for {
+		c, err := br.ReadByte()
+		if err != nil {
+			return nil, fmt.Errorf("estimate: %w: JSON records: no '{' before the end of the input", ErrFormat)
+		}
+		if c == ' ' || c == '\t' || c == '\r' || c == '\n' {
+			continue
+		}
+		if c != '{' {
+			return nil, fmt.Errorf("estimate: %w: JSON records: starts with byte %#x, want '{'", ErrFormat, c)
+		}
+		br.UnreadByte()
+		break
+	}
+	b, err := io.ReadAll(br)
 	if err != nil {
 		return nil, err
+	}
+	if len(b) > MaxJSONRecordsBytes {
+		return nil, fmt.Errorf("estimate: %w: JSON records larger than %d bytes; use the CSV form", ErrFormat, MaxJSONRecordsBytes)
 	}
 	var rec Records
 	if err := rec.UnmarshalJSON(b); err != nil {

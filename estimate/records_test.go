@@ -293,3 +293,33 @@ func FuzzReadJSON(f *testing.F) {
 		}
 	})
 }
+
+// TestReadersRefuseEndlessInput: a records file without newlines (as
+// /dev/zero reads) or that is not JSON must get a clear error after reading
+// a bounded amount, never an attempt to read it whole.
+func TestReadersRefuseEndlessInput(t *testing.T) {
+	zeros := &countingZeros{}
+	_, err := ReadCSV(zeros, nil)
+	if err == nil || !strings.Contains(err.Error(), "line 1") || !strings.Contains(err.Error(), "longer than") {
+		t.Errorf("ReadCSV of endless zero bytes: %v, want a line-length error on line 1", err)
+	}
+	if zeros.n > 1<<21 {
+		t.Errorf("ReadCSV read %d bytes of an endless line before refusing it", zeros.n)
+	}
+	zeros = &countingZeros{}
+	if _, err := ReadJSON(zeros); err == nil || !strings.Contains(err.Error(), "want '{'") {
+		t.Errorf("ReadJSON of zero bytes: %v, want a refusal", err)
+	}
+	if zeros.n > 1<<16 {
+		t.Errorf("ReadJSON read %d bytes of zeros before refusing them", zeros.n)
+	}
+}
+
+// countingZeros reads as an endless stream of zero bytes and counts them.
+type countingZeros struct{ n int }
+
+func (z *countingZeros) Read(p []byte) (int, error) {
+	clear(p)
+	z.n += len(p)
+	return len(p), nil
+}

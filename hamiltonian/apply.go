@@ -79,14 +79,20 @@ func newOperator(h *Hamiltonian, withDiag bool) *operator {
 		}
 	}
 	if withDiag {
-		op.diag = make([]float64, 1<<h.n)
-		parallel(len(op.diag), func(lo, hi int) {
-			for a := lo; a < hi; a++ {
-				op.diag[a] = op.diagAt(uint64(a))
-			}
-		})
+		op.withDiag()
 	}
 	return op
+}
+
+// withDiag precomputes the whole diagonal (2^n float64s), which pays off
+// when the operator is applied many times.
+func (op *operator) withDiag() {
+	op.diag = make([]float64, 1<<op.n)
+	parallel(len(op.diag), func(lo, hi int) {
+		for a := lo; a < hi; a++ {
+			op.diag[a] = op.diagAt(uint64(a))
+		}
+	})
 }
 
 // diagAt returns ⟨a|H|a⟩.
@@ -169,24 +175,27 @@ func (op *operator) apply(dst, src []complex128) {
 }
 
 // energy returns ⟨ψ|H|ψ⟩ (complex; its imaginary part is rounding error).
+// Each block of chunk amplitudes has its own partial sum and the blocks are
+// added in order, so the value does not depend on the number of goroutines.
 func (op *operator) energy(psi []complex128) complex128 {
-	var mu sync.Mutex
-	var sum complex128
+	part := make([]complex128, (len(psi)+chunk-1)/chunk)
 	parallel(len(psi), func(lo, hi int) {
 		buf := make([]complex128, min(chunk, hi-lo))
-		var s complex128
 		for c := lo; c < hi; c += chunk {
 			out := buf[:min(chunk, hi-c)]
 			op.applyRange(out, psi, c)
+			var s complex128
 			for i, v := range out {
 				p := psi[c+i]
 				s += complex(real(p), -imag(p)) * v
 			}
+			part[c/chunk] = s
 		}
-		mu.Lock()
-		sum += s
-		mu.Unlock()
 	})
+	var sum complex128
+	for _, s := range part {
+		sum += s
+	}
 	return sum
 }
 

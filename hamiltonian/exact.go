@@ -6,7 +6,6 @@ import (
 	"math"
 	"math/bits"
 	"math/rand/v2"
-	"sync"
 
 	"gonum.org/v1/gonum/mat"
 )
@@ -25,10 +24,11 @@ type EigenOptions struct {
 	// is below the gap to the next eigenvalue (Kato–Temple bound).
 	Tolerance float64
 
-	// KrylovDim is the number of Lanczos vectors built before a restart
-	// (capped at 2^n). Memory is about (KrylovDim+2)·2^n complex128 values.
-	// Zero means 40, lowered above 22 qubits so that the vectors stay
-	// within about 4 GiB (14 at 24 qubits).
+	// KrylovDim is the number of Lanczos (or, in a sector, Davidson)
+	// vectors built before a restart (capped at the dimension). Memory is
+	// about (KrylovDim+2)·2^n complex128 values, or (2·KrylovDim+3)·d for a
+	// sector of d states. Zero means 40, lowered so that everything stays
+	// within MaxBytes (13 at 24 qubits without a sector).
 	KrylovDim int
 
 	// MaxApply bounds the number of products H·ψ. Zero means 5000.
@@ -37,7 +37,29 @@ type EigenOptions struct {
 	// Seed seeds the random start vector; the same seed gives the same
 	// result. Zero is a valid seed.
 	Seed uint64
+
+	// Sector, if not nil, restricts the search to the basis states of the
+	// sector (for molecules, an electron number and 2S_z; see
+	// [ElectronSector]): the result is the lowest eigenvalue within it.
+	// The Hamiltonian must conserve the sector's counts; GroundState
+	// refuses it otherwise. Vectors then hold the sector's amplitudes only,
+	// so larger Krylov spaces and wider molecules fit.
+	Sector *Sector
+
+	// MaxBytes bounds the memory the search may use (Krylov vectors,
+	// diagonal, sector tables and the returned state). Zero means
+	// [DefaultExactBytes]. GroundState refuses, with its estimate, when even
+	// the smallest Krylov space would exceed it.
+	MaxBytes int64
 }
+
+// DefaultExactBytes is the memory [GroundState] may use unless
+// EigenOptions.MaxBytes says otherwise: 4 GiB.
+const DefaultExactBytes int64 = 4 << 30
+
+// minKrylov is the smallest Krylov space GroundState accepts when it lowers
+// the default to fit the memory bound.
+const minKrylov = 6
 
 // Eigenpair is an eigenvalue of a Hamiltonian with its normalised
 // eigenvector; State[a] is the amplitude of the basis state with bit q of a on
@@ -65,12 +87,21 @@ type Eigenpair struct {
 // Near-degenerate ground states (a tiny gap) converge in energy long before
 // the vector is pinned down; compare energies, not vectors.
 //
-// GroundState returns an error for a nil h, for more than [MaxExactQubits]
-// qubits, for invalid settings, and [ErrNotConverged] (with the best pair
-// found) when MaxApply products were not enough.
+// With EigenOptions.Sector the search runs on the sector's basis states
+// only, by Davidson's method with the diagonal as preconditioner (see
+// davidson.go), which needs far fewer products on molecular Hamiltonians
+// in their electron sector (12 instead of about 200 for H2O/STO-3G); the
+// state returned still has 2^n amplitudes, zero outside the sector.
+//
+// GroundState returns an error for a nil h, for more than [MaxExactQubits] qubits, for
+// invalid settings, and [ErrNotConverged] (with the best pair found) when
+// MaxApply products were not enough.
 func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if h == nil {
 		return Eigenpair{}, fmt.Errorf("hamiltonian: nil Hamiltonian")
+	}
+	if h.n > MaxExactQubits {
+		return Eigenpair{}, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
 	}
 	if h.n > MaxExactQubits {
 		return Eigenpair{}, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxExactQubits)
@@ -79,24 +110,107 @@ func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if opts != nil {
 		s = *opts
 	}
-	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.KrylovDim < 0 || s.MaxApply < 0 {
+	if s.Tolerance < 0 || math.IsNaN(s.Tolerance) || s.KrylovDim < 0 || s.MaxApply < 0 || s.MaxBytes < 0 {
 		return Eigenpair{}, fmt.Errorf("hamiltonian: negative or NaN setting in %+v", s)
 	}
 	if s.Tolerance == 0 {
 		s.Tolerance = 1e-10 * max(1, math.Abs(h.offset)+h.OneNorm())
 	}
-	if s.KrylovDim == 0 {
-		// About 4 GiB of Lanczos vectors (16 bytes per amplitude), in int64
-		// so that the constant fits on 32-bit targets.
-		s.KrylovDim = int(min(40, max(10, int64(4<<30)/(int64(16)<<h.n)-2)))
-	}
 	if s.MaxApply == 0 {
 		s.MaxApply = 5000
 	}
-	dim := 1 << h.n
-	m := min(max(s.KrylovDim, 2), dim)
-	op := newOperator(h, true)
+	if s.MaxBytes == 0 {
+		s.MaxBytes = DefaultExactBytes
+	}
+	full := int64(1) << h.n
+	op := newOperator(h, false)
+	var (
+		dim   int64
+		fixed int64 // bytes besides the Krylov vectors
+		leak  float64
+		sec   *sectorOp
+	)
+	if s.Sector != nil {
+		if err := s.Sector.check(h.n); err != nil {
+			return Eigenpair{}, fmt.Errorf("hamiltonian: %w", err)
+		}
+		rest := widthMask(h.n) &^ s.Sector.Mask
+		la, lb := op.leak(s.Sector.Mask), op.leak(rest)
+		leak = math.Hypot(la, lb)
+		if leak > s.Tolerance {
+			return Eigenpair{}, fmt.Errorf("hamiltonian: the Hamiltonian does not conserve the sector (%v): ‖[H, N]‖₁ = %.3g on the mask, %.3g on the rest, above the tolerance %.3g (sectors need a Jordan–Wigner Hamiltonian with spin orbitals interleaved α, β)", *s.Sector, la, lb, s.Tolerance)
+		}
+		dim = s.Sector.Dim(h.n)
+		// The returned state (2^n amplitudes) and the sector tables.
+		fixed = 16*full + sectorBytes(op, *s.Sector)
+	} else {
+		dim = full
+		fixed = 8 * full // the precomputed diagonal
+	}
+	// Vectors kept besides the m of the search space: Lanczos keeps m+2
+	// in all; Davidson (in a sector) keeps m vectors and their images and
+	// three more.
+	vectors := func(m int64) int64 {
+		if s.Sector != nil {
+			return 2*m + 3
+		}
+		return m + 2
+	}
+	m := int64(s.KrylovDim)
+	if m == 0 {
+		m = 40
+		for m > minKrylov && fixed+vectors(m)*16*dim > s.MaxBytes {
+			m--
+		}
+	}
+	m = min(max(m, 2), dim)
+	if need := fixed + vectors(m)*16*dim; need > s.MaxBytes {
+		return Eigenpair{}, fmt.Errorf("hamiltonian: needs about %s (%d vectors of %d amplitudes), above the limit of %s; raise EigenOptions.MaxBytes or restrict to a sector", byteSize(need), vectors(m), dim, byteSize(s.MaxBytes))
+	}
+	var apply func(dst, src []complex128)
+	if s.Sector != nil {
+		sec = newSectorOp(op, *s.Sector)
+		apply = sec.apply
+	} else {
+		op.withDiag()
+		apply = op.apply
+	}
+	var (
+		x         []complex128
+		e, res    float64
+		applies   int
+		converged bool
+	)
+	if sec != nil {
+		x, e, res, applies, converged = davidson(int(dim), int(m), apply, sec.diag, s)
+	} else {
+		x, e, res, applies, converged = lanczos(int(dim), int(m), apply, s)
+	}
+	if sec != nil {
+		x = sec.expand(x)
+		// The part of Hψ outside the sector is at most leak (see leak).
+		res = math.Hypot(res, leak)
+	}
+	pair := Eigenpair{Energy: e, State: x, Residual: res, Products: applies}
+	if pair.Residual > s.Tolerance && !converged {
+		return pair, fmt.Errorf("%w after %d products H·ψ: residual %.3g > tolerance %.3g", ErrNotConverged, applies, pair.Residual, s.Tolerance)
+	}
+	return pair, nil
+}
 
+// byteSize formats a byte count in MiB or GiB.
+func byteSize(b int64) string {
+	if b >= 1<<30 {
+		return fmt.Sprintf("%.1f GiB", float64(b)/(1<<30))
+	}
+	return fmt.Sprintf("%.0f MiB", math.Ceil(float64(b)/(1<<20)))
+}
+
+// lanczos runs restarted Lanczos with Krylov spaces of m vectors of dim
+// amplitudes for the operator apply, and returns the normalised Ritz
+// vector, its Rayleigh quotient and residual, the number of products used
+// and whether the tolerance was met inside the iteration.
+func lanczos(dim, m int, apply func(dst, src []complex128), s EigenOptions) ([]complex128, float64, float64, int, bool) {
 	rng := rand.New(rand.NewPCG(s.Seed, 0x1a2c05))
 	v := make([][]complex128, m+1)
 	v[0] = make([]complex128, dim)
@@ -120,7 +234,7 @@ func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 				v[j+1] = make([]complex128, dim)
 			}
 			w := v[j+1]
-			op.apply(w, v[j])
+			apply(w, v[j])
 			applies++
 			a := real(dot(v[j], w))
 			alpha = append(alpha, a)
@@ -175,14 +289,10 @@ func GroundState(h *Hamiltonian, opts *EigenOptions) (Eigenpair, error) {
 	if hx == nil {
 		hx = make([]complex128, dim)
 	}
-	op.apply(hx, x)
+	apply(hx, x)
 	e := real(dot(x, hx))
 	axpy(hx, complex(-e, 0), x)
-	pair := Eigenpair{Energy: e, State: x, Residual: norm(hx), Products: applies}
-	if pair.Residual > s.Tolerance && !converged {
-		return pair, fmt.Errorf("%w after %d products H·ψ: residual %.3g > tolerance %.3g", ErrNotConverged, applies, pair.Residual, s.Tolerance)
-	}
-	return pair, nil
+	return x, e, norm(hx), applies, converged
 }
 
 // lowestTridiag returns the lowest eigenvalue and its unit eigenvector of the
@@ -216,24 +326,27 @@ func lowestTridiag(alpha, beta []float64) (float64, []float64) {
 // reorth subtracts from w its components along the orthonormal vectors vs:
 // w −= Σ_i ⟨v_i|w⟩ v_i, with every ⟨v_i|w⟩ taken from the same w (classical
 // Gram–Schmidt). Both sweeps go block by block so that a block of w stays in
-// cache while every v_i passes, and blocks are shared among goroutines.
+// cache while every v_i passes, and blocks are shared among goroutines. The
+// inner products are summed per block of fixed size and the blocks in
+// order, so the result does not depend on the number of goroutines.
 func reorth(w []complex128, vs [][]complex128, coef []complex128) {
-	var mu sync.Mutex
-	clear(coef)
+	blocks := (len(w) + chunk - 1) / chunk
+	part := make([]complex128, blocks*len(vs))
 	parallel(len(w), func(lo, hi int) {
-		part := make([]complex128, len(vs))
 		for c := lo; c < hi; c += chunk {
 			e := min(c+chunk, hi)
+			p := part[c/chunk*len(vs):]
 			for i, v := range vs {
-				part[i] += dot(v[c:e], w[c:e])
+				p[i] = dot(v[c:e], w[c:e])
 			}
 		}
-		mu.Lock()
-		for i, p := range part {
+	})
+	clear(coef)
+	for b := range blocks {
+		for i, p := range part[b*len(vs) : (b+1)*len(vs)] {
 			coef[i] += p
 		}
-		mu.Unlock()
-	})
+	}
 	parallel(len(w), func(lo, hi int) {
 		for c := lo; c < hi; c += chunk {
 			e := min(c+chunk, hi)

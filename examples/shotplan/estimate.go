@@ -99,7 +99,19 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 	if rec.Qubits() != p.Qubits {
 		return badf("%s: records of %d qubits, the plan has %d", path, rec.Qubits(), p.Qubits)
 	}
+	// Settings outside the plan first: such a row would otherwise show up
+	// as a count mismatch of the plan setting it was meant for.
 	inPlan := make([]bool, rec.Groups())
+	for _, s := range settings {
+		if g, ok := rec.Group(s); ok {
+			inPlan[g] = true
+		}
+	}
+	for g, ok := range inPlan {
+		if !ok {
+			return badf("%s: setting %s is not in the plan (%s)", path, quoteSetting(rec.Setting(g).String()), plural(rec.GroupLen(g), "shot"))
+		}
+	}
 	for k, s := range settings {
 		g, ok := rec.Group(s)
 		if !ok {
@@ -108,14 +120,16 @@ func matchRecords(path string, rec *estimate.Records, p *allocate.Plan, settings
 		if n := rec.GroupLen(g); n != shots[k] {
 			return badf("%s: %s of setting %s, the plan asks for %d", path, plural(n, "shot"), s, shots[k])
 		}
-		inPlan[g] = true
-	}
-	for g, ok := range inPlan {
-		if !ok {
-			return badf("%s: setting %s is not in the plan", path, rec.Setting(g))
-		}
 	}
 	return nil
+}
+
+// quoteSetting shortens a setting's text for a message.
+func quoteSetting(s string) string {
+	if len(s) > 80 {
+		return s[:77] + "..."
+	}
+	return s
 }
 
 func estimateHelp() string {

@@ -20,7 +20,7 @@ func loadHam(path string) (*hamiltonian.Hamiltonian, error) {
 	if err := need("ham", path); err != nil {
 		return nil, err
 	}
-	h, err := hamiltonian.ReadFile(path)
+	h, _, err := readHamAny(path)
 	return h, bad(err)
 }
 

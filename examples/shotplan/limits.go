@@ -140,8 +140,19 @@ func checkShotLimit(name string, a allocate.Allocator, shots, limit, qubits int)
 // the simulator's cache of outcome distributions (at most 256 MiB, or one
 // distribution of 2^n float64 when that is larger) and, per shot, the
 // outcome word the simulator draws and the one the records keep.
-func simulateBytes(n, shots int) float64 {
-	return exactBytes(n) + max(256<<20, math.Ldexp(8, n)) + 16*float64(shots)
+func simulateBytes(n, shots int, c chosenSector) float64 {
+	return groundBytes(n, c) + max(256<<20, math.Ldexp(8, n)) + 16*float64(shots)
+}
+
+// groundBytes estimates the memory of the exact ground state in the chosen
+// sector: the solver's vectors over the sector (as exactBytes, over its
+// dimension) plus the state expanded to the whole space, or exactBytes for
+// the whole space.
+func groundBytes(n int, c chosenSector) float64 {
+	if c.sector == nil {
+		return exactBytes(n)
+	}
+	return 43*16*float64(c.sector.Dim(n)) + math.Ldexp(16, n)
 }
 
 // checkPrograms refuses to export more distinct settings than limit as

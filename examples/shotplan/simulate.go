@@ -5,6 +5,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"os"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -17,6 +18,8 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	readout := fs.String("readout", "", "readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10 (default none)")
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	memLimit := memoryLimitFlag(fs, "the simulation")
+	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
+	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -30,27 +33,66 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.output(*out); err != nil {
 			return err
 		}
-		h, f, err := loadHamPlan(*ham, *plan)
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		f, err := loadPlan(*plan)
 		if err != nil {
 			return err
 		}
+		if err := f.Check(h); err != nil {
+			return badf("%w (Hamiltonian %s)", err, *ham)
+		}
+		if *stateFile != "" {
+			if err := notInput(*stateFile, *ham, *plan, *out); err != nil {
+				return err
+			}
+		}
 		if h.Qubits() > hamiltonian.MaxExactQubits {
 			return badf("%s: %d qubits, the simulator takes at most %d", *ham, h.Qubits(), hamiltonian.MaxExactQubits)
-		}
-		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()), simulateBytes(h.Qubits(), f.Plan.TotalShots()), memLimit); err != nil {
-			return err
 		}
 		ro, err := parseReadout(*readout, h.Qubits())
 		if err != nil {
 			return err
 		}
+		sec, err := sf.resolve(h.Qubits(), g)
+		if err != nil {
+			return err
+		}
+		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits (%s)", f.Plan.TotalShots(), h.Qubits(), sec), simulateBytes(h.Qubits(), f.Plan.TotalShots(), sec), memLimit); err != nil {
+			return err
+		}
 		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
-		sim, ground, err := estimate.GroundStateSimulator(h, *seed, &estimate.SimulatorOptions{Readout: ro})
+		defer stop()
+		var ground hamiltonian.Eigenpair
+		loaded := false
+		if *stateFile != "" {
+			if _, err := os.Stat(*stateFile); err == nil {
+				if ground, err = readState(*stateFile, h, sec); err != nil {
+					return bad(err)
+				}
+				loaded = true
+			}
+		}
+		if !loaded {
+			if ground, err = groundState(h, sec); err != nil {
+				return err
+			}
+			if *stateFile != "" {
+				if err := writeState(*stateFile, h, sec, ground); err != nil {
+					return bad(err)
+				}
+			}
+		}
+		sim, err := estimate.NewSimulator(ground.State, *seed, &estimate.SimulatorOptions{Readout: ro})
 		if errors.Is(err, estimate.ErrFormat) {
 			return bad(err) // the library refused an input value
 		}
 		if err != nil {
-			stop()
 			return err
 		}
 		rec := estimate.NewRecords(h.Qubits())
@@ -72,11 +114,12 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Seed         uint64  `json:"seed"`
 			GroundEnergy float64 `json:"ground_energy"`
 			Readout      string  `json:"readout,omitempty"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout}
+			Sector       string  `json:"sector"`
+		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String()}
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (energy %.10f), seed %d", outName(*out), rec.Len(), ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (%s, energy %.10f), seed %d", outName(*out), rec.Len(), sec, ground.Energy, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}

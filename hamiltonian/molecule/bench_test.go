@@ -3,9 +3,11 @@ package molecule
 import (
 	"bytes"
 	"fmt"
+	"github.com/shotplan/shotplan/internal/cputime"
 	"math/rand/v2"
 	"testing"
 
+	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 )
 
@@ -89,6 +91,53 @@ func BenchmarkReadFCIDUMP(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
+		})
+	}
+}
+
+// BenchmarkSectorGroundState finds ground states in the sector of NELEC
+// electrons with S_z = 0: the linear H12 chain of testdata (STO-3G, 12
+// orbitals, 24 qubits, 853 776 determinants; integrals from psi4) and seeded
+// random integrals on 10 and 12 orbitals (20 and 24 qubits, half filling),
+// whose off-diagonal elements are as large as the diagonal ones, the slow
+// case for the diagonal preconditioner.
+func BenchmarkSectorGroundState(b *testing.B) {
+	h12, err := ReadFCIDUMPFile("testdata/h12_sto3g_1.0A.fcidump")
+	if err != nil {
+		b.Fatal(err)
+	}
+	cases := []struct {
+		name string
+		g    func() *Integrals
+		el   int
+	}{
+		{"h12", func() *Integrals { return h12 }, 12},
+		{"random10", func() *Integrals { return randomIntegrals(b, 10, 1) }, 10},
+		{"random12", func() *Integrals { return randomIntegrals(b, 12, 1) }, 12},
+	}
+	for _, c := range cases {
+		g := c.g()
+		h, err := g.QubitHamiltonian(fermion.JordanWigner)
+		if err != nil {
+			b.Fatal(err)
+		}
+		sec, err := hamiltonian.ElectronSector(h.Qubits(), c.el, 0)
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.Run(fmt.Sprintf("molecule=%s/qubits=%d/terms=%d/dim=%d", c.name, h.Qubits(), h.Len(), sec.Dim(h.Qubits())), func(b *testing.B) {
+			b.ReportAllocs()
+			products := 0
+			start := cputime.Now()
+			for b.Loop() {
+				gs, err := hamiltonian.GroundState(h, &hamiltonian.EigenOptions{Sector: &sec})
+				if err != nil {
+					b.Fatal(err)
+				}
+				products = gs.Products
+			}
+			cputime.Report(b, start)
+			b.ReportMetric(float64(products), "products")
 		})
 	}
 }

@@ -145,6 +145,15 @@ func (c *Index) bucketOf(x, z []uint64) int32 {
 	return base + int32(qs[0])*3 + letterCode(x, z, qs[0])
 }
 
+// Clone returns an Index that shares c's buckets and words, which queries
+// never change, with its own query scratch, so that several goroutines can
+// query the same strings at once, one Index each.
+func (c *Index) Clone() *Index {
+	d := *c
+	d.code = make([]uint8, c.n)
+	return &d
+}
+
 // AppendCovered appends to dst the row numbers of the strings covered by
 // the local setting with words sx, sz, in bucket order (not increasing), and
 // returns the extended slice. It allocates only when dst lacks room. An
