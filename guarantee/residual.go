@@ -11,12 +11,6 @@ import (
 // residualFolds, an assignment fixed by the plan before any outcome.
 const residualFolds = 2
 
-// residualClasses is the number of classes of shots by their range: a
-// shot of per-shot half-range s' falls in class c when (2s')² lies in
-// (M/4^(c+1), M/4^c], M the largest (2s')² of the plan, the last class
-// taking everything below. The classes depend on the plan only.
-const residualClasses = 8
-
 // residualStats holds what the data bound of a fixed plan learns from the
 // residuals of its shots about the other shots' term means (MATH.md §4.7).
 type residualStats struct {
@@ -25,22 +19,11 @@ type residualStats struct {
 	// loo holds Σ R_g² over the one-shot groups, R_g the leave-one-out
 	// residual, plus coef_i² for every term covered by a single shot.
 	loo float64
-	// sq[k][c] is Σ over the shots of fold k and class c of (w_n − c_n)²,
-	// c_n the shot's prediction from the term means of the other folds,
-	// big[k][c] the largest (2 s'_n)² there and worst[k][c] = Σ s'_n², the
-	// variance bound that holds for every state.
-	sq, big, worst [residualFolds][residualClasses]float64
-}
-
-// class returns the class of a shot whose (2s')² is m, top being the
-// largest (2s')² of the plan.
-func class(m, top float64) int {
-	c := 0
-	for c < residualClasses-1 && m <= top/4 {
-		m *= 4
-		c++
-	}
-	return c
+	// sq[k] is Σ over the shots of fold k of (w_n − c_n)², c_n the shot's
+	// prediction from the term means of the other folds, big[k] the
+	// largest (2 s'_n)² there and worst[k] = Σ s'_n², the variance bound
+	// that holds for every state.
+	sq, big, worst [residualFolds]float64
 }
 
 // residuals makes two passes over the shots of the groups (out(g, j) is
@@ -67,12 +50,6 @@ func residuals(tab *pauli.Table, gs []*groupStat, coef []float64, out func(g, j 
 		return buf
 	}
 	n := 0
-	top := 0.0
-	for _, g := range gs {
-		if g.t > 0 {
-			top = max(top, 4*g.half*g.half)
-		}
-	}
 	for gi, g := range gs {
 		for j := range g.t {
 			k := n % residualFolds
@@ -113,11 +90,9 @@ func residuals(tab *pauli.Table, gs []*groupStat, coef []float64, out func(g, j 
 					r += g.coef[a] * (v - (tot[i]-v)/(tcnt[i]-1))
 				}
 			}
-			m := 4 * g.half * g.half
-			c := class(m, top)
-			st.sq[k][c] += y * y
-			st.big[k][c] = max(st.big[k][c], m)
-			st.worst[k][c] += m / 4
+			st.sq[k] += y * y
+			st.big[k] = max(st.big[k], 4*g.half*g.half)
+			st.worst[k] += g.half * g.half
 			if g.t == 1 {
 				st.loo += r * r
 			}
@@ -128,18 +103,16 @@ func residuals(tab *pauli.Table, gs []*groupStat, coef []float64, out func(g, j 
 
 // residualRadius is the Residual form's statistical radius at confidence
 // 1 − δ for an estimate Σ_n (w_n − E w_n) whose shot terms lie within ±b:
-// with probability 1 − δ/2 the variance is at most Σ_{k,c} U_kc, U_kc the
-// smaller of the worst case and the bound of fold k and class c at
-// δ/(2KC), and Bernstein's inequality at δ/2 bounds the sum (MATH.md §4.7).
+// with probability 1 − δ/2 the variance is at most Σ_k U_k, U_k the
+// smaller of the worst case and the bound of fold k at δ/(2K), and
+// Bernstein's inequality at δ/2 bounds the sum (MATH.md §4.7).
 func residualRadius(st residualStats, b, delta float64) float64 {
-	l := math.Log(2 * residualFolds * residualClasses / delta)
+	l := math.Log(2 * residualFolds / delta)
 	v := 0.0
 	for k := range residualFolds {
-		for c := range residualClasses {
-			a := st.big[k][c] * l / 2
-			u := math.Sqrt(a) + math.Sqrt(a+st.sq[k][c])
-			v += min(u*u, st.worst[k][c])
-		}
+		a := st.big[k] * l / 2
+		u := math.Sqrt(a) + math.Sqrt(a+st.sq[k])
+		v += min(u*u, st.worst[k])
 	}
 	if b == 0 {
 		return 0
