@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -129,7 +131,8 @@ type molecularCase struct {
 	energy float64
 }
 
-func molecularCases(t *testing.T) []molecularCase {
+// molecularCases returns the first n of H2, LiH and H2O.
+func molecularCases(t *testing.T, n int) []molecularCase {
 	t.Helper()
 	var out []molecularCase
 	for _, c := range []struct {
@@ -141,7 +144,7 @@ func molecularCases(t *testing.T) []molecularCase {
 		{"H2", refdata.H2Alt, -1.1372701747},
 		{"LiH", refdata.LiH, -7.8824034103},
 		{"H2O", refdata.H2O, -75.0124258090},
-	} {
+	}[:n] {
 		h, err := refdata.Molecule(c.file, fermion.JordanWigner)
 		if err != nil {
 			t.Fatal(err)
@@ -246,10 +249,11 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 				t.Fatal(err)
 			}
 			// The estimate package computes the same standard error
-			// (MATH.md §2.2) by its own bit-sliced code.
-			if !near(g.Energy, b.Energy, 1e-9) || !near(1.959963984540054*g.StdErr, b.ApproxRadius, 1e-9) {
-				t.Errorf("%s: estimate.Grouped = %.15g, 1.96·SE = %.15g; Empirical %.15g, ApproxRadius %.15g",
-					mc.name, g.Energy, 1.959963984540054*g.StdErr, b.Energy, b.ApproxRadius)
+			// (MATH.md §2.2) by its own bit-sliced code; z from gonum.
+			z := distuv.UnitNormal.Quantile(1 - delta/2)
+			if !near(g.Energy, b.Energy, 1e-9) || !near(z*g.StdErr, b.ApproxRadius, 1e-9) {
+				t.Errorf("%s: estimate.Grouped = %.15g, z·SE = %.15g; Empirical %.15g, ApproxRadius %.15g",
+					mc.name, g.Energy, z*g.StdErr, b.Energy, b.ApproxRadius)
 			}
 		}
 	}
@@ -311,7 +315,7 @@ func TestFixedPlanDataBounds(t *testing.T) {
 		fmt.Fprintf(&report, "| %s | %v | %d | %d | %d | %.3g | %.2f | %d | %.2f | %.2f | %.2f | %d |\n", mc.name, a, budget, reps, len(settings), 1000*q,
 			quantile(res, 0.5)/q, fails, quantile(free, 0.5)/q, quantile(pooled, 0.5)/q, quantile(approx, 0.5)/q, misses)
 	}
-	mcs := molecularCases(t)
+	mcs := molecularCases(t, 3)
 	for mi, mc := range mcs {
 		for si, a := range []allocate.Allocator{&allocate.Greedy{}, &allocate.Derandomized{}, &allocate.Random{Seed: 5}, &allocate.Sorted{}} {
 			row(mc, a, budget, reps, uint64(100*mi+si))
@@ -334,5 +338,35 @@ func TestFixedPlanDataBounds(t *testing.T) {
 		}); err != nil {
 			t.Fatal(err)
 		}
+	}
+}
+
+// TestResidualCoverageH2 is the short check of the Residual bound and the
+// approximate radius: H2's exact ground state, a derandomized plan of 2000
+// shots, δ = 0.1, 400 seeded repetitions. Each must fail in at most
+// δ + 4σ = 0.16 of them (σ = sqrt(δ(1 − δ)/400)); at an exact failure rate
+// of δ that check fails with probability 7.0e-5 (exact binomial tail
+// P(X ≥ 65), p = 0.1, n = 400).
+func TestResidualCoverageH2(t *testing.T) {
+	const delta, reps = 0.1, 400
+	mc := molecularCases(t, 1)[0]
+	p, err := allocate.Run(mc.h, 2000, &allocate.Derandomized{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	errs, res, _, _, approx := fixedPlanRuns(t, mc, p, reps, delta, 77)
+	allow := delta + 4*math.Sqrt(delta*(1-delta)/reps)
+	fails, misses := 0, 0
+	for r := range errs {
+		if errs[r] > res[r] {
+			fails++
+		}
+		if errs[r] > approx[r] {
+			misses++
+		}
+	}
+	t.Logf("H2 derandomized, 2000 shots: Residual failed %d, approximate radius missed %d of %d", fails, misses, reps)
+	if float64(fails)/reps > allow || float64(misses)/reps > allow {
+		t.Errorf("H2: Residual bound failed %d, approximate radius missed %d of %d repetitions; allowed %.0f", fails, misses, reps, allow*reps)
 	}
 }
