@@ -129,7 +129,7 @@ type GroupBound struct {
 	// Delta is the group's share of δ (per-group forms) and Radius the
 	// bound on |mean − expectation| it gives; Weight·Radius is the group's
 	// part of the DataBound's Radius. Pooled: Delta is the share of its
-	// variance bound and Radius is zero.
+	// variance bound and Radius is zero. Residual: both are zero.
 	Delta, Radius float64
 }
 
