@@ -199,6 +199,31 @@ func TestWorkflowH2(t *testing.T) {
 	if d := math.Abs(est.Energy - h2FCI); d > est.Bound {
 		t.Errorf("estimate %v is %v from psi4's %v, beyond its certified bound %v", est.Energy, d, h2FCI, est.Bound)
 	}
+	// The data bound is the smaller of the library's pooled and residual
+	// bounds at δ/2 each, named by data_form, and holds here too.
+	var data struct {
+		DataEpsilon float64 `json:"data_bound"`
+		DataForm    string  `json:"data_form"`
+	}
+	okJSON(t, &data, "estimate", "-ham", ham, "-plan", planPath, "-records", recPath, "-delta", "0.1")
+	pooled, err := guarantee.Empirical(h, wantRec, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	resid, err := guarantee.Empirical(h, wantRec, 0.05, &guarantee.EmpiricalOptions{Form: guarantee.Residual})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantEps, form := pooled.Bound, "pooled"
+	if resid.Bound < wantEps {
+		wantEps, form = resid.Bound, "residual"
+	}
+	if data.DataEpsilon != wantEps || data.DataForm != form {
+		t.Errorf("estimate data bound %v (%s), want %v (%s)", data.DataEpsilon, data.DataForm, wantEps, form)
+	}
+	if d := math.Abs(est.Energy - h2FCI); d > data.DataEpsilon {
+		t.Errorf("estimate %v is %v from psi4's %v, beyond its data bound %v", est.Energy, d, h2FCI, data.DataEpsilon)
+	}
 
 	// Records from a device, written with the manifest's setting indices and
 	// in another order, give the same estimate.
