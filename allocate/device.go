@@ -20,7 +20,8 @@ type DeviceLimits struct {
 
 // Job is one job of a plan split by [SplitJobs]: circuits, each a setting
 // with its shots. A setting with more shots than a circuit may take appears
-// as several circuits, in the same job or in consecutive jobs.
+// as several circuits, one in each of consecutive jobs (a job holds each
+// setting at most once, so that its manifest has one row per setting).
 type Job struct {
 	Settings []pauli.Setting
 	Shots    []int
@@ -29,8 +30,11 @@ type Job struct {
 // SplitJobs splits the settings with their shots (repeats are merged
 // first, in order of first use, and zero counts left out) into jobs that
 // respect lim: every setting is cut into circuits of at most
-// MaxShotsPerCircuit shots (all full but the last), and the circuits are
-// packed in order into jobs of at most MaxCircuitsPerJob circuits. The jobs
+// MaxShotsPerCircuit shots (all full but the last); the first circuits of
+// all settings, in order, fill the first jobs, at most MaxCircuitsPerJob
+// circuits each, then the second circuits the next jobs, and so on. So no
+// job holds a setting twice, and without a limit on circuits the number of
+// jobs is the most circuits of one setting, the least possible. The jobs
 // hold exactly the shots given, so a certificate or an estimate of the whole
 // plan is unchanged (neither depends on the order of shots, see
 // [Plan.Compact]). It returns an error for negative limits or shot counts or
@@ -48,30 +52,35 @@ func SplitJobs(settings []pauli.Setting, shots []int, lim DeviceLimits) ([]Job, 
 		}
 	}
 	distinct, total := pauli.MergeSettings(settings, shots)
+	// Layer k holds the k-th circuit of every setting that has one; each
+	// layer is cut into jobs of at most MaxCircuitsPerJob circuits.
 	var jobs []Job
-	var cur Job
-	add := func(s pauli.Setting, m int) {
-		if lim.MaxCircuitsPerJob > 0 && len(cur.Settings) == lim.MaxCircuitsPerJob {
-			jobs = append(jobs, cur)
-			cur = Job{}
-		}
-		cur.Settings = append(cur.Settings, s)
-		cur.Shots = append(cur.Shots, m)
-	}
-	for k, s := range distinct {
-		m := total[k]
-		if lim.MaxShotsPerCircuit > 0 {
-			for m > lim.MaxShotsPerCircuit {
-				add(s, lim.MaxShotsPerCircuit)
-				m -= lim.MaxShotsPerCircuit
+	for k := 0; ; k++ {
+		var layer Job
+		for j, s := range distinct {
+			m := total[j]
+			if lim.MaxShotsPerCircuit > 0 {
+				m = min(total[j]-k*lim.MaxShotsPerCircuit, lim.MaxShotsPerCircuit)
+			} else if k > 0 {
+				m = 0
+			}
+			if m > 0 {
+				layer.Settings = append(layer.Settings, s)
+				layer.Shots = append(layer.Shots, m)
 			}
 		}
-		add(s, m)
+		if len(layer.Settings) == 0 {
+			return jobs, nil
+		}
+		step := len(layer.Settings)
+		if lim.MaxCircuitsPerJob > 0 {
+			step = lim.MaxCircuitsPerJob
+		}
+		for a := 0; a < len(layer.Settings); a += step {
+			b := min(a+step, len(layer.Settings))
+			jobs = append(jobs, Job{Settings: layer.Settings[a:b:b], Shots: layer.Shots[a:b:b]})
+		}
 	}
-	if len(cur.Settings) > 0 {
-		jobs = append(jobs, cur)
-	}
-	return jobs, nil
 }
 
 // CostModel is the time (or price) of running a plan on a device: each shot

@@ -28,7 +28,8 @@ func mustSettings(t *testing.T, texts ...string) []pauli.Setting {
 
 // TestSplitJobs checks a split worked out by hand: ZZ 250 + XX 30 + ZZ 50
 // merge to ZZ 300, XX 30; at most 100 shots a circuit gives the circuits
-// ZZ 100, ZZ 100, ZZ 100, XX 30, and at most 2 circuits a job two jobs.
+// ZZ 100, ZZ 100, ZZ 100, XX 30; the first circuits of every setting come
+// first, so the jobs are [ZZ 100, XX 30], [ZZ 100], [ZZ 100].
 func TestSplitJobs(t *testing.T) {
 	ss := mustSettings(t, "ZZ", "XX", "ZZ")
 	jobs, err := allocate.SplitJobs(ss, []int{250, 30, 50}, allocate.DeviceLimits{MaxShotsPerCircuit: 100, MaxCircuitsPerJob: 2})
@@ -43,9 +44,14 @@ func TestSplitJobs(t *testing.T) {
 		}
 		got = append(got, c)
 	}
-	want := [][]string{{"ZZ/100", "ZZ/100"}, {"ZZ/100", "XX/30"}}
+	want := [][]string{{"ZZ/100", "XX/30"}, {"ZZ/100"}, {"ZZ/100"}}
 	if d := cmp.Diff(want, got); d != "" {
 		t.Errorf("jobs (-want +got):\n%s", d)
+	}
+	// At most 1 circuit a job: one job per circuit, first circuits first.
+	jobs, err = allocate.SplitJobs(ss, []int{250, 30, 50}, allocate.DeviceLimits{MaxShotsPerCircuit: 100, MaxCircuitsPerJob: 1})
+	if err != nil || len(jobs) != 4 || jobs[1].Settings[0].String() != "XX" {
+		t.Errorf("SplitJobs with 1 circuit a job = %v, %v; want ZZ, XX, ZZ, ZZ", jobs, err)
 	}
 	// No limits: one job of the distinct settings.
 	jobs, err = allocate.SplitJobs(ss, []int{250, 30, 50}, allocate.DeviceLimits{})
