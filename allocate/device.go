@@ -101,8 +101,12 @@ func (c CostModel) Cost(p *Plan) float64 {
 var ErrCost = errors.New("allocate: cost model")
 
 // FitExhaustive is the most distinct settings for which [FitCost] searches
-// every subset.
-const FitExhaustive = 12
+// every subset, and FitForward the most for which it also grows a subset
+// one setting at a time.
+const (
+	FitExhaustive = 12
+	FitForward    = 256
+)
 
 // FitCost fits a plan to a cost budget (MATH.md §5.7). It keeps a subset S
 // of p's distinct settings, gives them N shots in proportion to the shots p
@@ -112,9 +116,11 @@ const FitExhaustive = 12
 // Total of MATH.md §3.1 (sqrt(2 V ln(2/δ)) plus the coefficients of the
 // terms no kept setting covers), is smallest, with that bound. With at most
 // [FitExhaustive] distinct settings every subset is tried, so the result is
-// the optimum of that rule; with more, the subsets are the prefixes of the
+// the optimum of that rule; with more, a heuristic: the prefixes of the
 // settings ordered by shots (most first) on a grid of sizes within 10% of
-// each other, a heuristic.
+// each other and, up to [FitForward] settings, the subsets of a forward
+// selection that adds, one at a time, the setting that lowers the bound
+// most.
 //
 // FitCost returns an error wrapping [ErrCost] if a cost is negative or not
 // finite, ShotCost is zero, or the budget pays for no shot on any setting,
@@ -169,6 +175,9 @@ func FitCost(h *hamiltonian.Hamiltonian, p *Plan, cost CostModel, delta float64)
 			subsets = append(subsets, slices.Clone(order[:k]))
 		}
 		subsets = append(subsets, order)
+		if len(settings) <= FitForward {
+			subsets = append(subsets, f.forward(len(settings))...)
+		}
 	}
 	best, bestM := math.Inf(1), []int(nil)
 	var bestS []int
@@ -248,4 +257,35 @@ func (f *fitter) bound(sub []int, m []int) float64 {
 		}
 	}
 	return math.Sqrt(2*v*f.l) + bias
+}
+
+// forward grows a subset from nothing, adding each time the setting whose
+// addition gives the lowest bound, and returns every subset on the way.
+func (f *fitter) forward(n int) [][]int {
+	var out [][]int
+	var cur []int
+	in := make([]bool, n)
+	for len(cur) < n {
+		best, pick := math.Inf(1), -1
+		for j := range n {
+			if in[j] {
+				continue
+			}
+			sub := append(slices.Clone(cur), j)
+			m, ok := f.shares(sub)
+			if !ok {
+				continue
+			}
+			if b := f.bound(sub, m); b < best {
+				best, pick = b, j
+			}
+		}
+		if pick < 0 {
+			break
+		}
+		in[pick] = true
+		cur = append(cur, pick)
+		out = append(out, slices.Clone(cur))
+	}
+	return out
 }

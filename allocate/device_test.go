@@ -172,3 +172,43 @@ func splitByRemainder(n int, w []int) []int {
 	}
 	return m
 }
+
+// TestFitCostMany checks the heuristic path (more than FitExhaustive
+// settings): the plan fits the budget, its bound is its certificate (package
+// guarantee), and that bound is no worse than keeping every setting with
+// the shots the budget leaves, one of the subsets searched.
+func TestFitCostMany(t *testing.T) {
+	h := planFileHam(t)
+	p, err := allocate.Run(h, 300, &allocate.Random{Seed: 3}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ds, dk := p.Distinct()
+	if len(ds) <= allocate.FitExhaustive {
+		t.Fatalf("only %d distinct settings; the test needs more than %d", len(ds), allocate.FitExhaustive)
+	}
+	const delta = 0.05
+	cost := allocate.CostModel{ShotCost: 1, CircuitCost: 10, Budget: 1000}
+	q, bound, err := allocate.FitCost(h, p, cost, delta)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, err := guarantee.CertifyPlan(h, q, delta, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(c.Total-bound) > 1e-12*bound {
+		t.Errorf("bound %.15g, certificate of the returned plan %.15g", bound, c.Total)
+	}
+	if got := cost.Cost(q); got > cost.Budget {
+		t.Errorf("plan costs %g, over the budget %g", got, cost.Budget)
+	}
+	n := int(cost.Budget) - 10*len(ds)
+	all, err := guarantee.Certify(h, ds, splitByRemainder(n, dk), delta, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if bound > all.Total*(1+1e-12) {
+		t.Errorf("FitCost bound %g, worse than keeping all %d settings (%g)", bound, len(ds), all.Total)
+	}
+}
