@@ -340,3 +340,54 @@ func btoi(v bool) int {
 	}
 	return 0
 }
+
+// TestRunCompact checks the driver's Compact option against Plan.Compact
+// of an ordinary run, for every strategy on the golden test's Hamiltonian:
+// the same distinct settings in the same order, shots, cover counts and
+// drawn terms.
+func TestRunCompact(t *testing.T) {
+	h := mustH(t, -0.2,
+		"ZZIII", 0.7, "IZZII", 0.7, "IIZZI", 0.7, "IIIZZ", 0.7,
+		"XIIII", -0.45, "IXIII", -0.45, "IIXII", -0.45, "IIIXI", -0.45, "IIIIX", -0.45,
+		"YYIII", 0.12, "IIYYI", 0.12, "XZXII", 0.05, "IZIYZ", -0.03)
+	names := allocate.Names()
+	for _, name := range names {
+		t.Run(name, func(t *testing.T) {
+			a, err := allocate.ByName(name, 9)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if f, ok := a.(*allocate.Fixed); ok {
+				f.Settings = mustSettings(t, "ZZZZZ", "XXXXX", "YYZZZ", "ZZZZZ")
+			}
+			p, err := allocate.Run(h, 500, a, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			b, err := allocate.ByName(name, 9)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if f, ok := b.(*allocate.Fixed); ok {
+				f.Settings = mustSettings(t, "ZZZZZ", "XXXXX", "YYZZZ", "ZZZZZ")
+			}
+			q, err := allocate.Run(h, 500, b, &allocate.Settings{Compact: true})
+			if err != nil {
+				t.Fatal(err)
+			}
+			want := p.Compact()
+			if d := cmp.Diff(settingTexts(want.Settings), settingTexts(q.Settings)); d != "" {
+				t.Errorf("settings (-Compact +Run):\n%s", d)
+			}
+			if d := cmp.Diff(want.Shots, q.Shots); d != "" {
+				t.Errorf("shots (-Compact +Run):\n%s", d)
+			}
+			if d := cmp.Diff(want.Cover, q.Cover); d != "" {
+				t.Errorf("cover (-Compact +Run):\n%s", d)
+			}
+			if d := cmp.Diff(want.Drawn, q.Drawn); d != "" {
+				t.Errorf("drawn (-Compact +Run):\n%s", d)
+			}
+		})
+	}
+}

@@ -44,7 +44,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
 	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
 	out := fs.String("o", "", "output plan file (required; - for standard output): a name ending in .json gets the first layout, one entry per run of shots in measurement order; any other name (such as plan.jsonl) the compact one, one line per distinct setting")
-	shotLimit := fs.Int("shot-limit", defaultShotLimit, "refuse more shots than this with a strategy that chooses a setting for every shot")
+	shotLimit := fs.Int("shot-limit", 0, fmt.Sprintf("refuse more shots than this with a strategy that chooses a setting for every shot (0: %d for a compact plan, %d for a .json one)", defaultCompactShotLimit, defaultShotLimit))
 	shotCost := fs.Float64("shot-cost", 1, "with -cost-budget: the cost (time) of one shot")
 	circuitCost := fs.Float64("circuit-cost", 0, "with -cost-budget: the cost (time) of each distinct setting, such as compiling and loading its circuit")
 	costBudget := fs.Float64("cost-budget", 0, "fit the plan to this cost: keep the settings and total shots that minimise the certified bound at -delta, with shots × -shot-cost + settings × -circuit-cost at most this (0: off)")
@@ -80,11 +80,19 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
 		}
-		if err := checkShotLimit(*strategy, a, *shots, *shotLimit, h.Qubits()); err != nil {
+		limit := *shotLimit
+		if limit <= 0 {
+			limit = defaultCompactShotLimit
+			if isJSON(*out) {
+				limit = defaultShotLimit
+			}
+		}
+		if err := checkShotLimit(*strategy, a, *shots, limit, h.Qubits()); err != nil {
 			return err
 		}
 		report, done := e.planProgress("planning " + *strategy)
-		p, err := allocate.Run(h, *shots, a, &allocate.Settings{Progress: report})
+		// The compact layout merges every repeat anyway: merge while planning.
+		p, err := allocate.Run(h, *shots, a, &allocate.Settings{Progress: report, Compact: !isJSON(*out)})
 		done()
 		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
 			return badf("%s: %w", *ham, err)
