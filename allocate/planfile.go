@@ -505,7 +505,10 @@ func (pr *planReader) checkHeader(f *PlanFile, p *Plan, raw *rawPlan) error {
 		return pr.fail(1, "format", "not a plan file (format %s, want %q)", inputcap.Quote(raw.format), PlanFormat)
 	}
 	if raw.version != PlanVersion {
-		return pr.fail(raw.versionLine, "version", "version %d, this reader knows version %d", raw.version, PlanVersion)
+		if raw.version == CompactPlanVersion {
+			return pr.fail(raw.versionLine, "version", "version %d in the layout of version %d: a compact plan has its whole header on the first line", raw.version, PlanVersion)
+		}
+		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d and %d", raw.version, PlanVersion, CompactPlanVersion)
 	}
 	switch {
 	case !raw.haveQubits:

@@ -5,17 +5,19 @@
 //
 //	shotplan info     [-exact] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
-//	shotplan plan     -ham H -strategy NAME -shots N [-seed S] -o PLAN
+//	shotplan plan     -ham H -strategy NAME -shots N [-seed S] [-cost-budget B -shot-cost T -circuit-cost T] -o PLAN
 //	shotplan certify  -ham H -plan PLAN [-delta 0.05]
-//	shotplan export   -plan PLAN -o DIR
+//	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] -o DIR
 //	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P] -o RECORDS
 //	shotplan estimate -ham H -plan PLAN -records RECORDS [-delta 0.05]
 //
 // Every subcommand takes -h for its flags and -json for machine-readable
 // output on standard output. Hamiltonian files are in the text or JSON
-// format of package hamiltonian, plan files in the format of
-// allocate.WritePlan, records in the CSV or JSON form of package estimate
-// (chosen by the file name's extension, .json or anything else).
+// format of package hamiltonian, plan files in the compact layout of
+// allocate.WriteCompactPlan (one line per distinct setting) or, for a name
+// ending in .json, the full layout of allocate.WritePlan, records in the CSV
+// or JSON form of package estimate (chosen by the file name's extension,
+// .json or anything else).
 //
 // Bad input — a missing or malformed file, an unknown strategy, a plan made
 // for another Hamiltonian — ends the command with exit status 2 and one line
