@@ -122,6 +122,10 @@ const (
 // selection that adds, one at a time, the setting that lowers the bound
 // most.
 //
+// The returned plan lists each kept setting once, with cover counts for h
+// and no drawn terms (its shots are not draws of a term), and its strategy
+// name is p's with "+cost" appended.
+//
 // FitCost returns an error wrapping [ErrCost] if a cost is negative or not
 // finite, ShotCost is zero, or the budget pays for no shot on any setting,
 // and an error if p does not fit h or delta is outside (0, 1).
