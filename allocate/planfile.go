@@ -234,6 +234,14 @@ func ReadPlanFile(path string) (*PlanFile, error) {
 // not start with '{' is refused at once, and input beyond [MaxPlanBytes]
 // once the cap is reached. Whether the plan fits a Hamiltonian is checked
 // by [PlanFile.Check].
+//
+// ReadPlan reads both layouts: that of [WritePlan] (version 1), read whole
+// and capped at [MaxPlanBytes], and the compact one of [WriteCompactPlan]
+// (version 2), read line by line in memory proportional to the plan it
+// holds (one line at a time, each at most [MaxPlanLineBytes]; the file at
+// most MaxPlanBytes). In a compact plan a setting that appears on two lines,
+// counts that disagree with the header, and drawn counts that do not add up
+// to the setting's shots are errors naming the line.
 func ReadPlan(r io.Reader) (*PlanFile, error) {
 	return readPlanFrom(r, "")
 }
@@ -247,6 +255,9 @@ func readPlanFrom(r io.Reader, name string) (*PlanFile, error) {
 	head = bytes.TrimLeft(bytes.TrimPrefix(head, []byte("\ufeff")), " \t\r\n")
 	if len(head) == 0 || head[0] != '{' {
 		return nil, fail("not a plan file: a plan file is a JSON object starting with '{'")
+	}
+	if isCompact(br) {
+		return readCompact(br, name)
 	}
 	data, err := inputcap.ReadAll(br, MaxPlanBytes)
 	if err != nil {
@@ -494,7 +505,10 @@ func (pr *planReader) checkHeader(f *PlanFile, p *Plan, raw *rawPlan) error {
 		return pr.fail(1, "format", "not a plan file (format %s, want %q)", inputcap.Quote(raw.format), PlanFormat)
 	}
 	if raw.version != PlanVersion {
-		return pr.fail(raw.versionLine, "version", "version %d, this reader knows version %d", raw.version, PlanVersion)
+		if raw.version == CompactPlanVersion {
+			return pr.fail(raw.versionLine, "version", "version %d in the layout of version %d: a compact plan has its whole header on the first line", raw.version, PlanVersion)
+		}
+		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d and %d", raw.version, PlanVersion, CompactPlanVersion)
 	}
 	switch {
 	case !raw.haveQubits:

@@ -26,6 +26,13 @@ type Options struct {
 	// required when the allocator is an [Observer] and ignored otherwise:
 	// nil with an Observer is an error.
 	Measure func(s pauli.Setting, b pauli.Bits) error
+	// Compact, if true, merges every repeat of a setting as the run goes,
+	// not only consecutive ones, so that the plan's memory grows with its
+	// distinct settings rather than with its runs of shots: the plan is
+	// then that of a run without Compact after [Plan.Compact]. For a
+	// [TermDrawer], whose drawn terms follow the shot order, the merge is
+	// done once at the end.
+	Compact bool
 }
 
 // Progress reports how far a run has come.
@@ -124,6 +131,10 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (pl
 	if obs != nil {
 		bits = pauli.NewBits(n)
 	}
+	var index map[string]int // setting key → entry, with Compact
+	if set.Compact && drawer == nil {
+		index = make(map[string]int)
+	}
 	add := func(s pauli.Setting, k int) error {
 		if k < 1 {
 			return fmt.Errorf("%w: %s: round %d: setting %s given %d shots", ErrStrategy, name, rounds, s, k)
@@ -131,6 +142,15 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (pl
 		k = min(k, budget-used)
 		if last := len(p.Settings) - 1; last >= 0 && p.Settings[last].Equal(s) {
 			p.Shots[last] += k
+		} else if index != nil {
+			key := s.Key()
+			if j, ok := index[key]; ok {
+				p.Shots[j] += k
+			} else {
+				index[key] = len(p.Settings)
+				p.Settings = append(p.Settings, s)
+				p.Shots = append(p.Shots, k)
+			}
 		} else {
 			p.Settings = append(p.Settings, s)
 			p.Shots = append(p.Shots, k)
@@ -207,6 +227,9 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (pl
 			return nil, fmt.Errorf("%w: %s: %v", ErrStrategy, name, err)
 		}
 		p.Drawn = append([]int(nil), d...)
+		if set.Compact {
+			p = p.Compact()
+		}
 	}
 	phase = "Progress"
 	p.Stats = Stats{Strategy: name, Rounds: rounds, Elapsed: time.Since(start)}

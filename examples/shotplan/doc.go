@@ -5,9 +5,9 @@
 //
 //	shotplan info     [-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
-//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] -o PLAN
+//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] -o PLAN
 //	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N]
-//	shotplan export   -plan PLAN -o DIR
+//	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR
 //	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P|P01,P10] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
 //	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|P01,P10]
 //	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS]
@@ -33,9 +33,11 @@
 // files, and "-" reads standard input. A flag that takes one value refuses a
 // second. Every subcommand takes -h for its flags and -json for
 // machine-readable output on standard output. Hamiltonian files are in the text or JSON
-// format of package hamiltonian, plan files in the format of
-// allocate.WritePlan, records in the CSV or JSON form of package estimate
-// (chosen by the file name's extension, .json or anything else). Wherever a
+// format of package hamiltonian, plan files in the compact layout of
+// allocate.WriteCompactPlan (one line per distinct setting) or, for a name
+// ending in .json, the full layout of allocate.WritePlan, records in the CSV
+// or JSON form of package estimate (chosen by the file name's extension,
+// .json or anything else). Wherever a
 // Hamiltonian file is read, an FCIDUMP file (recognised by its "&FCI"
 // header) may be given instead; it is mapped with the Jordan–Wigner encoding,
 // spin orbitals interleaved α, β.

@@ -43,8 +43,12 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	shots := fs.Int("shots", 1000, "number of shots to plan")
 	seed := fs.Uint64("seed", 1, "seed of the random strategies (recorded in the plan file)")
 	settings := fs.String("settings", "", "file of settings, one per line such as XXYZ, for -strategy fixed")
-	out := fs.String("o", "", "output plan file (required; - for standard output)")
-	shotLimit := fs.Int("shot-limit", defaultShotLimit, "refuse more shots than this with a strategy that chooses a setting for every shot")
+	out := fs.String("o", "", "output plan file (required; - for standard output): a name ending in .json gets the first layout, one entry per run of shots in measurement order; any other name (such as plan.jsonl) the compact one, one line per distinct setting")
+	shotLimit := fs.Int("shot-limit", 0, fmt.Sprintf("refuse more shots than this with a strategy that chooses a setting for every shot (0: %d for a compact plan, %d for a .json one)", defaultCompactShotLimit, defaultShotLimit))
+	shotCost := fs.Float64("shot-cost", 1, "with -cost-budget: the cost (time) of one shot")
+	circuitCost := fs.Float64("circuit-cost", 0, "with -cost-budget: the cost (time) of each distinct setting, such as compiling and loading its circuit")
+	costBudget := fs.Float64("cost-budget", 0, "fit the plan to this cost: keep the settings and total shots that minimise the certified bound at -delta, with shots × -shot-cost + settings × -circuit-cost at most this (0: off)")
+	delta := fs.Float64("delta", 0.05, "with -cost-budget: the failure probability of the certified bound it minimises")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -76,11 +80,19 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
 		}
-		if err := checkShotLimit(*strategy, a, *shots, *shotLimit, h.Qubits()); err != nil {
+		limit := *shotLimit
+		if limit <= 0 {
+			limit = defaultCompactShotLimit
+			if isJSON(*out) {
+				limit = defaultShotLimit
+			}
+		}
+		if err := checkShotLimit(*strategy, a, *shots, limit, h.Qubits()); err != nil {
 			return err
 		}
 		report, done := e.planProgress("planning " + *strategy)
-		p, err := allocate.Run(h, *shots, a, &allocate.Options{Progress: report})
+		// The compact layout merges every repeat anyway: merge while planning.
+		p, err := allocate.Run(h, *shots, a, &allocate.Options{Progress: report, Compact: !isJSON(*out)})
 		done()
 		if errors.Is(err, allocate.ErrEmpty) || errors.Is(err, allocate.ErrTooManyQubits) {
 			return badf("%s: %w", *ham, err)
@@ -88,7 +100,20 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		if err := e.writeOutput(*out, func(w io.Writer) error { return allocate.WritePlan(w, p, *seed) }); err != nil {
+		if *costBudget != 0 {
+			if err := checkDelta(*delta); err != nil {
+				return err
+			}
+			p, _, err = allocate.FitCost(h, p, allocate.CostModel{ShotCost: *shotCost, CircuitCost: *circuitCost, Budget: *costBudget}, *delta)
+			if err != nil {
+				return bad(err)
+			}
+		}
+		write := allocate.WriteCompactPlan
+		if isJSON(*out) {
+			write = allocate.WritePlan
+		}
+		if err := e.writeOutput(*out, func(w io.Writer) error { return write(w, p, *seed) }); err != nil {
 			return err
 		}
 		distinct, _ := p.Distinct()
