@@ -243,6 +243,9 @@ func (g *Greedy) walk() {
 // them, and reports whether every qubit is then fixed.
 func (g *Greedy) scan(b *block) bool {
 	w := g.rk.w
+	if w == 1 {
+		return g.scan1(b)
+	}
 	for j, r := range b.r {
 		if g.stale[r>>6]>>(r&63)&1 != 0 {
 			g.met = append(g.met, entry{key: b.key[j], r: r})
@@ -261,6 +264,50 @@ func (g *Greedy) scan(b *block) bool {
 		}
 	}
 	return false
+}
+
+// scan1 is scan for registers of one word, with the partial setting in
+// registers.
+func (g *Greedy) scan1(b *block) bool {
+	px, pz, fixed, all := g.px[0], g.pz[0], g.fixed[0], g.rk.all[0]
+	words, keys, stale := b.words, b.key, g.stale
+	// The first deferred entry, or a key no entry comes after.
+	topK, topR := math.Inf(-1), int32(0)
+	if len(g.front) > 0 {
+		topK, topR = g.front[0].key, g.front[0].r
+	}
+	for j, r := range b.r {
+		if stale[r>>6]>>(r&63)&1 != 0 {
+			g.met = append(g.met, entry{key: keys[j], r: r})
+			g.pushFront(entry{key: g.st[r].cur, r: r})
+			topK, topR = g.front[0].key, g.front[0].r
+			continue
+		}
+		if topK > keys[j] || topK == keys[j] && topR < r {
+			g.px[0], g.pz[0], g.fixed[0] = px, pz, fixed
+			for len(g.front) > 0 && before(g.front[0].key, g.front[0].r, keys[j], r) {
+				e := g.popFront()
+				if g.accept(g.rk.row(int(e.r))) {
+					return true
+				}
+			}
+			px, pz, fixed = g.px[0], g.pz[0], g.fixed[0]
+			topK, topR = math.Inf(-1), 0
+			if len(g.front) > 0 {
+				topK, topR = g.front[0].key, g.front[0].r
+			}
+		}
+		x, z := words[2*j], words[2*j+1]
+		s := x | z
+		if ((x^px)|(z^pz))&s&fixed == 0 && s&^fixed != 0 {
+			px, pz, fixed = px|x, pz|z, fixed|s
+			if fixed == all {
+				break
+			}
+		}
+	}
+	g.px[0], g.pz[0], g.fixed[0] = px, pz, fixed
+	return fixed == all
 }
 
 // accept fixes the letters of the string with words x, z if it agrees with
