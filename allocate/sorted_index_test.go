@@ -15,23 +15,16 @@ import (
 // cases include Hamiltonians of hundreds of groups, past one word of
 // groups.
 func TestSortedSameGroupsAsReference(t *testing.T) {
-	type tc struct {
-		name string
-		h    *hamiltonian.Hamiltonian
-	}
-	var cases []tc
-	for _, c := range checkCases(t) {
-		cases = append(cases, tc{c.name, c.h})
-	}
+	cases := checkCases(t)
 	for _, c := range referenceCases(t) {
-		cases = append(cases, tc{c.Name, c.H})
+		cases = append(cases, checkCase{c.Name, c.H})
 	}
 	for _, sz := range []struct{ n, m, k int }{{12, 2000, 6}, {70, 3000, 5}} {
 		h, err := hamiltonian.RandomLocal(sz.n, sz.m, sz.k, 9)
 		if err != nil {
 			t.Fatal(err)
 		}
-		cases = append(cases, tc{"random", h})
+		cases = append(cases, checkCase{"random", h})
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
