@@ -25,18 +25,23 @@ import (
 // # Cost
 //
 // The terms are kept in walk order — weight descending, ties by rank —
-// in a list of blocks of a few hundred entries, each entry holding its key
-// and its bit words inline, and each block the union of its members'
-// supports. A round reads the blocks in order and tests each entry
-// word-wise, with no heap operation: it skips a block none of whose members
-// touches a free qubit and stops when no later block does (the setting is
-// then the one walking to the end gives) or when every qubit is fixed.
-// Finding the terms the setting covers reads only the terms whose two
-// lowest support qubits agree with the setting (about a ninth of them; see
-// internal/coverindex), O(M⌈n/64⌉/9). Each of the C covered terms then
-// moves to its new place, O(log M + B) for blocks of B entries. A setting
-// therefore costs O(W⌈n/64⌉ + M⌈n/64⌉/9 + C(log M + B)) for W entries read
-// by the walk; memory is O(M⌈n/64⌉).
+// in a list of blocks of up to 128 entries, each entry holding its key and
+// its bit words inline, and each block a superset of the union of its
+// members' supports. A round reads the blocks in order and tests each entry
+// word-wise, with no heap operation per entry: it skips a block none of
+// whose members touches a free qubit, and stops when no later block does
+// (the setting is then the one walking to the end gives) or when every
+// qubit is fixed. Finding the terms the setting covers reads only the terms
+// whose two lowest support qubits agree with the setting (about a ninth of
+// them; see internal/coverindex), O(M⌈n/64⌉/9). Recording a cover is O(1):
+// the entry keeps its old, larger key until a walk meets it, defers it to
+// its true weight in a small heap merged with the blocks (so the walk order
+// stays exact), and moves it to its place afterwards, O(log M + B) for
+// blocks of B entries. A setting therefore costs O(W⌈n/64⌉ + M⌈n/64⌉/9 +
+// S(log M + B)) for W entries read by the walk and S stale entries met;
+// memory is O(M⌈n/64⌉). On Hamiltonians whose every qubit lies in the
+// support of many terms (Jordan–Wigner molecules), the last free qubits
+// often have no compatible term and W approaches M.
 //
 // Greedy is deterministic: it uses no randomness. It implements [Counter].
 // The zero value is ready to use.
