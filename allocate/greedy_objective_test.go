@@ -1,7 +1,9 @@
 package allocate_test
 
 import (
+	"fmt"
 	"math"
+	"runtime"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -59,5 +61,36 @@ func TestGreedyObjectiveMatchesPlain(t *testing.T) {
 				t.Errorf("greedy: objective %.6g with %d terms uncovered; plain greedy: %.6g with %d", nf, mf, np, mp)
 			}
 		})
+	}
+}
+
+// TestGreedySameOnAllCores checks that Greedy's plan does not depend on the
+// number of cores it may use: its long walks are shared out among them.
+// The Hamiltonians have enough terms (over 64·128) for the walk to split.
+func TestGreedySameOnAllCores(t *testing.T) {
+	random, err := hamiltonian.RandomLocal(40, 20000, 4, 11)
+	if err != nil {
+		t.Fatal(err)
+	}
+	hs := []*hamiltonian.Hamiltonian{random}
+	if !testing.Short() {
+		hs = append(hs, moleculeFixture(t, 10))
+	}
+	for _, h := range hs {
+		var plans []string
+		for _, procs := range []int{1, 2, 5} {
+			old := runtime.GOMAXPROCS(procs)
+			p, err := allocate.Run(h, 120, &allocate.Greedy{}, nil)
+			runtime.GOMAXPROCS(old)
+			if err != nil {
+				t.Fatal(err)
+			}
+			plans = append(plans, fmt.Sprint(planStrings(p), p.Cover))
+		}
+		for i := 1; i < len(plans); i++ {
+			if plans[i] != plans[0] {
+				t.Fatalf("%d-qubit Hamiltonian: plan on several cores differs from the plan on one", h.Qubits())
+			}
+		}
 	}
 }
