@@ -64,11 +64,13 @@ func TestGreedyObjectiveMatchesPlain(t *testing.T) {
 	}
 }
 
-// TestGreedySameOnAllCores checks that Greedy's plan does not depend on the
-// number of cores it may use: its long walks are shared out among them.
-// The Hamiltonians have enough terms (over 64·128) for the walk to split.
-func TestGreedySameOnAllCores(t *testing.T) {
-	random, err := hamiltonian.RandomLocal(40, 20000, 4, 11)
+// TestSameOnAllCores checks that the plans of the strategies that share
+// their work among cores (Greedy's long walks, Derandomized's per-qubit
+// sums) do not depend on the number of cores. The Hamiltonians are large
+// enough for the work to split (over 64·128 terms for Greedy, 2^15 for
+// Derandomized).
+func TestSameOnAllCores(t *testing.T) {
+	random, err := hamiltonian.RandomLocal(40, 40000, 4, 11)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -76,20 +78,25 @@ func TestGreedySameOnAllCores(t *testing.T) {
 	if !testing.Short() {
 		hs = append(hs, moleculeFixture(t, 10))
 	}
-	for _, h := range hs {
-		var plans []string
-		for _, procs := range []int{1, 2, 5} {
-			old := runtime.GOMAXPROCS(procs)
-			p, err := allocate.Run(h, 120, &allocate.Greedy{}, nil)
-			runtime.GOMAXPROCS(old)
-			if err != nil {
-				t.Fatal(err)
+	for _, mk := range []func() allocate.Allocator{
+		func() allocate.Allocator { return &allocate.Greedy{} },
+		func() allocate.Allocator { return &allocate.Derandomized{} },
+	} {
+		for _, h := range hs {
+			var plans []string
+			for _, procs := range []int{1, 2, 5} {
+				old := runtime.GOMAXPROCS(procs)
+				p, err := allocate.Run(h, 60, mk(), nil)
+				runtime.GOMAXPROCS(old)
+				if err != nil {
+					t.Fatal(err)
+				}
+				plans = append(plans, fmt.Sprint(planStrings(p), p.Cover))
 			}
-			plans = append(plans, fmt.Sprint(planStrings(p), p.Cover))
-		}
-		for i := 1; i < len(plans); i++ {
-			if plans[i] != plans[0] {
-				t.Fatalf("%d-qubit Hamiltonian: plan on several cores differs from the plan on one", h.Qubits())
+			for i := 1; i < len(plans); i++ {
+				if plans[i] != plans[0] {
+					t.Fatalf("%s, %d terms: plan on several cores differs from the plan on one", allocate.Name(mk()), h.Len())
+				}
 			}
 		}
 	}
