@@ -2,9 +2,7 @@ package allocate
 
 import (
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
@@ -65,8 +63,6 @@ type Greedy struct {
 	stale  []uint64  // bit r: rank r was covered since its entry was placed
 	met    []entry   // stale entries met by the walk
 	front  []entry   // deferred entries of the walk, a max-heap
-	snap   []uint64  // the letters fixed when a walk is shared out
-	spec   []speculation
 	gain   []float64
 	px     []uint64 // letters fixed so far
 	pz     []uint64
@@ -139,7 +135,6 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.layout()
 	g.gain = g.gain[:0]
 	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
-	g.snap = make([]uint64, 3*w)
 	return nil
 }
 
@@ -228,141 +223,23 @@ func (g *Greedy) walk() {
 			g.tail[b*w+k] = g.tail[(b+1)*w+k] | g.blocks[b].sup[k]
 		}
 	}
-	// Long walks are shared out: past the first serialBlocks blocks, the
-	// other cores each scan a later range speculatively while this one
-	// walks the first range (see speculate).
-	end, workers := nb, runtime.GOMAXPROCS(0)
-	if workers > 1 && nb > 2*serialBlocks {
-		end = serialBlocks
-	}
-	if g.walkRange(0, end) {
-		return
-	}
-	if end < nb {
-		// Fixed letters are only ever added, so an entry rejected against
-		// the letters fixed now stays rejected for the rest of the walk:
-		// each helper keeps only the entries of its range that the
-		// letters fixed now accept, and the stale ones.
-		copy(g.snap, g.px)
-		copy(g.snap[w:], g.pz)
-		copy(g.snap[2*w:], g.fixed)
-		if len(g.spec) < workers-1 {
-			g.spec = append(g.spec, make([]speculation, workers-1-len(g.spec))...)
-		}
-		step := (nb - end + workers - 1) / workers
-		var wg sync.WaitGroup
-		for i := 1; i < workers; i++ {
-			lo := min(end+i*step, nb)
-			hi := min(lo+step, nb)
-			sp := &g.spec[i-1]
-			sp.cand, sp.met = sp.cand[:0], sp.met[:0]
-			wg.Add(1)
-			go func() {
-				defer wg.Done()
-				g.speculate(sp, lo, hi)
-			}()
-		}
-		done := g.walkRange(end, min(end+step, nb))
-		wg.Wait()
-		for i := range workers - 1 {
-			sp := &g.spec[i]
-			g.met = append(g.met, sp.met...)
-			if !done {
-				for _, e := range sp.cand {
-					g.pushFront(e)
-				}
-			}
-		}
-		if done {
-			return
-		}
-	}
-	// No later block is left (or touches a free qubit); deferred and
-	// speculated entries still may, in walk order.
-	for len(g.front) > 0 {
-		e := g.popFront()
-		if g.accept(g.rk.row(int(e.r))) {
-			return
-		}
-	}
-}
-
-// serialBlocks is the number of blocks a walk reads on one core before it
-// shares out the rest.
-const serialBlocks = 64
-
-// speculation is what a helper of the walk found in its range: the entries
-// the letters fixed at the start accept and the stale entries, at their
-// true weights, and the stale entries at their stored keys.
-type speculation struct {
-	cand, met []entry
-}
-
-// walkRange walks blocks lo..hi-1 and reports whether every qubit is then
-// fixed; it returns early, with false, at a block after which no block
-// touches a free qubit.
-func (g *Greedy) walkRange(lo, hi int) bool {
-	w := g.rk.w
-	for bi := lo; bi < hi; bi++ {
-		b := g.blocks[bi]
+	for bi, b := range g.blocks {
 		if !g.touchesFree(g.tail[bi*w : (bi+1)*w]) {
-			return false
+			break
 		}
 		if !g.touchesFree(b.sup) {
 			// None of its entries, stale or not, can fix a free qubit.
 			continue
 		}
 		if g.scan(b) {
-			return true
-		}
-	}
-	return false
-}
-
-// speculate reads blocks lo..hi-1 against the letters in g.snap, for walk:
-// it only reads the blocks and the cover states, which nothing changes
-// during a walk.
-func (g *Greedy) speculate(sp *speculation, lo, hi int) {
-	w := g.rk.w
-	px, pz, fixed := g.snap[:w], g.snap[w:2*w], g.snap[2*w:3*w]
-	free := func(s []uint64) bool {
-		for k, f := range fixed {
-			if s[k]&^f != 0 {
-				return true
-			}
-		}
-		return false
-	}
-	for bi := lo; bi < hi; bi++ {
-		b := g.blocks[bi]
-		if !free(g.tail[bi*w : (bi+1)*w]) {
 			return
 		}
-		if !free(b.sup) {
-			continue
-		}
-		for j, r := range b.r {
-			if g.stale[r>>6]>>(r&63)&1 != 0 {
-				sp.met = append(sp.met, entry{key: b.key[j], r: r})
-				sp.cand = append(sp.cand, entry{key: g.st[r].cur, r: r})
-				continue
-			}
-			o := 2 * w * j
-			ok, grow := true, false
-			for k := range w {
-				x, z := b.words[o+k], b.words[o+w+k]
-				s := x | z
-				if ((x^px[k])|(z^pz[k]))&s&fixed[k] != 0 {
-					ok = false
-					break
-				}
-				if s&^fixed[k] != 0 {
-					grow = true
-				}
-			}
-			if ok && grow {
-				sp.cand = append(sp.cand, entry{key: b.key[j], r: r})
-			}
+	}
+	// No later block touches a free qubit; deferred entries still may.
+	for len(g.front) > 0 {
+		e := g.popFront()
+		if g.accept(g.rk.row(int(e.r))) {
+			return
 		}
 	}
 }

@@ -65,10 +65,9 @@ func TestGreedyObjectiveMatchesPlain(t *testing.T) {
 }
 
 // TestSameOnAllCores checks that the plans of the strategies that share
-// their work among cores (Greedy's long walks, Derandomized's per-qubit
-// sums) do not depend on the number of cores. The Hamiltonians are large
-// enough for the work to split (over 64·128 terms for Greedy, 2^15 for
-// Derandomized).
+// their work among cores (Derandomized's per-qubit sums) do not depend on
+// the number of cores. The Hamiltonians are large enough for the work to
+// split (2^15 terms for Derandomized).
 func TestSameOnAllCores(t *testing.T) {
 	random, err := hamiltonian.RandomLocal(40, 40000, 4, 11)
 	if err != nil {
@@ -79,7 +78,6 @@ func TestSameOnAllCores(t *testing.T) {
 		hs = append(hs, moleculeFixture(t, 10))
 	}
 	for _, mk := range []func() allocate.Allocator{
-		func() allocate.Allocator { return &allocate.Greedy{} },
 		func() allocate.Allocator { return &allocate.Derandomized{} },
 	} {
 		for _, h := range hs {
