@@ -3,6 +3,8 @@ package allocate
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"sync"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -38,7 +40,11 @@ import (
 // at the support qubits it reaches (its first one, then the next with
 // probability about 1/3, and so on) instead of at all k_l of them. Terms are
 // stored sorted by their first support qubit so that the first reads are
-// sequential. Memory is O(Σ_l k_l).
+// sequential. The reads of each term at its first support qubit, which do
+// not depend on the letters chosen, are summed per qubit before the setting
+// is chosen, on several cores for large Hamiltonians, each core taking
+// whole qubits so that the plan is the same on any number of cores.
+// Memory is O(Σ_l k_l).
 //
 // Weights are kept relative to the largest; a term whose weight falls below
 // about 1e−300 of the largest counts as zero. Derandomized is deterministic
@@ -56,16 +62,17 @@ type Derandomized struct {
 	b     []float64 // |h_l| exp(−ν hits_l), rescaled
 	k     []int32   // weight
 	hits  []int32
-	off   []int32     // term s's support entries: ent[off[s]:off[s+1]]
-	ent   []int32     // qubit<<2 | letter, by increasing qubit
-	first []int32     // terms with first support qubit q: first[q]..first[q+1]-1
-	wait  [][]waiting // wait[q]: live terms whose next support qubit is q
-	lead  []uint8     // letter of term s on its first support qubit
-	logg  []float64   // logg[k] = log(1 − (1 − e^−ν)·3^−k)
-	f     []float64   // future factor by weight, this setting, relative
-	inv3  []float64   // 3^−u
-	a     float64     // 1 − e^−ν
-	decay float64     // e^−ν
+	off   []int32      // term s's support entries: ent[off[s]:off[s+1]]
+	ent   []int32      // qubit<<2 | letter, by increasing qubit
+	first []int32      // terms with first support qubit q: first[q]..first[q+1]-1
+	wait  [][]waiting  // wait[q]: live terms whose next support qubit is q
+	lead  []uint8      // letter of term s on its first support qubit
+	logg  []float64    // logg[k] = log(1 − (1 − e^−ν)·3^−k)
+	f     []float64    // future factor by weight, this setting, relative
+	inv3  []float64    // 3^−u
+	lg    [][4]float64 // lg[q]: gains of the terms led by qubit q, this setting
+	a     float64      // 1 − e^−ν
+	decay float64      // e^−ν
 }
 
 // String returns "derand".
@@ -156,18 +163,15 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	for q := range d.wait {
 		d.wait[q] = d.wait[q][:0]
 	}
+	d.leadGains()
 	for q := range d.n {
 		// Choosing letter L lowers the cost by a·Σ base_l·3^−(u_l−1) over
 		// the live terms with letter L on q (u_l free support qubits, this
 		// one included) and contradicts the others, whose factor becomes
 		// 1; the common part is the same for every L, so the best letter
 		// has the largest gain.
-		var gain [4]float64
+		gain := d.lg[q]
 		lo, hi := d.first[q], d.first[q+1]
-		for s := lo; s < hi; s++ {
-			k := d.k[s]
-			gain[d.lead[s]] += d.b[s] * d.f[k] * d.inv3[k-1]
-		}
 		wait := d.wait[q]
 		for i := range wait {
 			gain[wait[i].letter] += wait[i].base * d.inv3[wait[i].u-1]
@@ -203,6 +207,50 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 		}
 	}
 	return 1, nil
+}
+
+// leadGains sums, for every qubit q and letter, the gain of the terms whose
+// first support qubit is q (see Next), in storage order. These sums do not
+// depend on the letters chosen in the setting, so they are computed up
+// front, on several cores for large Hamiltonians: each core takes whole
+// qubits, so every sum is added in the same order whatever the number of
+// cores.
+func (d *Derandomized) leadGains() {
+	if len(d.lg) != d.n {
+		d.lg = make([][4]float64, d.n)
+	}
+	sum := func(qlo, qhi int) {
+		for q := qlo; q < qhi; q++ {
+			var gain [4]float64
+			for s := d.first[q]; s < d.first[q+1]; s++ {
+				k := d.k[s]
+				gain[d.lead[s]] += d.b[s] * d.f[k] * d.inv3[k-1]
+			}
+			d.lg[q] = gain
+		}
+	}
+	workers := min(runtime.GOMAXPROCS(0), d.n)
+	m := int(d.first[d.n])
+	if workers < 2 || m < 1<<15 {
+		sum(0, d.n)
+		return
+	}
+	// Cut the qubits into runs of about m/workers terms.
+	var wg sync.WaitGroup
+	q := 0
+	for i := range workers {
+		end := q
+		for end < d.n && (i == workers-1 || int(d.first[end]) < m*(i+1)/workers) {
+			end++
+		}
+		wg.Add(1)
+		go func(lo, hi int) {
+			defer wg.Done()
+			sum(lo, hi)
+		}(q, end)
+		q = end
+	}
+	wg.Wait()
 }
 
 // waiting is a term still consistent with the letters fixed so far in the

@@ -2,7 +2,7 @@ package allocate
 
 import (
 	"math"
-	"math/bits"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
@@ -24,17 +24,24 @@ import (
 //
 // # Cost
 //
-// The weights live in a binary max-heap whose stored keys are upper bounds:
-// covering a term lowers its true weight at once but leaves its heap entry
-// alone. A round walks the heap in descending order through a small
-// frontier heap; an entry found stale is put back into the frontier at its
-// true weight, and repaired in the heap (one sift-down) after the walk, so
-// the walk is exact and costs O(W log W) for W visited entries. Finding the
-// terms the setting covers reads only the terms whose two lowest support
-// qubits agree with the setting (about a ninth of them; see internal/coverindex),
-// O(M⌈n/64⌉/9); recording a cover is O(1). A setting therefore costs
-// O(W log W + S log M + M⌈n/64⌉/9) for S stale entries met by the walk;
-// memory is O(M⌈n/64⌉).
+// The terms are kept in walk order — weight descending, ties by rank —
+// in a list of blocks of up to 128 entries, each entry holding its key and
+// its bit words inline, and each block a superset of the union of its
+// members' supports. A round reads the blocks in order and tests each entry
+// word-wise, with no heap operation per entry: it skips a block none of
+// whose members touches a free qubit, and stops when no later block does
+// (the setting is then the one walking to the end gives) or when every
+// qubit is fixed. Finding the terms the setting covers reads only the terms
+// whose two lowest support qubits agree with the setting (about a ninth of
+// them; see internal/coverindex), O(M⌈n/64⌉/9). Recording a cover is O(1):
+// the entry keeps its old, larger key until a walk meets it, defers it to
+// its true weight in a small heap merged with the blocks (so the walk order
+// stays exact), and moves it to its place afterwards, O(log M + B) for
+// blocks of B entries. A setting therefore costs O(W⌈n/64⌉ + M⌈n/64⌉/9 +
+// S(log M + B)) for W entries read by the walk and S stale entries met;
+// memory is O(M⌈n/64⌉). On Hamiltonians whose every qubit lies in the
+// support of many terms (Jordan–Wigner molecules), the last free qubits
+// often have no compatible term and W approaches M.
 //
 // Greedy is deterministic: it uses no randomness. It implements [Counter].
 // The zero value is ready to use.
@@ -43,22 +50,23 @@ type Greedy struct {
 	// (pauli.I) means Z.
 	Fill pauli.Letter
 
-	rk    *ranked
-	index *coverindex.Index
-	st    []state // per rank, in one cache line: cover count and weights
-	tier  float64 // added to |h| for uncovered terms, above every w_i
-	heap  []entry // max-heap by (key desc, rank asc); key ≥ cur
-	pos   []int32 // heap position of rank r
-	front []entry // frontier of the walk, a max-heap
-	stale []int32 // ranks found stale by the walk, to repair
-	hit   []int32 // scratch: ranks covered by the last setting
-	gain  []float64
-	px    []uint64 // letters fixed so far
-	pz    []uint64
-	fixed []uint64 // qubits fixed so far
-	uses  []int32  // terms whose support holds qubit q
-	left  []int32  // of those, the ones the walk has not processed yet
-	spent []uint64 // free qubits with no unprocessed term left
+	rk     *ranked
+	index  *coverindex.Index
+	st     []state   // per rank: cover count and weights
+	tier   float64   // added to |h| for uncovered terms, above every w_i
+	blocks []*block  // the terms in walk order
+	home   []*block  // home[r]: the block holding rank r
+	tail   []uint64  // scratch: union of the supports of blocks b.. at b·w
+	hit    []int32   // scratch: ranks covered by the last setting
+	order  []int32   // scratch: ranks in walk order, for layout
+	keys   []float64 // scratch: their keys
+	stale  []uint64  // bit r: rank r was covered since its entry was placed
+	met    []entry   // stale entries met by the walk
+	front  []entry   // deferred entries of the walk, a max-heap
+	gain   []float64
+	px     []uint64 // letters fixed so far
+	pz     []uint64
+	fixed  []uint64 // qubits fixed so far
 
 	fx, fz uint64 // symplectic bits of the fill letter, set by Init
 }
@@ -70,18 +78,33 @@ type state struct {
 	cnt int64   // N_i
 }
 
-// entry is a heap entry: a term's rank and stored weight, and, in the
-// frontier, its position in the heap, or −1 for an entry put back at its
-// true weight.
-type entry struct {
-	key  float64
-	r, p int32
+// blockSize is the number of entries of a block after a split; a block
+// splits when it reaches twice as many.
+const blockSize = 64
+
+// block is a run of consecutive entries of the walk order.
+type block struct {
+	key   []float64 // weight, descending
+	r     []int32   // rank, ascending among equal keys
+	words []uint64  // entry j: x at words[2wj:], z at words[2wj+w:]
+	sup   []uint64  // a superset of the union of the entries' supports
+	lastK float64   // the last entry's key and rank, when not empty
+	lastR int32
 }
 
-// before reports whether a comes before b in the walk: larger weight first,
-// then lower rank (larger |h_i|, then lower term index).
-func before(a, b entry) bool {
-	return a.key > b.key || a.key == b.key && a.r < b.r
+// settle records the last entry of b in its header, which the search for a
+// block reads.
+func (b *block) settle() {
+	if n := len(b.r); n > 0 {
+		b.lastK, b.lastR = b.key[n-1], b.r[n-1]
+	}
+}
+
+// before reports whether the entry (ka, ra) comes before (kb, rb) in the
+// walk: larger weight first, then lower rank (larger |h_i|, then lower term
+// index).
+func before(ka float64, ra int32, kb float64, rb int32) bool {
+	return ka > kb || ka == kb && ra < rb
 }
 
 // String returns "greedy".
@@ -99,27 +122,19 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	m := len(rk.order)
 	g.index = coverindex.New(rk.n, m, rk.row)
 	g.st = make([]state, m)
-	g.heap = make([]entry, m)
-	g.pos = make([]int32, m)
+	g.home = make([]*block, m)
 	g.tier = rk.abs[0] // the largest |h|; every w_i ≤ (1−1/√2)|h_i| is below it
-	for r := range m {
-		// Rank order is descending by key, so it is already a heap.
-		g.st[r] = state{cur: rk.abs[r] + g.tier, abs: rk.abs[r]}
-		g.heap[r] = entry{key: g.st[r].cur, r: int32(r)}
-		g.pos[r] = int32(r)
-	}
-	g.gain = g.gain[:0]
 	w := rk.w
-	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
-	g.spent = make([]uint64, w)
-	g.uses, g.left = make([]int32, rk.n), make([]int32, rk.n)
+	g.order, g.keys = make([]int32, m), make([]float64, m)
+	g.stale = make([]uint64, (m+63)/64)
 	for r := range m {
-		x, z := rk.row(r)
-		for q := range supportOf(x, z) {
-			g.uses[q]++
-		}
+		// Rank order is descending by key, so it is already the walk order.
+		g.st[r] = state{cur: rk.abs[r] + g.tier, abs: rk.abs[r]}
+		g.order[r], g.keys[r] = int32(r), g.st[r].cur
 	}
-	g.front, g.stale = g.front[:0], g.stale[:0]
+	g.layout()
+	g.gain = g.gain[:0]
+	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
 	return nil
 }
 
@@ -133,6 +148,11 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 		g.px[k], g.pz[k], g.fixed[k] = 0, 0, rk.all[k]&^rk.used[k]
 	}
 	g.walk()
+	// The stale entries the walk met go to their places.
+	for _, e := range g.met {
+		g.move(e.r, e.key)
+		g.stale[e.r>>6] &^= 1 << (e.r & 63)
+	}
 	for k := range w {
 		free := rk.all[k] &^ (g.px[k] | g.pz[k])
 		g.px[k] |= free & g.fx
@@ -142,100 +162,254 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 	g.hit = g.index.AppendCovered(g.hit[:0], g.px, g.pz)
 	for _, r := range g.hit {
 		g.bump(r)
+		g.stale[r>>6] |= 1 << (r & 63)
+	}
+	if len(g.blocks) > 2*len(g.st)/blockSize+8 {
+		// Moves leave blocks half empty: lay them out afresh.
+		g.order, g.keys = g.order[:0], g.keys[:0]
+		for _, b := range g.blocks {
+			g.order = append(g.order, b.r...)
+			g.keys = append(g.keys, b.key...)
+		}
+		g.layout()
 	}
 	return 1, nil
 }
 
-// walk visits the terms in descending weight and fixes the letters of those
-// compatible with the partial setting. It reads the heap without changing
-// it, through a frontier heap, then repairs the stale entries it met. It
-// stops when every qubit is fixed, or when no term left could fix a free
-// qubit (every term holding one has been visited), which gives the same
-// setting as walking to the end.
-func (g *Greedy) walk() {
-	if g.allFixed() {
-		return
-	}
-	rk := g.rk
-	w := rk.w
-	words := rk.words
-	copy(g.left, g.uses)
-	clear(g.spent)
-	g.front = g.front[:0]
-	g.stale = g.stale[:0]
-	g.pushFront(0)
-	for len(g.front) > 0 {
-		e := g.popFront()
-		if e.p >= 0 {
-			if c := 2*e.p + 1; c < int32(len(g.heap)) {
-				g.pushFront(c)
-				if c+1 < int32(len(g.heap)) {
-					g.pushFront(c + 1)
-				}
-			}
-			if t := g.st[e.r].cur; e.key != t {
-				// Stale: the term comes back at its true weight.
-				g.stale = append(g.stale, e.r)
-				g.pushBack(entry{key: t, r: e.r, p: -1})
-				continue
-			}
+// layout puts the entries of g.order and g.keys, which are in walk order,
+// into fresh blocks of blockSize entries.
+func (g *Greedy) layout() {
+	w := g.rk.w
+	g.blocks = g.blocks[:0]
+	for lo := 0; lo < len(g.order); lo += blockSize {
+		hi := min(lo+blockSize, len(g.order))
+		b := newBlock(w)
+		for j, r := range g.order[lo:hi] {
+			g.push(b, len(b.r), g.keys[lo+j], r)
 		}
-		o := 2 * w * int(e.r)
-		exhausted := false
-		for k := range w {
-			free := (words[o+k] | words[o+w+k]) &^ g.fixed[k]
-			for free != 0 {
-				q := k<<6 + bits.TrailingZeros64(free)
-				free &= free - 1
-				if g.left[q]--; g.left[q] == 0 {
-					g.spent[k] |= 1 << (q & 63)
-					exhausted = true
-				}
-			}
-		}
-		ok, grow := true, false
-		for k := range w {
-			x, z := words[o+k], words[o+w+k]
-			s := x | z
-			if ((x^g.px[k])|(z^g.pz[k]))&s&g.fixed[k] != 0 {
-				ok = false
-				break
-			}
-			if s&^g.fixed[k] != 0 {
-				grow = true
-			}
-		}
-		if ok && grow {
-			for k := range w {
-				x, z := words[o+k], words[o+w+k]
-				g.px[k] |= x
-				g.pz[k] |= z
-				g.fixed[k] |= x | z
-			}
-			if g.allFixed() {
-				break
-			}
-			exhausted = true
-		}
-		if exhausted && g.allSpent() {
-			break
-		}
-	}
-	for _, r := range g.stale {
-		p := g.pos[r]
-		g.heap[p].key = g.st[r].cur
-		g.siftDown(p)
+		g.blocks = append(g.blocks, b)
 	}
 }
 
-// allSpent reports whether every free qubit has no unprocessed term left.
-func (g *Greedy) allSpent() bool {
-	for k, f := range g.fixed {
-		if g.rk.all[k]&^f&^g.spent[k] != 0 {
-			return false
+func newBlock(w int) *block {
+	return &block{
+		key:   make([]float64, 0, 2*blockSize),
+		r:     make([]int32, 0, 2*blockSize),
+		words: make([]uint64, 0, 4*w*blockSize),
+		sup:   make([]uint64, w),
+	}
+}
+
+// walk visits the terms in descending weight and fixes the letters of those
+// compatible with the partial setting. It stops when every qubit is fixed,
+// or when no term left could fix a free qubit, which gives the same setting
+// as walking to the end.
+//
+// A covered term's entry keeps its old, larger key (it is stale) until a
+// walk meets it: the walk then defers it to its true weight, in a small
+// heap merged with the blocks, and Next moves it to its place afterwards.
+// Since a stale key is never below the true one, the order of the walk is
+// exact.
+func (g *Greedy) walk() {
+	g.met, g.front = g.met[:0], g.front[:0]
+	if g.allFixed() {
+		return
+	}
+	w := g.rk.w
+	nb := len(g.blocks)
+	g.tail = append(g.tail[:0], make([]uint64, (nb+1)*w)...)
+	for b := nb - 1; b >= 0; b-- {
+		for k := range w {
+			g.tail[b*w+k] = g.tail[(b+1)*w+k] | g.blocks[b].sup[k]
 		}
 	}
-	return true
+	for bi, b := range g.blocks {
+		if !g.touchesFree(g.tail[bi*w : (bi+1)*w]) {
+			break
+		}
+		if !g.touchesFree(b.sup) {
+			// None of its entries, stale or not, can fix a free qubit.
+			continue
+		}
+		if g.scan(b) {
+			return
+		}
+	}
+	// No later block touches a free qubit; deferred entries still may.
+	for len(g.front) > 0 {
+		e := g.popFront()
+		if g.accept(g.rk.row(int(e.r))) {
+			return
+		}
+	}
+}
+
+// scan walks the entries of block b, merged with the deferred ones before
+// them, and reports whether every qubit is then fixed.
+func (g *Greedy) scan(b *block) bool {
+	w := g.rk.w
+	if w == 1 {
+		return g.scan1(b)
+	}
+	for j, r := range b.r {
+		if g.stale[r>>6]>>(r&63)&1 != 0 {
+			g.met = append(g.met, entry{key: b.key[j], r: r})
+			g.pushFront(entry{key: g.st[r].cur, r: r})
+			continue
+		}
+		for len(g.front) > 0 && before(g.front[0].key, g.front[0].r, b.key[j], r) {
+			e := g.popFront()
+			if g.accept(g.rk.row(int(e.r))) {
+				return true
+			}
+		}
+		o := 2 * w * j
+		if g.accept(b.words[o:o+w], b.words[o+w:o+2*w]) {
+			return true
+		}
+	}
+	return false
+}
+
+// scan1 is scan for registers of one word, with the partial setting in
+// registers.
+func (g *Greedy) scan1(b *block) bool {
+	px, pz, fixed, all := g.px[0], g.pz[0], g.fixed[0], g.rk.all[0]
+	words, keys, stale := b.words, b.key, g.stale
+	// The first deferred entry, or a key no entry comes after.
+	topK, topR := math.Inf(-1), int32(0)
+	if len(g.front) > 0 {
+		topK, topR = g.front[0].key, g.front[0].r
+	}
+	for j, r := range b.r {
+		if stale[r>>6]>>(r&63)&1 != 0 {
+			g.met = append(g.met, entry{key: keys[j], r: r})
+			g.pushFront(entry{key: g.st[r].cur, r: r})
+			topK, topR = g.front[0].key, g.front[0].r
+			continue
+		}
+		if topK > keys[j] || topK == keys[j] && topR < r {
+			g.px[0], g.pz[0], g.fixed[0] = px, pz, fixed
+			for len(g.front) > 0 && before(g.front[0].key, g.front[0].r, keys[j], r) {
+				e := g.popFront()
+				if g.accept(g.rk.row(int(e.r))) {
+					return true
+				}
+			}
+			px, pz, fixed = g.px[0], g.pz[0], g.fixed[0]
+			topK, topR = math.Inf(-1), 0
+			if len(g.front) > 0 {
+				topK, topR = g.front[0].key, g.front[0].r
+			}
+		}
+		x, z := words[2*j], words[2*j+1]
+		s := x | z
+		if ((x^px)|(z^pz))&s&fixed == 0 && s&^fixed != 0 {
+			px, pz, fixed = px|x, pz|z, fixed|s
+			if fixed == all {
+				break
+			}
+		}
+	}
+	g.px[0], g.pz[0], g.fixed[0] = px, pz, fixed
+	return fixed == all
+}
+
+// accept fixes the letters of the string with words x, z if it agrees with
+// the letters fixed so far and touches a free qubit, and reports whether
+// every qubit is then fixed.
+func (g *Greedy) accept(x, z []uint64) bool {
+	if len(x) == 1 {
+		s, fixed := x[0]|z[0], g.fixed[0]
+		if ((x[0]^g.px[0])|(z[0]^g.pz[0]))&s&fixed == 0 && s&^fixed != 0 {
+			g.px[0] |= x[0]
+			g.pz[0] |= z[0]
+			g.fixed[0] = fixed | s
+			return g.fixed[0] == g.rk.all[0]
+		}
+		return false
+	}
+	grow := false
+	for k := range x {
+		s := x[k] | z[k]
+		if ((x[k]^g.px[k])|(z[k]^g.pz[k]))&s&g.fixed[k] != 0 {
+			return false
+		}
+		if s&^g.fixed[k] != 0 {
+			grow = true
+		}
+	}
+	if !grow {
+		return false
+	}
+	for k := range x {
+		g.px[k] |= x[k]
+		g.pz[k] |= z[k]
+		g.fixed[k] |= x[k] | z[k]
+	}
+	return g.allFixed()
+}
+
+// touchesFree reports whether the qubit set s holds a qubit not fixed yet.
+func (g *Greedy) touchesFree(s []uint64) bool {
+	for k, f := range g.fixed {
+		if s[k]&^f != 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// entry is a deferred entry of the walk, or a stale entry met by it: a
+// rank and a key.
+type entry struct {
+	key float64
+	r   int32
+}
+
+// The frontier is a max-heap, in walk order, of the deferred entries.
+
+func (g *Greedy) pushFront(e entry) {
+	f := append(g.front, e)
+	i := len(f) - 1
+	for i > 0 {
+		parent := (i - 1) / 2
+		if !before(e.key, e.r, f[parent].key, f[parent].r) {
+			break
+		}
+		f[i] = f[parent]
+		i = parent
+	}
+	f[i] = e
+	g.front = f
+}
+
+func (g *Greedy) popFront() entry {
+	f := g.front
+	top := f[0]
+	last := len(f) - 1
+	e := f[last]
+	f = f[:last]
+	i := 0
+	for {
+		c := 2*i + 1
+		if c >= len(f) {
+			break
+		}
+		if c+1 < len(f) && before(f[c+1].key, f[c+1].r, f[c].key, f[c].r) {
+			c++
+		}
+		if !before(f[c].key, f[c].r, e.key, e.r) {
+			break
+		}
+		f[i] = f[c]
+		i = c
+	}
+	if len(f) > 0 {
+		f[i] = e
+	}
+	g.front = f
+	return top
 }
 
 func (g *Greedy) allFixed() bool {
@@ -266,79 +440,101 @@ func (g *Greedy) bump(r int32) {
 	st.cur = st.abs * g.gain[n]
 }
 
-func (g *Greedy) siftDown(i int32) {
-	h := g.heap
-	n := int32(len(h))
-	e := h[i]
-	for {
-		c := 2*i + 1
-		if c >= n {
-			break
-		}
-		if c+1 < n && before(h[c+1], h[c]) {
-			c++
-		}
-		if !before(h[c], e) {
-			break
-		}
-		h[i] = h[c]
-		g.pos[h[i].r] = i
-		i = c
+// push inserts the entry (key, r) with the words of rank r at position j
+// of block b and makes b its home.
+func (g *Greedy) push(b *block, j int, key float64, r int32) {
+	w := g.rk.w
+	x, z := g.rk.row(int(r))
+	b.key = slices.Insert(b.key, j, key)
+	b.r = slices.Insert(b.r, j, r)
+	o := 2 * w * j
+	b.words = slices.Grow(b.words, 2*w)[:len(b.words)+2*w]
+	copy(b.words[o+2*w:], b.words[o:])
+	copy(b.words[o:], x)
+	copy(b.words[o+w:], z)
+	for k := range w {
+		b.sup[k] |= x[k] | z[k]
 	}
-	h[i] = e
-	g.pos[e.r] = i
+	g.home[r] = b
+	b.settle()
 }
 
-// The frontier is a max-heap of copies of heap entries with their heap
-// positions, and of entries put back at their true weight.
-
-func (g *Greedy) pushFront(p int32) {
-	e := g.heap[p]
-	e.p = p
-	g.pushBack(e)
+// move takes rank r, whose entry holds the key old, to its place for its
+// current weight.
+func (g *Greedy) move(r int32, old float64) {
+	w := g.rk.w
+	b := g.home[r]
+	lo, hi := 0, len(b.r)
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		if before(b.key[mid], b.r[mid], old, r) {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
+	}
+	if lo == len(b.r) || b.r[lo] != r {
+		panic("allocate: greedy: entry not found in its block")
+	}
+	b.key = slices.Delete(b.key, lo, lo+1)
+	b.r = slices.Delete(b.r, lo, lo+1)
+	b.words = slices.Delete(b.words, 2*w*lo, 2*w*(lo+1))
+	b.settle()
+	if len(b.r) == 0 && len(g.blocks) > 1 {
+		g.blocks = slices.DeleteFunc(g.blocks, func(c *block) bool { return c == b })
+	}
+	key := g.st[r].cur
+	// The first block whose last entry does not come before the new one
+	// takes it; if none, the last block.
+	bi := len(g.blocks) - 1
+	lo, hi = 0, len(g.blocks)
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		c := g.blocks[mid]
+		if len(c.r) > 0 && before(c.lastK, c.lastR, key, r) {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
+	}
+	bi = min(lo, bi)
+	b = g.blocks[bi]
+	lo, hi = 0, len(b.r)
+	for lo < hi {
+		mid := int(uint(lo+hi) >> 1)
+		if before(b.key[mid], b.r[mid], key, r) {
+			lo = mid + 1
+		} else {
+			hi = mid
+		}
+	}
+	g.push(b, lo, key, r)
+	if len(b.r) >= 2*blockSize {
+		g.split(bi)
+	}
 }
 
-func (g *Greedy) pushBack(e entry) {
-	f := append(g.front, e)
-	i := len(f) - 1
-	for i > 0 {
-		parent := (i - 1) / 2
-		if !before(e, f[parent]) {
-			break
+// split cuts block bi in two halves and recomputes their supports.
+func (g *Greedy) split(bi int) {
+	w := g.rk.w
+	b := g.blocks[bi]
+	h := len(b.r) / 2
+	c := newBlock(w)
+	c.key = append(c.key, b.key[h:]...)
+	c.r = append(c.r, b.r[h:]...)
+	c.words = append(c.words, b.words[2*w*h:]...)
+	b.key, b.r, b.words = b.key[:h], b.r[:h], b.words[:2*w*h]
+	for _, d := range []*block{b, c} {
+		clear(d.sup)
+		d.settle()
+		for j, r := range d.r {
+			g.home[r] = d
+			for k := range w {
+				d.sup[k] |= d.words[2*w*j+k] | d.words[2*w*j+w+k]
+			}
 		}
-		f[i] = f[parent]
-		i = parent
 	}
-	f[i] = e
-	g.front = f
-}
-
-func (g *Greedy) popFront() entry {
-	f := g.front
-	top := f[0]
-	last := len(f) - 1
-	e := f[last]
-	f = f[:last]
-	i := 0
-	for {
-		c := 2*i + 1
-		if c >= len(f) {
-			break
-		}
-		if c+1 < len(f) && before(f[c+1], f[c]) {
-			c++
-		}
-		if !before(f[c], e) {
-			break
-		}
-		f[i] = f[c]
-		i = c
-	}
-	if len(f) > 0 {
-		f[i] = e
-	}
-	g.front = f
-	return top
+	g.blocks = slices.Insert(g.blocks, bi+1, c)
 }
 
 // Cover implements [Counter].

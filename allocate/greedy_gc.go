@@ -1,7 +1,6 @@
 package allocate
 
 import (
-	"cmp"
 	"encoding/binary"
 	"errors"
 	"slices"
@@ -26,8 +25,10 @@ import (
 //
 // # Cost
 //
-// A round sorts the M terms by weight, O(M log M), and tests each against a
-// reduced basis of at most n accepted vectors, O(M·n·⌈n/64⌉). A family seen
+// The terms are kept in walk order; a round tests them in that order
+// against a reduced basis of at most n accepted vectors, O(M·n·⌈n/64⌉) at
+// worst, and then merges the C terms it covered back into the order at
+// their new weights, O(M + C log C), instead of sorting all terms again. A family seen
 // before is looked up by its accepted terms; a new one costs one
 // [pauli.Diagonalize] and one coverage scan of the terms. GreedyGC is slower
 // per setting than [Greedy] and meant for moderate M.
@@ -38,8 +39,11 @@ type GreedyGC struct {
 	rk    *ranked
 	tab   *pauli.Table // terms in rank order
 	cnt   []int        // N per rank
-	order []int32
-	key   []float64
+	order []int32      // ranks in walk order
+	key   []float64    // walk key of each rank
+	spare []int32      // scratch of reorder
+	moved []int32
+	mark  []bool
 	acc   []int32
 	kbuf  []byte
 	cache map[string]gcFamily
@@ -66,6 +70,13 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.cnt = make([]int, m)
 	g.order = make([]int32, m)
 	g.key = make([]float64, m)
+	g.spare = make([]int32, 0, m)
+	g.mark = make([]bool, m)
+	for r := range m {
+		// Rank order: |h| descending, all uncovered, so already walk order.
+		g.order[r] = int32(r)
+		g.key[r] = g.keyOf(r)
+	}
 	g.cache = make(map[string]gcFamily)
 	return nil
 }
@@ -92,26 +103,6 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	if rk == nil {
 		return pauli.Setting{}, errors.New("Next before Init")
 	}
-	// Uncovered terms sort above every covered one: their key is |h|
-	// plus a tier above every marginal gain (each gain is below |h|).
-	tier := 1.0
-	if len(rk.abs) > 0 {
-		tier += rk.abs[0]
-	}
-	for r := range g.order {
-		g.order[r] = int32(r)
-		if n := g.cnt[r]; n == 0 {
-			g.key[r] = tier + rk.abs[r]
-		} else {
-			g.key[r] = rk.abs[r] * marginalGain(n)
-		}
-	}
-	slices.SortFunc(g.order, func(a, b int32) int {
-		if c := cmp.Compare(g.key[b], g.key[a]); c != 0 {
-			return c
-		}
-		return cmp.Compare(a, b) // ranks: |h| descending, then term index
-	})
 	gs := newCommutingGroups(rk.w)
 	g.acc = g.acc[:0]
 	for _, r := range g.order {
@@ -143,8 +134,61 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 		f = gcFamily{s: s, covers: g.tab.Covered(nil, s)}
 		g.cache[string(g.kbuf)] = f
 	}
-	for _, r := range f.covers {
-		g.cnt[r]++
-	}
+	g.reorder(f.covers)
 	return f.s, nil
+}
+
+// keyOf returns the weight of rank r in the walk: uncovered terms sort
+// above every covered one, their key being |h| plus a tier above every
+// marginal gain (each gain is below |h|).
+func (g *GreedyGC) keyOf(r int) float64 {
+	if n := g.cnt[r]; n > 0 {
+		return g.rk.abs[r] * marginalGain(n)
+	}
+	return 1 + g.rk.abs[0] + g.rk.abs[r]
+}
+
+// walkBefore reports whether rank a comes before rank b in the walk: larger
+// key first, then lower rank (|h| descending, then term index).
+func (g *GreedyGC) walkBefore(a, b int32) bool {
+	return g.key[a] > g.key[b] || g.key[a] == g.key[b] && a < b
+}
+
+// reorder records one more cover of each of the given ranks and restores
+// the walk order: only their keys fell, so the other ranks keep their
+// order, and the covered ones, sorted among themselves, are merged back in
+// one pass, O(M + C log C) for C covered ranks.
+func (g *GreedyGC) reorder(covers []int) {
+	g.moved = g.moved[:0]
+	for _, r := range covers {
+		g.cnt[r]++
+		g.key[r] = g.keyOf(r)
+		g.mark[r] = true
+		g.moved = append(g.moved, int32(r))
+	}
+	slices.SortFunc(g.moved, func(a, b int32) int {
+		if g.walkBefore(a, b) {
+			return -1
+		}
+		return 1
+	})
+	kept := g.spare[:0]
+	for _, r := range g.order {
+		if !g.mark[r] {
+			kept = append(kept, r)
+		}
+	}
+	out := g.order[:0]
+	i, j := 0, 0
+	for i < len(kept) || j < len(g.moved) {
+		if j == len(g.moved) || i < len(kept) && g.walkBefore(kept[i], g.moved[j]) {
+			out = append(out, kept[i])
+			i++
+		} else {
+			out = append(out, g.moved[j])
+			g.mark[g.moved[j]] = false
+			j++
+		}
+	}
+	g.order, g.spare = out, kept
 }
