@@ -1,7 +1,6 @@
 package guarantee
 
 import (
-	"fmt"
 	"math"
 	"testing"
 
@@ -177,8 +176,8 @@ func TestPlainBoundsFailUnderReadout(t *testing.T) {
 			t.Errorf("rep %d: mitigated error %.4g above the readout-aware certificate %.4g or data bound %.4g", r, em, b.Certified, b.Data.Total)
 		}
 		if r == 0 {
-			t.Log(fmt.Sprintf("raw error %.4g, plain certificate %.4g, plain data %.4g; mitigated error %.4g, certificate %.4g, data %.4g",
-				e, cert.Total, data.Total, em, b.Certified, b.Data.Total))
+			t.Logf("raw error %.4g, plain certificate %.4g, plain data %.4g; mitigated error %.4g, certificate %.4g, data %.4g",
+				e, cert.Total, data.Total, em, b.Certified, b.Data.Total)
 		}
 	}
 }
