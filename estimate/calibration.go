@@ -16,7 +16,7 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// Readout calibration (MATH.md §2.1a). Under the independent-qubit readout
+// Readout calibration (MATH.md §2.1.1). Under the independent-qubit readout
 // model of §2.1 a shot on a prepared computational-basis state reads every
 // qubit once, and qubit q's read bit flips with P01_q if the qubit was
 // prepared in 0 and with P10_q if it was prepared in 1. So the two
@@ -170,7 +170,7 @@ func KnownRates(r []Readout) []ReadoutBounds {
 }
 
 // Mitigation is the inverse of the independent-qubit readout model with
-// plug-in rates at the centres of boxes of rates (MATH.md §2.1a). A term read
+// plug-in rates at the centres of boxes of rates (MATH.md §2.1.1). A term read
 // on the qubits of a mask M (its support for a local setting, its Z-image
 // for an entangled one) gets the sample Π_{q∈M} f_q(r_q) with
 // f_q(0) = (1 − ã_q)/λ̃_q, f_q(1) = (−1 − ã_q)/λ̃_q, λ̃ = 1 − P̃01 − P̃10 and
@@ -210,7 +210,7 @@ func NewMitigation(b []ReadoutBounds) (*Mitigation, error) {
 		m.rates[q] = Readout{P01: p01, P10: p10}
 		m.f[q] = [2]float64{(1 - a) / lam, (-1 - a) / lam}
 		m.half[q] = (1 + math.Abs(a)) / lam
-		// MATH.md §2.1a: f_q has mean v + e with |e| ≤ 2·max|P̃ − P|/λ̃.
+		// MATH.md §2.1.1: f_q has mean v + e with |e| ≤ 2·max|P̃ − P|/λ̃.
 		d := max(x.P01[1]-x.P01[0], x.P10[1]-x.P10[0]) / 2
 		m.eps[q] = 2 * d / lam
 	}
@@ -253,7 +253,7 @@ func (m *Mitigation) Half(mask []uint64) float64 {
 }
 
 // Bias returns the bound Π_{q∈mask}(1 + ε_q) − 1 on |E[sample] − ideal| of
-// a term read on mask when the true rates lie in the boxes (MATH.md §2.1a);
+// a term read on mask when the true rates lie in the boxes (MATH.md §2.1.1);
 // ε_q = 2·max(half-widths of qubit q's two intervals)/λ̃_q.
 func (m *Mitigation) Bias(mask []uint64) float64 {
 	v := 1.0

@@ -118,7 +118,7 @@ func exactMean(m *Mitigation, truth []Readout, v []uint64) float64 {
 
 func TestMitigationUnbiasedAtKnownRates(t *testing.T) {
 	// With the true rates as plug-in the mitigated product has the ideal
-	// mean Π(−1)^{v_q} exactly (MATH.md §2.1a), for every true bit-string.
+	// mean Π(−1)^{v_q} exactly (MATH.md §2.1.1), for every true bit-string.
 	truth := []Readout{{0.02, 0.07}, {0.05, 0.01}, {0.1, 0.1}}
 	m, err := NewMitigation(KnownRates(truth))
 	if err != nil {

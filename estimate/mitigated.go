@@ -15,7 +15,7 @@ import (
 // the sign +1; for an entangled setting the mask is the support of the
 // term's Z-image after the setting's circuit. Readout error acts on the
 // measured bits, so readout mitigation of a term is a product over its
-// mask (MATH.md §2.1a).
+// mask (MATH.md §2.1.1).
 func ReadMasks(t *pauli.Table, s pauli.Setting) (rows []int, masks []uint64, signs []float64) {
 	rows = t.Covered(nil, s)
 	for _, i := range rows {
@@ -29,7 +29,7 @@ func ReadMasks(t *pauli.Table, s pauli.Setting) (rows []int, masks []uint64, sig
 
 // Mitigated returns the grouped estimate of MATH.md §2 with every sample
 // replaced by its readout-mitigated value ([Mitigation.Sample]; MATH.md
-// §2.1a): term i's mean is the average over the N_i shots covering it of
+// §2.1.1): term i's mean is the average over the N_i shots covering it of
 // sign·Π_{q∈mask} f_q(r_q), for local and entangled settings alike.
 // Result.ReadoutBias bounds the bias the mitigation leaves when the true
 // rates lie in the mitigation's boxes: Σ_Q m_Q Σ_{i◁Q} (|h_i|/N_i)·

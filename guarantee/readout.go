@@ -23,7 +23,7 @@ type ReadoutOptions struct {
 }
 
 // ReadoutBound holds the bounds of a readout-mitigated grouped estimate
-// ([estimate.Mitigated]; MATH.md §2.1a, §2.1b): each of Certified and Data
+// ([estimate.Mitigated]; MATH.md §2.1.1, §2.1.2): each of Certified and Data
 // covers |Energy − E| with probability at least 1 − Delta over the
 // calibration shots and the measurement shots together, under the
 // independent-qubit readout model of MATH.md §2.1.
@@ -35,11 +35,11 @@ type ReadoutBound struct {
 	Delta, CalibrationDelta, ShotDelta float64
 	// CalibrationBias bounds the bias the mitigation can leave when every
 	// rate lies in its interval (worst case over the intervals, MATH.md
-	// §2.1a); Bias = Σ|h_i| over the excluded and never-covered terms.
+	// §2.1.1); Bias = Σ|h_i| over the excluded and never-covered terms.
 	CalibrationBias, Bias float64
 	// Radius is the shot-wise Hoeffding radius of the mitigated samples
 	// at ShotDelta, from the plan and the calibration alone (MATH.md
-	// §2.1b), and Certified = Radius + CalibrationBias + Bias.
+	// §2.1.2), and Certified = Radius + CalibrationBias + Bias.
 	Radius, Certified float64
 	// Data is the data bound of the mitigated samples at ShotDelta
 	// (empirical, pooled form of MATH.md §4.3) with its Bias field
@@ -52,7 +52,7 @@ type ReadoutBound struct {
 
 // CalibratedBounds estimates the energy from rec with readout mitigation
 // made from the calibration cal and bounds its error two ways (MATH.md
-// §2.1b): an a-priori certificate from the plan's settings and the
+// §2.1.2): an a-priori certificate from the plan's settings and the
 // calibration, and a data bound from the mitigated samples. The
 // calibration must come from shots independent of rec's (a separate run).
 //
@@ -169,7 +169,7 @@ func mitigatedCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 }
 
 // MitigatedRadius returns the shot-wise Hoeffding radius at confidence
-// 1 − δ of the mitigated grouped estimate of a plan (MATH.md §2.1b):
+// 1 − δ of the mitigated grouped estimate of a plan (MATH.md §2.1.2):
 // sqrt(2 V ln(2/δ)) with V = Σ_Q m_Q (Σ_{i◁Q} |h_i| Half_{i,Q}/N_i)², where
 // Half_{i,Q} = Π_{q∈mask}(1 + |ã_q|)/λ̃_q bounds term i's mitigated sample
 // in setting Q, and the bias Σ|h_i| of the excluded and uncovered terms. It
@@ -198,7 +198,7 @@ func MitigatedRadius(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots
 // mitigated grouped estimate ([estimate.Mitigated]) from rec at confidence
 // 1 − δ given the mitigation, and the calibration bias Σ_Q m_Q Σ_{i◁Q}
 // (|h_i|/N_i)·Bias_{i,Q} that holds when the true rates lie in the
-// mitigation's boxes (MATH.md §2.1a). The DataBound's Bias and Total
+// mitigation's boxes (MATH.md §2.1.1). The DataBound's Bias and Total
 // include the calibration bias; its Energy is the mitigated estimate.
 func MitigatedData(h *hamiltonian.Hamiltonian, rec *estimate.Records, m *estimate.Mitigation, delta float64, exclude []bool) (*DataBound, float64, error) {
 	if rec == nil {

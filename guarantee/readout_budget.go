@@ -26,7 +26,7 @@ type ReadoutBudget struct {
 }
 
 // PlanReadoutBudget plans the shots of a readout-aware certificate
-// ([CalibratedBounds], MATH.md §2.1c) of accuracy eps at confidence
+// ([CalibratedBounds], MATH.md §2.1.3) of accuracy eps at confidence
 // 1 − delta for a base plan (settings and shot counts) repeated an integer
 // number of times, when the readout rates are expected to be rates (the
 // design rates, one per qubit).
