@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"text/tabwriter"
@@ -17,7 +16,9 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	plan := fs.String("plan", "", "plan file the shots were measured by (required)")
 	records := fs.String("records", "", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the bounds; the error bar is at confidence 1 − δ too")
-	readout := fs.String("readout", "", "mitigate readout error: P or P01,P10 as in simulate (the bounds assume ideal readout)")
+	readout := fs.String("readout", "", "mitigate readout error with these rates, taken as exact: P, p01=X,p10=Y or @FILE as in simulate")
+	calibration := fs.String("calibration", "", "calibration records file (prepared,outcome; see calibrate): mitigate readout error and bound the mitigated estimate with the calibration's uncertainty")
+	calDelta := fs.Float64("calibration-delta", 0, "part of -delta spent on the calibration intervals (default -delta/4)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -49,12 +50,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta, Readout: ro})
-		if errors.Is(err, estimate.ErrFormat) {
-			// For example -readout with entangled settings, which the
-			// mitigation cannot read.
-			return badf("%s: %w", *records, err)
+		if ro != nil || *calibration != "" {
+			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, *delta, *calDelta)
 		}
+		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta})
 		if err != nil {
 			return err
 		}
@@ -77,7 +76,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			Shots          int        `json:"shots"`
 			Settings       int        `json:"settings"`
 			Mitigated      bool       `json:"readout_mitigated"`
-		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Total, data.Total, res.Bias, *delta, res.Shots, rec.Groups(), ro != nil}
+		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Total, data.Total, res.Bias, *delta, res.Shots, rec.Groups(), false}
 		if e.json {
 			return e.writeJSON(out)
 		}
@@ -90,9 +89,6 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		tw.Flush()
 		if res.Bias > 0 {
 			fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
-		}
-		if ro != nil {
-			fmt.Fprintln(e.stdout, "(readout mitigated; the bounds assume ideal readout and do not cover readout error)")
 		}
 		return nil
 	}
@@ -130,5 +126,12 @@ grouped estimate; std_error and approx_interval come from the data by the
 normal approximation and are NOT guarantees. epsilon is the plan's certified
 bound and data_epsilon an empirical Bernstein bound from these shots, each at
 confidence 1 − δ for shot noise only (readout error and drift not covered).
+
+With -calibration FILE (calibration records, see calibrate) the energy is
+readout-mitigated and both bounds are those of the mitigated estimate: they
+cover shot noise and the uncertainty of the calibrated flip rates (MATH.md
+§2.1.2), with -calibration-delta of δ spent on the calibration intervals.
+With -readout RATES the rates are taken as exact and the bounds are those of
+the mitigated estimate under that assumption.
 `
 }

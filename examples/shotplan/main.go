@@ -33,8 +33,9 @@ var commands = []command{
 	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H -strategy NAME -shots N [-seed S] -o PLAN", strategyHelp},
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta 0.05]", certifyHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN -o DIR", nil},
-	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] -o RECORDS", nil},
-	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05]", estimateHelp},
+	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P] [-calibration-shots M -calibration-o CALIB] -o RECORDS", nil},
+	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS [-delta 0.05] [-calibration CALIB]", estimateHelp},
+	{"calibrate", "write the readout calibration plan: basis states to prepare and shots of each", calibrateFlags, "-qubits N -shots M -o PLAN", calibrateHelp},
 }
 
 // env is what a subcommand writes to.
