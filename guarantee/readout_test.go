@@ -63,7 +63,8 @@ func simulateRun(t *testing.T, psi []complex128, ro []estimate.Readout, p *alloc
 // TestCalibratedBoundsCover checks by seeded simulation that, under
 // asymmetric per-qubit readout error, the readout-aware certificate and
 // data bound of CalibratedBounds cover the exact ground energy in at least
-// a fraction 1 − δ of the repetitions, on three systems. Each repetition
+// a fraction 1 − δ of 200 repetitions (δ = 0.1), on three systems: H2 with
+// entangled settings, LiH and the spin ladder. Each repetition
 // draws fresh calibration shots and fresh measurement shots. A correct
 // bound exceeds the binomial limit below with probability at most 1e-4
 // per bound and system (the limit is the (1 − 1e-4) quantile of
@@ -71,7 +72,7 @@ func simulateRun(t *testing.T, psi []complex128, ro []estimate.Readout, p *alloc
 // probability at most 6e-4. Under -short it runs 6 repetitions per system
 // (limit 4).
 func TestCalibratedBoundsCover(t *testing.T) {
-	reps := 40
+	reps := 200
 	if testing.Short() {
 		reps = 6
 	}
