@@ -118,54 +118,79 @@ func CalibratedBounds(h *hamiltonian.Hamiltonian, rec *estimate.Records, cal *es
 	}, nil
 }
 
-// mitigatedCoverage returns, for every distinct setting of the plan, the
-// kept covered terms with their weights h_i/N_i (zero-weight terms
-// dropped), the largest |sample| and the calibration bias of each, and the
-// bias of the terms left out.
+// mitigatedGroup is one distinct setting's kept covered terms: their
+// weights h_i/N_i times the sign of the read, the masks they are read on,
+// and the largest |sample| and the calibration bias bound of each.
 type mitigatedGroup struct {
 	setting pauli.Setting
 	mult    int
-	rows    []int
 	masks   []uint64
-	coef    []float64 // h_i/N_i times the sign of the read
+	coef    []float64
 	half    []float64
 	bias    []float64
 }
 
-func mitigatedCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, m *estimate.Mitigation, exclude []bool) ([]mitigatedGroup, float64, error) {
+// mitigatedGroups walks the distinct settings of a plan, handing each
+// group to fn in turn (the group's slices are reused for the next), after
+// computing the weights; it returns the bias Σ|h_i| of the terms left out.
+// Nothing is kept across groups, so memory stays O(terms + the largest
+// group).
+func mitigatedGroups(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, m *estimate.Mitigation, exclude []bool, fn func(q int, g *mitigatedGroup)) (float64, error) {
 	if h == nil || m == nil {
-		return nil, 0, fmt.Errorf("guarantee: nil Hamiltonian or mitigation")
+		return 0, fmt.Errorf("guarantee: nil Hamiltonian or mitigation")
 	}
 	if m.Qubits() != h.Qubits() {
-		return nil, 0, fmt.Errorf("guarantee: mitigation of %d qubits, Hamiltonian has %d", m.Qubits(), h.Qubits())
+		return 0, fmt.Errorf("guarantee: mitigation of %d qubits, Hamiltonian has %d", m.Qubits(), h.Qubits())
 	}
 	if err := checkExclude(h, exclude); err != nil {
-		return nil, 0, err
+		return 0, err
 	}
 	c, err := newCoverage(h, settings, shots)
 	if err != nil {
-		return nil, 0, err
+		return 0, err
 	}
 	coef, bias := estimatorWeights(h, c.cover, 1, exclude)
+	tab := h.Table()
 	w := pauli.Words(h.Qubits())
-	gs := make([]mitigatedGroup, len(c.settings))
+	// A local setting reads a term on its support: its bounds are the
+	// term's own, computed once.
+	supp := make([]uint64, 0, w*h.Len())
+	localHalf, localBias := make([]float64, h.Len()), make([]float64, h.Len())
+	for i := range h.Len() {
+		x, z := tab.Words(i)
+		for k := range x {
+			supp = append(supp, x[k]|z[k])
+		}
+		localHalf[i], localBias[i] = m.Half(supp[i*w:(i+1)*w]), m.Bias(supp[i*w:(i+1)*w])
+	}
+	var g mitigatedGroup
 	for q, s := range c.settings {
-		g := mitigatedGroup{setting: s, mult: c.mult[q]}
-		rows, masks, signs := estimate.ReadMasks(h.Table(), s)
-		for j, i := range rows {
+		g.setting, g.mult = s, c.mult[q]
+		g.masks, g.coef, g.half, g.bias = g.masks[:0], g.coef[:0], g.half[:0], g.bias[:0]
+		local := s.IsLocal()
+		for _, i32 := range c.terms(q) {
+			i := int(i32)
 			if coef[i] == 0 {
 				continue
 			}
-			mask := masks[j*w : (j+1)*w]
-			g.rows = append(g.rows, i)
-			g.masks = append(g.masks, mask...)
-			g.coef = append(g.coef, coef[i]*signs[j])
+			if local {
+				g.masks = append(g.masks, supp[i*w:(i+1)*w]...)
+				g.coef = append(g.coef, coef[i])
+				g.half = append(g.half, localHalf[i])
+				g.bias = append(g.bias, localBias[i])
+				continue
+			}
+			var sign float64
+			k := len(g.masks)
+			g.masks, sign = estimate.TermMask(g.masks, tab, i, s)
+			mask := g.masks[k : k+w]
+			g.coef = append(g.coef, coef[i]*sign)
 			g.half = append(g.half, m.Half(mask))
 			g.bias = append(g.bias, m.Bias(mask))
 		}
-		gs[q] = g
+		fn(q, &g)
 	}
-	return gs, bias, nil
+	return bias, nil
 }
 
 // MitigatedRadius returns the shot-wise Hoeffding radius at confidence
@@ -179,17 +204,16 @@ func MitigatedRadius(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots
 	if !validDelta(delta) {
 		return 0, 0, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
 	}
-	gs, bias, err := mitigatedCoverage(h, settings, shots, m, exclude)
-	if err != nil {
-		return 0, 0, err
-	}
 	v := 0.0
-	for _, g := range gs {
+	bias, err = mitigatedGroups(h, settings, shots, m, exclude, func(_ int, g *mitigatedGroup) {
 		s := 0.0
-		for j := range g.rows {
+		for j := range g.coef {
 			s += math.Abs(g.coef[j]) * g.half[j]
 		}
 		v += float64(g.mult) * s * s
+	})
+	if err != nil {
+		return 0, 0, err
 	}
 	return math.Sqrt(2 * v * math.Log(2/delta)), bias, nil
 }
@@ -220,28 +244,27 @@ func MitigatedData(h *hamiltonian.Hamiltonian, rec *estimate.Records, m *estimat
 	}
 	// Every group of the records holds shots, so distinct setting q is
 	// group q.
-	mg, bias, err := mitigatedCoverage(h, settings, shots, m, exclude)
-	if err != nil {
-		return nil, 0, err
-	}
 	w := pauli.Words(h.Qubits())
 	calBias := 0.0
-	gs := make([]*groupStat, len(mg))
-	for g, x := range mg {
+	var gs []*groupStat
+	bias, err := mitigatedGroups(h, settings, shots, m, exclude, func(g int, x *mitigatedGroup) {
 		st := &groupStat{setting: x.setting, weight: float64(x.mult)}
-		for j := range x.rows {
+		for j := range x.coef {
 			st.half += math.Abs(x.coef[j]) * x.half[j]
 			calBias += float64(x.mult) * math.Abs(x.coef[j]) * x.bias[j]
 		}
 		for s := range x.mult {
 			b := rec.Outcome(g, s)
 			v := 0.0
-			for j := range x.rows {
+			for j := range x.coef {
 				v += x.coef[j] * m.Sample(x.masks[j*w:(j+1)*w], b)
 			}
 			st.add(v)
 		}
-		gs[g] = st
+		gs = append(gs, st)
+	})
+	if err != nil {
+		return nil, 0, err
 	}
 	d := finishBound(h, gs, bias+calBias, rec.Len(), delta, Pooled, nil)
 	return d, calBias, nil

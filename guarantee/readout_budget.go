@@ -94,18 +94,17 @@ func PlanReadoutBudget(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 		if err != nil {
 			continue // too few shots: the interval centres leave λ̃ ≤ 0
 		}
-		gs, bias, err := mitigatedCoverage(h, settings, shots, m, o.Exclude)
-		if err != nil {
-			return nil, err
-		}
 		v, calBias := 0.0, 0.0
-		for _, g := range gs {
+		bias, err := mitigatedGroups(h, settings, shots, m, o.Exclude, func(_ int, g *mitigatedGroup) {
 			s := 0.0
-			for j := range g.rows {
+			for j := range g.coef {
 				s += math.Abs(g.coef[j]) * g.half[j]
 				calBias += float64(g.mult) * math.Abs(g.coef[j]) * g.bias[j]
 			}
 			v += float64(g.mult) * s * s
+		})
+		if err != nil {
+			return nil, err
 		}
 		room := eps - calBias - bias
 		if !(room > 0) {

@@ -182,3 +182,49 @@ func TestPlainBoundsFailUnderReadout(t *testing.T) {
 		}
 	}
 }
+
+// TestMitigatedDataWithoutErrorIsEmpirical: with exact zero rates every
+// mitigated sample is the ±1 sample, so MitigatedData must give Empirical's
+// pooled bound, MitigatedRadius the certificate's radius (MATH.md §3.1),
+// and the calibration bias must be zero, on local and entangled plans.
+func TestMitigatedDataWithoutErrorIsEmpirical(t *testing.T) {
+	for _, cc := range readoutCases(t)[:2] {
+		a, _ := allocate.ByName(cc.strategy, 1)
+		p, err := allocate.Run(cc.h, 500, a, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ground, err := hamiltonian.GroundState(cc.h, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec := simulateRun(t, ground.State, make([]estimate.Readout, cc.h.Qubits()), p, 4)
+		m, err := estimate.NewMitigation(estimate.KnownRates(make([]estimate.Readout, cc.h.Qubits())))
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, calBias, err := MitigatedData(cc.h, rec, m, 0.05, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want, err := Empirical(cc.h, rec, 0.05, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if calBias != 0 || !near(got.Energy, want.Energy, 1e-12) || !near(got.Total, want.Total, 1e-12) {
+			t.Errorf("%s: MitigatedData %v ± %v (calibration bias %v), Empirical %v ± %v", cc.name, got.Energy, got.Total, calBias, want.Energy, want.Total)
+		}
+		settings, shots := p.Distinct()
+		r, bias, err := MitigatedRadius(cc.h, settings, shots, m, 0.05, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert, err := Certify(cc.h, settings, shots, 0.05, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !near(r, cert.Radius, 1e-12) || bias != cert.Bias {
+			t.Errorf("%s: MitigatedRadius %v + %v, certificate %v + %v", cc.name, r, bias, cert.Radius, cert.Bias)
+		}
+	}
+}
