@@ -223,8 +223,8 @@ func (m *Mitigation) Qubits() int { return len(m.rates) }
 // Rates returns the plug-in rates (the centres of the boxes).
 func (m *Mitigation) Rates() []Readout { return append([]Readout(nil), m.rates...) }
 
-// BoundsOf returns the boxes the mitigation was made from.
-func (m *Mitigation) BoundsOf() []ReadoutBounds { return append([]ReadoutBounds(nil), m.bounds...) }
+// Bounds returns the boxes the mitigation was made from.
+func (m *Mitigation) Bounds() []ReadoutBounds { return append([]ReadoutBounds(nil), m.bounds...) }
 
 // Sample returns the mitigated sample Π_{q∈mask} f_q(b_q) of a term read on
 // the qubits of mask (words as [pauli.String.Words] gives) from outcome b.

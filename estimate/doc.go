@@ -108,7 +108,7 @@
 // [NewMitigation] inverts the readout model with the interval centres as
 // rates, and [Mitigated] is the grouped estimate with mitigated samples for
 // local and entangled settings (an entangled setting's term is mitigated
-// on its Z-image, the bits it reads; [ReadMasks]); its ReadoutBias is the
+// on its Z-image, the bits it reads; [TermMask]); its ReadoutBias is the
 // worst case over the intervals (MATH.md §2.1.1). Calibration records are
 // a CSV file "prepared,outcome" ([ReadCalibration]); [SimulateCalibration]
 // and [WriteCalibrationShots] simulate them. Package guarantee bounds the

@@ -9,21 +9,6 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// ReadMasks returns the terms of t that setting s covers, in table order,
-// with what each is read from: term rows[j] has the ideal sample
-// signs[j]·(−1)^(parity of the outcome on masks[j·w:(j+1)·w]), w =
-// pauli.Words(n) (see [TermMask]). It tests every term; [Mitigated] finds
-// the covered terms of local settings through an index instead.
-func ReadMasks(t *pauli.Table, s pauli.Setting) (rows []int, masks []uint64, signs []float64) {
-	rows = t.Covered(nil, s)
-	for _, i := range rows {
-		var sign float64
-		masks, sign = TermMask(masks, t, i, s)
-		signs = append(signs, sign)
-	}
-	return rows, masks, signs
-}
-
 // TermMask appends to dst the qubits that term i of t is read from under
 // setting s, which must cover it, as pauli.Words(n) words, and returns
 // the sign of the read: the sample is sign·(−1)^(parity of the outcome on
