@@ -94,7 +94,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Seed         uint64  `json:"seed"`
 			GroundEnergy float64 `json:"ground_energy"`
 			Readout      string  `json:"readout,omitempty"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout}
+			Calibration  string  `json:"calibration_output,omitempty"`
+			CalShots     int     `json:"calibration_shots,omitempty"`
+		}{*out, rec.Len(), *seed, ground.Energy, *readout, *calOut, *calShots}
 		if e.json {
 			return e.writeJSON(res)
 		}
