@@ -16,11 +16,13 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// maxRatesFile caps the size of a -readout @FILE rates file, and
-// maxCalibrationQubits the width calibrate accepts.
+// maxRatesFile caps the size of a -readout @FILE rates file,
+// maxCalibrationQubits the width calibrate accepts, and maxCalibrationShots
+// simulate -calibration-shots (per preparation).
 const (
 	maxRatesFile         = 1 << 20
 	maxCalibrationQubits = 1 << 12
+	maxCalibrationShots  = 100_000_000
 )
 
 // calibrateFlags is the calibrate command: it writes the calibration plan,

@@ -130,6 +130,7 @@ func TestCalibrationBadInput(t *testing.T) {
 		{"rates file missing a qubit", []string{"simulate", "-ham", ham, "-plan", planPath, "-readout", "@" + missing, "-o", out}, []string{"missing.csv", "qubit 2"}},
 		{"rates file bad rate", []string{"simulate", "-ham", ham, "-plan", planPath, "-readout", "@" + badRate, "-o", out}, []string{"badrate.csv", "line 3", "0.6"}},
 		{"calibration shots without file", []string{"simulate", "-ham", ham, "-plan", planPath, "-calibration-shots", "10", "-o", out}, []string{"-calibration-o"}},
+		{"too many calibration shots", []string{"simulate", "-ham", ham, "-plan", planPath, "-calibration-shots", "1000000000", "-calibration-o", out, "-o", out + "2"}, []string{"-calibration-shots", "at most"}},
 		{"calibrate without qubits", []string{"calibrate", "-shots", "10", "-o", out}, []string{"-qubits"}},
 	}
 	for _, c := range cases {

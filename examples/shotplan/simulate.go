@@ -35,6 +35,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if (*calShots != 0) != (*calOut != "") || *calShots < 0 {
 			return badf("-calibration-shots and -calibration-o go together (a positive count and a file)")
 		}
+		if *calShots > maxCalibrationShots {
+			return badf("-calibration-shots %d: at most %d (the file has a line per shot)", *calShots, maxCalibrationShots)
+		}
 		if *calOut != "" {
 			if *calOut == stdoutName || *calOut == *out {
 				return badf("-calibration-o %s: give a file of its own", *calOut)
