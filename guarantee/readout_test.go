@@ -106,6 +106,16 @@ func TestCalibratedBoundsCover(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			if r == 0 {
+				// The bound is about estimate.Mitigated's estimate.
+				est, err := estimate.Mitigated(cc.h, rec, b.Mitigation, nil)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !near(est.Energy, b.Energy, 1e-12) || !near(est.ReadoutBias, b.CalibrationBias, 1e-12) || est.Bias != b.Bias {
+					t.Errorf("%s: Mitigated %v (readout bias %v, bias %v), bound about %v (%v, %v)", cc.name, est.Energy, est.ReadoutBias, est.Bias, b.Energy, b.CalibrationBias, b.Bias)
+				}
+			}
 			e := math.Abs(b.Energy - ground.Energy)
 			worst = max(worst, e)
 			if e > b.Certified {
