@@ -103,7 +103,7 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		if err != nil {
 			var long *lineTooLong
 			if errors.As(err, &long) {
-				return nil, &LineError{Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
+				return nil, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
 			}
 			if le := csvLineError(err); le != nil {
 				return nil, le

@@ -14,8 +14,9 @@
 // amplitudes), the record files (an entangled setting is written as its
 // generators joined by '|', such as "XXII|ZZII|IIZZ") and [ExportQASM] (the
 // circuit's h, s, sdg, cx and cz gates before the measurement) handle both
-// kinds; the classical-shadow estimators, [EigenState] and readout
-// mitigation need local settings and return an error otherwise. A
+// kinds; the classical-shadow estimators, [EigenState] and the readout
+// mitigation of [Options.Readout] need local settings and return an error
+// otherwise ([Mitigated] handles both kinds). A
 // measured bit 0 means eigenvalue +1 and 1 means −1; a bit-string as text
 // is read left to right, qubit 0 first. A state vector's amplitude a
 // belongs to the basis state with bit q of a on qubit q.
@@ -96,6 +97,22 @@
 // (−1)^bit by −1, so E[(−1)^read] = (1 − P01 − P10)·(−1)^bit + (P10 − P01)
 // per qubit, and the product over the support gives the factor and the
 // asymmetry terms.)
+//
+// # Readout calibration
+//
+// [Calibration] counts calibration shots on prepared basis states: the
+// minimal set is all-0 and all-1 ([CalibrationPreparations]), which give
+// every qubit one trial of each of its two flip rates per shot pair.
+// [Calibration.Bounds] turns the counts into Clopper–Pearson intervals
+// ([ClopperPearson]) that hold together with probability 1 − δ_cal.
+// [NewMitigation] inverts the readout model with the interval centres as
+// rates, and [Mitigated] is the grouped estimate with mitigated samples for
+// local and entangled settings (an entangled setting's term is mitigated
+// on its Z-image, the bits it reads; [TermMask]); its ReadoutBias is the
+// worst case over the intervals (MATH.md §2.1.1). Calibration records are
+// a CSV file "prepared,outcome" ([ReadCalibration]); [SimulateCalibration]
+// and [WriteCalibrationShots] simulate them. Package guarantee bounds the
+// mitigated estimate (guarantee.CalibratedBounds).
 //
 // # Cost
 //

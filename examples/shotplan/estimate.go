@@ -1,7 +1,6 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"strings"
@@ -20,7 +19,9 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	var records listFlag
 	fs.Var(&records, "records", "records file: CSV (settings spelled out or as manifest indices), or JSON for a .json name; - reads standard input; repeat the flag or separate names by commas to combine files (required)")
 	delta := fs.Float64("delta", 0.05, "failure probability δ of the bounds; the error bar is at confidence 1 − δ too")
-	readout := fs.String("readout", "", "mitigate readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10, as in simulate (the bounds assume ideal readout)")
+	readout := fs.String("readout", "", "mitigate readout error with these rates, taken as exact: P, p01=X,p10=Y or @FILE as in simulate")
+	calibration := fs.String("calibration", "", "calibration records file (prepared,outcome; see calibrate): mitigate readout error and bound the mitigated estimate with the calibration's uncertainty")
+	calDelta := fs.Float64("calibration-delta", 0, "part of -delta spent on the calibration intervals (default -delta/4)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -45,12 +46,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta, Readout: ro})
-		if errors.Is(err, estimate.ErrFormat) {
-			// For example -readout with entangled settings, which the
-			// mitigation cannot read.
-			return badf("%s: %w", name, err)
+		if ro != nil || *calibration != "" {
+			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, *delta, *calDelta)
 		}
+		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta})
 		if err != nil {
 			return err
 		}
@@ -74,7 +73,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			Shots          int        `json:"shots"`
 			Settings       int        `json:"settings"`
 			Mitigated      bool       `json:"readout_mitigated"`
-		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Bound, data.Bound, form, res.Bias, *delta, res.Shots, rec.Groups(), ro != nil}
+		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Bound, data.Bound, form, res.Bias, *delta, res.Shots, rec.Groups(), false}
 		if e.json {
 			return e.writeJSON(out)
 		}
@@ -91,9 +90,6 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if res.Bias > 0 {
 			fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
-		}
-		if ro != nil {
-			fmt.Fprintln(e.stdout, "(readout mitigated; the bounds assume ideal readout and do not cover readout error)")
 		}
 		return nil
 	}
@@ -169,5 +165,12 @@ data_bound is the smaller of the pooled and the residual bounds, each at
 δ/2; data_form names it. When it is more than 3× the error bar the plan's
 per-shot ranges dominate it, and a line says so: a randomised plan certified
 with the library's anytime route gets closer.
+
+With -calibration FILE (calibration records, see calibrate) the energy is
+readout-mitigated and both bounds are those of the mitigated estimate: they
+cover shot noise and the uncertainty of the calibrated flip rates (MATH.md
+§2.1.2), with -calibration-delta of δ spent on the calibration intervals.
+With -readout RATES the rates are taken as exact and the bounds are those of
+the mitigated estimate under that assumption.
 `
 }

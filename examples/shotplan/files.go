@@ -78,10 +78,14 @@ func writeHam(path string, h *hamiltonian.Hamiltonian) error {
 }
 
 // parseReadout parses -readout: empty for none, "P" for a symmetric flip
-// probability on every qubit, or "P01,P10" (P01: a 0 read as 1; P10: a 1 read as 0).
+// probability on every qubit, "P01,P10" (P01: a 0 read as 1; P10: a 1 read as 0), the keyed "p01=X,p10=Y", or
+// "@FILE" for per-qubit rates (see parseRates).
 func parseReadout(s string, qubits int) ([]estimate.Readout, error) {
 	if s == "" {
 		return nil, nil
+	}
+	if strings.Contains(s, "=") || strings.HasPrefix(s, "@") {
+		return parseRates(s, qubits)
 	}
 	parts := strings.Split(s, ",")
 	if len(parts) > 2 {

@@ -331,10 +331,6 @@ func TestBadInput(t *testing.T) {
 	ok(t, "plan", "-ham", ham, "-shots", "50", "-o", planPath)
 	recPath := filepath.Join(dir, "rec.csv")
 	ok(t, "simulate", "-ham", ham, "-plan", planPath, "-o", recPath)
-	gcPlan := filepath.Join(dir, "gcplan.json")
-	ok(t, "plan", "-ham", ham, "-strategy", "sorted-gc", "-shots", "50", "-o", gcPlan)
-	gcRec := filepath.Join(dir, "gcrec.csv")
-	ok(t, "simulate", "-ham", ham, "-plan", gcPlan, "-o", gcRec)
 
 	offsetOnly := write("offset.txt", "qubits 4\n-0.5 I\n")
 	badHam := write("bad.txt", "qubits 4\n-1 ZZII\n0.5 XQII\n")
@@ -387,7 +383,6 @@ func TestBadInput(t *testing.T) {
 		{"plan over its Hamiltonian", []string{"plan", "-ham", ham, "-o", ham}, []string{"h2.txt", "input file"}},
 		{"simulate over its plan", []string{"simulate", "-ham", ham, "-plan", planPath, "-o", planPath}, []string{"plan.json", "input file"}},
 		{"convert over its FCIDUMP", []string{"convert", "-o", badDump, badDump}, []string{"bad.fcidump", "input file"}},
-		{"readout mitigation of entangled settings", []string{"estimate", "-ham", ham, "-plan", gcPlan, "-records", gcRec, "-readout", "0.01"}, []string{"gcrec.csv", "readout mitigation", "entangled"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

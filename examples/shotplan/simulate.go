@@ -9,13 +9,16 @@ import (
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/atomicfile"
 )
 
 func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	ham := fs.String("ham", "", "Hamiltonian file (required)")
 	plan := fs.String("plan", "", "plan file (required)")
 	seed := fs.Uint64("seed", 1, "seed of the simulated outcomes")
-	readout := fs.String("readout", "", "readout error `P|P01,P10`: P flips every read bit with probability P; P01,P10 reads a 0 as 1 with probability P01 and a 1 as 0 with probability P10 (default none)")
+	readout := fs.String("readout", "", "readout error: P flips every read bit with probability P; p01=X,p10=Y sets the two directions (p01: 0 read as 1, p10: 1 read as 0; P01,P10 also works); @FILE reads per-qubit rates, CSV qubit,p01,p10 (default none)")
+	calShots := fs.Int("calibration-shots", 0, "also simulate this many calibration shots of each preparation (all 0, all 1) through the same readout error")
+	calOut := fs.String("calibration-o", "", "output calibration records file for -calibration-shots (CSV prepared,outcome)")
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
@@ -32,6 +35,23 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if err := e.output(*out); err != nil {
 			return err
+		}
+		if (*calShots != 0) != (*calOut != "") || *calShots < 0 {
+			return badf("-calibration-shots and -calibration-o go together (a positive count and a file)")
+		}
+		if *calShots > maxCalibrationShots {
+			return badf("-calibration-shots %d: at most %d (the file has a line per shot)", *calShots, maxCalibrationShots)
+		}
+		if *calOut != "" {
+			if *calOut == stdoutName || *calOut == *out {
+				return badf("-calibration-o %s: give a file of its own", *calOut)
+			}
+			if err := notInput(*calOut, *ham, *plan); err != nil {
+				return err
+			}
+			if err := outputErr(atomicfile.Check(*calOut)); err != nil {
+				return err
+			}
 		}
 		if err := need("ham", *ham); err != nil {
 			return err
@@ -108,6 +128,15 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := e.writeOutput(*out, func(w io.Writer) error { return write(w, rec) }); err != nil {
 			return err
 		}
+		if *calOut != "" {
+			rates := ro
+			if rates == nil {
+				rates = make([]estimate.Readout, h.Qubits())
+			}
+			if err := outputErr(estimate.WriteCalibrationShotsFile(*calOut, rates, *calShots, *seed^0x63616c)); err != nil {
+				return err
+			}
+		}
 		res := struct {
 			Output       string  `json:"output"`
 			Shots        int     `json:"shots"`
@@ -115,7 +144,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			GroundEnergy float64 `json:"ground_energy"`
 			Readout      string  `json:"readout,omitempty"`
 			Sector       string  `json:"sector"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String()}
+			Calibration  string  `json:"calibration_output,omitempty"`
+			CalShots     int     `json:"calibration_shots,omitempty"`
+		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String(), *calOut, *calShots}
 		if e.json {
 			return e.writeJSON(res)
 		}
@@ -124,6 +155,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
 		fmt.Fprintln(e.stdout)
+		if *calOut != "" {
+			fmt.Fprintf(e.stdout, "wrote %s: %d calibration shots of each of 2 preparations\n", *calOut, *calShots)
+		}
 		return nil
 	}
 }
