@@ -275,36 +275,14 @@ type planReader struct {
 	data []byte
 	dec  *json.Decoder
 	name string
-	// The line of offset lastOff, so that the offsets, which grow as the
-	// decoder reads, are counted from the last one and not from the start.
-	lastOff  int64
-	lastLine int
+	pos  *inputcap.JSONLines
 }
 
-func (pr *planReader) line(off int64) int {
-	off = min(max(off, 0), int64(len(pr.data)))
-	if off < pr.lastOff {
-		return 1 + bytes.Count(pr.data[:off], []byte{'\n'})
-	}
-	pr.lastLine += bytes.Count(pr.data[pr.lastOff:off], []byte{'\n'})
-	pr.lastOff = off
-	return pr.lastLine
-}
+// line returns the 1-based line of byte offset off.
+func (pr *planReader) line(off int64) int { return pr.pos.Line(off) }
 
-// valueLine returns the line of the next value: the first byte after the
-// decoder's offset that is not white space, a colon or a comma.
-func (pr *planReader) valueLine() int {
-	off := pr.dec.InputOffset()
-	for off < int64(len(pr.data)) {
-		switch pr.data[off] {
-		case ' ', '\t', '\r', '\n', ':', ',':
-			off++
-			continue
-		}
-		break
-	}
-	return pr.line(off)
-}
+// valueLine returns the line of the next value.
+func (pr *planReader) valueLine() int { return pr.pos.Next() }
 
 func (pr *planReader) fail(line int, entry, format string, args ...any) error {
 	return &PlanFileError{File: pr.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanFile}
@@ -396,7 +374,8 @@ type rawPlan struct {
 }
 
 func readPlan(data []byte, name string) (*PlanFile, error) {
-	pr := &planReader{data: data, dec: json.NewDecoder(bytes.NewReader(data)), name: name, lastLine: 1}
+	dec := json.NewDecoder(bytes.NewReader(data))
+	pr := &planReader{data: data, dec: dec, name: name, pos: inputcap.NewJSONLines(data, dec)}
 	pr.dec.DisallowUnknownFields()
 	f := &PlanFile{name: name}
 	p := &Plan{}

@@ -76,32 +76,14 @@ func (h *Hamiltonian) UnmarshalJSON(b []byte) error {
 type jsonReader struct {
 	data []byte
 	dec  *json.Decoder
-	// The line of offset lastOff: offsets grow as the decoder reads, so
-	// lines are counted from the last one, not from the start.
-	lastOff  int64
-	lastLine int
+	pos  *inputcap.JSONLines
 }
 
 // line returns the 1-based line of byte offset off.
-func (jr *jsonReader) line(off int64) int {
-	off = min(max(off, 0), int64(len(jr.data)))
-	if off < jr.lastOff {
-		return 1 + bytes.Count(jr.data[:off], []byte{'\n'})
-	}
-	jr.lastLine += bytes.Count(jr.data[jr.lastOff:off], []byte{'\n'})
-	jr.lastOff = off
-	return jr.lastLine
-}
+func (jr *jsonReader) line(off int64) int { return jr.pos.Line(off) }
 
-// here returns the line of the next token: the first byte after the
-// decoder's offset that is not white space, a colon or a comma.
-func (jr *jsonReader) here() int {
-	off := jr.dec.InputOffset()
-	for off < int64(len(jr.data)) && bytes.IndexByte([]byte(" \t\r\n:,"), jr.data[off]) >= 0 {
-		off++
-	}
-	return jr.line(off)
-}
+// here returns the line of the next token.
+func (jr *jsonReader) here() int { return jr.pos.Next() }
 
 // fail builds the error at a line.
 func (jr *jsonReader) fail(line int, format string, args ...any) error {
@@ -216,7 +198,8 @@ func readJSON(data []byte) (*Hamiltonian, error) {
 		return nil, fmt.Errorf("hamiltonian: %w: more than %d bytes: the reader's limit (MaxReadBytes)", ErrFormat, MaxReadBytes)
 	}
 	data = bytes.TrimPrefix(data, []byte(bom))
-	jr := &jsonReader{data: data, dec: json.NewDecoder(bytes.NewReader(data)), lastLine: 1}
+	dec := json.NewDecoder(bytes.NewReader(data))
+	jr := &jsonReader{data: data, dec: dec, pos: inputcap.NewJSONLines(data, dec)}
 	jr.dec.UseNumber()
 	if err := jr.delim('{', "a JSON Hamiltonian"); err != nil {
 		return nil, err

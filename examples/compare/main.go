@@ -6,6 +6,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"github.com/shotplan/shotplan/internal/onceflag"
 	"image/color"
 	"io"
 	"math"
@@ -75,18 +76,8 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(fs.Output(), "usage: compare [flags]\n\nCompares the allocation strategies on one Hamiltonian: certified bound and simulated RMSE as a table (-json, -csv FILE), and a plot with -plot FILE.")
 		fs.PrintDefaults()
 	}
-	// A flag given twice is an error, not last-wins; the wrappers go again
-	// before -h describes the flags.
-	var wrapped []*flag.Flag
-	var values []flag.Value
-	fs.VisitAll(func(f *flag.Flag) {
-		wrapped, values = append(wrapped, f), append(values, f.Value)
-		f.Value = &onceFlag{v: f.Value}
-	})
-	err := fs.Parse(args)
-	for k, f := range wrapped {
-		f.Value = values[k]
-	}
+	// A flag given twice is an error, not last-wins.
+	err := onceflag.Parse(fs, func() error { return fs.Parse(args) })
 	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			fs.SetOutput(stdout)
@@ -187,32 +178,6 @@ func writable(flagName, path string) error {
 		return fmt.Errorf("%s %s: %s is not a directory", flagName, path, filepath.Dir(path))
 	}
 	return nil
-}
-
-// onceFlag refuses a second value for a flag.
-type onceFlag struct {
-	v   flag.Value
-	set bool
-}
-
-func (o *onceFlag) String() string {
-	if o == nil || o.v == nil {
-		return ""
-	}
-	return o.v.String()
-}
-
-func (o *onceFlag) Set(s string) error {
-	if o.set {
-		return fmt.Errorf("given more than once (it takes one value)")
-	}
-	o.set = true
-	return o.v.Set(s)
-}
-
-func (o *onceFlag) IsBoolFlag() bool {
-	b, ok := o.v.(interface{ IsBoolFlag() bool })
-	return ok && b.IsBoolFlag()
 }
 
 // newStrategy returns the strategy by name; "fixed" gets the all-X, all-Y,

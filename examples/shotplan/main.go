@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"github.com/shotplan/shotplan/internal/onceflag"
 	"io"
 	"os"
 	"strings"
@@ -128,21 +129,8 @@ func runCommand(c command, args []string, stdout, stderr io.Writer) int {
 			fmt.Fprint(fs.Output(), c.more())
 		}
 	}
-	// A single-valued flag given twice is an error, not last-wins; the
-	// wrappers are removed again so that -h describes the flags' own types.
-	var wrapped []*flag.Flag
-	var values []flag.Value
-	fs.VisitAll(func(f *flag.Flag) {
-		if _, ok := f.Value.(interface{ repeatable() }); ok {
-			return
-		}
-		wrapped, values = append(wrapped, f), append(values, f.Value)
-		f.Value = &onceFlag{name: f.Name, v: f.Value}
-	})
-	err := parse(fs, args, e)
-	for k, f := range wrapped {
-		f.Value = values[k]
-	}
+	// A single-valued flag given twice is an error, not last-wins.
+	err := onceflag.Parse(fs, func() error { return parse(fs, args, e) })
 	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			fs.SetOutput(stdout)

@@ -33,39 +33,8 @@ func (l *listFlag) Set(v string) error {
 	return nil
 }
 
-// repeatable marks the flags that may be given more than once.
-func (l *listFlag) repeatable() {}
-
-// onceFlag wraps a single-valued flag during parsing: a second value is an
-// error instead of silently replacing the first.
-type onceFlag struct {
-	name string
-	v    interface {
-		String() string
-		Set(string) error
-	}
-	set bool
-}
-
-func (o *onceFlag) String() string {
-	if o == nil || o.v == nil {
-		return ""
-	}
-	return o.v.String()
-}
-
-func (o *onceFlag) Set(s string) error {
-	if o.set {
-		return fmt.Errorf("given more than once (it takes one value)")
-	}
-	o.set = true
-	return o.v.Set(s)
-}
-
-func (o *onceFlag) IsBoolFlag() bool {
-	b, ok := o.v.(interface{ IsBoolFlag() bool })
-	return ok && b.IsBoolFlag()
-}
+// Repeatable marks the flags that may be given more than once.
+func (l *listFlag) Repeatable() {}
 
 // readRecords reads and combines the records files of -records: each is CSV
 // (settings spelled out or as indices into settings) or JSON for a .json

@@ -4,6 +4,8 @@
 package inputcap
 
 import (
+	"bytes"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -66,3 +68,40 @@ func ReadAll(r io.Reader, limit int64) ([]byte, error) {
 // takes, and every shot total stays far from overflowing an int. On a
 // 32-bit platform it is the largest int.
 const MaxShots = min(1<<32, math.MaxInt)
+
+// JSONLines finds the line of a byte offset in a JSON document that a
+// json.Decoder reads from data, for error messages. Offsets mostly grow as
+// the decoder reads, so lines are counted on from the last offset asked
+// about rather than from the start.
+type JSONLines struct {
+	data     []byte
+	dec      *json.Decoder
+	lastOff  int64
+	lastLine int
+}
+
+// NewJSONLines returns the line finder of dec, which reads data.
+func NewJSONLines(data []byte, dec *json.Decoder) *JSONLines {
+	return &JSONLines{data: data, dec: dec, lastLine: 1}
+}
+
+// Line returns the 1-based line of byte offset off.
+func (l *JSONLines) Line(off int64) int {
+	off = min(max(off, 0), int64(len(l.data)))
+	if off < l.lastOff {
+		return 1 + bytes.Count(l.data[:off], []byte{'\n'})
+	}
+	l.lastLine += bytes.Count(l.data[l.lastOff:off], []byte{'\n'})
+	l.lastOff = off
+	return l.lastLine
+}
+
+// Next returns the line of the decoder's next value: the first byte after
+// its offset that is not white space, a colon or a comma.
+func (l *JSONLines) Next() int {
+	off := l.dec.InputOffset()
+	for off < int64(len(l.data)) && bytes.IndexByte([]byte(" \t\r\n:,"), l.data[off]) >= 0 {
+		off++
+	}
+	return l.Line(off)
+}
