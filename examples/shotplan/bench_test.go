@@ -1,6 +1,7 @@
 package main
 
 import (
+	"github.com/shotplan/shotplan/internal/cputime"
 	"io"
 	"path/filepath"
 	"testing"
@@ -25,13 +26,13 @@ func BenchmarkBudgetLiH(b *testing.B) {
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			b.ReportAllocs()
-			start := cpuTime()
+			start := cputime.Now()
 			for b.Loop() {
 				if code := run([]string{"budget", "-ham", ham, "-eps", "0.0016", "-strategy", c.strategy, "-proxy", c.proxy}, io.Discard, io.Discard); code != 0 {
 					b.Fatalf("budget exited with status %d", code)
 				}
 			}
-			b.ReportMetric(float64(cpuTime()-start)/float64(b.N), "cpu-ns/op")
+			cputime.Report(b, start)
 		})
 	}
 }
