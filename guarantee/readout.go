@@ -77,14 +77,11 @@ func CalibratedBounds(h *hamiltonian.Hamiltonian, rec *estimate.Records, cal *es
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian, records or calibration")
 	}
 	if !validDelta(delta) {
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
-	dc := o.CalibrationDelta
-	if dc == 0 {
-		dc = delta / 4
-	}
-	if !(dc > 0 && dc < delta) {
-		return nil, fmt.Errorf("guarantee: calibration δ = %v is not in (0, δ = %v)", o.CalibrationDelta, delta)
+	dc, err := o.calibrationDelta(delta)
+	if err != nil {
+		return nil, err
 	}
 	if cal.Qubits() != h.Qubits() {
 		return nil, fmt.Errorf("guarantee: calibration of %d qubits, Hamiltonian has %d", cal.Qubits(), h.Qubits())
@@ -202,7 +199,7 @@ func mitigatedGroups(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots
 // calibration bias is not included; see [CalibratedBounds].
 func MitigatedRadius(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, m *estimate.Mitigation, delta float64, exclude []bool) (radius, bias float64, err error) {
 	if !validDelta(delta) {
-		return 0, 0, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return 0, 0, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	v := 0.0
 	bias, err = mitigatedGroups(h, settings, shots, m, exclude, func(_ int, g *mitigatedGroup) {
@@ -229,7 +226,7 @@ func MitigatedData(h *hamiltonian.Hamiltonian, rec *estimate.Records, m *estimat
 		return nil, 0, fmt.Errorf("guarantee: nil records")
 	}
 	if !validDelta(delta) {
-		return nil, 0, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, 0, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
 	if h != nil && rec.Qubits() != h.Qubits() {
 		return nil, 0, fmt.Errorf("guarantee: records have %d qubits, Hamiltonian has %d", rec.Qubits(), h.Qubits())
@@ -268,4 +265,17 @@ func MitigatedData(h *hamiltonian.Hamiltonian, rec *estimate.Records, m *estimat
 	}
 	d := finishBound(h, gs, bias+calBias, rec.Len(), delta, Pooled, nil)
 	return d, calBias, nil
+}
+
+// calibrationDelta returns the part of δ spent on the calibration intervals:
+// CalibrationDelta, or δ/4 when it is zero (MATH.md §2.1.1).
+func (o ReadoutOptions) calibrationDelta(delta float64) (float64, error) {
+	dc := o.CalibrationDelta
+	if dc == 0 {
+		dc = delta / 4
+	}
+	if !(dc > 0 && dc < delta) {
+		return 0, fmt.Errorf("guarantee: calibration δ = %v is not in (0, δ = %v)", o.CalibrationDelta, delta)
+	}
+	return dc, nil
 }

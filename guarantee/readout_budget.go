@@ -50,30 +50,27 @@ func PlanReadoutBudget(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 		o = *opts
 	}
 	if h == nil {
-		return nil, fmt.Errorf("guarantee: PlanReadoutBudget: nil Hamiltonian")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian")
 	}
 	if !(eps > 0) || math.IsInf(eps, 0) {
-		return nil, fmt.Errorf("guarantee: PlanReadoutBudget: target ε = %v, want a positive number", eps)
+		return nil, fmt.Errorf("guarantee: target ε = %v, want a positive number", eps)
 	}
 	if !validDelta(delta) {
-		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: confidence parameter δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	}
-	dc := o.CalibrationDelta
-	if dc == 0 {
-		dc = delta / 4
-	}
-	if !(dc > 0 && dc < delta) {
-		return nil, fmt.Errorf("guarantee: calibration δ = %v is not in (0, δ = %v)", o.CalibrationDelta, delta)
+	dc, err := o.calibrationDelta(delta)
+	if err != nil {
+		return nil, err
 	}
 	if len(rates) != h.Qubits() {
-		return nil, fmt.Errorf("guarantee: PlanReadoutBudget: %d readout rates for %d qubits", len(rates), h.Qubits())
+		return nil, fmt.Errorf("guarantee: %d readout rates for %d qubits", len(rates), h.Qubits())
 	}
 	base := 0
 	for _, s := range shots {
 		base += s
 	}
 	if base <= 0 {
-		return nil, fmt.Errorf("guarantee: PlanReadoutBudget: empty base plan")
+		return nil, fmt.Errorf("guarantee: empty base plan")
 	}
 	ds := delta - dc
 	var best *ReadoutBudget
@@ -130,7 +127,7 @@ func PlanReadoutBudget(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 		}
 	}
 	if best == nil {
-		return nil, fmt.Errorf("guarantee: PlanReadoutBudget: no calibration size reaches ε = %v with this plan (bias of uncovered terms and calibration too large)", eps)
+		return nil, fmt.Errorf("guarantee: no calibration size reaches ε = %v with this plan (bias of uncovered terms and calibration too large)", eps)
 	}
 	return best, nil
 }

@@ -85,20 +85,20 @@ type ShotBudget struct {
 func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, state []complex128) (*ShotBudget, error) {
 	switch {
 	case h == nil || p == nil:
-		return nil, fmt.Errorf("guarantee: BudgetOf: nil Hamiltonian or plan")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian or plan")
 	case !(eps > 0) || math.IsInf(eps, 0):
-		return nil, fmt.Errorf("guarantee: BudgetOf: target ε = %v, want a positive number", eps)
+		return nil, fmt.Errorf("guarantee: target ε = %v, want a positive number", eps)
 	case !validDelta(delta):
-		return nil, fmt.Errorf("guarantee: BudgetOf: δ = %v is not in (0, 1)", delta)
+		return nil, fmt.Errorf("guarantee: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
 	case p.Qubits != h.Qubits():
-		return nil, fmt.Errorf("guarantee: BudgetOf: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
+		return nil, fmt.Errorf("guarantee: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
 	}
 	c, err := newCoverage(h, p.Settings, p.Shots)
 	if err != nil {
 		return nil, err
 	}
 	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: BudgetOf: the plan has no shots")
+		return nil, fmt.Errorf("guarantee: the plan has no shots")
 	}
 	a := c.weights()
 	s := c.loads(a, nil)
@@ -113,7 +113,7 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 		}
 	}
 	if state != nil && len(state) != 1<<h.Qubits() {
-		return nil, fmt.Errorf("guarantee: BudgetOf: the proxy state has %d amplitudes, want 2^%d", len(state), h.Qubits())
+		return nil, fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), h.Qubits())
 	}
 	margin := eps - b.Bias
 	b.Reachable = margin > 0
@@ -148,7 +148,7 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 	b.ProxyShots = b.ProxyCopies * c.shots
 	n := math.Ceil(2 * b.IIDVariance * l / (margin * margin))
 	if n > float64(math.MaxInt/2) {
-		return nil, fmt.Errorf("guarantee: BudgetOf: the anytime route needs more than %d shots", math.MaxInt/2)
+		return nil, fmt.Errorf("guarantee: the anytime route needs more than %d shots", math.MaxInt/2)
 	}
 	b.AnytimeShots = max(int(n), 1)
 	return b, nil
@@ -158,7 +158,7 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 // real solution x of the closed form.
 func wholeCopies(x float64, shots int, ok func(r float64) bool) (int, error) {
 	if x > float64(math.MaxInt/2)/float64(shots) {
-		return 0, fmt.Errorf("guarantee: BudgetOf: more than %d shots needed", math.MaxInt/2)
+		return 0, fmt.Errorf("guarantee: more than %d shots needed", math.MaxInt/2)
 	}
 	r := max(int(math.Ceil(x)), 1)
 	for r > 1 && ok(float64(r-1)) {
@@ -190,11 +190,11 @@ func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
 	h := c.h
 	n := h.Qubits()
 	if n > hamiltonian.MaxExactQubits || len(state) != 1<<n {
-		return fmt.Errorf("guarantee: BudgetOf: the proxy state has %d amplitudes, want 2^%d", len(state), n)
+		return fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), n)
 	}
 	sim, err := estimate.NewSimulator(state, 0, nil)
 	if err != nil {
-		return fmt.Errorf("guarantee: BudgetOf: proxy state: %w", err)
+		return fmt.Errorf("guarantee: proxy state: %w", err)
 	}
 	tab := h.Table()
 	var p []float64

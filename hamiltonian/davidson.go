@@ -126,19 +126,7 @@ func lowestHermitian(g []complex128, k, m int) (float64, []complex128) {
 			t.SetSym(j, k+i, imag(c))
 		}
 	}
-	var eig mat.EigenSym
-	if !eig.Factorize(t, true) {
-		panic("hamiltonian: projected eigensolver failed")
-	}
-	vals := eig.Values(nil)
-	best := 0
-	for i, v := range vals {
-		if v < vals[best] {
-			best = i
-		}
-	}
-	var vecs mat.Dense
-	eig.VectorsTo(&vecs)
+	e, vecs, best := lowestSymEigen(t)
 	y := make([]complex128, k)
 	n := 0.0
 	for i := range k {
@@ -146,5 +134,5 @@ func lowestHermitian(g []complex128, k, m int) (float64, []complex128) {
 		n += real(y[i])*real(y[i]) + imag(y[i])*imag(y[i])
 	}
 	scale(y, complex(1/math.Sqrt(n), 0))
-	return vals[best], y
+	return e, y
 }

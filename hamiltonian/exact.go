@@ -307,9 +307,17 @@ func lowestTridiag(alpha, beta []float64) (float64, []float64) {
 	for i, b := range beta[:k-1] {
 		t.SetSym(i, i+1, b)
 	}
+	e, vecs, best := lowestSymEigen(t)
+	return e, mat.Col(nil, best, vecs)
+}
+
+// lowestSymEigen returns the lowest eigenvalue of the symmetric matrix t, all
+// its eigenvectors (as columns) and the column of the lowest, by gonum's
+// dense symmetric eigensolver.
+func lowestSymEigen(t *mat.SymDense) (float64, *mat.Dense, int) {
 	var eig mat.EigenSym
 	if !eig.Factorize(t, true) {
-		panic("hamiltonian: tridiagonal eigensolver failed")
+		panic("hamiltonian: dense symmetric eigensolver failed")
 	}
 	vals := eig.Values(nil)
 	best := 0
@@ -320,7 +328,7 @@ func lowestTridiag(alpha, beta []float64) (float64, []float64) {
 	}
 	var vecs mat.Dense
 	eig.VectorsTo(&vecs)
-	return vals[best], mat.Col(nil, best, &vecs)
+	return vals[best], &vecs, best
 }
 
 // reorth subtracts from w its components along the orthonormal vectors vs:
