@@ -97,19 +97,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 		countCover(cover, t, settings, shots)
 		return
 	}
-	index := make(map[string]int, len(settings))
-	var distinct []pauli.Setting
-	var total []int
-	for k, s := range settings {
-		key := s.Key()
-		if j, ok := index[key]; ok {
-			total[j] += shots[k]
-			continue
-		}
-		index[key] = len(distinct)
-		distinct = append(distinct, s)
-		total = append(total, shots[k])
-	}
+	distinct, total := pauli.MergeSettings(settings, shots)
 	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
 	var next atomic.Int64
 	parts := make([][]int, workers)
@@ -130,19 +118,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 					return
 				}
 				for j := lo; j < min(lo+coverBlock, len(distinct)); j++ {
-					s := distinct[j]
-					if !s.IsLocal() {
-						rows = t.Covered(rows[:0], s)
-						for _, i := range rows {
-							part[i] += total[j]
-						}
-						continue
-					}
-					x, z := s.Words()
-					idx = q.AppendCovered(idx[:0], x, z)
-					for _, i := range idx {
-						part[i] += total[j]
-					}
+					idx, rows = addCover(part, t, q, distinct[j], total[j], idx, rows)
 				}
 			}
 		})

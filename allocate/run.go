@@ -336,18 +336,26 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	var idx []int32
 	var rows []int
 	for j, s := range distinct {
-		if !s.IsLocal() {
-			// An entangled setting has no letters to bucket by.
-			rows = t.Covered(rows[:0], s)
-			for _, i := range rows {
-				cover[i] += total[j]
-			}
-			continue
-		}
-		x, z := s.Words()
-		idx = ci.AppendCovered(idx[:0], x, z)
-		for _, i := range idx {
-			cover[i] += total[j]
-		}
+		idx, rows = addCover(cover, t, ci, s, total[j], idx, rows)
 	}
+}
+
+// addCover adds n to cover[i] for every row i of t that setting s covers,
+// through the cover index ci for a local setting (an entangled one has no
+// letters to bucket by and is tested row by row). idx and rows are scratch
+// space, returned for reuse.
+func addCover(cover []int, t *pauli.Table, ci *coverindex.Index, s pauli.Setting, n int, idx []int32, rows []int) ([]int32, []int) {
+	if !s.IsLocal() {
+		rows = t.Covered(rows[:0], s)
+		for _, i := range rows {
+			cover[i] += n
+		}
+		return idx, rows
+	}
+	x, z := s.Words()
+	idx = ci.AppendCovered(idx[:0], x, z)
+	for _, i := range idx {
+		cover[i] += n
+	}
+	return idx, rows
 }
