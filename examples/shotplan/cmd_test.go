@@ -41,12 +41,13 @@ func TestVersion(t *testing.T) {
 		Go           string `json:"go"`
 		PlanFormat   string `json:"plan_format"`
 		PlanVersion  int    `json:"plan_version"`
+		CompactPlan  int    `json:"compact_plan_version"`
 		StateFormat  string `json:"rounds_state_format"`
 		StateVersion int    `json:"rounds_state_version"`
 	}
 	okJSON(t, &v, "version")
 	if v.Module == "" || v.Version == "" || v.Go != runtime.Version() || v.PlanFormat != allocate.PlanFormat ||
-		v.PlanVersion != allocate.PlanVersion || v.StateFormat != roundsFormat || v.StateVersion != roundsVersion {
+		v.PlanVersion != allocate.PlanVersion || v.CompactPlan != allocate.CompactPlanVersion || v.StateFormat != roundsFormat || v.StateVersion != roundsVersion {
 		t.Errorf("version: %+v", v)
 	}
 	out := ok(t, "version")

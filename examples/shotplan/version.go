@@ -22,10 +22,11 @@ func versionFlags(fs *flag.FlagSet, e *env) func() error {
 			Go           string `json:"go"`
 			PlanFormat   string `json:"plan_format"`
 			PlanVersion  int    `json:"plan_version"`
+			CompactPlan  int    `json:"compact_plan_version"`
 			StateFormat  string `json:"rounds_state_format"`
 			StateVersion int    `json:"rounds_state_version"`
 		}{Module: "github.com/shotplan/shotplan", Version: "unknown", Go: runtime.Version(),
-			PlanFormat: allocate.PlanFormat, PlanVersion: allocate.PlanVersion,
+			PlanFormat: allocate.PlanFormat, PlanVersion: allocate.PlanVersion, CompactPlan: allocate.CompactPlanVersion,
 			StateFormat: roundsFormat, StateVersion: roundsVersion}
 		if bi, ok := debug.ReadBuildInfo(); ok {
 			if bi.Main.Path != "" {
@@ -54,8 +55,8 @@ func versionFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			fmt.Fprint(e.stdout, ")")
 		}
-		fmt.Fprintf(e.stdout, ", %s\nplan files: %q version %d\nrounds state files: %q version %d\n",
-			res.Go, res.PlanFormat, res.PlanVersion, res.StateFormat, res.StateVersion)
+		fmt.Fprintf(e.stdout, ", %s\nplan files: %q version %d (compact layout, the default) and %d (full JSON, for names ending in .json)\nrounds state files: %q version %d\n",
+			res.Go, res.PlanFormat, res.CompactPlan, res.PlanVersion, res.StateFormat, res.StateVersion)
 		return nil
 	}
 }
