@@ -83,3 +83,44 @@ func TestObservablesWorkflow(t *testing.T) {
 		}
 	}
 }
+
+// FuzzObservablesFlags feeds arbitrary -observables and -targets lists to
+// their parsers: they must return either a usable result (the energy first,
+// one positive finite target per observable) or an input error (exit 2),
+// never panic.
+func FuzzObservablesFlags(f *testing.F) {
+	for _, s := range [][2]string{{"N,Sz,S2", "0.1,0.1,0.1,0.1"}, {"s2", "1,2"}, {"N,N", "1,1,1"}, {",", ""}, {"Sz", "NaN,1"}, {"N", "1e400,1"}} {
+		f.Add(s[0], s[1])
+	}
+	h, _, err := readHamAny(h2Dump)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Fuzz(func(t *testing.T, list, targets string) {
+		obs, err := parseObservables(list, h2Dump, h)
+		if err != nil {
+			if _, ok := err.(inputError); !ok {
+				t.Fatalf("parseObservables(%q): %v is not an input error", list, err)
+			}
+			return
+		}
+		if len(obs) < 2 || obs[0].Name != "E" {
+			t.Fatalf("parseObservables(%q): %d observables, first %q", list, len(obs), obs[0].Name)
+		}
+		tg, err := parseTargets(targets, obs)
+		if err != nil {
+			if _, ok := err.(inputError); !ok {
+				t.Fatalf("parseTargets(%q): %v is not an input error", targets, err)
+			}
+			return
+		}
+		if len(tg) != len(obs) {
+			t.Fatalf("parseTargets(%q): %d targets for %d observables", targets, len(tg), len(obs))
+		}
+		for _, v := range tg {
+			if !(v > 0) || math.IsInf(v, 0) {
+				t.Fatalf("parseTargets(%q): target %v", targets, v)
+			}
+		}
+	})
+}
