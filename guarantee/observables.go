@@ -27,6 +27,11 @@ type AllOptions struct {
 	Form EmpiricalForm
 	// Options is passed to [Certify] for the a-priori certificates.
 	Options *Options
+	// Resolution is the relative precision of the budget [PlanAll] finds:
+	// it stops bisecting when the bracket is at most Resolution times the
+	// passing budget (each step reruns the strategy). Zero means to the
+	// shot.
+	Resolution float64
 }
 
 // ObservableBound is one observable's part of a [Simultaneous] result.
@@ -209,9 +214,9 @@ type MultiPlan struct {
 // [UnionHamiltonian] with weights c_k = sqrt(2 ln(2/δ_k))/ε_k, which makes
 // the sum of the observables' relaxed radii over their targets the
 // objective (MATH.md §4.8). The budget is found by doubling from 1 up to
-// maxShots and then bisecting, rerunning the strategy at each budget; a
-// budget is accepted when every observable's certificate Bound ≤ ε_k. The
-// returned plan is always checked, but since bounds need not fall with
+// maxShots and then bisecting (to AllOptions.Resolution), rerunning the
+// strategy at each budget; a budget is accepted when every observable's
+// certificate Bound ≤ ε_k. The returned plan is always checked, but since bounds need not fall with
 // every added shot the budget may not be the smallest. If maxShots is not
 // enough, the plan of maxShots shots is returned with Met false.
 //
@@ -237,6 +242,9 @@ func PlanAll(obs []Observable, targets []float64, a allocate.Allocator, delta fl
 	}
 	if _, ok := a.(allocate.Observer); ok {
 		return nil, fmt.Errorf("guarantee: strategy %s reads outcomes back; its plan is not fixed before the data and has no a-priori certificate", allocate.Name(a))
+	}
+	if !(o.Resolution >= 0 && o.Resolution < 1) {
+		return nil, fmt.Errorf("guarantee: Resolution = %v, want a number in [0, 1)", o.Resolution)
 	}
 	w, err := split(len(obs), o.Split)
 	if err != nil {
@@ -295,7 +303,7 @@ func PlanAll(obs []Observable, targets []float64, a allocate.Allocator, delta fl
 		lo, hi = hi, 2*hi
 	}
 	// Bisection between a failing lo and a passing hi.
-	for hi-lo > 1 {
+	for hi-lo > max(1, int(o.Resolution*float64(hi))) {
 		mid := lo + (hi-lo)/2
 		ok, err := try(mid)
 		if err != nil {

@@ -210,6 +210,16 @@ func TestPlanAll(t *testing.T) {
 			t.Logf("note: %d shots also meet the targets (bounds need not fall with every shot)", m.Shots-1)
 		}
 	}
+	coarse, err := PlanAll(obs, targets, a, delta, 1<<16, &AllOptions{Resolution: 0.1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !coarse.Met || !check(coarse.Plan) || coarse.Evaluated > m.Evaluated {
+		t.Errorf("Resolution 0.1: met %v at %d shots after %d budgets; exact search: %d shots after %d", coarse.Met, coarse.Shots, coarse.Evaluated, m.Shots, m.Evaluated)
+	}
+	if _, err := PlanAll(obs, targets, a, delta, 100, &AllOptions{Resolution: -1}); err == nil {
+		t.Error("negative resolution: no error")
+	}
 	if _, err := PlanAll(obs, targets[:2], a, delta, 100, nil); err == nil {
 		t.Error("too few targets: no error")
 	}

@@ -137,6 +137,10 @@ func parseTargets(list string, obs []guarantee.Observable) ([]float64, error) {
 	return out, nil
 }
 
+// planResolution is the relative precision of the budget plan -observables
+// finds: 1%, which saves most of the reruns of an exact bisection.
+const planResolution = 0.01
+
 // planObservables plans for the energy and the listed observables with their
 // own targets (guarantee.PlanAll), up to maxShots shots. The plan's cover
 // counts are those of the energy, so estimate reads it with the same -ham.
@@ -144,7 +148,7 @@ func planObservables(obs []guarantee.Observable, targets []float64, a allocate.A
 	if _, ok := a.(allocate.TermDrawer); ok {
 		return nil, badf("-observables: strategy %s draws terms of one Hamiltonian; choose a strategy that picks settings", allocate.Name(a))
 	}
-	m, err := guarantee.PlanAll(obs, targets, a, delta, maxShots, nil)
+	m, err := guarantee.PlanAll(obs, targets, a, delta, maxShots, &guarantee.AllOptions{Resolution: planResolution})
 	if err != nil {
 		return nil, bad(err)
 	}
