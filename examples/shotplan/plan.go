@@ -48,7 +48,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	shotCost := fs.Float64("shot-cost", 1, "with -cost-budget: the cost (time) of one shot")
 	circuitCost := fs.Float64("circuit-cost", 0, "with -cost-budget: the cost (time) of each distinct setting, such as compiling and loading its circuit")
 	costBudget := fs.Float64("cost-budget", 0, "fit the plan to this cost: keep the settings and total shots that minimise the certified bound at -delta, with shots × -shot-cost + settings × -circuit-cost at most this (0: off)")
-	delta := fs.Float64("delta", 0.05, "with -cost-budget: the failure probability of the certified bound it minimises")
+	delta := fs.Float64("delta", 0.05, "with -cost-budget: the failure probability of the certified bound it minimises; with -observables: of all the certificates together")
+	observables := fs.String("observables", "", "with an FCIDUMP -ham: plan for the energy and these observables (N, Sz, S2, comma-separated) together, each certified to its -targets; -shots is then the largest budget tried")
+	targets := fs.String("targets", "", "with -observables: the accuracy of each observable, the energy's first, comma-separated (such as 0.0016,0.05,0.05,0.1)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -89,6 +91,15 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if err := checkShotLimit(*strategy, a, *shots, limit, h.Qubits()); err != nil {
 			return err
+		}
+		if *observables != "" {
+			if *costBudget != 0 {
+				return badf("-observables cannot be combined with -cost-budget")
+			}
+			return e.planForObservables(h, *ham, *observables, *targets, a, *delta, *shots, *out, *seed)
+		}
+		if *targets != "" {
+			return badf("-targets is for -observables")
 		}
 		report, done := e.planProgress("planning " + *strategy)
 		// The compact layout merges every repeat anyway: merge while planning.
