@@ -15,14 +15,15 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// fcidumpDir holds the reference integrals (psi4 1.3.2; see its README).
-var fcidumpDir = filepath.Join("..", "..", "..", "shared", "data", "fcidump")
+// fcidumpDir holds the repository's copy of the reference integrals (psi4
+// 1.3.2; see its README).
+var fcidumpDir = filepath.Join("..", "hamiltonian", "molecule", "testdata")
 
 func moleculeHamiltonian(t testing.TB, name string, enc fermion.Encoding) (*hamiltonian.Hamiltonian, *molecule.Integrals) {
 	t.Helper()
 	g, err := molecule.ReadFCIDUMPFile(filepath.Join(fcidumpDir, name+".fcidump"))
 	if err != nil {
-		t.Skipf("reference data not available: %v", err)
+		t.Fatal(err)
 	}
 	h, err := g.QubitHamiltonian(enc)
 	if err != nil {
