@@ -1,0 +1,113 @@
+package guarantee
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
+	"github.com/shotplan/shotplan/hamiltonian"
+)
+
+// Merit is the shot cost of a plan's grouped estimate in one state, as the
+// figure of merit ε²M: the number of shots M needed for a standard error ε
+// is about ε²M/ε² (MATH.md §2.3).
+type Merit struct {
+	// Shots is M, the plan's total number of shots; Settings its number
+	// of distinct settings (the groups g).
+	Shots, Settings int
+	// PlanValue is M·Var(Ê) for the grouped estimate Ê of MATH.md §2 at
+	// the plan's own shot counts: with m_g shots of distinct setting g and
+	// N_i = Σ_{g∋i} m_g, Var(Ê) = Σ_g Var(O_g)/m_g where
+	// O_g = Σ_{i◁g} (m_g/N_i) h_i P_i.
+	PlanValue float64
+	// Optimal is (Σ_g sqrt(Var(O_g)))², the value of M·Var at the shot
+	// fractions f_g ∝ sqrt(Var(O_g)) for the same split O_g of the
+	// coefficients (the fractions that minimise Σ_g Var(O_g)/(f_g M) for
+	// a fixed split). Optimal ≤ PlanValue by the Cauchy–Schwarz inequality.
+	// The estimator that reaches it averages each group's O_g over its
+	// own shots with the split fixed; the grouped estimate of MATH.md §2
+	// would re-derive the split from the new counts.
+	Optimal float64
+	// GroupSD[g] is sqrt(Var(O_g)) of distinct setting g (in the order of
+	// first use, as [allocate.Plan.Distinct]).
+	GroupSD []float64
+}
+
+// MeritOf returns the figure of merit ε²M of the plan p for the Hamiltonian
+// h in the state (2^n amplitudes, normalised; for example an exact ground
+// state), computed exactly from the Born probabilities of every distinct
+// setting: one Walsh–Hadamard transform per setting, n·2^n operations each,
+// so n ≤ [hamiltonian.MaxExactQubits]. The terms the plan never covers do
+// not enter: they are bias, not variance.
+//
+// MeritOf returns an error for a nil argument, a plan of another width or
+// without shots, or a state of the wrong length.
+func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (*Merit, error) {
+	switch {
+	case h == nil || p == nil:
+		return nil, fmt.Errorf("guarantee: MeritOf: nil Hamiltonian or plan")
+	case p.Qubits != h.Qubits():
+		return nil, fmt.Errorf("guarantee: MeritOf: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
+	case h.Qubits() > hamiltonian.MaxExactQubits || len(state) != 1<<h.Qubits():
+		return nil, fmt.Errorf("guarantee: MeritOf: the state has %d amplitudes, want 2^%d (at most 2^%d)", len(state), h.Qubits(), hamiltonian.MaxExactQubits)
+	}
+	c, err := newCoverage(h, p.Settings, p.Shots)
+	if err != nil {
+		return nil, err
+	}
+	if c.shots == 0 {
+		return nil, fmt.Errorf("guarantee: MeritOf: the plan has no shots")
+	}
+	sim, err := estimate.NewSimulator(state, 0, nil)
+	if err != nil {
+		return nil, fmt.Errorf("guarantee: MeritOf: state: %w", err)
+	}
+	m := &Merit{Shots: c.shots, Settings: len(c.settings), GroupSD: make([]float64, len(c.settings))}
+	tab := h.Table()
+	var pr []float64
+	var masks []uint64
+	var coef []float64
+	plan, sum := 0.0, 0.0
+	for q, s := range c.settings {
+		pr = sim.Probabilities(pr, s)
+		walshHadamard(pr)
+		masks, coef = masks[:0], coef[:0]
+		for _, i := range c.terms(q) {
+			var mask uint64
+			sign := 1
+			if s.IsLocal() {
+				x, z := tab.Words(int(i))
+				mask = x[0] | z[0]
+			} else {
+				d, sg, ok := s.Diagonal(tab.At(int(i)))
+				if !ok {
+					continue
+				}
+				_, zz := d.Words()
+				mask, sign = zz[0], sg
+			}
+			masks = append(masks, mask)
+			coef = append(coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
+		}
+		// Z = Σ c_i s_i is one shot's contribution (MATH.md §2); its
+		// moments follow from the transform as in BudgetOf's proxy.
+		m1, m2 := 0.0, 0.0
+		for a, ma := range masks {
+			m1 += coef[a] * pr[ma]
+			m2 += coef[a] * coef[a]
+			for j := a + 1; j < len(masks); j++ {
+				m2 += 2 * coef[a] * coef[j] * pr[ma^masks[j]]
+			}
+		}
+		v := max(m2-m1*m1, 0)
+		mg := float64(c.mult[q])
+		// O_g = m_g·Z, so Var(O_g)/m_g = m_g·Var(Z).
+		plan += mg * v
+		m.GroupSD[q] = mg * math.Sqrt(v)
+		sum += m.GroupSD[q]
+	}
+	m.PlanValue = float64(c.shots) * plan
+	m.Optimal = sum * sum
+	return m, nil
+}
