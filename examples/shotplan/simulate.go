@@ -22,6 +22,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
+	prepare := fs.String("prepare", "ground", "state to measure: ground (the exact ground state of the sector), hf (the determinant filling the lowest orbitals with the sector's α and β electrons, spin orbitals interleaved α, β: the Hartree–Fock state of an FCIDUMP), or an amplitude file (\"shotplan amplitudes 1\", \"qubits N\", then INDEX RE IM lines)")
 	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -88,27 +89,41 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
 		defer stop()
-		var ground hamiltonian.Eigenpair
-		loaded := false
-		if *stateFile != "" {
-			if _, err := os.Stat(*stateFile); err == nil {
-				if ground, err = readState(*stateFile, h, sec); err != nil {
-					return bad(err)
-				}
-				loaded = true
-			}
-		}
-		if !loaded {
-			if ground, err = groundState(h, sec); err != nil {
+		var state []complex128
+		var ground *hamiltonian.Eigenpair
+		what := ""
+		switch *prepare {
+		case "ground":
+			g, err := groundOrCached(h, sec, *stateFile)
+			if err != nil {
 				return err
 			}
-			if *stateFile != "" {
-				if err := writeState(*stateFile, h, sec, ground); err != nil {
-					return bad(err)
-				}
+			ground, state = &g, g.State
+			what = fmt.Sprintf("the exact ground state (%s, energy %.10f)", sec, g.Energy)
+		case "hf":
+			if sec.sector == nil {
+				return badf("-prepare hf needs a number of electrons: give -electrons (and -spin), or an FCIDUMP file")
 			}
+			if state, err = estimate.HartreeFockState(h.Qubits(), sec.electrons, sec.spinTwice); err != nil {
+				return bad(err)
+			}
+			what = fmt.Sprintf("the Hartree–Fock determinant (%s, energy %.10f)", sec, h.Energy(state))
+		default:
+			if *stateFile != "" {
+				return badf("-state keeps a computed ground state; it does not go with -prepare %s", *prepare)
+			}
+			if err := notInput(*out, *prepare); err != nil {
+				return err
+			}
+			if state, err = estimate.ReadAmplitudesFile(*prepare); err != nil {
+				return bad(err)
+			}
+			if len(state) != 1<<h.Qubits() {
+				return badf("%s: the state has %d amplitudes; the Hamiltonian %s has %d qubits (2^%d amplitudes)", *prepare, len(state), *ham, h.Qubits(), h.Qubits())
+			}
+			what = fmt.Sprintf("the state of %s (energy %.10f)", *prepare, h.Energy(state))
 		}
-		sim, err := estimate.NewSimulator(ground.State, *seed, &estimate.SimulatorOptions{Readout: ro})
+		sim, err := estimate.NewSimulator(state, *seed, &estimate.SimulatorOptions{Readout: ro})
 		if errors.Is(err, estimate.ErrFormat) {
 			return bad(err) // the library refused an input value
 		}
@@ -138,19 +153,24 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 		}
 		res := struct {
-			Output       string  `json:"output"`
-			Shots        int     `json:"shots"`
-			Seed         uint64  `json:"seed"`
-			GroundEnergy float64 `json:"ground_energy"`
-			Readout      string  `json:"readout,omitempty"`
-			Sector       string  `json:"sector"`
-			Calibration  string  `json:"calibration_output,omitempty"`
-			CalShots     int     `json:"calibration_shots,omitempty"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String(), *calOut, *calShots}
+			Output       string   `json:"output"`
+			Shots        int      `json:"shots"`
+			Seed         uint64   `json:"seed"`
+			Prepared     string   `json:"prepared"`
+			Energy       float64  `json:"energy"`
+			GroundEnergy *float64 `json:"ground_energy,omitempty"`
+			Readout      string   `json:"readout,omitempty"`
+			Sector       string   `json:"sector"`
+			Calibration  string   `json:"calibration_output,omitempty"`
+			CalShots     int      `json:"calibration_shots,omitempty"`
+		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, sec.String(), *calOut, *calShots}
+		if ground != nil {
+			res.GroundEnergy, res.Energy = &ground.Energy, ground.Energy
+		}
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (%s, energy %.10f), seed %d", outName(*out), rec.Len(), sec, ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on %s, seed %d", outName(*out), rec.Len(), what, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
@@ -160,4 +180,29 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		return nil
 	}
+}
+
+// groundOrCached returns the ground state of h in the sector, read from the
+// state file if it exists, else computed (and written to the file if one is
+// named).
+func groundOrCached(h *hamiltonian.Hamiltonian, sec chosenSector, stateFile string) (hamiltonian.Eigenpair, error) {
+	if stateFile != "" {
+		if _, err := os.Stat(stateFile); err == nil {
+			g, err := readState(stateFile, h, sec)
+			if err != nil {
+				return g, bad(err)
+			}
+			return g, nil
+		}
+	}
+	g, err := groundState(h, sec)
+	if err != nil {
+		return g, err
+	}
+	if stateFile != "" {
+		if err := writeState(stateFile, h, sec, g); err != nil {
+			return g, bad(err)
+		}
+	}
+	return g, nil
 }
