@@ -71,14 +71,15 @@ func scaled(c float64, m [2][2]complex128) [2][2]complex128 {
 
 // depolarise applies the depolarising channel of probability p to qubit q in
 // its Kraus form (1−3p/4)ρ + (p/4)(XρX + YρY + ZρZ), which equals
-// (1−p)ρ + p·I/2 (Nielsen & Chuang eq. 8.100–8.102).
+// (1−p)ρ + p·I/2 (Nielsen & Chuang section 8.3.4, from memory; the identity
+// I/2 = (ρ + XρX + YρY + ZρZ)/4 holds for every one-qubit ρ of trace 1).
 func (rho density) depolarise(q int, p float64) density {
 	return rho.kraus(q, scaled(1-3*p/4, matI), scaled(p/4, matX), scaled(p/4, matY), scaled(p/4, matZ))
 }
 
 // dephase erases the coherences of qubit q with probability p:
 // (1−p)ρ + p(P0ρP0 + P1ρP1), with the projectors P0, P1 as Kraus operators
-// (the phase-damping form of Nielsen & Chuang §8.3.6).
+// (the phase-damping form of Nielsen & Chuang section 8.3.6, from memory).
 func (rho density) dephase(q int, p float64) density {
 	return rho.kraus(q, scaled(1-p, matI), scaled(p, [2][2]complex128{{1, 0}, {0, 0}}), scaled(p, [2][2]complex128{{0, 0}, {0, 1}}))
 }
