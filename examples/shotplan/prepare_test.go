@@ -99,3 +99,50 @@ func TestSimulatePrepare(t *testing.T) {
 		}
 	}
 }
+
+// TestSimulateNoiseFlags: with -pair-flip 1 every pair of neighbours flips
+// on every shot, so on 4 qubits qubits 0 and 3 flip once and qubits 1 and 2
+// twice: the H2 determinant 1100 (qubit 0 first) reads 0101 on every qubit
+// measured in Z. Bad probabilities exit 2 with one line.
+func TestSimulateNoiseFlags(t *testing.T) {
+	dir := t.TempDir()
+	plan := filepath.Join(dir, "p.plan")
+	rec := filepath.Join(dir, "r.csv")
+	ok(t, "plan", "-ham", h2Dump, "-strategy", "derand", "-shots", "200", "-seed", "5", "-o", plan)
+	var out struct {
+		PairFlip string `json:"pair_flip"`
+	}
+	okJSON(t, &out, "simulate", "-ham", h2Dump, "-plan", plan, "-prepare", "hf", "-pair-flip", "1", "-o", rec)
+	if out.PairFlip != "1" {
+		t.Errorf("pair_flip %q, want 1", out.PairFlip)
+	}
+	data, err := os.ReadFile(rec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const want = "0101"
+	seen := 0
+	for i, line := range strings.Split(strings.TrimSpace(string(data)), "\n")[1:] {
+		setting, outcome, _ := strings.Cut(line, ",")
+		for q := range 4 {
+			if setting[q] == 'Z' {
+				seen++
+				if outcome[q] != want[q] {
+					t.Fatalf("record %d %q: qubit %d reads %c, want %c", i+1, line, q, outcome[q], want[q])
+				}
+			}
+		}
+	}
+	if seen == 0 {
+		t.Fatal("no qubit was measured in Z")
+	}
+	for _, args := range [][]string{
+		{"simulate", "-ham", h2Dump, "-plan", plan, "-depolarizing", "1.5", "-o", rec},
+		{"simulate", "-ham", h2Dump, "-plan", plan, "-dephasing", "x", "-o", rec},
+		{"simulate", "-ham", h2Dump, "-plan", plan, "-pair-flip", "-0.1", "-o", rec},
+	} {
+		if code, _, errOut := sp(t, args...); code != 2 || strings.Count(strings.TrimSpace(errOut), "\n") != 0 {
+			t.Errorf("shotplan %s: exit %d, stderr %q; want exit 2 and one line", strings.Join(args, " "), code, errOut)
+		}
+	}
+}

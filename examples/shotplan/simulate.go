@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strconv"
+	"strings"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -23,6 +25,9 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
 	prepare := fs.String("prepare", "ground", "state to measure: ground (the exact ground state of the sector), hf (the determinant filling the lowest orbitals with the sector's α and β electrons, spin orbitals interleaved α, β: the Hartree–Fock state of an FCIDUMP), or an amplitude file (\"shotplan amplitudes 1\", \"qubits N\", then INDEX RE IM lines)")
+	depol := fs.String("depolarizing", "", "probability P that each qubit is depolarised just before it is measured (every outcome flips with probability P/2; local settings only)")
+	dephase := fs.String("dephasing", "", "probability P that each qubit loses its coherence just before it is measured (X and Y outcomes flip with probability P/2; local settings only)")
+	pairFlip := fs.String("pair-flip", "", "probability P that the read bits of each pair of neighbouring qubits q, q+1 flip together")
 	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -84,6 +89,26 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		opts := &estimate.SimulatorOptions{Readout: ro}
+		if opts.Depolarizing, err = uniformRate("depolarizing", *depol, h.Qubits()); err != nil {
+			return err
+		}
+		if opts.Dephasing, err = uniformRate("dephasing", *dephase, h.Qubits()); err != nil {
+			return err
+		}
+		if *pairFlip != "" && h.Qubits() < 2 {
+			return badf("-pair-flip needs at least 2 qubits")
+		}
+		if opts.PairFlip, err = uniformRate("pair-flip", *pairFlip, h.Qubits()-1); err != nil {
+			return err
+		}
+		if opts.Depolarizing != nil || opts.Dephasing != nil {
+			for k, st := range f.Plan.Settings {
+				if !st.IsLocal() {
+					return badf("-depolarizing and -dephasing are modelled for product-basis settings; setting %d (%s) of %s is entangled", k+1, st, *plan)
+				}
+			}
+		}
 		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits (%s)", f.Plan.TotalShots(), h.Qubits(), sec), simulateBytes(h.Qubits(), f.Plan.TotalShots(), sec), memLimit); err != nil {
 			return err
 		}
@@ -123,7 +148,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			what = fmt.Sprintf("the state of %s (energy %.10f)", *prepare, h.Energy(state))
 		}
-		sim, err := estimate.NewSimulator(state, *seed, &estimate.SimulatorOptions{Readout: ro})
+		sim, err := estimate.NewSimulator(state, *seed, opts)
 		if errors.Is(err, estimate.ErrFormat) {
 			return bad(err) // the library refused an input value
 		}
@@ -160,10 +185,13 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Energy       float64  `json:"energy"`
 			GroundEnergy *float64 `json:"ground_energy,omitempty"`
 			Readout      string   `json:"readout,omitempty"`
+			Depolarizing string   `json:"depolarizing,omitempty"`
+			Dephasing    string   `json:"dephasing,omitempty"`
+			PairFlip     string   `json:"pair_flip,omitempty"`
 			Sector       string   `json:"sector"`
 			Calibration  string   `json:"calibration_output,omitempty"`
 			CalShots     int      `json:"calibration_shots,omitempty"`
-		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, sec.String(), *calOut, *calShots}
+		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, sec.String(), *calOut, *calShots}
 		if ground != nil {
 			res.GroundEnergy, res.Energy = &ground.Energy, ground.Energy
 		}
@@ -173,6 +201,11 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on %s, seed %d", outName(*out), rec.Len(), what, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
+		}
+		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", *pairFlip}} {
+			if n[1] != "" {
+				fmt.Fprintf(e.stdout, ", %s %s", n[0], n[1])
+			}
 		}
 		fmt.Fprintln(e.stdout)
 		if *calOut != "" {
@@ -205,4 +238,21 @@ func groundOrCached(h *hamiltonian.Hamiltonian, sec chosenSector, stateFile stri
 		}
 	}
 	return g, nil
+}
+
+// uniformRate parses the probability of flag name (empty: none) and
+// returns it repeated count times.
+func uniformRate(name, s string, count int) ([]float64, error) {
+	if s == "" {
+		return nil, nil
+	}
+	p, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil || !(p >= 0 && p <= 1) {
+		return nil, badf("-%s %q: want a probability in [0, 1]", name, s)
+	}
+	r := make([]float64, count)
+	for i := range r {
+		r[i] = p
+	}
+	return r, nil
 }
