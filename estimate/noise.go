@@ -10,8 +10,8 @@ import (
 // readout error: depolarising and dephasing channels on each qubit before
 // the measurement, correlated readout flips of neighbouring pairs, and slow
 // drift of the readout rates from one Run to the next. MATH.md §2.1.4
-// derives how each acts on the outcome distribution of a product-basis
-// measurement.
+// derives how each acts on the outcome distribution of a product-basis or
+// entangled setting.
 
 // checkRates validates a slice of per-qubit (or per-pair) probabilities.
 func checkRates(r []float64, n int, what string) error {
@@ -127,17 +127,39 @@ func (sim *Simulator) noisy(b uint64, f []float64) uint64 {
 // flips — and returns dst; a nil or short dst is replaced. It computes the
 // Born distribution (as [Simulator.Probabilities]) and applies to it the
 // 2×2 transfer matrix of each qubit and then the flip of each pair, O(n·2^n).
-// It returns an error if s has the wrong width, or is entangled while a
-// depolarising or dephasing channel is set.
+// For an entangled setting the channels act before its circuit U, so a
+// Pauli P on qubit q flips the outcome bits where U P U† has an X or Y
+// (MATH.md §2.1.4); the distribution is mixed over the four Paulis of each
+// qubit, O(4n·2^n). It returns an error if s has the wrong width.
 func (sim *Simulator) OutcomeProbabilities(dst []float64, s pauli.Setting) ([]float64, error) {
 	if s.Qubits() != sim.n {
 		return nil, fmt.Errorf("estimate: OutcomeProbabilities: setting %s has %d qubits, the simulator %d", s, s.Qubits(), sim.n)
 	}
-	if !s.IsLocal() && sim.hasChannels() {
-		return nil, fmt.Errorf("estimate: OutcomeProbabilities: setting %s is entangled; the depolarising and dephasing channels are modelled for product-basis settings only", s)
-	}
 	dst = sim.Probabilities(dst, s)
-	f := sim.channelFlips(s)
+	var f []float64
+	if s.IsLocal() {
+		f = sim.channelFlips(s)
+	} else if sim.hasChannels() {
+		// p'(a) = Σ_c w_c p(a ⊕ mask_c), one qubit's channel at a time.
+		sim.pauliFlips(s)
+		tmp := make([]float64, len(dst))
+		for q, w := range sim.weights {
+			if w[0] == 1 {
+				continue
+			}
+			clear(tmp)
+			for c, wc := range w {
+				if wc == 0 {
+					continue
+				}
+				m := sim.masks[q][c]
+				for a := range dst {
+					tmp[a] += wc * dst[uint64(a)^m]
+				}
+			}
+			copy(dst, tmp)
+		}
+	}
 	sim.driftedRates()
 	for q := range sim.n {
 		c := 0.0
@@ -184,3 +206,71 @@ func (sim *Simulator) OutcomeProbabilities(dst []float64, s pauli.Setting) ([]fl
 // Round returns the number of Run calls that recorded shots so far: the
 // round whose drifted readout rates the next call uses.
 func (sim *Simulator) Round() int { return sim.round }
+
+// pauliWeights returns the probabilities of the Paulis I, X, Z, Y (codes 0,
+// 1, 2, 3: bit 0 the X part, bit 1 the Z part, so that a product is the XOR
+// of codes up to phase) that the channels apply to qubit q: dephasing is Z
+// with probability f/2, depolarising each of X, Y, Z with probability d/4
+// (MATH.md §2.1.4), composed by convolution over the codes.
+func (sim *Simulator) pauliWeights(q int) [4]float64 {
+	dep, ph := [4]float64{1}, [4]float64{1}
+	if sim.depol != nil {
+		d := sim.depol[q]
+		dep = [4]float64{1 - 3*d/4, d / 4, d / 4, d / 4}
+	}
+	if sim.dephase != nil {
+		f := sim.dephase[q]
+		ph = [4]float64{1 - f/2, 0, f / 2, 0}
+	}
+	var w [4]float64
+	for a := range 4 {
+		for b := range 4 {
+			w[a^b] += dep[a] * ph[b]
+		}
+	}
+	return w
+}
+
+// pauliFlips sets sim.masks[q][c] to the outcome bits that Pauli code c on
+// qubit q before entangled setting s's circuit U flips: the X part of
+// U P U† (a Pauli after U flips a computational-basis outcome where it has
+// X or Y), and sim.weights[q] to the channel's Pauli probabilities.
+func (sim *Simulator) pauliFlips(s pauli.Setting) {
+	if sim.masks == nil {
+		sim.masks = make([][4]uint64, sim.n)
+		sim.weights = make([][4]float64, sim.n)
+	}
+	d := s.Diagonalization()
+	id := pauli.Identity(sim.n)
+	for q := range sim.n {
+		sim.weights[q] = sim.pauliWeights(q)
+		for c, l := range [4]pauli.Letter{pauli.I, pauli.X, pauli.Z, pauli.Y} {
+			if c == 0 {
+				sim.masks[q][0] = 0
+				continue
+			}
+			img, _ := d.Conjugate(id.With(q, l))
+			x, _ := img.Words()
+			sim.masks[q][c] = x[0]
+		}
+	}
+}
+
+// noisyEntangled applies to outcome b of an entangled setting, prepared by
+// pauliFlips, a random Pauli on every qubit drawn from the channels, then
+// the readout errors and the pair flips.
+func (sim *Simulator) noisyEntangled(b uint64) uint64 {
+	for q, w := range sim.weights {
+		if w[0] == 1 {
+			continue
+		}
+		u := sim.rng.Float64()
+		c := 0
+		for c < 3 && u >= w[c] {
+			u -= w[c]
+			c++
+		}
+		b ^= sim.masks[q][c]
+	}
+	return sim.noisy(b, nil)
+}

@@ -57,9 +57,9 @@ type SimulatorOptions struct {
 	// models T2 decay, which biases only terms with X or Y letters. Nil means
 	// none; otherwise one entry per qubit.
 	//
-	// Both channels act on the state before the measurement's basis change
-	// and are modelled for local (product-basis) settings; Run refuses an
-	// entangled setting while either is set.
+	// Both channels act on the state before the measurement's basis change;
+	// for an entangled setting a Pauli error is carried through its
+	// circuit, so it may flip several outcome bits.
 	Dephasing []float64
 
 	// PairFlip[q] is the probability that the read bits of neighbouring
@@ -105,11 +105,13 @@ type Simulator struct {
 	readoutErr []Readout
 	rng        *rand.Rand
 
-	depol, dephase []float64 // channels before readout (nil: none)
-	pair           []float64 // correlated pair flips (nil: none)
-	drift, base    []Readout // readout drift per round and the round-0 rates
-	round          int       // Run calls that recorded shots
-	flip           []float64 // scratch: channel flips of one setting
+	depol, dephase []float64    // channels before readout (nil: none)
+	pair           []float64    // correlated pair flips (nil: none)
+	drift, base    []Readout    // readout drift per round and the round-0 rates
+	round          int          // Run calls that recorded shots
+	flip           []float64    // scratch: channel flips of one setting
+	masks          [][4]uint64  // scratch: outcome flips of each Pauli, entangled setting
+	weights        [][4]float64 // scratch: Pauli probabilities of each qubit's channels
 
 	work  []complex128 // rotated amplitudes
 	cum   []float64    // scratch distribution when not cached
@@ -216,13 +218,6 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 	if err := checkRun(sim.n, settings, shots, rec); err != nil {
 		return err
 	}
-	if sim.hasChannels() {
-		for k, s := range settings {
-			if shots[k] > 0 && !s.IsLocal() {
-				return fmt.Errorf("estimate: setting %d (%s) is entangled; the depolarising and dephasing channels are modelled for product-basis settings only", k, s)
-			}
-		}
-	}
 	sim.driftedRates()
 	// Shot k's outcomes go to out[offset[k]:offset[k+1]]: n ≤ 24, one word.
 	offset := make([]int, len(settings)+1)
@@ -260,8 +255,18 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 	}
 	if h == sim.n {
 		for _, ks := range order {
-			cum := sim.distribution(settings[ks[0]])
-			f := sim.channelFlips(settings[ks[0]])
+			s := settings[ks[0]]
+			cum := sim.distribution(s)
+			if !s.IsLocal() && sim.hasChannels() {
+				sim.pauliFlips(s)
+				for _, k := range ks {
+					for j := offset[k]; j < offset[k+1]; j++ {
+						out[j] = sim.noisyEntangled(sim.search(cum))
+					}
+				}
+				continue
+			}
+			f := sim.channelFlips(s)
 			for _, k := range ks {
 				for j := offset[k]; j < offset[k+1]; j++ {
 					out[j] = sim.noisy(sim.search(cum), f)

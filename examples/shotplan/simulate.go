@@ -25,8 +25,8 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
 	prepare := fs.String("prepare", "ground", "state to measure: ground (the exact ground state of the sector), hf (the determinant filling the lowest orbitals with the sector's α and β electrons, spin orbitals interleaved α, β: the Hartree–Fock state of an FCIDUMP), or an amplitude file (\"shotplan amplitudes 1\", \"qubits N\", then INDEX RE IM lines)")
-	depol := fs.String("depolarizing", "", "probability P that each qubit is depolarised just before it is measured (every outcome flips with probability P/2; local settings only)")
-	dephase := fs.String("dephasing", "", "probability P that each qubit loses its coherence just before it is measured (X and Y outcomes flip with probability P/2; local settings only)")
+	depol := fs.String("depolarizing", "", "probability P that each qubit is depolarised just before it is measured (every outcome of a product-basis setting flips with probability P/2)")
+	dephase := fs.String("dephasing", "", "probability P that each qubit loses its coherence just before it is measured (X and Y outcomes of a product-basis setting flip with probability P/2)")
 	pairFlip := fs.String("pair-flip", "", "probability P that the read bits of each pair of neighbouring qubits q, q+1 flip together")
 	sf := addSectorFlags(fs)
 	return func() error {
@@ -101,13 +101,6 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		if opts.PairFlip, err = uniformRate("pair-flip", *pairFlip, h.Qubits()-1); err != nil {
 			return err
-		}
-		if opts.Depolarizing != nil || opts.Dephasing != nil {
-			for k, st := range f.Plan.Settings {
-				if !st.IsLocal() {
-					return badf("-depolarizing and -dephasing are modelled for product-basis settings; setting %d (%s) of %s is entangled", k+1, st, *plan)
-				}
-			}
 		}
 		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits (%s)", f.Plan.TotalShots(), h.Qubits(), sec), simulateBytes(h.Qubits(), f.Plan.TotalShots(), sec), memLimit); err != nil {
 			return err
