@@ -58,8 +58,10 @@ type DriftResult struct {
 // the probability of a rejection is at most level up to the chi-square
 // approximation, which the test trusts only with at least 5 expected
 // outcomes of each parity in every round; settings below that are not
-// tested. Drift of the readout rates changes the parity of every setting
-// with a Z-basis or rotated readout, which is what the test is for.
+// tested. Drifting readout rates move the parity of every setting whose
+// parity expectation is not zero (symmetric rates scale it by
+// ∏(1 − 2p_q); asymmetric rates also shift it), which is what the test is
+// for; a drift that leaves every parity unchanged is not detected.
 //
 // It returns an error for a level outside (0, 1) or counts that disagree in
 // length or exceed their shots.
