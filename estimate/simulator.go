@@ -44,6 +44,39 @@ type SimulatorOptions struct {
 	// qubit count.
 	Readout []Readout
 
+	// Depolarizing[q] is the probability p that qubit q is replaced by the
+	// maximally mixed state just before it is measured, ρ → (1−p)ρ + p·I/2:
+	// the outcome of every basis then flips with probability p/2. It models
+	// gate and idle noise that a test wants to see bias every term alike.
+	// Nil means none; otherwise one entry per qubit.
+	Depolarizing []float64
+
+	// Dephasing[q] is the probability p that qubit q loses its coherence
+	// just before it is measured, ρ → (1−p)ρ + p·(diagonal of ρ): X and Y
+	// outcomes flip with probability p/2, Z outcomes are untouched. It
+	// models T2 decay, which biases only terms with X or Y letters. Nil means
+	// none; otherwise one entry per qubit.
+	//
+	// Both channels act on the state before the measurement's basis change;
+	// for an entangled setting a Pauli error is carried through its
+	// circuit, so it may flip several outcome bits.
+	Dephasing []float64
+
+	// PairFlip[q] is the probability that the read bits of neighbouring
+	// qubits q and q+1 both flip together (crosstalk in the readout), drawn
+	// independently for every pair and shot after the independent Readout
+	// flips. It models correlated readout error, which per-qubit
+	// calibration does not describe. Nil means none; otherwise n−1 entries.
+	PairFlip []float64
+
+	// ReadoutDrift makes the readout rates drift slowly across rounds: in
+	// the r-th call of Run that records shots (r = 0, 1, ...), qubit q's
+	// rates are Readout[q] + r·ReadoutDrift[q] (Readout nil counts as zero),
+	// each clipped to [0, 1]. It models a device whose calibration ages
+	// during a long run, the case a stationarity test across rounds must
+	// catch. Nil means none; otherwise one entry per qubit, each in [−1, 1].
+	ReadoutDrift []Readout
+
 	// CacheBytes bounds the memory kept for the outcome distributions of
 	// settings already measured, so a setting that returns in a later Run
 	// is not recomputed (within one Run every distinct setting is computed
@@ -71,6 +104,14 @@ type Simulator struct {
 	state      []complex128
 	readoutErr []Readout
 	rng        *rand.Rand
+
+	depol, dephase []float64    // channels before readout (nil: none)
+	pair           []float64    // correlated pair flips (nil: none)
+	drift, base    []Readout    // readout drift per round and the round-0 rates
+	round          int          // Run calls that recorded shots
+	flip           []float64    // scratch: channel flips of one setting
+	masks          [][4]uint64  // scratch: outcome flips of each Pauli, entangled setting
+	weights        [][4]float64 // scratch: Pauli probabilities of each qubit's channels
 
 	work  []complex128 // rotated amplitudes
 	cum   []float64    // scratch distribution when not cached
@@ -100,6 +141,9 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Sim
 	if err := checkReadout(set.Readout, n, "NewSimulator"); err != nil {
 		return nil, err
 	}
+	if err := checkNoise(&set, n); err != nil {
+		return nil, err
+	}
 	norm := 0.0
 	for a, v := range state {
 		if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
@@ -119,14 +163,23 @@ func NewSimulator(state []complex128, seed uint64, opts *SimulatorOptions) (*Sim
 	if limit == 0 {
 		limit = defaultCacheBytes
 	}
-	return &Simulator{
+	sim := &Simulator{
 		n:          n,
 		state:      psi,
 		readoutErr: append([]Readout(nil), set.Readout...),
 		rng:        rand.New(rand.NewPCG(seed, 0x51a7e5eed)),
 		work:       make([]complex128, len(psi)),
 		cache:      distCache{limit: limit, m: make(map[string][]float64)},
-	}, nil
+		depol:      clone(set.Depolarizing),
+		dephase:    clone(set.Dephasing),
+		pair:       clone(set.PairFlip),
+	}
+	if set.ReadoutDrift != nil {
+		sim.drift = append([]Readout(nil), set.ReadoutDrift...)
+		sim.base = make([]Readout, n)
+		copy(sim.base, set.Readout)
+	}
+	return sim, nil
 }
 
 // GroundStateSimulator returns a simulator of the ground state of h, found
@@ -165,6 +218,7 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 	if err := checkRun(sim.n, settings, shots, rec); err != nil {
 		return err
 	}
+	sim.driftedRates()
 	// Shot k's outcomes go to out[offset[k]:offset[k+1]]: n ≤ 24, one word.
 	offset := make([]int, len(settings)+1)
 	for k, m := range shots {
@@ -201,10 +255,21 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 	}
 	if h == sim.n {
 		for _, ks := range order {
-			cum := sim.distribution(settings[ks[0]])
+			s := settings[ks[0]]
+			cum := sim.distribution(s)
+			if !s.IsLocal() && sim.hasChannels() {
+				sim.pauliFlips(s)
+				for _, k := range ks {
+					for j := offset[k]; j < offset[k+1]; j++ {
+						out[j] = sim.noisyEntangled(sim.search(cum))
+					}
+				}
+				continue
+			}
+			f := sim.channelFlips(s)
 			for _, k := range ks {
 				for j := offset[k]; j < offset[k+1]; j++ {
-					out[j] = sim.readout(sim.search(cum))
+					out[j] = sim.noisy(sim.search(cum), f)
 				}
 			}
 		}
@@ -222,13 +287,17 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 			sim.rotateHigh(settings[order[byKey[r]][0]], low)
 			for ; r < len(byKey) && keys[byKey[r]]>>(2*low) == prefix; r++ {
 				ks := order[byKey[r]]
+				f := sim.channelFlips(settings[ks[0]])
 				for _, k := range ks {
 					for j := offset[k]; j < offset[k+1]; j++ {
-						out[j] = sim.readout(sim.drawSplit(settings[k], low))
+						out[j] = sim.noisy(sim.drawSplit(settings[k], low), f)
 					}
 				}
 			}
 		}
+	}
+	if len(out) > 0 {
+		sim.round++
 	}
 	for k, s := range settings {
 		if shots[k] == 0 {
@@ -479,4 +548,12 @@ func (c *distCache) put(key string, size int) []float64 {
 	c.fifo = append(c.fifo, key)
 	c.bytes += size
 	return buf
+}
+
+// clone copies a float64 slice, keeping nil as nil.
+func clone(r []float64) []float64 {
+	if r == nil {
+		return nil
+	}
+	return append([]float64(nil), r...)
 }

@@ -73,3 +73,47 @@ func EigenState(s pauli.Setting, b pauli.Bits) ([]complex128, error) {
 	}
 	return ProductState(qubits)
 }
+
+// HartreeFockState returns the Slater determinant that fills the lowest
+// spatial orbitals, as a computational basis state on qubits spin orbitals
+// numbered as hamiltonian/molecule's Jordan–Wigner mapping numbers them
+// (interleaved: qubit 2p is orbital p with spin α, qubit 2p+1 the same
+// orbital with spin β; an occupied spin orbital is bit 1). With
+// nα = (electrons+spinTwice)/2 and nβ = (electrons−spinTwice)/2 it occupies
+// qubits 2p for p < nα and 2p+1 for p < nβ. When the orbitals are the
+// Hartree–Fock (canonical SCF) orbitals of an FCIDUMP file, listed in
+// energy order as FCIDUMP writers list them, this is the Hartree–Fock
+// determinant and its energy ⟨HF|H|HF⟩ is the SCF energy (Szabo & Ostlund,
+// Modern Quantum Chemistry, §3.4; common practice). It returns an error for
+// an odd qubit count, an electron count or spin that does not fit, or more
+// than [hamiltonian.MaxExactQubits] qubits.
+func HartreeFockState(qubits, electrons, spinTwice int) ([]complex128, error) {
+	b, err := hartreeFockBits(qubits, electrons, spinTwice)
+	if err != nil {
+		return nil, err
+	}
+	return BasisState(qubits, pauli.Bits{b})
+}
+
+// hartreeFockBits returns the occupation bits of HartreeFockState.
+func hartreeFockBits(qubits, electrons, spinTwice int) (uint64, error) {
+	if qubits < 2 || qubits%2 != 0 || qubits > hamiltonian.MaxExactQubits {
+		return 0, fmt.Errorf("estimate: Hartree–Fock state: %d qubits, want an even count from 2 to %d (two spin orbitals per orbital)", qubits, hamiltonian.MaxExactQubits)
+	}
+	orbitals := qubits / 2
+	if electrons < 0 || (electrons+spinTwice)%2 != 0 {
+		return 0, fmt.Errorf("estimate: Hartree–Fock state: %d electrons with 2S_z = %d: want electrons ≥ 0 and electrons + 2S_z even", electrons, spinTwice)
+	}
+	na, nb := (electrons+spinTwice)/2, (electrons-spinTwice)/2
+	if na < 0 || nb < 0 || na > orbitals || nb > orbitals {
+		return 0, fmt.Errorf("estimate: Hartree–Fock state: %d α and %d β electrons do not fit %d orbitals", na, nb, orbitals)
+	}
+	var b uint64
+	for p := range na {
+		b |= 1 << (2 * p)
+	}
+	for p := range nb {
+		b |= 1 << (2*p + 1)
+	}
+	return b, nil
+}

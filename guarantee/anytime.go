@@ -55,6 +55,11 @@ type AnytimeOptions struct {
 	// splitting; see [Anytime]).
 	Pilot    int
 	Variance *allocate.VarianceOptions
+	// DriftLevel is the level of the stationarity test run on the
+	// certified rounds at the end ([DriftTest]); zero means
+	// [DefaultDriftLevel]. Its result is AnytimeResult.Drift; a rejection
+	// does not change the interval, which assumes stationary shots.
+	DriftLevel float64
 }
 
 // AnytimeResult is the outcome of [Anytime].
@@ -84,6 +89,11 @@ type AnytimeResult struct {
 	Records, Pilot *estimate.Records
 	// History[k] is Bound after round k+1.
 	History []float64
+	// Drift is the stationarity test of the certified rounds at
+	// DriftLevel: Drift.Rejected reports that some setting's outcome
+	// parity changed across rounds, so the shots were not i.i.d. and the
+	// interval is not to be trusted.
+	Drift DriftResult
 }
 
 // Anytime measures on dev in rounds of shots whose settings are drawn
@@ -135,6 +145,8 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 		return nil, fmt.Errorf("guarantee: FirstRound = %d, want a non-negative number", s.FirstRound)
 	case s.Growth != 0 && !(s.Growth >= 1) || math.IsInf(s.Growth, 0):
 		return nil, fmt.Errorf("guarantee: Growth = %v, want 0 or at least 1", s.Growth)
+	case s.DriftLevel != 0 && !(s.DriftLevel > 0 && s.DriftLevel < 1):
+		return nil, fmt.Errorf("guarantee: DriftLevel = %v, want 0 or a level in (0, 1)", s.DriftLevel)
 	case s.Method != Betting && s.Method != BernsteinEpochs:
 		return nil, fmt.Errorf("guarantee: unknown method %d", int(s.Method))
 	case s.Plan.h == nil || s.Plan.Dist == nil || len(s.Plan.Settings) == 0:
@@ -183,7 +195,7 @@ func anytimePilot(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOpt
 		return nil, nil, err
 	}
 	pilotSum := 0.0
-	if err := drawRound(dev, d, rng, s.Pilot, pilot, func(k int, b pauli.Bits) error {
+	if err := drawRound(dev, d, rng, s.Pilot, pilot, nil, func(k int, b pauli.Bits) error {
 		mo.Observe(d.Settings[k], b)
 		pilotSum += d.Value(k, b) - d.Offset
 		return nil
@@ -250,10 +262,12 @@ func anytimeRounds(qubits int, dev estimate.Device, d *IID, rng *rand.Rand, s *A
 	sum := 0.0
 	size := float64(first)
 	budget := s.MaxShots - s.Pilot
+	drift := newDriftTracker()
 	for res.Shots < budget {
 		n := min(int(math.Ceil(size-1e-9)), budget-res.Shots)
 		size *= growth
-		if err := drawRound(dev, d, rng, n, rec, func(k int, b pauli.Bits) error {
+		drift.nextRound()
+		if err := drawRound(dev, d, rng, n, rec, drift, func(k int, b pauli.Bits) error {
 			x := d.Value(k, b)
 			sum += x
 			return cs.Add(x)
@@ -273,13 +287,15 @@ func anytimeRounds(qubits int, dev estimate.Device, d *IID, rng *rand.Rand, s *A
 	}
 	res.Estimate = (res.Interval[0] + res.Interval[1]) / 2
 	res.Mean = sum / float64(res.Shots)
-	return nil
+	var err error
+	res.Drift, err = drift.result(s.DriftLevel)
+	return err
 }
 
 // drawRound draws n settings from d, measures them on dev into rec with
 // one call, and calls use for every shot in draw order with the setting's
-// index and outcome.
-func drawRound(dev estimate.Device, d *IID, rng *rand.Rand, n int, rec *estimate.Records, use func(k int, b pauli.Bits) error) error {
+// index and outcome. A non-nil drift counts the round's parities.
+func drawRound(dev estimate.Device, d *IID, rng *rand.Rand, n int, rec *estimate.Records, drift *driftTracker, use func(k int, b pauli.Bits) error) error {
 	draws := make([]int, n)
 	counts := make([]int, len(d.Settings))
 	for j := range draws {
@@ -297,6 +313,11 @@ func drawRound(dev estimate.Device, d *IID, rng *rand.Rand, n int, rec *estimate
 	gs, first, err := measure(dev, settings, shots, rec)
 	if err != nil {
 		return err
+	}
+	if drift != nil {
+		for j, s := range settings {
+			drift.add(s, rec, gs[j], first[j], shots[j])
+		}
 	}
 	groups := make([]int, len(d.Settings))
 	used := make([]int, len(d.Settings))

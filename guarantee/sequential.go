@@ -31,6 +31,10 @@ type SequentialOptions struct {
 	// Exclude and Form are as in [EmpiricalOptions].
 	Exclude []bool
 	Form    EmpiricalForm
+	// DriftLevel is the level of the stationarity test run on all rounds
+	// at the end ([DriftTest]); zero means [DefaultDriftLevel]. Its result
+	// is SequentialResult.Drift.
+	DriftLevel float64
 }
 
 // SequentialResult is the outcome of [Sequential].
@@ -49,6 +53,11 @@ type SequentialResult struct {
 	History []float64
 	// Records holds every shot.
 	Records *estimate.Records
+	// Drift is the stationarity test of the rounds run, at DriftLevel:
+	// Drift.Rejected reports that some setting's outcome parity changed
+	// across rounds, so the rounds were not copies of one experiment and
+	// the bound, which assumes they were, is not to be trusted.
+	Drift DriftResult
 }
 
 // Sequential measures a base plan in rounds on dev and stops as soon as the
@@ -80,6 +89,8 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 		return nil, fmt.Errorf("guarantee: P = %v, want 0 or more than 1", s.P)
 	case s.Form < Pooled || s.Form > PerGroupMP:
 		return nil, fmt.Errorf("guarantee: unknown empirical form %d", int(s.Form))
+	case s.DriftLevel != 0 && !(s.DriftLevel > 0 && s.DriftLevel < 1):
+		return nil, fmt.Errorf("guarantee: DriftLevel = %v, want 0 or a level in (0, 1)", s.DriftLevel)
 	}
 	if err := checkExclude(h, s.Exclude); err != nil {
 		return nil, err
@@ -109,6 +120,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 	res := &SequentialResult{Records: rec}
 	roundShots := make([]int, len(c.mult))
 	var buf []int8
+	drift := newDriftTracker()
 	for k := 1; ; k++ {
 		f := math.Ceil(math.Pow(growth, float64(k-1)) - 1e-9)
 		if f > float64(s.MaxShots/c.shots) {
@@ -125,6 +137,10 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 		if err != nil {
 			return nil, fmt.Errorf("guarantee: round %d: %w", k, err)
 		}
+		drift.nextRound()
+		for q, st := range c.settings {
+			drift.add(st, rec, groups[q], first[q], roundShots[q])
+		}
 		for q, g := range gs {
 			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
 		}
@@ -135,6 +151,9 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 			res.Certified = true
 			break
 		}
+	}
+	if res.Drift, err = drift.result(s.DriftLevel); err != nil {
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	return res, nil
 }

@@ -8,7 +8,7 @@
 //	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] -o PLAN
 //	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N]
 //	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR
-//	shotplan simulate -ham H -plan PLAN [-seed S] [-readout P|p01=X,p10=Y|@FILE] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
+//	shotplan simulate -ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
 //	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D]] [-observables N,Sz,S2]
 //	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS]
 //	shotplan calibrate -qubits N -shots M -o PLAN
@@ -51,6 +51,14 @@
 // refused. simulate -state FILE keeps the ground state in FILE (a header
 // naming the Hamiltonian's hash and the sector, then the non-zero amplitudes)
 // so that later runs with the same Hamiltonian and sector skip the solver.
+// simulate -prepare hf measures the determinant that fills the lowest
+// orbitals with the sector's α and β electrons (the Hartree–Fock state of an
+// FCIDUMP, whose orbitals come in energy order); -prepare FILE reads a state
+// from an amplitude file (estimate.ReadAmplitudes: a line "shotplan
+// amplitudes 1", a line "qubits N", then "INDEX RE IM" per non-zero
+// amplitude). -depolarizing, -dephasing and -pair-flip add the simulator's
+// noise models (estimate.SimulatorOptions) with one rate for every qubit or
+// neighbouring pair.
 //
 // Bad input — a missing or malformed file, an unknown strategy, a plan made
 // for another Hamiltonian — ends the command with exit status 2 and one line

@@ -35,7 +35,7 @@ var commands = []command{
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta δ] [-top N]", certifyHelp},
 	{"budget", "count the shots a target accuracy needs, per strategy", budgetFlags, "-ham H -eps E [-delta δ] [-strategy NAME|all] [-proxy worst|exact|BITS]", budgetHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR", nil},
-	{"simulate", "simulate a plan's shots on the exact ground state", simulateFlags, "-ham H -plan PLAN [-seed S] [-readout P|p01=X,p10=Y|@FILE] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS", nil},
+	{"simulate", "simulate a plan's shots on the exact ground state or a prepared state", simulateFlags, "-ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS", nil},
 	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D]] [-observables N,Sz,S2]", estimateHelp},
 	{"calibrate", "write the readout calibration plan: basis states to prepare and shots of each", calibrateFlags, "-qubits N -shots M -o PLAN", calibrateHelp},
 	{"rounds start", "begin a round-by-round certified run; its state goes to one file", roundsStartFlags, "-ham H -eps E [-delta δ] [-strategy NAME] -o STATE", roundsHelp},

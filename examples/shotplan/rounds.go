@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"math/bits"
 	"math/rand/v2"
 	"os"
 	"slices"
@@ -85,6 +86,34 @@ type roundsRun struct {
 	// interval and radius after the last round (bias included).
 	interval [2]float64
 	radius   float64
+	// parity holds, per setting of the distribution, its shots and
+	// odd-parity outcomes in every round, for the drift test.
+	parity []guarantee.DriftCounts
+}
+
+// countParities adds a round's shots (setting index of each draw, packed
+// outcomes) to the parity counts of the drift test.
+func (r *roundsRun) countParities(draws []int32, packed []byte) {
+	if r.parity == nil {
+		r.parity = make([]guarantee.DriftCounts, len(r.d.Settings))
+		for k := range r.parity {
+			r.parity[k].Setting = r.d.Settings[k]
+		}
+	}
+	for k := range r.parity {
+		r.parity[k].Shots = append(r.parity[k].Shots, 0)
+		r.parity[k].Odd = append(r.parity[k].Odd, 0)
+	}
+	w := bytesPerShot(r.h.Qubits())
+	last := len(r.parity[0].Shots) - 1
+	for j, k := range draws {
+		ones := 0
+		for _, c := range packed[j*w : (j+1)*w] {
+			ones += bits.OnesCount8(c)
+		}
+		r.parity[k].Shots[last]++
+		r.parity[k].Odd[last] += ones & 1
+	}
 }
 
 func (r *roundsRun) certified() bool {
@@ -276,6 +305,7 @@ func parseRoundsState(path string, data []byte, replay bool) (*roundsRun, error)
 		if r.outcomesDigest(draws, packed) != e.Digest {
 			return nil, stateError(path, entry+".records_sha256", "does not match the round's outcomes (the file was changed)")
 		}
+		r.countParities(draws, packed)
 		r.used += e.Shots
 		r.done++
 		if !replay {
@@ -716,6 +746,7 @@ func roundsAddFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 		}
 		entry.Outcomes = base64.StdEncoding.EncodeToString(packed)
+		r.countParities(draws, packed)
 		r.used += n
 		r.done++
 		r.update()
@@ -760,7 +791,23 @@ func (r *roundsRun) report(e *env) error {
 		Epsilon  float64    `json:"target"`
 		Delta    float64    `json:"delta"`
 		Verdict  string     `json:"verdict"`
-	}{len(r.st.Rounds), r.used, r.interval, (r.interval[0] + r.interval[1]) / 2, r.radius, r.st.Epsilon, r.st.Delta, verdict}
+		// The stationarity test of the rounds (guarantee.DriftTest at
+		// guarantee.DefaultDriftLevel).
+		DriftP       float64 `json:"drift_p_value"`
+		DriftTested  int     `json:"drift_settings_tested"`
+		DriftSetting string  `json:"drift_setting,omitempty"`
+		Drifted      bool    `json:"drift_rejected"`
+	}{Rounds: len(r.st.Rounds), Shots: r.used, Interval: r.interval, Estimate: (r.interval[0] + r.interval[1]) / 2, Radius: r.radius, Epsilon: r.st.Epsilon, Delta: r.st.Delta, Verdict: verdict, DriftP: 1}
+	if r.parity != nil {
+		d, err := guarantee.DriftTest(r.parity, guarantee.DefaultDriftLevel)
+		if err != nil {
+			return err
+		}
+		res.DriftP, res.DriftTested, res.Drifted = d.PValue, d.Tested, d.Rejected
+		if d.Setting >= 0 {
+			res.DriftSetting = r.parity[d.Setting].Setting.String()
+		}
+	}
 	if len(r.st.Rounds) == 0 {
 		res.Interval, res.Estimate, res.Radius = [2]float64{math.Inf(-1), math.Inf(1)}, 0, math.Inf(1)
 	}
@@ -783,6 +830,10 @@ func (r *roundsRun) report(e *env) error {
 	}
 	fmt.Fprintf(e.stdout, "after %s and %d shots: energy in [%.8f, %.8f] (%.8f ± %.3g) with probability ≥ %g%%, at every round at once\n",
 		plural(res.Rounds, "round"), res.Shots, res.Interval[0], res.Interval[1], res.Estimate, res.Radius, 100*(1-r.st.Delta))
+	if res.Drifted {
+		fmt.Fprintf(e.stdout, "warning: the outcomes of %s changed across rounds (drift test p = %.3g < %g over %s): the rounds are not copies of one experiment, so the interval is not to be trusted\n",
+			res.DriftSetting, res.DriftP, guarantee.DefaultDriftLevel, plural(res.DriftTested, "setting"))
+	}
 	switch verdict {
 	case "continue":
 		fmt.Fprintf(e.stdout, "continue: ±%.3g > ε = %g; next: shotplan rounds next -state %s -o round%d.json\n", res.Radius, r.st.Epsilon, r.path, res.Rounds+1)
@@ -806,6 +857,8 @@ Every shot draws its setting at random from the reference plan's shares; the
 interval is an anytime-valid betting confidence sequence, so it holds at
 every round at once and the run may stop whenever it is narrow enough. The
 state file is replaced atomically after each round; re-adding a round's
-records is refused. Shot noise only: readout error and drift are not covered.
+records is refused. Shot noise only: readout error is not covered. Drift is
+tested: every report checks that each setting's outcome parity stayed the
+same across rounds (guarantee.DriftTest) and warns when it did not.
 `
 }

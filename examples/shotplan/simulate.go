@@ -6,6 +6,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strconv"
+	"strings"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -22,6 +24,10 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	out := fs.String("o", "", "output records file: CSV, or JSON if the name ends in .json (required; - for CSV on standard output)")
 	memLimit := memoryLimitFlag(fs, "the simulation")
 	stateFile := fs.String("state", "", "ground-state file: read if it exists (made for the same Hamiltonian and sector), else computed and written, so later runs skip the exact solver")
+	prepare := fs.String("prepare", "ground", "state to measure: ground (the exact ground state of the sector), hf (the determinant filling the lowest orbitals with the sector's α and β electrons, spin orbitals interleaved α, β: the Hartree–Fock state of an FCIDUMP), or an amplitude file (\"shotplan amplitudes 1\", \"qubits N\", then INDEX RE IM lines)")
+	depol := fs.String("depolarizing", "", "probability P that each qubit is depolarised just before it is measured (every outcome of a product-basis setting flips with probability P/2)")
+	dephase := fs.String("dephasing", "", "probability P that each qubit loses its coherence just before it is measured (X and Y outcomes of a product-basis setting flip with probability P/2)")
+	pairFlip := fs.String("pair-flip", "", "probability P that the read bits of each pair of neighbouring qubits q, q+1 flip together")
 	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -83,32 +89,59 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		opts := &estimate.SimulatorOptions{Readout: ro}
+		if opts.Depolarizing, err = uniformRate("depolarizing", *depol, h.Qubits()); err != nil {
+			return err
+		}
+		if opts.Dephasing, err = uniformRate("dephasing", *dephase, h.Qubits()); err != nil {
+			return err
+		}
+		if *pairFlip != "" && h.Qubits() < 2 {
+			return badf("-pair-flip needs at least 2 qubits")
+		}
+		if opts.PairFlip, err = uniformRate("pair-flip", *pairFlip, h.Qubits()-1); err != nil {
+			return err
+		}
 		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits (%s)", f.Plan.TotalShots(), h.Qubits(), sec), simulateBytes(h.Qubits(), f.Plan.TotalShots(), sec), memLimit); err != nil {
 			return err
 		}
 		stop := e.busy(fmt.Sprintf("simulating %d shots on %d qubits", f.Plan.TotalShots(), h.Qubits()))
 		defer stop()
-		var ground hamiltonian.Eigenpair
-		loaded := false
-		if *stateFile != "" {
-			if _, err := os.Stat(*stateFile); err == nil {
-				if ground, err = readState(*stateFile, h, sec); err != nil {
-					return bad(err)
-				}
-				loaded = true
-			}
-		}
-		if !loaded {
-			if ground, err = groundState(h, sec); err != nil {
+		var state []complex128
+		var ground *hamiltonian.Eigenpair
+		what := ""
+		switch *prepare {
+		case "ground":
+			g, err := groundOrCached(h, sec, *stateFile)
+			if err != nil {
 				return err
 			}
-			if *stateFile != "" {
-				if err := writeState(*stateFile, h, sec, ground); err != nil {
-					return bad(err)
-				}
+			ground, state = &g, g.State
+			what = fmt.Sprintf("the exact ground state (%s, energy %.10f)", sec, g.Energy)
+		case "hf":
+			if sec.sector == nil {
+				return badf("-prepare hf needs a number of electrons: give -electrons (and -spin), or an FCIDUMP file")
 			}
+			if state, err = estimate.HartreeFockState(h.Qubits(), sec.electrons, sec.spinTwice); err != nil {
+				return bad(err)
+			}
+			what = fmt.Sprintf("the Hartree–Fock determinant (%s, energy %.10f)", sec, h.Energy(state))
+		default:
+			if *stateFile != "" {
+				return badf("-state keeps a computed ground state; it does not go with -prepare %s", *prepare)
+			}
+			if err := notInput(*out, *prepare); err != nil {
+				return err
+			}
+			if state, err = estimate.ReadAmplitudesFile(*prepare); err != nil {
+				return bad(err)
+			}
+			if len(state) != 1<<h.Qubits() {
+				return badf("%s: the state has %d amplitudes; the Hamiltonian %s has %d qubits (2^%d amplitudes)", *prepare, len(state), *ham, h.Qubits(), h.Qubits())
+			}
+			what = fmt.Sprintf("the state of %s (energy %.10f)", *prepare, h.Energy(state))
 		}
-		sim, err := estimate.NewSimulator(ground.State, *seed, &estimate.SimulatorOptions{Readout: ro})
+		sim, err := estimate.NewSimulator(state, *seed, opts)
 		if errors.Is(err, estimate.ErrFormat) {
 			return bad(err) // the library refused an input value
 		}
@@ -138,21 +171,34 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 		}
 		res := struct {
-			Output       string  `json:"output"`
-			Shots        int     `json:"shots"`
-			Seed         uint64  `json:"seed"`
-			GroundEnergy float64 `json:"ground_energy"`
-			Readout      string  `json:"readout,omitempty"`
-			Sector       string  `json:"sector"`
-			Calibration  string  `json:"calibration_output,omitempty"`
-			CalShots     int     `json:"calibration_shots,omitempty"`
-		}{*out, rec.Len(), *seed, ground.Energy, *readout, sec.String(), *calOut, *calShots}
+			Output       string   `json:"output"`
+			Shots        int      `json:"shots"`
+			Seed         uint64   `json:"seed"`
+			Prepared     string   `json:"prepared"`
+			Energy       float64  `json:"energy"`
+			GroundEnergy *float64 `json:"ground_energy,omitempty"`
+			Readout      string   `json:"readout,omitempty"`
+			Depolarizing string   `json:"depolarizing,omitempty"`
+			Dephasing    string   `json:"dephasing,omitempty"`
+			PairFlip     string   `json:"pair_flip,omitempty"`
+			Sector       string   `json:"sector"`
+			Calibration  string   `json:"calibration_output,omitempty"`
+			CalShots     int      `json:"calibration_shots,omitempty"`
+		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, sec.String(), *calOut, *calShots}
+		if ground != nil {
+			res.GroundEnergy, res.Energy = &ground.Energy, ground.Energy
+		}
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on the exact ground state (%s, energy %.10f), seed %d", outName(*out), rec.Len(), sec, ground.Energy, *seed)
+		fmt.Fprintf(e.stdout, "wrote %s: %d shots simulated on %s, seed %d", outName(*out), rec.Len(), what, *seed)
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
+		}
+		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", *pairFlip}} {
+			if n[1] != "" {
+				fmt.Fprintf(e.stdout, ", %s %s", n[0], n[1])
+			}
 		}
 		fmt.Fprintln(e.stdout)
 		if *calOut != "" {
@@ -160,4 +206,46 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		return nil
 	}
+}
+
+// groundOrCached returns the ground state of h in the sector, read from the
+// state file if it exists, else computed (and written to the file if one is
+// named).
+func groundOrCached(h *hamiltonian.Hamiltonian, sec chosenSector, stateFile string) (hamiltonian.Eigenpair, error) {
+	if stateFile != "" {
+		if _, err := os.Stat(stateFile); err == nil {
+			g, err := readState(stateFile, h, sec)
+			if err != nil {
+				return g, bad(err)
+			}
+			return g, nil
+		}
+	}
+	g, err := groundState(h, sec)
+	if err != nil {
+		return g, err
+	}
+	if stateFile != "" {
+		if err := writeState(stateFile, h, sec, g); err != nil {
+			return g, bad(err)
+		}
+	}
+	return g, nil
+}
+
+// uniformRate parses the probability of flag name (empty: none) and
+// returns it repeated count times.
+func uniformRate(name, s string, count int) ([]float64, error) {
+	if s == "" {
+		return nil, nil
+	}
+	p, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil || !(p >= 0 && p <= 1) {
+		return nil, badf("-%s %q: want a probability in [0, 1]", name, s)
+	}
+	r := make([]float64, count)
+	for i := range r {
+		r[i] = p
+	}
+	return r, nil
 }
