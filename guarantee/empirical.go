@@ -263,37 +263,37 @@ func approxRadiusLOO(gs []*groupStat, delta, loo float64) float64 {
 	return distuv.UnitNormal.Quantile(1-delta/2) * math.Sqrt(v)
 }
 
-// groupRows gives the kept covered terms of a group (in table order) and
-// their weights; the slices are valid until the next call.
-type groupRows func(q int) (rows []int, coef []float64)
+// groupRows gives the kept covered terms of a group (in table order), their
+// weights and half = Σ|weights|, the bound on the group's |w|; the slices
+// are valid until the next call.
+type groupRows func(q int) (rows []int, coef []float64, half float64)
 
 // prepareGroups builds the groups of c's distinct settings with per-term
 // weights coef_i (h_i/N_i, zero for excluded and uncovered terms), reading
 // the covered terms from c instead of scanning the table again. The groups
 // keep no copy of their terms: the returned groupRows cuts them, one group
 // at a time, from c's lists, which it sorts into table order in place
-// (the order Table.Covered gives, so every sum runs in that order).
+// (the order Table.Covered gives, so every sum runs in that order). A
+// group's half is set by the caller from groupRows.
 func prepareGroups(c *coverage, coef []float64) ([]*groupStat, groupRows) {
 	c.sortTerms()
 	gs := make([]*groupStat, len(c.settings))
 	for q, s := range c.settings {
-		g := &groupStat{setting: s}
-		for _, i := range c.terms(q) {
-			g.half += math.Abs(coef[i])
-		}
-		gs[q] = g
+		gs[q] = &groupStat{setting: s}
 	}
 	var rows []int
 	var cf []float64
-	return gs, func(q int) ([]int, []float64) {
+	return gs, func(q int) ([]int, []float64, float64) {
 		rows, cf = rows[:0], cf[:0]
+		half := 0.0
 		for _, i := range c.terms(q) {
 			if coef[i] != 0 {
 				rows = append(rows, int(i))
 				cf = append(cf, coef[i])
+				half += math.Abs(coef[i])
 			}
 		}
-		return rows, cf
+		return rows, cf, half
 	}
 }
 
@@ -360,7 +360,8 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 	var buf []int8
 	for g, gr := range gs {
 		gr.weight = float64(shots[g])
-		rows, cf := rowsOf(g)
+		rows, cf, half := rowsOf(g)
+		gr.half = half
 		buf = gr.addOutcomes(h.Table(), rows, cf, func(j int) pauli.Bits { return rec.Outcome(g, j) }, shots[g], buf)
 	}
 	return fixedBound(h, gs, rowsOf, coef, bias, rec.Len(), delta, o.Form, o.Shares, rec.Outcome), nil

@@ -67,7 +67,7 @@ func TestEmpiricalSharedRows(t *testing.T) {
 			}
 			buf = gs[g].addOutcomes(h.Table(), rows[g], cfs[g], func(j int) pauli.Bits { return rec.Outcome(g, j) }, shots[g], buf)
 		}
-		copies := func(q int) ([]int, []float64) { return rows[q], cfs[q] }
+		copies := func(q int) ([]int, []float64, float64) { return rows[q], cfs[q], gs[q].half }
 		want := fixedBound(h, gs, copies, coef, bias, rec.Len(), 0.05, form, nil, rec.Outcome)
 		sameBound(t, form.String()+", stored lists", got, want)
 
@@ -82,7 +82,8 @@ func TestEmpiricalSharedRows(t *testing.T) {
 		gs2, rowsOf := prepareGroups(c, coef)
 		for g, gr := range gs2 {
 			gr.weight = float64(shots[g])
-			r, cf := rowsOf(g)
+			r, cf, half := rowsOf(g)
+			gr.half = half
 			buf = gr.addOutcomes(h.Table(), r, cf, func(j int) pauli.Bits { return rec.Outcome(g, j) }, shots[g], buf)
 		}
 		sameBound(t, form.String()+", rescanned lists", fixedBound(h, gs2, rowsOf, coef, bias, rec.Len(), 0.05, form, nil, rec.Outcome), want)

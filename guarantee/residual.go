@@ -51,7 +51,7 @@ func residuals(tab *pauli.Table, gs []*groupStat, rowsOf groupRows, coef []float
 	}
 	n := 0
 	for gi, g := range gs {
-		rows, _ := rowsOf(gi)
+		rows, _, _ := rowsOf(gi)
 		for j := range g.t {
 			k := n % residualFolds
 			for a, s := range samples(g, rows, gi, j) {
@@ -76,7 +76,7 @@ func residuals(tab *pauli.Table, gs []*groupStat, rowsOf groupRows, coef []float
 	}
 	n = 0
 	for gi, g := range gs {
-		rows, gcoef := rowsOf(gi)
+		rows, gcoef, _ := rowsOf(gi)
 		for j := range g.t {
 			k := n % residualFolds
 			n++

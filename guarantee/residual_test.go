@@ -210,14 +210,15 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 	for r := range reps {
 		gs := make([]*groupStat, len(tmpl))
 		for g, tg := range tmpl {
-			gs[g] = &groupStat{setting: tg.setting, half: tg.half, weight: float64(shots[g])}
+			gs[g] = &groupStat{setting: tg.setting, weight: float64(shots[g])}
 		}
 		out := func(g, j int) pauli.Bits {
 			k := r*shots[g] + j
 			return pauli.Bits(outs[g][k : k+1])
 		}
 		for g, gr := range gs {
-			rows, cf := rowsOf(g)
+			rows, cf, half := rowsOf(g)
+			gr.half = half
 			buf = gr.addOutcomes(mc.h.Table(), rows, cf, func(j int) pauli.Bits { return out(g, j) }, shots[g], buf)
 		}
 		b := fixedBound(mc.h, gs, rowsOf, coef, bias, p.TotalShots(), delta, Residual, nil, out)

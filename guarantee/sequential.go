@@ -126,7 +126,8 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 			return nil, fmt.Errorf("guarantee: round %d: %w", k, err)
 		}
 		for q, g := range gs {
-			rows, cf := rowsOf(q)
+			rows, cf, half := rowsOf(q)
+			g.half = half
 			buf = g.addOutcomes(h.Table(), rows, cf, func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
 		}
 		res.Rounds, res.Copies = k, res.Copies+copies
