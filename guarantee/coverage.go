@@ -18,7 +18,7 @@ type coverage struct {
 	h        *hamiltonian.Hamiltonian
 	settings []pauli.Setting // distinct, in order of first use
 	mult     []int           // m_Q
-	rows     [][]int32       // rows[q] are the terms setting q covers, for q < len(rows) (the stored prefix)
+	rows     [][]int32       // rows[q] are the terms setting q covers; nil when not stored
 	cover    []int           // N_i
 	shots    int             // Σ m_Q
 
@@ -34,9 +34,9 @@ func newCoverage(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 }
 
 // newCoverageStoring is newCoverage keeping at most maxStored (setting, term)
-// cover pairs in memory (4 bytes each): the lists of the first settings up
-// to that total; the covered terms of the settings past it are found again
-// by a scan when needed, which costs time instead of memory. Tests lower it to exercise the rescans.
+// cover pairs in memory (4 bytes each); past it, the covered terms of a
+// setting are found again by a scan when needed, which costs time instead of
+// memory. Tests lower it to exercise the rescans.
 func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, maxStored int) (*coverage, error) {
 	if h == nil {
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian")
@@ -69,9 +69,9 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 	c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
 	c.rows = make([][]int32, len(c.settings))
 	var block []int32
-	stored, full := 0, false
+	stored := 0
 	for q, s := range c.settings {
-		if full {
+		if c.rows == nil {
 			c.b32 = c.covered(c.b32[:0], s)
 			for _, i := range c.b32 {
 				c.cover[i] += c.mult[q]
@@ -95,8 +95,7 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 			c.cover[i] += c.mult[q]
 		}
 		if stored += len(row); stored > maxStored {
-			// Keep the settings stored so far; the rest are rescanned.
-			c.rows, block, full = c.rows[:q], nil, true
+			c.rows, block = nil, nil
 			continue
 		}
 		c.rows[q] = row
@@ -107,7 +106,7 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 // terms returns the indices of the terms distinct setting q covers. The
 // slice is valid until the next call.
 func (c *coverage) terms(q int) []int32 {
-	if q < len(c.rows) {
+	if c.rows != nil {
 		return c.rows[q]
 	}
 	c.b32 = c.covered(c.b32[:0], c.settings[q])
