@@ -6,6 +6,7 @@ import (
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/cputime"
@@ -102,4 +103,37 @@ func BenchmarkCertifyGreedy(b *testing.B) {
 			cputime.Report(b, cpu)
 		})
 	}
+}
+
+// BenchmarkEmpiricalLarge measures the data bounds of the estimate command
+// (pooled and residual) for 10^5 shots on 10^5 distinct settings, drawn
+// uniformly, of a random 4-local Hamiltonian of 10^5 terms on 50 qubits,
+// with random outcomes. Peak memory: run under /usr/bin/time -v.
+func BenchmarkEmpiricalLarge(b *testing.B) {
+	const n, terms, shots = 50, 100_000, 100_000
+	h, err := hamiltonian.RandomLocal(n, terms, 4, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(31, 32))
+	rec := estimate.NewRecords(n)
+	letters := make([]byte, n)
+	for range shots {
+		for q := range letters {
+			letters[q] = "XYZ"[rng.IntN(3)]
+		}
+		if err := rec.Add(pauli.MustParseSetting(string(letters)), pauli.Bits{rng.Uint64() & (1<<n - 1)}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportAllocs()
+	cpu := cputime.Now()
+	for b.Loop() {
+		for _, form := range []EmpiricalForm{Pooled, Residual} {
+			if _, err := Empirical(h, rec, 0.025, &EmpiricalOptions{Form: form}); err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
+	cputime.Report(b, cpu)
 }

@@ -3,6 +3,7 @@ package guarantee
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
@@ -21,8 +22,9 @@ type coverage struct {
 	cover    []int           // N_i
 	shots    int             // Σ m_Q
 
-	index *coverindex.Index
-	b32   []int32 // scratch for rescans
+	index  *coverindex.Index
+	b32    []int32 // scratch for rescans
+	sorted bool    // terms returns the terms in table order
 }
 
 // newCoverage checks a plan against h and builds its coverage. Entries with
@@ -108,7 +110,19 @@ func (c *coverage) terms(q int) []int32 {
 		return c.rows[q]
 	}
 	c.b32 = c.covered(c.b32[:0], c.settings[q])
+	if c.sorted {
+		slices.Sort(c.b32)
+	}
 	return c.b32
+}
+
+// sortTerms puts the terms of every setting in table order from now on:
+// the stored lists are sorted in place, rescans as they are made.
+func (c *coverage) sortTerms() {
+	for _, r := range c.rows {
+		slices.Sort(r)
+	}
+	c.sorted = true
 }
 
 // weights returns a_i = |h_i|/N_i, zero for uncovered terms.

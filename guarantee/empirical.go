@@ -3,7 +3,6 @@ package guarantee
 import (
 	"fmt"
 	"math"
-	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
@@ -138,8 +137,6 @@ type groupStat struct {
 	setting  pauli.Setting
 	weight   float64 // factor of the mean in the estimate
 	half     float64 // |w| ≤ half
-	rows     []int   // kept covered terms
-	coef     []float64
 	t        int
 	sum, ssq float64 // Σ (w − shift), Σ (w − shift)²
 	shift    float64 // first value, for a stable variance
@@ -166,22 +163,23 @@ func (g *groupStat) variance() float64 {
 	return max(0, (g.ssq-float64(g.t)*m*m)/float64(g.t-1))
 }
 
-// addOutcomes adds the w values of outcomes (w words each).
-func (g *groupStat) addOutcomes(tab *pauli.Table, out func(j int) pauli.Bits, count int, buf []int8) []int8 {
-	if cap(buf) < len(g.rows) {
-		buf = make([]int8, len(g.rows))
+// addOutcomes adds the w values of outcomes (w words each), where rows
+// are the group's kept covered terms in table order and coef their weights.
+func (g *groupStat) addOutcomes(tab *pauli.Table, rows []int, coef []float64, out func(j int) pauli.Bits, count int, buf []int8) []int8 {
+	if cap(buf) < len(rows) {
+		buf = make([]int8, len(rows))
 	}
-	buf = buf[:len(g.rows)]
+	buf = buf[:len(rows)]
 	for j := range count {
 		if g.setting.IsLocal() {
-			tab.Samples(buf, g.rows, out(j))
+			tab.Samples(buf, rows, out(j))
 		} else {
 			// An entangled setting reads each term through its circuit.
-			tab.SettingSamples(buf, g.rows, g.setting, out(j))
+			tab.SettingSamples(buf, rows, g.setting, out(j))
 		}
 		w := 0.0
 		for k, s := range buf {
-			w += g.coef[k] * float64(s)
+			w += coef[k] * float64(s)
 		}
 		g.add(w)
 	}
@@ -265,26 +263,38 @@ func approxRadiusLOO(gs []*groupStat, delta, loo float64) float64 {
 	return distuv.UnitNormal.Quantile(1-delta/2) * math.Sqrt(v)
 }
 
+// groupRows gives the kept covered terms of a group (in table order), their
+// weights and half = Σ|weights|, the bound on the group's |w|; the slices
+// are valid until the next call.
+type groupRows func(q int) (rows []int, coef []float64, half float64)
+
 // prepareGroups builds the groups of c's distinct settings with per-term
 // weights coef_i (h_i/N_i, zero for excluded and uncovered terms), reading
-// the covered terms from c instead of scanning the table again.
-func prepareGroups(c *coverage, coef []float64) []*groupStat {
+// the covered terms from c instead of scanning the table again. The groups
+// keep no copy of their terms: the returned groupRows cuts them, one group
+// at a time, from c's lists, which it sorts into table order in place
+// (the order Table.Covered gives, so every sum runs in that order). A
+// group's half is set by the caller from groupRows.
+func prepareGroups(c *coverage, coef []float64) ([]*groupStat, groupRows) {
+	c.sortTerms()
 	gs := make([]*groupStat, len(c.settings))
 	for q, s := range c.settings {
-		g := &groupStat{setting: s}
+		gs[q] = &groupStat{setting: s}
+	}
+	var rows []int
+	var cf []float64
+	return gs, func(q int) ([]int, []float64, float64) {
+		rows, cf = rows[:0], cf[:0]
+		half := 0.0
 		for _, i := range c.terms(q) {
 			if coef[i] != 0 {
-				g.rows = append(g.rows, int(i))
+				rows = append(rows, int(i))
+				cf = append(cf, coef[i])
+				half += math.Abs(coef[i])
 			}
 		}
-		slices.Sort(g.rows) // table order, as Table.Covered gives them
-		for _, i := range g.rows {
-			g.coef = append(g.coef, coef[i])
-			g.half += math.Abs(coef[i])
-		}
-		gs[q] = g
+		return rows, cf, half
 	}
-	return gs
 }
 
 // checkExclude validates an exclusion list.
@@ -346,20 +356,23 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 		return nil, err
 	}
 	coef, bias := estimatorWeights(h, c.cover, 1, o.Exclude)
-	gs := prepareGroups(c, coef)
+	gs, rowsOf := prepareGroups(c, coef)
 	var buf []int8
 	for g, gr := range gs {
 		gr.weight = float64(shots[g])
-		buf = gr.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(g, j) }, shots[g], buf)
+		rows, cf, half := rowsOf(g)
+		gr.half = half
+		buf = gr.addOutcomes(h.Table(), rows, cf, func(j int) pauli.Bits { return rec.Outcome(g, j) }, shots[g], buf)
 	}
-	return fixedBound(h, gs, coef, bias, rec.Len(), delta, o.Form, o.Shares, rec.Outcome), nil
+	return fixedBound(h, gs, rowsOf, coef, bias, rec.Len(), delta, o.Form, o.Shares, rec.Outcome), nil
 }
 
 // fixedBound finishes the data bound of a fixed plan from groups whose
-// weight is their number of shots; out(g, j) is outcome j of group g.
-func fixedBound(h *hamiltonian.Hamiltonian, gs []*groupStat, coef []float64, bias float64, shots int, delta float64, form EmpiricalForm, shares []float64, out func(g, j int) pauli.Bits) *DataBound {
+// weight is their number of shots, rowsOf giving their terms; out(g, j) is
+// outcome j of group g.
+func fixedBound(h *hamiltonian.Hamiltonian, gs []*groupStat, rowsOf groupRows, coef []float64, bias float64, shots int, delta float64, form EmpiricalForm, shares []float64, out func(g, j int) pauli.Bits) *DataBound {
 	b := finishBound(h, gs, bias, shots, delta, form, shares)
-	st := residuals(h.Table(), gs, coef, out)
+	st := residuals(h.Table(), gs, rowsOf, coef, out)
 	b.ApproxRadius = approxRadiusLOO(gs, delta, st.loo)
 	if form == Residual {
 		w := 0.0

@@ -187,7 +187,8 @@ func RandomizedBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, d *Rando
 	}
 	all := &groupStat{weight: 1, half: d.Width / 2}
 	tab := h.Table()
-	var rows []int
+	var rows, kept []int
+	var kcoef []float64
 	var buf []int8
 	for g := range rec.Groups() {
 		s := rec.Setting(g)
@@ -195,14 +196,14 @@ func RandomizedBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, d *Rando
 			return nil, fmt.Errorf("guarantee: recorded setting %s cannot be drawn from the distribution", s)
 		}
 		rows = tab.Covered(rows[:0], s)
-		all.rows, all.coef = all.rows[:0], all.coef[:0]
+		kept, kcoef = kept[:0], kcoef[:0]
 		for _, i := range rows {
 			if coef[i] != 0 {
-				all.rows = append(all.rows, i)
-				all.coef = append(all.coef, coef[i])
+				kept = append(kept, i)
+				kcoef = append(kcoef, coef[i])
 			}
 		}
-		buf = all.addOutcomes(tab, func(j int) pauli.Bits { return rec.Outcome(g, j) }, rec.GroupLen(g), buf)
+		buf = all.addOutcomes(tab, kept, kcoef, func(j int) pauli.Bits { return rec.Outcome(g, j) }, rec.GroupLen(g), buf)
 	}
 	return finishBound(h, []*groupStat{all}, bias, rec.Len(), delta, o.Form, nil), nil
 }

@@ -29,33 +29,34 @@ type residualStats struct {
 // residuals makes two passes over the shots of the groups (out(g, j) is
 // outcome j of group g): term sums per fold, then every shot's residuals.
 // coef holds the weights h_i/N_i of the terms in the estimate, zero for
-// the others.
-func residuals(tab *pauli.Table, gs []*groupStat, coef []float64, out func(g, j int) pauli.Bits) residualStats {
+// the others; rowsOf gives each group's kept terms and their weights.
+func residuals(tab *pauli.Table, gs []*groupStat, rowsOf groupRows, coef []float64, out func(g, j int) pauli.Bits) residualStats {
 	m := len(coef)
 	var sum, cnt [residualFolds][]float64
 	for k := range residualFolds {
 		sum[k], cnt[k] = make([]float64, m), make([]float64, m)
 	}
 	var buf []int8
-	samples := func(g *groupStat, gi, j int) []int8 {
-		if cap(buf) < len(g.rows) {
-			buf = make([]int8, len(g.rows))
+	samples := func(g *groupStat, rows []int, gi, j int) []int8 {
+		if cap(buf) < len(rows) {
+			buf = make([]int8, len(rows))
 		}
-		buf = buf[:len(g.rows)]
+		buf = buf[:len(rows)]
 		if g.setting.IsLocal() {
-			tab.Samples(buf, g.rows, out(gi, j))
+			tab.Samples(buf, rows, out(gi, j))
 		} else {
-			tab.SettingSamples(buf, g.rows, g.setting, out(gi, j))
+			tab.SettingSamples(buf, rows, g.setting, out(gi, j))
 		}
 		return buf
 	}
 	n := 0
 	for gi, g := range gs {
+		rows, _, _ := rowsOf(gi)
 		for j := range g.t {
 			k := n % residualFolds
-			for a, s := range samples(g, gi, j) {
-				sum[k][g.rows[a]] += float64(s)
-				cnt[k][g.rows[a]]++
+			for a, s := range samples(g, rows, gi, j) {
+				sum[k][rows[a]] += float64(s)
+				cnt[k][rows[a]]++
 			}
 			n++
 		}
@@ -75,19 +76,20 @@ func residuals(tab *pauli.Table, gs []*groupStat, coef []float64, out func(g, j 
 	}
 	n = 0
 	for gi, g := range gs {
+		rows, gcoef, _ := rowsOf(gi)
 		for j := range g.t {
 			k := n % residualFolds
 			n++
 			y, r := 0.0, 0.0
-			for a, s := range samples(g, gi, j) {
-				i, v := g.rows[a], float64(s)
+			for a, s := range samples(g, rows, gi, j) {
+				i, v := rows[a], float64(s)
 				if c := cnt[k][i]; tcnt[i] > c {
-					y += g.coef[a] * (v - (tot[i]-sum[k][i])/(tcnt[i]-c))
+					y += gcoef[a] * (v - (tot[i]-sum[k][i])/(tcnt[i]-c))
 				} else {
-					y += g.coef[a] * v // no other fold's sample: predict 0
+					y += gcoef[a] * v // no other fold's sample: predict 0
 				}
 				if g.t == 1 && tcnt[i] > 1 {
-					r += g.coef[a] * (v - (tot[i]-v)/(tcnt[i]-1))
+					r += gcoef[a] * (v - (tot[i]-v)/(tcnt[i]-1))
 				}
 			}
 			st.sq[k] += y * y

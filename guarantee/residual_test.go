@@ -204,24 +204,26 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 		t.Fatal(err)
 	}
 	coef, bias := estimatorWeights(mc.h, c.cover, 1, nil)
-	tmpl := prepareGroups(c, coef)
+	tmpl, rowsOf := prepareGroups(c, coef)
 	outs := planOutcomes(t, mc.state, settings, shots, reps, seed)
 	var buf []int8
 	for r := range reps {
 		gs := make([]*groupStat, len(tmpl))
 		for g, tg := range tmpl {
-			gs[g] = &groupStat{setting: tg.setting, rows: tg.rows, coef: tg.coef, half: tg.half, weight: float64(shots[g])}
+			gs[g] = &groupStat{setting: tg.setting, weight: float64(shots[g])}
 		}
 		out := func(g, j int) pauli.Bits {
 			k := r*shots[g] + j
 			return pauli.Bits(outs[g][k : k+1])
 		}
 		for g, gr := range gs {
-			buf = gr.addOutcomes(mc.h.Table(), func(j int) pauli.Bits { return out(g, j) }, shots[g], buf)
+			rows, cf, half := rowsOf(g)
+			gr.half = half
+			buf = gr.addOutcomes(mc.h.Table(), rows, cf, func(j int) pauli.Bits { return out(g, j) }, shots[g], buf)
 		}
-		b := fixedBound(mc.h, gs, coef, bias, p.TotalShots(), delta, Residual, nil, out)
+		b := fixedBound(mc.h, gs, rowsOf, coef, bias, p.TotalShots(), delta, Residual, nil, out)
 		pr, _ := radius(gs, delta, Pooled, nil)
-		st := residuals(mc.h.Table(), gs, coef, out)
+		st := residuals(mc.h.Table(), gs, rowsOf, coef, out)
 		free = append(free, math.Sqrt(2*math.Log(4/delta)*(st.sq[0]+st.sq[1]))+bias)
 		errs = append(errs, math.Abs(b.Energy-mc.energy))
 		res = append(res, b.Bound)

@@ -112,7 +112,7 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 	sched := StoppingSchedule{Delta: s.Delta, P: s.P}
 
 	coef, bias := estimatorWeights(h, c.cover, 1, s.Exclude)
-	gs := prepareGroups(c, coef)
+	gs, rowsOf := prepareGroups(c, coef)
 	for q, g := range gs {
 		g.weight = float64(c.mult[q])
 	}
@@ -142,7 +142,9 @@ func Sequential(h *hamiltonian.Hamiltonian, dev estimate.Device, s *SequentialOp
 			drift.add(st, rec, groups[q], first[q], roundShots[q])
 		}
 		for q, g := range gs {
-			buf = g.addOutcomes(h.Table(), func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
+			rows, cf, half := rowsOf(q)
+			g.half = half
+			buf = g.addOutcomes(h.Table(), rows, cf, func(j int) pauli.Bits { return rec.Outcome(groups[q], first[q]+j) }, roundShots[q], buf)
 		}
 		res.Rounds, res.Copies = k, res.Copies+copies
 		res.Bound = finishBound(h, gs, bias, rec.Len(), sched.At(k), s.Form, nil)
