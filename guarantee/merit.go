@@ -64,42 +64,11 @@ func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (
 		return nil, fmt.Errorf("guarantee: MeritOf: state: %w", err)
 	}
 	m := &Merit{Shots: c.shots, Settings: len(c.settings), GroupSD: make([]float64, len(c.settings))}
-	tab := h.Table()
-	var pr []float64
-	var masks []uint64
-	var coef []float64
+	var sh shotMoments
 	plan, sum := 0.0, 0.0
 	for q, s := range c.settings {
-		pr = sim.Probabilities(pr, s)
-		walshHadamard(pr)
-		masks, coef = masks[:0], coef[:0]
-		for _, i := range c.terms(q) {
-			var mask uint64
-			sign := 1
-			if s.IsLocal() {
-				x, z := tab.Words(int(i))
-				mask = x[0] | z[0]
-			} else {
-				d, sg, ok := s.Diagonal(tab.At(int(i)))
-				if !ok {
-					continue
-				}
-				_, zz := d.Words()
-				mask, sign = zz[0], sg
-			}
-			masks = append(masks, mask)
-			coef = append(coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
-		}
-		// Z = Σ c_i s_i is one shot's contribution (MATH.md §2); its
-		// moments follow from the transform as in BudgetOf's proxy.
-		m1, m2 := 0.0, 0.0
-		for a, ma := range masks {
-			m1 += coef[a] * pr[ma]
-			m2 += coef[a] * coef[a]
-			for j := a + 1; j < len(masks); j++ {
-				m2 += 2 * coef[a] * coef[j] * pr[ma^masks[j]]
-			}
-		}
+		// Z = Σ c_i s_i is one shot's contribution (MATH.md §2).
+		m1, m2 := sh.of(h, c, q, s, sim)
 		v := max(m2-m1*m1, 0)
 		mg := float64(c.mult[q])
 		// O_g = m_g·Z, so Var(O_g)/m_g = m_g·Var(Z).

@@ -2,6 +2,7 @@ package guarantee
 
 import (
 	"fmt"
+	"github.com/shotplan/shotplan/pauli"
 	"math"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -196,41 +197,10 @@ func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
 	if err != nil {
 		return fmt.Errorf("guarantee: proxy state: %w", err)
 	}
-	tab := h.Table()
-	var p []float64
-	var masks []uint64
-	var coef []float64
+	var sh shotMoments
 	grouped, second, mean := 0.0, 0.0, 0.0
 	for q, s := range c.settings {
-		p = sim.Probabilities(p, s)
-		walshHadamard(p)
-		masks, coef = masks[:0], coef[:0]
-		for _, i := range c.terms(q) {
-			var mask uint64
-			sign := 1
-			if s.IsLocal() {
-				// A local setting reads a term on its support.
-				x, z := tab.Words(int(i))
-				mask = x[0] | z[0]
-			} else {
-				d, sg, ok := s.Diagonal(tab.At(int(i)))
-				if !ok {
-					continue
-				}
-				_, zz := d.Words()
-				mask, sign = zz[0], sg
-			}
-			masks = append(masks, mask)
-			coef = append(coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
-		}
-		m1, m2 := 0.0, 0.0
-		for a, ma := range masks {
-			m1 += coef[a] * p[ma]
-			m2 += coef[a] * coef[a]
-			for j := a + 1; j < len(masks); j++ {
-				m2 += 2 * coef[a] * coef[j] * p[ma^masks[j]]
-			}
-		}
+		m1, m2 := sh.of(h, c, q, s, sim)
 		w := float64(c.mult[q])
 		grouped += w * max(m2-m1*m1, 0)
 		second += w * m2
@@ -253,4 +223,50 @@ func walshHadamard(p []float64) {
 			}
 		}
 	}
+}
+
+// shotMoments computes the first two moments of one shot's contribution
+// Z = Σ_i (h_i/N_i) s_i of a setting to the grouped estimate (MATH.md §2,
+// §2.3) in a state, from the Walsh–Hadamard transform of the setting's
+// outcome distribution: E[s_i] and E[s_i s_j] are its entries at the masks
+// of the bits term i (and j) read. Its slices are scratch space reused from
+// call to call.
+type shotMoments struct {
+	p     []float64
+	masks []uint64
+	coef  []float64
+}
+
+// of returns E[Z] and E[Z²] for setting q (s) of c in the simulator's state.
+func (sh *shotMoments) of(h *hamiltonian.Hamiltonian, c *coverage, q int, s pauli.Setting, sim *estimate.Simulator) (m1, m2 float64) {
+	tab := h.Table()
+	sh.p = sim.Probabilities(sh.p, s)
+	walshHadamard(sh.p)
+	sh.masks, sh.coef = sh.masks[:0], sh.coef[:0]
+	for _, i := range c.terms(q) {
+		var mask uint64
+		sign := 1
+		if s.IsLocal() {
+			// A local setting reads a term on its support.
+			x, z := tab.Words(int(i))
+			mask = x[0] | z[0]
+		} else {
+			d, sg, ok := s.Diagonal(tab.At(int(i)))
+			if !ok {
+				continue
+			}
+			_, zz := d.Words()
+			mask, sign = zz[0], sg
+		}
+		sh.masks = append(sh.masks, mask)
+		sh.coef = append(sh.coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
+	}
+	for a, ma := range sh.masks {
+		m1 += sh.coef[a] * sh.p[ma]
+		m2 += sh.coef[a] * sh.coef[a]
+		for j := a + 1; j < len(sh.masks); j++ {
+			m2 += 2 * sh.coef[a] * sh.coef[j] * sh.p[ma^sh.masks[j]]
+		}
+	}
+	return m1, m2
 }
