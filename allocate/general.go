@@ -4,7 +4,10 @@ import (
 	"cmp"
 	"fmt"
 	"math/bits"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -62,8 +65,11 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 //
 // # Cost
 //
-// The degrees need every pair: O(M²·⌈n/64⌉), the only quadratic step. The
-// colouring then costs as the grouping of [SortedGC]. ColorGC implements
+// The degrees need every pair: O(M²·⌈n/64⌉), the only quadratic step, done
+// once per unordered pair with branch-free word-wise parities, split among
+// GOMAXPROCS goroutines (the counts are integers, so the result does not
+// depend on the split). The colouring then costs as the grouping of
+// [SortedGC]. ColorGC implements
 // [Batcher] and [Counter] and uses no randomness.
 type ColorGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
@@ -78,27 +84,111 @@ func (s *ColorGC) String() string { return "color-gc" }
 // Init implements [Allocator]. It colours the terms and divides the budget.
 func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	rk := newRanked(h)
-	m, w := len(rk.order), rk.w
-	deg := make([]int32, m)
-	for a := range m {
-		xa, za := rk.row(a)
-		for b := a + 1; b < m; b++ {
-			xb, zb := rk.row(b)
-			c := 0
-			for k := range w {
-				c += bits.OnesCount64(xa[k]&zb[k] ^ za[k]&xb[k])
-			}
-			if c&1 == 1 {
-				deg[a]++
-				deg[b]++
-			}
-		}
-	}
+	m := len(rk.order)
+	deg := anticommutingDegrees(rk)
 	order := make([]int32, m)
 	fillIota(order)
 	// Ranks already order ties by |h_i| descending, then term index.
 	slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(deg[b], deg[a]) })
 	return s.init("color-gc", h, rk, order, s.Share, budget)
+}
+
+// anticommutingDegrees returns, for every rank of rk, the number of other
+// ranks whose string anticommutes with it. Each unordered pair is tested
+// once; the rows are handed out in chunks to GOMAXPROCS workers, each
+// counting into its own array, and the arrays are summed at the end.
+func anticommutingDegrees(rk *ranked) []int32 {
+	m := len(rk.order)
+	deg := make([]int32, m)
+	if m < 2 {
+		return deg
+	}
+	workers := max(1, min(runtime.GOMAXPROCS(0), m/256))
+	if workers == 1 {
+		degreeRows(rk.words, rk.w, 0, m, deg)
+		return deg
+	}
+	// Row a tests m−a−1 pairs; chunks of rows taken in turn from a shared
+	// counter keep the workers balanced.
+	const chunk = 64
+	var next atomic.Int64
+	part := make([][]int32, workers)
+	var wg sync.WaitGroup
+	for t := range workers {
+		part[t] = make([]int32, m)
+		wg.Add(1)
+		go func(d []int32) {
+			defer wg.Done()
+			for {
+				lo := int(next.Add(chunk)) - chunk
+				if lo >= m {
+					return
+				}
+				degreeRows(rk.words, rk.w, lo, min(lo+chunk, m), d)
+			}
+		}(part[t])
+	}
+	wg.Wait()
+	for _, d := range part {
+		for i, v := range d {
+			deg[i] += v
+		}
+	}
+	return deg
+}
+
+// degreeRows adds to deg the anticommuting pairs (a, b) with lo ≤ a < hi
+// and a < b, for rows of 2w words (x then z) back to back in words.
+func degreeRows(words []uint64, w, lo, hi int, deg []int32) {
+	m := len(words) / (2 * w)
+	switch w {
+	case 1:
+		for a := lo; a < hi; a++ {
+			xa, za := words[2*a], words[2*a+1]
+			rest := words[2*a+2 : 2*m]
+			d := deg[a+1 : m]
+			var da int32
+			for b := range d {
+				p := int32(bits.OnesCount64(xa&rest[2*b+1]^za&rest[2*b]) & 1)
+				da += p
+				d[b] += p
+			}
+			deg[a] += da
+		}
+	case 2:
+		for a := lo; a < hi; a++ {
+			r := words[4*a : 4*a+4]
+			xa0, xa1, za0, za1 := r[0], r[1], r[2], r[3]
+			rest := words[4*a+4 : 4*m]
+			d := deg[a+1 : m]
+			var da int32
+			for b := range d {
+				s := rest[4*b : 4*b+4]
+				p := int32((bits.OnesCount64(xa0&s[2]^za0&s[0]) + bits.OnesCount64(xa1&s[3]^za1&s[1])) & 1)
+				da += p
+				d[b] += p
+			}
+			deg[a] += da
+		}
+	default:
+		for a := lo; a < hi; a++ {
+			ra := words[2*w*a : 2*w*(a+1)]
+			xa, za := ra[:w], ra[w:]
+			var da int32
+			for b := a + 1; b < m; b++ {
+				rb := words[2*w*b : 2*w*(b+1)]
+				xb, zb := rb[:w], rb[w:]
+				c := 0
+				for k := range w {
+					c += bits.OnesCount64(xa[k]&zb[k] ^ za[k]&xb[k])
+				}
+				p := int32(c & 1)
+				da += p
+				deg[b] += p
+			}
+			deg[a] += da
+		}
+	}
 }
 
 // groupShots holds the groups of a grouping strategy and hands them out
