@@ -65,10 +65,10 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 //
 // # Cost
 //
-// The degrees need every pair: O(M²·⌈n/64⌉), the only quadratic step, done
-// once per unordered pair with branch-free word-wise parities, split among
-// GOMAXPROCS goroutines (the counts are integers, so the result does not
-// depend on the split). The colouring then costs as the grouping of
+// The degrees need every pair, the only quadratic step: they are counted
+// 64 pairs at a time by table look-ups, about M²·n/256 look-ups, split
+// among GOMAXPROCS goroutines (the counts are integers, so the result does
+// not depend on the split). The colouring then costs as the grouping of
 // [SortedGC]. ColorGC implements
 // [Batcher] and [Counter] and uses no randomness.
 type ColorGC struct {
@@ -94,23 +94,54 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 }
 
 // anticommutingDegrees returns, for every rank of rk, the number of other
-// ranks whose string anticommutes with it. Each unordered pair is tested
-// once; the rows are handed out in chunks to GOMAXPROCS workers, each
-// counting into its own array, and the arrays are summed at the end.
+// ranks whose string anticommutes with it.
+//
+// The count is bit-sliced. The ranks are cut into blocks of 64; for a
+// block, the symplectic vectors (x then z, 128w bit positions) are
+// transposed into one 64-bit word per position, bit j for the block's j-th
+// member, and the positions are taken 8 at a time into tables of the 256
+// XOR combinations of their words (the "four Russians" method). The
+// symplectic product of a with every member of the block is the parity of
+// (z_a, x_a)·(x_b, z_b), so the XOR of the table entries picked by the bytes
+// of (z_a, x_a) holds the 64 parities at once and its popcount is a's count
+// against the block. A string commutes with itself, so a's own bit is 0 and
+// needs no exclusion. Only the bytes some term uses are looked up. The work
+// is M²/64 lookups per used byte; the blocks are handed out to GOMAXPROCS
+// workers, each counting into its own array, and the arrays are summed at
+// the end (integer counts, so the result does not depend on the split).
 func anticommutingDegrees(rk *ranked) []int32 {
-	m := len(rk.order)
+	m, w := len(rk.order), rk.w
 	deg := make([]int32, m)
 	if m < 2 {
 		return deg
 	}
-	workers := max(1, min(runtime.GOMAXPROCS(0), m/256))
-	if workers == 1 {
-		degreeRows(rk.words, rk.w, 0, m, deg)
-		return deg
+	// The bytes of a query (z, x) that can be non-zero: those of the
+	// qubits some term touches, in both halves.
+	var active []int // byte index into the 2w query words
+	for c := range 8 * 2 * w {
+		k := c / 8 % w
+		if rk.used[k]>>(c%8*8)&0xff != 0 {
+			active = append(active, c)
+		}
 	}
-	// Row a tests m−a−1 pairs; chunks of rows taken in turn from a shared
-	// counter keep the workers balanced.
-	const chunk = 64
+	nc := len(active)
+	// qb[a·nc+i] is byte active[i] of a's query (z_a then x_a).
+	qb := make([]uint8, m*nc)
+	for a := range m {
+		x, z := rk.row(a)
+		for i, c := range active {
+			k := c / 8
+			var u uint64
+			if k < w {
+				u = z[k]
+			} else {
+				u = x[k-w]
+			}
+			qb[a*nc+i] = uint8(u >> (c % 8 * 8))
+		}
+	}
+	blocks := (m + 63) / 64
+	workers := max(1, min(runtime.GOMAXPROCS(0), blocks/4))
 	var next atomic.Int64
 	part := make([][]int32, workers)
 	var wg sync.WaitGroup
@@ -119,12 +150,33 @@ func anticommutingDegrees(rk *ranked) []int32 {
 		wg.Add(1)
 		go func(d []int32) {
 			defer wg.Done()
+			tab := make([][256]uint64, nc)
+			plane := make([]uint64, 8)
 			for {
-				lo := int(next.Add(chunk)) - chunk
-				if lo >= m {
+				blk := int(next.Add(1)) - 1
+				if blk >= blocks {
 					return
 				}
-				degreeRows(rk.words, rk.w, lo, min(lo+chunk, m), d)
+				lo, hi := 64*blk, min(64*blk+64, m)
+				for i, c := range active {
+					k, sh := c/8, c%8*8
+					clear(plane)
+					for j := lo; j < hi; j++ {
+						v := rk.words[2*w*j+k] >> sh & 0xff
+						for v != 0 {
+							plane[bits.TrailingZeros64(v)] |= 1 << (j - lo)
+							v &= v - 1
+						}
+					}
+					t := &tab[i]
+					t[0] = 0
+					for bit, p := range plane {
+						for s := range 1 << bit {
+							t[s|1<<bit] = t[s] ^ p
+						}
+					}
+				}
+				countBlock(qb, nc, tab, d)
 			}
 		}(part[t])
 	}
@@ -137,57 +189,20 @@ func anticommutingDegrees(rk *ranked) []int32 {
 	return deg
 }
 
-// degreeRows adds to deg the anticommuting pairs (a, b) with lo ≤ a < hi
-// and a < b, for rows of 2w words (x then z) back to back in words.
-func degreeRows(words []uint64, w, lo, hi int, deg []int32) {
-	m := len(words) / (2 * w)
-	switch w {
-	case 1:
-		for a := lo; a < hi; a++ {
-			xa, za := words[2*a], words[2*a+1]
-			rest := words[2*a+2 : 2*m]
-			d := deg[a+1 : m]
-			var da int32
-			for b := range d {
-				p := int32(bits.OnesCount64(xa&rest[2*b+1]^za&rest[2*b]) & 1)
-				da += p
-				d[b] += p
-			}
-			deg[a] += da
+// countBlock adds to d[a] the number of anticommuting members of the block
+// whose tables are tab, for every query a of nc bytes in qb.
+func countBlock(qb []uint8, nc int, tab [][256]uint64, d []int32) {
+	if nc == 0 {
+		return
+	}
+	tab = tab[:nc]
+	for a := range d {
+		q := qb[a*nc : a*nc+nc]
+		var p uint64
+		for i, c := range q {
+			p ^= tab[i][c]
 		}
-	case 2:
-		for a := lo; a < hi; a++ {
-			r := words[4*a : 4*a+4]
-			xa0, xa1, za0, za1 := r[0], r[1], r[2], r[3]
-			rest := words[4*a+4 : 4*m]
-			d := deg[a+1 : m]
-			var da int32
-			for b := range d {
-				s := rest[4*b : 4*b+4]
-				p := int32((bits.OnesCount64(xa0&s[2]^za0&s[0]) + bits.OnesCount64(xa1&s[3]^za1&s[1])) & 1)
-				da += p
-				d[b] += p
-			}
-			deg[a] += da
-		}
-	default:
-		for a := lo; a < hi; a++ {
-			ra := words[2*w*a : 2*w*(a+1)]
-			xa, za := ra[:w], ra[w:]
-			var da int32
-			for b := a + 1; b < m; b++ {
-				rb := words[2*w*b : 2*w*(b+1)]
-				xb, zb := rb[:w], rb[w:]
-				c := 0
-				for k := range w {
-					c += bits.OnesCount64(xa[k]&zb[k] ^ za[k]&xb[k])
-				}
-				p := int32(c & 1)
-				da += p
-				deg[b] += p
-			}
-			deg[a] += da
-		}
+		d[a] += int32(bits.OnesCount64(p))
 	}
 }
 
