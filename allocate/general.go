@@ -66,7 +66,7 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // # Cost
 //
 // The degrees need every pair, the only quadratic step: they are counted
-// 64 pairs at a time by table look-ups, about M²·n/256 look-ups, split
+// 256 pairs at a time by table look-ups, about M²·n/1024 look-ups, split
 // among GOMAXPROCS goroutines (the counts are integers, so the result does
 // not depend on the split). The colouring then costs as the grouping of
 // [SortedGC]. ColorGC implements
@@ -96,17 +96,17 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // anticommutingDegrees returns, for every rank of rk, the number of other
 // ranks whose string anticommutes with it.
 //
-// The count is bit-sliced. The ranks are cut into blocks of 64; for a
+// The count is bit-sliced. The ranks are cut into blocks of 256; for a
 // block, the symplectic vectors (x then z, 128w bit positions) are
-// transposed into one 64-bit word per position, bit j for the block's j-th
-// member, and the positions are taken 8 at a time into tables of the 256
+// transposed into four 64-bit words per position, bit j for the block's
+// j-th member, and the positions are taken 8 at a time into tables of the 256
 // XOR combinations of their words (the "four Russians" method). The
 // symplectic product of a with every member of the block is the parity of
 // (z_a, x_a)·(x_b, z_b), so the XOR of the table entries picked by the bytes
-// of (z_a, x_a) holds the 64 parities at once and its popcount is a's count
+// of (z_a, x_a) holds the 256 parities at once and its popcount is a's count
 // against the block. A string commutes with itself, so a's own bit is 0 and
 // needs no exclusion. Only the bytes some term uses are looked up. The work
-// is M²/64 lookups per used byte; the blocks are handed out to GOMAXPROCS
+// is M²/256 look-ups of four words per used byte; the blocks are handed out to GOMAXPROCS
 // workers, each counting into its own array, and the arrays are summed at
 // the end (integer counts, so the result does not depend on the split).
 func anticommutingDegrees(rk *ranked) []int32 {
@@ -140,8 +140,8 @@ func anticommutingDegrees(rk *ranked) []int32 {
 			qb[a*nc+i] = uint8(u >> (c % 8 * 8))
 		}
 	}
-	blocks := (m + 63) / 64
-	workers := max(1, min(runtime.GOMAXPROCS(0), blocks/4))
+	blocks := (m + 4*64 - 1) / (4 * 64)
+	workers := max(1, min(runtime.GOMAXPROCS(0), blocks))
 	var next atomic.Int64
 	part := make([][]int32, workers)
 	var wg sync.WaitGroup
@@ -150,29 +150,31 @@ func anticommutingDegrees(rk *ranked) []int32 {
 		wg.Add(1)
 		go func(d []int32) {
 			defer wg.Done()
-			tab := make([][256]uint64, nc)
-			plane := make([]uint64, 8)
+			tab := make([][256][4]uint64, nc)
+			var plane [8][4]uint64
 			for {
 				blk := int(next.Add(1)) - 1
 				if blk >= blocks {
 					return
 				}
-				lo, hi := 64*blk, min(64*blk+64, m)
+				lo, hi := 4*64*blk, min(4*64*blk+4*64, m)
 				for i, c := range active {
 					k, sh := c/8, c%8*8
-					clear(plane)
+					plane = [8][4]uint64{}
 					for j := lo; j < hi; j++ {
 						v := rk.words[2*w*j+k] >> sh & 0xff
+						l, b := (j-lo)>>6, uint((j-lo)&63)
 						for v != 0 {
-							plane[bits.TrailingZeros64(v)] |= 1 << (j - lo)
+							plane[bits.TrailingZeros64(v)][l] |= 1 << b
 							v &= v - 1
 						}
 					}
 					t := &tab[i]
-					t[0] = 0
+					t[0] = [4]uint64{}
 					for bit, p := range plane {
 						for s := range 1 << bit {
-							t[s|1<<bit] = t[s] ^ p
+							u := &t[s]
+							t[s|1<<bit] = [4]uint64{u[0] ^ p[0], u[1] ^ p[1], u[2] ^ p[2], u[3] ^ p[3]}
 						}
 					}
 				}
@@ -190,19 +192,24 @@ func anticommutingDegrees(rk *ranked) []int32 {
 }
 
 // countBlock adds to d[a] the number of anticommuting members of the block
-// whose tables are tab, for every query a of nc bytes in qb.
-func countBlock(qb []uint8, nc int, tab [][256]uint64, d []int32) {
+// whose tables are tab (four words of 64 members per entry), for every
+// query a of nc bytes in qb.
+func countBlock(qb []uint8, nc int, tab [][256][4]uint64, d []int32) {
 	if nc == 0 {
 		return
 	}
 	tab = tab[:nc]
 	for a := range d {
 		q := qb[a*nc : a*nc+nc]
-		var p uint64
+		var p0, p1, p2, p3 uint64
 		for i, c := range q {
-			p ^= tab[i][c]
+			e := &tab[i][c]
+			p0 ^= e[0]
+			p1 ^= e[1]
+			p2 ^= e[2]
+			p3 ^= e[3]
 		}
-		d[a] += int32(bits.OnesCount64(p))
+		d[a] += int32(bits.OnesCount64(p0) + bits.OnesCount64(p1) + bits.OnesCount64(p2) + bits.OnesCount64(p3))
 	}
 }
 
