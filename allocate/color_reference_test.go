@@ -18,7 +18,8 @@ import (
 // plainColorGroups is the reference for ColorGC's grouping, written straight
 // from the definition of largest-degree-first greedy colouring (Welsh and
 // Powell, "An upper bound for the chromatic number of a graph and its
-// application to timetabling problems", Comput. J. 10, 1967) of the graph
+// application to timetabling problems", Comput. J. 10, 1967; cited from
+// memory) of the graph
 // whose edges join anticommuting terms: the degree of a term is counted by
 // testing it against every other term with pauli.String.Commutes; the
 // terms are taken by degree descending, ties by |h_i| descending, then term
