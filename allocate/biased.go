@@ -103,7 +103,7 @@ func BiasedDistributions(h *hamiltonian.Hamiltonian) ([][3]float64, error) {
 	}
 	beta, err := biasedDistributions(h)
 	if err != nil {
-		return nil, fmt.Errorf("allocate: BiasedDistributions: %w", err)
+		return nil, fmt.Errorf("allocate: %w", err)
 	}
 	return beta, nil
 }

@@ -41,14 +41,14 @@ type Job struct {
 // lengths that disagree.
 func SplitJobs(settings []pauli.Setting, shots []int, lim DeviceLimits) ([]Job, error) {
 	if lim.MaxShotsPerCircuit < 0 || lim.MaxCircuitsPerJob < 0 {
-		return nil, fmt.Errorf("allocate: SplitJobs: negative limit (%d shots per circuit, %d circuits per job)", lim.MaxShotsPerCircuit, lim.MaxCircuitsPerJob)
+		return nil, fmt.Errorf("allocate: negative limit (%d shots per circuit, %d circuits per job)", lim.MaxShotsPerCircuit, lim.MaxCircuitsPerJob)
 	}
 	if len(settings) != len(shots) {
-		return nil, fmt.Errorf("allocate: SplitJobs: %d settings but %d shot counts", len(settings), len(shots))
+		return nil, fmt.Errorf("allocate: %d settings but %d shot counts", len(settings), len(shots))
 	}
 	for k, m := range shots {
 		if m < 0 {
-			return nil, fmt.Errorf("allocate: SplitJobs: setting %d (%s) has negative shot count %d", k, settings[k], m)
+			return nil, fmt.Errorf("allocate: setting %d (%s) has negative shot count %d", k, settings[k], m)
 		}
 	}
 	distinct, total := pauli.MergeSettings(settings, shots)
@@ -139,10 +139,10 @@ func FitCost(h *hamiltonian.Hamiltonian, p *Plan, cost CostModel, delta float64)
 		return nil, 0, fmt.Errorf("%w: ShotCost is zero, so any budget buys unbounded shots", ErrCost)
 	}
 	if !(delta > 0 && delta < 1) {
-		return nil, 0, fmt.Errorf("allocate: FitCost: δ = %v, want a value in (0, 1)", delta)
+		return nil, 0, fmt.Errorf("allocate: δ = %v, want a value in (0, 1)", delta)
 	}
 	if h == nil || p == nil || len(p.Settings) == 0 {
-		return nil, 0, fmt.Errorf("allocate: FitCost: nil Hamiltonian or empty plan")
+		return nil, 0, fmt.Errorf("allocate: nil Hamiltonian or empty plan")
 	}
 	if err := checkFinite(h.Coeffs(), h); err != nil {
 		return nil, 0, err
@@ -150,7 +150,7 @@ func FitCost(h *hamiltonian.Hamiltonian, p *Plan, cost CostModel, delta float64)
 	settings, shots := p.Distinct()
 	for _, s := range settings {
 		if s.Qubits() != h.Qubits() {
-			return nil, 0, fmt.Errorf("allocate: FitCost: setting %s has %d qubits, Hamiltonian has %d", s, s.Qubits(), h.Qubits())
+			return nil, 0, fmt.Errorf("allocate: setting %s has %d qubits, Hamiltonian has %d", s, s.Qubits(), h.Qubits())
 		}
 	}
 	f := &fitter{h: h, l: math.Log(2 / delta), shots: shots, cost: cost}

@@ -15,7 +15,7 @@ import (
 // or a count is negative.
 func ScaledOneNorm(h *hamiltonian.Hamiltonian, cover []int) (norm float64, missing int, uncovered float64, err error) {
 	if h == nil {
-		return 0, 0, 0, fmt.Errorf("allocate: ScaledOneNorm: nil Hamiltonian")
+		return 0, 0, 0, fmt.Errorf("allocate: nil Hamiltonian")
 	}
 	if len(cover) != h.Len() {
 		return 0, 0, 0, fmt.Errorf("allocate: %d cover counts for %d terms", len(cover), h.Len())

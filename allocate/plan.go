@@ -62,7 +62,7 @@ func (p *Plan) Distinct() (settings []pauli.Setting, shots []int) {
 // error if h is nil, the lengths or widths disagree or a count is negative.
 func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) ([]int, error) {
 	if h == nil {
-		return nil, fmt.Errorf("allocate: CoverCounts: nil Hamiltonian")
+		return nil, fmt.Errorf("allocate: nil Hamiltonian")
 	}
 	if len(settings) != len(shots) {
 		return nil, fmt.Errorf("allocate: %d settings but %d shot counts", len(settings), len(shots))

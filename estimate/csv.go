@@ -37,7 +37,7 @@ const csvHeader = "setting,outcome"
 // setting as text. A nil rec is an error; nothing is written then.
 func WriteCSV(w io.Writer, rec *Records) error {
 	if rec == nil {
-		return fmt.Errorf("estimate: WriteCSV: nil records")
+		return fmt.Errorf("estimate: nil records")
 	}
 	bw := bufio.NewWriter(w)
 	bw.WriteString(csvHeader + "\n")

@@ -53,7 +53,7 @@ func Mitigated(h *hamiltonian.Hamiltonian, rec *Records, m *Mitigation, opts *Op
 		return nil, err
 	}
 	if m == nil {
-		return nil, fmt.Errorf("estimate: Mitigated: nil mitigation")
+		return nil, fmt.Errorf("estimate: nil mitigation")
 	}
 	if m.Qubits() != h.Qubits() {
 		return nil, fmt.Errorf("estimate: %w: Mitigated: mitigation of %d qubits for %d", ErrFormat, m.Qubits(), h.Qubits())

@@ -133,7 +133,7 @@ func (sim *Simulator) noisy(b uint64, f []float64) uint64 {
 // qubit, O(4n·2^n). It returns an error if s has the wrong width.
 func (sim *Simulator) OutcomeProbabilities(dst []float64, s pauli.Setting) ([]float64, error) {
 	if s.Qubits() != sim.n {
-		return nil, fmt.Errorf("estimate: OutcomeProbabilities: setting %s has %d qubits, the simulator %d", s, s.Qubits(), sim.n)
+		return nil, fmt.Errorf("estimate: setting %s has %d qubits, the simulator %d", s, s.Qubits(), sim.n)
 	}
 	dst = sim.Probabilities(dst, s)
 	var f []float64

@@ -66,11 +66,11 @@ func ExportQASMInputs(dir string, settings []pauli.Setting, shots []int) error {
 	}
 	for k, s := range distinct {
 		if !s.IsLocal() {
-			return fmt.Errorf("estimate: ExportQASMInputs: setting %d (%s) is entangled: its circuit cannot be chosen by basis inputs", k, s)
+			return fmt.Errorf("estimate: setting %d (%s) is entangled: its circuit cannot be chosen by basis inputs", k, s)
 		}
 	}
 	if entries, err := os.ReadDir(dir); err == nil && len(entries) > 0 {
-		return fmt.Errorf("estimate: ExportQASMInputs: directory %s is not empty", dir)
+		return fmt.Errorf("estimate: directory %s is not empty", dir)
 	} else if err != nil && !errors.Is(err, os.ErrNotExist) {
 		return err
 	}

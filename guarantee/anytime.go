@@ -166,19 +166,19 @@ func Anytime(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOptions)
 	if s.Pilot > 0 {
 		var err error
 		if d, res.Pilot, err = anytimePilot(h, dev, s, rng, &bopt); err != nil {
-			return nil, fmt.Errorf("guarantee: Anytime: pilot: %w", err)
+			return nil, fmt.Errorf("guarantee: pilot: %w", err)
 		}
 		res.Plan, res.PilotShots = d, s.Pilot
 	}
 	cs, err := anytimeSequence(d, s, &bopt)
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	if s.Method == Betting {
 		res.Horizon = bopt.Horizon
 	}
 	if err := anytimeRounds(h.Qubits(), dev, d, rng, s, cs, res); err != nil {
-		return nil, fmt.Errorf("guarantee: Anytime: %w", err)
+		return nil, fmt.Errorf("guarantee: %w", err)
 	}
 	return res, nil
 }

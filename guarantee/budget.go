@@ -253,7 +253,7 @@ func ImportanceShots(h *hamiltonian.Hamiltonian, eps, delta float64) (int, error
 	}
 	n := HoeffdingShots(eps, 2*h.OneNorm(), delta)
 	if n == math.MaxInt {
-		return 0, fmt.Errorf("guarantee: ImportanceShots: ε = %v with ‖h‖_1 = %v needs more shots than an int holds", eps, h.OneNorm())
+		return 0, fmt.Errorf("guarantee: ε = %v with ‖h‖_1 = %v needs more shots than an int holds", eps, h.OneNorm())
 	}
 	return n, nil
 }

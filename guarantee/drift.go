@@ -68,18 +68,18 @@ type DriftResult struct {
 func DriftTest(counts []DriftCounts, level float64) (DriftResult, error) {
 	res := DriftResult{PValue: 1, Setting: -1, Level: level}
 	if !(level > 0 && level < 1) {
-		return res, fmt.Errorf("guarantee: DriftTest: level %v outside (0, 1)", level)
+		return res, fmt.Errorf("guarantee: level %v outside (0, 1)", level)
 	}
 	pmin := 1.0
 	for k, c := range counts {
 		if len(c.Shots) != len(c.Odd) {
-			return res, fmt.Errorf("guarantee: DriftTest: setting %d (%s): %d shot counts, %d odd counts", k, c.Setting, len(c.Shots), len(c.Odd))
+			return res, fmt.Errorf("guarantee: setting %d (%s): %d shot counts, %d odd counts", k, c.Setting, len(c.Shots), len(c.Odd))
 		}
 		var n, o float64
 		rounds := 0
 		for r, m := range c.Shots {
 			if m < 0 || c.Odd[r] < 0 || c.Odd[r] > m {
-				return res, fmt.Errorf("guarantee: DriftTest: setting %d (%s): round %d: %d odd of %d shots", k, c.Setting, r+1, c.Odd[r], m)
+				return res, fmt.Errorf("guarantee: setting %d (%s): round %d: %d odd of %d shots", k, c.Setting, r+1, c.Odd[r], m)
 			}
 			if m > 0 {
 				rounds++

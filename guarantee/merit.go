@@ -46,22 +46,22 @@ type Merit struct {
 func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (*Merit, error) {
 	switch {
 	case h == nil || p == nil:
-		return nil, fmt.Errorf("guarantee: MeritOf: nil Hamiltonian or plan")
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian or plan")
 	case p.Qubits != h.Qubits():
-		return nil, fmt.Errorf("guarantee: MeritOf: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
+		return nil, fmt.Errorf("guarantee: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
 	case h.Qubits() > hamiltonian.MaxExactQubits || len(state) != 1<<h.Qubits():
-		return nil, fmt.Errorf("guarantee: MeritOf: the state has %d amplitudes, want 2^%d (at most 2^%d)", len(state), h.Qubits(), hamiltonian.MaxExactQubits)
+		return nil, fmt.Errorf("guarantee: the state has %d amplitudes, want 2^%d (at most 2^%d)", len(state), h.Qubits(), hamiltonian.MaxExactQubits)
 	}
 	c, err := newCoverage(h, p.Settings, p.Shots)
 	if err != nil {
 		return nil, err
 	}
 	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: MeritOf: the plan has no shots")
+		return nil, fmt.Errorf("guarantee: the plan has no shots")
 	}
 	sim, err := estimate.NewSimulator(state, 0, nil)
 	if err != nil {
-		return nil, fmt.Errorf("guarantee: MeritOf: state: %w", err)
+		return nil, fmt.Errorf("guarantee: state: %w", err)
 	}
 	m := &Merit{Shots: c.shots, Settings: len(c.settings), GroupSD: make([]float64, len(c.settings))}
 	var sh shotMoments

@@ -411,7 +411,7 @@ const MaxMatrixQubits = 12
 // [MaxMatrixQubits].
 func (h *Hamiltonian) Matrix() (*mat.CDense, error) {
 	if h == nil {
-		return nil, fmt.Errorf("hamiltonian: Matrix: nil Hamiltonian")
+		return nil, fmt.Errorf("hamiltonian: nil Hamiltonian")
 	}
 	if h.n > MaxMatrixQubits {
 		return nil, fmt.Errorf("hamiltonian: %d qubits exceed the maximum of %d", h.n, MaxMatrixQubits)

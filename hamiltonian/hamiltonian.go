@@ -161,7 +161,7 @@ func (h *Hamiltonian) Equal(o *Hamiltonian) bool {
 // differ.
 func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
 	if h == nil || o == nil {
-		return nil, fmt.Errorf("hamiltonian: Add: nil Hamiltonian")
+		return nil, fmt.Errorf("hamiltonian: nil Hamiltonian")
 	}
 	if h.n != o.n {
 		return nil, fmt.Errorf("hamiltonian: %d qubits and %d qubits", h.n, o.n)
@@ -179,7 +179,7 @@ func (h *Hamiltonian) Add(o *Hamiltonian) (*Hamiltonian, error) {
 // Scale returns c·h. It returns an error if h is nil.
 func (h *Hamiltonian) Scale(c float64) (*Hamiltonian, error) {
 	if h == nil {
-		return nil, fmt.Errorf("hamiltonian: Scale: nil Hamiltonian")
+		return nil, fmt.Errorf("hamiltonian: nil Hamiltonian")
 	}
 	terms := make([]Term, 0, h.Len())
 	for _, t := range h.Terms() {

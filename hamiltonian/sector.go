@@ -37,17 +37,17 @@ type Sector struct {
 // or the counts are impossible.
 func ElectronSector(qubits, electrons, spinTwice int) (Sector, error) {
 	if qubits < 0 || qubits > 64 || qubits%2 != 0 {
-		return Sector{}, fmt.Errorf("hamiltonian: ElectronSector: %d qubits, want an even number up to 64 (two spin orbitals per orbital)", qubits)
+		return Sector{}, fmt.Errorf("hamiltonian: %d qubits, want an even number up to 64 (two spin orbitals per orbital)", qubits)
 	}
 	if electrons < 0 || electrons > qubits {
-		return Sector{}, fmt.Errorf("hamiltonian: ElectronSector: %d electrons on %d spin orbitals", electrons, qubits)
+		return Sector{}, fmt.Errorf("hamiltonian: %d electrons on %d spin orbitals", electrons, qubits)
 	}
 	if (electrons+spinTwice)%2 != 0 || spinTwice > electrons || -spinTwice > electrons {
-		return Sector{}, fmt.Errorf("hamiltonian: ElectronSector: 2S_z = %d is impossible with %d electrons (want the same parity and |2S_z| ≤ electrons)", spinTwice, electrons)
+		return Sector{}, fmt.Errorf("hamiltonian: 2S_z = %d is impossible with %d electrons (want the same parity and |2S_z| ≤ electrons)", spinTwice, electrons)
 	}
 	na, nb := (electrons+spinTwice)/2, (electrons-spinTwice)/2
 	if na > qubits/2 || nb > qubits/2 {
-		return Sector{}, fmt.Errorf("hamiltonian: ElectronSector: %d α and %d β electrons do not fit in %d orbitals", na, nb, qubits/2)
+		return Sector{}, fmt.Errorf("hamiltonian: %d α and %d β electrons do not fit in %d orbitals", na, nb, qubits/2)
 	}
 	var mask uint64
 	for q := 0; q < qubits; q += 2 {

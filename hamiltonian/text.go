@@ -533,7 +533,7 @@ const denseLimit = 32
 // h is an error; nothing is written then.
 func Write(w io.Writer, h *Hamiltonian) error {
 	if h == nil {
-		return fmt.Errorf("hamiltonian: Write: nil Hamiltonian")
+		return fmt.Errorf("hamiltonian: nil Hamiltonian")
 	}
 	bw := bufio.NewWriter(w)
 	fmt.Fprintf(bw, "qubits %d\n", h.n)
