@@ -160,6 +160,17 @@ func (c *Calibration) Bounds(delta float64) ([]ReadoutBounds, error) {
 	return out, nil
 }
 
+// Mitigation returns the mitigation (MATH.md §2.1.1) made from the
+// calibration's intervals at δ ([Calibration.Bounds]): with probability at
+// least 1 − δ every true rate lies in the boxes it was made from.
+func (c *Calibration) Mitigation(delta float64) (*Mitigation, error) {
+	b, err := c.Bounds(delta)
+	if err != nil {
+		return nil, err
+	}
+	return NewMitigation(b)
+}
+
 // KnownRates returns the degenerate boxes of rates known exactly.
 func KnownRates(r []Readout) []ReadoutBounds {
 	out := make([]ReadoutBounds, len(r))

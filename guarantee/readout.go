@@ -86,11 +86,7 @@ func CalibratedBounds(h *hamiltonian.Hamiltonian, rec *estimate.Records, cal *es
 	if cal.Qubits() != h.Qubits() {
 		return nil, fmt.Errorf("guarantee: calibration of %d qubits, Hamiltonian has %d", cal.Qubits(), h.Qubits())
 	}
-	bounds, err := cal.Bounds(dc)
-	if err != nil {
-		return nil, err
-	}
-	m, err := estimate.NewMitigation(bounds)
+	m, err := cal.Mitigation(dc)
 	if err != nil {
 		return nil, err
 	}

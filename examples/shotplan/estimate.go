@@ -48,10 +48,11 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		if *observables != "" {
-			if ro != nil || *calibration != "" {
-				return badf("-observables cannot be combined with -readout or -calibration yet: the observables' bounds would not cover readout error")
+			ropts, err := readoutOptions(ro, *calibration, h.Qubits(), *delta, *calDelta)
+			if err != nil {
+				return err
 			}
-			return e.estimateObservables(*observables, *ham, h, f.Plan, rec, *delta)
+			return e.estimateObservables(*observables, *ham, h, f.Plan, rec, *delta, ropts)
 		}
 		if ro != nil || *calibration != "" {
 			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, *delta, *calDelta)
@@ -184,6 +185,10 @@ With -observables N,Sz,S2 (an FCIDUMP as -ham) the particle number, S_z and
 S² built from its orbitals are estimated from the same records as the energy,
 one line each; δ is split equally over the energy and the listed observables
 so that all certified bounds hold together at 1 − δ, and so do all data
-bounds (MATH.md §4.8).
+bounds (MATH.md §4.8). With -calibration (or -readout) as well, every
+observable is readout-mitigated and bounded with the calibration's
+uncertainty: -calibration-delta of δ is spent once on the calibration
+intervals, the rest split equally over the observables (MATH.md §2.1.2,
+§4.8), and the data bound is the pooled one.
 `
 }
