@@ -26,7 +26,8 @@ type ReadoutOptions struct {
 // ([estimate.Mitigated]; MATH.md §2.1.1, §2.1.2): each of Certified and Data
 // covers |Energy − E| with probability at least 1 − Delta over the
 // calibration shots and the measurement shots together, under the
-// independent-qubit readout model of MATH.md §2.1.
+// independent-qubit readout model of MATH.md §2.1 (or, for a calibration
+// with pairs, the model of disjoint pairs of MATH.md §2.1.5).
 type ReadoutBound struct {
 	// Energy is the mitigated estimate, and Delta the failure probability
 	// of each bound: CalibrationDelta for the calibration intervals plus
@@ -57,8 +58,10 @@ type ReadoutBound struct {
 // calibration must come from shots independent of rec's (a separate run).
 //
 // δ is split: CalibrationDelta for the calibration intervals (every
-// qubit's two Clopper–Pearson intervals, each at CalibrationDelta/(2n)),
-// the rest for the shots. On the event that every rate lies in its
+// qubit's two Clopper–Pearson intervals, each at CalibrationDelta/(2n);
+// with pairs, the 16 cells of each pair and the two rates of each unpaired
+// qubit, each at CalibrationDelta/J, MATH.md §2.1.5), the rest for the
+// shots. On the event that every rate lies in its
 // interval the mitigated estimate's mean is within CalibrationBias of the
 // energy of the measured terms; given the calibration, the shots are
 // independent and each mitigated sample of a term read on mask M lies in
