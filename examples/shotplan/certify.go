@@ -18,6 +18,7 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 	readout := fs.String("readout", "", "certify the readout-mitigated estimate with these rates, taken as exact: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "calibration records file (see calibrate): certify the readout-mitigated estimate, covering the calibration's uncertainty")
 	calDelta := fs.Float64("calibration-delta", 0, "part of -delta spent on the calibration intervals (default -delta/4)")
+	pairsFlag := fs.String("pairs", "", "with -calibration: read these disjoint pairs of qubits through 4×4 readout models calibrated from the file (as given to calibrate -pairs): A-B,C-D")
 	observables := fs.String("observables", "", "with an FCIDUMP -ham: also certify the electrons' observables N, Sz, S2 (comma-separated, any case), all bounds holding together (δ split equally)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -30,12 +31,19 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		if *observables != "" || *readout != "" || *calibration != "" || *calDelta != 0 {
+		if *observables != "" || *readout != "" || *calibration != "" || *calDelta != 0 || *pairsFlag != "" {
 			ro, err := parseReadout(*readout, h.Qubits())
 			if err != nil {
 				return err
 			}
-			ropts, err := readoutOptions(ro, *calibration, h.Qubits(), *delta, *calDelta)
+			pairs, err := parsePairs(*pairsFlag, h.Qubits())
+			if err != nil {
+				return err
+			}
+			if pairs != nil && *calibration == "" {
+				return badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
+			}
+			ropts, err := readoutOptions(ro, *calibration, pairs, h.Qubits(), *delta, *calDelta)
 			if err != nil {
 				return err
 			}
@@ -176,7 +184,8 @@ line each. With -calibration FILE (calibration records, see calibrate) the
 bounds are those of the readout-mitigated estimate, covering shot noise and
 the calibration's uncertainty: -calibration-delta of δ is spent once on the
 calibration intervals, the rest split over the observables (MATH.md §2.1.2);
--readout RATES takes the rates as exact instead. JSON keys, per line of
+-readout RATES takes the rates as exact instead; -pairs A-B,C-D reads the
+listed pairs through 4×4 models from the calibration (MATH.md §2.1.5). JSON keys, per line of
 observables: name, certified_bound = radius + calibration_bias + bias,
 delta (δ_k); calibration_delta is the calibration's share.
 `

@@ -22,6 +22,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	readout := fs.String("readout", "", "mitigate readout error with these rates, taken as exact: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "calibration records file (prepared,outcome; see calibrate): mitigate readout error and bound the mitigated estimate with the calibration's uncertainty")
 	calDelta := fs.Float64("calibration-delta", 0, "part of -delta spent on the calibration intervals (default -delta/4)")
+	pairsFlag := fs.String("pairs", "", "with -calibration: read these disjoint pairs of qubits through 4×4 readout models calibrated from the file (as given to calibrate -pairs): A-B,C-D")
 	observables := fs.String("observables", "", observablesFlagHelp)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -47,15 +48,22 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		if err != nil {
+			return err
+		}
+		if pairs != nil && *calibration == "" {
+			return badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
+		}
 		if *observables != "" {
-			ropts, err := readoutOptions(ro, *calibration, h.Qubits(), *delta, *calDelta)
+			ropts, err := readoutOptions(ro, *calibration, pairs, h.Qubits(), *delta, *calDelta)
 			if err != nil {
 				return err
 			}
 			return e.estimateObservables(*observables, *ham, h, f.Plan, rec, *delta, ropts)
 		}
 		if ro != nil || *calibration != "" {
-			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, *delta, *calDelta)
+			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, pairs, *delta, *calDelta)
 		}
 		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta})
 		if err != nil {
@@ -178,6 +186,9 @@ With -calibration FILE (calibration records, see calibrate) the energy is
 readout-mitigated and both bounds are those of the mitigated estimate: they
 cover shot noise and the uncertainty of the calibrated flip rates (MATH.md
 §2.1.2), with -calibration-delta of δ spent on the calibration intervals.
+With -pairs A-B,C-D as well (a calibration made with calibrate -pairs) the
+listed disjoint pairs are read through their own 4×4 readout models, for
+devices whose neighbouring read bits flip together (MATH.md §2.1.5).
 With -readout RATES the rates are taken as exact and the bounds are those of
 the mitigated estimate under that assumption.
 

@@ -57,7 +57,7 @@ func parseObservables(list, path string, h *hamiltonian.Hamiltonian) ([]guarante
 
 // readoutOptions returns the readout part of the observables' options from
 // -readout (rates taken as exact) or -calibration FILE: nil for neither.
-func readoutOptions(ro []estimate.Readout, calPath string, qubits int, delta, calDelta float64) (*guarantee.AllOptions, error) {
+func readoutOptions(ro []estimate.Readout, calPath string, pairs [][2]int, qubits int, delta, calDelta float64) (*guarantee.AllOptions, error) {
 	if ro != nil && calPath != "" {
 		return nil, badf("-readout and -calibration both given: the calibration measures the rates")
 	}
@@ -70,12 +70,9 @@ func readoutOptions(ro []estimate.Readout, calPath string, qubits int, delta, ca
 		}
 		return &guarantee.AllOptions{Rates: ro}, nil
 	}
-	cal, err := estimate.ReadCalibrationFile(calPath)
+	cal, err := loadCalibration(calPath, pairs, qubits)
 	if err != nil {
-		return nil, bad(err)
-	}
-	if cal.Qubits() != qubits {
-		return nil, badf("%s: calibration of %d qubits, the Hamiltonian has %d", calPath, cal.Qubits(), qubits)
+		return nil, err
 	}
 	if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
 		return nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
