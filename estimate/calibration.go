@@ -144,6 +144,8 @@ type ReadoutBounds struct {
 // Bounds returns a Clopper–Pearson interval for each of the 2n rates, each
 // at confidence 1 − δ/(2n), so that with probability at least 1 − δ every
 // rate lies in its interval at once (a union bound over the 2n intervals).
+// It describes every qubit by its own two rates and ignores Pairs;
+// [Calibration.Mitigation] uses the pairs' 4×4 models.
 func (c *Calibration) Bounds(delta float64) ([]ReadoutBounds, error) {
 	if !(delta > 0 && delta < 1) {
 		return nil, fmt.Errorf("estimate: %w: calibration δ = %v outside (0, 1)", ErrFormat, delta)
