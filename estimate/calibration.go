@@ -357,10 +357,10 @@ func readCalibration(r io.Reader, pairs [][2]int) (*Calibration, error) {
 			return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("outcome of %d bits for a prepared state of %d", len(o), len(p))}
 		}
 		if c == nil {
-			var err error
-			if c, err = NewPairCalibration(len(p), pairs); err != nil {
-				return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("%d qubits: %v", len(p), strings.TrimPrefix(err.Error(), "estimate: "))}
+			if why := pairsProblem(pairs, len(p)); why != "" {
+				return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("the file has %d qubits, which the pairs do not fit: %s", len(p), why)}
 			}
+			c, _ = NewPairCalibration(len(p), pairs)
 			prep, read = pauli.NewBits(len(p)), pauli.NewBits(len(p))
 		} else if len(p) != c.Qubits() {
 			return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("%d qubits, earlier lines have %d", len(p), c.Qubits())}

@@ -29,24 +29,32 @@ type PairCounts struct {
 
 // checkPairs validates disjoint pairs of distinct qubits below n.
 func checkPairs(pairs [][2]int, n int) error {
+	if why := pairsProblem(pairs, n); why != "" {
+		return fmt.Errorf("estimate: %w: %s", ErrFormat, why)
+	}
+	return nil
+}
+
+// pairsProblem says what is wrong with pairs for n qubits ("" for nothing).
+func pairsProblem(pairs [][2]int, n int) string {
 	seen := make(map[int]bool, 2*len(pairs))
 	for k, p := range pairs {
 		for _, q := range p {
 			if q < 0 || q >= n {
-				return fmt.Errorf("estimate: %w: pair %d (%d, %d): qubit %d is not in 0..%d", ErrFormat, k, p[0], p[1], q, n-1)
+				return fmt.Sprintf("pair %d (%d, %d): qubit %d is not in 0..%d", k, p[0], p[1], q, n-1)
 			}
 		}
 		if p[0] == p[1] {
-			return fmt.Errorf("estimate: %w: pair %d (%d, %d): a pair needs two different qubits", ErrFormat, k, p[0], p[1])
+			return fmt.Sprintf("pair %d (%d, %d): a pair needs two different qubits", k, p[0], p[1])
 		}
 		for _, q := range p {
 			if seen[q] {
-				return fmt.Errorf("estimate: %w: pair %d (%d, %d): qubit %d is in another pair (pairs must be disjoint)", ErrFormat, k, p[0], p[1], q)
+				return fmt.Sprintf("pair %d (%d, %d): qubit %d is in another pair (pairs must be disjoint)", k, p[0], p[1], q)
 			}
 			seen[q] = true
 		}
 	}
-	return nil
+	return ""
 }
 
 // NewPairCalibration returns an empty calibration of n qubits that also

@@ -79,7 +79,7 @@ func calibrateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		what := "all 0, all 1"
 		if pairs != nil {
-			what = fmt.Sprintf("every pair of %s in each of its 4 states", plural(len(pairs), "pair"))
+			what = fmt.Sprintf("each of %s in each of its 4 states", plural(len(pairs), "pair"))
 		}
 		fmt.Fprintf(e.stdout, "wrote %s: %d preparations (%s) × %s = %s on %d qubits\n",
 			outName(*out), len(preps), what, plural(*shots, "shot"), plural(len(preps)**shots, "shot"), *qubits)
@@ -136,8 +136,9 @@ func parsePairs(s string, n int) ([][2]int, error) {
 		}
 		out = append(out, [2]int{x, y})
 	}
-	if _, err := estimate.NewPairCalibration(n, out); err != nil {
-		return nil, badf("-pairs: %s", strings.TrimPrefix(strings.TrimPrefix(err.Error(), "estimate: "), estimate.ErrFormat.Error()+": "))
+	if _, err := estimate.PairCalibrationPreparations(n, out); err != nil {
+		_, why, _ := strings.Cut(err.Error(), estimate.ErrFormat.Error()+": ")
+		return nil, badf("-pairs: %s", why)
 	}
 	return out, nil
 }
