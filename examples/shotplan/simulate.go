@@ -198,10 +198,11 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Depolarizing string   `json:"depolarizing,omitempty"`
 			Dephasing    string   `json:"dephasing,omitempty"`
 			PairFlip     string   `json:"pair_flip,omitempty"`
+			Pairs        string   `json:"pairs,omitempty"`
 			Sector       string   `json:"sector"`
 			Calibration  string   `json:"calibration_output,omitempty"`
 			CalShots     int      `json:"calibration_shots,omitempty"`
-		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, sec.String(), *calOut, *calShots}
+		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, *pairsFlag, sec.String(), *calOut, *calShots}
 		if ground != nil {
 			res.GroundEnergy, res.Energy = &ground.Energy, ground.Energy
 		}
@@ -212,7 +213,11 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
-		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", *pairFlip}} {
+		flips := *pairFlip
+		if flips != "" && *pairsFlag != "" {
+			flips += " on pairs " + *pairsFlag
+		}
+		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", flips}} {
 			if n[1] != "" {
 				fmt.Fprintf(e.stdout, ", %s %s", n[0], n[1])
 			}
