@@ -57,6 +57,85 @@ func pairsProblem(pairs [][2]int, n int) string {
 	return ""
 }
 
+// PairReadout is a design readout model of a pair of qubits A and B:
+// Matrix[r][s] = P(read r | true s), s, r = bit(A) + 2·bit(B); every
+// column sums to 1.
+type PairReadout struct {
+	A, B   int
+	Matrix [4][4]float64
+}
+
+// ObservedPairs returns the pairs' readout matrices observed in the
+// calibration (the fractions of each prepared state's reads); a pair never
+// prepared in one of its states is an error.
+func (c *Calibration) ObservedPairs() ([]PairReadout, error) {
+	out := make([]PairReadout, len(c.Pairs))
+	for k, p := range c.Pairs {
+		out[k].A, out[k].B = p.A, p.B
+		for s := range 4 {
+			tot := 0
+			for r := range 4 {
+				tot += p.Counts[s][r]
+			}
+			if tot == 0 {
+				return nil, fmt.Errorf("estimate: %w: pair (%d, %d) was never prepared in %d%d", ErrFormat, p.A, p.B, s&1, s>>1)
+			}
+			for r := range 4 {
+				out[k].Matrix[r][s] = float64(p.Counts[s][r]) / float64(tot)
+			}
+		}
+	}
+	return out, nil
+}
+
+// ExpectedPairCalibration returns the calibration of shots shots of each of
+// the four preparations of [PairCalibrationPreparations] whose counts are
+// the expected ones, rounded: round(P·2·shots) flips of each unpaired
+// qubit's rates (from rates, one per qubit; entries of paired qubits are
+// ignored) and round(Matrix[r][s]·shots) reads r of each pair prepared in
+// s. It plans calibrations (guarantee's PlanReadoutBudget).
+func ExpectedPairCalibration(rates []Readout, pairs []PairReadout, shots int) (*Calibration, error) {
+	n := len(rates)
+	list := make([][2]int, len(pairs))
+	for k, p := range pairs {
+		list[k] = [2]int{p.A, p.B}
+		for s := range 4 {
+			sum := 0.0
+			for r := range 4 {
+				v := p.Matrix[r][s]
+				if !(v >= 0 && v <= 1) {
+					return nil, fmt.Errorf("estimate: %w: pair (%d, %d): P(read %d | %d) = %v is not a probability", ErrFormat, p.A, p.B, r, s, v)
+				}
+				sum += v
+			}
+			if math.Abs(sum-1) > 1e-9 {
+				return nil, fmt.Errorf("estimate: %w: pair (%d, %d): the reads of state %d have probabilities summing to %v, not 1", ErrFormat, p.A, p.B, s, sum)
+			}
+		}
+	}
+	c, err := NewPairCalibration(n, list)
+	if err != nil {
+		return nil, err
+	}
+	if shots < 0 {
+		return nil, fmt.Errorf("estimate: %w: %d calibration shots", ErrFormat, shots)
+	}
+	for q, e := range rates {
+		c.Counts[q] = QubitCounts{
+			Zero: 2 * shots, Flips01: int(math.Round(e.P01 * float64(2*shots))),
+			One: 2 * shots, Flips10: int(math.Round(e.P10 * float64(2*shots))),
+		}
+	}
+	for k, p := range pairs {
+		for s := range 4 {
+			for r := range 4 {
+				c.Pairs[k].Counts[s][r] = int(math.Round(p.Matrix[r][s] * float64(shots)))
+			}
+		}
+	}
+	return c, nil
+}
+
 // NewPairCalibration returns an empty calibration of n qubits that also
 // counts every pair of pairs in its 4×4 form ([Calibration.Add] fills
 // both). The pairs must be disjoint, of distinct qubits below n.

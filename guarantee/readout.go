@@ -20,6 +20,11 @@ type ReadoutOptions struct {
 	// Exclude marks terms left out of the estimate, as in
 	// [EmpiricalOptions]; their |h_i| is added to the bias.
 	Exclude []bool
+	// Pairs, if not nil, makes [PlanReadoutBudget] plan a calibration of
+	// these disjoint pairs read through their 4×4 design matrices (MATH.md
+	// §2.1.5): four preparations ([estimate.PairCalibrationPreparations])
+	// instead of two.
+	Pairs []estimate.PairReadout
 }
 
 // ReadoutBound holds the bounds of a readout-mitigated grouped estimate

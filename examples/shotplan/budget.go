@@ -41,6 +41,7 @@ type budgetRow struct {
 type readoutBudgetRow struct {
 	Reachable         bool    `json:"reachable"`
 	CalibrationShots  int     `json:"calibration_shots"`
+	Preparations      int     `json:"preparations"`
 	Copies            int     `json:"copies"`
 	MeasurementShots  int     `json:"measurement_shots"`
 	TotalShots        int     `json:"total_shots"`
@@ -63,6 +64,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 	readout := fs.String("readout", "", "also plan calibration and measurement shots for the readout-mitigated certificate, for these expected flip rates: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "like -readout, with the flip rates observed in this calibration records file (see calibrate)")
 	calDelta := fs.Float64("calibration-delta", 0, "with -readout or -calibration: part of -delta spent on the calibration intervals (default -delta/4)")
+	pairsFlag := fs.String("pairs", "", "with -calibration: plan a calibration of these disjoint pairs read through 4×4 models (as calibrate -pairs), their matrices as observed in the file: A-B,C-D")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -94,7 +96,14 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		rates, err := budgetRates(*readout, *calibration, h.Qubits(), *delta, *calDelta)
+		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		if err != nil {
+			return err
+		}
+		if pairs != nil && *calibration == "" {
+			return badf("-pairs without -calibration: the pairs' 4×4 readout models are taken from calibration records")
+		}
+		rates, pairModels, err := budgetRates(*readout, *calibration, pairs, h.Qubits(), *delta, *calDelta)
 		if err != nil {
 			return err
 		}
@@ -103,7 +112,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			if name == "fixed" {
 				continue
 			}
-			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, rates, *calDelta)
+			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, rates, pairModels, *calDelta)
 			if err != nil {
 				return err
 			}
@@ -149,43 +158,55 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 // budgetRates returns the expected flip rates of -readout or of the
 // calibration file of -calibration (the observed fractions), nil for
 // neither.
-func budgetRates(readout, calPath string, qubits int, delta, calDelta float64) ([]estimate.Readout, error) {
+func budgetRates(readout, calPath string, pairs [][2]int, qubits int, delta, calDelta float64) ([]estimate.Readout, []estimate.PairReadout, error) {
 	switch {
 	case readout != "" && calPath != "":
-		return nil, badf("-readout and -calibration both given: give the expected rates or a calibration to take them from")
+		return nil, nil, badf("-readout and -calibration both given: give the expected rates or a calibration to take them from")
 	case readout == "" && calPath == "":
 		if calDelta != 0 {
-			return nil, badf("-calibration-delta without -readout or -calibration")
+			return nil, nil, badf("-calibration-delta without -readout or -calibration")
 		}
-		return nil, nil
+		return nil, nil, nil
 	}
 	if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
-		return nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
+		return nil, nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
 	}
 	if readout != "" {
-		return parseReadout(readout, qubits)
+		r, err := parseReadout(readout, qubits)
+		return r, nil, err
 	}
-	cal, err := estimate.ReadCalibrationFile(calPath)
+	cal, err := loadCalibration(calPath, pairs, qubits)
 	if err != nil {
-		return nil, bad(err)
+		return nil, nil, err
 	}
-	if cal.Qubits() != qubits {
-		return nil, badf("%s: calibration of %d qubits, the Hamiltonian has %d", calPath, cal.Qubits(), qubits)
+	paired := make([]bool, qubits)
+	for _, p := range pairs {
+		paired[p[0]], paired[p[1]] = true, true
 	}
 	rates := make([]estimate.Readout, qubits)
 	for q, k := range cal.Counts {
+		if paired[q] {
+			continue // read through its pair's matrix
+		}
 		if k.Zero == 0 {
-			return nil, badf("%s: qubit %d was never prepared in 0: its rate P01 is unknown", calPath, q)
+			return nil, nil, badf("%s: qubit %d was never prepared in 0: its rate P01 is unknown", calPath, q)
 		}
 		if k.One == 0 {
-			return nil, badf("%s: qubit %d was never prepared in 1: its rate P10 is unknown", calPath, q)
+			return nil, nil, badf("%s: qubit %d was never prepared in 1: its rate P10 is unknown", calPath, q)
 		}
 		rates[q] = estimate.Readout{P01: float64(k.Flips01) / float64(k.Zero), P10: float64(k.Flips10) / float64(k.One)}
 		if rates[q].P01+rates[q].P10 >= 1 {
-			return nil, badf("%s: qubit %d: observed P01 + P10 = %.3g leaves nothing to mitigate (need < 1)", calPath, q, rates[q].P01+rates[q].P10)
+			return nil, nil, badf("%s: qubit %d: observed P01 + P10 = %.3g leaves nothing to mitigate (need < 1)", calPath, q, rates[q].P01+rates[q].P10)
 		}
 	}
-	return rates, nil
+	if pairs == nil {
+		return rates, nil, nil
+	}
+	models, err := cal.ObservedPairs()
+	if err != nil {
+		return nil, nil, badf("%s: %w", calPath, err)
+	}
+	return rates, models, nil
 }
 
 // printReadoutBudget prints the readout-aware budget of every strategy.
@@ -207,7 +228,7 @@ func (e *env) printReadoutBudget(rows []budgetRow, ham string, eps, delta float6
 			continue
 		}
 		b := r.Readout
-		fmt.Fprintf(tw, "%-*s\t%d\t2×%d\t%d\t%d\t%d\t%.3g\t%s\t\n", width, r.Strategy, r.Reference, b.CalibrationShots, b.Copies,
+		fmt.Fprintf(tw, "%-*s\t%d\t%d×%d\t%d\t%d\t%d\t%.3g\t%s\t\n", width, r.Strategy, r.Reference, b.Preparations, b.CalibrationShots, b.Copies,
 			b.MeasurementShots, b.TotalShots, b.CalibrationBias, plain)
 	}
 	tw.Flush()
@@ -223,7 +244,7 @@ func (e *env) printReadoutBudget(rows []budgetRow, ham string, eps, delta float6
 
 // budgetFor plans the reference plan of one strategy and counts its copies;
 // with rates, also the readout-aware budget of calibration and copies.
-func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, rates []estimate.Readout, calDelta float64) (budgetRow, error) {
+func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
 	start := time.Now()
 	row := budgetRow{Strategy: name}
 	a, err := allocate.ByName(name, seed)
@@ -262,14 +283,14 @@ func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64,
 		if row.Readout.CalibrationDelta == 0 {
 			row.Readout.CalibrationDelta = delta / 4
 		}
-		rb, err := guarantee.PlanReadoutBudget(h, p.Settings, p.Shots, rates, eps, delta, &guarantee.ReadoutOptions{CalibrationDelta: calDelta})
+		rb, err := guarantee.PlanReadoutBudget(h, p.Settings, p.Shots, rates, eps, delta, &guarantee.ReadoutOptions{CalibrationDelta: calDelta, Pairs: pairs})
 		if err != nil {
 			// The inputs were checked: what is left is a target no
 			// calibration size reaches with this plan.
 			row.Readout.UnreachableReason = strings.TrimPrefix(err.Error(), "guarantee: ")
 		} else {
 			*row.Readout = readoutBudgetRow{
-				Reachable: true, CalibrationShots: rb.CalibrationShots, Copies: rb.Repeat,
+				Reachable: true, CalibrationShots: rb.CalibrationShots, Preparations: rb.Preparations, Copies: rb.Repeat,
 				MeasurementShots: rb.MeasurementShots, TotalShots: rb.TotalShots,
 				CalibrationBias: rb.CalibrationBias, Radius: rb.Radius, Bias: rb.Bias, Bound: rb.Certified,
 				CalibrationDelta: row.Readout.CalibrationDelta,
@@ -352,8 +373,11 @@ and copies k of the reference plan, the pair with the fewest total shots
 2C + k × reference whose planned certificate (calibration bias + radius +
 bias, at the expected calibration counts) is ≤ ε. -calibration-delta of δ
 goes to the calibration intervals. The plan is for the expected counts; a
-real calibration's intervals vary. JSON key readout, per strategy:
-reachable, calibration_shots (per preparation), copies, measurement_shots,
+real calibration's intervals vary. With -pairs A-B,C-D (and -calibration)
+the calibration is that of calibrate -pairs: four preparations, the pairs
+read through 4×4 models observed in the file (MATH.md §2.1.5), total
+4C + k × reference. JSON key readout, per strategy: reachable,
+calibration_shots (per preparation), preparations, copies, measurement_shots,
 total_shots, calibration_bias, radius, bias, certified_bound,
 calibration_delta, unreachable (why not, when not reachable).
 `

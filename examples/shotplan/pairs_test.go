@@ -67,6 +67,16 @@ func TestPairCalibrationWorkflow(t *testing.T) {
 		t.Errorf("estimate -observables -pairs: %+v", c)
 	}
 
+	// budget plans a pair calibration from the matrices the file shows.
+	var bud struct {
+		Rows []budgetRow `json:"strategies"`
+	}
+	okJSON(t, &bud, "budget", "-ham", ham, "-eps", "0.1", "-calibration", cal, "-pairs", "0-1,2-3", "-strategy", "greedy")
+	if r := bud.Rows[0]; r.Readout == nil || !r.Readout.Reachable || r.Readout.Preparations != 4 ||
+		r.Readout.TotalShots != 4*r.Readout.CalibrationShots+r.Readout.Copies*r.Reference || r.Readout.Bound > 0.1 {
+		t.Errorf("budget -pairs: %+v", bud.Rows[0].Readout)
+	}
+
 	est := []string{"estimate", "-ham", ham, "-plan", planPath, "-records", rec}
 	for _, c := range []struct {
 		args []string
@@ -79,6 +89,7 @@ func TestPairCalibrationWorkflow(t *testing.T) {
 		{append(slices.Clone(est), "-calibration", cal, "-pairs", "1-1"), []string{"-pairs", "two different qubits"}},
 		{[]string{"simulate", "-ham", ham, "-plan", planPath, "-pair-flip", "0.1", "-pairs", "0-2", "-o", filepath.Join(dir, "x.csv")}, []string{"-pairs 0-2", "neighbouring"}},
 		{[]string{"calibrate", "-qubits", "4", "-pairs", "0-1,1-2", "-shots", "5", "-o", filepath.Join(dir, "y.csv")}, []string{"-pairs", "disjoint"}},
+		{[]string{"budget", "-ham", ham, "-eps", "0.1", "-readout", "0.01", "-pairs", "0-1"}, []string{"-pairs without -calibration"}},
 	} {
 		code, _, errOut := sp(t, c.args...)
 		if code != 2 || strings.Count(errOut, "\n") != 1 {
