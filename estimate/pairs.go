@@ -216,6 +216,7 @@ func ReadCalibrationPairsFile(path string, pairs [][2]int) (*Calibration, error)
 // on the bias of its mean over the calibration's confidence region.
 type pairBlock struct {
 	a, b int
+	lo   int // min(a, b): the qubit a term reading both is mitigated at
 	g    [4][4]float64
 	half [4]float64
 	eps  [4]float64
@@ -225,7 +226,7 @@ type pairBlock struct {
 // counts, with Clopper–Pearson intervals at level alpha for each of the 16
 // cells.
 func newPairBlock(p PairCounts, alpha float64) (pairBlock, error) {
-	blk := pairBlock{a: p.A, b: p.B}
+	blk := pairBlock{a: p.A, b: p.B, lo: min(p.A, p.B)}
 	var at [16]float64    // Ãᵀ: at[s*4+r] = Ã[r][s] = P̃(read r | prepared s)
 	var dev [4][4]float64 // dev[s][r]: largest |A − Ã| in the cell's interval
 	for s := range 4 {
@@ -381,13 +382,14 @@ func (m *Mitigation) pairSample(mask []uint64, b pauli.Bits) float64 {
 				v *= m.f[q][bw>>t&1]
 				continue
 			}
-			s, first := m.firstOfPair(mask, q, int(k))
-			if !first {
-				continue
-			}
 			p := &m.pairs[k]
-			r := b.Get(p.a) + 2*b.Get(p.b)
-			v *= p.g[s][r]
+			sa := mask[p.a>>6] >> (p.a & 63) & 1
+			sb := mask[p.b>>6] >> (p.b & 63) & 1
+			if sa&sb == 1 && q != p.lo {
+				continue // both read: the factor is taken at the lower qubit
+			}
+			r := b[p.a>>6]>>(p.a&63)&1 | (b[p.b>>6]>>(p.b&63)&1)<<1
+			v *= p.g[sa|sb<<1][r]
 		}
 	}
 	return v
