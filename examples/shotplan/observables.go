@@ -77,6 +77,14 @@ func readoutOptions(ro []estimate.Readout, calPath string, pairs [][2]int, qubit
 	if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
 		return nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
 	}
+	// Refuse a calibration with nothing to invert here, naming the file.
+	dc := calDelta
+	if dc == 0 {
+		dc = delta / 4
+	}
+	if _, err := cal.Mitigation(dc); err != nil {
+		return nil, badf("%s: %w", calPath, err)
+	}
 	return &guarantee.AllOptions{Calibration: cal, CalibrationDelta: calDelta}, nil
 }
 
