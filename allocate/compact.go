@@ -46,7 +46,7 @@ const coverPerLine = 64
 func (p *Plan) Compact() *Plan {
 	index := make(map[string]int)
 	of := make([]int, len(p.Settings))
-	q := &Plan{Qubits: p.Qubits, Cover: append([]int(nil), p.Cover...), Stats: p.Stats}
+	q := &Plan{Qubits: p.Qubits, Cover: append([]int(nil), p.Cover...), Stats: p.Stats, Split: cloneSplit(p.Split)}
 	for k, s := range p.Settings {
 		key := s.Key()
 		j, ok := index[key]
