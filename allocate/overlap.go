@@ -22,13 +22,17 @@ import (
 //
 // # Groups
 //
-// The terms are taken by |h_i| descending (ties by index). The first term
-// not yet in any group seeds a new group, and then every term, in the same
-// order and whether or not it is already in a group, joins the group when
-// it commutes qubit-wise with the group's letters so far. A group is thus
-// maximal (no further term fits its letters) and a term lies in every group
-// whose setting covers it: the groups overlap. Free qubits get Fill, and a
-// group whose setting repeats an earlier one is dropped.
+// The groups start as those of sorted insertion ([Sorted]: terms by |h_i|
+// descending, ties by index, each into the first group whose letters it
+// agrees with). Each group is then extended: every term, in the same order
+// and whatever its own group, joins it when it commutes qubit-wise with the
+// group's letters so far. A group is thus maximal (no further term fits its
+// letters) and a term lies in every group whose setting covers it: the
+// groups overlap. Free qubits get Fill, and a group whose setting repeats
+// an earlier one is merged into it. The weights start at sorted insertion's
+// partition (each term wholly in its first group), so the optimisation
+// starts from sorted insertion's plan and, under the model, only improves
+// on it.
 //
 // # Splitting and shots
 //
@@ -57,8 +61,8 @@ import (
 //
 // # Cost
 //
-// Grouping reads every term once per group: O(G·M·n/64) for G groups of M
-// terms on n qubits. With no proxy a round costs O(Σ_g k_g) for groups of
+// Grouping reads every term once per group, twice: O(G·M·n/64) for G
+// groups of M terms on n qubits. With no proxy a round costs O(Σ_g k_g) for groups of
 // k_g terms. With a proxy the model keeps each group's covariance matrix,
 // Σ_g k_g² numbers (at most 2^23, else Init fails), each from one proxy
 // expectation per distinct product P_i P_j (cached; for a [StateProxy]
@@ -71,7 +75,10 @@ type Overlap struct {
 	Proxy Proxy
 	// Floor is the weight of the state-free model in the covariances when
 	// Proxy is set, in (0, 1]: it keeps every group that holds a term
-	// measured and stands for the proxy's error. Zero means 0.1.
+	// measured and stands for the proxy's error. Zero means 0.01, the best
+	// of 0.3, 0.1, 0.03, 0.01 for ε²M on LiH and H2O with the
+	// Hartree–Fock proxy (BENCHMARKS.md); a larger floor trades ε²M for a
+	// smaller certified bound.
 	Floor float64
 	// Rounds is the largest number of alternating rounds; zero means 50.
 	Rounds int
@@ -102,7 +109,7 @@ func (o *Overlap) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	floor := o.Floor
 	switch {
 	case floor == 0:
-		floor = 0.1
+		floor = 0.01
 	case !(floor > 0 && floor <= 1):
 		return fmt.Errorf("overlap: floor %v is not in (0, 1]", o.Floor)
 	}
@@ -117,8 +124,8 @@ func (o *Overlap) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		return fmt.Errorf("overlap: %w", err)
 	}
 	o.split = nil
-	settings := overlapGroups(h, fill)
-	md, err := newSplitModel(h, settings, o.Proxy, floor)
+	settings, home := overlapGroups(h, fill)
+	md, err := newSplitModel(h, settings, home, o.Proxy, floor)
 	if err != nil {
 		return fmt.Errorf("overlap: %w", err)
 	}
@@ -157,61 +164,91 @@ func checkProxyWidth(px Proxy, n int) error {
 }
 
 // overlapGroups returns the distinct settings of the overlapping groups
-// (see [Overlap]).
-func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) []pauli.Setting {
+// (see [Overlap]) and every term's home: the group sorted insertion put it
+// in, an index into the settings.
+func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
 	rk := newRanked(h)
 	n, w, m := rk.n, rk.w, len(rk.order)
-	inGroup := make([]bool, m)
-	gx, gz, gm := make([]uint64, w), make([]uint64, w), make([]uint64, w)
-	fx, fz := letterBits(fill)
-	seen := make(map[string]bool)
-	var out []pauli.Setting
-	for seed := range m {
-		if inGroup[seed] {
-			continue
-		}
-		// The seed first, then every term in rank order that fits.
-		sx, sz := rk.row(seed)
+	// fits reports whether the term with words x, z agrees with the
+	// letters gx, gz on the qubits gm where both act.
+	fits := func(x, z, gx, gz, gm []uint64) bool {
 		for k := range w {
-			gx[k], gz[k], gm[k] = sx[k], sz[k], sx[k]|sz[k]
+			if ((x[k]^gx[k])|(z[k]^gz[k]))&(x[k]|z[k])&gm[k] != 0 {
+				return false
+			}
 		}
-		inGroup[seed] = true
+		return true
+	}
+	// Sorted insertion: first fit in rank order.
+	var gx, gz, gm []uint64
+	homeRank := make([]int, m)
+	groups := 0
+	for r := range m {
+		x, z := rk.row(r)
+		g := 0
+		for ; g < groups; g++ {
+			if fits(x, z, gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]) {
+				break
+			}
+		}
+		if g == groups {
+			gx = append(gx, make([]uint64, w)...)
+			gz = append(gz, make([]uint64, w)...)
+			gm = append(gm, make([]uint64, w)...)
+			groups++
+		}
+		for k := range w {
+			gx[g*w+k] |= x[k]
+			gz[g*w+k] |= z[k]
+			gm[g*w+k] |= x[k] | z[k]
+		}
+		homeRank[r] = g
+	}
+	// Extension: every term, in rank order, that fits a group's letters
+	// so far joins it.
+	for g := range groups {
+		ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
 		for r := range m {
 			x, z := rk.row(r)
-			ok := true
-			for k := range w {
-				// Letters must agree where both the term and the group act.
-				if ((x[k]^gx[k])|(z[k]^gz[k]))&(x[k]|z[k])&gm[k] != 0 {
-					ok = false
-					break
-				}
-			}
-			if !ok {
+			if !fits(x, z, ex, ez, em) {
 				continue
 			}
 			for k := range w {
-				gx[k] |= x[k]
-				gz[k] |= z[k]
-				gm[k] |= x[k] | z[k]
+				ex[k] |= x[k]
+				ez[k] |= z[k]
+				em[k] |= x[k] | z[k]
 			}
-			inGroup[r] = true
 		}
+	}
+	fx, fz := letterBits(fill)
+	index := make(map[string]int)
+	of := make([]int, groups)
+	var out []pauli.Setting
+	for g := range groups {
 		x, z := make([]uint64, w), make([]uint64, w)
 		for k := range w {
-			free := rk.all[k] &^ gm[k]
-			x[k] = gx[k] | free&fx
-			z[k] = gz[k] | free&fz
+			free := rk.all[k] &^ gm[g*w+k]
+			x[k] = gx[g*w+k] | free&fx
+			z[k] = gz[g*w+k] | free&fz
 		}
 		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
 		if err != nil {
 			panic("allocate: overlap built an invalid setting") // letters are X, Y or Z on every qubit
 		}
-		if key := st.Key(); !seen[key] {
-			seen[key] = true
+		key := st.Key()
+		j, ok := index[key]
+		if !ok {
+			j = len(out)
+			index[key] = j
 			out = append(out, st)
 		}
+		of[g] = j
 	}
-	return out
+	home := make([]int, m)
+	for r, i := range rk.order {
+		home[i] = of[homeRank[r]]
+	}
+	return out, home
 }
 
 // memberRef places a term in a group: group g, position k among its terms.
@@ -235,9 +272,10 @@ type splitModel struct {
 	idx     []int
 }
 
-// newSplitModel finds the terms of every group and builds the model, with
-// uniform weights to start.
-func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, px Proxy, floor float64) (*splitModel, error) {
+// newSplitModel finds the terms of every group and builds the model. The
+// weights start at sorted insertion's partition: each term's whole
+// coefficient in its home group.
+func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*splitModel, error) {
 	tab := h.Table()
 	md := &splitModel{
 		abs:     make([]float64, h.Len()),
@@ -260,7 +298,9 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, px Prox
 	}
 	for g, terms := range md.members {
 		for j, i := range terms {
-			md.alpha[g][j] = 1 / float64(len(md.refs[i]))
+			if home[i] == g {
+				md.alpha[g][j] = 1
+			}
 		}
 	}
 	if px == nil {
