@@ -756,6 +756,9 @@ func (pr *planReader) parseSplit(f *PlanFile, p *Plan, raw *rawPlan) error {
 		if len(e.Terms) != len(e.Weights) {
 			return pr.fail(line, entry, "%d terms but %d weights", len(e.Terms), len(e.Weights))
 		}
+		if len(e.Terms) == 0 {
+			return pr.fail(line, entry, "a group with no terms")
+		}
 		for k, i := range e.Terms {
 			if i < 0 || i >= len(p.Cover) {
 				return pr.fail(line, entry, "term %d outside [0, %d)", i, len(p.Cover))

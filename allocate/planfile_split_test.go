@@ -103,3 +103,61 @@ func TestReadPlanSplitErrors(t *testing.T) {
 		t.Errorf("Check of a split listing IY under ZX: %v", err)
 	}
 }
+
+// TestCompactPlanSplit writes an overlap plan in the compact layout
+// (version 4) and reads it back with the same split; a plan without a
+// split is still version 2; a bad split line is refused naming the line.
+func TestCompactPlanSplit(t *testing.T) {
+	h := mustH(t, 0, "ZI", 1.0, "IX", 0.5, "IY", 0.2, "ZZ", 0.3)
+	p, err := allocate.Run(h, 37, &allocate.Overlap{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b bytes.Buffer
+	if err := allocate.WriteCompactPlan(&b, p, 0); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.HasPrefix(b.String(), `{"format": "shotplan plan", "version": 4,`) {
+		t.Fatalf("compact plan with a split:\n%s", b.String())
+	}
+	f, err := allocate.ReadPlan(&b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Check(h); err != nil {
+		t.Fatal(err)
+	}
+	if d := cmp.Diff(p.Split, f.Plan.Split, cmp.Comparer(func(a, b interface{ Key() string }) bool { return a.Key() == b.Key() })); d != "" {
+		t.Errorf("split read back differs (-wrote +read):\n%s", d)
+	}
+	q := *p
+	q.Split = nil
+	b.Reset()
+	if err := allocate.WriteCompactPlan(&b, &q, 0); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.HasPrefix(b.String(), `{"format": "shotplan plan", "version": 2,`) {
+		t.Errorf("compact plan without a split:\n%s", b.String())
+	}
+	head := func(v string) string {
+		return `{"format": "shotplan plan", "version": ` + v + `, "qubits": 2, "strategy": "overlap", "seed": 0, "shots": 5, "settings": 2, "terms": 3, "drawn": false}` + "\n"
+	}
+	tail := `{"cover": [5, 3, 2]}` + "\n"
+	for _, c := range []struct {
+		name, file, want string
+		line             int
+	}{
+		{"split in version 2", head("2") + `{"setting": "ZX", "shots": 3, "split": [[0, 1]]}` + "\n" + `{"setting": "ZY", "shots": 2}` + "\n" + tail, "needs version 4", 2},
+		{"sum", head("4") + `{"setting": "ZX", "shots": 3, "split": [[0, 0.25]]}` + "\n" + `{"setting": "ZY", "shots": 2, "split": [[0, 0.5]]}` + "\n" + tail, "add up to 0.75", 2},
+		{"negative", head("4") + `{"setting": "ZX", "shots": 3, "split": [[0, -0.5]]}` + "\n" + `{"setting": "ZY", "shots": 2}` + "\n" + tail, "weight -0.5", 2},
+		{"range", head("4") + `{"setting": "ZX", "shots": 3}` + "\n" + `{"setting": "ZY", "shots": 2, "split": [[9, 1]]}` + "\n" + tail, "term 9 outside [0, 3)", 3},
+		{"pair", head("4") + `{"setting": "ZX", "shots": 3, "split": [[0]]}` + "\n" + `{"setting": "ZY", "shots": 2}` + "\n" + tail, "want a pair", 2},
+		{"no split", head("4") + `{"setting": "ZX", "shots": 3}` + "\n" + `{"setting": "ZY", "shots": 2}` + "\n" + tail, "without a \"split\"", 1},
+	} {
+		_, err := allocate.ReadPlan(strings.NewReader(c.file))
+		var pe *allocate.PlanFileError
+		if !errors.As(err, &pe) || pe.Line != c.line || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%s: %v, want line %d containing %q", c.name, err, c.line, c.want)
+		}
+	}
+}
