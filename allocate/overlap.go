@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -317,9 +318,20 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	// cached by their words.
 	n, w := h.Qubits(), pauli.Words(h.Qubits())
 	mean := make([]float64, h.Len())
+	expect := func(p pauli.String) (float64, error) {
+		e := px.Expect(p)
+		if !(math.Abs(e) <= 1+1e-9) {
+			return 0, fmt.Errorf("the proxy gives ⟨%s⟩ = %v, outside [−1, 1]", inputcap.Clip(p.String()), e)
+		}
+		return e, nil
+	}
 	for i := range mean {
 		if len(md.refs[i]) > 0 {
-			mean[i] = px.Expect(h.Pauli(i))
+			e, err := expect(h.Pauli(i))
+			if err != nil {
+				return nil, err
+			}
+			mean[i] = e
 		}
 	}
 	cache := make(map[string]float64)
@@ -344,7 +356,10 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 				}
 				e, ok := cache[string(key)]
 				if !ok {
-					e = px.Expect(pauli.FromWords(n, px2, pz2))
+					var err error
+					if e, err = expect(pauli.FromWords(n, px2, pz2)); err != nil {
+						return nil, err
+					}
 					cache[string(key)] = e
 				}
 				v := (1 - floor) * coef[i] * coef[j] * (e - mean[i]*mean[j])

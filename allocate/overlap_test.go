@@ -213,3 +213,35 @@ func referenceOverlapGroups(h *hamiltonian.Hamiltonian) []string {
 	}
 	return out
 }
+
+// badProxy returns a number outside [−1, 1] for every string.
+type badProxy struct{}
+
+func (badProxy) Expect(pauli.String) float64 { return 2 }
+
+// TestOverlapProxyChecks checks that a proxy of the wrong width or with an
+// expectation outside [−1, 1], and a floor outside (0, 1], are refused
+// with errors that say so.
+func TestOverlapProxyChecks(t *testing.T) {
+	h := mustH(t, 0, "ZI", 1.0, "IX", 0.5, "IY", 0.2)
+	psi := make([]complex128, 8)
+	psi[0] = 1
+	three, err := allocate.NewStateProxy(psi)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		a    *allocate.Overlap
+		want string
+	}{
+		{&allocate.Overlap{Proxy: three}, "proxy state has 3 qubits, Hamiltonian has 2"},
+		{&allocate.Overlap{Proxy: badProxy{}}, "outside [−1, 1]"},
+		{&allocate.Overlap{Proxy: allocate.BasisProxy{}}, "proxy basis state has 0 words"},
+		{&allocate.Overlap{Floor: 1.5}, "floor 1.5 is not in (0, 1]"},
+		{&allocate.Overlap{Rounds: -1}, "negative round count"},
+	} {
+		if _, err := allocate.Run(h, 10, c.a, nil); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("Run = %v, want an error containing %q", err, c.want)
+		}
+	}
+}

@@ -19,7 +19,8 @@ type Merit struct {
 	// PlanValue is M·Var(Ê) for the grouped estimate Ê of MATH.md §2 at
 	// the plan's own shot counts: with m_g shots of distinct setting g and
 	// N_i = Σ_{g∋i} m_g, Var(Ê) = Σ_g Var(O_g)/m_g where
-	// O_g = Σ_{i◁g} (m_g/N_i) h_i P_i.
+	// O_g = Σ_{i◁g} (m_g/N_i) h_i P_i, or Σ_{i◁g} α_{ig} h_i P_i with the
+	// plan's coefficient split (MATH.md §2.5).
 	PlanValue float64
 	// Optimal is (Σ_g sqrt(Var(O_g)))², the value of M·Var at the shot
 	// fractions f_g ∝ sqrt(Var(O_g)) for the same split O_g of the
