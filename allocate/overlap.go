@@ -11,14 +11,11 @@ import (
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// Overlap is overlapped grouping measurement (Wu et al., "Overlapped
-// grouping measurement: a unified framework for measuring quantum states",
-// arXiv:2105.13091) with iterative coefficient splitting (Yen et al.,
-// "Deterministic improvements of quantum measurements with grouping of
-// compatible operators, non-local transformations, and covariance
-// estimates", arXiv:2201.01471), on local (qubit-wise) settings; MATH.md
-// §2.5. Both papers are implemented from their methods as recalled from
-// memory, not from their text: the group construction, the worst-case
+// Overlap is overlapped grouping measurement (Wu et al., arXiv:2105.13091)
+// with iterative coefficient splitting (Yen et al., arXiv:2201.01471), on
+// local (qubit-wise) settings; MATH.md §2.5. Both are implemented from their
+// methods as recalled from memory, not from the papers' text (the authors
+// too are recalled, not checked): the group construction, the worst-case
 // model, the floor and the order of the updates below are ours.
 //
 // # Groups
