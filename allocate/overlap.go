@@ -311,10 +311,12 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	}
 	// ⟨P_i P_j⟩ for two strings a local setting covers: they agree where
 	// both act, so the product has the phase +1 and the words x_i ⊕ x_j,
-	// z_i ⊕ z_j (MATH.md §2.5). Products repeat across groups; they are
-	// cached by their words.
+	// z_i ⊕ z_j (MATH.md §2.5). A StateProxy gives every expectation of a
+	// group at once from the Walsh–Hadamard transform of the setting's Born
+	// probabilities, F[m] = ⟨P⟩ for the covered string P of support m
+	// (MATH.md §2.3); another proxy is asked string by string, the
+	// products cached by their words.
 	n, w := h.Qubits(), pauli.Words(h.Qubits())
-	mean := make([]float64, h.Len())
 	expect := func(p pauli.String) (float64, error) {
 		e := px.Expect(p)
 		if !(math.Abs(e) <= 1+1e-9) {
@@ -322,13 +324,21 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		}
 		return e, nil
 	}
-	for i := range mean {
-		if len(md.refs[i]) > 0 {
-			e, err := expect(h.Pauli(i))
-			if err != nil {
-				return nil, err
+	sp, fast := px.(*StateProxy)
+	var born *bornTransform
+	var mean []float64
+	if fast {
+		born = newBornTransform(sp)
+	} else {
+		mean = make([]float64, h.Len())
+		for i := range mean {
+			if len(md.refs[i]) > 0 {
+				e, err := expect(h.Pauli(i))
+				if err != nil {
+					return nil, err
+				}
+				mean[i] = e
 			}
-			mean[i] = e
 		}
 	}
 	cache := make(map[string]float64)
@@ -337,29 +347,48 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	coef := h.Coeffs()
 	md.cov = make([][]float64, len(settings))
 	md.y = make([][]float64, len(settings))
+	var gm []float64 // the group's ⟨P_i⟩
 	for g, terms := range md.members {
 		k := len(terms)
 		a := make([]float64, k*k)
+		var f []float64
+		gm = gm[:0]
+		for _, i := range terms {
+			if fast {
+				if f == nil {
+					f = born.of(settings[g])
+				}
+				x, z := tab.Words(i)
+				gm = append(gm, f[x[0]|z[0]])
+			} else {
+				gm = append(gm, mean[i])
+			}
+		}
 		for r, i := range terms {
 			xi, zi := tab.Words(i)
-			a[r*k+r] = coef[i] * coef[i] * ((1-floor)*(1-mean[i]*mean[i]) + floor)
+			a[r*k+r] = coef[i] * coef[i] * ((1-floor)*(1-gm[r]*gm[r]) + floor)
 			for c := r + 1; c < k; c++ {
 				j := terms[c]
 				xj, zj := tab.Words(j)
-				for t := range w {
-					px2[t], pz2[t] = xi[t]^xj[t], zi[t]^zj[t]
-					binary.LittleEndian.PutUint64(key[16*t:], px2[t])
-					binary.LittleEndian.PutUint64(key[16*t+8:], pz2[t])
-				}
-				e, ok := cache[string(key)]
-				if !ok {
-					var err error
-					if e, err = expect(pauli.FromWords(n, px2, pz2)); err != nil {
-						return nil, err
+				var e float64
+				if fast {
+					e = f[(xi[0]|zi[0])^(xj[0]|zj[0])]
+				} else {
+					for t := range w {
+						px2[t], pz2[t] = xi[t]^xj[t], zi[t]^zj[t]
+						binary.LittleEndian.PutUint64(key[16*t:], px2[t])
+						binary.LittleEndian.PutUint64(key[16*t+8:], pz2[t])
 					}
-					cache[string(key)] = e
+					var ok bool
+					if e, ok = cache[string(key)]; !ok {
+						var err error
+						if e, err = expect(pauli.FromWords(n, px2, pz2)); err != nil {
+							return nil, err
+						}
+						cache[string(key)] = e
+					}
 				}
-				v := (1 - floor) * coef[i] * coef[j] * (e - mean[i]*mean[j])
+				v := (1 - floor) * coef[i] * coef[j] * (e - gm[r]*gm[c])
 				a[r*k+c], a[c*k+r] = v, v
 			}
 		}
@@ -639,4 +668,57 @@ func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian
 		}
 	}
 	return out
+}
+
+// bornTransform computes, for a local setting, the Walsh–Hadamard transform
+// F[m] = Σ_b p(b)(−1)^{|b∧m|} of the Born probabilities of a StateProxy's
+// state measured in the setting: F[m] is ⟨P⟩ for the string P of support m
+// with the setting's letters there (MATH.md §2.3). Each qubit read in X is
+// rotated by H, in Y by H·S†, which take the +1 eigenvector to |0⟩
+// (textbook); the cost is n·2^n operations per setting.
+type bornTransform struct {
+	amp, buf []complex128
+	n        int
+	p        []float64
+}
+
+func newBornTransform(s *StateProxy) *bornTransform {
+	return &bornTransform{amp: s.amp, n: s.n, buf: make([]complex128, len(s.amp)), p: make([]float64, len(s.amp))}
+}
+
+// of returns F for the setting st; the slice is reused by the next call.
+func (b *bornTransform) of(st pauli.Setting) []float64 {
+	copy(b.buf, b.amp)
+	r := complex(1/math.Sqrt2, 0)
+	for q := range b.n {
+		l := st.At(q)
+		if l == pauli.Z {
+			continue
+		}
+		bit := 1 << q
+		for i := range b.buf {
+			if i&bit != 0 {
+				continue
+			}
+			a0, a1 := b.buf[i], b.buf[i|bit]
+			if l == pauli.X {
+				b.buf[i], b.buf[i|bit] = r*(a0+a1), r*(a0-a1)
+			} else {
+				b.buf[i], b.buf[i|bit] = r*(a0-1i*a1), r*(a0+1i*a1)
+			}
+		}
+	}
+	for i, a := range b.buf {
+		b.p[i] = real(a)*real(a) + imag(a)*imag(a)
+	}
+	// The butterfly of the fast Walsh–Hadamard transform (common practice).
+	for h := 1; h < len(b.p); h <<= 1 {
+		for i := 0; i < len(b.p); i += h << 1 {
+			for j := i; j < i+h; j++ {
+				x, y := b.p[j], b.p[j+h]
+				b.p[j], b.p[j+h] = x+y, x-y
+			}
+		}
+	}
+	return b.p
 }

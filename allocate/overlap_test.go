@@ -245,3 +245,67 @@ func TestOverlapProxyChecks(t *testing.T) {
 		}
 	}
 }
+
+// hiddenProxy hides a StateProxy's type, so that Overlap asks it string by
+// string instead of through its Born probabilities.
+type hiddenProxy struct{ allocate.Proxy }
+
+// TestOverlapStateProxyPaths checks the transform path of a StateProxy
+// (Walsh–Hadamard transform of each setting's Born probabilities) against
+// the string-by-string path (hamiltonian.Expectation of every product):
+// the same plan and, up to rounding, the same weights, on a random
+// 5-qubit state.
+func TestOverlapStateProxyPaths(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 13))
+	var terms []hamiltonian.Term
+	for range 30 {
+		l := make([]pauli.Letter, 5)
+		for q := range l {
+			if rng.IntN(2) == 0 {
+				l[q] = pauli.Letter(1 + rng.IntN(3))
+			}
+		}
+		if p := pauli.FromLetters(l); !p.IsIdentity() {
+			terms = append(terms, hamiltonian.Term{Pauli: p, Coeff: rng.NormFloat64()})
+		}
+	}
+	h, err := hamiltonian.New(5, 0, terms)
+	if err != nil {
+		t.Fatal(err)
+	}
+	psi := make([]complex128, 32)
+	norm := 0.0
+	for b := range psi {
+		psi[b] = complex(rng.NormFloat64(), rng.NormFloat64())
+		norm += real(psi[b])*real(psi[b]) + imag(psi[b])*imag(psi[b])
+	}
+	for b := range psi {
+		psi[b] /= complex(math.Sqrt(norm), 0)
+	}
+	sp, err := allocate.NewStateProxy(psi)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fast, err := allocate.Run(h, 1000, &allocate.Overlap{Proxy: sp}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	slow, err := allocate.Run(h, 1000, &allocate.Overlap{Proxy: hiddenProxy{sp}}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !slices.Equal(fast.Shots, slow.Shots) || len(fast.Split) != len(slow.Split) || len(fast.Split) == 0 {
+		t.Fatalf("shots %v and %v, %d and %d split groups", fast.Shots, slow.Shots, len(fast.Split), len(slow.Split))
+	}
+	for g := range fast.Split {
+		a, b := fast.Split[g], slow.Split[g]
+		if !a.Setting.Equal(b.Setting) || !slices.Equal(a.Terms, b.Terms) {
+			t.Fatalf("group %d: %s %v and %s %v", g, a.Setting, a.Terms, b.Setting, b.Terms)
+		}
+		for k := range a.Weights {
+			if math.Abs(a.Weights[k]-b.Weights[k]) > 1e-9 {
+				t.Errorf("group %d term %d: weight %.15g and %.15g", g, a.Terms[k], a.Weights[k], b.Weights[k])
+			}
+		}
+	}
+}
