@@ -146,3 +146,98 @@ func TestEmpiricalSplitEnergy(t *testing.T) {
 		}
 	}
 }
+
+// TestSplitVarianceSimulated checks the split estimator's spread against
+// its exact variance Var(Ê) = Σ_g Var(O_g)/m_g (MATH.md §2.5), computed by
+// MeritOf (PlanValue/M, itself checked against dense matrices in
+// TestMeritOfH2Outside): over R = 400 seeded simulations of an overlap plan
+// on a 4-qubit state, the sample variance of the estimates and the mean of
+// the squared standard errors must lie within 30% of it, and the certified
+// bound at δ = 0.05 must hold in all but at most 40 runs. False-failure
+// rates: the sample variance of 400 near-normal estimates has relative
+// standard deviation sqrt(2/399) ≈ 0.071, so 30% is 4.2σ (about 3·10^−5);
+// the mean of the squared standard errors (every setting has ≥ 2 shots, so
+// each is unbiased) varies less; a bound failing with probability 0.05
+// fails in more than 40 of 400 runs with probability 1.4·10^−5 (binomial
+// tail), and less often when it fails less.
+func TestSplitVarianceSimulated(t *testing.T) {
+	h := mustH(t, 4, -0.4, 0.9, "ZIII", -0.7, "IZII", 0.5, "ZZII", 0.45, "IIZZ", 0.3, "XXII",
+		-0.35, "IIXX", 0.2, "YYII", 0.25, "ZIZI", 0.15, "IXIX", -0.1, "XIIZ", 0.6, "IIIZ", 0.12, "ZIIX")
+	psi := make([]complex128, 16)
+	for b := range psi {
+		psi[b] = complex(math.Cos(float64(3*b)), math.Sin(float64(b*b)))
+	}
+	norm := 0.0
+	for _, a := range psi {
+		norm += real(a)*real(a) + imag(a)*imag(a)
+	}
+	for b := range psi {
+		psi[b] /= complex(math.Sqrt(norm), 0)
+	}
+	px, err := allocate.NewStateProxy(psi)
+	if err != nil {
+		t.Fatal(err)
+	}
+	const budget = 200
+	p, err := allocate.Run(h, budget, &allocate.Overlap{Proxy: px}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range p.Shots {
+		if k < 2 {
+			t.Fatalf("a setting with %d shots; the test needs ≥ 2 each", k)
+		}
+	}
+	m, err := MeritOf(h, p, psi)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := m.PlanValue / budget
+	cert, err := CertifyPlan(h, p, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	exact := h.Offset()
+	for i := range h.Len() {
+		exact += h.Coeff(i) * hamiltonian.Expectation(psi, h.Pauli(i))
+	}
+	const runs = 400
+	var e []float64
+	se2, fails := 0.0, 0
+	for r := range runs {
+		sim, err := estimate.NewSimulator(psi, uint64(1000+r), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec := estimate.NewRecords(4)
+		if err := sim.Run(p.Settings, p.Shots, rec); err != nil {
+			t.Fatal(err)
+		}
+		res, err := estimate.Grouped(h, rec, &estimate.Options{Split: p.Split})
+		if err != nil {
+			t.Fatal(err)
+		}
+		e = append(e, res.Energy)
+		se2 += res.StdErr * res.StdErr / runs
+		if math.Abs(res.Energy-exact) > cert.Bound {
+			fails++
+		}
+	}
+	mean := 0.0
+	for _, v := range e {
+		mean += v / runs
+	}
+	v := 0.0
+	for _, x := range e {
+		v += (x - mean) * (x - mean) / (runs - 1)
+	}
+	if math.Abs(v/want-1) > 0.3 {
+		t.Errorf("sample variance of the estimates %.4g, exact %.4g", v, want)
+	}
+	if math.Abs(se2/want-1) > 0.3 {
+		t.Errorf("mean squared standard error %.4g, exact variance %.4g", se2, want)
+	}
+	if fails > 40 {
+		t.Errorf("the certified bound ±%.4g failed in %d of %d runs", cert.Bound, fails, runs)
+	}
+}
