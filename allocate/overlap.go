@@ -4,7 +4,6 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
-	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/inputcap"
@@ -578,29 +577,37 @@ func (md *splitModel) set(i int, r memberRef, v float64) {
 
 // simplexMin writes into out the minimiser of Σ_j d_j x_j² + 2 e_j x_j
 // over x ≥ 0, Σ_j x_j = 1, for d_j > 0. By the KKT conditions
-// x_j = max(0, (μ − e_j)/d_j) with μ such that the x_j add up to one; the
-// terms with the smallest e_j are the ones left positive, so μ is found by
-// adding them in order of e_j (MATH.md §2.5).
+// x_j = max(0, (μ − e_j)/d_j) with μ such that the x_j add up to one, the
+// positive ones being those with e_j < μ (MATH.md §2.5). μ is found by
+// shrinking the active set (the method of projection onto the simplex
+// attributed to Michelot, 1986, recalled from memory; the argument is
+// ours): start with every j active, set μ = (1 + Σ_A e_j/d_j)/(Σ_A 1/d_j),
+// drop the j with e_j ≥ μ, repeat until none is dropped. Dropping such a j
+// does not raise μ (μ' ≤ μ exactly when e_j ≥ μ), so a dropped j stays out,
+// the active j end with e_j < μ, the dropped with e_j ≥ μ: the KKT point.
+// The j with the smallest e_j is never dropped (alone it gives
+// μ = d_j + e_j > e_j). Each pass is O(k), and there are at most k.
 func simplexMin(d, e, out []float64) {
-	order := make([]int, len(d))
-	for j := range order {
-		order[j] = j
+	for j := range out {
+		out[j] = 1 // 1: active, 0: dropped
 	}
-	slices.SortStableFunc(order, func(a, b int) int {
-		switch {
-		case e[a] < e[b]:
-			return -1
-		case e[a] > e[b]:
-			return 1
+	mu := 0.0
+	for {
+		s1, s2 := 0.0, 0.0
+		for j, a := range out {
+			if a != 0 {
+				s1 += 1 / d[j]
+				s2 += e[j] / d[j]
+			}
 		}
-		return 0
-	})
-	s1, s2, mu := 0.0, 0.0, 0.0
-	for t, j := range order {
-		s1 += 1 / d[j]
-		s2 += e[j] / d[j]
 		mu = (1 + s2) / s1
-		if t == len(order)-1 || mu <= e[order[t+1]] {
+		dropped := false
+		for j, a := range out {
+			if a != 0 && e[j] >= mu {
+				out[j], dropped = 0, true
+			}
+		}
+		if !dropped {
 			break
 		}
 	}
