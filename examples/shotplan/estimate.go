@@ -55,6 +55,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if pairs != nil && *calibration == "" {
 			return badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
 		}
+		split := f.Plan.Split
+		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
+			return badf("the plan splits coefficients between settings (-strategy overlap); -observables, -readout and -calibration do not take such plans yet")
+		}
 		if *observables != "" {
 			ropts, err := readoutOptions(ro, *calibration, pairs, h.Qubits(), *delta, *calDelta)
 			if err != nil {
@@ -65,7 +69,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if ro != nil || *calibration != "" {
 			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, pairs, *delta, *calDelta)
 		}
-		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta})
+		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta, Split: split})
 		if err != nil {
 			return err
 		}
@@ -73,7 +77,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		data, form, err := dataBound(h, rec, *delta)
+		data, form, err := dataBound(h, rec, *delta, split)
 		if err != nil {
 			return err
 		}
@@ -95,7 +99,11 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		conf := 100 * (1 - *delta)
 		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
-		fmt.Fprintf(tw, "energy\t%.8f\tgrouped estimator, %d shots on %s\n", res.Energy, res.Shots, plural(rec.Groups(), "setting"))
+		what := "grouped estimator"
+		if split != nil {
+			what = "grouped estimator with the plan's coefficient split"
+		}
+		fmt.Fprintf(tw, "energy\t%.8f\t%s, %d shots on %s\n", res.Energy, what, res.Shots, plural(rec.Groups(), "setting"))
 		fmt.Fprintf(tw, "error bar\t±%.8f\tAPPROXIMATE %g%% interval (standard error %.3g, normal approximation)\n", res.ApproxInterval[1]-res.Energy, conf, res.StdErr)
 		fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Bound, conf)
 		fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein, %s), probability ≥ %g%%\n", data.Bound, form, conf)
@@ -115,13 +123,14 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 // (guarantee.Empirical), each at δ/2, so that the one reported holds at
 // 1 − δ (a union bound), and the name of the form it came from. Pooled
 // suits settings with many shots each; residual, plans whose settings are
-// mostly measured once (MATH.md §4.3, §4.7).
-func dataBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64) (*guarantee.DataBound, string, error) {
-	pooled, err := guarantee.Empirical(h, rec, delta/2, nil)
+// mostly measured once (MATH.md §4.3, §4.7). A plan's coefficient split
+// (MATH.md §2.5), if any, is the estimate's.
+func dataBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64, split hamiltonian.Split) (*guarantee.DataBound, string, error) {
+	pooled, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Split: split})
 	if err != nil {
 		return nil, "", err
 	}
-	resid, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Form: guarantee.Residual})
+	resid, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Form: guarantee.Residual, Split: split})
 	if err != nil {
 		return nil, "", err
 	}
