@@ -45,8 +45,10 @@ type SortedGC struct {
 	// every certificate of it stays rigorous. Nil keeps the Share rule.
 	Proxy Proxy
 	// ProxyFloor is ρ of the floor above, in (0, 1]; zero means
-	// [DefaultProxyFloor].
-	ProxyFloor float64
+	// [DefaultProxyFloor]. ProxyMoment weighs by sqrt(⟨O_g²⟩_φ) instead,
+	// as for [Sorted].
+	ProxyFloor  float64
+	ProxyMoment bool
 
 	groupShots
 }
@@ -59,7 +61,7 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	rk := newRanked(h)
 	order := make([]int32, len(rk.order))
 	fillIota(order)
-	return s.init("sorted-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, budget)
+	return s.init("sorted-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, s.ProxyMoment, budget)
 }
 
 // ColorGC is largest-degree-first greedy colouring of the complement of the
@@ -90,8 +92,10 @@ type ColorGC struct {
 	// every certificate of it stays rigorous. Nil keeps the Share rule.
 	Proxy Proxy
 	// ProxyFloor is ρ of the floor above, in (0, 1]; zero means
-	// [DefaultProxyFloor].
-	ProxyFloor float64
+	// [DefaultProxyFloor]. ProxyMoment weighs by sqrt(⟨O_g²⟩_φ) instead,
+	// as for [Sorted].
+	ProxyFloor  float64
+	ProxyMoment bool
 
 	groupShots
 }
@@ -108,7 +112,7 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	fillIota(order)
 	// Ranks already order ties by |h_i| descending, then term index.
 	slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(deg[b], deg[a]) })
-	return s.init("color-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, budget)
+	return s.init("color-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, s.ProxyMoment, budget)
 }
 
 // anticommutingDegrees returns, for every rank of rk, the number of other
@@ -242,7 +246,7 @@ type groupShots struct {
 // init groups the ranks of rk, taken in the given order, by general
 // commutation, and divides budget by the share rule, or by the proxy's
 // variances if px is not nil.
-func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, px Proxy, floor float64, budget int) error {
+func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, px Proxy, floor float64, moment bool, budget int) error {
 	if err := share.check(name); err != nil {
 		return err
 	}
@@ -280,7 +284,7 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		quota = share.divide(budget, weight)
 	} else {
 		var err error
-		if quota, err = proxyQuota(name, px, floor, h, settings, members, budget); err != nil {
+		if quota, err = proxyQuota(name, px, floor, moment, h, settings, members, budget); err != nil {
 			return err
 		}
 	}

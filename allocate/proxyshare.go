@@ -22,18 +22,20 @@ const DefaultProxyFloor = 0.01
 //
 //	w_g = max(sqrt(Var_φ(O_g)), ρ·Σ_{i∈g}|h_i|),   O_g = Σ_{i∈g} h_i P_i,
 //
-// with ρ the floor (DefaultProxyFloor for 0). When budget is at least the
+// with ρ the floor (DefaultProxyFloor for 0), or with moment the same with
+// sqrt(⟨O_g²⟩_φ) = sqrt(Var_φ(O_g) + ⟨O_g⟩_φ²) in place of the standard
+// deviation. When budget is at least the
 // number of groups G, every group first gets one shot and the other
 // budget − G are rounded by [largestRemainder] in proportion to w_g;
 // otherwise all of budget is so rounded (and some groups get none).
-func proxyQuota(name string, px Proxy, floor float64, h *hamiltonian.Hamiltonian, settings []pauli.Setting, members [][]int, budget int) ([]int, error) {
+func proxyQuota(name string, px Proxy, floor float64, moment bool, h *hamiltonian.Hamiltonian, settings []pauli.Setting, members [][]int, budget int) ([]int, error) {
 	switch {
 	case floor == 0:
 		floor = DefaultProxyFloor
 	case !(floor > 0 && floor <= 1):
 		return nil, fmt.Errorf("%s: proxy floor %g, want a number in (0, 1]", name, floor)
 	}
-	w, err := proxyWeights(px, floor, h, settings, members)
+	w, err := proxyWeights(px, floor, moment, h, settings, members)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
@@ -50,7 +52,7 @@ func proxyQuota(name string, px Proxy, floor float64, h *hamiltonian.Hamiltonian
 // proxyWeights returns the weights w_g of [proxyQuota]. The coefficients
 // are divided by the largest |h_i| first, so that neither sums nor squares
 // overflow or underflow; the shares are unchanged.
-func proxyWeights(px Proxy, floor float64, h *hamiltonian.Hamiltonian, settings []pauli.Setting, members [][]int) ([]float64, error) {
+func proxyWeights(px Proxy, floor float64, moment bool, h *hamiltonian.Hamiltonian, settings []pauli.Setting, members [][]int) ([]float64, error) {
 	coef := h.Coeffs()
 	top := 0.0
 	for _, c := range coef {
@@ -69,8 +71,12 @@ func proxyWeights(px Proxy, floor float64, h *hamiltonian.Hamiltonian, settings 
 			c = append(c, coef[i]/top)
 			one += math.Abs(coef[i] / top)
 		}
-		v := vs.variance(settings[g], terms, c)
-		w[g] = max(math.Sqrt(max(v, 0)), floor*one)
+		mean, v := vs.variance(settings[g], terms, c)
+		v = max(v, 0)
+		if moment {
+			v += mean * mean
+		}
+		w[g] = max(math.Sqrt(v), floor*one)
 	}
 	return w, nil
 }
@@ -145,9 +151,9 @@ func checkBasisProxy(b BasisProxy, n int) error {
 	return nil
 }
 
-// variance returns Var_φ(Σ_j c[j] P_{terms[j]}); s is a setting that
-// covers every term.
-func (vs *proxyVariances) variance(s pauli.Setting, terms []int, c []float64) float64 {
+// variance returns the mean and variance in φ of O = Σ_j c[j] P_{terms[j]};
+// s is a setting that covers every term.
+func (vs *proxyVariances) variance(s pauli.Setting, terms []int, c []float64) (mean, v float64) {
 	switch {
 	case vs.state != nil:
 		return vs.stateVariance(s, terms, c)
@@ -155,18 +161,18 @@ func (vs *proxyVariances) variance(s pauli.Setting, terms []int, c []float64) fl
 		return vs.basisVariance(terms, c)
 	}
 	tab := vs.h.Table()
-	v := 0.0
 	for j, i := range terms {
 		pi := tab.At(i)
+		mean += c[j] * vs.px.Expect(pi)
 		v += c[j] * c[j] * ProxyCovariance(vs.px, pi, pi)
 		for l := j + 1; l < len(terms); l++ {
 			v += 2 * c[j] * c[l] * ProxyCovariance(vs.px, pi, tab.At(terms[l]))
 		}
 	}
-	return v
+	return mean, v
 }
 
-func (vs *proxyVariances) stateVariance(s pauli.Setting, terms []int, c []float64) float64 {
+func (vs *proxyVariances) stateVariance(s pauli.Setting, terms []int, c []float64) (mean, v float64) {
 	tab := vs.h.Table()
 	copy(vs.work, vs.state.amp)
 	statevec.Rotate(vs.work, s, vs.state.n)
@@ -194,20 +200,18 @@ func (vs *proxyVariances) stateVariance(s pauli.Setting, terms []int, c []float6
 		vs.d[mask] += sign * c[j]
 	}
 	statevec.WalshHadamard(vs.d) // d[b] = O(b)
-	mean := 0.0
 	for b, pb := range vs.p {
 		mean += pb * vs.d[b]
 	}
 	mean /= t
-	v := 0.0
 	for b, pb := range vs.p {
 		e := vs.d[b] - mean
 		v += pb * e * e
 	}
-	return v / t
+	return mean, v / t
 }
 
-func (vs *proxyVariances) basisVariance(terms []int, c []float64) float64 {
+func (vs *proxyVariances) basisVariance(terms []int, c []float64) (mean, v float64) {
 	tab := vs.h.Table()
 	b := vs.basis.Bits
 	// Sort the terms by flip pattern x, then sum the amplitudes of each run.
@@ -220,7 +224,6 @@ func (vs *proxyVariances) basisVariance(terms []int, c []float64) float64 {
 		xb, _ := tab.Words(terms[b])
 		return slices.Compare(xa, xb)
 	})
-	v := 0.0
 	for k := 0; k < len(vs.idx); {
 		x0, _ := tab.Words(terms[vs.idx[k]])
 		var run complex128
@@ -244,9 +247,11 @@ func (vs *proxyVariances) basisVariance(terms []int, c []float64) float64 {
 		}
 		if slices.ContainsFunc(x0, func(u uint64) bool { return u != 0 }) {
 			v += real(run)*real(run) + imag(run)*imag(run)
+		} else {
+			mean = real(run)
 		}
 	}
-	return v
+	return mean, v
 }
 
 // membersOf returns the term indices of every group from the ranks rk

@@ -24,8 +24,9 @@ func proxyGroupers(px allocate.Proxy) []proxyGrouper {
 }
 
 // groupVariance returns Var_ψ(O) = ‖Oψ‖² − ⟨ψ|Oψ⟩² for O the sum of h's
-// terms listed, applied matrix-free by package hamiltonian (MATH.md §7).
-func groupVariance(t *testing.T, h *hamiltonian.Hamiltonian, members []int, psi []complex128) float64 {
+// terms listed, applied matrix-free by package hamiltonian (MATH.md §7);
+// with moment, ⟨O²⟩ = ‖Oψ‖² instead.
+func groupVariance(t *testing.T, h *hamiltonian.Hamiltonian, members []int, psi []complex128, moment bool) float64 {
 	t.Helper()
 	terms := make([]hamiltonian.Term, len(members))
 	for j, i := range members {
@@ -42,6 +43,9 @@ func groupVariance(t *testing.T, h *hamiltonian.Hamiltonian, members []int, psi 
 	for a, v := range out {
 		m += complex(real(psi[a]), -imag(psi[a])) * v
 		m2 += real(v)*real(v) + imag(v)*imag(v)
+	}
+	if moment {
+		return m2
 	}
 	return max(m2-real(m)*real(m), 0)
 }
@@ -64,6 +68,9 @@ func groupVariance(t *testing.T, h *hamiltonian.Hamiltonian, members []int, psi 
 // m_g ≤ N f_g + 1, so C_onenorm ≥ C(f)/(1 + 1/(N min f)). The test asserts
 // C_proxy ≤ C_onenorm·N/(N − G)·(1 + 1/(N min f)). Variances come from
 // package hamiltonian's matrix-free product, independent of the proxy code.
+// With ProxyMoment the same holds with ⟨O_g²⟩ in place of V_g (the
+// single-shot second moment Σ_g ⟨O_g²⟩/π_g of shots drawn i.i.d. from the
+// plan, each term in its own group; sqrt⟨O_g²⟩ ≤ W_g as ‖O_g‖ ≤ W_g).
 // The reference energies: full CI of psi4 (hamiltoniantest).
 func TestProxySharesCauchySchwarz(t *testing.T) {
 	const budget = 1000000
@@ -95,8 +102,11 @@ func TestProxySharesCauchySchwarz(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		plain := proxyGroupers(nil)
-		for k, a := range proxyGroupers(px) {
+		plain := append(proxyGroupers(nil), proxyGroupers(nil)...)
+		withProxy := append(proxyGroupers(px),
+			&allocate.Sorted{Proxy: px, ProxyMoment: true}, &allocate.SortedGC{Proxy: px, ProxyMoment: true}, &allocate.ColorGC{Proxy: px, ProxyMoment: true})
+		for k, a := range withProxy {
+			moment := k >= 3
 			if err := a.Init(h, budget); err != nil {
 				t.Fatal(err)
 			}
@@ -115,7 +125,7 @@ func TestProxySharesCauchySchwarz(t *testing.T) {
 				}
 			}
 			for g, ms := range members {
-				v := groupVariance(t, h, ms, gs.State)
+				v := groupVariance(t, h, ms, gs.State, moment)
 				if mw[g] < 1 {
 					t.Fatalf("%s %s %s: group %d has no shots with a proxy", c.name, c.enc, a, g)
 				}
@@ -133,9 +143,9 @@ func TestProxySharesCauchySchwarz(t *testing.T) {
 			}
 			bound := cu * budget / float64(budget-G) * (1 + 1/(budget*minf))
 			if cw > bound {
-				t.Errorf("%s %s %s: cost with proxy shares %.6g > %.6g (one-norm shares %.6g)", c.name, c.enc, a, cw, bound, cu)
+				t.Errorf("%s %s %s (moment %v): cost with proxy shares %.6g > %.6g (one-norm shares %.6g)", c.name, c.enc, a, moment, cw, bound, cu)
 			}
-			t.Logf("%s %s %s: %d groups, cost with proxy shares %.5g, one-norm shares %.5g", c.name, c.enc, a, G, cw, cu)
+			t.Logf("%s %s %s (moment %v): %d groups, cost with proxy shares %.5g, one-norm shares %.5g", c.name, c.enc, a, moment, G, cw, cu)
 		}
 	}
 }

@@ -113,6 +113,12 @@ type Sorted struct {
 	// ProxyFloor is ρ of the floor of a group's weight under Proxy, in
 	// (0, 1]; zero means [DefaultProxyFloor].
 	ProxyFloor float64
+	// ProxyMoment, with Proxy, weighs group g by sqrt(⟨O_g²⟩_φ) instead of
+	// the standard deviation: the optimal shares when each shot's setting
+	// is drawn at random from the plan (guarantee.IIDOf, the anytime
+	// route), whose single-shot value does not remove a group's mean
+	// (MATH.md §2.4).
+	ProxyMoment bool
 
 	groupQueue
 	members [][]int
@@ -223,7 +229,7 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	var shots []int
 	if s.Proxy == nil {
 		shots = s.Share.divide(budget, weight)
-	} else if shots, err = proxyQuota("sorted", s.Proxy, s.ProxyFloor, h, settings, s.members, budget); err != nil {
+	} else if shots, err = proxyQuota("sorted", s.Proxy, s.ProxyFloor, s.ProxyMoment, h, settings, s.members, budget); err != nil {
 		return err
 	}
 	s.reset("sorted", shots)
