@@ -106,7 +106,6 @@ type proxyVariances struct {
 	work  []complex128
 	p, d  []float64
 	idx   []int
-	amp   []complex128
 }
 
 // newProxyVariances checks that px fits h.

@@ -237,3 +237,101 @@ func writeProxyReport(t *testing.T, path, report string) {
 		t.Fatal(err)
 	}
 }
+
+// TestProxySequentialReport runs the sequential route (Sequential: the
+// empirical Bernstein stopping rule on copies of a fixed plan, δ = 0.05
+// spent over the rounds, target 1.6 mHa, rounds of ⌈1.5^(k−1)⌉ copies) on
+// LiH (JW) in its exact ground state, the base plan being a 10^4-shot plan
+// of greedy (the baseline) or of sorted, sorted-gc, color-gc with the
+// one-norm shares ("worst"), the Hartree–Fock proxy and the exact proxy.
+// It reports the median, least and most shots over SHOTPLAN_PROXY_SEEDS
+// seeds (default 20), in the file named by SHOTPLAN_PROXY_SEQUENTIAL;
+// SHOTPLAN_PROXY_ROWS filters the rows as for TestProxyAnytimeReport. A run
+// that does not certify within 3·10^7 shots counts as not certified; an
+// interval that misses the exact energy is logged (allowed with
+// probability δ per run).
+func TestProxySequentialReport(t *testing.T) {
+	out := os.Getenv("SHOTPLAN_PROXY_SEQUENTIAL")
+	if out == "" {
+		t.Skip("set SHOTPLAN_PROXY_SEQUENTIAL=<file> to build the proxy sequential table")
+	}
+	seeds := 20
+	if s := os.Getenv("SHOTPLAN_PROXY_SEEDS"); s != "" {
+		v, err := strconv.Atoi(s)
+		if err != nil || v < 1 {
+			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a positive count", s)
+		}
+		seeds = v
+	}
+	keep := map[string]bool{}
+	for _, r := range strings.Split(os.Getenv("SHOTPLAN_PROXY_ROWS"), ",") {
+		if r = strings.TrimSpace(r); r != "" {
+			keep[r] = true
+		}
+	}
+	const (
+		delta    = 0.05
+		eps      = 1.6e-3
+		maxShots = 30000000
+	)
+	sys := anytimeSystems(t)[1]
+	g, err := molecule.ReadFCIDUMPFile(filepath.Join("..", "hamiltonian", "molecule", "testdata", "lih_sto3g_1.5949A.fcidump"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	bits, err := g.HartreeFockBits(fermion.JordanWigner)
+	if err != nil {
+		t.Fatal(err)
+	}
+	exact, err := allocate.NewStateProxy(sys.state)
+	if err != nil {
+		t.Fatal(err)
+	}
+	type row struct {
+		name string
+		a    allocate.Allocator
+	}
+	rows := []row{{"greedy", &allocate.Greedy{}}}
+	for _, st := range proxyStrategies {
+		for _, px := range []struct {
+			name string
+			p    allocate.Proxy
+		}{{"worst", nil}, {"hf", allocate.BasisProxy{Bits: bits}}, {"exact", exact}} {
+			rows = append(rows, row{st.name + " " + px.name, st.make(px.p)})
+		}
+	}
+	var b strings.Builder
+	fmt.Fprintf(&b, "| base plan (10^4 shots) | median shots | least | most | not certified |\n|---|---|---|---|---|\n")
+	for _, r := range rows {
+		if len(keep) > 0 && !keep[r.name] {
+			continue
+		}
+		p, err := allocate.Run(sys.h, 10000, r.a, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var used []float64
+		failed := 0
+		for seed := range seeds {
+			dev := newTableDevice(t, sys.state, uint64(seed))
+			res, err := Sequential(sys.h, dev, &SequentialOptions{Settings: p.Settings, Shots: p.Shots, Target: eps, Delta: delta,
+				MaxShots: maxShots, Growth: 1.5})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !res.Certified {
+				failed++
+				used = append(used, math.Inf(1))
+				continue
+			}
+			if lo, hi := res.Bound.Energy-res.Bound.Bound, res.Bound.Energy+res.Bound.Bound; sys.energy < lo || sys.energy > hi {
+				t.Logf("%s seed %d: interval [%g, %g] misses E (allowed with probability δ)", r.name, seed, lo, hi)
+			}
+			used = append(used, float64(res.Bound.Shots))
+		}
+		slices.Sort(used)
+		fmt.Fprintf(&b, "| %s | %.3g | %.3g | %.3g | %d of %d |\n", r.name, used[len(used)/2], used[0], used[len(used)-1], failed, seeds)
+		t.Logf("%s: median %.3g shots over %d seeds (%d not certified within %d)", r.name, used[len(used)/2], seeds, failed, maxShots)
+	}
+	writeProxyReport(t, out, b.String())
+}
