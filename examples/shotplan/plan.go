@@ -73,7 +73,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if *shots < 1 {
 			return badf("-shots %d: want at least 1", *shots)
 		}
-		if strings.TrimSpace(*proxy) != "worst" && !setProxy(a, nil) {
+		if p := strings.TrimSpace(*proxy); p != "worst" && p != "" && !setProxy(a, nil) {
 			return badf("-proxy %s: strategy %s does not weigh groups; -proxy is for %s", *proxy, *strategy, proxyStrategies)
 		}
 		if err := need("ham", *ham); err != nil {

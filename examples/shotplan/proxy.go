@@ -18,7 +18,7 @@ import (
 const maxExactProxyQubits = 20
 
 // proxyUsage is the text of -proxy in plan and budget.
-const proxyUsage = "classical stand-in for the measured state, computed before any shot: worst (every state), hf (the Hartree–Fock determinant of an FCIDUMP -ham, NELEC and MS2 or -electrons and -spin), exact (the exact ground state of the sector, at most 20 qubits), BITS (a basis state, qubit 0 first), or an amplitude FILE (\"shotplan amplitudes 1\", as simulate -prepare)"
+const proxyUsage = "classical stand-in for the measured state, computed before any shot: worst (every state), hf (the Hartree–Fock determinant of an FCIDUMP -ham, NELEC and MS2 or -electrons and -spin), exact (the exact ground state of the sector, at most 20 qubits), BITS (a basis state, qubit 0 first), or an amplitude FILE (\"shotplan amplitudes 1\", as simulate -prepare); the plan stays fixed before any shot, so every certificate of it stays rigorous"
 
 // chosenProxy is the state of -proxy.
 type chosenProxy struct {
@@ -33,7 +33,11 @@ type chosenProxy struct {
 // integrals if it is an FCIDUMP file, else nil) and the sector flags.
 func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, error) {
 	n := h.Qubits()
-	switch strings.TrimSpace(spec) {
+	spec = strings.TrimSpace(spec)
+	if spec != "hf" && spec != "exact" && (*sf.electrons != "" || *sf.spin != "") {
+		return chosenProxy{}, badf("-electrons and -spin choose the sector of -proxy hf or exact, not of -proxy %s", spec)
+	}
+	switch spec {
 	case "worst", "":
 		return chosenProxy{name: "worst case over all states"}, nil
 	case "hf":
