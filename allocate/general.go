@@ -38,6 +38,17 @@ import (
 type SortedGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
 	Share Share
+	// Proxy, if not nil, replaces Share: group g gets shots in proportion
+	// to sqrt(Var_φ(O_g)) in the proxy state φ, O_g = Σ_{i∈g} h_i P_i,
+	// floored at ProxyFloor·Σ_{i∈g}|h_i|, one shot per group first
+	// (MATH.md §2.4; see [Sorted]). The plan is fixed before any shot, so
+	// every certificate of it stays rigorous. Nil keeps the Share rule.
+	Proxy Proxy
+	// ProxyFloor is ρ of the floor above, in (0, 1]; zero means
+	// [DefaultProxyFloor]. ProxyMoment weighs by sqrt(⟨O_g²⟩_φ) instead,
+	// as for [Sorted].
+	ProxyFloor  float64
+	ProxyMoment bool
 
 	groupShots
 }
@@ -50,7 +61,7 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	rk := newRanked(h)
 	order := make([]int32, len(rk.order))
 	fillIota(order)
-	return s.init("sorted-gc", h, rk, order, s.Share, budget)
+	return s.init("sorted-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, s.ProxyMoment, budget)
 }
 
 // ColorGC is largest-degree-first greedy colouring of the complement of the
@@ -74,6 +85,17 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 type ColorGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
 	Share Share
+	// Proxy, if not nil, replaces Share: group g gets shots in proportion
+	// to sqrt(Var_φ(O_g)) in the proxy state φ, O_g = Σ_{i∈g} h_i P_i,
+	// floored at ProxyFloor·Σ_{i∈g}|h_i|, one shot per group first
+	// (MATH.md §2.4; see [Sorted]). The plan is fixed before any shot, so
+	// every certificate of it stays rigorous. Nil keeps the Share rule.
+	Proxy Proxy
+	// ProxyFloor is ρ of the floor above, in (0, 1]; zero means
+	// [DefaultProxyFloor]. ProxyMoment weighs by sqrt(⟨O_g²⟩_φ) instead,
+	// as for [Sorted].
+	ProxyFloor  float64
+	ProxyMoment bool
 
 	groupShots
 }
@@ -90,7 +112,7 @@ func (s *ColorGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	fillIota(order)
 	// Ranks already order ties by |h_i| descending, then term index.
 	slices.SortStableFunc(order, func(a, b int32) int { return cmp.Compare(deg[b], deg[a]) })
-	return s.init("color-gc", h, rk, order, s.Share, budget)
+	return s.init("color-gc", h, rk, order, s.Share, s.Proxy, s.ProxyFloor, s.ProxyMoment, budget)
 }
 
 // anticommutingDegrees returns, for every rank of rk, the number of other
@@ -222,8 +244,9 @@ type groupShots struct {
 }
 
 // init groups the ranks of rk, taken in the given order, by general
-// commutation, and divides budget by the share rule.
-func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, budget int) error {
+// commutation, and divides budget by the share rule, or by the proxy's
+// variances if px is not nil.
+func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, order []int32, share Share, px Proxy, floor float64, moment bool, budget int) error {
 	if err := share.check(name); err != nil {
 		return err
 	}
@@ -242,23 +265,34 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		// neither overflow nor underflow; the shares are unchanged.
 		weight[k] += share.term(rk.abs[r] / rk.abs[0])
 	}
-	g.reset(name, share.divide(budget, weight))
-	g.members = g.members[:0]
+	settings := make([]pauli.Setting, len(ranks))
 	for k, rs := range ranks {
 		fam := make([]pauli.String, len(rs))
-		terms := make([]int, len(rs))
 		for j, r := range rs {
 			x, z := rk.row(int(r))
 			fam[j] = pauli.FromWords(rk.n, x, z)
-			terms[j] = int(rk.order[r])
 		}
 		st, err := pauli.NewFamilySetting(fam)
 		if err != nil {
 			return fmt.Errorf("%s: group %d: %w", name, k, err)
 		}
-		g.add(st)
-		g.members = append(g.members, terms)
+		settings[k] = st
 	}
+	members := membersOf(rk, ranks)
+	var quota []int
+	if px == nil {
+		quota = share.divide(budget, weight)
+	} else {
+		var err error
+		if quota, err = proxyQuota(name, px, floor, moment, h, settings, members, budget); err != nil {
+			return err
+		}
+	}
+	g.reset(name, quota)
+	for _, st := range settings {
+		g.add(st)
+	}
+	g.members = members
 	// Count the covers for [Counter], group by group: a setting may cover
 	// terms of other groups. The settings are distinct and mostly
 	// entangled, so countCover's deduplication and letter buckets would not

@@ -73,6 +73,25 @@ func (s Share) divide(budget int, sum []float64) []int {
 // groups). The plan lists the groups in the order they were opened, each
 // once, with its shots consecutive.
 //
+// # Shares from a proxy
+//
+// With a [Proxy] φ, group g's weight is
+//
+//	w_g = max(sqrt(Var_φ(O_g)), ρ·Σ_{i∈g}|h_i|),   O_g = Σ_{i∈g} h_i P_i,
+//
+// the sum over the terms put into group g, and ρ = ProxyFloor. Shares
+// ∝ sqrt(Var_φ(O_g)) minimise the variance Σ_g Var_φ(O_g)/m_g of the
+// groups' estimates in φ for a fixed total (Cauchy–Schwarz, MATH.md §2.3);
+// the floor keeps a group whose proxy variance is zero (the diagonal group
+// in a basis state) measured, and costs at most a factor 1/ρ in the
+// worst-case variance V of the certificates (MATH.md §2.4). When the budget
+// is at least the number G of groups, every group first gets one shot and
+// the other budget − G shots are rounded in proportion to w_g as above, so
+// no group is left unmeasured. The plan depends only on the Hamiltonian and
+// the proxy, never on measured outcomes: it is fixed before any shot, and
+// every certificate of it (guarantee.Certify, the data and anytime bounds)
+// stays rigorous; a poor proxy costs shots, not correctness.
+//
 // # Cost
 //
 // First fit reads, for each term, one word per 64 groups from each of k
@@ -87,8 +106,22 @@ type Sorted struct {
 	// Fill is the letter of qubits no member of a group touches; zero
 	// (pauli.I) means Z.
 	Fill pauli.Letter
+	// Proxy, if not nil, replaces Share by the variance in a state
+	// computed classically before any shot (MATH.md §2.4): see "Shares
+	// from a proxy" above. Nil keeps the Share rule.
+	Proxy Proxy
+	// ProxyFloor is ρ of the floor of a group's weight under Proxy, in
+	// (0, 1]; zero means [DefaultProxyFloor].
+	ProxyFloor float64
+	// ProxyMoment, with Proxy, weighs group g by sqrt(⟨O_g²⟩_φ) instead of
+	// the standard deviation: the optimal shares when each shot's setting
+	// is drawn at random from the plan (guarantee.IIDOf, the anytime
+	// route), whose single-shot value does not remove a group's mean
+	// (MATH.md §2.4).
+	ProxyMoment bool
 
 	groupQueue
+	members [][]int
 }
 
 // String returns "sorted".
@@ -114,6 +147,7 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	// Rows of 3n words, one per word of groups, keep a term's reads close.
 	var conflict []uint64
 	var codes []int32
+	var ranks [][]int32
 	for r := range rk.order {
 		x, z := rk.row(r)
 		codes = codes[:0]
@@ -149,6 +183,7 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 			gz = append(gz, make([]uint64, w)...)
 			gm = append(gm, make([]uint64, w)...)
 			weight = append(weight, 0)
+			ranks = append(ranks, nil)
 			if g%64 == 0 {
 				conflict = append(conflict, make([]uint64, 3*n)...)
 			}
@@ -173,12 +208,12 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		// Relative to the largest |h| (rank 0), so that sums and squares
 		// neither overflow nor underflow; the shares are unchanged.
 		weight[g] += s.Share.term(rk.abs[r] / rk.abs[0])
+		ranks[g] = append(ranks[g], int32(r))
 	}
-	shots := s.Share.divide(budget, weight)
 	fx, fz := letterBits(fill)
-	s.reset("sorted", shots)
+	settings := make([]pauli.Setting, len(weight))
 	x, z := make([]uint64, w), make([]uint64, w)
-	for g := range shots {
+	for g := range settings {
 		for i := range w {
 			free := rk.all[i] &^ gm[g*w+i]
 			x[i] = gx[g*w+i] | free&fx
@@ -188,10 +223,27 @@ func (s *Sorted) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		if err != nil {
 			return fmt.Errorf("group %d: %w", g, err)
 		}
+		settings[g] = st
+	}
+	s.members = membersOf(rk, ranks)
+	var shots []int
+	if s.Proxy == nil {
+		shots = s.Share.divide(budget, weight)
+	} else if shots, err = proxyQuota("sorted", s.Proxy, s.ProxyFloor, s.ProxyMoment, h, settings, s.members, budget); err != nil {
+		return err
+	}
+	s.reset("sorted", shots)
+	for _, st := range settings {
 		s.add(st)
 	}
 	return nil
 }
+
+// Members returns, after Init, the term indices of every group, in the
+// order the groups were opened (that of [Sorted.Groups]) and, within a
+// group, the order the terms joined it. A group's setting covers its
+// members and may cover more terms. The slices must not be modified.
+func (s *Sorted) Members() [][]int { return s.members }
 
 // largestRemainder divides total among the weights in proportion, rounding
 // by the largest-remainder method (ties to the lower index). The result sums

@@ -2,7 +2,6 @@ package estimate
 
 import (
 	"fmt"
-	"math"
 
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -117,67 +116,6 @@ func readoutEntangled(opts *Options, rec *Records, what string) error {
 		}
 	}
 	return nil
-}
-
-// applyCircuit applies the gates of c, in order, to the amplitudes a, in
-// place; qubit q is bit q of the index into a. H maps (u, v) to
-// ((u+v)/√2, (u−v)/√2); S multiplies the amplitudes with the qubit at 1 by
-// i and S† by −i; CNOT swaps the target's 0 and 1 amplitudes where the
-// control is 1; CZ negates the amplitudes with both qubits at 1 (the
-// matrices of Nielsen & Chuang §4.2 and §4.3, as in package pauli).
-func applyCircuit(a []complex128, c *pauli.Circuit) {
-	r := complex(1/math.Sqrt2, 0)
-	for _, g := range c.Gates() {
-		switch g.Kind {
-		case pauli.GateH:
-			h := 1 << g.Q0
-			for base := 0; base < len(a); base += 2 * h {
-				lo, hi := a[base:base+h], a[base+h:base+2*h]
-				for j, u := range lo {
-					v := hi[j]
-					lo[j], hi[j] = (u+v)*r, (u-v)*r
-				}
-			}
-		case pauli.GateS, pauli.GateSdg:
-			ph := complex(0, 1)
-			if g.Kind == pauli.GateSdg {
-				ph = complex(0, -1)
-			}
-			m := 1 << g.Q0
-			for i := range a {
-				if i&m != 0 {
-					a[i] *= ph
-				}
-			}
-		case pauli.GateCNOT:
-			cm, tm := 1<<g.Q0, 1<<g.Q1
-			for i := range a {
-				if i&cm != 0 && i&tm == 0 {
-					a[i], a[i|tm] = a[i|tm], a[i]
-				}
-			}
-		case pauli.GateCZ:
-			m := 1<<g.Q0 | 1<<g.Q1
-			for i := range a {
-				if i&m == m {
-					a[i] = -a[i]
-				}
-			}
-		default:
-			panic("estimate: unknown gate " + g.String())
-		}
-	}
-}
-
-// rotate applies to a the basis change of setting s on all n qubits: the
-// local rotations of [rotateQubits] (without the 1/√2 factors), or the
-// circuit of an entangled setting.
-func rotate(a []complex128, s pauli.Setting, n int) {
-	if s.IsLocal() {
-		rotateQubits(a, s, 0, n)
-		return
-	}
-	applyCircuit(a, s.Circuit())
 }
 
 // anyEntangled reports whether some setting with shots is entangled.

@@ -9,6 +9,7 @@ import (
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/statevec"
 	"github.com/shotplan/shotplan/internal/symplectic"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -364,7 +365,7 @@ func (sim *Simulator) split(keys []uint64, shots int) int {
 // qubits' outcomes.
 func (sim *Simulator) rotateHigh(s pauli.Setting, low int) {
 	copy(sim.work, sim.state)
-	rotateQubits(sim.work, s, low, sim.n)
+	statevec.RotateQubits(sim.work, s, low, sim.n)
 	nh := 1 << (sim.n - low)
 	if cap(sim.marg) < nh {
 		sim.marg = make([]float64, nh)
@@ -392,7 +393,7 @@ func (sim *Simulator) drawSplit(s pauli.Setting, low int) uint64 {
 	}
 	blk, cum := sim.blk[:size], sim.bcum[:size]
 	copy(blk, sim.work[int(hi)*size:(int(hi)+1)*size])
-	rotateQubits(blk, s, 0, low)
+	statevec.RotateQubits(blk, s, 0, low)
 	t := 0.0
 	for a, v := range blk {
 		t += real(v)*real(v) + imag(v)*imag(v)
@@ -443,7 +444,7 @@ func (sim *Simulator) distribution(s pauli.Setting) []float64 {
 		}
 	}
 	copy(sim.work, sim.state)
-	rotate(sim.work, s, sim.n)
+	statevec.Rotate(sim.work, s, sim.n)
 	var cum []float64
 	if sim.cache.limit >= 8*len(sim.work) {
 		cum = sim.cache.put(key, 8*len(sim.work))
@@ -474,7 +475,7 @@ func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
 	}
 	dst = dst[:len(sim.state)]
 	copy(sim.work, sim.state)
-	rotate(sim.work, s, sim.n)
+	statevec.Rotate(sim.work, s, sim.n)
 	t := 0.0
 	for a, v := range sim.work {
 		dst[a] = real(v)*real(v) + imag(v)*imag(v)
@@ -484,41 +485,6 @@ func (sim *Simulator) Probabilities(dst []float64, s pauli.Setting) []float64 {
 		dst[a] /= t
 	}
 	return dst
-}
-
-// rotateQubits applies to the amplitudes a, in place, the basis change of s
-// on qubits lo..hi−1, qubit q being bit q of the index into a (a may be a
-// block that holds only the lowest qubits): Hadamard for X, S† then
-// Hadamard for Y, nothing for Z. The factor 1/√2 of each Hadamard is left
-// out; callers normalise.
-//
-// The X-basis outcome 0 is |+⟩ = (|0⟩+|1⟩)/√2, which H maps to |0⟩; the
-// Y-basis outcome 0 is |+i⟩ = (|0⟩+i|1⟩)/√2, which S† maps to |+⟩ and H to
-// |0⟩ (Nielsen & Chuang, §4.2; common practice).
-func rotateQubits(a []complex128, s pauli.Setting, lo, hi int) {
-	for q := lo; q < hi; q++ {
-		l := s.At(q)
-		if l == pauli.Z {
-			continue
-		}
-		h := 1 << q
-		for base := 0; base < len(a); base += 2 * h {
-			lo := a[base : base+h]
-			hi := a[base+h : base+2*h]
-			if l == pauli.X {
-				for j, u := range lo {
-					v := hi[j]
-					lo[j], hi[j] = u+v, u-v
-				}
-				continue
-			}
-			for j, u := range lo {
-				v := hi[j]
-				w := complex(imag(v), -real(v)) // −i·v
-				lo[j], hi[j] = u+w, u-w
-			}
-		}
-	}
 }
 
 // distCache keeps distributions of recent settings, evicting the oldest

@@ -8,6 +8,7 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/statevec"
 )
 
 // ShotBudget is the answer of [BudgetOf]: the shots a plan needs for
@@ -218,20 +219,6 @@ func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
 	return nil
 }
 
-// walshHadamard replaces p by its Walsh–Hadamard transform in place:
-// p'[m] = Σ_b p[b] (−1)^{popcount(b∧m)}. len(p) must be a power of two.
-// The butterfly is the textbook fast transform (common practice).
-func walshHadamard(p []float64) {
-	for h := 1; h < len(p); h <<= 1 {
-		for i := 0; i < len(p); i += h << 1 {
-			for j := i; j < i+h; j++ {
-				x, y := p[j], p[j+h]
-				p[j], p[j+h] = x+y, x-y
-			}
-		}
-	}
-}
-
 // shotMoments computes the first two moments of one shot's contribution
 // Z = Σ_i (h_i/N_i) s_i of a setting to the grouped estimate (MATH.md §2,
 // §2.3; with a split, Z = Σ_i h_i (α_{iq}/m_q) s_i, MATH.md §2.5) in a state, from the Walsh–Hadamard transform of the setting's
@@ -248,7 +235,7 @@ type shotMoments struct {
 func (sh *shotMoments) of(h *hamiltonian.Hamiltonian, c *coverage, q int, s pauli.Setting, sim *estimate.Simulator) (m1, m2 float64) {
 	tab := h.Table()
 	sh.p = sim.Probabilities(sh.p, s)
-	walshHadamard(sh.p)
+	statevec.WalshHadamard(sh.p)
 	sh.masks, sh.coef = sh.masks[:0], sh.coef[:0]
 	for _, i := range c.terms(q) {
 		var mask uint64

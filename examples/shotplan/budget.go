@@ -14,7 +14,6 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/pauli"
 )
 
 // budgetRow is one strategy's line of the budget table.
@@ -60,7 +59,8 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 	strategy := fs.String("strategy", "all", "strategy to answer for, or all: "+strings.Join(allocate.Names(), ", "))
 	seed := fs.Uint64("seed", 1, "seed of the random strategies")
 	reference := fs.Int("reference", 0, "shots of the reference plan whose copies are counted (default: doubled from max(1000, 2·terms) until every term is measured)")
-	proxy := fs.String("proxy", "worst", "variance proxy for the expected figures: worst (every state), exact (the exact ground state), or a basis state as a bit string, qubit 0 first (for example a Hartree–Fock determinant)")
+	proxy := fs.String("proxy", "worst", "variance proxy for the expected figures, and for the group shares of "+proxyStrategies+" (as plan -proxy): "+proxyUsage)
+	sf := addSectorFlags(fs)
 	readout := fs.String("readout", "", "also plan calibration and measurement shots for the readout-mitigated certificate, for these expected flip rates: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "like -readout, with the flip rates observed in this calibration records file (see calibrate)")
 	calDelta := fs.Float64("calibration-delta", 0, "with -readout or -calibration: part of -delta spent on the calibration intervals (default -delta/4)")
@@ -88,13 +88,19 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			names = []string{*strategy}
 		}
-		h, err := loadHam(*ham)
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		px, err := resolveProxy(*proxy, *ham, h, g, sf)
 		if err != nil {
 			return err
 		}
-		state, proxyName, err := proxyState(h, *proxy)
-		if err != nil {
-			return err
+		if px.proxy != nil && px.state == nil {
+			return badf("-proxy %s: %d qubits, the expected figures take a proxy of at most %d", *proxy, h.Qubits(), hamiltonian.MaxExactQubits)
 		}
 		pairs, err := parsePairs(*pairsFlag, h.Qubits())
 		if err != nil {
@@ -107,12 +113,13 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		state, proxyName := px.state, px.name
 		var rows []budgetRow
 		for _, name := range names {
 			if name == "fixed" {
 				continue
 			}
-			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, rates, pairModels, *calDelta)
+			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, px.proxy, rates, pairModels, *calDelta)
 			if err != nil {
 				return err
 			}
@@ -244,13 +251,14 @@ func (e *env) printReadoutBudget(rows []budgetRow, ham string, eps, delta float6
 
 // budgetFor plans the reference plan of one strategy and counts its copies;
 // with rates, also the readout-aware budget of calibration and copies.
-func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
+func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, px allocate.Proxy, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
 	start := time.Now()
 	row := budgetRow{Strategy: name}
 	a, err := allocate.ByName(name, seed)
 	if err != nil {
 		return row, bad(err)
 	}
+	setProxy(a, px)
 	if _, ok := a.(allocate.Observer); ok {
 		row.Note = "adaptive: no plan fixed before the data"
 		return row, nil
@@ -315,37 +323,6 @@ func runError(ham string, err error) error {
 	return err
 }
 
-// proxyState returns the state of -proxy: nil for the worst case.
-func proxyState(h *hamiltonian.Hamiltonian, proxy string) ([]complex128, string, error) {
-	switch proxy {
-	case "worst":
-		return nil, "worst case over all states", nil
-	case "exact":
-		if h.Qubits() > hamiltonian.MaxExactQubits {
-			return nil, "", badf("-proxy exact: %d qubits, the exact ground state takes at most %d", h.Qubits(), hamiltonian.MaxExactQubits)
-		}
-		ev, err := hamiltonian.GroundState(h, nil)
-		if err != nil {
-			return nil, "", err
-		}
-		return ev.State, fmt.Sprintf("exact ground state, energy %.8f", ev.Energy), nil
-	}
-	b, err := pauli.ParseBits(proxy)
-	if err != nil || len(proxy) != h.Qubits() {
-		return nil, "", badf("-proxy %q: want worst, exact, or a bit string of %d qubits", proxy, h.Qubits())
-	}
-	if h.Qubits() > hamiltonian.MaxExactQubits {
-		return nil, "", badf("-proxy %s: %d qubits, a proxy state takes at most %d", proxy, h.Qubits(), hamiltonian.MaxExactQubits)
-	}
-	state := make([]complex128, 1<<h.Qubits())
-	idx := 0
-	for q := range h.Qubits() {
-		idx |= int(b.Get(q)) << q
-	}
-	state[idx] = 1
-	return state, "basis state " + proxy, nil
-}
-
 func budgetHelp() string {
 	return `
 Each strategy plans once at a reference budget; copies of that plan (every
@@ -359,7 +336,10 @@ re-planning. Columns:
              2σ²ln(2/δ)/ε² for the single-shot variance σ² under the proxy;
              the price of holding at every round comes on top
 With -proxy worst the expected figures use the largest variance over all
-states and are close to the certified one.
+states and are close to the certified one. Any other -proxy also gives
+sorted, sorted-gc and color-gc their group shares (as plan -proxy): the
+reference plan is still fixed before any shot, so its certified count
+holds for every state.
 
 JSON keys, per strategy: reference_shots, settings, bias (of terms the
 reference plan never measures), reachable (bias < ε), copies,

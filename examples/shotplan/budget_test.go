@@ -45,6 +45,15 @@ func TestBudgetTable(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// -proxy exact also gives sorted, sorted-gc and color-gc their shares.
+	gs, err := hamiltonian.GroundState(h, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	px, err := allocate.NewStateProxy(gs.State)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for k, r := range res.Rows {
 		if r.Strategy != names[k] {
 			t.Errorf("row %d is %s, want %s", k, r.Strategy, names[k])
@@ -59,6 +68,7 @@ func TestBudgetTable(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		setProxy(a, px)
 		p, err := allocate.Run(h, r.Reference, a, nil)
 		if err != nil {
 			t.Fatal(err)

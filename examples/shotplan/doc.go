@@ -5,18 +5,28 @@
 //
 //	shotplan info     [-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
-//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] -o PLAN
+//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] -o PLAN
 //	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
 //	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR
 //	shotplan simulate -ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P [-pairs A-B,...]] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
 //	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
-//	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS] [-readout P|p01=X,p10=Y|@FILE | -calibration CALIB [-pairs A-B,...]] [-calibration-delta D]
+//	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] [-readout P|p01=X,p10=Y|@FILE | -calibration CALIB [-pairs A-B,...]] [-calibration-delta D]
 //	shotplan calibrate -qubits N -shots M [-pairs A-B,...] -o PLAN
 //	shotplan rounds start  -ham H -eps E [-delta 0.05] [-strategy NAME] -o STATE
 //	shotplan rounds next   -state STATE -o PLAN
 //	shotplan rounds add    -state STATE -records RECORDS...
 //	shotplan rounds status -state STATE
 //	shotplan version
+//
+// plan -proxy gives sorted, sorted-gc and color-gc their group shares from
+// a state computed classically before any shot (allocate.Proxy, MATH.md
+// §2.4): group g gets shots in proportion to the standard deviation of its
+// terms' sum in that state, floored at 1% of the group's one-norm, one
+// shot per group first. hf is the Hartree–Fock determinant of an FCIDUMP
+// -ham (molecule.Integrals.HartreeFockBits), exact the ground state of the
+// sector (at most 20 qubits), BITS a basis state, FILE an amplitude file.
+// The plan is fixed before any shot, so certify, estimate and rounds stay
+// rigorous with it; a poor proxy costs shots, not correctness.
 //
 // budget counts the shots a target accuracy needs, per strategy, in copies
 // of one reference plan (guarantee.BudgetOf). The rounds commands run an

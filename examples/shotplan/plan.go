@@ -52,6 +52,8 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	delta := fs.Float64("delta", 0.05, "with -cost-budget: the failure probability of the certified bound it minimises; with -observables: of all the certificates together")
 	observables := fs.String("observables", "", "with an FCIDUMP -ham: plan for the energy and these observables (N, Sz, S2, comma-separated) together, each certified to its -targets; -shots is then the largest budget tried")
 	targets := fs.String("targets", "", "with -observables: the accuracy of each observable, the energy's first, comma-separated (such as 0.0016,0.05,0.05,0.1)")
+	proxy := fs.String("proxy", "worst", "for "+proxyStrategies+": give group g shots ∝ the standard deviation of its terms' sum in this state instead of ∝ their one-norm; "+proxyUsage)
+	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -72,10 +74,21 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if *shots < 1 {
 			return badf("-shots %d: want at least 1", *shots)
 		}
-		h, err := loadHam(*ham)
+		if p := strings.TrimSpace(*proxy); p != "worst" && p != "" && !setProxy(a, nil) {
+			return badf("-proxy %s: strategy %s does not weigh groups; -proxy is for %s", *proxy, *strategy, proxyStrategies)
+		}
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		px, err := resolveProxy(*proxy, *ham, h, g, sf)
 		if err != nil {
 			return err
 		}
+		setProxy(a, px.proxy)
 		if f, ok := a.(*allocate.Fixed); ok {
 			if f.Settings, err = readSettings(*settings, h.Qubits()); err != nil {
 				return err
@@ -144,8 +157,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			Shots     int     `json:"shots"`
 			Settings  int     `json:"settings"`
 			Uncovered int     `json:"uncovered"`
+			Proxy     string  `json:"proxy"`
 			Seconds   float64 `json:"seconds"`
-		}{*out, p.Stats.Strategy, *seed, p.Qubits, len(p.Cover), p.TotalShots(), len(distinct), uncovered, p.Stats.Elapsed.Seconds()}
+		}{*out, p.Stats.Strategy, *seed, p.Qubits, len(p.Cover), p.TotalShots(), len(distinct), uncovered, px.name, p.Stats.Elapsed.Seconds()}
 		if e.json {
 			return e.writeJSON(res)
 		}
@@ -154,6 +168,9 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			fmt.Fprintf(e.stdout, "; %s never measured", plural(uncovered, "term"))
 		}
 		fmt.Fprintln(e.stdout)
+		if px.proxy != nil {
+			fmt.Fprintf(e.stdout, "group shares from the proxy: %s\n", px.name)
+		}
 		return nil
 	}
 }

@@ -189,3 +189,44 @@ func newLadderTable(e Encoding, n int) *ladderTable {
 	}
 	return t
 }
+
+// Occupations returns the computational basis state that e maps the
+// occupation-number basis state f of n modes to: bit j of f is the
+// occupation of mode j, and the result is b = β f (mod 2) with β the
+// encoding's binary matrix (what qubit j stores; Seeley, Richard & Love,
+// arXiv:1208.5986): b = f for Jordan–Wigner, b_j = f_0 ⊕ ⋯ ⊕ f_j for
+// parity, and for Bravyi–Kitaev b_j = f_l ⊕ ⋯ ⊕ f_j with
+// l = j + 1 − lowbit(j+1) (the Fenwick tree). A Slater determinant is thus a
+// basis state under every encoding here, whatever n; the cost is O(n) bit
+// operations. Bits of f at or beyond n are ignored. It panics if e is not
+// a defined encoding or f has fewer than ⌈n/64⌉ words.
+func (e Encoding) Occupations(n int, f pauli.Bits) pauli.Bits {
+	if !e.valid() {
+		panic("fermion: invalid encoding")
+	}
+	w := pauli.Words(n)
+	if len(f) < w {
+		panic("fermion: Occupations: occupation bits shorter than the modes")
+	}
+	b := make(pauli.Bits, w)
+	get := func(j int) uint64 { return f[j>>6] >> (j & 63) & 1 }
+	// prefix[j] = f_0 ⊕ ⋯ ⊕ f_{j−1}: a range's parity is prefix[hi] ⊕ prefix[lo].
+	prefix := make([]uint8, n+1)
+	for j := range n {
+		prefix[j+1] = prefix[j] ^ uint8(get(j))
+	}
+	for j := range n {
+		var v uint64
+		switch e {
+		case JordanWigner:
+			v = get(j)
+		case Parity:
+			v = uint64(prefix[j+1])
+		case BravyiKitaev:
+			lo := j + 1 - 1<<bits.TrailingZeros(uint(j+1))
+			v = uint64(prefix[j+1] ^ prefix[lo])
+		}
+		b[j>>6] |= v << (j & 63)
+	}
+	return b
+}
