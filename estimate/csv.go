@@ -75,22 +75,57 @@ func WriteCSVFile(path string, rec *Records) error {
 // letter, an index out of range, a setting or outcome of the wrong width, or
 // an outcome character other than 0 and 1. errors.Is(err, ErrFormat) holds.
 func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
+	var rec *Records
+	n, err := scanCSV(r, settings, func(_, n int, s pauli.Setting, b pauli.Bits) error {
+		if rec == nil {
+			rec = NewRecords(n)
+		}
+		rec.appendShot(rec.group(s), b)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	if rec == nil {
+		rec = NewRecords(n)
+	}
+	return rec, nil
+}
+
+// ScanCSV reads records in the CSV form, as [ReadCSV], and hands each shot
+// to fn instead of keeping it: memory does not grow with the number of
+// shots. The outcome passed to fn is reused for the next shot. An error
+// from fn stops the scan and is returned as a [*LineError] naming the
+// line, with fn's error as its reason. ScanCSV returns the qubit count (of
+// settings, else of the first row), or an error as ReadCSV.
+func ScanCSV(r io.Reader, settings []pauli.Setting, fn func(s pauli.Setting, b pauli.Bits) error) (int, error) {
+	return scanCSV(r, settings, func(line, _ int, s pauli.Setting, b pauli.Bits) error {
+		if err := fn(s, b); err != nil {
+			return lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
+		}
+		return nil
+	})
+}
+
+// scanCSV parses the CSV form and calls fn with each shot's line, the
+// qubit count, the setting and the outcome (a reused buffer); it returns
+// the qubit count.
+func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli.Setting, b pauli.Bits) error) (int, error) {
 	n := -1
 	for k, s := range settings {
 		if k == 0 {
 			n = s.Qubits()
 		} else if s.Qubits() != n {
-			return nil, fmt.Errorf("estimate: %w: settings list: setting %d has %d qubits, setting 0 has %d", ErrFormat, k, s.Qubits(), n)
+			return 0, fmt.Errorf("estimate: %w: settings list: setting %d has %d qubits, setting 0 has %d", ErrFormat, k, s.Qubits(), n)
 		}
 	}
 	if n == 0 {
-		return nil, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
+		return 0, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
 	}
 	cr := csv.NewReader(&lineCap{r: r, max: maxCSVLine(n)})
 	cr.FieldsPerRecord = -1
 	cr.ReuseRecord = true
 	var (
-		rec    *Records
 		bits   pauli.Bits
 		header bool
 		parsed = make(map[string]pauli.Setting)
@@ -103,38 +138,38 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		if err != nil {
 			var long *lineTooLong
 			if errors.As(err, &long) {
-				return nil, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
+				return 0, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
 			}
 			if le := csvLineError(err); le != nil {
-				return nil, le
+				return 0, le
 			}
-			return nil, fmt.Errorf("estimate: reading records: %w", err)
+			return 0, fmt.Errorf("estimate: reading records: %w", err)
 		}
 		line, _ := cr.FieldPos(0)
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
-				return nil, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
+				return 0, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
 			}
 			header = true
 			continue
 		}
 		if len(fields) != 2 {
-			return nil, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
+			return 0, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
 		}
 		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
 		var s pauli.Setting
 		if sf == "" {
-			return nil, lineError(line, "empty setting")
+			return 0, lineError(line, "empty setting")
 		}
 		if sf[0] >= '0' && sf[0] <= '9' {
 			k, err := strconv.Atoi(sf)
 			switch {
 			case err != nil:
-				return nil, lineError(line, fmt.Sprintf("setting index %q is not a non-negative integer", sf))
+				return 0, lineError(line, fmt.Sprintf("setting index %q is not a non-negative integer", sf))
 			case settings == nil:
-				return nil, lineError(line, fmt.Sprintf("setting index %d but no settings list was given", k))
+				return 0, lineError(line, fmt.Sprintf("setting index %d but no settings list was given", k))
 			case k >= len(settings):
-				return nil, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
+				return 0, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
 			}
 			s = settings[k]
 		} else if t, ok := parsed[sf]; ok {
@@ -147,39 +182,37 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 				if errors.As(err, &pe) {
 					reason = pe.Reason
 				}
-				return nil, lineError(line, fmt.Sprintf("setting %q: %s", sf, reason))
+				return 0, lineError(line, fmt.Sprintf("setting %q: %s", sf, reason))
 			}
 			if n < 0 {
 				n = t.Qubits()
 			}
 			if t.Qubits() != n {
-				return nil, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
+				return 0, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
 			}
 			parsed[sf] = t
 			s = t
 		}
-		if rec == nil {
-			rec = NewRecords(n)
+		if bits == nil {
 			bits = pauli.NewBits(n)
 		}
 		if len(bf) != n {
-			return nil, lineError(line, fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n))
+			return 0, lineError(line, fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n))
 		}
 		if q, ok := parseBitsInto(bits, bf); !ok {
-			return nil, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
+			return 0, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
 		}
-		rec.appendShot(rec.group(s), bits)
+		if err := fn(line, n, s, bits); err != nil {
+			return 0, err
+		}
 	}
 	if !header {
-		return nil, lineError(1, fmt.Sprintf("missing header %q", csvHeader))
+		return 0, lineError(1, fmt.Sprintf("missing header %q", csvHeader))
 	}
-	if rec == nil {
-		if n < 1 {
-			return nil, lineError(2, "no shots and no settings list to give the qubit count")
-		}
-		rec = NewRecords(n)
+	if n < 1 {
+		return 0, lineError(2, "no shots and no settings list to give the qubit count")
 	}
-	return rec, nil
+	return n, nil
 }
 
 // maxCSVLine is the longest records line accepted: a setting of n qubits

@@ -19,10 +19,10 @@ import (
 // exactly the plan's: the estimate needs the cover counts N_i before the
 // first shot, and [Stream.Result] refuses counts that differ from the plan.
 //
-// The result equals that of [Grouped] on the same shots to the last bit,
-// except the standard error, whose within-setting variances come from
-// running sums instead of two passes (a difference of a few units in the
-// last place times the number of shots of a setting; MATH.md §4.9).
+// The result equals that of [Grouped] on the same shots to the last bit:
+// both sum every shot's Z over its terms in table order and take a
+// setting's variance from the running sums Σ (Z − Z_first) and
+// Σ (Z − Z_first)² in shot order (MATH.md §4.9).
 // [guarantee.EmpiricalStream] computes the data bounds of [guarantee.Empirical]
 // from a Stream.
 //
@@ -163,4 +163,21 @@ func (s *Stream) Result() (*Result, error) {
 	res.StdErr = math.Sqrt(vsum)
 	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })
 	return res, nil
+}
+
+// runningVariance returns the unbiased sample variance of x (two or more
+// values) from the running sums Σ (x − x_0) and Σ (x − x_0)² taken in
+// order, the one-pass form a [Stream] keeps, so that Grouped and a Stream
+// agree to the last bit. Shifting by the first value keeps the sums small
+// for values within a setting's range (MATH.md §4.9).
+func runningVariance(x []float64) float64 {
+	var sum, ssq float64
+	for _, v := range x {
+		d := v - x[0]
+		sum += d
+		ssq += d * d
+	}
+	t := float64(len(x))
+	m := sum / t
+	return max(0, (ssq-t*m*m)/(t-1))
 }
