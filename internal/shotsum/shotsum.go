@@ -16,6 +16,7 @@ import (
 	"math"
 	"math/bits"
 	"slices"
+	"unsafe"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
@@ -92,13 +93,19 @@ type Sums struct {
 	Exclude   []bool
 
 	index   map[string]int32 // by appendKey
+	cache   [256]cacheEntry
 	key     []byte
-	last    int32
 	nextOff int
 	qOff    []int32  // term i's support qubits are qIdx[qOff[i]:qOff[i+1]]
 	qIdx    []uint16 //
 	slice   []uint64 // one word per qubit: bit j is qubit q of shot j of the batch
 	z       [batch]float64
+}
+
+// cacheEntry remembers the group of the setting whose words start at p.
+type cacheEntry struct {
+	p uintptr
+	g int32
 }
 
 // New returns the accumulator of the plan that measures settings[k] for
@@ -134,7 +141,7 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 	m := h.Len()
 	s := &Sums{
 		H: h, Qubits: n, W: pauli.Words(n), Cover: make([]int, m), A: make([]float64, m),
-		Ones: make([]int64, m), index: make(map[string]int32, len(distinct)), last: -1,
+		Ones: make([]int64, m), index: make(map[string]int32, len(distinct)),
 		slice: make([]uint64, n),
 	}
 	for k := range Folds {
@@ -212,22 +219,14 @@ func (s *Sums) Add(st pauli.Setting, b pauli.Bits) error {
 	if k := s.Qubits & 63; k != 0 && b[s.W-1]>>k != 0 {
 		return fmt.Errorf("outcome has bits set beyond qubit %d", s.Qubits-1)
 	}
-	gi := s.last
-	if gi < 0 || !s.Groups[gi].Setting.Equal(st) {
-		var ok bool
-		if st.Qubits() == s.Qubits && st.IsLocal() {
-			s.key = appendKey(s.key[:0], st)
-			gi, ok = s.index[string(s.key)]
-		}
-		if !ok {
-			return fmt.Errorf("setting %s is not in the plan", st)
-		}
+	gi, ok := s.lookup(st)
+	if !ok {
+		return fmt.Errorf("setting %s is not in the plan", st)
 	}
 	g := s.Groups[gi]
 	if g.T+g.npend >= g.Planned {
 		return fmt.Errorf("more than %d shots of setting %s, the plan's count", g.Planned, st)
 	}
-	s.last = gi
 	if !g.Seen {
 		g.Seen, g.Off = true, s.nextOff
 		s.nextOff += g.Planned
@@ -241,6 +240,28 @@ func (s *Sums) Add(st pauli.Setting, b pauli.Bits) error {
 		s.flush(g)
 	}
 	return nil
+}
+
+// lookup returns the group of st. Readers pass the same setting values
+// again and again, so a small cache keyed by the address of the setting's
+// words answers most lookups with one comparison of the words; the others
+// go through the map.
+func (s *Sums) lookup(st pauli.Setting) (int32, bool) {
+	if st.Qubits() != s.Qubits || !st.IsLocal() {
+		return 0, false
+	}
+	x, _ := st.Words()
+	p := uintptr(unsafe.Pointer(unsafe.SliceData(x)))
+	e := &s.cache[(p>>4^p>>12)%uintptr(len(s.cache))]
+	if e.p == p && s.Groups[e.g].Setting.Equal(st) {
+		return e.g, true
+	}
+	s.key = appendKey(s.key[:0], st)
+	gi, ok := s.index[string(s.key)]
+	if ok {
+		*e = cacheEntry{p, gi}
+	}
+	return gi, ok
 }
 
 // Flush processes the shots waiting in partial batches. The sums do not
@@ -296,10 +317,11 @@ func (s *Sums) flush(g *Group) {
 		if kept < len(g.Kept) && g.Kept[kept] == i {
 			a := g.Coef[kept]
 			kept++
-			// The sample is 1 − 2·parity: add a·s as a − 2a·parity, which
-			// is exact in both cases (a and −a).
+			// The sample is 1 − 2·parity: add a·s, that is a or −a (its
+			// sign bit flipped by the parity), exactly what a·(±1) gives.
+			ab := math.Float64bits(a)
 			for j := range z {
-				z[j] += a - 2*a*float64(p>>j&1)
+				z[j] += math.Float64frombits(ab ^ (p>>j&1)<<63)
 			}
 		}
 	}
