@@ -24,8 +24,8 @@ type coverage struct {
 
 	index   *coverindex.Index
 	letters *coverindex.Letters // set when the rows are not stored and every setting is local
-	b32    []int32 // scratch for rescans
-	sorted bool    // terms returns the terms in table order
+	b32     []int32             // scratch for rescans
+	sorted  bool                // terms returns the terms in table order
 }
 
 // newCoverage checks a plan against h and builds its coverage. Entries with
