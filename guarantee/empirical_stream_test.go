@@ -1,8 +1,10 @@
 package guarantee
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"testing"
 
 	"github.com/shotplan/shotplan/estimate"
@@ -13,7 +15,7 @@ import (
 // streamFixture is a seeded plan (one setting of 150 shots, a few of 2–41,
 // the rest of one shot), its shots in random order as records and as a
 // stream.
-func streamFixture(t *testing.T, qubits, terms int, seed uint64, opts *estimate.Options) (*hamiltonian.Hamiltonian, *estimate.Records, *estimate.Stream) {
+func streamFixture(t *testing.T, qubits, terms, nset int, seed uint64, opts *estimate.Options) (*hamiltonian.Hamiltonian, *estimate.Records, *estimate.Stream) {
 	t.Helper()
 	h, err := hamiltonian.RandomLocal(qubits, terms, 3, seed)
 	if err != nil {
@@ -23,7 +25,7 @@ func streamFixture(t *testing.T, qubits, terms int, seed uint64, opts *estimate.
 	var settings []pauli.Setting
 	var shots, order []int
 	letters := make([]byte, qubits)
-	for k := range 40 {
+	for k := range nset {
 		for q := range letters {
 			letters[q] = "XYZ"[rng.IntN(3)]
 		}
@@ -86,7 +88,7 @@ func TestEmpiricalStreamMatches(t *testing.T) {
 			}
 			eo = &estimate.Options{Exclude: exclude}
 		}
-		h, rec, st := streamFixture(t, tc.qubits, tc.terms, tc.seed, eo)
+		h, rec, st := streamFixture(t, tc.qubits, tc.terms, 40, tc.seed, eo)
 		for _, form := range []EmpiricalForm{Pooled, PerGroupAMS, PerGroupMP, Residual} {
 			want, err := Empirical(h, rec, 0.05, &EmpiricalOptions{Form: form, Exclude: exclude})
 			if err != nil {
@@ -154,6 +156,46 @@ func TestEmpiricalStreamMatches(t *testing.T) {
 			}
 			if r0, r1 := residualRadius(lo, b, 0.05), residualRadius(hi, b, 0.05); !(got.Radius >= r0 && got.Radius <= r1) || !(want.Radius >= r0 && want.Radius <= r1) {
 				t.Errorf("case %+v: residual radius %v (stream), %v (in memory), bounds [%v, %v]", tc, got.Radius, want.Radius, r0, r1)
+			}
+		}
+	}
+}
+
+// TestEmpiricalLettersPath checks Empirical past the storage cap, where it
+// visits the cover pairs term by term through the transposed settings on
+// GOMAXPROCS goroutines (blocks of 64 groups here, so that 300 groups are
+// shared), against the stored path: bit-identical for every form, on one
+// goroutine and on two.
+func TestEmpiricalLettersPath(t *testing.T) {
+	defer func(c int) { letterChunk = c }(letterChunk)
+	letterChunk = 1
+	for _, tc := range []struct {
+		qubits, terms int
+		seed          uint64
+		exclude       bool
+	}{{8, 60, 1, false}, {8, 60, 2, true}, {70, 300, 3, false}} {
+		var exclude []bool
+		if tc.exclude {
+			exclude = make([]bool, tc.terms)
+			for i := 0; i < tc.terms; i += 4 {
+				exclude[i] = true
+			}
+		}
+		h, rec, _ := streamFixture(t, tc.qubits, tc.terms, 300, tc.seed, nil)
+		for _, form := range []EmpiricalForm{Pooled, PerGroupAMS, Residual} {
+			opts := &EmpiricalOptions{Form: form, Exclude: exclude}
+			want, err := Empirical(h, rec, 0.05, opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, procs := range []int{1, 2} {
+				old := runtime.GOMAXPROCS(procs)
+				got, err := empirical(h, rec, 0.05, opts, 10)
+				runtime.GOMAXPROCS(old)
+				if err != nil {
+					t.Fatal(err)
+				}
+				sameBound(t, fmt.Sprintf("case %+v %v GOMAXPROCS=%d", tc, form, procs), got, want)
 			}
 		}
 	}

@@ -237,3 +237,10 @@ func (l *Letters) AppendCovering(dst []int32, i int) []int32 {
 	}
 	return dst
 }
+
+// Words returns the number of words of 64 settings.
+func (l *Letters) Words() int { return l.words }
+
+// Covering sets out[k] to the word of settings 64(lo+k).. that cover term
+// i, for lo ≤ lo+k < lo+len(out) ≤ Words().
+func (l *Letters) Covering(out []uint64, i, lo int) { l.andInto(out, i, lo) }
