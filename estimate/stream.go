@@ -11,7 +11,7 @@ import (
 
 // Stream computes the grouped estimate of a fixed plan ([Grouped]) from
 // shots fed one at a time, in memory that does not grow with the number of
-// shots (MATH.md §4.9): it keeps, per distinct setting of the plan, the
+// shots (MATH.md §4.10): it keeps, per distinct setting of the plan, the
 // shot count and the running sums of the shot's contribution
 // Z = Σ_{i◁Q} a_i s_i (a_i = h_i/N_i, N_i from the plan) and of its square,
 // per term the number of −1 samples, and the outcome of every setting the
@@ -22,7 +22,7 @@ import (
 // The result equals that of [Grouped] on the same shots to the last bit:
 // both sum every shot's Z over its terms in table order and take a
 // setting's variance from the running sums Σ (Z − Z_first) and
-// Σ (Z − Z_first)² in shot order (MATH.md §4.9).
+// Σ (Z − Z_first)² in shot order (MATH.md §4.10).
 // [guarantee.EmpiricalStream] computes the data bounds of [guarantee.Empirical]
 // from a Stream.
 //
@@ -169,7 +169,7 @@ func (s *Stream) Result() (*Result, error) {
 // values) from the running sums Σ (x − x_0) and Σ (x − x_0)² taken in
 // order, the one-pass form a [Stream] keeps, so that Grouped and a Stream
 // agree to the last bit. Shifting by the first value keeps the sums small
-// for values within a setting's range (MATH.md §4.9).
+// for values within a setting's range (MATH.md §4.10).
 func runningVariance(x []float64) float64 {
 	var sum, ssq float64
 	for _, v := range x {

@@ -9,7 +9,7 @@ import (
 
 // EmpiricalStream is [Empirical] for shots fed to an [estimate.Stream]: the
 // same forms, computed from the stream's running sums instead of the
-// records (MATH.md §4.9), in memory that does not grow with the number of
+// records (MATH.md §4.10), in memory that does not grow with the number of
 // shots. The groups are the stream's settings in the order their first shot
 // arrived, as the groups of records read from the same shots. The terms
 // left out are the stream's (estimate.Options.Exclude); opts.Exclude must
@@ -18,7 +18,7 @@ import (
 // It equals Empirical on the same shots to the last bit for the pooled and
 // per-group forms and for DataBound.ApproxRadius; the Residual form expands
 // each fold's sum of squared residuals algebraically, which changes its
-// rounding (MATH.md §4.9). It returns an error for the errors of
+// rounding (MATH.md §4.10). It returns an error for the errors of
 // Empirical, a stream whose shots differ from its plan's, and a stream with
 // readout mitigation (Empirical bounds unmitigated estimates).
 func EmpiricalStream(st *estimate.Stream, delta float64, opts *EmpiricalOptions) (*DataBound, error) {
@@ -90,7 +90,7 @@ func abs(x float64) float64 {
 // streamResiduals is residuals from running sums. For the shots of fold k
 // of a group, the prediction ĉ = Σ_i c_i ô_i^{(−k)} is one number, so
 // Σ (w_n − ĉ)² = Σ d_n² + 2e Σ d_n + t e² with d_n = w_n − shift and
-// e = shift − ĉ (MATH.md §4.9). The one-shot groups' leave-one-out
+// e = shift − ĉ (MATH.md §4.10). The one-shot groups' leave-one-out
 // residuals and the worst-case sums are computed as residuals does.
 func streamResiduals(sm *shotsum.Sums) residualStats {
 	m := len(sm.A)

@@ -68,7 +68,7 @@ func streamFixture(t *testing.T, qubits, terms, nset int, seed uint64, opts *est
 // TestEmpiricalStreamMatches checks EmpiricalStream against Empirical on
 // the same shots: equal to the last bit for the pooled and per-group forms
 // and the approximate radius; for the residual form the folds' sums of
-// squared residuals within the rounding bound of MATH.md §4.9, and the
+// squared residuals within the rounding bound of MATH.md §4.10, and the
 // radius within the radii at the ends of that interval (the radius grows
 // with each sum).
 func TestEmpiricalStreamMatches(t *testing.T) {

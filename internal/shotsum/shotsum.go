@@ -1,7 +1,7 @@
 // Package shotsum accumulates, shot by shot, the running sums from which the
 // grouped estimate of a fixed plan (MATH.md §2) and its data bounds (§4.3,
 // §4.7) are computed, in memory that depends on the plan and the
-// Hamiltonian but not on the number of shots (MATH.md §4.9).
+// Hamiltonian but not on the number of shots (MATH.md §4.10).
 //
 // Package estimate feeds it (estimate.Stream) and package guarantee reads
 // it (guarantee.EmpiricalStream). Every per-shot value is computed with the
