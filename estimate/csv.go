@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -9,6 +10,7 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"unsafe"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
@@ -122,9 +124,7 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 	if n == 0 {
 		return 0, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
 	}
-	cr := csv.NewReader(&lineCap{r: r, max: maxCSVLine(n)})
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
+	cr := newLineReader(&lineCap{r: r, max: maxCSVLine(n)}, maxCSVLine(n))
 	var (
 		bits   pauli.Bits
 		header bool
@@ -145,7 +145,7 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 			}
 			return 0, fmt.Errorf("estimate: reading records: %w", err)
 		}
-		line, _ := cr.FieldPos(0)
+		line := cr.line
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
 				return 0, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
@@ -175,6 +175,8 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 		} else if t, ok := parsed[sf]; ok {
 			s = t
 		} else {
+			// sf aliases the reader's buffer: keep a copy.
+			sf = strings.Clone(sf)
 			t, err := pauli.ParseSetting(sf)
 			if err != nil {
 				var pe *pauli.ParseError
@@ -213,6 +215,81 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 		return 0, lineError(2, "no shots and no settings list to give the qubit count")
 	}
 	return n, nil
+}
+
+// lineReader reads the records' CSV lines as encoding/csv does for this
+// form, without a string per line: a line without a quote is split at its
+// commas, the fields aliasing the reader's buffer until the next Read; a
+// line with a quote is handed to encoding/csv alone. As encoding/csv it
+// skips empty lines, reads "\r\n" as "\n" and drops a "\r" before the end of
+// the input.
+type lineReader struct {
+	br     *bufio.Reader
+	line   int // line of the fields last returned
+	fields []string
+	eof    bool
+}
+
+func newLineReader(r io.Reader, maxLine int) *lineReader {
+	return &lineReader{br: bufio.NewReaderSize(r, max(64<<10, maxLine+2))}
+}
+
+// Read returns the fields of the next non-empty line, io.EOF at the end, a
+// *csv.ParseError (its Line the file's) for a bad quoted line, or the
+// reader's error.
+func (lr *lineReader) Read() ([]string, error) {
+	for {
+		if lr.eof {
+			return nil, io.EOF
+		}
+		raw, err := lr.br.ReadSlice('\n')
+		switch {
+		case err == io.EOF:
+			lr.eof = true
+			if len(raw) == 0 {
+				return nil, io.EOF
+			}
+			if raw[len(raw)-1] == '\r' {
+				raw = raw[:len(raw)-1]
+			}
+		case err != nil:
+			return nil, err
+		default:
+			raw = raw[:len(raw)-1]
+			if k := len(raw); k > 0 && raw[k-1] == '\r' {
+				raw = raw[:k-1]
+			}
+		}
+		lr.line++
+		if len(raw) == 0 {
+			continue
+		}
+		if bytes.IndexByte(raw, '"') >= 0 {
+			cr := csv.NewReader(bytes.NewReader(raw))
+			cr.FieldsPerRecord = -1
+			f, err := cr.Read()
+			if err != nil {
+				var pe *csv.ParseError
+				if errors.As(err, &pe) {
+					pe.StartLine, pe.Line = lr.line, lr.line
+				}
+				return nil, err
+			}
+			return f, nil
+		}
+		text := unsafe.String(unsafe.SliceData(raw), len(raw))
+		lr.fields = lr.fields[:0]
+		for {
+			k := strings.IndexByte(text, ',')
+			if k < 0 {
+				lr.fields = append(lr.fields, text)
+				break
+			}
+			lr.fields = append(lr.fields, text[:k])
+			text = text[k+1:]
+		}
+		return lr.fields, nil
+	}
 }
 
 // maxCSVLine is the longest records line accepted: a setting of n qubits
@@ -281,7 +358,19 @@ func csvLineError(err error) *LineError {
 // line-numbered message.
 func parseBitsInto(b pauli.Bits, s string) (int, bool) {
 	clear(b)
-	for q := 0; q < len(s); q++ {
+	q := 0
+	// Eight characters at a time while all are '0' or '1' (0x30, 0x31):
+	// their low bits, one per byte, are gathered into one byte by a
+	// multiplication (byte k's bit lands on bit 56 + k).
+	for ; q+8 <= len(s); q += 8 {
+		v := uint64(s[q]) | uint64(s[q+1])<<8 | uint64(s[q+2])<<16 | uint64(s[q+3])<<24 |
+			uint64(s[q+4])<<32 | uint64(s[q+5])<<40 | uint64(s[q+6])<<48 | uint64(s[q+7])<<56
+		if v&0xFEFEFEFEFEFEFEFE != 0x3030303030303030 {
+			break
+		}
+		b[q>>6] |= ((v & 0x0101010101010101) * 0x0102040810204080) >> 56 << (q & 63)
+	}
+	for ; q < len(s); q++ {
 		switch s[q] {
 		case '0':
 		case '1':

@@ -3,6 +3,7 @@ package estimate
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -214,5 +215,39 @@ func TestStreamAddAllocs(t *testing.T) {
 		}
 	}); n != 0 {
 		t.Errorf("Add allocates %v times per shot, want 0", n)
+	}
+}
+
+// TestParseBitsInto checks the reader's outcome parser, eight characters
+// at a time, against pauli.ParseBits on random texts of 1 to 150 bits,
+// some with a bad character, which must be reported at its qubit.
+func TestParseBitsInto(t *testing.T) {
+	rng := rand.New(rand.NewPCG(12, 13))
+	for range 2000 {
+		n := 1 + rng.IntN(150)
+		b := make([]byte, n)
+		for q := range b {
+			b[q] = "01"[rng.IntN(2)]
+		}
+		bad := -1
+		if rng.IntN(3) == 0 {
+			bad = rng.IntN(n)
+			b[bad] = "2 x/"[rng.IntN(4)]
+		}
+		got := pauli.NewBits(n)
+		q, ok := parseBitsInto(got, string(b))
+		if bad >= 0 {
+			if ok || q != bad {
+				t.Fatalf("%q: parseBitsInto = qubit %d, %v; want qubit %d, false", b, q, ok, bad)
+			}
+			continue
+		}
+		want, err := pauli.ParseBits(string(b))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !ok || !slices.Equal(got, want) {
+			t.Fatalf("%q: parseBitsInto = %x, %v; pauli.ParseBits %x", b, got, ok, want)
+		}
 	}
 }
