@@ -214,7 +214,10 @@ func quoteSetting(s string) string {
 
 func estimateHelp() string {
 	return `
-The records must hold exactly the plan's shots (any order). The energy is the
+The records must hold exactly the plan's shots (any order). CSV records are
+read in one pass in memory that does not grow with the number of shots
+(MATH.md §4.10); JSON records, and estimates with -readout, -calibration or
+-observables or of plans with entangled settings, are read whole. The energy is the
 grouped estimate; std_error and approx_interval come from the data by the
 normal approximation and are NOT guarantees. certified_bound is the plan's
 certified bound and data_bound an empirical Bernstein bound from these shots, each at
