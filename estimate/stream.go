@@ -27,8 +27,11 @@ import (
 // from a Stream.
 //
 // Shots of one setting are processed 64 at a time; the work per shot is
-// about two floating-point operations per term its setting covers. Only
-// local settings are accepted. A Stream serves one goroutine at a time.
+// about two floating-point operations per term its setting covers. The
+// covered terms of every setting are kept (4 bytes a pair) up to 2^27
+// pairs; past that they are found again for every batch of 64 shots of a
+// setting, which costs time instead of memory. Only local settings are
+// accepted. A Stream serves one goroutine at a time.
 type Stream struct {
 	cfg  *config
 	sums *shotsum.Sums
@@ -141,7 +144,8 @@ func (s *Stream) Result() (*Result, error) {
 			continue
 		}
 		r := 0.0
-		for _, i := range g.Kept {
+		_, kept, _ := sm.Lists(g)
+		for _, i := range kept {
 			n := res.Cover[i]
 			if n < 2 {
 				continue

@@ -7,7 +7,11 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/google/go-cmp/cmp"
+	"github.com/google/go-cmp/cmp/cmpopts"
+
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/shotsum"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -126,6 +130,19 @@ func TestStreamMatchesGrouped(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		// Past the storage cap the lists are found again per batch; the
+		// result must not change at all.
+		func() {
+			defer func(m int) { shotsum.MaxStored = m }(shotsum.MaxStored)
+			shotsum.MaxStored = 10
+			rescan, err := c.stream(t, opts).Result()
+			if err != nil {
+				t.Fatal(err)
+			}
+			if diff := cmp.Diff(got, rescan, cmpopts.EquateNaNs()); diff != "" {
+				t.Errorf("case %+v: stream with lists found again differs (-stored +rescanned):\n%s", tc, diff)
+			}
+		}()
 		if got.Energy != want.Energy || got.Bias != want.Bias || got.ReadoutBias != want.ReadoutBias || got.Shots != want.Shots {
 			t.Errorf("case %+v: stream energy %v bias %v %v shots %d, Grouped %v %v %v %d", tc, got.Energy, got.Bias, got.ReadoutBias, got.Shots, want.Energy, want.Bias, want.ReadoutBias, want.Shots)
 		}

@@ -117,14 +117,15 @@ func streamResiduals(sm *shotsum.Sums) residualStats {
 	}
 	for _, gi := range sm.Order {
 		g := sm.Groups[gi]
+		_, kept, coef := sm.Lists(g)
 		for k := range residualFolds {
 			if g.FoldT[k] == 0 {
 				continue
 			}
 			pred := 0.0
-			for a, i := range g.Kept {
+			for a, i := range kept {
 				if c := cnt[k][i]; tcnt[i] > c {
-					pred += g.Coef[a] * ((tot[i] - sum[k][i]) / (tcnt[i] - c))
+					pred += coef[a] * ((tot[i] - sum[k][i]) / (tcnt[i] - c))
 				}
 			}
 			e := g.Shift - pred
@@ -139,13 +140,13 @@ func streamResiduals(sm *shotsum.Sums) residualStats {
 		}
 		if g.T == 1 {
 			r := 0.0
-			for a, i := range g.Kept {
+			for a, i := range kept {
 				if tcnt[i] > 1 {
 					v := -1.0
 					if !sm.Odd(i, g.One) {
 						v = 1
 					}
-					r += g.Coef[a] * (v - (tot[i]-v)/(tcnt[i]-1))
+					r += coef[a] * (v - (tot[i]-v)/(tcnt[i]-1))
 				}
 			}
 			st.loo += r * r

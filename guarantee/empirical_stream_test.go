@@ -9,6 +9,7 @@ import (
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/shotsum"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -89,6 +90,12 @@ func TestEmpiricalStreamMatches(t *testing.T) {
 			eo = &estimate.Options{Exclude: exclude}
 		}
 		h, rec, st := streamFixture(t, tc.qubits, tc.terms, 40, tc.seed, eo)
+		var stu *estimate.Stream
+		func() {
+			defer func(m int) { shotsum.MaxStored = m }(shotsum.MaxStored)
+			shotsum.MaxStored = 10
+			_, _, stu = streamFixture(t, tc.qubits, tc.terms, 40, tc.seed, eo)
+		}()
 		for _, form := range []EmpiricalForm{Pooled, PerGroupAMS, PerGroupMP, Residual} {
 			want, err := Empirical(h, rec, 0.05, &EmpiricalOptions{Form: form, Exclude: exclude})
 			if err != nil {
@@ -97,6 +104,14 @@ func TestEmpiricalStreamMatches(t *testing.T) {
 			got, err := EmpiricalStream(st, 0.05, &EmpiricalOptions{Form: form})
 			if err != nil {
 				t.Fatal(err)
+			}
+			if stu != nil {
+				// The same shots with the lists not stored: bit-identical.
+				re, err := EmpiricalStream(stu, 0.05, &EmpiricalOptions{Form: form})
+				if err != nil {
+					t.Fatal(err)
+				}
+				sameBound(t, fmt.Sprintf("case %+v %v, lists not stored", tc, form), re, got)
 			}
 			if got.Energy != want.Energy || got.Bias != want.Bias || got.ApproxRadius != want.ApproxRadius || got.Shots != want.Shots || len(got.Groups) != len(want.Groups) {
 				t.Fatalf("case %+v %v: stream %+v, Empirical %+v", tc, form, got, want)

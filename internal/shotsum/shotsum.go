@@ -43,7 +43,8 @@ type Group struct {
 	// processed) so far.
 	Planned, T int
 	// Rows are the covered terms in table order; Kept the ones with a
-	// non-zero weight and Coef their weights.
+	// non-zero weight and Coef their weights. They are nil when the plan
+	// covers more pairs than are stored: read them through Sums.Lists.
 	Rows []int32
 	Kept []int32
 	Coef []float64
@@ -92,15 +93,26 @@ type Sums struct {
 	Mitigated bool
 	Exclude   []bool
 
-	index   map[string]int32 // by appendKey
-	cache   [256]cacheEntry
-	key     []byte
-	nextOff int
-	qOff    []int32  // term i's support qubits are qIdx[qOff[i]:qOff[i+1]]
-	qIdx    []uint16 //
-	slice   []uint64 // one word per qubit: bit j is qubit q of shot j of the batch
-	z       [batch]float64
+	ci       *coverindex.Index // finds the lists again when they are not stored
+	stored   bool
+	weighted bool    // SetWeights has run
+	lrows    []int32 // scratch of Lists
+	lkept    []int32
+	lcoef    []float64
+	index    map[string]int32 // by appendKey
+	cache    [256]cacheEntry
+	key      []byte
+	nextOff  int
+	qOff     []int32  // term i's support qubits are qIdx[qOff[i]:qOff[i+1]]
+	qIdx     []uint16 //
+	slice    []uint64 // one word per qubit: bit j is qubit q of shot j of the batch
+	z        [batch]float64
 }
+
+// MaxStored is the number of (setting, term) cover pairs an accumulator
+// keeps; past it the lists are found again per batch of shots. Tests lower
+// it.
+var MaxStored = coverindex.MaxStored
 
 // cacheEntry remembers the group of the setting whose words start at p.
 type cacheEntry struct {
@@ -159,19 +171,30 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 		}
 		s.qOff[i+1] = int32(len(s.qIdx))
 	}
-	ci := coverindex.New(n, m, tab.Words)
-	stored := 0
+	s.ci = coverindex.New(n, m, tab.Words)
+	s.stored = true
+	total := 0
+	var rows []int32
 	for q, st := range distinct {
 		x, z := st.Words()
-		rows := ci.AppendCovered(nil, x, z)
-		slices.Sort(rows)
-		if stored += len(rows); stored > coverindex.MaxStored {
-			return nil, fmt.Errorf("the plan's settings cover more than %d (setting, term) pairs, more than a stream keeps", coverindex.MaxStored)
-		}
+		rows = s.ci.AppendCovered(rows[:0], x, z)
 		for _, i := range rows {
 			s.Cover[i] += mult[q]
 		}
-		s.Groups = append(s.Groups, &Group{Setting: st, Planned: mult[q], Rows: rows})
+		// Past the cap the lists are found again when needed (a scan per
+		// batch of shots): time instead of memory.
+		if total += len(rows); total > MaxStored && s.stored {
+			s.stored = false
+			for _, g := range s.Groups {
+				g.Rows = nil
+			}
+		}
+		g := &Group{Setting: st, Planned: mult[q]}
+		if s.stored {
+			g.Rows = slices.Clone(rows)
+			slices.Sort(g.Rows)
+		}
+		s.Groups = append(s.Groups, g)
 		s.index[string(appendKey(nil, st))] = int32(q)
 	}
 	return s, nil
@@ -195,16 +218,43 @@ func appendKey(dst []byte, st pauli.Setting) []byte {
 // first shot.
 func (s *Sums) SetWeights(a []float64) {
 	copy(s.A, a)
+	s.weighted = false
 	for _, g := range s.Groups {
-		g.Kept, g.Coef, g.Half = g.Kept[:0], g.Coef[:0], 0
-		for _, i := range g.Rows {
-			if c := s.A[i]; c != 0 {
-				g.Kept = append(g.Kept, i)
-				g.Coef = append(g.Coef, c)
-				g.Half += math.Abs(c)
-			}
+		_, kept, coef := s.Lists(g)
+		g.Half = 0
+		for _, c := range coef {
+			g.Half += math.Abs(c)
+		}
+		if s.stored {
+			g.Kept, g.Coef = slices.Clone(kept), slices.Clone(coef)
 		}
 	}
+	s.weighted = true
+}
+
+// Lists returns g's covered terms in table order, those with a non-zero
+// weight and their weights: g's own lists when they are stored, else
+// lists found again through the cover index, valid until the next call.
+func (s *Sums) Lists(g *Group) (rows, kept []int32, coef []float64) {
+	if s.stored && s.weighted {
+		return g.Rows, g.Kept, g.Coef
+	}
+	if s.stored {
+		rows = g.Rows
+	} else {
+		x, z := g.Setting.Words()
+		s.lrows = s.ci.AppendCovered(s.lrows[:0], x, z)
+		slices.Sort(s.lrows)
+		rows = s.lrows
+	}
+	s.lkept, s.lcoef = s.lkept[:0], s.lcoef[:0]
+	for _, i := range rows {
+		if c := s.A[i]; c != 0 {
+			s.lkept = append(s.lkept, i)
+			s.lcoef = append(s.lcoef, c)
+		}
+	}
+	return rows, s.lkept, s.lcoef
 }
 
 // Add adds one shot: setting st gave outcome b. It returns an error, and
@@ -302,8 +352,9 @@ func (s *Sums) flush(g *Group) {
 	c0, c1 := int64(bits.OnesCount64(fm[0])), int64(bits.OnesCount64(fm[1]))
 	z := s.z[:nb]
 	clear(z)
+	rows, gk, gc := s.Lists(g)
 	kept := 0
-	for _, i := range g.Rows {
+	for _, i := range rows {
 		p := uint64(0)
 		for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
 			p ^= s.slice[q]
@@ -314,8 +365,8 @@ func (s *Sums) flush(g *Group) {
 		s.FoldOnes[1][i] += int64(bits.OnesCount64(p & fm[1]))
 		s.FoldCnt[0][i] += c0
 		s.FoldCnt[1][i] += c1
-		if kept < len(g.Kept) && g.Kept[kept] == i {
-			a := g.Coef[kept]
+		if kept < len(gk) && gk[kept] == i {
+			a := gc[kept]
 			kept++
 			// The sample is 1 − 2·parity: add a·s, that is a or −a (its
 			// sign bit flipped by the parity), exactly what a·(±1) gives.
