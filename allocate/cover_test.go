@@ -56,3 +56,45 @@ func TestCoverCountsMatchesDefinition(t *testing.T) {
 		}
 	}
 }
+
+// TestCoverCountsLetters checks the count through the transposed settings
+// (more than 4096 distinct ones, shot counts up to 1000 so that the
+// multiplicities take ten bits) against the definition, letter by letter,
+// on 1, 2 and 3 goroutines.
+func TestCoverCountsLetters(t *testing.T) {
+	const qubits = 12
+	h, err := hamiltonian.RandomLocal(qubits, 300, 3, 8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	settings := make([]pauli.Setting, 6000)
+	shots := make([]int, len(settings))
+	buf := make([]byte, qubits)
+	for k := range settings {
+		for q := range buf {
+			buf[q] = "XYZ"[rng.IntN(3)]
+		}
+		settings[k] = pauli.MustParseSetting(string(buf))
+		shots[k] = 1 + rng.IntN(1000)
+	}
+	want := make([]int, h.Len())
+	for k, s := range settings {
+		for i := range want {
+			if s.Covers(h.Pauli(i)) {
+				want[i] += shots[k]
+			}
+		}
+	}
+	for _, procs := range []int{1, 2, 3} {
+		old := runtime.GOMAXPROCS(procs)
+		got, err := allocate.CoverCounts(h, settings, shots)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !slices.Equal(got, want) {
+			t.Errorf("GOMAXPROCS=%d: CoverCounts differs from the definition", procs)
+		}
+	}
+}

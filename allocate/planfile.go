@@ -664,6 +664,23 @@ func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
 	if err != nil {
 		return fail(0, "", "%v", err)
 	}
+	return f.CheckCover(h, cover)
+}
+
+// CheckCover is [PlanFile.Check] with the cover counts of the plan's
+// settings on h already computed (for example a certificate's), so that
+// they are not counted twice; cover[i] must be term i's count.
+func (f *PlanFile) CheckCover(h *hamiltonian.Hamiltonian, cover []int) error {
+	p := f.Plan
+	fail := func(line int, entry, format string, args ...any) error {
+		return &PlanFileError{File: f.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}
+	}
+	if p.Qubits != h.Qubits() {
+		return fail(f.qubitsLine, "qubits", "the plan is for %d qubits, the Hamiltonian has %d", p.Qubits, h.Qubits())
+	}
+	if len(p.Cover) != h.Len() || len(cover) != h.Len() {
+		return fail(f.coverLine, "cover", "the plan counts covers of %d terms, the Hamiltonian has %d", len(p.Cover), h.Len())
+	}
 	for i, c := range cover {
 		if c != p.Cover[i] {
 			return fail(f.lineOf(f.cover, i, f.coverLine), fmt.Sprintf("cover[%d]", i),

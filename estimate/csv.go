@@ -2,6 +2,7 @@ package estimate
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -9,6 +10,7 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"unsafe"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
@@ -75,22 +77,55 @@ func WriteCSVFile(path string, rec *Records) error {
 // letter, an index out of range, a setting or outcome of the wrong width, or
 // an outcome character other than 0 and 1. errors.Is(err, ErrFormat) holds.
 func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
+	var rec *Records
+	n, err := scanCSV(r, settings, func(_, n int, s pauli.Setting, b pauli.Bits) error {
+		if rec == nil {
+			rec = NewRecords(n)
+		}
+		rec.appendShot(rec.group(s), b)
+		return nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	if rec == nil {
+		rec = NewRecords(n)
+	}
+	return rec, nil
+}
+
+// ScanCSV reads records in the CSV form, as [ReadCSV], and hands each shot
+// to fn instead of keeping it: memory does not grow with the number of
+// shots. The outcome passed to fn is reused for the next shot. An error
+// from fn stops the scan and is returned as a [*LineError] naming the
+// line, with fn's error as its reason. ScanCSV returns the qubit count (of
+// settings, else of the first row), or an error as ReadCSV.
+func ScanCSV(r io.Reader, settings []pauli.Setting, fn func(s pauli.Setting, b pauli.Bits) error) (int, error) {
+	return scanCSV(r, settings, func(line, _ int, s pauli.Setting, b pauli.Bits) error {
+		if err := fn(s, b); err != nil {
+			return lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
+		}
+		return nil
+	})
+}
+
+// scanCSV parses the CSV form and calls fn with each shot's line, the
+// qubit count, the setting and the outcome (a reused buffer); it returns
+// the qubit count.
+func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli.Setting, b pauli.Bits) error) (int, error) {
 	n := -1
 	for k, s := range settings {
 		if k == 0 {
 			n = s.Qubits()
 		} else if s.Qubits() != n {
-			return nil, fmt.Errorf("estimate: %w: settings list: setting %d has %d qubits, setting 0 has %d", ErrFormat, k, s.Qubits(), n)
+			return 0, fmt.Errorf("estimate: %w: settings list: setting %d has %d qubits, setting 0 has %d", ErrFormat, k, s.Qubits(), n)
 		}
 	}
 	if n == 0 {
-		return nil, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
+		return 0, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
 	}
-	cr := csv.NewReader(&lineCap{r: r, max: maxCSVLine(n)})
-	cr.FieldsPerRecord = -1
-	cr.ReuseRecord = true
+	cr := newLineReader(&lineCap{r: r, max: maxCSVLine(n)}, maxCSVLine(n))
 	var (
-		rec    *Records
 		bits   pauli.Bits
 		header bool
 		parsed = make(map[string]pauli.Setting)
@@ -103,43 +138,45 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 		if err != nil {
 			var long *lineTooLong
 			if errors.As(err, &long) {
-				return nil, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
+				return 0, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
 			}
 			if le := csvLineError(err); le != nil {
-				return nil, le
+				return 0, le
 			}
-			return nil, fmt.Errorf("estimate: reading records: %w", err)
+			return 0, fmt.Errorf("estimate: reading records: %w", err)
 		}
-		line, _ := cr.FieldPos(0)
+		line := cr.line
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
-				return nil, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
+				return 0, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
 			}
 			header = true
 			continue
 		}
 		if len(fields) != 2 {
-			return nil, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
+			return 0, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
 		}
 		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
 		var s pauli.Setting
 		if sf == "" {
-			return nil, lineError(line, "empty setting")
+			return 0, lineError(line, "empty setting")
 		}
 		if sf[0] >= '0' && sf[0] <= '9' {
 			k, err := strconv.Atoi(sf)
 			switch {
 			case err != nil:
-				return nil, lineError(line, fmt.Sprintf("setting index %q is not a non-negative integer", sf))
+				return 0, lineError(line, fmt.Sprintf("setting index %q is not a non-negative integer", sf))
 			case settings == nil:
-				return nil, lineError(line, fmt.Sprintf("setting index %d but no settings list was given", k))
+				return 0, lineError(line, fmt.Sprintf("setting index %d but no settings list was given", k))
 			case k >= len(settings):
-				return nil, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
+				return 0, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
 			}
 			s = settings[k]
 		} else if t, ok := parsed[sf]; ok {
 			s = t
 		} else {
+			// sf aliases the reader's buffer: keep a copy.
+			sf = strings.Clone(sf)
 			t, err := pauli.ParseSetting(sf)
 			if err != nil {
 				var pe *pauli.ParseError
@@ -147,39 +184,112 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 				if errors.As(err, &pe) {
 					reason = pe.Reason
 				}
-				return nil, lineError(line, fmt.Sprintf("setting %q: %s", sf, reason))
+				return 0, lineError(line, fmt.Sprintf("setting %q: %s", sf, reason))
 			}
 			if n < 0 {
 				n = t.Qubits()
 			}
 			if t.Qubits() != n {
-				return nil, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
+				return 0, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
 			}
 			parsed[sf] = t
 			s = t
 		}
-		if rec == nil {
-			rec = NewRecords(n)
+		if bits == nil {
 			bits = pauli.NewBits(n)
 		}
 		if len(bf) != n {
-			return nil, lineError(line, fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n))
+			return 0, lineError(line, fmt.Sprintf("outcome %q has %d bits, want %d", bf, len(bf), n))
 		}
 		if q, ok := parseBitsInto(bits, bf); !ok {
-			return nil, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
+			return 0, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
 		}
-		rec.appendShot(rec.group(s), bits)
+		if err := fn(line, n, s, bits); err != nil {
+			return 0, err
+		}
 	}
 	if !header {
-		return nil, lineError(1, fmt.Sprintf("missing header %q", csvHeader))
+		return 0, lineError(1, fmt.Sprintf("missing header %q", csvHeader))
 	}
-	if rec == nil {
-		if n < 1 {
-			return nil, lineError(2, "no shots and no settings list to give the qubit count")
+	if n < 1 {
+		return 0, lineError(2, "no shots and no settings list to give the qubit count")
+	}
+	return n, nil
+}
+
+// lineReader reads the records' CSV lines as encoding/csv does for this
+// form, without a string per line: a line without a quote is split at its
+// commas, the fields aliasing the reader's buffer until the next Read; a
+// line with a quote is handed to encoding/csv alone. As encoding/csv it
+// skips empty lines, reads "\r\n" as "\n" and drops a "\r" before the end of
+// the input.
+type lineReader struct {
+	br     *bufio.Reader
+	line   int // line of the fields last returned
+	fields []string
+	eof    bool
+}
+
+func newLineReader(r io.Reader, maxLine int) *lineReader {
+	return &lineReader{br: bufio.NewReaderSize(r, max(64<<10, maxLine+2))}
+}
+
+// Read returns the fields of the next non-empty line, io.EOF at the end, a
+// *csv.ParseError (its Line the file's) for a bad quoted line, or the
+// reader's error.
+func (lr *lineReader) Read() ([]string, error) {
+	for {
+		if lr.eof {
+			return nil, io.EOF
 		}
-		rec = NewRecords(n)
+		raw, err := lr.br.ReadSlice('\n')
+		switch {
+		case err == io.EOF:
+			lr.eof = true
+			if len(raw) == 0 {
+				return nil, io.EOF
+			}
+			if raw[len(raw)-1] == '\r' {
+				raw = raw[:len(raw)-1]
+			}
+		case err != nil:
+			return nil, err
+		default:
+			raw = raw[:len(raw)-1]
+			if k := len(raw); k > 0 && raw[k-1] == '\r' {
+				raw = raw[:k-1]
+			}
+		}
+		lr.line++
+		if len(raw) == 0 {
+			continue
+		}
+		if bytes.IndexByte(raw, '"') >= 0 {
+			cr := csv.NewReader(bytes.NewReader(raw))
+			cr.FieldsPerRecord = -1
+			f, err := cr.Read()
+			if err != nil {
+				var pe *csv.ParseError
+				if errors.As(err, &pe) {
+					pe.StartLine, pe.Line = lr.line, lr.line
+				}
+				return nil, err
+			}
+			return f, nil
+		}
+		text := unsafe.String(unsafe.SliceData(raw), len(raw))
+		lr.fields = lr.fields[:0]
+		for {
+			k := strings.IndexByte(text, ',')
+			if k < 0 {
+				lr.fields = append(lr.fields, text)
+				break
+			}
+			lr.fields = append(lr.fields, text[:k])
+			text = text[k+1:]
+		}
+		return lr.fields, nil
 	}
-	return rec, nil
 }
 
 // maxCSVLine is the longest records line accepted: a setting of n qubits
@@ -248,7 +358,19 @@ func csvLineError(err error) *LineError {
 // line-numbered message.
 func parseBitsInto(b pauli.Bits, s string) (int, bool) {
 	clear(b)
-	for q := 0; q < len(s); q++ {
+	q := 0
+	// Eight characters at a time while all are '0' or '1' (0x30, 0x31):
+	// their low bits, one per byte, are gathered into one byte by a
+	// multiplication (byte k's bit lands on bit 56 + k).
+	for ; q+8 <= len(s); q += 8 {
+		v := uint64(s[q]) | uint64(s[q+1])<<8 | uint64(s[q+2])<<16 | uint64(s[q+3])<<24 |
+			uint64(s[q+4])<<32 | uint64(s[q+5])<<40 | uint64(s[q+6])<<48 | uint64(s[q+7])<<56
+		if v&0xFEFEFEFEFEFEFEFE != 0x3030303030303030 {
+			break
+		}
+		b[q>>6] |= ((v & 0x0101010101010101) * 0x0102040810204080) >> 56 << (q & 63)
+	}
+	for ; q < len(s); q++ {
 		switch s[q] {
 		case '0':
 		case '1':

@@ -170,7 +170,7 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	groupedEntangledSums(sw, eg, a, raw, res.Cover, z, r)
 	for g := range rec.Groups() {
 		if zs := z[sw.off[g]:sw.off[g+1]]; len(zs) > 1 {
-			vsum += float64(len(zs)) * sampleVariance(zs)
+			vsum += float64(len(zs)) * runningVariance(zs)
 		} else {
 			vsum += r[g] * r[g]
 		}

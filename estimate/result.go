@@ -119,6 +119,11 @@ func newConfig(h *hamiltonian.Hamiltonian, rec *Records, opts *Options, what str
 		// around the offset.
 		return nil, fmt.Errorf("estimate: %w: %s: the records hold no shot", ErrFormat, what)
 	}
+	return configFor(h, opts, what)
+}
+
+// configFor checks opts against h.
+func configFor(h *hamiltonian.Hamiltonian, opts *Options, what string) (*config, error) {
 	var o Options
 	if opts != nil {
 		o = *opts

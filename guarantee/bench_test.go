@@ -137,3 +137,41 @@ func BenchmarkEmpiricalLarge(b *testing.B) {
 	}
 	cputime.Report(b, cpu)
 }
+
+// BenchmarkCertifyLarge is the work of `shotplan certify` after reading
+// its files, for 10^5 distinct random local settings (one shot each) on a
+// random 4-local Hamiltonian of 10^5 terms on 50 qubits (1.2·10^9 covered
+// (setting, term) pairs, too many to store): the certificate with its
+// shares and both truncations, and the comparison of its cover counts with
+// the plan's (CertifyPlan; the command checks the plan file against the
+// certificate's counts the same way).
+func BenchmarkCertifyLarge(b *testing.B) {
+	const n, terms, settings = 50, 100_000, 100_000
+	h, err := hamiltonian.RandomLocal(n, terms, 4, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	p := &allocate.Plan{Qubits: n}
+	letters := make([]byte, n)
+	for range settings {
+		for q := range letters {
+			letters[q] = "XYZ"[rng.IntN(3)]
+		}
+		p.Settings = append(p.Settings, pauli.MustParseSetting(string(letters)))
+		p.Shots = append(p.Shots, 1)
+	}
+	if p.Cover, err = allocate.CoverCounts(h, p.Settings, p.Shots); err != nil {
+		b.Fatal(err)
+	}
+	b.Run(fmt.Sprintf("qubits=%d/terms=%d/settings=%d", n, terms, settings), func(b *testing.B) {
+		b.ReportAllocs()
+		cpu := cputime.Now()
+		for b.Loop() {
+			if _, err := CertifyPlan(h, p, 0.05, nil); err != nil {
+				b.Fatal(err)
+			}
+		}
+		cputime.Report(b, cpu)
+	})
+}

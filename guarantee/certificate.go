@@ -201,13 +201,7 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 		Radius:   math.Sqrt(2 * v * l),
 	}
 	// load[i] = Σ_{n: i◁Q_n} s_{Q_n} = Σ_{Q∋i} m_Q s_Q.
-	load := make([]float64, h.Len())
-	for q := range c.settings {
-		w := float64(c.mult[q]) * s[q]
-		for _, i := range c.terms(q) {
-			load[i] += w
-		}
-	}
+	load := c.termLoads(s)
 	cert.Share = make([]float64, h.Len())
 	cert.RelaxedShare = make([]float64, h.Len())
 	for i, n := range c.cover {
@@ -247,7 +241,7 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 			})
 		}
 	}
-	cert.Threshold = thresholdTruncation(c, a, delta)
+	cert.Threshold = thresholdTruncation(c, a, s, delta)
 	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate(), opts.searchBudget())
 	return cert
 }

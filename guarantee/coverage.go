@@ -22,9 +22,10 @@ type coverage struct {
 	cover    []int           // N_i
 	shots    int             // Σ m_Q
 
-	index  *coverindex.Index
-	b32    []int32 // scratch for rescans
-	sorted bool    // terms returns the terms in table order
+	index   *coverindex.Index
+	letters *coverindex.Letters // set when the rows are not stored and every setting is local
+	b32     []int32             // scratch for rescans
+	sorted  bool                // terms returns the terms in table order
 
 	sp *splitState // the coefficient split, nil for the implicit weights (setSplit)
 }
@@ -66,6 +67,17 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 		c.shots += shots[k]
 	}
 	c.settings, c.mult = pauli.MergeSettings(settings, shots)
+	// Plans that may cover more pairs than are stored are counted through
+	// the transposed settings first; if they do cover more, the sums over
+	// pairs go through it too, term by term (see coverindex.Letters).
+	if len(c.settings)*h.Len() > maxStored && !slices.ContainsFunc(c.settings, func(s pauli.Setting) bool { return !s.IsLocal() }) {
+		l := coverindex.NewLetters(h.Qubits(), c.settings, c.mult, h.Len(), h.Table().Words)
+		if cover, pairs := l.Counts(); pairs > int64(maxStored) {
+			c.cover, c.letters, c.rows = cover, l, nil
+			c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
+			return c, nil
+		}
+	}
 	// The rows are cut from blocks of up to 1<<20 entries, so that no
 	// stored index is ever copied by a growing slice.
 	c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
@@ -141,6 +153,9 @@ func (c *coverage) weights() []float64 {
 // loads returns s_Q = Σ_{i ◁ Q, keep} a_i for every distinct setting, where a
 // nil drop keeps every term.
 func (c *coverage) loads(a []float64, drop []bool) []float64 {
+	if c.letters != nil {
+		return c.letters.SumOver(a, drop)
+	}
 	s := make([]float64, len(c.settings))
 	for q := range c.settings {
 		sum := 0.0
@@ -152,6 +167,25 @@ func (c *coverage) loads(a []float64, drop []bool) []float64 {
 		s[q] = sum
 	}
 	return s
+}
+
+// termLoads returns load_i = Σ_{Q ∋ i} m_Q s_Q for every term, the
+// settings added in their order.
+func (c *coverage) termLoads(s []float64) []float64 {
+	f := make([]float64, len(s))
+	for q := range s {
+		f[q] = float64(c.mult[q]) * s[q]
+	}
+	if c.letters != nil {
+		return c.letters.Gather(f)
+	}
+	load := make([]float64, c.h.Len())
+	for q := range c.settings {
+		for _, i := range c.terms(q) {
+			load[i] += f[q]
+		}
+	}
+	return load
 }
 
 // variance returns V = Σ_Q m_Q s_Q² of MATH.md §3.1.

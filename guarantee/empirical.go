@@ -8,6 +8,7 @@ import (
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -329,6 +330,12 @@ func checkExclude(h *hamiltonian.Hamiltonian, exclude []bool) error {
 // records of another width, no records, an exclusion list or shares of the
 // wrong length, or a negative or non-finite share.
 func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64, opts *EmpiricalOptions) (*DataBound, error) {
+	return empirical(h, rec, delta, opts, coverindex.MaxStored)
+}
+
+// empirical is Empirical storing at most maxStored cover pairs (see
+// newCoverageStoring); tests lower it.
+func empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64, opts *EmpiricalOptions, maxStored int) (*DataBound, error) {
 	var o EmpiricalOptions
 	if opts != nil {
 		o = *opts
@@ -362,7 +369,7 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 	}
 	// Every group of the records holds shots, so the coverage keeps the
 	// groups in their order: distinct setting q is group q.
-	c, err := newCoverage(h, settings, shots)
+	c, err := newCoverageStoring(h, settings, shots, maxStored)
 	if err != nil {
 		return nil, err
 	}
@@ -370,6 +377,11 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 		return nil, err
 	}
 	coef, bias := estimatorWeights(h, c.cover, 1, o.Exclude)
+	if c.letters != nil {
+		// Too many cover pairs to store: visit them term by term.
+		gs, st := empiricalLetters(h, rec, c, coef)
+		return boundFromStats(h, gs, st, bias, rec.Len(), delta, o.Form, o.Shares), nil
+	}
 	gs, rowsOf := prepareGroups(c, coef)
 	var buf []int8
 	for g, gr := range gs {
@@ -385,8 +397,14 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 // weight is their number of shots, rowsOf giving their terms; out(g, j) is
 // outcome j of group g.
 func fixedBound(h *hamiltonian.Hamiltonian, gs []*groupStat, rowsOf groupRows, coef []float64, bias float64, shots int, delta float64, form EmpiricalForm, shares []float64, out func(g, j int) pauli.Bits) *DataBound {
-	b := finishBound(h, gs, bias, shots, delta, form, shares)
 	st := residuals(h.Table(), gs, rowsOf, coef, out)
+	return boundFromStats(h, gs, st, bias, shots, delta, form, shares)
+}
+
+// boundFromStats finishes the data bound of a fixed plan from its groups
+// and residual statistics.
+func boundFromStats(h *hamiltonian.Hamiltonian, gs []*groupStat, st residualStats, bias float64, shots int, delta float64, form EmpiricalForm, shares []float64) *DataBound {
+	b := finishBound(h, gs, bias, shots, delta, form, shares)
 	b.ApproxRadius = approxRadiusLOO(gs, delta, st.loo)
 	if form == Residual {
 		w := 0.0

@@ -36,8 +36,9 @@ type Truncation struct {
 	Method string
 }
 
-// evaluate fills the bound of a dropped set.
-func evaluate(c *coverage, a []float64, drop []bool, delta float64, method string) Truncation {
+// evaluate fills the bound of a dropped set; full are the loads with
+// nothing dropped, which are reused when every dropped term has a_i = 0.
+func evaluate(c *coverage, a, full []float64, drop []bool, delta float64, method string) Truncation {
 	l := math.Log(2 / delta)
 	t := Truncation{Drop: drop, Method: method}
 	for i, d := range drop {
@@ -50,7 +51,21 @@ func evaluate(c *coverage, a []float64, drop []bool, delta float64, method strin
 		t.RelaxedRadius += abs / math.Sqrt(float64(c.cover[i]))
 	}
 	t.RelaxedRadius *= math.Sqrt(2 * l)
-	t.Variance = c.variance(c.loads(a, drop))
+	// Dropping terms of weight zero leaves every load as it is: the loads
+	// are sums of non-negative weights a_i = |h_i|/N_i, and adding +0
+	// changes none.
+	same := full != nil
+	for i, d := range drop {
+		if d && a[i] != 0 {
+			same = false
+			break
+		}
+	}
+	if same {
+		t.Variance = c.variance(full)
+	} else {
+		t.Variance = c.variance(c.loads(a, drop))
+	}
 	t.Radius = math.Sqrt(2 * t.Variance * l)
 	t.Bound = t.Bias + t.Radius
 	return t
@@ -59,13 +74,13 @@ func evaluate(c *coverage, a []float64, drop []bool, delta float64, method strin
 // thresholdTruncation applies the δ-only rule of MATH.md §3.3: drop term i
 // when N_i < c(δ)² = 2 ln(2/δ), which is where its relaxed share
 // c |h_i|/sqrt(N_i) exceeds its bias |h_i|.
-func thresholdTruncation(c *coverage, a []float64, delta float64) Truncation {
+func thresholdTruncation(c *coverage, a, full []float64, delta float64) Truncation {
 	c2 := 2 * math.Log(2/delta)
 	drop := make([]bool, len(c.cover))
 	for i, n := range c.cover {
 		drop[i] = float64(n) < c2
 	}
-	return evaluate(c, a, drop, delta, fmt.Sprintf("threshold: drop terms with N_i < 2 ln(2/δ) = %.4g", c2))
+	return evaluate(c, a, full, drop, delta, fmt.Sprintf("threshold: drop terms with N_i < 2 ln(2/δ) = %.4g", c2))
 }
 
 // optimalTruncation minimises F(D) = Σ_{i∈D} |h_i| + c sqrt(V(kept)) over the
@@ -123,28 +138,36 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 		}
 	}
 	if len(cand) == 0 {
-		t := evaluate(c, a, drop, delta, "exact: no term has 0 < N_i < 2 ln(2/δ)")
+		t := evaluate(c, a, s, drop, delta, "exact: no term has 0 < N_i < 2 ln(2/δ)")
 		t.Lower, t.Exact = t.Bound, true
 		return t
 	}
 	cnt := make([]int, len(cand)+1)
-	for q := range c.settings {
-		for _, i := range c.terms(q) {
-			if p := pos[i]; p >= 0 {
-				cnt[p+1]++
+	var rev []int32
+	if c.letters != nil {
+		for k, i := range cand {
+			rev = c.letters.AppendCovering(rev, i)
+			cnt[k+1] = len(rev)
+		}
+	} else {
+		for q := range c.settings {
+			for _, i := range c.terms(q) {
+				if p := pos[i]; p >= 0 {
+					cnt[p+1]++
+				}
 			}
 		}
-	}
-	for k := range cand {
-		cnt[k+1] += cnt[k]
-	}
-	rev := make([]int32, cnt[len(cand)])
-	fill := append([]int(nil), cnt[:len(cand)]...)
-	for q := range c.settings {
-		for _, i := range c.terms(q) {
-			if p := pos[i]; p >= 0 {
-				rev[fill[p]] = int32(q)
-				fill[p]++
+		for k := range cand {
+			cnt[k+1] += cnt[k]
+		}
+		rev = make([]int32, cnt[len(cand)])
+		fill := append([]int(nil), cnt[:len(cand)]...)
+		for q := range c.settings {
+			for _, i := range c.terms(q) {
+				if p := pos[i]; p >= 0 {
+					rev[fill[p]] = int32(q)
+					fill[p]++
+				}
 			}
 		}
 	}
@@ -197,7 +220,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 	for k, i := range cand {
 		drop[i] = best[k]
 	}
-	t := evaluate(c, a, drop, delta, method)
+	t := evaluate(c, a, s, drop, delta, method)
 	if exact {
 		t.Lower, t.Exact = t.Bound, true
 	} else {

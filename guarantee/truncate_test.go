@@ -24,7 +24,7 @@ func bruteForceOptimum(c *coverage, a []float64, delta float64) float64 {
 		if !ok {
 			continue
 		}
-		best = min(best, evaluate(c, a, drop, delta, "").Bound)
+		best = min(best, evaluate(c, a, nil, drop, delta, "").Bound)
 	}
 	return best
 }

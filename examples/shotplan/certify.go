@@ -27,7 +27,11 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := checkDelta(*delta); err != nil {
 			return err
 		}
-		h, f, err := loadHamPlan(*ham, *plan)
+		h, err := loadHam(*ham)
+		if err != nil {
+			return err
+		}
+		f, err := loadPlan(*plan)
 		if err != nil {
 			return err
 		}
@@ -61,9 +65,19 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if n <= 0 {
 			n = -1
 		}
-		c, err := guarantee.CertifyPlan(h, f.Plan, *delta, &guarantee.Options{Top: n})
+		// The certificate counts the covers; the plan file is checked
+		// against its counts instead of counting them again. A plan of
+		// another width or length fails the check before any count.
+		p := f.Plan
+		if p.Qubits != h.Qubits() || len(p.Cover) != h.Len() {
+			return badf("%w (Hamiltonian %s)", f.Check(h), *ham)
+		}
+		c, err := guarantee.Certify(h, p.Settings, p.Shots, *delta, &guarantee.Options{Top: n})
 		if err != nil {
-			return err
+			return bad(err)
+		}
+		if err := f.CheckCover(h, c.Cover); err != nil {
+			return badf("%w (Hamiltonian %s)", err, *ham)
 		}
 		if e.json {
 			type term struct {

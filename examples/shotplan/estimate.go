@@ -3,6 +3,7 @@ package main
 import (
 	"flag"
 	"fmt"
+	"slices"
 	"strings"
 	"text/tabwriter"
 
@@ -36,14 +37,6 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		settings, shots := f.Plan.Distinct()
-		rec, err := readRecords(records, settings, h.Qubits())
-		if err != nil {
-			return err
-		}
-		name := recordsName(strings.Join(records, ", "))
-		if err := matchRecords(name, rec, f.Plan, settings, shots); err != nil {
-			return err
-		}
 		ro, err := parseReadout(*readout, h.Qubits())
 		if err != nil {
 			return err
@@ -58,6 +51,20 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		split := f.Plan.Split
 		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
 			return badf("the plan splits coefficients between settings (-strategy overlap); -observables, -readout and -calibration do not take such plans yet")
+		}
+		// Plain estimates of local plans without a coefficient split are
+		// streamed; the others read the records into memory.
+		local := !slices.ContainsFunc(settings, func(s pauli.Setting) bool { return !s.IsLocal() })
+		if *observables == "" && ro == nil && *calibration == "" && local && split == nil {
+			return e.estimateStream(records, h, f.Plan, settings, shots, *delta)
+		}
+		rec, err := readRecords(records, settings, h.Qubits())
+		if err != nil {
+			return err
+		}
+		name := recordsName(strings.Join(records, ", "))
+		if err := matchRecords(name, rec, f.Plan, settings, shots); err != nil {
+			return err
 		}
 		if *observables != "" {
 			ropts, err := readoutOptions(ro, *calibration, pairs, h.Qubits(), *delta, *calDelta)
@@ -81,42 +88,86 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		out := struct {
-			Energy         float64    `json:"energy"`
-			StdError       float64    `json:"std_error"`
-			ApproxInterval [2]float64 `json:"approx_interval"`
-			Bound          float64    `json:"certified_bound"`
-			DataBound      float64    `json:"data_bound"`
-			DataForm       string     `json:"data_form"`
-			Bias           float64    `json:"bias"`
-			Delta          float64    `json:"delta"`
-			Shots          int        `json:"shots"`
-			Settings       int        `json:"settings"`
-			Mitigated      bool       `json:"readout_mitigated"`
-		}{res.Energy, res.StdErr, res.ApproxInterval, cert.Bound, data.Bound, form, res.Bias, *delta, res.Shots, rec.Groups(), false}
-		if e.json {
-			return e.writeJSON(out)
-		}
-		conf := 100 * (1 - *delta)
-		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
-		what := "grouped estimator"
-		if split != nil {
-			what = "grouped estimator with the plan's coefficient split"
-		}
-		fmt.Fprintf(tw, "energy\t%.8f\t%s, %d shots on %s\n", res.Energy, what, res.Shots, plural(rec.Groups(), "setting"))
-		fmt.Fprintf(tw, "error bar\t±%.8f\tAPPROXIMATE %g%% interval (standard error %.3g, normal approximation)\n", res.ApproxInterval[1]-res.Energy, conf, res.StdErr)
-		fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Bound, conf)
-		fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein, %s), probability ≥ %g%%\n", data.Bound, form, conf)
-		tw.Flush()
-		if bar := res.ApproxInterval[1] - res.Energy; data.Bound > 3*bar {
-			fmt.Fprintf(e.stdout, "(the data bound is %.1f× the error bar: a fixed plan pays for the range of every shot; for a bound near the\n"+
-				" error bar draw the settings i.i.d. from the plan (guarantee.IIDOf) and certify with guarantee.Anytime)\n", data.Bound/bar)
-		}
-		if res.Bias > 0 {
-			fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
-		}
-		return nil
+		return e.printEstimate(res, cert, data, form, rec.Groups(), *delta, split != nil)
 	}
+}
+
+// estimateStream is the plain estimate (no mitigation, no observables):
+// the records are streamed into an estimate.Stream, CSV sources line by
+// line in memory that does not grow with the number of shots; JSON
+// sources are read whole first.
+func (e *env) estimateStream(paths []string, h *hamiltonian.Hamiltonian, p *allocate.Plan, settings []pauli.Setting, shots []int, delta float64) error {
+	st, err := estimate.NewStream(h, settings, shots, &estimate.Options{Confidence: 1 - delta})
+	if err != nil {
+		return err
+	}
+	if err := streamRecords(paths, settings, h.Qubits(), st); err != nil {
+		return err
+	}
+	name := recordsName(strings.Join(paths, ", "))
+	if err := st.Check(); err != nil {
+		return badf("%s: %s", name, strings.TrimPrefix(err.Error(), "estimate: "))
+	}
+	res, err := st.Result()
+	if err != nil {
+		return err
+	}
+	cert, err := guarantee.CertifyPlan(h, p, delta, &guarantee.Options{Top: -1})
+	if err != nil {
+		return err
+	}
+	pooled, err := guarantee.EmpiricalStream(st, delta/2, nil)
+	if err != nil {
+		return err
+	}
+	resid, err := guarantee.EmpiricalStream(st, delta/2, &guarantee.EmpiricalOptions{Form: guarantee.Residual})
+	if err != nil {
+		return err
+	}
+	data, form := pooled, "pooled"
+	if resid.Bound < pooled.Bound {
+		data, form = resid, "residual"
+	}
+	return e.printEstimate(res, cert, data, form, st.Groups(), delta, false)
+}
+
+// printEstimate writes the plain estimate's report.
+func (e *env) printEstimate(res *estimate.Result, cert *guarantee.Certificate, data *guarantee.DataBound, form string, groups int, delta float64, split bool) error {
+	out := struct {
+		Energy         float64    `json:"energy"`
+		StdError       float64    `json:"std_error"`
+		ApproxInterval [2]float64 `json:"approx_interval"`
+		Bound          float64    `json:"certified_bound"`
+		DataBound      float64    `json:"data_bound"`
+		DataForm       string     `json:"data_form"`
+		Bias           float64    `json:"bias"`
+		Delta          float64    `json:"delta"`
+		Shots          int        `json:"shots"`
+		Settings       int        `json:"settings"`
+		Mitigated      bool       `json:"readout_mitigated"`
+	}{res.Energy, res.StdErr, res.ApproxInterval, cert.Bound, data.Bound, form, res.Bias, delta, res.Shots, groups, false}
+	if e.json {
+		return e.writeJSON(out)
+	}
+	conf := 100 * (1 - delta)
+	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
+	what := "grouped estimator"
+	if split {
+		what = "grouped estimator with the plan's coefficient split"
+	}
+	fmt.Fprintf(tw, "energy\t%.8f\t%s, %d shots on %s\n", res.Energy, what, res.Shots, plural(groups, "setting"))
+	fmt.Fprintf(tw, "error bar\t±%.8f\tAPPROXIMATE %g%% interval (standard error %.3g, normal approximation)\n", res.ApproxInterval[1]-res.Energy, conf, res.StdErr)
+	fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Bound, conf)
+	fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein, %s), probability ≥ %g%%\n", data.Bound, form, conf)
+	tw.Flush()
+	if bar := res.ApproxInterval[1] - res.Energy; data.Bound > 3*bar {
+		fmt.Fprintf(e.stdout, "(the data bound is %.1f× the error bar: a fixed plan pays for the range of every shot; for a bound near the\n"+
+			" error bar draw the settings i.i.d. from the plan (guarantee.IIDOf) and certify with guarantee.Anytime)\n", data.Bound/bar)
+	}
+	if res.Bias > 0 {
+		fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
+	}
+	return nil
 }
 
 // dataBound returns the smaller of the pooled and the residual data bounds
@@ -181,7 +232,10 @@ func quoteSetting(s string) string {
 
 func estimateHelp() string {
 	return `
-The records must hold exactly the plan's shots (any order). The energy is the
+The records must hold exactly the plan's shots (any order). CSV records are
+read in one pass in memory that does not grow with the number of shots
+(MATH.md §4.10); JSON records, and estimates with -readout, -calibration or
+-observables or of plans with entangled settings, are read whole. The energy is the
 grouped estimate; std_error and approx_interval come from the data by the
 normal approximation and are NOT guarantees. certified_bound is the plan's
 certified bound and data_bound an empirical Bernstein bound from these shots, each at

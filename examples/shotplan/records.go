@@ -80,6 +80,80 @@ func readRecords(paths []string, settings []pauli.Setting, qubits int) (*estimat
 	return out, nil
 }
 
+// streamRecords feeds the shots of the -records sources, in order, to st:
+// CSV sources are scanned line by line, JSON sources read whole first (as
+// readRecords would) and fed group by group, the order readRecords
+// combines them in.
+func streamRecords(paths []string, settings []pauli.Setting, qubits int, st *estimate.Stream) error {
+	if len(paths) == 0 {
+		return badf("flag -records is required")
+	}
+	if n := len(slices.DeleteFunc(slices.Clone(paths), func(p string) bool { return p != "-" })); n > 1 {
+		return badf("-records -: standard input given more than once")
+	}
+	feed := func(path string, rec *estimate.Records) error {
+		if rec.Qubits() != qubits {
+			return badf("%s: records of %d qubits, the plan has %d", recordsName(path), rec.Qubits(), qubits)
+		}
+		for g := range rec.Groups() {
+			s := rec.Setting(g)
+			for j := range rec.GroupLen(g) {
+				if err := st.Add(s, rec.Outcome(g, j)); err != nil {
+					return badf("%s: %s", recordsName(path), strings.TrimPrefix(err.Error(), "estimate: "))
+				}
+			}
+		}
+		return nil
+	}
+	scan := func(path string, r io.Reader) error {
+		n, err := estimate.ScanCSV(r, settings, st.Add)
+		if err != nil {
+			return badf("%s: %w", recordsName(path), err)
+		}
+		if n != qubits {
+			return badf("%s: records of %d qubits, the plan has %d", recordsName(path), n, qubits)
+		}
+		return nil
+	}
+	for _, path := range paths {
+		var err error
+		switch {
+		case path == "-":
+			br := bufio.NewReader(stdin)
+			first, peekErr := firstByte(br)
+			if peekErr != nil && !errors.Is(peekErr, io.EOF) {
+				return bad(fmt.Errorf("standard input: %w", peekErr))
+			}
+			if first == '{' {
+				var rec *estimate.Records
+				if rec, err = estimate.ReadJSON(br); err != nil {
+					return bad(fmt.Errorf("standard input: %w", err))
+				}
+				err = feed(path, rec)
+			} else {
+				err = scan(path, br)
+			}
+		case isJSON(path):
+			var rec *estimate.Records
+			if rec, err = estimate.ReadJSONFile(path); err != nil {
+				return bad(err)
+			}
+			err = feed(path, rec)
+		default:
+			var f *os.File
+			if f, err = os.Open(path); err != nil {
+				return bad(err)
+			}
+			err = scan(path, f)
+			f.Close()
+		}
+		if err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // recordsName names a records source in messages.
 func recordsName(path string) string {
 	if path == "-" {

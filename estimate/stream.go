@@ -1,0 +1,190 @@
+package estimate
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/shotsum"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Stream computes the grouped estimate of a fixed plan ([Grouped]) from
+// shots fed one at a time, in memory that does not grow with the number of
+// shots (MATH.md §4.10): it keeps, per distinct setting of the plan, the
+// shot count and the running sums of the shot's contribution
+// Z = Σ_{i◁Q} a_i s_i (a_i = h_i/N_i, N_i from the plan) and of its square,
+// per term the number of −1 samples, and the outcome of every setting the
+// plan measures once (for its leave-one-out residual). The shots must be
+// exactly the plan's: the estimate needs the cover counts N_i before the
+// first shot, and [Stream.Result] refuses counts that differ from the plan.
+//
+// The result equals that of [Grouped] on the same shots to the last bit:
+// both sum every shot's Z over its terms in table order and take a
+// setting's variance from the running sums Σ (Z − Z_first) and
+// Σ (Z − Z_first)² in shot order (MATH.md §4.10).
+// [guarantee.EmpiricalStream] computes the data bounds of [guarantee.Empirical]
+// from a Stream.
+//
+// Shots of one setting are processed 64 at a time; the work per shot is
+// about two floating-point operations per term its setting covers. The
+// covered terms of every setting are kept (4 bytes a pair) up to 2^27
+// pairs; past that they are found again for every batch of 64 shots of a
+// setting, which costs time instead of memory. Only local settings are
+// accepted. A Stream serves one goroutine at a time.
+type Stream struct {
+	cfg  *config
+	sums *shotsum.Sums
+}
+
+// NewStream returns a Stream for the plan that measures settings[k] for
+// shots[k] shots (a setting may repeat; zero counts are ignored). Options
+// work as for [Grouped] (Batches is ignored). It returns an error for a nil
+// Hamiltonian, lengths that disagree, a setting of the wrong width or
+// entangled, a negative count, or invalid options.
+func NewStream(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, opts *Options) (*Stream, error) {
+	if h == nil {
+		return nil, fmt.Errorf("estimate: Stream: nil Hamiltonian")
+	}
+	if opts != nil && opts.Split != nil {
+		return nil, fmt.Errorf("estimate: Stream: a coefficient split (Options.Split) is not streamed yet; use Grouped on records in memory")
+	}
+	c, err := configFor(h, opts, "Stream")
+	if err != nil {
+		return nil, err
+	}
+	s, err := shotsum.New(h, settings, shots)
+	if err != nil {
+		return nil, fmt.Errorf("estimate: Stream: %w", err)
+	}
+	coef := h.Coeffs()
+	a := make([]float64, h.Len())
+	for i, n := range s.Cover {
+		if n > 0 && !c.excluded(i) {
+			a[i] = coef[i] * c.scale[i] / float64(n)
+		}
+	}
+	s.SetWeights(a)
+	s.Mitigated = c.readoutBias != nil
+	s.Exclude = c.exclude
+	return &Stream{cfg: c, sums: s}, nil
+}
+
+// Add adds one shot: setting st gave outcome b (the bits are copied). It
+// returns an error, and changes nothing, for a setting not in the plan, a
+// shot beyond the plan's count of its setting, or an outcome of the wrong
+// length or with bits set beyond the last qubit.
+func (s *Stream) Add(st pauli.Setting, b pauli.Bits) error {
+	if err := s.sums.Add(st, b); err != nil {
+		return fmt.Errorf("estimate: %w", err)
+	}
+	return nil
+}
+
+// Len returns the number of shots added.
+func (s *Stream) Len() int { return s.sums.Shots }
+
+// Groups returns the number of distinct settings that have had a shot.
+func (s *Stream) Groups() int { return len(s.sums.Order) }
+
+// Check returns an error naming the first setting, in plan order, whose
+// number of shots added differs from the plan's.
+func (s *Stream) Check() error {
+	if err := s.sums.Check(); err != nil {
+		return fmt.Errorf("estimate: %w", err)
+	}
+	return nil
+}
+
+// Sums returns the running sums, for package guarantee; the caller must
+// not change them.
+func (s *Stream) Sums() *shotsum.Sums {
+	s.sums.Flush()
+	return s.sums
+}
+
+// Result returns the grouped estimate of the shots added, which must be
+// exactly the plan's ([Stream.Check]). Shots may still be added afterwards
+// only if the plan allows them, so in practice Result is called once.
+func (s *Stream) Result() (*Result, error) {
+	if err := s.Check(); err != nil {
+		return nil, err
+	}
+	if s.sums.Shots == 0 {
+		return nil, fmt.Errorf("estimate: %w: Stream: no shot", ErrFormat)
+	}
+	sm := s.Sums()
+	h, c := sm.H, s.cfg
+	m := h.Len()
+	coef := h.Coeffs()
+	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: sm.Shots, Energy: h.Offset()}
+	copy(res.Cover, sm.Cover)
+	a := sm.A
+	raw := make([]float64, m)
+	// The same operations, in the same order, as Grouped.
+	for i := range m {
+		n := res.Cover[i]
+		if n == 0 {
+			res.Means[i] = math.NaN()
+			continue
+		}
+		raw[i] = 1 - 2*float64(sm.Ones[i])/float64(n)
+		res.Means[i] = c.scale[i] * raw[i]
+		if !c.excluded(i) {
+			res.Energy += coef[i] * res.Means[i]
+		}
+	}
+	vsum := 0.0
+	for i := range m {
+		if a[i] != 0 && res.Cover[i] == 1 {
+			vsum += a[i] * a[i]
+		}
+	}
+	for _, gi := range sm.Order {
+		g := sm.Groups[gi]
+		if g.T > 1 {
+			vsum += float64(g.T) * g.Variance()
+			continue
+		}
+		r := 0.0
+		_, kept, _ := sm.Lists(g)
+		for _, i := range kept {
+			n := res.Cover[i]
+			if n < 2 {
+				continue
+			}
+			ai := a[i]
+			di := ai * float64(n) / float64(n-1)
+			if di == 0 {
+				continue
+			}
+			base, step := di*(1-raw[i]), 2*di
+			odd := 0.0
+			if sm.Odd(i, g.One) {
+				odd = 1
+			}
+			r += base - step*odd
+		}
+		vsum += r * r
+	}
+	res.StdErr = math.Sqrt(vsum)
+	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })
+	return res, nil
+}
+
+// runningVariance returns the unbiased sample variance of x (two or more
+// values) from the running sums Σ (x − x_0) and Σ (x − x_0)² taken in
+// order, the one-pass form a [Stream] keeps, so that Grouped and a Stream
+// agree to the last bit. Shifting by the first value keeps the sums small
+// for values within a setting's range (MATH.md §4.10).
+func runningVariance(x []float64) float64 {
+	var sum, ssq float64
+	for _, v := range x {
+		d := v - x[0]
+		sum += d
+		ssq += d * d
+	}
+	t := float64(len(x))
+	m := sum / t
+	return max(0, (ssq-t*m*m)/(t-1))
+}

@@ -1,0 +1,108 @@
+package estimate
+
+import (
+	"bytes"
+	"io"
+	"math/rand/v2"
+	"testing"
+	"time"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/cputime"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// streamBenchPlan returns a random 4-local Hamiltonian, distinct random
+// settings, and 4096 random outcomes to cycle through.
+func streamBenchPlan(b *testing.B, n, terms, settings int) (*hamiltonian.Hamiltonian, []pauli.Setting, []pauli.Bits) {
+	h, err := hamiltonian.RandomLocal(n, terms, 4, 1)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(7, 8))
+	ss := make([]pauli.Setting, settings)
+	for k := range ss {
+		ss[k] = randomSetting(rng, n)
+	}
+	outs := make([]pauli.Bits, 4096)
+	for k := range outs {
+		outs[k] = pauli.NewBits(n)
+		for q := range n {
+			if rng.IntN(2) == 1 {
+				outs[k][q>>6] |= 1 << (q & 63)
+			}
+		}
+	}
+	return h, ss, outs
+}
+
+// planCounts spreads shots over settings, round robin.
+func planCounts(shots, settings int) []int {
+	c := make([]int, settings)
+	for k := range c {
+		c[k] = shots / settings
+		if k < shots%settings {
+			c[k]++
+		}
+	}
+	return c
+}
+
+// csvSource produces the CSV form of shots, round robin over settings,
+// without holding them: a synthetic records file of any length.
+type csvSource struct {
+	lines [][]byte
+	left  int
+	k     int
+	buf   bytes.Buffer
+}
+
+func newCSVSource(ss []pauli.Setting, outs []pauli.Bits, n, shots int) *csvSource {
+	c := &csvSource{left: shots}
+	c.buf.WriteString(csvHeader + "\n")
+	for k := range 4096 {
+		line := ss[k%len(ss)].AppendText(nil)
+		line = append(line, ',')
+		line = outs[k].AppendText(line, n)
+		c.lines = append(c.lines, append(line, '\n'))
+	}
+	return c
+}
+
+func (c *csvSource) Read(p []byte) (int, error) {
+	for c.buf.Len() < len(p) && c.left > 0 {
+		c.buf.Write(c.lines[c.k&4095])
+		c.k++
+		c.left--
+	}
+	if c.buf.Len() == 0 {
+		return 0, io.EOF
+	}
+	return c.buf.Read(p)
+}
+
+// BenchmarkStreamCSV is BenchmarkStream through the CSV reader
+// (ScanCSV) from a synthetic records file; one op is one shot.
+func BenchmarkStreamCSV(b *testing.B) {
+	h, ss, outs := streamBenchPlan(b, 20, 200, 64)
+	b.Run("qubits=20/terms=200/settings=64", func(b *testing.B) {
+		st, err := NewStream(h, ss, planCounts(b.N, len(ss)), nil)
+		if err != nil {
+			b.Fatal(err)
+		}
+		src := newCSVSource(ss, outs, 20, b.N)
+		b.ReportAllocs()
+		b.ResetTimer()
+		cpu := cputime.Now()
+		start := time.Now()
+		if _, err := ScanCSV(src, nil, st.Add); err != nil {
+			b.Fatal(err)
+		}
+		if _, err := st.Result(); err != nil {
+			b.Fatal(err)
+		}
+		el := time.Since(start)
+		cputime.Report(b, cpu)
+		b.ReportMetric(float64(b.N)/el.Seconds(), "shots/s")
+	})
+}

@@ -1,0 +1,430 @@
+// Package shotsum accumulates, shot by shot, the running sums from which the
+// grouped estimate of a fixed plan (MATH.md §2) and its data bounds (§4.3,
+// §4.7) are computed, in memory that depends on the plan and the
+// Hamiltonian but not on the number of shots (MATH.md §4.10).
+//
+// Package estimate feeds it (estimate.Stream) and package guarantee reads
+// it (guarantee.EmpiricalStream). Every per-shot value is computed with the
+// same floating-point operations in the same order as the in-memory path,
+// so that the two agree to the last bit wherever the in-memory path is
+// itself a running sum.
+package shotsum
+
+import (
+	"encoding/binary"
+	"fmt"
+	"math"
+	"math/bits"
+	"slices"
+	"unsafe"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/coverindex"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Folds is the number of folds of the residual data bound: shot n, counted
+// through the groups in the order their settings first appear and through
+// each group's shots in order, belongs to fold n mod Folds (as
+// guarantee's residual form).
+const Folds = 2
+
+// batch is the number of shots of one setting processed together: their
+// outcomes are bit-sliced, one word per qubit, so that a term's 64
+// parities cost one XOR per support qubit.
+const batch = 64
+
+// Group is one distinct setting of the plan and the sums of its shots so
+// far. Z is a shot's value Σ_i A_i s_i over the setting's covered terms
+// with non-zero weight, summed in table order.
+type Group struct {
+	Setting pauli.Setting
+	// Planned is the plan's shot count and T the shots added (and
+	// processed) so far.
+	Planned, T int
+	// Rows are the covered terms in table order; Kept the ones with a
+	// non-zero weight and Coef their weights. They are nil when the plan
+	// covers more pairs than are stored: read them through Sums.Lists.
+	Rows []int32
+	Kept []int32
+	Coef []float64
+	// Half is Σ|Coef| in table order, the bound on |Z|.
+	Half float64
+	// Seen reports that a shot of the setting was added; Off is then the
+	// number of shots of the groups that appeared before it (their planned
+	// counts): the index of its first shot in group order.
+	Seen bool
+	Off  int
+	// Shift is the first Z; Sum and SumSq are Σ (Z − Shift) and
+	// Σ (Z − Shift)² over the shots in order.
+	Shift, Sum, SumSq float64
+	// FoldT, FoldSum and FoldSq are the count, Σ (Z − Shift) and
+	// Σ (Z − Shift)² of the shots of each fold.
+	FoldT           [Folds]int
+	FoldSum, FoldSq [Folds]float64
+	// One is the outcome of the group's shot when the plan asks for one.
+	One pauli.Bits
+
+	pend  []uint64 // outcomes waiting for the next batch, W words each
+	npend int
+}
+
+// Sums is the accumulator. Its exported fields are read-only to callers.
+type Sums struct {
+	H      *hamiltonian.Hamiltonian
+	Qubits int
+	W      int // words per outcome
+	// Cover[i] is N_i of the plan; A[i] the weight of term i in Z (zero for
+	// terms left out), set by SetWeights before the first shot.
+	Cover []int
+	A     []float64
+	// Groups are the plan's distinct settings in plan order; Order lists
+	// them in the order their first shot arrived.
+	Groups []*Group
+	Order  []int32
+	// Ones[i] is the number of −1 samples of term i; FoldOnes and FoldCnt
+	// split samples and −1 samples by fold.
+	Ones              []int64
+	FoldOnes, FoldCnt [Folds][]int64
+	// Shots is the number of shots added.
+	Shots int
+	// Mitigated reports weights scaled for readout mitigation, and Exclude
+	// the terms the caller left out (nil for none).
+	Mitigated bool
+	Exclude   []bool
+
+	ci       *coverindex.Index // finds the lists again when they are not stored
+	stored   bool
+	weighted bool    // SetWeights has run
+	lrows    []int32 // scratch of Lists
+	lkept    []int32
+	lcoef    []float64
+	index    map[string]int32 // by appendKey
+	cache    [256]cacheEntry
+	key      []byte
+	nextOff  int
+	qOff     []int32  // term i's support qubits are qIdx[qOff[i]:qOff[i+1]]
+	qIdx     []uint16 //
+	slice    []uint64 // one word per qubit: bit j is qubit q of shot j of the batch
+	z        [batch]float64
+}
+
+// MaxStored is the number of (setting, term) cover pairs an accumulator
+// keeps; past it the lists are found again per batch of shots. Tests lower
+// it.
+var MaxStored = coverindex.MaxStored
+
+// cacheEntry remembers the group of the setting whose words start at p.
+type cacheEntry struct {
+	p uintptr
+	g int32
+}
+
+// New returns the accumulator of the plan that measures settings[k] for
+// shots[k] shots (repeated settings merged, entries with zero shots
+// ignored). It refuses entangled settings and settings of the wrong width,
+// naming the setting.
+func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Sums, error) {
+	if h == nil {
+		return nil, fmt.Errorf("nil Hamiltonian")
+	}
+	if len(settings) != len(shots) {
+		return nil, fmt.Errorf("%d settings but %d shot counts", len(settings), len(shots))
+	}
+	n := h.Qubits()
+	if n > math.MaxUint16 {
+		return nil, fmt.Errorf("%d qubits is more than a stream handles", n)
+	}
+	if h.Len() > math.MaxInt32 {
+		return nil, fmt.Errorf("%d terms is more than a stream handles", h.Len())
+	}
+	for k, s := range settings {
+		if s.Qubits() != n {
+			return nil, fmt.Errorf("setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), n)
+		}
+		if !s.IsLocal() {
+			return nil, fmt.Errorf("setting %d (%s) is entangled: a stream takes local settings only", k, s)
+		}
+		if shots[k] < 0 {
+			return nil, fmt.Errorf("setting %d (%s) has negative shot count %d", k, s, shots[k])
+		}
+	}
+	distinct, mult := pauli.MergeSettings(settings, shots)
+	m := h.Len()
+	s := &Sums{
+		H: h, Qubits: n, W: pauli.Words(n), Cover: make([]int, m), A: make([]float64, m),
+		Ones: make([]int64, m), index: make(map[string]int32, len(distinct)),
+		slice: make([]uint64, n),
+	}
+	for k := range Folds {
+		s.FoldOnes[k] = make([]int64, m)
+		s.FoldCnt[k] = make([]int64, m)
+	}
+	tab := h.Table()
+	s.qOff = make([]int32, m+1)
+	for i := range m {
+		x, z := tab.Words(i)
+		for k := range x {
+			for u := x[k] | z[k]; u != 0; u &= u - 1 {
+				s.qIdx = append(s.qIdx, uint16(k<<6+bits.TrailingZeros64(u)))
+			}
+		}
+		s.qOff[i+1] = int32(len(s.qIdx))
+	}
+	s.ci = coverindex.New(n, m, tab.Words)
+	s.stored = true
+	total := 0
+	var rows []int32
+	for q, st := range distinct {
+		x, z := st.Words()
+		rows = s.ci.AppendCovered(rows[:0], x, z)
+		for _, i := range rows {
+			s.Cover[i] += mult[q]
+		}
+		// Past the cap the lists are found again when needed (a scan per
+		// batch of shots): time instead of memory.
+		if total += len(rows); total > MaxStored && s.stored {
+			s.stored = false
+			for _, g := range s.Groups {
+				g.Rows = nil
+			}
+		}
+		g := &Group{Setting: st, Planned: mult[q]}
+		if s.stored {
+			g.Rows = slices.Clone(rows)
+			slices.Sort(g.Rows)
+		}
+		s.Groups = append(s.Groups, g)
+		s.index[string(appendKey(nil, st))] = int32(q)
+	}
+	return s, nil
+}
+
+// appendKey appends the words of local setting st, a map key among
+// settings of one width that a lookup can build without allocating.
+func appendKey(dst []byte, st pauli.Setting) []byte {
+	x, z := st.Words()
+	for _, v := range x {
+		dst = binary.LittleEndian.AppendUint64(dst, v)
+	}
+	for _, v := range z {
+		dst = binary.LittleEndian.AppendUint64(dst, v)
+	}
+	return dst
+}
+
+// SetWeights sets the weight A_i of every term in Z (zero leaves a term
+// out of Z; its samples are still counted). It must be called before the
+// first shot.
+func (s *Sums) SetWeights(a []float64) {
+	copy(s.A, a)
+	s.weighted = false
+	for _, g := range s.Groups {
+		_, kept, coef := s.Lists(g)
+		g.Half = 0
+		for _, c := range coef {
+			g.Half += math.Abs(c)
+		}
+		if s.stored {
+			g.Kept, g.Coef = slices.Clone(kept), slices.Clone(coef)
+		}
+	}
+	s.weighted = true
+}
+
+// Lists returns g's covered terms in table order, those with a non-zero
+// weight and their weights: g's own lists when they are stored, else
+// lists found again through the cover index, valid until the next call.
+func (s *Sums) Lists(g *Group) (rows, kept []int32, coef []float64) {
+	if s.stored && s.weighted {
+		return g.Rows, g.Kept, g.Coef
+	}
+	if s.stored {
+		rows = g.Rows
+	} else {
+		x, z := g.Setting.Words()
+		s.lrows = s.ci.AppendCovered(s.lrows[:0], x, z)
+		slices.Sort(s.lrows)
+		rows = s.lrows
+	}
+	s.lkept, s.lcoef = s.lkept[:0], s.lcoef[:0]
+	for _, i := range rows {
+		if c := s.A[i]; c != 0 {
+			s.lkept = append(s.lkept, i)
+			s.lcoef = append(s.lcoef, c)
+		}
+	}
+	return rows, s.lkept, s.lcoef
+}
+
+// Add adds one shot: setting st gave outcome b. It returns an error, and
+// changes nothing, for a setting outside the plan, a shot beyond the plan's
+// count for its setting, or an outcome of the wrong length or with bits
+// set beyond the last qubit. It does not allocate once every setting has
+// been seen.
+func (s *Sums) Add(st pauli.Setting, b pauli.Bits) error {
+	if len(b) != s.W {
+		return fmt.Errorf("outcome has %d words, want %d for %d qubits", len(b), s.W, s.Qubits)
+	}
+	if k := s.Qubits & 63; k != 0 && b[s.W-1]>>k != 0 {
+		return fmt.Errorf("outcome has bits set beyond qubit %d", s.Qubits-1)
+	}
+	gi, ok := s.lookup(st)
+	if !ok {
+		return fmt.Errorf("setting %s is not in the plan", st)
+	}
+	g := s.Groups[gi]
+	if g.T+g.npend >= g.Planned {
+		return fmt.Errorf("more than %d shots of setting %s, the plan's count", g.Planned, st)
+	}
+	if !g.Seen {
+		g.Seen, g.Off = true, s.nextOff
+		s.nextOff += g.Planned
+		s.Order = append(s.Order, gi)
+		g.pend = make([]uint64, min(g.Planned, batch)*s.W)
+	}
+	copy(g.pend[g.npend*s.W:], b)
+	g.npend++
+	s.Shots++
+	if g.npend == len(g.pend)/s.W {
+		s.flush(g)
+	}
+	return nil
+}
+
+// lookup returns the group of st. Readers pass the same setting values
+// again and again, so a small cache keyed by the address of the setting's
+// words answers most lookups with one comparison of the words; the others
+// go through the map.
+func (s *Sums) lookup(st pauli.Setting) (int32, bool) {
+	if st.Qubits() != s.Qubits || !st.IsLocal() {
+		return 0, false
+	}
+	x, _ := st.Words()
+	p := uintptr(unsafe.Pointer(unsafe.SliceData(x)))
+	e := &s.cache[(p>>4^p>>12)%uintptr(len(s.cache))]
+	if e.p == p && s.Groups[e.g].Setting.Equal(st) {
+		return e.g, true
+	}
+	s.key = appendKey(s.key[:0], st)
+	gi, ok := s.index[string(s.key)]
+	if ok {
+		*e = cacheEntry{p, gi}
+	}
+	return gi, ok
+}
+
+// Flush processes the shots waiting in partial batches. The sums do not
+// depend on where batches end, so shots may be added after a Flush.
+func (s *Sums) Flush() {
+	for _, gi := range s.Order {
+		if g := s.Groups[gi]; g.npend > 0 {
+			s.flush(g)
+		}
+	}
+}
+
+// flush processes the pending shots of g: counts of −1 samples per term
+// and fold, then every shot's Z in order.
+func (s *Sums) flush(g *Group) {
+	nb := g.npend
+	w := s.W
+	clear(s.slice)
+	for j := range nb {
+		out := g.pend[j*w : (j+1)*w]
+		for k, v := range out {
+			for ; v != 0; v &= v - 1 {
+				s.slice[k<<6+bits.TrailingZeros64(v)] |= 1 << j
+			}
+		}
+	}
+	valid := ^uint64(0)
+	if nb < 64 {
+		valid = 1<<nb - 1
+	}
+	// Shot j of the batch is shot Off+T+j in group order.
+	var fm [Folds]uint64
+	fm[0] = 0x5555555555555555 & valid
+	if (g.Off+g.T)&1 == 1 {
+		fm[0] = 0xAAAAAAAAAAAAAAAA & valid
+	}
+	fm[1] = valid &^ fm[0]
+	c0, c1 := int64(bits.OnesCount64(fm[0])), int64(bits.OnesCount64(fm[1]))
+	z := s.z[:nb]
+	clear(z)
+	rows, gk, gc := s.Lists(g)
+	kept := 0
+	for _, i := range rows {
+		p := uint64(0)
+		for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
+			p ^= s.slice[q]
+		}
+		p &= valid
+		s.Ones[i] += int64(bits.OnesCount64(p))
+		s.FoldOnes[0][i] += int64(bits.OnesCount64(p & fm[0]))
+		s.FoldOnes[1][i] += int64(bits.OnesCount64(p & fm[1]))
+		s.FoldCnt[0][i] += c0
+		s.FoldCnt[1][i] += c1
+		if kept < len(gk) && gk[kept] == i {
+			a := gc[kept]
+			kept++
+			// The sample is 1 − 2·parity: add a·s, that is a or −a (its
+			// sign bit flipped by the parity), exactly what a·(±1) gives.
+			ab := math.Float64bits(a)
+			for j := range z {
+				z[j] += math.Float64frombits(ab ^ (p>>j&1)<<63)
+			}
+		}
+	}
+	for j, v := range z {
+		if g.T == 0 {
+			g.Shift = v
+		}
+		d := v - g.Shift
+		k := (g.Off + g.T) & 1
+		g.T++
+		g.Sum += d
+		g.SumSq += d * d
+		g.FoldT[k]++
+		g.FoldSum[k] += d
+		g.FoldSq[k] += d * d
+		_ = j
+	}
+	if g.Planned == 1 {
+		g.One = pauli.Bits(g.pend[:w:w])
+	}
+	g.npend = 0
+}
+
+// Check reports the first setting, in plan order, whose shots added differ
+// from the plan's count.
+func (s *Sums) Check() error {
+	for _, g := range s.Groups {
+		if n := g.T + g.npend; n != g.Planned {
+			if n == 0 {
+				return fmt.Errorf("no shot of setting %s, the plan asks for %d", g.Setting, g.Planned)
+			}
+			return fmt.Errorf("%d shots of setting %s, the plan asks for %d", n, g.Setting, g.Planned)
+		}
+	}
+	return nil
+}
+
+// Odd reports whether outcome b has odd parity on term i's support.
+func (s *Sums) Odd(i int32, b pauli.Bits) bool {
+	p := uint64(0)
+	for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
+		p ^= b[q>>6] >> (q & 63)
+	}
+	return p&1 == 1
+}
+
+// Variance returns the unbiased sample variance of g's Z from its running
+// sums, zero for fewer than two shots.
+func (g *Group) Variance() float64 {
+	if g.T < 2 {
+		return 0
+	}
+	m := g.Sum / float64(g.T)
+	return max(0, (g.SumSq-float64(g.T)*m*m)/float64(g.T-1))
+}
