@@ -1,10 +1,10 @@
 package allocate
 
 import (
+	"cmp"
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -34,17 +34,19 @@ import (
 //
 // # Cost
 //
-// O(M) per setting on average, with small constants: qubits are fixed in
-// increasing order, so a term still consistent with the letters fixed so
-// far waits in the list of its next support qubit, and a term is read only
-// at the support qubits it reaches (its first one, then the next with
-// probability about 1/3, and so on) instead of at all k_l of them. Terms are
-// stored sorted by their first support qubit so that the first reads are
-// sequential. The reads of each term at its first support qubit, which do
-// not depend on the letters chosen, are summed per qubit before the setting
-// is chosen, on several cores for large Hamiltonians, each core taking
-// whole qubits so that the plan is the same on any number of cores.
-// Memory is O(Σ_l k_l).
+// The terms are kept in a prefix tree: one tree per weight k, each term a
+// path of its support entries (qubit, letter) by increasing qubit. Within a
+// setting the terms through a node at depth d still have u = k − d + 1 free
+// support qubits when the node's qubit is fixed, so the node's share of a
+// letter's gain is its weight class's factor times the sum of the current
+// weights |h_l| exp(−ν·hits_l) of the terms through it. A node is read only
+// when the letters of its ancestors were all chosen: the nodes of depth 1
+// every setting, deeper ones with a probability of about 3^−(d−1). Only
+// the sums of the nodes on the paths of the terms covered by a setting
+// change; they are recomputed after the setting, bottom up, each as the sum
+// of its children in a fixed order, so that every sum is the same function
+// of the terms' weights however many settings updated it. Memory is
+// O(Σ_l k_l) (one node per distinct prefix).
 //
 // Weights are kept relative to the largest; a term whose weight falls below
 // about 1e−300 of the largest counts as zero. Derandomized is deterministic
@@ -56,23 +58,49 @@ type Derandomized struct {
 
 	n, budget int
 	t         int // settings chosen so far
-	// Terms in storage order (sorted by first support qubit); term s is
-	// term index[s] of the Hamiltonian.
+	// Terms in storage order (the order of their leaves); term s is term
+	// index[s] of the Hamiltonian.
 	index []int32
 	b     []float64 // |h_l| exp(−ν hits_l), rescaled
-	k     []int32   // weight
 	hits  []int32
-	off   []int32      // term s's support entries: ent[off[s]:off[s+1]]
-	ent   []int32      // qubit<<2 | letter, by increasing qubit
-	first []int32      // terms with first support qubit q: first[q]..first[q+1]-1
-	wait  [][]waiting  // wait[q]: live terms whose next support qubit is q
-	lead  []uint8      // letter of term s on its first support qubit
-	logg  []float64    // logg[k] = log(1 − (1 − e^−ν)·3^−k)
-	f     []float64    // future factor by weight, this setting, relative
-	inv3  []float64    // 3^−u
-	lg    [][4]float64 // lg[q]: gains of the terms led by qubit q, this setting
-	a     float64      // 1 − e^−ν
-	decay float64      // e^−ν
+	leaf  []int32 // the node where term s ends
+
+	// Prefix-tree nodes in breadth-first order, so that the children of a
+	// node are consecutive and come after it; the nodes of depth 1 come
+	// first, by qubit.
+	nodes []trieNode
+	top   []int32 // depth-1 nodes on qubit q: top[q]..top[q+1]−1
+
+	pend    [][]pending // pend[q]: nodes on qubit q whose parent matched
+	covered []int32     // terms covered by the setting being chosen
+	dirty   []bool
+	byDepth [][]int32 // dirty nodes by depth
+
+	logg  []float64 // logg[k] = log(1 − (1 − e^−ν)·3^−k)
+	f     []float64 // future factor by weight, this setting, relative
+	inv3  []float64 // 3^−u
+	a     float64   // 1 − e^−ν
+	decay float64   // e^−ν
+}
+
+// trieNode is a node of the prefix trees: the terms of weight k whose
+// first support entries are those of the path to it.
+type trieNode struct {
+	sum    float64 // Σ b over the terms through the node
+	ent    int32   // its support entry, qubit<<2 | letter
+	k      int32   // weight of the terms through it
+	free   int32   // k − depth: their support qubits after this one
+	kid    int32   // first child; −1−s at the leaf of term s
+	end    int32   // one past the last child
+	parent int32   // −1 at depth 1
+}
+
+// pending is a node whose ancestors all matched the letters fixed so far in
+// the setting being chosen, with its share of the gain of its letter.
+type pending struct {
+	val    float64
+	node   int32
+	letter uint8
 }
 
 // String returns "derand".
@@ -98,47 +126,101 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	for _, c := range coef {
 		maxAbs = max(maxAbs, math.Abs(c))
 	}
-	// Counting sort of the terms by first support qubit.
-	firstQ := make([]int32, m)
-	d.first = make([]int32, n+1)
+	if maxAbs == 0 {
+		maxAbs = 1
+	}
+	// Support entries of every term, by increasing qubit.
+	off := make([]int32, m+1)
+	var all []int32
+	maxK := 0
 	for l := range m {
 		x, z := t.Words(l)
 		for q := range supportOf(x, z) {
-			firstQ[l] = int32(q)
-			break
+			all = append(all, int32(q)<<2|int32(pauli.LetterAt(x, z, q)))
 		}
-		d.first[firstQ[l]+1]++
+		off[l+1] = int32(len(all))
+		maxK = max(maxK, int(off[l+1]-off[l]))
+	}
+	entries := func(l int32) []int32 { return all[off[l]:off[l+1]] }
+	// Sort by first entry, then weight, then the other entries: the terms
+	// through a node are then consecutive.
+	order := make([]int32, m)
+	for l := range order {
+		order[l] = int32(l)
+	}
+	slices.SortFunc(order, func(i, j int32) int {
+		ei, ej := entries(i), entries(j)
+		if c := cmp.Compare(ei[0], ej[0]); c != 0 {
+			return c
+		}
+		if c := cmp.Compare(len(ei), len(ej)); c != 0 {
+			return c
+		}
+		if c := slices.Compare(ei[1:], ej[1:]); c != 0 {
+			return c
+		}
+		return cmp.Compare(i, j)
+	})
+	// Build the nodes level by level; node w covers order[lo[w]:hi[w]].
+	d.nodes = d.nodes[:0]
+	var lo, hi []int32
+	d.index = make([]int32, 0, m)
+	d.leaf = make([]int32, 0, m)
+	add := func(parent int32, depth int, from, to int32) {
+		l := order[from]
+		k := off[l+1] - off[l]
+		d.nodes = append(d.nodes, trieNode{ent: entries(l)[depth-1], k: k, free: k - int32(depth), parent: parent})
+		lo, hi = append(lo, from), append(hi, to)
+	}
+	for i := 0; i < m; {
+		j := i + 1
+		for j < m && entries(order[j])[0] == entries(order[i])[0] && len(entries(order[j])) == len(entries(order[i])) {
+			j++
+		}
+		add(-1, 1, int32(i), int32(j))
+		i = j
+	}
+	d.top = make([]int32, n+1)
+	for _, nd := range d.nodes {
+		d.top[nd.ent>>2+1]++
 	}
 	for q := range n {
-		d.first[q+1] += d.first[q]
+		d.top[q+1] += d.top[q]
 	}
-	d.index = make([]int32, m)
-	next := append([]int32(nil), d.first[:n]...)
-	for l := range m {
-		d.index[next[firstQ[l]]] = int32(l)
-		next[firstQ[l]]++
+	for w := 0; w < len(d.nodes); w++ {
+		nd := &d.nodes[w]
+		depth := int(nd.k - nd.free)
+		if nd.free == 0 {
+			if hi[w]-lo[w] != 1 {
+				return fmt.Errorf("allocate: term %d appears twice in the Hamiltonian", order[lo[w]])
+			}
+			nd.kid = -1 - int32(len(d.index))
+			d.index = append(d.index, order[lo[w]])
+			d.leaf = append(d.leaf, int32(w))
+			continue
+		}
+		nd.kid = int32(len(d.nodes))
+		for i := lo[w]; i < hi[w]; {
+			e := entries(order[i])[depth]
+			j := i + 1
+			for j < hi[w] && entries(order[j])[depth] == e {
+				j++
+			}
+			add(int32(w), depth+1, i, j)
+			i = j
+		}
+		d.nodes[w].end = int32(len(d.nodes)) // add may have moved the nodes
 	}
 	d.b = make([]float64, m)
-	d.k = make([]int32, m)
-	d.hits = make([]int32, m)
-	d.off = make([]int32, m+1)
-	d.ent = d.ent[:0]
-	maxK := 0
 	for s, l := range d.index {
 		d.b[s] = math.Abs(coef[l]) / maxAbs
-		x, z := t.Words(int(l))
-		for q := range supportOf(x, z) {
-			d.ent = append(d.ent, int32(q)<<2|int32(pauli.LetterAt(x, z, q)))
-		}
-		d.off[s+1] = int32(len(d.ent))
-		d.k[s] = d.off[s+1] - d.off[s]
-		maxK = max(maxK, int(d.k[s]))
 	}
-	d.wait = make([][]waiting, n)
-	d.lead = make([]uint8, m)
-	for s := range d.lead {
-		d.lead[s] = uint8(d.ent[d.off[s]] & 3)
-	}
+	d.hits = make([]int32, m)
+	d.sumAll()
+	d.dirty = make([]bool, len(d.nodes))
+	d.byDepth = make([][]int32, maxK+1)
+	d.pend = make([][]pending, n)
+	d.covered = d.covered[:0]
 	d.logg = make([]float64, maxK+1)
 	d.inv3 = make([]float64, maxK+1)
 	for k := range d.logg {
@@ -147,6 +229,28 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	}
 	d.f = make([]float64, maxK+1)
 	return nil
+}
+
+// sumAll computes the sums of all nodes, children before parents.
+func (d *Derandomized) sumAll() {
+	for w := len(d.nodes) - 1; w >= 0; w-- {
+		d.resum(int32(w))
+	}
+}
+
+// resum sets the sum of node w from its term or its children, in their
+// order.
+func (d *Derandomized) resum(w int32) {
+	nd := &d.nodes[w]
+	if nd.kid < 0 {
+		nd.sum = d.b[-1-nd.kid]
+		return
+	}
+	v := 0.0
+	for _, c := range d.nodes[nd.kid:nd.end] {
+		v += c.sum
+	}
+	nd.sum = v
 }
 
 // Next implements [Stepper].
@@ -160,21 +264,24 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	for k := 1; k < len(d.f); k++ {
 		d.f[k] = math.Exp(rest*d.logg[k] - top)
 	}
-	for q := range d.wait {
-		d.wait[q] = d.wait[q][:0]
+	for q := range d.pend {
+		d.pend[q] = d.pend[q][:0]
 	}
-	d.leadGains()
+	d.covered = d.covered[:0]
 	for q := range d.n {
 		// Choosing letter L lowers the cost by a·Σ base_l·3^−(u_l−1) over
 		// the live terms with letter L on q (u_l free support qubits, this
 		// one included) and contradicts the others, whose factor becomes
 		// 1; the common part is the same for every L, so the best letter
 		// has the largest gain.
-		gain := d.lg[q]
-		lo, hi := d.first[q], d.first[q+1]
-		wait := d.wait[q]
-		for i := range wait {
-			gain[wait[i].letter] += wait[i].base * d.inv3[wait[i].u-1]
+		var gain [4]float64
+		lo, hi := d.top[q], d.top[q+1]
+		for _, nd := range d.nodes[lo:hi] {
+			gain[nd.ent&3] += nd.sum * d.f[nd.k] * d.inv3[nd.free]
+		}
+		pend := d.pend[q]
+		for i := range pend {
+			gain[pend[i].letter] += pend[i].val
 		}
 		best := pauli.X
 		for _, c := range []pauli.Letter{pauli.Y, pauli.Z} {
@@ -183,16 +290,33 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 			}
 		}
 		dst[q] = best
-		for s := lo; s < hi; s++ {
-			if pauli.Letter(d.lead[s]) == best {
-				d.advance(waiting{base: d.b[s] * d.f[d.k[s]], e: d.off[s], s: s, u: d.k[s]})
+		for w := lo; w < hi; w++ {
+			if pauli.Letter(d.nodes[w].ent&3) == best {
+				d.match(w)
 			}
 		}
-		for i := range wait {
-			if pauli.Letter(wait[i].letter) == best {
-				d.advance(wait[i])
+		for i := range pend {
+			if pauli.Letter(pend[i].letter) == best {
+				d.match(pend[i].node)
 			}
 		}
+	}
+	// The covered terms' weights fall; recompute the sums on their paths.
+	for _, s := range d.covered {
+		d.hits[s]++
+		d.b[s] *= d.decay
+		for w := d.leaf[s]; w >= 0 && !d.dirty[w]; w = d.nodes[w].parent {
+			d.dirty[w] = true
+			depth := d.nodes[w].k - d.nodes[w].free
+			d.byDepth[depth] = append(d.byDepth[depth], w)
+		}
+	}
+	for depth := len(d.byDepth) - 1; depth > 0; depth-- {
+		for _, w := range d.byDepth[depth] {
+			d.resum(w)
+			d.dirty[w] = false
+		}
+		d.byDepth[depth] = d.byDepth[depth][:0]
 	}
 	d.t++
 	if d.t%64 == 0 {
@@ -204,79 +328,30 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 			for s := range d.b {
 				d.b[s] /= top
 			}
+			d.sumAll()
 		}
 	}
 	return 1, nil
 }
 
-// leadGains sums, for every qubit q and letter, the gain of the terms whose
-// first support qubit is q (see Next), in storage order. These sums do not
-// depend on the letters chosen in the setting, so they are computed up
-// front, on several cores for large Hamiltonians: each core takes whole
-// qubits, so every sum is added in the same order whatever the number of
-// cores.
-func (d *Derandomized) leadGains() {
-	if len(d.lg) != d.n {
-		d.lg = make([][4]float64, d.n)
-	}
-	sum := func(qlo, qhi int) {
-		for q := qlo; q < qhi; q++ {
-			var gain [4]float64
-			for s := d.first[q]; s < d.first[q+1]; s++ {
-				k := d.k[s]
-				gain[d.lead[s]] += d.b[s] * d.f[k] * d.inv3[k-1]
-			}
-			d.lg[q] = gain
-		}
-	}
-	workers := min(runtime.GOMAXPROCS(0), d.n)
-	m := int(d.first[d.n])
-	if workers < 2 || m < 1<<15 {
-		sum(0, d.n)
+// match records that node w's letter was chosen while all its ancestors
+// matched: its term is covered if it is a leaf, and its children join the
+// lists of their qubits otherwise.
+func (d *Derandomized) match(w int32) {
+	nd := &d.nodes[w]
+	if nd.kid < 0 {
+		d.covered = append(d.covered, -1-nd.kid)
 		return
 	}
-	// Cut the qubits into runs of about m/workers terms.
-	var wg sync.WaitGroup
-	q := 0
-	for i := range workers {
-		end := q
-		for end < d.n && (i == workers-1 || int(d.first[end]) < m*(i+1)/workers) {
-			end++
-		}
-		wg.Add(1)
-		go func(lo, hi int) {
-			defer wg.Done()
-			sum(lo, hi)
-		}(q, end)
-		q = end
+	for i := nd.kid; i < nd.end; i++ {
+		c := &d.nodes[i]
+		q := c.ent >> 2
+		d.pend[q] = append(d.pend[q], pending{
+			val:    c.sum * d.f[c.k] * d.inv3[c.free],
+			node:   i,
+			letter: uint8(c.ent & 3),
+		})
 	}
-	wg.Wait()
-}
-
-// waiting is a term still consistent with the letters fixed so far in the
-// setting being chosen.
-type waiting struct {
-	base   float64 // b·f[k], its weight in this setting
-	e      int32   // index in ent of its support entry on the qubit it waits for
-	s      int32   // the term
-	u      int32   // support qubits not yet fixed, that one included
-	letter uint8   // its letter there
-}
-
-// advance records that term w matched the letter of the qubit it waited
-// for: it is covered if that was its last support qubit, and waits for its
-// next one otherwise.
-func (d *Derandomized) advance(w waiting) {
-	if w.u == 1 {
-		d.hits[w.s]++
-		d.b[w.s] *= d.decay
-		return
-	}
-	w.e++
-	w.u--
-	next := d.ent[w.e]
-	w.letter = uint8(next & 3)
-	d.wait[next>>2] = append(d.wait[next>>2], w)
 }
 
 // Cover implements [Counter].
