@@ -4,6 +4,7 @@ import (
 	"cmp"
 	"fmt"
 	"math"
+	"math/bits"
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -131,15 +132,22 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	}
 	// Support entries of every term, by increasing qubit.
 	off := make([]int32, m+1)
-	var all []int32
 	maxK := 0
+	for l := range m {
+		x, z := t.Words(l)
+		k := 0
+		for i := range x {
+			k += bits.OnesCount64(x[i] | z[i])
+		}
+		off[l+1] = off[l] + int32(k)
+		maxK = max(maxK, k)
+	}
+	all := make([]int32, 0, off[m])
 	for l := range m {
 		x, z := t.Words(l)
 		for q := range supportOf(x, z) {
 			all = append(all, int32(q)<<2|int32(pauli.LetterAt(x, z, q)))
 		}
-		off[l+1] = int32(len(all))
-		maxK = max(maxK, int(off[l+1]-off[l]))
 	}
 	entries := func(l int32) []int32 { return all[off[l]:off[l+1]] }
 	// Sort by first entry, then weight, then the other entries: the terms
@@ -161,9 +169,26 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 		return cmp.Compare(i, j)
 	})
+	// A term adds a node for each of its entries after the prefix it
+	// shares with the term before it.
+	count := 0
+	for i, l := range order {
+		e := entries(l)
+		shared := 0
+		if i > 0 {
+			p := entries(order[i-1])
+			if p[0] == e[0] && len(p) == len(e) {
+				shared = 1
+				for shared < len(e) && p[shared] == e[shared] {
+					shared++
+				}
+			}
+		}
+		count += len(e) - shared
+	}
 	// Build the nodes level by level; node w covers order[lo[w]:hi[w]].
-	d.nodes = d.nodes[:0]
-	var lo, hi []int32
+	d.nodes = make([]trieNode, 0, count)
+	lo, hi := make([]int32, 0, count), make([]int32, 0, count)
 	d.index = make([]int32, 0, m)
 	d.leaf = make([]int32, 0, m)
 	add := func(parent int32, depth int, from, to int32) {
@@ -209,7 +234,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 			add(int32(w), depth+1, i, j)
 			i = j
 		}
-		d.nodes[w].end = int32(len(d.nodes)) // add may have moved the nodes
+		d.nodes[w].end = int32(len(d.nodes))
 	}
 	d.b = make([]float64, m)
 	for s, l := range d.index {
