@@ -35,19 +35,19 @@ import (
 //
 // # Cost
 //
-// The terms are kept in a prefix tree: one tree per weight k, each term a
-// path of its support entries (qubit, letter) by increasing qubit. Within a
-// setting the terms through a node at depth d still have u = k − d + 1 free
-// support qubits when the node's qubit is fixed, so the node's share of a
-// letter's gain is its weight class's factor times the sum of the current
-// weights |h_l| exp(−ν·hits_l) of the terms through it. A node is read only
-// when the letters of its ancestors were all chosen: the nodes of depth 1
-// every setting, deeper ones with a probability of about 3^−(d−1). Only
-// the sums of the nodes on the paths of the terms covered by a setting
-// change; they are recomputed after the setting, bottom up, each as the sum
-// of its children in a fixed order, so that every sum is the same function
-// of the terms' weights however many settings updated it. Memory is
-// O(Σ_l k_l) (one node per distinct prefix).
+// The terms are kept in a prefix tree of their support entries (qubit,
+// letter), by increasing qubit. Within a setting, the terms of weight k
+// through a node at depth d still have u = k − d + 1 free support qubits
+// when the node's qubit is fixed, so the node's share of a letter's gain is
+// Σ_k (factor of weight k) × (sum of the current weights
+// |h_l| exp(−ν·hits_l) of the terms of weight k through it). A node is read
+// only when the letters of its ancestors were all chosen: the nodes of depth
+// 1 every setting, deeper ones with a probability of about 3^−(d−1). Only
+// the sums on the paths of the terms covered by a setting change; they are
+// recomputed after the setting, bottom up, each as the sum of its children
+// in a fixed order, so that every sum is the same function of the terms'
+// weights however many settings updated it. Memory is O(Σ_l k_l) (one node
+// and one sum per distinct prefix and weight).
 //
 // Weights are kept relative to the largest; a term whose weight falls below
 // about 1e−300 of the largest counts as zero. Derandomized is deterministic
@@ -58,24 +58,27 @@ type Derandomized struct {
 	Epsilon float64
 
 	n, budget int
-	t         int // settings chosen so far
-	// Terms in storage order (the order of their leaves); term s is term
-	// index[s] of the Hamiltonian.
-	index []int32
-	b     []float64 // |h_l| exp(−ν hits_l), rescaled
-	hits  []int32
-	leaf  []int32 // the node where term s ends
+	t         int       // settings chosen so far
+	b         []float64 // |h_l| exp(−ν hits_l), rescaled, by term
+	hits      []int32
+	leaf      []int32 // the class where term l ends
 
 	// Prefix-tree nodes in breadth-first order, so that the children of a
 	// node are consecutive and come after it; the nodes of depth 1 come
 	// first, by qubit.
 	nodes []trieNode
 	top   []int32 // depth-1 nodes on qubit q: top[q]..top[q+1]−1
+	// Classes: the terms of one weight through one node. The classes of a
+	// node are consecutive, by weight, in the order of the nodes.
+	cls    []weightClass
+	parent []int32 // the class of the same weight at the parent node, −1 at depth 1
+	under  []int32 // classes one deeper of class c: sub[under[c]:under[c+1]]
+	sub    []int32
 
 	pend    [][]pending // pend[q]: nodes on qubit q whose parent matched
 	covered []int32     // terms covered by the setting being chosen
-	dirty   []bool
-	byDepth [][]int32 // dirty nodes by depth
+	dirty   []bool      // by class
+	byDepth [][]int32   // dirty classes by depth
 
 	logg  []float64 // logg[k] = log(1 − (1 − e^−ν)·3^−k)
 	f     []float64 // future factor by weight, this setting, relative
@@ -84,16 +87,21 @@ type Derandomized struct {
 	decay float64   // e^−ν
 }
 
-// trieNode is a node of the prefix trees: the terms of weight k whose
-// first support entries are those of the path to it.
+// trieNode is a node of the prefix tree: the terms whose first support
+// entries are those of the path to it.
 type trieNode struct {
-	sum    float64 // Σ b over the terms through the node
-	ent    int32   // its support entry, qubit<<2 | letter
-	k      int32   // weight of the terms through it
-	free   int32   // k − depth: their support qubits after this one
-	kid    int32   // first child; −1−s at the leaf of term s
-	end    int32   // one past the last child
-	parent int32   // −1 at depth 1
+	ent      int32 // its support entry, qubit<<2 | letter
+	lo, hi   int32 // its classes
+	kid, end int32 // its children
+	term     int32 // the term that ends here, −1 if none
+}
+
+// weightClass holds the sum of the weights b of the terms of weight k
+// through a node; free = k − depth is the number of their support qubits
+// after the node's.
+type weightClass struct {
+	sum     float64
+	k, free int32
 }
 
 // pending is a node whose ancestors all matched the letters fixed so far in
@@ -150,21 +158,13 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 	}
 	entries := func(l int32) []int32 { return all[off[l]:off[l+1]] }
-	// Sort by first entry, then weight, then the other entries: the terms
-	// through a node are then consecutive.
+	// Sort by entries: the terms through a node are then consecutive.
 	order := make([]int32, m)
 	for l := range order {
 		order[l] = int32(l)
 	}
 	slices.SortFunc(order, func(i, j int32) int {
-		ei, ej := entries(i), entries(j)
-		if c := cmp.Compare(ei[0], ej[0]); c != 0 {
-			return c
-		}
-		if c := cmp.Compare(len(ei), len(ej)); c != 0 {
-			return c
-		}
-		if c := slices.Compare(ei[1:], ej[1:]); c != 0 {
+		if c := slices.Compare(entries(i), entries(j)); c != 0 {
 			return c
 		}
 		return cmp.Compare(i, j)
@@ -177,32 +177,29 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		shared := 0
 		if i > 0 {
 			p := entries(order[i-1])
-			if p[0] == e[0] && len(p) == len(e) {
-				shared = 1
-				for shared < len(e) && p[shared] == e[shared] {
-					shared++
-				}
+			for shared < min(len(p), len(e)) && p[shared] == e[shared] {
+				shared++
+			}
+			if shared == len(e) {
+				return fmt.Errorf("allocate: term %d appears twice in the Hamiltonian", l)
 			}
 		}
 		count += len(e) - shared
 	}
-	// Build the nodes level by level; node w covers order[lo[w]:hi[w]].
+	// Build the nodes level by level; node w covers order[lo[w]:hi[w]]
+	// (kept in its class fields until the classes are made).
 	d.nodes = make([]trieNode, 0, count)
-	lo, hi := make([]int32, 0, count), make([]int32, 0, count)
-	d.index = make([]int32, 0, m)
-	d.leaf = make([]int32, 0, m)
-	add := func(parent int32, depth int, from, to int32) {
-		l := order[from]
-		k := off[l+1] - off[l]
-		d.nodes = append(d.nodes, trieNode{ent: entries(l)[depth-1], k: k, free: k - int32(depth), parent: parent})
-		lo, hi = append(lo, from), append(hi, to)
+	depth := make([]int32, 0, count)
+	add := func(dep int, from, to int32) {
+		d.nodes = append(d.nodes, trieNode{ent: entries(order[from])[dep-1], lo: from, hi: to, term: -1})
+		depth = append(depth, int32(dep))
 	}
 	for i := 0; i < m; {
 		j := i + 1
-		for j < m && entries(order[j])[0] == entries(order[i])[0] && len(entries(order[j])) == len(entries(order[i])) {
+		for j < m && entries(order[j])[0] == entries(order[i])[0] {
 			j++
 		}
-		add(-1, 1, int32(i), int32(j))
+		add(1, int32(i), int32(j))
 		i = j
 	}
 	d.top = make([]int32, n+1)
@@ -213,36 +210,105 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		d.top[q+1] += d.top[q]
 	}
 	for w := 0; w < len(d.nodes); w++ {
-		nd := &d.nodes[w]
-		depth := int(nd.k - nd.free)
-		if nd.free == 0 {
-			if hi[w]-lo[w] != 1 {
-				return fmt.Errorf("allocate: term %d appears twice in the Hamiltonian", order[lo[w]])
-			}
-			nd.kid = -1 - int32(len(d.index))
-			d.index = append(d.index, order[lo[w]])
-			d.leaf = append(d.leaf, int32(w))
-			continue
+		dep := int(depth[w])
+		lo, hi := d.nodes[w].lo, d.nodes[w].hi
+		d.nodes[w].kid = int32(len(d.nodes))
+		i := lo
+		if len(entries(order[i])) == dep {
+			d.nodes[w].term = order[i] // sorted first: the shortest
+			i++
 		}
-		nd.kid = int32(len(d.nodes))
-		for i := lo[w]; i < hi[w]; {
-			e := entries(order[i])[depth]
+		for i < hi {
+			e := entries(order[i])[dep]
 			j := i + 1
-			for j < hi[w] && entries(order[j])[depth] == e {
+			for j < hi && entries(order[j])[dep] == e {
 				j++
 			}
-			add(int32(w), depth+1, i, j)
+			add(dep+1, i, j)
 			i = j
 		}
 		d.nodes[w].end = int32(len(d.nodes))
 	}
+	// Classes of every node, by weight: count, then make them.
+	seen := make([]int32, maxK+1) // seen[k] = 1 + last node with a term of weight k
+	ncls := 0
+	for w := range d.nodes {
+		for _, l := range order[d.nodes[w].lo:d.nodes[w].hi] {
+			k := off[l+1] - off[l]
+			if seen[k] != int32(w)+1 {
+				seen[k] = int32(w) + 1
+				ncls++
+			}
+		}
+	}
+	d.cls = make([]weightClass, 0, ncls)
+	clear(seen)
+	for w := range d.nodes {
+		nd := &d.nodes[w]
+		first := int32(len(d.cls))
+		for _, l := range order[nd.lo:nd.hi] {
+			k := off[l+1] - off[l]
+			if seen[k] != int32(w)+1 {
+				seen[k] = int32(w) + 1
+				d.cls = append(d.cls, weightClass{k: k, free: k - depth[w]})
+			}
+		}
+		slices.SortFunc(d.cls[first:], func(x, y weightClass) int { return cmp.Compare(x.k, y.k) })
+		nd.lo, nd.hi = first, int32(len(d.cls))
+	}
+	// Class tree: the classes under class c are those of the same weight
+	// at the children of its node, in the order of the children.
+	d.parent = make([]int32, len(d.cls))
+	for c := range d.parent {
+		d.parent[c] = -1
+	}
+	d.leaf = make([]int32, m)
+	at := make([]int32, maxK+1) // class of weight k at the node being read
+	for w := range d.nodes {
+		nd := d.nodes[w]
+		for c := nd.lo; c < nd.hi; c++ {
+			at[d.cls[c].k] = c
+		}
+		if nd.term >= 0 {
+			d.leaf[nd.term] = at[depth[w]]
+		}
+		for _, kid := range d.nodes[nd.kid:nd.end] {
+			for c := kid.lo; c < kid.hi; c++ {
+				d.parent[c] = at[d.cls[c].k]
+			}
+		}
+	}
+	// A class with free == 0 holds one term, stored as −1−l.
+	d.under = make([]int32, len(d.cls)+1)
+	for _, p := range d.parent {
+		if p >= 0 {
+			d.under[p+1]++
+		}
+	}
+	for _, c := range d.leaf {
+		d.under[c+1]++
+	}
+	for c := range d.cls {
+		d.under[c+1] += d.under[c]
+	}
+	d.sub = make([]int32, d.under[len(d.cls)])
+	next := append([]int32(nil), d.under[:len(d.cls)]...)
+	for c, p := range d.parent {
+		if p >= 0 {
+			d.sub[next[p]] = int32(c)
+			next[p]++
+		}
+	}
+	for l, c := range d.leaf {
+		d.sub[next[c]] = -1 - int32(l)
+	}
 	d.b = make([]float64, m)
-	for s, l := range d.index {
-		d.b[s] = math.Abs(coef[l]) / maxAbs
+	for l := range m {
+		d.b[l] = math.Abs(coef[l]) / maxAbs
 	}
 	d.hits = make([]int32, m)
 	d.sumAll()
-	d.dirty = make([]bool, len(d.nodes))
+	d.dirty = make([]bool, len(d.cls))
 	d.byDepth = make([][]int32, maxK+1)
 	d.pend = make([][]pending, n)
 	d.covered = d.covered[:0]
@@ -256,26 +322,35 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// sumAll computes the sums of all nodes, children before parents.
+// sumAll computes the sums of all classes, deeper ones first.
 func (d *Derandomized) sumAll() {
-	for w := len(d.nodes) - 1; w >= 0; w-- {
-		d.resum(int32(w))
+	for c := len(d.cls) - 1; c >= 0; c-- {
+		d.resum(int32(c))
 	}
 }
 
-// resum sets the sum of node w from its term or its children, in their
-// order.
-func (d *Derandomized) resum(w int32) {
-	nd := &d.nodes[w]
-	if nd.kid < 0 {
-		nd.sum = d.b[-1-nd.kid]
+// resum sets the sum of class c from its term or the classes under it, in
+// their order.
+func (d *Derandomized) resum(c int32) {
+	if d.cls[c].free == 0 {
+		d.cls[c].sum = d.b[-1-d.sub[d.under[c]]]
 		return
 	}
 	v := 0.0
-	for _, c := range d.nodes[nd.kid:nd.end] {
-		v += c.sum
+	for _, s := range d.sub[d.under[c]:d.under[c+1]] {
+		v += d.cls[s].sum
 	}
-	nd.sum = v
+	d.cls[c].sum = v
+}
+
+// share returns node w's share of the gain of its letter (see Next).
+func (d *Derandomized) share(w int32) float64 {
+	nd := &d.nodes[w]
+	v := 0.0
+	for _, c := range d.cls[nd.lo:nd.hi] {
+		v += c.sum * d.f[c.k] * d.inv3[c.free]
+	}
+	return v
 }
 
 // Next implements [Stepper].
@@ -301,8 +376,8 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 		// has the largest gain.
 		var gain [4]float64
 		lo, hi := d.top[q], d.top[q+1]
-		for _, nd := range d.nodes[lo:hi] {
-			gain[nd.ent&3] += nd.sum * d.f[nd.k] * d.inv3[nd.free]
+		for w := lo; w < hi; w++ {
+			gain[d.nodes[w].ent&3] += d.share(w)
 		}
 		pend := d.pend[q]
 		for i := range pend {
@@ -327,21 +402,22 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 		}
 	}
 	// The covered terms' weights fall; recompute the sums on their paths.
-	for _, s := range d.covered {
-		d.hits[s]++
-		d.b[s] *= d.decay
-		for w := d.leaf[s]; w >= 0 && !d.dirty[w]; w = d.nodes[w].parent {
-			d.dirty[w] = true
-			depth := d.nodes[w].k - d.nodes[w].free
-			d.byDepth[depth] = append(d.byDepth[depth], w)
+	for _, l := range d.covered {
+		d.hits[l]++
+		d.b[l] *= d.decay
+		for c := d.leaf[l]; c >= 0 && !d.dirty[c]; c = d.parent[c] {
+			d.dirty[c] = true
+			cl := d.cls[c]
+			dep := cl.k - cl.free
+			d.byDepth[dep] = append(d.byDepth[dep], c)
 		}
 	}
-	for depth := len(d.byDepth) - 1; depth > 0; depth-- {
-		for _, w := range d.byDepth[depth] {
-			d.resum(w)
-			d.dirty[w] = false
+	for dep := len(d.byDepth) - 1; dep > 0; dep-- {
+		for _, c := range d.byDepth[dep] {
+			d.resum(c)
+			d.dirty[c] = false
 		}
-		d.byDepth[depth] = d.byDepth[depth][:0]
+		d.byDepth[dep] = d.byDepth[dep][:0]
 	}
 	d.t++
 	if d.t%64 == 0 {
@@ -350,8 +426,8 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 			top = max(top, v)
 		}
 		if top > 0 && top < 1e-200 {
-			for s := range d.b {
-				d.b[s] /= top
+			for l := range d.b {
+				d.b[l] /= top
 			}
 			d.sumAll()
 		}
@@ -360,28 +436,22 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 }
 
 // match records that node w's letter was chosen while all its ancestors
-// matched: its term is covered if it is a leaf, and its children join the
-// lists of their qubits otherwise.
+// matched: the term ending there is covered, and its children join the
+// lists of their qubits.
 func (d *Derandomized) match(w int32) {
 	nd := &d.nodes[w]
-	if nd.kid < 0 {
-		d.covered = append(d.covered, -1-nd.kid)
-		return
+	if nd.term >= 0 {
+		d.covered = append(d.covered, nd.term)
 	}
 	for i := nd.kid; i < nd.end; i++ {
-		c := &d.nodes[i]
-		q := c.ent >> 2
-		d.pend[q] = append(d.pend[q], pending{
-			val:    c.sum * d.f[c.k] * d.inv3[c.free],
-			node:   i,
-			letter: uint8(c.ent & 3),
-		})
+		e := d.nodes[i].ent
+		d.pend[e>>2] = append(d.pend[e>>2], pending{val: d.share(i), node: i, letter: uint8(e & 3)})
 	}
 }
 
 // Cover implements [Counter].
 func (d *Derandomized) Cover(dst []int) {
-	for s, c := range d.hits {
-		dst[d.index[s]] = int(c)
+	for l, c := range d.hits {
+		dst[l] = int(c)
 	}
 }
