@@ -58,10 +58,9 @@ type Derandomized struct {
 	Epsilon float64
 
 	n, budget int
-	t         int       // settings chosen so far
-	b         []float64 // |h_l| exp(−ν hits_l), rescaled, by term
-	hits      []int32
-	leaf      []int32 // the class where term l ends
+	t         int     // settings chosen so far
+	leaf      []int32 // the class where term l ends, whose sum is the term's
+	// weight |h_l| exp(−ν hits_l), rescaled
 
 	// Prefix-tree nodes in breadth-first order, so that the children of a
 	// node are consecutive and come after it; the nodes of depth 1 come
@@ -71,12 +70,13 @@ type Derandomized struct {
 	// Classes: the terms of one weight through one node. The classes of a
 	// node are consecutive, by weight, in the order of the nodes.
 	cls    []weightClass
+	hits   []int32 // by class, of the classes where a term ends
 	parent []int32 // the class of the same weight at the parent node, −1 at depth 1
 	under  []int32 // classes one deeper of class c: sub[under[c]:under[c+1]]
 	sub    []int32
 
 	pend    [][]pending // pend[q]: nodes on qubit q whose parent matched
-	covered []int32     // terms covered by the setting being chosen
+	covered []int32     // leaf classes covered by the setting being chosen
 	dirty   []bool      // by class
 	byDepth [][]int32   // dirty classes by depth
 
@@ -93,7 +93,7 @@ type trieNode struct {
 	ent      int32 // its support entry, qubit<<2 | letter
 	lo, hi   int32 // its classes
 	kid, end int32 // its children
-	term     int32 // the term that ends here, −1 if none
+	leaf     int32 // the class of the term that ends here, −1 if none (the term itself until the classes are made)
 }
 
 // weightClass holds the sum of the weights b of the terms of weight k
@@ -191,7 +191,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	d.nodes = make([]trieNode, 0, count)
 	depth := make([]int32, 0, count)
 	add := func(dep int, from, to int32) {
-		d.nodes = append(d.nodes, trieNode{ent: entries(order[from])[dep-1], lo: from, hi: to, term: -1})
+		d.nodes = append(d.nodes, trieNode{ent: entries(order[from])[dep-1], lo: from, hi: to, leaf: -1})
 		depth = append(depth, int32(dep))
 	}
 	for i := 0; i < m; {
@@ -215,7 +215,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		d.nodes[w].kid = int32(len(d.nodes))
 		i := lo
 		if len(entries(order[i])) == dep {
-			d.nodes[w].term = order[i] // sorted first: the shortest
+			d.nodes[w].leaf = order[i] // sorted first: the shortest
 			i++
 		}
 		for i < hi {
@@ -269,8 +269,9 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		for c := nd.lo; c < nd.hi; c++ {
 			at[d.cls[c].k] = c
 		}
-		if nd.term >= 0 {
-			d.leaf[nd.term] = at[depth[w]]
+		if nd.leaf >= 0 {
+			d.leaf[nd.leaf] = at[depth[w]]
+			d.nodes[w].leaf = at[depth[w]]
 		}
 		for _, kid := range d.nodes[nd.kid:nd.end] {
 			for c := kid.lo; c < kid.hi; c++ {
@@ -278,15 +279,11 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 			}
 		}
 	}
-	// A class with free == 0 holds one term, stored as −1−l.
 	d.under = make([]int32, len(d.cls)+1)
 	for _, p := range d.parent {
 		if p >= 0 {
 			d.under[p+1]++
 		}
-	}
-	for _, c := range d.leaf {
-		d.under[c+1]++
 	}
 	for c := range d.cls {
 		d.under[c+1] += d.under[c]
@@ -300,13 +297,9 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		}
 	}
 	for l, c := range d.leaf {
-		d.sub[next[c]] = -1 - int32(l)
+		d.cls[c].sum = math.Abs(coef[l]) / maxAbs
 	}
-	d.b = make([]float64, m)
-	for l := range m {
-		d.b[l] = math.Abs(coef[l]) / maxAbs
-	}
-	d.hits = make([]int32, m)
+	d.hits = make([]int32, len(d.cls))
 	d.sumAll()
 	d.dirty = make([]bool, len(d.cls))
 	d.byDepth = make([][]int32, maxK+1)
@@ -322,20 +315,19 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	return nil
 }
 
-// sumAll computes the sums of all classes, deeper ones first.
+// sumAll computes the sums of all classes but the leaves, deeper ones
+// first.
 func (d *Derandomized) sumAll() {
 	for c := len(d.cls) - 1; c >= 0; c-- {
-		d.resum(int32(c))
+		if d.cls[c].free > 0 {
+			d.resum(int32(c))
+		}
 	}
 }
 
-// resum sets the sum of class c from its term or the classes under it, in
+// resum sets the sum of class c, not a leaf, from the classes under it, in
 // their order.
 func (d *Derandomized) resum(c int32) {
-	if d.cls[c].free == 0 {
-		d.cls[c].sum = d.b[-1-d.sub[d.under[c]]]
-		return
-	}
 	v := 0.0
 	for _, s := range d.sub[d.under[c]:d.under[c+1]] {
 		v += d.cls[s].sum
@@ -402,10 +394,10 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 		}
 	}
 	// The covered terms' weights fall; recompute the sums on their paths.
-	for _, l := range d.covered {
-		d.hits[l]++
-		d.b[l] *= d.decay
-		for c := d.leaf[l]; c >= 0 && !d.dirty[c]; c = d.parent[c] {
+	for _, leaf := range d.covered {
+		d.hits[leaf]++
+		d.cls[leaf].sum *= d.decay
+		for c := d.parent[leaf]; c >= 0 && !d.dirty[c]; c = d.parent[c] {
 			d.dirty[c] = true
 			cl := d.cls[c]
 			dep := cl.k - cl.free
@@ -422,12 +414,12 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 	d.t++
 	if d.t%64 == 0 {
 		top := 0.0
-		for _, v := range d.b {
-			top = max(top, v)
+		for _, c := range d.leaf {
+			top = max(top, d.cls[c].sum)
 		}
 		if top > 0 && top < 1e-200 {
-			for l := range d.b {
-				d.b[l] /= top
+			for _, c := range d.leaf {
+				d.cls[c].sum /= top
 			}
 			d.sumAll()
 		}
@@ -440,8 +432,8 @@ func (d *Derandomized) Next(dst []pauli.Letter) (int, error) {
 // lists of their qubits.
 func (d *Derandomized) match(w int32) {
 	nd := &d.nodes[w]
-	if nd.term >= 0 {
-		d.covered = append(d.covered, nd.term)
+	if nd.leaf >= 0 {
+		d.covered = append(d.covered, nd.leaf)
 	}
 	for i := nd.kid; i < nd.end; i++ {
 		e := d.nodes[i].ent
@@ -451,7 +443,7 @@ func (d *Derandomized) match(w int32) {
 
 // Cover implements [Counter].
 func (d *Derandomized) Cover(dst []int) {
-	for l, c := range d.hits {
-		dst[l] = int(c)
+	for l, c := range d.leaf {
+		dst[l] = int(d.hits[c])
 	}
 }
