@@ -5,7 +5,9 @@ import (
 	"fmt"
 	"math"
 	"math/bits"
+	"runtime"
 	"slices"
+	"sync"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -163,7 +165,7 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	for l := range order {
 		order[l] = int32(l)
 	}
-	slices.SortFunc(order, func(i, j int32) int {
+	sortTerms(order, func(i, j int32) int {
 		if c := slices.Compare(entries(i), entries(j)); c != 0 {
 			return c
 		}
@@ -313,6 +315,61 @@ func (d *Derandomized) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	}
 	d.f = make([]float64, maxK+1)
 	return nil
+}
+
+// sortTerms sorts order by less, a total order, on up to GOMAXPROCS cores
+// for long lists: runs sorted concurrently, then merged pairwise. A total
+// order has one sorted result, so it does not depend on the number of
+// cores.
+func sortTerms(order []int32, less func(i, j int32) int) {
+	workers := min(runtime.GOMAXPROCS(0), len(order)>>14)
+	if workers < 2 {
+		slices.SortFunc(order, less)
+		return
+	}
+	bounds := make([]int, workers+1)
+	for i := range bounds {
+		bounds[i] = len(order) * i / workers
+	}
+	var wg sync.WaitGroup
+	for i := range workers {
+		wg.Add(1)
+		go func(run []int32) {
+			defer wg.Done()
+			slices.SortFunc(run, less)
+		}(order[bounds[i]:bounds[i+1]])
+	}
+	wg.Wait()
+	src, dst := order, make([]int32, len(order))
+	for len(bounds) > 2 {
+		var next []int
+		for i := 0; i+1 < len(bounds); i += 2 {
+			lo := bounds[i]
+			if i+2 >= len(bounds) {
+				copy(dst[lo:], src[lo:bounds[i+1]])
+				next = append(next, lo)
+				continue
+			}
+			mid, hi := bounds[i+1], bounds[i+2]
+			a, b, k := lo, mid, lo
+			for a < mid && b < hi {
+				if less(src[b], src[a]) < 0 {
+					dst[k] = src[b]
+					b++
+				} else {
+					dst[k] = src[a]
+					a++
+				}
+				k++
+			}
+			k += copy(dst[k:], src[a:mid])
+			copy(dst[k:], src[b:hi])
+			next = append(next, lo)
+		}
+		bounds = append(next, len(order))
+		src, dst = dst, src
+	}
+	copy(order, src)
 }
 
 // sumAll computes the sums of all classes but the leaves, deeper ones
