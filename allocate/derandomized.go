@@ -49,7 +49,9 @@ import (
 // recomputed after the setting, bottom up, each as the sum of its children
 // in a fixed order, so that every sum is the same function of the terms'
 // weights however many settings updated it. Memory is O(Σ_l k_l) (one node
-// and one sum per distinct prefix and weight).
+// and one sum per distinct prefix and weight). Init sorts the terms on up
+// to GOMAXPROCS cores; the rest runs on one, and the plan does not depend on
+// the number of cores.
 //
 // Weights are kept relative to the largest; a term whose weight falls below
 // about 1e−300 of the largest counts as zero. Derandomized is deterministic
