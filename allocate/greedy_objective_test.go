@@ -65,7 +65,7 @@ func TestGreedyObjectiveMatchesPlain(t *testing.T) {
 }
 
 // TestSameOnAllCores checks that the plans of the strategies that share
-// their work among cores (Derandomized's per-qubit sums) do not depend on
+// their work among cores (Derandomized's sort of the terms) do not depend on
 // the number of cores. The Hamiltonians are large enough for the work to
 // split (2^15 terms for Derandomized).
 func TestSameOnAllCores(t *testing.T) {
