@@ -268,3 +268,17 @@ func TestParseBitsInto(t *testing.T) {
 		}
 	}
 }
+
+// A coefficient split is not streamed: NewStream refuses it rather than
+// silently using the implicit weights.
+func TestStreamRefusesSplit(t *testing.T) {
+	h, err := hamiltonian.New(2, 0, []hamiltonian.Term{{Pauli: pauli.MustParse("ZI"), Coeff: 1}, {Pauli: pauli.MustParse("IZ"), Coeff: 0.5}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := pauli.MustParseSetting("ZZ")
+	split := hamiltonian.Split{{Setting: st, Terms: []int{0}, Weights: []float64{1}}}
+	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: split}); err == nil {
+		t.Fatal("NewStream with a split: no error")
+	}
+}

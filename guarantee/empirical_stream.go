@@ -38,6 +38,9 @@ func EmpiricalStream(st *estimate.Stream, delta float64, opts *EmpiricalOptions)
 	if st.Len() == 0 {
 		return nil, fmt.Errorf("guarantee: no shots in the stream")
 	}
+	if o.Split != nil {
+		return nil, fmt.Errorf("guarantee: EmpiricalOptions.Split is set: a coefficient split is not streamed yet; use Empirical on records in memory")
+	}
 	if o.Exclude != nil {
 		return nil, fmt.Errorf("guarantee: EmpiricalOptions.Exclude is set: a stream's terms left out are those of its estimate.Options")
 	}
