@@ -550,10 +550,27 @@ func (md *splitModel) sweep(f []float64) {
 		}
 		md.a = append(md.a, make([]float64, len(md.idx))...)
 		simplexMin(md.d, md.e, md.a)
+		if !finiteWeights(md.a) {
+			// Only for terms whose coefficient is near zero (1e-16 and
+			// below in molecular Bravyi–Kitaev Hamiltonians), where d_g
+			// underflows against e_g: their weights keep the values they
+			// had, which matter to nothing but that term.
+			continue
+		}
 		for t, j := range md.idx {
 			md.set(i, refs[j], md.a[t])
 		}
 	}
+}
+
+// finiteWeights reports whether every weight is a finite number in [0, 1].
+func finiteWeights(a []float64) bool {
+	for _, v := range a {
+		if !(v >= 0 && v <= 1) {
+			return false
+		}
+	}
+	return true
 }
 
 // set changes α of term i in group r.g to v and updates load or y.
@@ -611,10 +628,28 @@ func simplexMin(d, e, out []float64) {
 			break
 		}
 	}
+	// The active j with the smallest d_j takes what the others leave,
+	// 1 − Σ_{k≠j} x_k, instead of (μ − e_j)/d_j: when d_j is many orders
+	// below the others (a term whose coefficient is near zero, such as
+	// 1e-18 in a Bravyi–Kitaev Hamiltonian), μ − e_j is lost to rounding
+	// while the other x_k = (μ − e_k)/d_k keep their relative accuracy.
+	stiff := -1
+	for j, a := range out {
+		if a != 0 && (stiff < 0 || d[j] < d[stiff]) {
+			stiff = j
+		}
+	}
 	sum := 0.0
 	for j := range out {
-		out[j] = max(0, (mu-e[j])/d[j])
-		sum += out[j]
+		out[j] = 0
+		if j != stiff {
+			out[j] = max(0, (mu-e[j])/d[j])
+			sum += out[j]
+		}
+	}
+	if sum < 1 {
+		out[stiff] = 1 - sum
+		return
 	}
 	for j := range out {
 		out[j] /= sum
