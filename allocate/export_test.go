@@ -5,3 +5,7 @@ var (
 	CheckFinite      = checkFinite
 	LargestRemainder = largestRemainder
 )
+
+// NarrowedGreedy returns a Greedy whose walks narrow (finish from the
+// terms they can still accept) after reading read entries.
+func NarrowedGreedy(read int) *Greedy { return &Greedy{narrowAt: read + 1} }
