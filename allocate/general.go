@@ -33,8 +33,11 @@ import (
 // (at most n of them, since the members commute), so testing a term against
 // a group costs at most n word-wise symplectic products, whatever the
 // group's size: grouping is O(M·G·n·⌈n/64⌉) at worst for G groups, plus
-// one [pauli.Diagonalize] per group. SortedGC implements [Batcher] and
-// [Counter] and uses no randomness.
+// one [pauli.Diagonalize] per group. The tests of a batch of terms against
+// the groups formed before it, and the cover counts of the groups'
+// settings, are split among GOMAXPROCS goroutines; the groups and counts do
+// not depend on the split. SortedGC implements [Batcher] and [Counter] and
+// uses no randomness.
 type SortedGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
 	Share Share
@@ -68,8 +71,8 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // The degrees need every pair, the only quadratic step: they are counted
 // 256 pairs at a time by table look-ups, about M²·n/1024 look-ups, split
 // among GOMAXPROCS goroutines (the counts are integers, so the result does
-// not depend on the split). The colouring then costs as the grouping of
-// [SortedGC]. ColorGC implements
+// not depend on the split). The colouring then costs, and is split among
+// cores, as the grouping of [SortedGC]. ColorGC implements
 // [Batcher] and [Counter] and uses no randomness.
 type ColorGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
