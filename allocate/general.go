@@ -387,7 +387,7 @@ const assignBatch = 512
 
 // assign puts the ranks of rk in the given order, one after the other,
 // into the first group each commutes with (opening a new group if none),
-// exactly as insert called for each in turn would, and returns each one's
+// exactly as first and add called for each in turn would, and returns each one's
 // group.
 //
 // The terms go in batches. First every term of a batch is tested against
@@ -460,14 +460,6 @@ func (c *commutingGroups) firstAll(rk *ranked, order []int32, out []int32) {
 		}()
 	}
 	wg.Wait()
-}
-
-// insert adds (x, z) to the first group it fits, opening a new group if
-// none, and returns the group.
-func (c *commutingGroups) insert(x, z []uint64) int {
-	k := c.first(x, z)
-	c.add(k, x, z)
-	return k
 }
 
 // rank returns the dimension of group k's span.

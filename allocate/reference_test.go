@@ -416,7 +416,7 @@ func TestNarrowedGreedyMatchesReference(t *testing.T) {
 		cases = append(cases, hcase{c.Name, c.H})
 	}
 	for _, c := range checkCases(t) {
-		cases = append(cases, hcase{c.name, c.h})
+		cases = append(cases, hcase(c))
 	}
 	for _, c := range cases {
 		for _, read := range []int{0, 100} {
