@@ -94,6 +94,7 @@ type Greedy struct {
 	ns       int      // number of slots
 	alive    []uint64 // bit r: rank r agrees with the letters fixed so far
 	live     []int32  // the words of alive that are not zero
+	none     []uint64 // ⌈M/64⌉ zero words
 	seen     []uint64 // qubits already applied to alive
 	fix      []fixOp  // scratch of restrict
 	kills    []int32  // per slot and letter code 0, 1, 2 (X, Z, Y): ranks it rules out
@@ -235,6 +236,7 @@ func (g *Greedy) initNarrow() {
 		}
 	}
 	g.alive = make([]uint64, words)
+	g.none = make([]uint64, words)
 	g.live = make([]int32, 0, words)
 	g.seen = make([]uint64, rk.w)
 }
@@ -476,30 +478,37 @@ func (g *Greedy) restrict() {
 	// The letters that rule out the most ranks first, so that the later
 	// ones read fewer words.
 	slices.SortFunc(fix, func(a, b fixOp) int { return cmp.Compare(b.kills, a.kills) })
-	// Four letters per pass over the live words; the last pass repeats
-	// its last letter where fewer are left, which changes nothing.
+	// The ranks a letter rules out on a qubit are a ^ b for two bit sets:
+	// for X the z bits and none, for Z the x bits and none, for Y the x and
+	// the z bits. So X and Z read one set of the qubit, not two (none is one
+	// shared all-zero set). Four letters per pass over the live words; a
+	// last pass with fewer is padded with none.
 	words := len(g.alive)
 	alive := g.alive
 	for len(fix) > 0 {
-		var xs, zs [4][]uint64
-		var lx, lz [4]uint64
+		var as, bs [4][]uint64
 		for i := range 4 {
-			f := fix[min(i, len(fix)-1)]
-			xs[i] = g.lbits[2*f.s*words : (2*f.s+1)*words]
-			zs[i] = g.lbits[(2*f.s+1)*words : (2*f.s+2)*words]
-			lx[i], lz[i] = f.lx, f.lz
+			as[i], bs[i] = g.none, g.none
+			if i >= len(fix) {
+				continue
+			}
+			f := fix[i]
+			xs := g.lbits[2*f.s*words : (2*f.s+1)*words]
+			zs := g.lbits[(2*f.s+1)*words : (2*f.s+2)*words]
+			switch {
+			case f.lx != 0 && f.lz != 0:
+				as[i], bs[i] = xs, zs
+			case f.lx != 0:
+				as[i] = zs
+			default:
+				as[i] = xs
+			}
 		}
 		fix = fix[min(4, len(fix)):]
 		live := g.live[:0]
 		for _, k := range g.live {
-			x0, z0 := xs[0][k], zs[0][k]
-			x1, z1 := xs[1][k], zs[1][k]
-			x2, z2 := xs[2][k], zs[2][k]
-			x3, z3 := xs[3][k], zs[3][k]
-			a := alive[k] &^ (((x0^lx[0])|(z0^lz[0]))&(x0|z0) |
-				((x1^lx[1])|(z1^lz[1]))&(x1|z1) |
-				((x2^lx[2])|(z2^lz[2]))&(x2|z2) |
-				((x3^lx[3])|(z3^lz[3]))&(x3|z3))
+			a := alive[k] &^ ((as[0][k] ^ bs[0][k]) | (as[1][k] ^ bs[1][k]) |
+				(as[2][k] ^ bs[2][k]) | (as[3][k] ^ bs[3][k]))
 			alive[k] = a
 			if a != 0 {
 				live = append(live, k)
