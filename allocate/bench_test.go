@@ -81,14 +81,13 @@ func BenchmarkImportance(b *testing.B) {
 	benchMoleculePlan(b, mk, benchSettings)
 }
 
-// The strategies of generally commuting settings. ColorGC runs on both
-// molecular fixtures; SortedGC and GreedyGC on the 20-qubit one only (on
-// the 571 875-term one GreedyGC's rounds do not finish in reasonable time,
-// and SortedGC's row has not been measured). The random rows of grouping
-// are BenchmarkSortedGCInit and BenchmarkColorGCInit.
+// The strategies of generally commuting settings. ColorGC and SortedGC run
+// on both molecular fixtures; GreedyGC on the 20-qubit one only (on the
+// 571 875-term one its rounds do not finish in reasonable time). The random
+// rows of grouping are BenchmarkSortedGCInit and BenchmarkColorGCInit.
 
 func BenchmarkSortedGC(b *testing.B) {
-	benchMoleculePlan(b, func() allocate.Allocator { return &allocate.SortedGC{} }, benchSettings, 10)
+	benchMoleculePlan(b, func() allocate.Allocator { return &allocate.SortedGC{} }, benchSettings)
 }
 
 func BenchmarkColorGC(b *testing.B) {

@@ -8,3 +8,7 @@ var (
 
 // SimplexMin is the per-term weight step of Overlap.
 var SimplexMin = simplexMin
+
+// NarrowedGreedy returns a Greedy whose walks narrow (finish from the
+// terms they can still accept) after reading read entries.
+func NarrowedGreedy(read int) *Greedy { return &Greedy{narrowAt: read + 1} }

@@ -33,8 +33,11 @@ import (
 // (at most n of them, since the members commute), so testing a term against
 // a group costs at most n word-wise symplectic products, whatever the
 // group's size: grouping is O(M·G·n·⌈n/64⌉) at worst for G groups, plus
-// one [pauli.Diagonalize] per group. SortedGC implements [Batcher] and
-// [Counter] and uses no randomness.
+// one [pauli.Diagonalize] per group. The tests of a batch of terms against
+// the groups formed before it, and the cover counts of the groups'
+// settings, are split among GOMAXPROCS goroutines; the groups and counts do
+// not depend on the split. SortedGC implements [Batcher] and [Counter] and
+// uses no randomness.
 type SortedGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
 	Share Share
@@ -79,8 +82,8 @@ func (s *SortedGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 // The degrees need every pair, the only quadratic step: they are counted
 // 256 pairs at a time by table look-ups, about M²·n/1024 look-ups, split
 // among GOMAXPROCS goroutines (the counts are integers, so the result does
-// not depend on the split). The colouring then costs as the grouping of
-// [SortedGC]. ColorGC implements
+// not depend on the split). The colouring then costs, and is split among
+// cores, as the grouping of [SortedGC]. ColorGC implements
 // [Batcher] and [Counter] and uses no randomness.
 type ColorGC struct {
 	// Share selects the weight of a group; the zero value is ShareOneNorm.
@@ -253,9 +256,9 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 	gs := newCommutingGroups(rk.w)
 	var weight []float64
 	var ranks [][]int32
-	for _, r := range order {
-		x, z := rk.row(int(r))
-		k := gs.insert(x, z)
+	groupOf := gs.assign(rk, order)
+	for j, r := range order {
+		k := int(groupOf[j])
 		if k == len(weight) {
 			weight = append(weight, 0)
 			ranks = append(ranks, nil)
@@ -298,13 +301,15 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 	// entangled, so countCover's deduplication and letter buckets would not
 	// pay here.
 	g.cover = make([]int, h.Len())
-	var idx []int
-	for j, st := range g.settings {
-		idx = h.Table().Covered(idx[:0], st)
-		for _, i := range idx {
-			g.cover[i] += g.shots[j]
+	splitCounts(g.cover, len(g.settings), h.Len(), func() func(int, []int) {
+		var idx []int
+		return func(j int, dst []int) {
+			idx = h.Table().Covered(idx[:0], g.settings[j])
+			for _, i := range idx {
+				dst[i] += g.shots[j]
+			}
 		}
-	}
+	})
 	return nil
 }
 
@@ -337,13 +342,25 @@ func (c *commutingGroups) len() int { return len(c.basis) }
 
 // fits reports whether (x, z) commutes with every member of group k.
 func (c *commutingGroups) fits(k int, x, z []uint64) bool {
-	b, w := c.basis[k], c.w
+	return c.fitsBasis(c.basis[k], x, z)
+}
+
+// fitsBasis reports whether (x, z) commutes with every vector of b, a run
+// of basis vectors of 2w words each.
+func (c *commutingGroups) fitsBasis(b []uint64, x, z []uint64) bool {
+	w := c.w
 	if w == 1 {
 		x0, z0 := x[0], z[0]
-		for o := 0; o+1 < len(b); o += 2 {
-			if bits.OnesCount64(x0&b[o+1]^z0&b[o])&1 != 0 {
+		o := 0
+		// Two products at a time, without a branch between them: about
+		// half the groups a term meets fail the first.
+		for ; o+3 < len(b); o += 4 {
+			if (bits.OnesCount64(x0&b[o+1]^z0&b[o])|bits.OnesCount64(x0&b[o+3]^z0&b[o+2]))&1 != 0 {
 				return false
 			}
+		}
+		if o+1 < len(b) && bits.OnesCount64(x0&b[o+1]^z0&b[o])&1 != 0 {
+			return false
 		}
 		return true
 	}
@@ -398,12 +415,85 @@ func (c *commutingGroups) add(k int, x, z []uint64) {
 	}
 }
 
-// insert adds (x, z) to the first group it fits, opening a new group if
-// none, and returns the group.
-func (c *commutingGroups) insert(x, z []uint64) int {
-	k := c.first(x, z)
-	c.add(k, x, z)
-	return k
+// assignBatch is the number of terms whose first fit among the groups
+// formed before them is searched at once, on all cores.
+const assignBatch = 512
+
+// assign puts the ranks of rk in the given order, one after the other,
+// into the first group each commutes with (opening a new group if none),
+// exactly as first and add called for each in turn would, and returns each one's
+// group.
+//
+// The terms go in batches. First every term of a batch is tested against
+// the groups formed before the batch, which do not change meanwhile, the
+// terms split among GOMAXPROCS workers: this gives the first such group s
+// that it fits, or their number. Then the batch is placed in order on one
+// core. Groups only grow, so a term that does not commute with a group
+// before the batch does not after it: the term's group is at s or later,
+// and the search starts there, testing at s only the basis vectors added
+// during the batch. Which core tested what does not change any group.
+func (c *commutingGroups) assign(rk *ranked, order []int32) []int32 {
+	out := make([]int32, len(order))
+	var snap []int
+	for lo := 0; lo < len(order); lo += assignBatch {
+		hi := min(lo+assignBatch, len(order))
+		g0 := c.len()
+		snap = snap[:0]
+		for _, b := range c.basis {
+			snap = append(snap, len(b))
+		}
+		c.firstAll(rk, order[lo:hi], out[lo:hi])
+		for j := lo; j < hi; j++ {
+			x, z := rk.row(int(order[j]))
+			k := int(out[j])
+			for ; k < c.len(); k++ {
+				if k == int(out[j]) && k < g0 {
+					if c.fitsBasis(c.basis[k][snap[k]:], x, z) {
+						break
+					}
+				} else if c.fits(k, x, z) {
+					break
+				}
+			}
+			c.add(k, x, z)
+			out[j] = int32(k)
+		}
+	}
+	return out
+}
+
+// firstAll sets out[j] to the first group that the rank order[j] fits, or
+// len(), splitting the ranks among GOMAXPROCS workers when there are
+// groups to test. The groups must not change meanwhile.
+func (c *commutingGroups) firstAll(rk *ranked, order []int32, out []int32) {
+	const chunk = 32
+	workers := min(runtime.GOMAXPROCS(0), (len(order)+chunk-1)/chunk)
+	if c.len() == 0 || workers <= 1 {
+		for j, r := range order {
+			x, z := rk.row(int(r))
+			out[j] = int32(c.first(x, z))
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				lo := chunk * (int(next.Add(1)) - 1)
+				if lo >= len(order) {
+					return
+				}
+				for j := lo; j < min(lo+chunk, len(order)); j++ {
+					x, z := rk.row(int(order[j]))
+					out[j] = int32(c.first(x, z))
+				}
+			}
+		}()
+	}
+	wg.Wait()
 }
 
 // rank returns the dimension of group k's span.

@@ -1,7 +1,9 @@
 package allocate
 
 import (
+	"cmp"
 	"math"
+	"math/bits"
 	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -38,10 +40,23 @@ import (
 // its true weight in a small heap merged with the blocks (so the walk order
 // stays exact), and moves it to its place afterwards, O(log M + B) for
 // blocks of B entries. A setting therefore costs O(W⌈n/64⌉ + M⌈n/64⌉/9 +
-// S(log M + B)) for W entries read by the walk and S stale entries met;
-// memory is O(M⌈n/64⌉). On Hamiltonians whose every qubit lies in the
-// support of many terms (Jordan–Wigner molecules), the last free qubits
-// often have no compatible term and W approaches M.
+// S(log M + B)) for W entries read by the walk and S stale entries met.
+//
+// On Hamiltonians whose every qubit lies in the support of many terms
+// (Jordan–Wigner molecules) the last free qubits often have no compatible
+// term, and the walk would read nearly all M entries to find that out. So
+// a walk that has read max(4096, M/16) entries narrows instead. For every
+// qubit the ranks whose letter there has an x bit, and those with a z bit,
+// are kept as bit sets; the ranks that agree with every letter fixed so far
+// are then found with at most 2n⌈M/64⌉ word reads (fewer as the set
+// empties: only its non-zero words are read, and the letters that rule out
+// most ranks go first). The walk continues among those that also touch a
+// free qubit — the only terms it can still accept — accepting the first by
+// weight and rank and dropping those the new letters rule out, which gives
+// exactly the setting of the full walk; the same set, finished with the
+// remaining letters, is the set of covered terms. Memory is O(M⌈n/64⌉)
+// words for the entries and about nM/32 bytes for the bit sets, which are
+// not built (and walks read to their end) past 256 MiB.
 //
 // Greedy is deterministic: it uses no randomness. It implements [Counter].
 // The zero value is ready to use.
@@ -69,6 +84,29 @@ type Greedy struct {
 	fixed  []uint64 // qubits fixed so far
 
 	fx, fz uint64 // symplectic bits of the fill letter, set by Init
+
+	// The narrowed walk (see narrow).
+	narrowAt int      // if > 0, narrowAt−1 replaces limit (tests)
+	limit    int      // entries a walk reads before it narrows; −1: never
+	read     int      // entries read by the current walk
+	lbits    []uint64 // letter bit sets: slot s's x bits at 2s·W, z bits at (2s+1)·W
+	slot     []int32  // slot of each qubit, or −1 if no term touches it
+	ns       int      // number of slots
+	alive    []uint64 // bit r: rank r agrees with the letters fixed so far
+	live     []int32  // the words of alive that are not zero
+	none     []uint64 // ⌈M/64⌉ zero words
+	seen     []uint64 // qubits already applied to alive
+	fix      []fixOp  // scratch of restrict
+	kills    []int32  // per slot and letter code 0, 1, 2 (X, Z, Y): ranks it rules out
+	cand     []entry  // scratch of narrow
+}
+
+// fixOp is one qubit's letter to apply to alive: the slot of the qubit and
+// the letter's x and z bits as all-zero or all-one words.
+type fixOp struct {
+	s      int
+	lx, lz uint64
+	kills  int32
 }
 
 // state is what a cover changes about a term.
@@ -135,8 +173,79 @@ func (g *Greedy) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.layout()
 	g.gain = g.gain[:0]
 	g.px, g.pz, g.fixed = make([]uint64, w), make([]uint64, w), make([]uint64, w)
+	g.initNarrow()
 	return nil
 }
+
+// narrowMaxBytes bounds the memory of the letter bit sets of the narrowed
+// walk; past it Greedy walks the whole list instead.
+const narrowMaxBytes = 1 << 28
+
+// initNarrow builds the letter bit sets of the narrowed walk: for every
+// qubit in some term's support (a slot), the ranks whose letter there has
+// an x bit, and those whose letter has a z bit, each ⌈M/64⌉ words long, so
+// that restrict streams through one qubit at a time.
+func (g *Greedy) initNarrow() {
+	rk := g.rk
+	m, words := len(rk.order), (len(rk.order)+63)/64
+	g.slot = make([]int32, rk.n)
+	g.ns = 0
+	for q := range rk.n {
+		g.slot[q] = -1
+		if rk.used[q>>6]>>(q&63)&1 != 0 {
+			g.slot[q] = int32(g.ns)
+			g.ns++
+		}
+	}
+	g.limit = -1
+	if 16*g.ns*words > narrowMaxBytes {
+		g.lbits = nil
+		return
+	}
+	// A walk narrows after reading about as many entries as the words
+	// that computing alive reads for all qubits (an entry costs some ten
+	// times a word operation); narrowing earlier would rarely pay.
+	g.limit = max(narrowMinRead, m/narrowShare)
+	if g.narrowAt > 0 {
+		g.limit = g.narrowAt - 1
+	}
+	ns := g.ns
+	g.lbits = make([]uint64, 2*ns*words)
+	for r := range m {
+		x, z := rk.row(r)
+		bit := uint64(1) << (r & 63)
+		for q := range supportOf(x, z) {
+			o := 2*int(g.slot[q])*words + r>>6
+			if x[q>>6]>>(q&63)&1 != 0 {
+				g.lbits[o] |= bit
+			}
+			if z[q>>6]>>(q&63)&1 != 0 {
+				g.lbits[o+words] |= bit
+			}
+		}
+	}
+	// kills: X rules out the ranks with a z bit on the qubit, Z those with
+	// an x bit, Y those with exactly one.
+	g.kills = make([]int32, 3*ns)
+	for s := range ns {
+		for k := range words {
+			x, z := g.lbits[2*s*words+k], g.lbits[(2*s+1)*words+k]
+			g.kills[3*s] += int32(bits.OnesCount64(z))
+			g.kills[3*s+1] += int32(bits.OnesCount64(x))
+			g.kills[3*s+2] += int32(bits.OnesCount64(x ^ z))
+		}
+	}
+	g.alive = make([]uint64, words)
+	g.none = make([]uint64, words)
+	g.live = make([]int32, 0, words)
+	g.seen = make([]uint64, rk.w)
+}
+
+// The walk narrows after reading max(narrowMinRead, M/narrowShare) entries.
+const (
+	narrowMinRead = 4096
+	narrowShare   = 16
+)
 
 // Next implements [Stepper].
 func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
@@ -147,7 +256,8 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 	for k := range w {
 		g.px[k], g.pz[k], g.fixed[k] = 0, 0, rk.all[k]&^rk.used[k]
 	}
-	g.walk()
+	g.read = 0
+	narrowed := g.walk()
 	// The stale entries the walk met go to their places.
 	for _, e := range g.met {
 		g.move(e.r, e.key)
@@ -159,7 +269,15 @@ func (g *Greedy) Next(dst []pauli.Letter) (int, error) {
 		g.pz[k] |= free & g.fz
 	}
 	writeLetters(dst, g.px, g.pz)
-	g.hit = g.index.AppendCovered(g.hit[:0], g.px, g.pz)
+	if narrowed {
+		// alive holds the terms that agree with the letters of the
+		// narrowing; the other letters leave the covered ones.
+		copy(g.fixed, rk.all)
+		g.restrict()
+		g.hit = g.appendAlive(g.hit[:0])
+	} else {
+		g.hit = g.index.AppendCovered(g.hit[:0], g.px, g.pz)
+	}
 	for _, r := range g.hit {
 		g.bump(r)
 		g.stale[r>>6] |= 1 << (r & 63)
@@ -210,14 +328,15 @@ func newBlock(w int) *block {
 // heap merged with the blocks, and Next moves it to its place afterwards.
 // Since a stale key is never below the true one, the order of the walk is
 // exact.
-func (g *Greedy) walk() {
+func (g *Greedy) walk() (narrowed bool) {
 	g.met, g.front = g.met[:0], g.front[:0]
 	if g.allFixed() {
-		return
+		return false
 	}
 	w := g.rk.w
 	nb := len(g.blocks)
-	g.tail = append(g.tail[:0], make([]uint64, (nb+1)*w)...)
+	g.tail = slices.Grow(g.tail[:0], (nb+1)*w)[:(nb+1)*w]
+	clear(g.tail[nb*w:])
 	for b := nb - 1; b >= 0; b-- {
 		for k := range w {
 			g.tail[b*w+k] = g.tail[(b+1)*w+k] | g.blocks[b].sup[k]
@@ -231,17 +350,187 @@ func (g *Greedy) walk() {
 			// None of its entries, stale or not, can fix a free qubit.
 			continue
 		}
+		if g.limit >= 0 && g.read >= g.limit {
+			g.narrow()
+			return true
+		}
+		g.read += len(b.r)
 		if g.scan(b) {
-			return
+			return false
 		}
 	}
 	// No later block touches a free qubit; deferred entries still may.
 	for len(g.front) > 0 {
 		e := g.popFront()
 		if g.accept(g.rk.row(int(e.r))) {
+			return false
+		}
+	}
+	return false
+}
+
+// narrow finishes a long walk from the terms it can still accept. Every
+// term the walk has passed was accepted (its qubits are fixed), disagreed
+// with the letters fixed then (it still does) or touched no free qubit (it
+// still touches none), so the next term the walk accepts is the first, in
+// walk order, of the terms that agree with the letters fixed so far and
+// touch a free qubit: the candidates. narrow finds those that agree through
+// the letter bit sets (alive; about n⌈M/64⌉ word operations), then
+// repeatedly accepts the first candidate by true weight and rank and drops
+// the candidates that no longer agree or touch a free qubit. The setting is
+// the one the walk would give; the work after the bit sets is linear in the
+// candidates per accepted term.
+func (g *Greedy) narrow() {
+	m := len(g.rk.order)
+	for k := range g.alive {
+		g.alive[k] = ^uint64(0)
+	}
+	if m%64 != 0 {
+		g.alive[len(g.alive)-1] = 1<<(m%64) - 1
+	}
+	g.live = g.live[:0]
+	for k := range g.alive {
+		g.live = append(g.live, int32(k))
+	}
+	clear(g.seen)
+	g.restrict()
+	cand := g.cand[:0]
+	for _, k := range g.live {
+		a := g.alive[k]
+		for a != 0 {
+			r := int32(k)<<6 + int32(bits.TrailingZeros64(a))
+			a &= a - 1
+			if g.grows(g.rk.row(int(r))) {
+				cand = append(cand, entry{key: g.st[r].cur, r: r})
+			}
+		}
+	}
+	for len(cand) > 0 {
+		best := 0
+		for i := 1; i < len(cand); i++ {
+			if before(cand[i].key, cand[i].r, cand[best].key, cand[best].r) {
+				best = i
+			}
+		}
+		if g.accept(g.rk.row(int(cand[best].r))) {
+			break
+		}
+		k := 0
+		for _, e := range cand {
+			if g.agrees(g.rk.row(int(e.r))) {
+				cand[k] = e
+				k++
+			}
+		}
+		cand = cand[:k]
+	}
+	g.cand = cand[:0]
+}
+
+// agrees reports whether the string with words x, z agrees with the letters
+// fixed so far and touches a free qubit.
+func (g *Greedy) agrees(x, z []uint64) bool {
+	grow := false
+	for k := range x {
+		s, f := x[k]|z[k], g.fixed[k]
+		if ((x[k]^g.px[k])|(z[k]^g.pz[k]))&s&f != 0 {
+			return false
+		}
+		grow = grow || s&^f != 0
+	}
+	return grow
+}
+
+// grows reports whether the string with words x, z touches a free qubit.
+func (g *Greedy) grows(x, z []uint64) bool {
+	for k, f := range g.fixed {
+		if (x[k]|z[k])&^f != 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// restrict clears from alive the ranks that disagree with the letter of a
+// fixed qubit not applied before, and marks those qubits applied. A rank
+// disagrees on qubit q when it has an x bit there and the letter has none,
+// or the same for z: for X it is the ranks with a z bit, for Z those with an
+// x bit, for Y those with exactly one.
+func (g *Greedy) restrict() {
+	fix := g.fix[:0]
+	for k, f := range g.fixed {
+		add := f &^ g.seen[k]
+		g.seen[k] = f
+		for add != 0 {
+			q := k<<6 + bits.TrailingZeros64(add)
+			add &= add - 1
+			if s := g.slot[q]; s >= 0 {
+				b := -(g.px[k] >> (q & 63) & 1)
+				c := -(g.pz[k] >> (q & 63) & 1)
+				fix = append(fix, fixOp{s: int(s), lx: b, lz: c, kills: g.kills[3*int(s)+int(b&1|c&2)-1]})
+			}
+		}
+	}
+	g.fix = fix
+	if len(fix) == 0 {
+		return
+	}
+	// The letters that rule out the most ranks first, so that the later
+	// ones read fewer words.
+	slices.SortFunc(fix, func(a, b fixOp) int { return cmp.Compare(b.kills, a.kills) })
+	// The ranks a letter rules out on a qubit are a ^ b for two bit sets:
+	// for X the z bits and none, for Z the x bits and none, for Y the x and
+	// the z bits. So X and Z read one set of the qubit, not two (none is one
+	// shared all-zero set). Four letters per pass over the live words; a
+	// last pass with fewer is padded with none.
+	words := len(g.alive)
+	alive := g.alive
+	for len(fix) > 0 {
+		var as, bs [4][]uint64
+		for i := range 4 {
+			as[i], bs[i] = g.none, g.none
+			if i >= len(fix) {
+				continue
+			}
+			f := fix[i]
+			xs := g.lbits[2*f.s*words : (2*f.s+1)*words]
+			zs := g.lbits[(2*f.s+1)*words : (2*f.s+2)*words]
+			switch {
+			case f.lx != 0 && f.lz != 0:
+				as[i], bs[i] = xs, zs
+			case f.lx != 0:
+				as[i] = zs
+			default:
+				as[i] = xs
+			}
+		}
+		fix = fix[min(4, len(fix)):]
+		live := g.live[:0]
+		for _, k := range g.live {
+			a := alive[k] &^ ((as[0][k] ^ bs[0][k]) | (as[1][k] ^ bs[1][k]) |
+				(as[2][k] ^ bs[2][k]) | (as[3][k] ^ bs[3][k]))
+			alive[k] = a
+			if a != 0 {
+				live = append(live, k)
+			}
+		}
+		g.live = live
+		if len(live) == 0 {
 			return
 		}
 	}
+}
+
+// appendAlive appends the ranks in alive to dst.
+func (g *Greedy) appendAlive(dst []int32) []int32 {
+	for _, k := range g.live {
+		a := g.alive[k]
+		for a != 0 {
+			dst = append(dst, int32(k)<<6+int32(bits.TrailingZeros64(a)))
+			a &= a - 1
+		}
+	}
+	return dst
 }
 
 // scan walks the entries of block b, merged with the deferred ones before

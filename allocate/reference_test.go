@@ -399,3 +399,40 @@ func TestSortedHugeCoefficients(t *testing.T) {
 		}
 	}
 }
+
+// TestNarrowedGreedyMatchesReference forces Greedy to finish its walks from
+// the terms they can still accept after reading a few entries (normally it
+// does so only after thousands), and compares the plans setting by setting
+// with the reference that re-sorts every round (MATH §5.1 as written), on
+// the reference cases (including registers of several words) and on
+// molecules.
+func TestNarrowedGreedyMatchesReference(t *testing.T) {
+	type hcase struct {
+		name string
+		h    *hamiltonian.Hamiltonian
+	}
+	var cases []hcase
+	for _, c := range referenceCases(t) {
+		cases = append(cases, hcase{c.Name, c.H})
+	}
+	for _, c := range checkCases(t) {
+		cases = append(cases, hcase(c))
+	}
+	for _, c := range cases {
+		for _, read := range []int{0, 100} {
+			t.Run(fmt.Sprintf("%s/read=%d", c.name, read), func(t *testing.T) {
+				const budget = 60
+				p, err := allocate.Run(c.h, budget, allocate.NarrowedGreedy(read), nil)
+				if err != nil {
+					t.Fatal(err)
+				}
+				got, want := planStrings(p), greedyReference(c.h, budget)
+				for k := range want {
+					if got[k] != want[k] {
+						t.Fatalf("setting %d = %s, want %s (reference re-sorting every round)", k, got[k], want[k])
+					}
+				}
+			})
+		}
+	}
+}

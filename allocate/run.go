@@ -330,23 +330,29 @@ func settingOf(letters []pauli.Letter) (pauli.Setting, error) {
 func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []int) {
 	distinct, total := pauli.MergeSettings(settings, shots)
 	if len(distinct) < 16 {
-		var idx []int
-		for j, s := range distinct {
-			idx = t.Covered(idx[:0], s)
-			for _, i := range idx {
-				cover[i] += total[j]
+		splitCounts(cover, len(distinct), t.Len(), func() func(int, []int) {
+			var idx []int
+			return func(j int, dst []int) {
+				idx = t.Covered(idx[:0], distinct[j])
+				for _, i := range idx {
+					dst[i] += total[j]
+				}
 			}
-		}
+		})
 		return
 	}
 	// Many settings: bucket the terms once so that each setting reads only
-	// the buckets it can cover.
+	// the buckets it can cover. The settings are split among cores
+	// (splitCounts), each with its own copy of the index's scratch.
 	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
-	var idx []int32
-	var rows []int
-	for j, s := range distinct {
-		idx, rows = addCover(cover, t, ci, s, total[j], idx, rows)
-	}
+	splitCounts(cover, len(distinct), t.Len(), func() func(int, []int) {
+		c := ci.Clone()
+		var idx []int32
+		var rows []int
+		return func(j int, dst []int) {
+			idx, rows = addCover(dst, t, c, distinct[j], total[j], idx, rows)
+		}
+	})
 }
 
 // addCover adds n to cover[i] for every row i of t that setting s covers,
