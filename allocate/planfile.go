@@ -73,6 +73,10 @@ type PlanFile struct {
 	Plan *Plan
 	// Seed is the seed the strategy was given (0 when none was recorded).
 	Seed uint64
+	// Draw is the seed plan of a file in that layout ([WriteSeedPlan]),
+	// nil for the others; Plan is then its expansion, whose Cover is nil
+	// until [PlanFile.Check] counts it.
+	Draw *SeedPlan
 
 	name       string
 	qubitsLine int
@@ -258,6 +262,9 @@ func readPlanFrom(r io.Reader, name string) (*PlanFile, error) {
 	}
 	if isCompact(br) {
 		return readCompact(br, name)
+	}
+	if isSeedPlan(br) {
+		return readSeedPlanFile(br, name)
 	}
 	data, err := inputcap.ReadAll(br, MaxPlanBytes)
 	if err != nil {
@@ -572,8 +579,14 @@ func (pr *planReader) checkCounts(f *PlanFile, p *Plan, raw *rawPlan, sum int) e
 // on h's terms (so the plan was made for h, or for a Hamiltonian with the
 // same strings). For a plan with drawn terms it also checks that every shot's
 // setting covers the term drawn for it. A problem is a *[PlanFileError]
-// wrapping [ErrPlanMismatch], naming the line of the plan file.
+// wrapping [ErrPlanMismatch], naming the line of the plan file. For a seed
+// plan ([PlanFile].Draw) it compares the width, the term count and the
+// fingerprint of the terms (and importance sampling's weights with |h_i|),
+// then counts the cover counts into Plan.Cover.
 func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
+	if f.Draw != nil {
+		return f.checkSeed(h)
+	}
 	p := f.Plan
 	fail := func(line int, entry, format string, args ...any) error {
 		return &PlanFileError{File: f.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}
