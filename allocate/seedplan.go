@@ -201,9 +201,8 @@ func (sp *SeedPlan) PlanBytes() int64 {
 // [SeedPlan.PlanBytes] exceeds [MaxExpandBytes]: stream such a plan with
 // [SeedPlan.Stream].
 func (sp *SeedPlan) Plan(h *hamiltonian.Hamiltonian) (*Plan, error) {
-	if b := sp.PlanBytes(); b > MaxExpandBytes {
-		return nil, fmt.Errorf("%w: %d shots of %d qubits (%s) take about %s expanded, above the limit of %s (MaxExpandBytes); stream the plan instead",
-			ErrPlanTooLarge, sp.Shots, sp.Qubits, sp.Strategy, byteSize(b), byteSize(MaxExpandBytes))
+	if sp.PlanBytes() > MaxExpandBytes {
+		return nil, fmt.Errorf("%w: %s; stream it with SeedPlan.Stream", ErrPlanTooLarge, sp.tooLarge())
 	}
 	if h != nil && h.Qubits() != sp.Qubits {
 		return nil, fmt.Errorf("allocate: the seed plan is for %d qubits, the Hamiltonian has %d", sp.Qubits, h.Qubits())
@@ -227,6 +226,12 @@ func (sp *SeedPlan) Plan(h *hamiltonian.Hamiltonian) (*Plan, error) {
 		}
 	}
 	return p, nil
+}
+
+// tooLarge says how large the expanded plan would be.
+func (sp *SeedPlan) tooLarge() string {
+	return fmt.Sprintf("%d shots of %d qubits (%s) take about %s expanded, above the limit of %s (MaxExpandBytes)",
+		sp.Shots, sp.Qubits, sp.Strategy, byteSize(sp.PlanBytes()), byteSize(MaxExpandBytes))
 }
 
 // byteSize writes a byte count for a message: "3.2 GB".
@@ -450,7 +455,7 @@ func (st *SeedStream) Drawn() []int {
 // WriteSeedPlan writes sp as a seed plan file: one JSON object a line, the
 // header first,
 //
-//	{"format": "shotplan plan", "version": 3, "qubits": 4, "strategy": "biased", "seed": 7, "shots": 100000000, "generator": "pcg-dxsm/shotplan-1", "terms": 9, "hamiltonian": "fnv1a64:9d0c3b5a1e2f4c6d"}
+//	{"format": "shotplan plan", "version": 3, "qubits": 4, "strategy": "biased", "seed": 7, "shots": 100000000, "generator": "pcg-dxsm/shotplan-1", "terms": 9, "fingerprint": "fnv1a64:9d0c3b5a1e2f4c6d"}
 //
 // then, for "biased", one line per qubit in order with its probabilities
 // of X, Y and Z,
@@ -464,7 +469,7 @@ func (st *SeedStream) Drawn() []int {
 //
 // and nothing more for "random". The numbers are written in the shortest
 // form that reads back to the same float64, so the shots regenerate bit
-// for bit. "hamiltonian" is the fingerprint of the terms' strings (see
+// for bit. "fingerprint" is the fingerprint of the terms' strings (see
 // [SeedPlan]) in 16 hexadecimal digits. A 10^8-shot plan of random or
 // biased bases takes a few hundred bytes plus a line per qubit; one of
 // importance sampling a line per term.
@@ -475,7 +480,7 @@ func WriteSeedPlan(w io.Writer, sp *SeedPlan) error {
 	bw := bufio.NewWriterSize(w, 64<<10)
 	name, _ := json.Marshal(sp.Strategy)
 	gen, _ := json.Marshal(sp.Generator)
-	fmt.Fprintf(bw, "{\"format\": %q, \"version\": %d, \"qubits\": %d, \"strategy\": %s, \"seed\": %d, \"shots\": %d, \"generator\": %s, \"terms\": %d, \"hamiltonian\": \"fnv1a64:%016x\"",
+	fmt.Fprintf(bw, "{\"format\": %q, \"version\": %d, \"qubits\": %d, \"strategy\": %s, \"seed\": %d, \"shots\": %d, \"generator\": %s, \"terms\": %d, \"fingerprint\": \"fnv1a64:%016x\"",
 		PlanFormat, SeedPlanVersion, sp.Qubits, name, sp.Seed, sp.Shots, gen, sp.Terms, sp.Fingerprint)
 	if sp.Strategy == "importance" {
 		fmt.Fprintf(bw, ", \"fill\": %q", sp.Fill.String())
@@ -573,7 +578,7 @@ func readSeedPlan(br *bufio.Reader, name string) (*SeedPlan, error) {
 		"shots":       intField(&shots, &haveS),
 		"generator":   str(&generator, nil),
 		"terms":       intField(&terms, &haveT),
-		"hamiltonian": str(&fingerprint, nil),
+		"fingerprint": str(&fingerprint, nil),
 		"fill":        str(&fill, &haveFill),
 	})
 	if err != nil {
@@ -591,7 +596,7 @@ func readSeedPlan(br *bufio.Reader, name string) (*SeedPlan, error) {
 	case generator != SeedGenerator:
 		return nil, cr.fail(1, "generator", "generator %s, this reader knows %q", inputcap.Quote(generator), SeedGenerator)
 	case !haveQ || !haveS || !haveT || !haveSeed || fingerprint == "":
-		return nil, cr.fail(1, "", "the header needs the keys \"qubits\", \"seed\", \"shots\", \"terms\" and \"hamiltonian\"")
+		return nil, cr.fail(1, "", "the header needs the keys \"qubits\", \"seed\", \"shots\", \"terms\" and \"fingerprint\"")
 	case qubits < 1 || qubits >= hamiltonian.MaxReadQubits:
 		return nil, cr.fail(1, "qubits", "qubit count %d out of range [1, %d)", qubits, hamiltonian.MaxReadQubits)
 	case shots < 1 || shots > MaxShots:
@@ -606,7 +611,7 @@ func readSeedPlan(br *bufio.Reader, name string) (*SeedPlan, error) {
 	hexFP, ok := bytes.CutPrefix([]byte(fingerprint), []byte("fnv1a64:"))
 	fp, perr := strconv.ParseUint(string(hexFP), 16, 64)
 	if !ok || len(hexFP) != 16 || perr != nil {
-		return nil, cr.fail(1, "hamiltonian", "fingerprint %s, want \"fnv1a64:\" and 16 hexadecimal digits", inputcap.Quote(fingerprint))
+		return nil, cr.fail(1, "fingerprint", "fingerprint %s, want \"fnv1a64:\" and 16 hexadecimal digits", inputcap.Quote(fingerprint))
 	}
 	sp.Fingerprint = fp
 	if haveFill {
@@ -663,7 +668,7 @@ func readSeedPlan(br *bufio.Reader, name string) (*SeedPlan, error) {
 			return nil, cr.fail(cr.line, "terms", "the weights add up to %v, want a positive finite total", total)
 		}
 		if got := stringsFingerprint(qubits, sp.TermStrings); got != fp {
-			return nil, cr.fail(1, "hamiltonian", "fingerprint fnv1a64:%016x, but the listed terms have fnv1a64:%016x", fp, got)
+			return nil, cr.fail(1, "fingerprint", "fingerprint fnv1a64:%016x, but the listed terms have fnv1a64:%016x", fp, got)
 		}
 	}
 	return sp, nil
@@ -756,32 +761,49 @@ func (cr *compactReader) termLine(text []byte, sp *SeedPlan, total *float64) err
 	return nil
 }
 
-// checkSeed is [PlanFile.Check] for a seed plan: the Hamiltonian must have
-// the plan's width, term count and term strings, and for importance
-// sampling weights |h_i| equal to the file's (the draw depends on them).
-func (f *PlanFile) checkSeed(h *hamiltonian.Hamiltonian) error {
-	sp := f.Draw
+// Check reports whether the seed plan fits h: the same width, term count
+// and fingerprint of the terms' strings, and for importance sampling
+// weights equal to |h_i| (the draw depends on them). A problem is a
+// *[PlanFileError] wrapping [ErrPlanMismatch] that names the line of the
+// seed plan file.
+func (sp *SeedPlan) Check(h *hamiltonian.Hamiltonian) error {
+	return sp.check(h, "")
+}
+
+func (sp *SeedPlan) check(h *hamiltonian.Hamiltonian, name string) error {
 	fail := func(line int, entry, format string, args ...any) error {
-		return &PlanFileError{File: f.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}
+		return &PlanFileError{File: name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}
 	}
 	switch {
+	case h == nil:
+		return fail(0, "", "no Hamiltonian to check the plan against")
 	case sp.Qubits != h.Qubits():
 		return fail(1, "qubits", "the plan is for %d qubits, the Hamiltonian has %d", sp.Qubits, h.Qubits())
 	case sp.Terms != h.Len():
 		return fail(1, "terms", "the plan was made for %d terms, the Hamiltonian has %d", sp.Terms, h.Len())
 	}
 	if fp := termsFingerprint(h.Table()); fp != sp.Fingerprint {
-		return fail(1, "hamiltonian", "the plan was made for terms with fingerprint fnv1a64:%016x, the Hamiltonian's are fnv1a64:%016x (a plan for another Hamiltonian?)", sp.Fingerprint, fp)
+		return fail(1, "fingerprint", "the plan was made for terms with fingerprint fnv1a64:%016x, the Hamiltonian's are fnv1a64:%016x (a plan for another Hamiltonian?)", sp.Fingerprint, fp)
 	}
 	for i, w := range sp.Weights {
 		if math.Abs(h.Coeff(i)) != w {
-			return fail(1+1+i, fmt.Sprintf("terms[%d]", i), "weight %v, but the Hamiltonian's term %d (%s) has |h_i| = %v (importance sampling draws by |h_i|)", w, i, h.Pauli(i), math.Abs(h.Coeff(i)))
+			// The header is line 1, term i's line is 2 + i.
+			return fail(2+i, fmt.Sprintf("terms[%d]", i), "weight %v, but the Hamiltonian's term %d (%s) has |h_i| = %v (importance sampling draws by |h_i|)", w, i, h.Pauli(i), math.Abs(h.Coeff(i)))
 		}
+	}
+	return nil
+}
+
+// checkSeed is [PlanFile.Check] for a seed plan: [SeedPlan.Check], then
+// the cover counts of the expanded plan.
+func (f *PlanFile) checkSeed(h *hamiltonian.Hamiltonian) error {
+	if err := f.Draw.check(h, f.name); err != nil {
+		return err
 	}
 	if f.Plan != nil && f.Plan.Cover == nil {
 		cover, err := CoverCounts(h, f.Plan.Settings, f.Plan.Shots)
 		if err != nil {
-			return fail(0, "", "%v", err)
+			return &PlanFileError{File: f.name, Reason: err.Error(), Err: ErrPlanMismatch}
 		}
 		f.Plan.Cover = cover
 	}
@@ -809,12 +831,15 @@ func readSeedPlanFile(br *bufio.Reader, name string) (*PlanFile, error) {
 	if err != nil {
 		return nil, err
 	}
+	if sp.PlanBytes() > MaxExpandBytes {
+		if name == "" {
+			name = "the input"
+		}
+		return nil, fmt.Errorf("%w: %s, a seed plan: %s; read it with ReadSeedPlan and stream it", ErrPlanTooLarge, name, sp.tooLarge())
+	}
 	p, err := sp.Plan(nil)
 	if err != nil {
-		if name != "" {
-			return nil, fmt.Errorf("%w (%s; ReadSeedPlan streams it)", err, name)
-		}
-		return nil, fmt.Errorf("%w (ReadSeedPlan streams it)", err)
+		return nil, err
 	}
 	return &PlanFile{Plan: p, Seed: sp.Seed, Draw: sp, name: name, qubitsLine: 1}, nil
 }

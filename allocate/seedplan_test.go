@@ -288,7 +288,7 @@ func TestSeedPlanCheck(t *testing.T) {
 }
 
 // goodSeed is a valid biased seed plan of 2 qubits, on one line each.
-const goodSeedHeader = `{"format": "shotplan plan", "version": 3, "qubits": 2, "strategy": "biased", "seed": 1, "shots": 10, "generator": "pcg-dxsm/shotplan-1", "terms": 3, "hamiltonian": "fnv1a64:0000000000000000"}`
+const goodSeedHeader = `{"format": "shotplan plan", "version": 3, "qubits": 2, "strategy": "biased", "seed": 1, "shots": 10, "generator": "pcg-dxsm/shotplan-1", "terms": 3, "fingerprint": "fnv1a64:0000000000000000"}`
 
 // TestReadSeedPlanHostile: malformed seed plans are errors that name the
 // line and the entry, never a panic.
@@ -302,7 +302,7 @@ func TestReadSeedPlanHostile(t *testing.T) {
 		{"shots huge", hdr(`"shots": 10`, `"shots": 99999999999999999999`) + probs, "line 1:"},
 		{"qubits", hdr(`"qubits": 2`, `"qubits": -1`) + probs, "line 1: qubits:"},
 		{"strategy", hdr(`"biased"`, `"greedy"`) + probs, "line 1: strategy:"},
-		{"fingerprint", hdr("0000000000000000", "xyz") + probs, "line 1: hamiltonian:"},
+		{"fingerprint", hdr("0000000000000000", "xyz") + probs, "line 1: fingerprint:"},
 		{"unknown key", hdr(`"seed": 1`, `"seed": 1, "extra": 2`) + probs, "line 1: unknown key"},
 		{"repeated key", hdr(`"seed": 1`, `"seed": 1, "seed": 2`) + probs, "line 1: key \"seed\" repeated"},
 		{"sum", goodSeedHeader + "\n{\"qubit\": 0, \"probs\": [0.5, 0.6, 0]}\n", "line 2: probs[0]:"},

@@ -1,10 +1,12 @@
 package main
 
 import (
+	"errors"
 	"flag"
 	"fmt"
 	"strings"
 
+	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/guarantee"
 )
 
@@ -21,6 +23,15 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		h, f, err := loadHamPlan(*ham, *plan)
+		if errors.Is(err, allocate.ErrPlanTooLarge) {
+			// A seed plan too large to expand: certify it from its
+			// distribution.
+			h, sp, err := loadHamSeed(*ham, *plan)
+			if err != nil {
+				return err
+			}
+			return e.certifySeed(h, sp, *ham, *plan, *delta)
+		}
 		if err != nil {
 			return err
 		}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -30,6 +31,12 @@ func loadPlan(path string) (*allocate.PlanFile, error) {
 		return nil, err
 	}
 	f, err := allocate.ReadPlanFile(path)
+	if errors.Is(err, allocate.ErrPlanTooLarge) {
+		if sp, err2 := allocate.ReadSeedPlanFile(path); err2 == nil {
+			return nil, badf("%s: %w: a seed plan of %d shots on %d qubits takes about %s once its shots are regenerated, above the %s this command takes; certify takes it (from its distribution), the other commands need a plan of fewer shots",
+				path, allocate.ErrPlanTooLarge, sp.Shots, sp.Qubits, formatBytes(float64(sp.PlanBytes())), formatBytes(allocate.MaxExpandBytes))
+		}
+	}
 	return f, bad(err)
 }
 

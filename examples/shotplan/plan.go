@@ -51,6 +51,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	delta := fs.Float64("delta", 0.05, "with -cost-budget: the failure probability of the certified bound it minimises; with -observables: of all the certificates together")
 	observables := fs.String("observables", "", "with an FCIDUMP -ham: plan for the energy and these observables (N, Sz, S2, comma-separated) together, each certified to its -targets; -shots is then the largest budget tried")
 	targets := fs.String("targets", "", "with -observables: the accuracy of each observable, the energy's first, comma-separated (such as 0.0016,0.05,0.05,0.1)")
+	bySeed := fs.Bool("by-seed", false, "with -strategy random, biased or importance: write a seed plan, the strategy's distribution and -seed from which every shot is regenerated when read, a few lines whatever -shots (-o not ending in .json)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -81,6 +82,15 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
+		}
+		if *bySeed {
+			switch {
+			case *costBudget != 0 || *observables != "" || *targets != "":
+				return badf("-by-seed cannot be combined with -cost-budget, -observables or -targets")
+			case isJSON(*out):
+				return badf("-o %s: -by-seed writes a seed plan, one JSON object a line; choose a name not ending in .json (such as plan.jsonl)", *out)
+			}
+			return e.planBySeed(h, *ham, a, *shots, *out)
 		}
 		limit := *shotLimit
 		if limit <= 0 {

@@ -1,0 +1,72 @@
+package main
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/internal/scenario"
+)
+
+// TestSeedPlanWorkflow: plan -by-seed writes a seed plan of a few lines
+// whatever -shots; a small one goes through certify, simulate and
+// estimate like any plan (the same certificate as the compact plan of the
+// same strategy and seed, since both are the same plan), and a 10^8-shot
+// one is certified from its distribution with Hoeffding's radius
+// width·sqrt(ln(2/δ)/(2N)) (MATH.md §4.1; the formula is recomputed here
+// from the reported width).
+func TestSeedPlanWorkflow(t *testing.T) {
+	dir := t.TempDir()
+	ham := filepath.Join(dir, "h.txt")
+	if err := os.WriteFile(ham, []byte(scenario.Text()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	seedPlan := filepath.Join(dir, "seed.jsonl")
+	compact := filepath.Join(dir, "compact.jsonl")
+	ok(t, "plan", "-ham", ham, "-strategy", "biased", "-shots", "3000", "-seed", "9", "-by-seed", "-o", seedPlan)
+	ok(t, "plan", "-ham", ham, "-strategy", "biased", "-shots", "3000", "-seed", "9", "-o", compact)
+	var a, b struct {
+		Bound float64 `json:"certified_bound"`
+		Shots int     `json:"shots"`
+	}
+	okJSON(t, &a, "certify", "-ham", ham, "-plan", seedPlan)
+	okJSON(t, &b, "certify", "-ham", ham, "-plan", compact)
+	if a.Shots != 3000 || a.Bound != b.Bound {
+		t.Errorf("certify: seed plan %+v, compact plan of the same draw %+v; want the same bound", a, b)
+	}
+	rec := filepath.Join(dir, "rec.csv")
+	ok(t, "simulate", "-ham", ham, "-plan", seedPlan, "-o", rec)
+	var est struct {
+		Energy float64 `json:"energy"`
+		Shots  int     `json:"shots"`
+	}
+	okJSON(t, &est, "estimate", "-ham", ham, "-plan", seedPlan, "-records", rec)
+	if est.Shots != 3000 || math.IsNaN(est.Energy) {
+		t.Errorf("estimate of the seed plan's records: %+v", est)
+	}
+
+	big := filepath.Join(dir, "big.jsonl")
+	ok(t, "plan", "-ham", ham, "-strategy", "random", "-shots", "100000000", "-by-seed", "-o", big)
+	if fi, err := os.Stat(big); err != nil || fi.Size() > 1024 {
+		t.Fatalf("10^8-shot seed plan: %v, %d bytes", err, fi.Size())
+	}
+	var c struct {
+		Bound  float64 `json:"certified_bound"`
+		Radius float64 `json:"radius"`
+		Width  float64 `json:"width"`
+		Shots  int     `json:"shots"`
+		From   string  `json:"certified_from"`
+	}
+	okJSON(t, &c, "certify", "-ham", ham, "-plan", big, "-delta", "0.01")
+	want := c.Width * math.Sqrt(math.Log(2/0.01)/(2*1e8))
+	if c.Shots != 1e8 || c.From != "distribution" || math.Abs(c.Radius-want) > 1e-12*want || c.Bound != c.Radius {
+		t.Errorf("certify of a 10^8-shot seed plan: %+v, want radius %v", c, want)
+	}
+	code, _, errOut := sp(t, "simulate", "-ham", ham, "-plan", big, "-o", rec)
+	if code != 2 || !strings.Contains(errOut, "GiB") || !strings.Contains(errOut, allocate.ErrPlanTooLarge.Error()[len("allocate: "):]) {
+		t.Errorf("simulate of a 10^8-shot seed plan: exit %d, %q", code, errOut)
+	}
+}
