@@ -228,6 +228,77 @@ func (sp *SeedPlan) Plan(h *hamiltonian.Hamiltonian) (*Plan, error) {
 	return p, nil
 }
 
+// distinctBytes estimates the memory of one distinct setting in
+// [SeedPlan.Distinct]: the setting, its words, its total, its key and the
+// map entry that finds it.
+func (sp *SeedPlan) distinctBytes() int64 {
+	return int64(unsafe.Sizeof(pauli.Setting{})) + 2*8*int64(pauli.Words(sp.Qubits)) + 8 + int64(sp.Qubits) + 64
+}
+
+// Distinct streams the plan and returns each distinct setting once, in
+// order of first use, with its total number of shots: what [Plan.Distinct]
+// returns for the expanded plan, in memory proportional to the distinct
+// settings rather than to the shots (a 10^8-shot plan of random bases on
+// 12 qubits has at most 3^12 = 531441). The drawn terms of importance
+// sampling, one per shot, are not kept; [SeedPlan.Stream] gives them. It
+// returns an error wrapping [ErrPlanTooLarge] as soon as the distinct
+// settings would take more than [MaxExpandBytes], and the cost is that of
+// drawing every shot.
+func (sp *SeedPlan) Distinct() (settings []pauli.Setting, shots []int, err error) {
+	st, err := sp.Stream()
+	if err != nil {
+		return nil, nil, err
+	}
+	limit := int(MaxExpandBytes / sp.distinctBytes())
+	// Up to denseQubits qubits a setting's base-3 code indexes a table
+	// (3^13 entries, 6 MB); above, a map keyed by the letters finds it.
+	const denseQubits = 13
+	var dense []int32 // 1 + the setting's index, 0 if not seen yet
+	if sp.Qubits <= denseQubits {
+		size := 1
+		for range sp.Qubits {
+			size *= 3
+		}
+		dense = make([]int32, size)
+	}
+	index := make(map[string]int)
+	key := make([]byte, sp.Qubits)
+	seen := 0
+	for st.Next() {
+		j, code := -1, 0
+		if dense != nil {
+			for q := sp.Qubits - 1; q >= 0; q-- {
+				code = 3*code + int(st.cur[q]) - 1
+			}
+			j = int(dense[code]) - 1
+		} else {
+			for q, l := range st.cur {
+				key[q] = byte(l)
+			}
+			if k, ok := index[string(key)]; ok {
+				j = k
+			}
+		}
+		if j < 0 {
+			if len(settings) == limit {
+				return nil, nil, fmt.Errorf("%w: more than %d distinct settings of %d qubits (%s) after %d of the plan's %d shots, above the limit of %s (MaxExpandBytes)",
+					ErrPlanTooLarge, limit, sp.Qubits, sp.Strategy, seen, sp.Shots, byteSize(MaxExpandBytes))
+			}
+			j = len(settings)
+			if dense != nil {
+				dense[code] = int32(j + 1)
+			} else {
+				index[string(key)] = j
+			}
+			settings = append(settings, st.Setting())
+			shots = append(shots, 0)
+		}
+		shots[j] += st.shots
+		seen += st.shots
+	}
+	return settings, shots, nil
+}
+
 // tooLarge says how large the expanded plan would be.
 func (sp *SeedPlan) tooLarge() string {
 	return fmt.Sprintf("%d shots of %d qubits (%s) take about %s expanded, above the limit of %s (MaxExpandBytes)",

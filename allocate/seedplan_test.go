@@ -433,3 +433,40 @@ func FuzzReadSeedPlan(f *testing.F) {
 		}
 	})
 }
+
+// TestSeedPlanDistinct: Distinct gives what Plan.Distinct gives for the
+// plan Run makes, without the shots in memory, on 4 qubits (where a table
+// indexed by the setting finds it) and on 16 (where a map does).
+func TestSeedPlanDistinct(t *testing.T) {
+	wide, err := hamiltonian.RandomLocal(16, 40, 3, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, h := range []*hamiltonian.Hamiltonian{planFileHam(t), wide} {
+		testSeedPlanDistinct(t, h)
+	}
+}
+
+func testSeedPlanDistinct(t *testing.T, h *hamiltonian.Hamiltonian) {
+	for name, mk := range seedStrategies {
+		want, err := allocate.Run(h, 3000, mk(4), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		ws, wk := want.Distinct()
+		sp, err := allocate.NewSeedPlan(h, 3000, mk(4))
+		if err != nil {
+			t.Fatal(err)
+		}
+		gs, gk, err := sp.Distinct()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if d := cmp.Diff(settingTexts(ws), settingTexts(gs)); d != "" {
+			t.Errorf("%s: distinct settings (-Run +seed):\n%s", name, d)
+		}
+		if d := cmp.Diff(wk, gk); d != "" {
+			t.Errorf("%s: totals (-Run +seed):\n%s", name, d)
+		}
+	}
+}

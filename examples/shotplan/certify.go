@@ -1,12 +1,10 @@
 package main
 
 import (
-	"errors"
 	"flag"
 	"fmt"
 	"strings"
 
-	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/guarantee"
 )
 
@@ -22,18 +20,14 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := checkDelta(*delta); err != nil {
 			return err
 		}
-		h, f, err := loadHamPlan(*ham, *plan)
-		if errors.Is(err, allocate.ErrPlanTooLarge) {
-			// A seed plan too large to expand: certify it from its
-			// distribution.
-			h, sp, err := loadHamSeed(*ham, *plan)
-			if err != nil {
-				return err
-			}
-			return e.certifySeed(h, sp, *ham, *plan, *delta)
-		}
+		h, f, sp, err := loadHamPlanOrSeed(*ham, *plan)
 		if err != nil {
 			return err
+		}
+		if sp != nil {
+			// A seed plan too large to expand: certify it from its
+			// distribution, without drawing its shots.
+			return e.certifySeed(h, sp, *ham, *plan, *delta)
 		}
 		// Options.Top counts zero as its default of 10: ask for none
 		// with a negative value.

@@ -45,22 +45,30 @@ func (e *env) planBySeed(h *hamiltonian.Hamiltonian, hamPath string, a allocate.
 	return nil
 }
 
-// loadHamSeed reads -ham and -plan when the plan is a seed plan too large
-// to expand (loadHamPlan failed with allocate.ErrPlanTooLarge), and checks
-// that the plan was made for the Hamiltonian.
-func loadHamSeed(hamPath, planPath string) (*hamiltonian.Hamiltonian, *allocate.SeedPlan, error) {
+// loadHamPlanOrSeed is loadHamPlan, except that a seed plan too large to
+// expand is returned as such (checked against the Hamiltonian) rather
+// than streamed into its distinct settings.
+func loadHamPlanOrSeed(hamPath, planPath string) (*hamiltonian.Hamiltonian, *allocate.PlanFile, *allocate.SeedPlan, error) {
 	h, err := loadHam(hamPath)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, nil, err
 	}
-	sp, err := allocate.ReadSeedPlanFile(planPath)
+	f, sp, err := loadPlanOrSeed(planPath)
 	if err != nil {
-		return nil, nil, bad(err)
+		return nil, nil, nil, err
 	}
-	if err := sp.Check(h); err != nil {
-		return nil, nil, badf("%s: %w (Hamiltonian %s)", planPath, err, hamPath)
+	if sp != nil {
+		err = sp.Check(h)
+	} else {
+		err = f.Check(h)
 	}
-	return h, sp, nil
+	if err != nil {
+		if sp != nil {
+			err = fmt.Errorf("%s: %w", planPath, err)
+		}
+		return nil, nil, nil, badf("%w (Hamiltonian %s)", err, hamPath)
+	}
+	return h, f, sp, nil
 }
 
 // certifySeed certifies a seed plan too large to expand from its

@@ -7,7 +7,6 @@ import (
 	"strings"
 	"testing"
 
-	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/internal/scenario"
 )
 
@@ -65,8 +64,12 @@ func TestSeedPlanWorkflow(t *testing.T) {
 	if c.Shots != 1e8 || c.From != "distribution" || math.Abs(c.Radius-want) > 1e-12*want || c.Bound != c.Radius {
 		t.Errorf("certify of a 10^8-shot seed plan: %+v, want radius %v", c, want)
 	}
-	code, _, errOut := sp(t, "simulate", "-ham", ham, "-plan", big, "-o", rec)
-	if code != 2 || !strings.Contains(errOut, "GiB") || !strings.Contains(errOut, allocate.ErrPlanTooLarge.Error()[len("allocate: "):]) {
-		t.Errorf("simulate of a 10^8-shot seed plan: exit %d, %q", code, errOut)
+	// The records of 10^8 shots take 1.6 GB, of 10^9 over the default
+	// -memory-limit: refused from the header, before drawing a shot.
+	huge := filepath.Join(dir, "huge.jsonl")
+	ok(t, "plan", "-ham", ham, "-strategy", "random", "-shots", "1000000000", "-by-seed", "-o", huge)
+	code, _, errOut := sp(t, "simulate", "-ham", ham, "-plan", huge, "-o", rec)
+	if code != 2 || !strings.Contains(errOut, "GiB") || !strings.Contains(errOut, "-memory-limit") {
+		t.Errorf("simulate of a 10^9-shot seed plan: exit %d, %q", code, errOut)
 	}
 }
