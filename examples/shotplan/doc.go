@@ -35,8 +35,12 @@
 // second. Every subcommand takes -h for its flags and -json for
 // machine-readable output on standard output. Hamiltonian files are in the text or JSON
 // format of package hamiltonian, plan files in the compact layout of
-// allocate.WriteCompactPlan (one line per distinct setting) or, for a name
-// ending in .json, the full layout of allocate.WritePlan, records in the CSV
+// allocate.WriteCompactPlan (one line per distinct setting), for a name
+// ending in .json the full layout of allocate.WritePlan, or with plan
+// -by-seed the seed plan of allocate.WriteSeedPlan (the distribution and
+// seed of random, biased or importance, a few lines whatever the shots;
+// certify takes one too large to expand from its distribution, the other
+// commands stream it into its distinct settings), records in the CSV
 // or JSON form of package estimate (chosen by the file name's extension,
 // .json or anything else). Wherever a
 // Hamiltonian file is read, an FCIDUMP file (recognised by its "&FCI"
