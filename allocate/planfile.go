@@ -33,7 +33,8 @@ var (
 )
 
 // PlanFileError reports a problem with a plan file: the file, the line, the
-// entry and what is wrong. Its Err is [ErrPlanFile] or [ErrPlanMismatch].
+// entry and what is wrong. Its Err is [ErrPlanFile] or [ErrPlanMismatch]
+// (or [ErrPlanTooLarge] for a seed plan [ReadPlan] will not expand).
 type PlanFileError struct {
 	File   string // the file's path, or "" when read from a reader
 	Line   int    // 1-based line of the entry, 0 if not known

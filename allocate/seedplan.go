@@ -903,10 +903,8 @@ func readSeedPlanFile(br *bufio.Reader, name string) (*PlanFile, error) {
 		return nil, err
 	}
 	if sp.PlanBytes() > MaxExpandBytes {
-		if name == "" {
-			name = "the input"
-		}
-		return nil, fmt.Errorf("%w: %s, a seed plan: %s; read it with ReadSeedPlan and stream it", ErrPlanTooLarge, name, sp.tooLarge())
+		return nil, &PlanFileError{File: name, Line: 1, Entry: "shots", Err: ErrPlanTooLarge,
+			Reason: "a seed plan too large to expand in memory: " + sp.tooLarge() + "; read it with ReadSeedPlan and stream it"}
 	}
 	p, err := sp.Plan(nil)
 	if err != nil {
