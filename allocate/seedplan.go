@@ -372,8 +372,8 @@ func (sp *SeedPlan) valid() error {
 		return bad("qubit count %d out of range [1, %d)", sp.Qubits, hamiltonian.MaxReadQubits)
 	case sp.Shots < 1 || sp.Shots > MaxShots:
 		return bad("%d shots, want 1 to %d (MaxShots)", sp.Shots, MaxShots)
-	case sp.Terms < 0:
-		return bad("negative term count %d", sp.Terms)
+	case sp.Terms < 1 || sp.Terms > MaxPlanBytes:
+		return bad("term count %d out of range [1, %d]", sp.Terms, MaxPlanBytes)
 	}
 	switch sp.Strategy {
 	case "random":
