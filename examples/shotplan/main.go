@@ -31,7 +31,7 @@ type command struct {
 var commands = []command{
 	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN", nil},
 	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
-	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,... [-delta δ]] -o PLAN", strategyHelp},
+	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,... [-delta δ]] [-by-seed] -o PLAN", strategyHelp},
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta δ] [-top N]", certifyHelp},
 	{"budget", "count the shots a target accuracy needs, per strategy", budgetFlags, "-ham H -eps E [-delta δ] [-strategy NAME|all] [-proxy worst|exact|BITS]", budgetHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR", nil},

@@ -47,6 +47,24 @@ func TestSeedPlanWorkflow(t *testing.T) {
 		t.Errorf("estimate of the seed plan's records: %+v", est)
 	}
 
+	// Device jobs (allocate.SplitJobs) of the seed plan are those of the
+	// compact plan of the same draw: the same job folders and manifests.
+	for _, plan := range []string{seedPlan, compact} {
+		ok(t, "export", "-plan", plan, "-max-shots-per-circuit", "100", "-max-circuits-per-job", "500", "-one-program=false", "-o", filepath.Join(dir, "jobs-"+filepath.Base(plan)))
+	}
+	seedJobs, _ := filepath.Glob(filepath.Join(dir, "jobs-seed.jsonl", "*", "manifest.csv"))
+	compactJobs, _ := filepath.Glob(filepath.Join(dir, "jobs-compact.jsonl", "*", "manifest.csv"))
+	if len(seedJobs) == 0 || len(seedJobs) != len(compactJobs) {
+		t.Fatalf("jobs: %d manifests from the seed plan, %d from the compact plan", len(seedJobs), len(compactJobs))
+	}
+	for k := range seedJobs {
+		a, _ := os.ReadFile(seedJobs[k])
+		b, _ := os.ReadFile(compactJobs[k])
+		if string(a) != string(b) {
+			t.Errorf("job %d: manifests differ", k)
+		}
+	}
+
 	big := filepath.Join(dir, "big.jsonl")
 	ok(t, "plan", "-ham", ham, "-strategy", "random", "-shots", "100000000", "-by-seed", "-o", big)
 	if fi, err := os.Stat(big); err != nil || fi.Size() > 1024 {
