@@ -76,7 +76,7 @@
 // Three layouts, told apart by their first line and all read by
 // [ReadPlan]: the full one of [WritePlan] (version 1, one entry per run of
 // shots), the compact one of [WriteCompactPlan] (version 2, one line per
-// distinct setting) and the seed plan of [WriteSeedPlan] (version 3). A
+// distinct setting) and the seed plan of [WriteSeedPlan] (version 5). A
 // seed plan stores, for the strategies whose every shot is an independent
 // draw from one distribution (random, biased, importance; MATH §4.1), the
 // distribution, the seed, the shots and the generator ([SeedGenerator]),

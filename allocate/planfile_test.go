@@ -267,7 +267,7 @@ func FuzzReadPlan(f *testing.F) {
 	f.Add([]byte(`{"format": "shotplan plan", "version": 1, "qubits": 1, "settings": [{"setting": "X", "shots": 1}], "cover": []}`))
 	f.Add([]byte(`{`))
 	for _, name := range []string{"random", "importance"} {
-		b, err := os.ReadFile(filepath.Join("testdata", "plan-v3-"+name+".jsonl"))
+		b, err := os.ReadFile(filepath.Join("testdata", "plan-v5-"+name+".jsonl"))
 		if err != nil {
 			f.Fatal(err)
 		}

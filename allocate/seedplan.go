@@ -21,14 +21,15 @@ import (
 )
 
 // SeedPlanVersion is the version of the seed plan file layout described at
-// [WriteSeedPlan]; [ReadPlan] and [ReadSeedPlan] read it.
-const SeedPlanVersion = 3
+// [WriteSeedPlan]; [ReadPlan] and [ReadSeedPlan] read it. (Versions 3 and 4
+// are the full and compact layouts with a coefficient split.)
+const SeedPlanVersion = 5
 
 // SeedGenerator names the random generator and the draw recipe a seed plan
 // regenerates its shots with: math/rand/v2's PCG source seeded with (seed,
 // the strategies' second word), and per shot the draws of [Random],
 // [Biased] or [Importance] (IntN(3) per qubit, one Float64 per qubit, one
-// Float64 per shot). The golden file allocate/testdata/plan-v3-*.jsonl pins
+// Float64 per shot). The golden file allocate/testdata/plan-v5-*.jsonl pins
 // the stream: a Go release that changed it would fail that test, and the
 // recipe would get a new name here while the reader kept the old one.
 const SeedGenerator = "pcg-dxsm/shotplan-1"
@@ -526,7 +527,7 @@ func (st *SeedStream) Drawn() []int {
 // WriteSeedPlan writes sp as a seed plan file: one JSON object a line, the
 // header first,
 //
-//	{"format": "shotplan plan", "version": 3, "qubits": 4, "strategy": "biased", "seed": 7, "shots": 100000000, "generator": "pcg-dxsm/shotplan-1", "terms": 9, "fingerprint": "fnv1a64:9d0c3b5a1e2f4c6d"}
+//	{"format": "shotplan plan", "version": 5, "qubits": 4, "strategy": "biased", "seed": 7, "shots": 100000000, "generator": "pcg-dxsm/shotplan-1", "terms": 9, "fingerprint": "fnv1a64:9d0c3b5a1e2f4c6d"}
 //
 // then, for "biased", one line per qubit in order with its probabilities
 // of X, Y and Z,
@@ -882,7 +883,7 @@ func (f *PlanFile) checkSeed(h *hamiltonian.Hamiltonian) error {
 }
 
 // isSeedPlan reports whether the first line of a plan file is the header
-// of a seed plan: a complete JSON object with version 3.
+// of a seed plan: a complete JSON object with version 5.
 func isSeedPlan(br *bufio.Reader) bool {
 	head, _ := br.Peek(64 << 10)
 	head = bytes.TrimPrefix(head, []byte("\ufeff"))

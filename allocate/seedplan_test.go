@@ -136,7 +136,7 @@ func TestSeedPlanOldFiles(t *testing.T) {
 		if d := samePlan(old.Plan, got); d != "" {
 			t.Errorf("%s: the seed plan does not regenerate the committed plan of the first layout: %s", name, d)
 		}
-		f, err := allocate.ReadPlanFile(filepath.Join("testdata", "plan-v3-"+name+".jsonl"))
+		f, err := allocate.ReadPlanFile(filepath.Join("testdata", "plan-v5-"+name+".jsonl"))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -301,7 +301,7 @@ func TestSeedPlanCheck(t *testing.T) {
 }
 
 // goodSeed is a valid biased seed plan of 2 qubits, on one line each.
-const goodSeedHeader = `{"format": "shotplan plan", "version": 3, "qubits": 2, "strategy": "biased", "seed": 1, "shots": 10, "generator": "pcg-dxsm/shotplan-1", "terms": 3, "fingerprint": "fnv1a64:0000000000000000"}`
+const goodSeedHeader = `{"format": "shotplan plan", "version": 5, "qubits": 2, "strategy": "biased", "seed": 1, "shots": 10, "generator": "pcg-dxsm/shotplan-1", "terms": 3, "fingerprint": "fnv1a64:0000000000000000"}`
 
 // TestReadSeedPlanHostile: malformed seed plans are errors that name the
 // line and the entry, never a panic.
@@ -332,7 +332,7 @@ func TestReadSeedPlanHostile(t *testing.T) {
 		{"bad weight", hdr(`"biased"`, `"importance"`, `"seed": 1`, `"seed": 1, "fill": "Z"`) + "\n{\"term\": \"XX\", \"weight\": -1}\n", "line 2: terms[0]: weight -1"},
 		{"huge weight", hdr(`"biased"`, `"importance"`, `"seed": 1`, `"seed": 1, "fill": "Z"`) + "\n{\"term\": \"XX\", \"weight\": 1e999}\n", "line 2: terms[0]: weight 1e999"},
 		{"not json", "{\"format\": \"shotplan plan\", \"version\": 3\nsomething\n", "line 1:"},
-		{"version 2", strings.Replace(goodSeedHeader, `"version": 3`, `"version": 2`, 1) + probs, "line 1: version:"},
+		{"version 2", strings.Replace(goodSeedHeader, `"version": 5`, `"version": 2`, 1) + probs, "line 1: version:"},
 		{"empty", "", "empty file"},
 	}
 	for _, c := range cases {
@@ -405,7 +405,7 @@ func FuzzReadSeedPlan(f *testing.F) {
 	f.Add(goodSeedHeader + "\n{\"qubit\": 0, \"probs\": [0.5, 0.5, 0]}\n{\"qubit\": 1, \"probs\": [0.2, 0.3, 0.5]}\n")
 	f.Add(strings.NewReplacer(`"biased"`, `"random"`).Replace(goodSeedHeader) + "\n")
 	for _, name := range []string{"random", "importance"} {
-		b, err := os.ReadFile(filepath.Join("testdata", "plan-v3-"+name+".jsonl"))
+		b, err := os.ReadFile(filepath.Join("testdata", "plan-v5-"+name+".jsonl"))
 		if err != nil {
 			f.Fatal(err)
 		}
