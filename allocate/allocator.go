@@ -69,6 +69,15 @@ type TermDrawer interface {
 	Drawn() []int
 }
 
+// Splitter is an optional interface of allocators that split the
+// coefficients of terms among the settings that measure them (MATH.md
+// §2.5), such as [Overlap]. After the loop the driver reads the split,
+// checks it against the plan ([hamiltonian.Split.Check]; a failure is an
+// [ErrStrategy]) and copies it into [Plan].Split.
+type Splitter interface {
+	Split() hamiltonian.Split
+}
+
 // QubitLimit is an optional interface of allocators that support at most
 // MaxQubits qubits. The driver checks the limit before Init and returns an
 // error wrapping [ErrTooManyQubits].

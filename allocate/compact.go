@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 
@@ -20,6 +21,11 @@ import (
 // described at [WriteCompactPlan]; [ReadPlan] reads it and the layout of
 // [PlanVersion].
 const CompactPlanVersion = 2
+
+// CompactSplitPlanVersion is the compact layout with the coefficient split
+// of [Plan].Split on the setting lines (see [WriteCompactPlan]); a plan
+// without a split is written as version 2, byte for byte as before.
+const CompactSplitPlanVersion = 4
 
 // MaxPlanLineBytes is the longest line [ReadPlan] accepts in a compact plan
 // file (16 MiB: a setting line of the widest entangled setting with its
@@ -46,7 +52,7 @@ const coverPerLine = 64
 func (p *Plan) Compact() *Plan {
 	index := make(map[string]int)
 	of := make([]int, len(p.Settings))
-	q := &Plan{Qubits: p.Qubits, Cover: append([]int(nil), p.Cover...), Stats: p.Stats}
+	q := &Plan{Qubits: p.Qubits, Cover: append([]int(nil), p.Cover...), Stats: p.Stats, Split: cloneSplit(p.Split)}
 	for k, s := range p.Settings {
 		key := s.Key()
 		j, ok := index[key]
@@ -115,6 +121,12 @@ func (p *Plan) Compact() *Plan {
 // most 64 counts each, give N_i for every term in term order. Keys within a
 // line may come in any order when read.
 //
+// A plan with a coefficient split ([Plan].Split, MATH.md §2.5) is written as
+// version 4 ([CompactSplitPlanVersion]): the setting line of every group of
+// the split also holds "split": [[term, weight], ...], the terms it lists
+// with their weights, each weight in the shortest form that reads back to
+// the same float64.
+//
 // WriteCompactPlan returns an error, and writes nothing, if p is
 // inconsistent (see [WritePlan]).
 func WriteCompactPlan(w io.Writer, p *Plan, seed uint64) error {
@@ -124,8 +136,13 @@ func WriteCompactPlan(w io.Writer, p *Plan, seed uint64) error {
 	c := p.Compact()
 	bw := bufio.NewWriterSize(w, 64<<10)
 	name, _ := json.Marshal(c.Stats.Strategy)
+	version := CompactPlanVersion
+	var splitOf map[string]int
+	if len(c.Split) > 0 {
+		version, splitOf = CompactSplitPlanVersion, c.Split.Groups()
+	}
 	fmt.Fprintf(bw, "{\"format\": %q, \"version\": %d, \"qubits\": %d, \"strategy\": %s, \"seed\": %d, \"shots\": %d, \"settings\": %d, \"terms\": %d, \"drawn\": %t}\n",
-		PlanFormat, CompactPlanVersion, c.Qubits, name, seed, c.TotalShots(), len(c.Settings), len(c.Cover), c.Drawn != nil)
+		PlanFormat, version, c.Qubits, name, seed, c.TotalShots(), len(c.Settings), len(c.Cover), c.Drawn != nil)
 	var line []byte
 	n := 0
 	for k, s := range c.Settings {
@@ -150,6 +167,20 @@ func WriteCompactPlan(w io.Writer, p *Plan, seed uint64) error {
 				line = strconv.AppendInt(line, int64(m), 10)
 				line = append(line, ']')
 				n += m
+			}
+			line = append(line, ']')
+		}
+		if g, ok := splitOf[s.Key()]; ok {
+			line = append(line, `, "split": [`...)
+			for k, t := range c.Split[g].Terms {
+				if k > 0 {
+					line = append(line, ", "...)
+				}
+				line = append(line, '[')
+				line = strconv.AppendInt(line, int64(t), 10)
+				line = append(line, ", "...)
+				line = strconv.AppendFloat(line, c.Split[g].Weights[k], 'g', -1, 64)
+				line = append(line, ']')
 			}
 			line = append(line, ']')
 		}
@@ -193,7 +224,7 @@ func isCompact(br *bufio.Reader) bool {
 	var h struct {
 		Version json.RawMessage `json:"version"`
 	}
-	return json.Unmarshal(first, &h) == nil && string(h.Version) == strconv.Itoa(CompactPlanVersion)
+	return json.Unmarshal(first, &h) == nil && (string(h.Version) == strconv.Itoa(CompactPlanVersion) || string(h.Version) == strconv.Itoa(CompactSplitPlanVersion))
 }
 
 // compactReader reads a compact plan file line by line, holding one line at
@@ -354,8 +385,8 @@ func readCompact(br *bufio.Reader, name string) (*PlanFile, error) {
 	switch {
 	case hdr.format != PlanFormat:
 		return nil, cr.fail(1, "format", "not a plan file (format %s, want %q)", inputcap.Quote(hdr.format), PlanFormat)
-	case !haveV || version != CompactPlanVersion:
-		return nil, cr.fail(1, "version", "version %d, want %d", version, CompactPlanVersion)
+	case !haveV || (version != CompactPlanVersion && version != CompactSplitPlanVersion):
+		return nil, cr.fail(1, "version", "version %d, want %d (or %d with a split)", version, CompactPlanVersion, CompactSplitPlanVersion)
 	case !haveQ || !haveT || !haveS || !haveM || !haveD:
 		return nil, cr.fail(1, "", "the header needs the keys \"qubits\", \"shots\", \"settings\", \"terms\" and \"drawn\"")
 	case qubits < 1 || qubits >= hamiltonian.MaxReadQubits:
@@ -379,6 +410,7 @@ func readCompact(br *bufio.Reader, name string) (*PlanFile, error) {
 	}
 	first := make(map[string]int) // setting key → its line
 	sum := 0
+	sums := &splitSums{sum: map[int]float64{}, line: map[int]int{}}
 	for {
 		text, err = cr.next()
 		if err == io.EOF {
@@ -400,11 +432,20 @@ func readCompact(br *bufio.Reader, name string) (*PlanFile, error) {
 			haveText, haveK bool
 			pairs           [][]json.Number
 			haveDrawn       bool
+			split           [][]json.Number
+			haveSplit       bool
 		)
 		err = cr.object(text, entry, map[string]func(*json.Decoder) error{
 			"setting": func(d *json.Decoder) error { haveText = true; return d.Decode(&settingText) },
 			"shots":   intField(&shots, &haveK),
 			"drawn":   func(d *json.Decoder) error { haveDrawn = true; return d.Decode(&pairs) },
+			"split": func(d *json.Decoder) error {
+				if version != CompactSplitPlanVersion {
+					return cr.fail(cr.line, entry, "a \"split\" needs version %d, the header says %d", CompactSplitPlanVersion, version)
+				}
+				haveSplit = true
+				return d.Decode(&split)
+			},
 			"cover": func(*json.Decoder) error {
 				return cr.fail(cr.line, "", "a cover line after %d of the header's %d settings", len(p.Settings), nSettings)
 			},
@@ -441,8 +482,23 @@ func readCompact(br *bufio.Reader, name string) (*PlanFile, error) {
 				return nil, err
 			}
 		}
+		if haveSplit {
+			if err := cr.splitPairs(split, entry, s, terms, p, sums); err != nil {
+				return nil, err
+			}
+		}
 		p.Settings = append(p.Settings, s)
 		p.Shots = append(p.Shots, shots)
+	}
+	if version == CompactSplitPlanVersion {
+		if len(p.Split) == 0 {
+			return nil, cr.fail(1, "version", "version %d without a \"split\" on any setting line", version)
+		}
+		for _, i := range sums.order {
+			if v := sums.sum[i]; math.Abs(v-1) > 1e-9 {
+				return nil, cr.fail(sums.line[i], "split", "the weights of term %d add up to %.17g, want 1", i, v)
+			}
+		}
 	}
 	switch {
 	case len(p.Settings) != nSettings:
@@ -545,4 +601,49 @@ func parsePlanSetting(text string, qubits int) (pauli.Setting, string) {
 		return pauli.Setting{}, fmt.Sprintf("setting %s has %d qubits, the plan has %d", inputcap.Quote(text), s.Qubits(), qubits)
 	}
 	return s, ""
+}
+
+// splitSums adds up the weights of every term a compact plan's split lists,
+// remembering the line that first listed it.
+type splitSums struct {
+	sum   map[int]float64
+	line  map[int]int
+	order []int
+}
+
+// splitPairs checks a setting line's [[term, weight], ...] and appends the
+// group to p.Split.
+func (cr *compactReader) splitPairs(pairs [][]json.Number, entry string, s pauli.Setting, terms int, p *Plan, sums *splitSums) error {
+	gr := hamiltonian.SplitGroup{Setting: s}
+	seen := make(map[int]bool, len(pairs))
+	for j, pair := range pairs {
+		if len(pair) != 2 {
+			return cr.fail(cr.line, entry, "split[%d]: want a pair [term, weight], found %d numbers", j, len(pair))
+		}
+		t, err1 := strconv.Atoi(pair[0].String())
+		w, err2 := strconv.ParseFloat(pair[1].String(), 64)
+		switch {
+		case err1 != nil || err2 != nil:
+			return cr.fail(cr.line, entry, "split[%d]: [%s, %s] is not a term and a weight", j, inputcap.Clip(pair[0].String()), inputcap.Clip(pair[1].String()))
+		case t < 0 || t >= terms:
+			return cr.fail(cr.line, entry, "split[%d]: term %d outside [0, %d)", j, t, terms)
+		case seen[t]:
+			return cr.fail(cr.line, entry, "split[%d]: term %d listed twice", j, t)
+		case !(w >= 0) || math.IsInf(w, 0):
+			return cr.fail(cr.line, entry, "split[%d]: term %d has weight %v, want a finite non-negative number", j, t, w)
+		}
+		seen[t] = true
+		if _, ok := sums.line[t]; !ok {
+			sums.line[t] = cr.line
+			sums.order = append(sums.order, t)
+		}
+		sums.sum[t] += w
+		gr.Terms = append(gr.Terms, t)
+		gr.Weights = append(gr.Weights, w)
+	}
+	if len(gr.Terms) == 0 {
+		return cr.fail(cr.line, entry, "an empty \"split\"")
+	}
+	p.Split = append(p.Split, gr)
+	return nil
 }

@@ -239,6 +239,8 @@ func FuzzReadCompactPlan(f *testing.F) {
 	f.Add([]byte(strings.Replace(goodCompact, `"drawn": true`, `"drawn": false`, 1)))
 	f.Add([]byte(`{"format": "shotplan plan", "version": 2, "qubits": 1, "shots": 1, "settings": 1, "terms": 0, "drawn": false}` + "\n" + `{"setting": "X", "shots": 1}`))
 	f.Add([]byte(`{"format": "shotplan plan", "version": 2, "qubits": 2, "shots": 3, "settings": 1, "terms": 1, "drawn": false}` + "\n" + `{"setting": "XX|ZZ", "shots": 3}` + "\n" + `{"cover": [3]}`))
+	f.Add([]byte(`{"format": "shotplan plan", "version": 4, "qubits": 2, "shots": 5, "settings": 2, "terms": 3, "drawn": false}` + "\n" +
+		`{"setting": "ZX", "shots": 3, "split": [[0, 0.25]]}` + "\n" + `{"setting": "ZY", "shots": 2, "split": [[0, 0.75]]}` + "\n" + `{"cover": [5, 3, 2]}`))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		pf, err := allocate.ReadPlan(bytes.NewReader(data))
 		if err != nil {

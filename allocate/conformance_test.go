@@ -87,3 +87,14 @@ func TestConformanceByName(t *testing.T) {
 func TestConformanceCustom(t *testing.T) {
 	allocatetest.Test(t, func(uint64) allocate.Allocator { return &termCycle{} }, nil)
 }
+
+func TestConformanceOverlap(t *testing.T) {
+	allocatetest.Test(t, func(uint64) allocate.Allocator { return &allocate.Overlap{} }, nil)
+}
+
+func TestConformanceOverlapProxy(t *testing.T) {
+	// A basis-state proxy of 70 qubits fits every case of the suite.
+	allocatetest.Test(t, func(uint64) allocate.Allocator {
+		return &allocate.Overlap{Proxy: allocate.BasisProxy{Bits: pauli.Bits{0b1011, 0}}}
+	}, nil)
+}

@@ -5,3 +5,6 @@ var (
 	CheckFinite      = checkFinite
 	LargestRemainder = largestRemainder
 )
+
+// SimplexMin is the per-term weight step of Overlap.
+var SimplexMin = simplexMin

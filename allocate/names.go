@@ -19,12 +19,14 @@ var strategies = map[string]func(seed uint64) Allocator{
 	"sorted-gc":  func(uint64) Allocator { return &SortedGC{} },
 	"color-gc":   func(uint64) Allocator { return &ColorGC{} },
 	"greedy-gc":  func(uint64) Allocator { return &GreedyGC{} },
+	"overlap":    func(uint64) Allocator { return &Overlap{} },
 }
 
 // Names returns the short names of the built-in strategies, sorted:
 // "biased", "color-gc", "derand", "fixed", "greedy", "greedy-gc",
-// "importance", "random", "sorted", "sorted-gc". The "-gc" strategies group
-// by general commutation and produce entangled settings.
+// "importance", "overlap", "random", "sorted", "sorted-gc". The "-gc"
+// strategies group by general commutation and produce entangled settings;
+// "overlap" splits coefficients among overlapping groups ([Plan].Split).
 func Names() []string {
 	names := make([]string, 0, len(strategies))
 	for k := range strategies {

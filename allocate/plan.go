@@ -33,6 +33,14 @@ type Plan struct {
 	// sampling, see [Importance] and [TermDrawer]), the index of the term
 	// drawn for each shot, in shot order; nil otherwise.
 	Drawn []int
+	// Split, if not nil, is the coefficient split of the plan's estimate
+	// (MATH.md §2.5): the terms it lists are estimated with its weights
+	// α_{ig} from the distinct settings that list them, the others with the
+	// implicit weights m_g/N_i of MATH.md §2. Nil (every strategy but
+	// [Overlap]) is the grouped estimator unchanged. Pass it to
+	// estimate.Options.Split and guarantee.EmpiricalOptions.Split; the
+	// certificates of package guarantee read it from the plan.
+	Split hamiltonian.Split
 }
 
 // Stats describes an allocation run.

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strconv"
 	"strings"
@@ -19,9 +20,13 @@ import (
 
 // PlanFormat is the value of the "format" key of every plan file, and
 // PlanVersion the version of the layout described at [WritePlan].
+// SplitPlanVersion is that layout with a "split" key, written for a plan
+// with a coefficient split ([Plan].Split); a plan without one is written as
+// version 1, byte for byte as before.
 const (
-	PlanFormat  = "shotplan plan"
-	PlanVersion = 1
+	PlanFormat       = "shotplan plan"
+	PlanVersion      = 1
+	SplitPlanVersion = 3
 )
 
 var (
@@ -84,6 +89,7 @@ type PlanFile struct {
 	coverLine  int     // line of the "cover" key
 	cover      []int32 // line of every cover entry
 	drawn      []int32 // line of every drawn entry
+	split      []int   // line of every split group
 }
 
 // planEntry is one element of a plan file's "settings".
@@ -114,6 +120,16 @@ type planEntry struct {
 //
 // "settings" lists the settings in measurement order with their consecutive
 // shot counts (qubit 0 first, as in package pauli); "shots" is their total.
+// A plan with a coefficient split ([Plan].Split, MATH.md §2.5) is written as
+// version 3 ([SplitPlanVersion]) with one more key, "split", one group a
+// line in the split's order:
+//
+//	"split": [
+//	  {"setting": "ZZZZ", "terms": [0, 4], "weights": [0.25, 1]},
+//	  ...
+//	]
+//
+// each weight in the shortest form that reads back to the same float64.
 // "cover" holds N_i for every term of the Hamiltonian the plan was made for,
 // in term order. "drawn" is the term drawn for each shot by strategies that
 // draw one (see [TermDrawer]), or null. Keys may come in any order when read.
@@ -127,7 +143,11 @@ func WritePlan(w io.Writer, p *Plan, seed uint64) error {
 	}
 	var b bytes.Buffer
 	b.WriteString("{\n")
-	fmt.Fprintf(&b, "  \"format\": %q,\n  \"version\": %d,\n", PlanFormat, PlanVersion)
+	version := PlanVersion
+	if len(p.Split) > 0 {
+		version = SplitPlanVersion
+	}
+	fmt.Fprintf(&b, "  \"format\": %q,\n  \"version\": %d,\n", PlanFormat, version)
 	fmt.Fprintf(&b, "  \"qubits\": %d,\n", p.Qubits)
 	name, _ := json.Marshal(p.Stats.Strategy)
 	fmt.Fprintf(&b, "  \"strategy\": %s,\n  \"seed\": %d,\n  \"shots\": %d,\n", name, seed, p.TotalShots())
@@ -151,6 +171,28 @@ func WritePlan(w io.Writer, p *Plan, seed uint64) error {
 		b.WriteString("null")
 	} else {
 		appendInts(&b, p.Drawn)
+	}
+	if len(p.Split) > 0 {
+		b.WriteString(",\n  \"split\": [\n")
+		for g, gr := range p.Split {
+			b.WriteString(`    {"setting": "`)
+			b.WriteString(gr.Setting.String())
+			b.WriteString(`", "terms": `)
+			appendInts(&b, gr.Terms)
+			b.WriteString(`, "weights": [`)
+			for k, w := range gr.Weights {
+				if k > 0 {
+					b.WriteString(", ")
+				}
+				b.WriteString(strconv.FormatFloat(w, 'g', -1, 64))
+			}
+			b.WriteString("]}")
+			if g < len(p.Split)-1 {
+				b.WriteByte(',')
+			}
+			b.WriteByte('\n')
+		}
+		b.WriteString("  ]")
 	}
 	b.WriteString("\n}\n")
 	_, err := w.Write(b.Bytes())
@@ -206,6 +248,16 @@ func validPlan(p *Plan) error {
 	if p.Drawn != nil && len(p.Drawn) != p.TotalShots() {
 		return fmt.Errorf("allocate: writing a plan: %d drawn terms for %d shots", len(p.Drawn), p.TotalShots())
 	}
+	for g, gr := range p.Split {
+		if gr.Setting.Qubits() != p.Qubits || len(gr.Terms) != len(gr.Weights) {
+			return fmt.Errorf("allocate: writing a plan: split group %d (%s) has %d qubits, %d terms and %d weights", g, inputcap.Clip(gr.Setting.String()), gr.Setting.Qubits(), len(gr.Terms), len(gr.Weights))
+		}
+		for k, w := range gr.Weights {
+			if math.IsNaN(w) || math.IsInf(w, 0) || w < 0 {
+				return fmt.Errorf("allocate: writing a plan: split group %d (%s): term %d has weight %v", g, inputcap.Clip(gr.Setting.String()), gr.Terms[k], w)
+			}
+		}
+	}
 	return nil
 }
 
@@ -246,7 +298,11 @@ func ReadPlanFile(path string) (*PlanFile, error) {
 // holds (one line at a time, each at most [MaxPlanLineBytes]; the file at
 // most MaxPlanBytes). In a compact plan a setting that appears on two lines,
 // counts that disagree with the header, and drawn counts that do not add up
-// to the setting's shots are errors naming the line.
+// to the setting's shots are errors naming the line. It also reads a seed
+// plan ([WriteSeedPlan], version 5) with [ReadSeedPlan] and expands it
+// ([PlanFile].Draw holds it); one that would take more than
+// [MaxExpandBytes] is a *PlanFileError wrapping [ErrPlanTooLarge] with the
+// estimate.
 func ReadPlan(r io.Reader) (*PlanFile, error) {
 	return readPlanFrom(r, "")
 }
@@ -379,6 +435,16 @@ type rawPlan struct {
 	settingLines           []int
 	settingTexts           []string
 	shotsLine, versionLine int
+	haveSplit              bool
+	split                  []splitEntry
+	splitLines             []int
+}
+
+// splitEntry is one element of a plan file's "split".
+type splitEntry struct {
+	Setting string    `json:"setting"`
+	Terms   []int     `json:"terms"`
+	Weights []float64 `json:"weights"`
 }
 
 func readPlan(data []byte, name string) (*PlanFile, error) {
@@ -399,6 +465,9 @@ func readPlan(data []byte, name string) (*PlanFile, error) {
 		return nil, err
 	}
 	if err := pr.checkCounts(f, p, &raw, sum); err != nil {
+		return nil, err
+	}
+	if err := pr.parseSplit(f, p, &raw); err != nil {
 		return nil, err
 	}
 	f.Plan = p
@@ -446,6 +515,9 @@ func (pr *planReader) readKeys(f *PlanFile, p *Plan, raw *rawPlan) error {
 			p.Cover, f.cover, err = pr.ints(key, false)
 		case "drawn":
 			p.Drawn, f.drawn, err = pr.ints(key, true)
+		case "split":
+			raw.haveSplit = true
+			err = pr.splitEntries(line, raw)
 		default:
 			return pr.fail(line, "", "unknown key %s", inputcap.Quote(key))
 		}
@@ -491,11 +563,17 @@ func (pr *planReader) checkHeader(f *PlanFile, p *Plan, raw *rawPlan) error {
 	if raw.format != PlanFormat {
 		return pr.fail(1, "format", "not a plan file (format %s, want %q)", inputcap.Quote(raw.format), PlanFormat)
 	}
-	if raw.version != PlanVersion {
+	if raw.version != PlanVersion && raw.version != SplitPlanVersion {
 		if raw.version == CompactPlanVersion {
 			return pr.fail(raw.versionLine, "version", "version %d in the layout of version %d: a compact plan has its whole header on the first line", raw.version, PlanVersion)
 		}
-		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d and %d", raw.version, PlanVersion, CompactPlanVersion)
+		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d, %d, %d, %d and %d", raw.version, PlanVersion, CompactPlanVersion, SplitPlanVersion, CompactSplitPlanVersion, SeedPlanVersion)
+	}
+	if raw.haveSplit != (raw.version == SplitPlanVersion) {
+		if raw.haveSplit {
+			return pr.fail(raw.versionLine, "version", "a \"split\" key needs version %d, the file has version %d", SplitPlanVersion, raw.version)
+		}
+		return pr.fail(raw.versionLine, "version", "version %d without a \"split\" key", SplitPlanVersion)
 	}
 	switch {
 	case !raw.haveQubits:
@@ -579,11 +657,13 @@ func (pr *planReader) checkCounts(f *PlanFile, p *Plan, raw *rawPlan, sum int) e
 // count for every term, and cover counts equal to those the settings give
 // on h's terms (so the plan was made for h, or for a Hamiltonian with the
 // same strings). For a plan with drawn terms it also checks that every shot's
-// setting covers the term drawn for it. A problem is a *[PlanFileError]
-// wrapping [ErrPlanMismatch], naming the line of the plan file. For a seed
-// plan ([PlanFile].Draw) it compares the width, the term count and the
-// fingerprint of the terms (and importance sampling's weights with |h_i|),
-// then counts the cover counts into Plan.Cover.
+// setting covers the term drawn for it, and for a plan with a split that it
+// passes [hamiltonian.Split.Check] (every group's setting covers its terms).
+// A problem is a *[PlanFileError] wrapping [ErrPlanMismatch], naming the
+// line of the plan file. For a seed plan ([PlanFile].Draw) it compares the
+// width, the term count and the fingerprint of the terms (and importance
+// sampling's weights with |h_i|), then counts the cover counts into
+// Plan.Cover.
 func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
 	if f.Draw != nil {
 		return f.checkSeed(h)
@@ -609,6 +689,13 @@ func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
 				i, p.Cover[i], h.Pauli(i), c)
 		}
 	}
+	if err := p.Split.Check(h, p.Settings, p.Shots); err != nil {
+		line := 0
+		if len(f.split) > 0 {
+			line = f.split[0]
+		}
+		return fail(line, "split", "%v", err)
+	}
 	if p.Drawn != nil {
 		n := 0
 		for k, s := range p.Settings {
@@ -629,4 +716,87 @@ func (f *PlanFile) lineOf(lines []int32, i, fallback int) int {
 		return int(lines[i])
 	}
 	return fallback
+}
+
+// splitEntries reads the "split" array, recording the line of every group.
+func (pr *planReader) splitEntries(line int, raw *rawPlan) error {
+	if err := pr.delim('[', line, "split"); err != nil {
+		return err
+	}
+	for pr.dec.More() {
+		l := pr.valueLine()
+		var e splitEntry
+		if err := pr.dec.Decode(&e); err != nil {
+			return pr.jsonFail(l, fmt.Sprintf("split[%d]", len(raw.split)), err)
+		}
+		raw.split = append(raw.split, e)
+		raw.splitLines = append(raw.splitLines, l)
+	}
+	_, err := pr.dec.Token()
+	return err
+}
+
+// parseSplit checks the split on its own — every group's setting is one of
+// the plan's, once; terms index the cover counts, once per group, with as
+// many weights, each finite and non-negative; the weights of every listed
+// term add up to one — and stores it in p. Whether each setting covers its
+// terms needs the Hamiltonian: [PlanFile.Check].
+func (pr *planReader) parseSplit(f *PlanFile, p *Plan, raw *rawPlan) error {
+	if !raw.haveSplit {
+		return nil
+	}
+	if len(raw.split) == 0 {
+		return pr.fail(raw.versionLine, "split", "no groups")
+	}
+	inPlan := make(map[string]bool, len(p.Settings))
+	for _, s := range p.Settings {
+		inPlan[s.Key()] = true
+	}
+	seen := make(map[string]int)
+	sum := make([]float64, len(p.Cover))
+	listed := make([]bool, len(p.Cover))
+	mark := make([]int, len(p.Cover))
+	f.split = raw.splitLines
+	for g, e := range raw.split {
+		line, entry := raw.splitLines[g], fmt.Sprintf("split[%d]", g)
+		s, err := pauli.ParseSetting(e.Setting)
+		if err != nil || s.Qubits() != p.Qubits {
+			return pr.fail(line, entry, "setting %s is not a setting of %d qubits", inputcap.Quote(e.Setting), p.Qubits)
+		}
+		key := s.Key()
+		if !inPlan[key] {
+			return pr.fail(line, entry, "setting %s is not one of the plan's settings", inputcap.Quote(e.Setting))
+		}
+		if j, ok := seen[key]; ok {
+			return pr.fail(line, entry, "setting %s already has group split[%d]", inputcap.Quote(e.Setting), j)
+		}
+		seen[key] = g
+		if len(e.Terms) != len(e.Weights) {
+			return pr.fail(line, entry, "%d terms but %d weights", len(e.Terms), len(e.Weights))
+		}
+		if len(e.Terms) == 0 {
+			return pr.fail(line, entry, "a group with no terms")
+		}
+		for k, i := range e.Terms {
+			if i < 0 || i >= len(p.Cover) {
+				return pr.fail(line, entry, "term %d outside [0, %d)", i, len(p.Cover))
+			}
+			if mark[i] == g+1 {
+				return pr.fail(line, entry, "term %d listed twice", i)
+			}
+			mark[i] = g + 1
+			if w := e.Weights[k]; !(w >= 0) || math.IsInf(w, 0) {
+				return pr.fail(line, entry, "term %d has weight %v, want a finite non-negative number", i, w)
+			}
+			sum[i] += e.Weights[k]
+			listed[i] = true
+		}
+		p.Split = append(p.Split, hamiltonian.SplitGroup{Setting: s, Terms: e.Terms, Weights: e.Weights})
+	}
+	for i, ok := range listed {
+		if ok && math.Abs(sum[i]-1) > 1e-9 {
+			return pr.fail(raw.splitLines[0], "split", "the weights of term %d add up to %.17g, want 1", i, sum[i])
+		}
+	}
+	return nil
 }

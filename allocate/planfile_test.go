@@ -274,6 +274,8 @@ func FuzzReadPlan(f *testing.F) {
 		f.Add(b)
 		f.Add(bytes.Replace(b, []byte(`"shots": 40`), []byte(`"shots": 4000000000`), 1))
 	}
+	f.Add([]byte(`{"format": "shotplan plan", "version": 3, "qubits": 2, "settings": [{"setting": "ZX", "shots": 3}, {"setting": "ZY", "shots": 2}], "cover": [5, 3, 2],
+"split": [{"setting": "ZX", "terms": [0], "weights": [0.25]}, {"setting": "ZY", "terms": [0], "weights": [0.75]}]}`))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		pf, err := allocate.ReadPlan(bytes.NewReader(data))
 		if err != nil {
@@ -307,8 +309,8 @@ func FuzzReadPlan(f *testing.F) {
 		if err != nil {
 			t.Fatalf("ReadPlan of WritePlan output: %v\n%s", err, b.String())
 		}
-		if fmt.Sprint(again.Plan.Settings, again.Plan.Shots, again.Plan.Cover, again.Plan.Drawn, again.Seed, again.Plan.Stats.Strategy) !=
-			fmt.Sprint(pf.Plan.Settings, pf.Plan.Shots, pf.Plan.Cover, pf.Plan.Drawn, pf.Seed, pf.Plan.Stats.Strategy) {
+		if fmt.Sprint(again.Plan.Settings, again.Plan.Shots, again.Plan.Cover, again.Plan.Drawn, again.Seed, again.Plan.Stats.Strategy, again.Plan.Split) !=
+			fmt.Sprint(pf.Plan.Settings, pf.Plan.Shots, pf.Plan.Cover, pf.Plan.Drawn, pf.Seed, pf.Plan.Stats.Strategy, pf.Plan.Split) {
 			t.Fatalf("plan changed in a write-read round trip")
 		}
 	})

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"reflect"
+	"slices"
 	"time"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -220,6 +221,14 @@ func Run(h *hamiltonian.Hamiltonian, budget int, a Allocator, opts *Options) (pl
 			return nil, fmt.Errorf("%w: %s: %v", ErrStrategy, name, err)
 		}
 	}
+	if sp, ok := a.(Splitter); ok {
+		phase = "Split"
+		split := sp.Split()
+		if err := split.Check(h, p.Settings, p.Shots); err != nil {
+			return nil, fmt.Errorf("%w: %s: %v", ErrStrategy, name, err)
+		}
+		p.Split = cloneSplit(split)
+	}
 	if drawer != nil {
 		phase = "Drawn"
 		d := drawer.Drawn()
@@ -358,4 +367,17 @@ func addCover(cover []int, t *pauli.Table, ci *coverindex.Index, s pauli.Setting
 		cover[i] += n
 	}
 	return idx, rows
+}
+
+// cloneSplit returns a deep copy of s (nil for an empty split), so that the
+// plan does not share slices with the strategy.
+func cloneSplit(s hamiltonian.Split) hamiltonian.Split {
+	if len(s) == 0 {
+		return nil
+	}
+	out := make(hamiltonian.Split, len(s))
+	for g, gr := range s {
+		out[g] = hamiltonian.SplitGroup{Setting: gr.Setting, Terms: slices.Clone(gr.Terms), Weights: slices.Clone(gr.Weights)}
+	}
+	return out
 }

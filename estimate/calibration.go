@@ -33,9 +33,12 @@ type QubitCounts struct {
 	One, Flips10  int
 }
 
-// Calibration holds the calibration counts of every qubit.
+// Calibration holds the calibration counts of every qubit, and of the
+// pairs read through a 4×4 model if any ([NewPairCalibration], MATH.md
+// §2.1.5).
 type Calibration struct {
 	Counts []QubitCounts // Counts[q] for qubit q
+	Pairs  []PairCounts  // disjoint pairs; nil for independent qubits
 }
 
 // NewCalibration returns an empty calibration of n qubits.
@@ -60,6 +63,7 @@ func (c *Calibration) Add(prepared, read pauli.Bits) {
 			k.Flips10 += int(r ^ 1)
 		}
 	}
+	c.addPairs(prepared, read)
 }
 
 // CalibrationPreparations returns the minimal set of preparations: all
@@ -140,6 +144,8 @@ type ReadoutBounds struct {
 // Bounds returns a Clopper–Pearson interval for each of the 2n rates, each
 // at confidence 1 − δ/(2n), so that with probability at least 1 − δ every
 // rate lies in its interval at once (a union bound over the 2n intervals).
+// It describes every qubit by its own two rates and ignores Pairs;
+// [Calibration.Mitigation] uses the pairs' 4×4 models.
 func (c *Calibration) Bounds(delta float64) ([]ReadoutBounds, error) {
 	if !(delta > 0 && delta < 1) {
 		return nil, fmt.Errorf("estimate: %w: calibration δ = %v outside (0, 1)", ErrFormat, delta)
@@ -158,6 +164,25 @@ func (c *Calibration) Bounds(delta float64) ([]ReadoutBounds, error) {
 		out[q].P10 = [2]float64{lo, hi}
 	}
 	return out, nil
+}
+
+// Mitigation returns the mitigation (MATH.md §2.1.1) made from the
+// calibration's intervals at δ ([Calibration.Bounds]): with probability at
+// least 1 − δ every true rate lies in the boxes it was made from. With
+// pairs the pairs are read through their 4×4 models and every interval is
+// at δ/J, J = 2·(unpaired qubits) + 16·(pairs) (MATH.md §2.1.5).
+func (c *Calibration) Mitigation(delta float64) (*Mitigation, error) {
+	if !(delta > 0 && delta < 1) {
+		return nil, fmt.Errorf("estimate: %w: calibration δ = %v outside (0, 1)", ErrFormat, delta)
+	}
+	if len(c.Pairs) > 0 {
+		return c.pairMitigation(delta)
+	}
+	b, err := c.Bounds(delta)
+	if err != nil {
+		return nil, err
+	}
+	return NewMitigation(b)
 }
 
 // KnownRates returns the degenerate boxes of rates known exactly.
@@ -183,6 +208,10 @@ type Mitigation struct {
 	eps    []float64    // per-qubit relative error bound ε_q
 	half   []float64    // max_bit |f_q(bit)|
 	bounds []ReadoutBounds
+	// With pairs (MATH.md §2.1.5): pairOf[q] is the pair of qubit q or
+	// −1, and pairs the pairs' inverse models. Nil without pairs.
+	pairOf []int32
+	pairs  []pairBlock
 }
 
 // NewMitigation returns the mitigation for boxes of rates, one per qubit.
@@ -220,7 +249,9 @@ func NewMitigation(b []ReadoutBounds) (*Mitigation, error) {
 // Qubits returns the qubit count.
 func (m *Mitigation) Qubits() int { return len(m.rates) }
 
-// Rates returns the plug-in rates (the centres of the boxes).
+// Rates returns the plug-in rates (the centres of the boxes); a qubit of
+// a pair (MATH.md §2.1.5) is read through its pair's 4×4 model and has
+// zero rates and box here.
 func (m *Mitigation) Rates() []Readout { return append([]Readout(nil), m.rates...) }
 
 // Bounds returns the boxes the mitigation was made from.
@@ -229,6 +260,9 @@ func (m *Mitigation) Bounds() []ReadoutBounds { return append([]ReadoutBounds(ni
 // Sample returns the mitigated sample Π_{q∈mask} f_q(b_q) of a term read on
 // the qubits of mask (words as [pauli.String.Words] gives) from outcome b.
 func (m *Mitigation) Sample(mask []uint64, b pauli.Bits) float64 {
+	if m.pairOf != nil {
+		return m.pairSample(mask, b)
+	}
 	v := 1.0
 	for w, x := range mask {
 		bw := b[w]
@@ -243,6 +277,9 @@ func (m *Mitigation) Sample(mask []uint64, b pauli.Bits) float64 {
 // Half returns the largest |sample| of a term read on mask: Π_{q∈mask}
 // (1 + |ã_q|)/λ̃_q.
 func (m *Mitigation) Half(mask []uint64) float64 {
+	if m.pairOf != nil {
+		return m.pairFold(mask, func(q int) float64 { return m.half[q] }, func(p *pairBlock, s int) float64 { return p.half[s] })
+	}
 	v := 1.0
 	for w, x := range mask {
 		for ; x != 0; x &= x - 1 {
@@ -256,6 +293,9 @@ func (m *Mitigation) Half(mask []uint64) float64 {
 // a term read on mask when the true rates lie in the boxes (MATH.md §2.1.1);
 // ε_q = 2·max(half-widths of qubit q's two intervals)/λ̃_q.
 func (m *Mitigation) Bias(mask []uint64) float64 {
+	if m.pairOf != nil {
+		return m.pairFold(mask, func(q int) float64 { return 1 + m.eps[q] }, func(p *pairBlock, s int) float64 { return 1 + p.eps[s] }) - 1
+	}
 	v := 1.0
 	for w, x := range mask {
 		for ; x != 0; x &= x - 1 {
@@ -283,6 +323,11 @@ const maxCalibrationLine = 1 << 16
 // Blank lines are skipped. It stops at the first bad line and returns a
 // [*LineError] naming it; lines longer than 64 KiB are refused.
 func ReadCalibration(r io.Reader) (*Calibration, error) {
+	return readCalibration(r, nil)
+}
+
+// readCalibration is ReadCalibration, also counting pairs if any.
+func readCalibration(r io.Reader, pairs [][2]int) (*Calibration, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 4096), maxCalibrationLine)
 	line := 0
@@ -312,7 +357,10 @@ func ReadCalibration(r io.Reader) (*Calibration, error) {
 			return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("outcome of %d bits for a prepared state of %d", len(o), len(p))}
 		}
 		if c == nil {
-			c = NewCalibration(len(p))
+			if why := pairsProblem(pairs, len(p)); why != "" {
+				return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("the file has %d qubits, which the pairs do not fit: %s", len(p), why)}
+			}
+			c, _ = NewPairCalibration(len(p), pairs)
 			prep, read = pauli.NewBits(len(p)), pauli.NewBits(len(p))
 		} else if len(p) != c.Qubits() {
 			return nil, &LineError{Reader: "estimate", Line: line, Reason: fmt.Sprintf("%d qubits, earlier lines have %d", len(p), c.Qubits())}

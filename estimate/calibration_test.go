@@ -245,6 +245,7 @@ func FuzzReadCalibration(f *testing.F) {
 	f.Add("prepared,outcome\n0000,0100\n1111,1101\n")
 	f.Add("prepared,outcome\r\n01,11\r\n\r\n10,10\n")
 	f.Add("prepared,outcome\n0,1,\n")
+	f.Add("prepared,outcome\n00,00\n10,11\n01,01\n11,10\n")
 	f.Fuzz(func(t *testing.T, s string) {
 		c, err := ReadCalibration(strings.NewReader(s))
 		if err != nil {
@@ -260,6 +261,30 @@ func FuzzReadCalibration(f *testing.F) {
 		}
 		if _, err := c.Bounds(0.05); err != nil {
 			t.Fatal(err)
+		}
+		// The same file read with a pair: the pair's table counts every
+		// shot once, and the mitigation is made or refused, never a panic.
+		cp, err := ReadCalibrationPairs(strings.NewReader(s), [][2]int{{0, 1}})
+		if c.Qubits() < 2 {
+			if err == nil {
+				t.Fatal("a pair on a 1-qubit file: no error")
+			}
+			return
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
+		total := 0
+		for _, row := range cp.Pairs[0].Counts {
+			for _, k := range row {
+				total += k
+			}
+		}
+		if total != c.Counts[0].Zero+c.Counts[0].One {
+			t.Fatalf("pair table counts %d shots, the file has %d", total, c.Counts[0].Zero+c.Counts[0].One)
+		}
+		if m, err := cp.Mitigation(0.05); err == nil && m.Half([]uint64{3}) < 1 {
+			t.Fatalf("pair mitigation with range %v < 1", m.Half([]uint64{3}))
 		}
 	})
 }

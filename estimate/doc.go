@@ -114,6 +114,12 @@
 // and [WriteCalibrationShots] simulate them. Package guarantee bounds the
 // mitigated estimate (guarantee.CalibratedBounds).
 //
+// Disjoint pairs of qubits whose read bits may flip together are calibrated
+// as pairs ([NewPairCalibration], [ReadCalibrationPairs]; four preparations,
+// [PairCalibrationPreparations]): [Calibration.Mitigation] reads each pair
+// through the inverse of its observed 4×4 readout matrix and bounds the
+// bias over the Clopper–Pearson box of its 16 entries (MATH.md §2.1.5).
+//
 // # Cost
 //
 // The estimators walk the Hamiltonian term by term. For every qubit and

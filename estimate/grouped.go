@@ -41,8 +41,15 @@ import (
 // each term is read as the sign times the parity of the outcome on its
 // Z-image; readout mitigation (Options.Readout) is refused for them.
 //
+// With Options.Split, the terms the split lists are estimated with its
+// weights (MATH.md §2.5) by a plainer two-pass loop over every (shot,
+// covered term) pair, and the standard error is formed in the same way
+// from each shot's Z_n = Σ_i (h_i α_{ig}/m_g) s_{i,n}.
+//
 // Grouped returns an error if the widths differ, the records hold no shot
-// (wrapping [ErrFormat]) or the options are invalid.
+// (wrapping [ErrFormat]), the options are invalid or the records do not fit
+// the split (a setting it names is missing, or it fails
+// [hamiltonian.Split.Check]).
 func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, error) {
 	c, err := newConfig(h, rec, opts, "Grouped")
 	if err != nil {
@@ -50,6 +57,9 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	}
 	if err := readoutEntangled(opts, rec, "Grouped"); err != nil {
 		return nil, err
+	}
+	if opts != nil && len(opts.Split) > 0 {
+		return groupedSplit(h, rec, c, opts.Split)
 	}
 	m := h.Len()
 	coef := h.Coeffs()

@@ -32,6 +32,14 @@ type Options struct {
 	// (0, 1). Zero means 0.95.
 	Confidence float64
 
+	// Split, if not nil, is the coefficient split of the plan the records
+	// come from (allocate.Plan.Split, MATH.md §2.5): [Grouped] estimates
+	// the terms it lists as Σ_g α_{ig}·mean_g(s_i) over the distinct
+	// settings g, and the others as without it. Every setting it names
+	// must be in the records (a plan measured in full). The other
+	// estimators ignore it.
+	Split hamiltonian.Split
+
 	// Batches is the number of batches of the median-of-means estimate used
 	// by [UniformShadow] and [BiasedShadow]: the shots, in shot order, are
 	// cut into Batches contiguous batches of near-equal size, and the

@@ -141,8 +141,16 @@ func Certify(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, 
 
 // CertifyPlan is [Certify] for a plan made by any allocator. It returns an
 // error if the plan's Cover counts disagree with h (a plan made for another
-// Hamiltonian), naming the first term that differs. The result is identical
-// to Certify(h, p.Settings, p.Shots, δ, opts).
+// Hamiltonian), naming the first term that differs, or its Split does not
+// fit ([hamiltonian.Split.Check]). Without a split the result is identical
+// to Certify(h, p.Settings, p.Shots, δ, opts). With one (MATH.md §2.5) the
+// certificate is that of the split estimator: Variance is
+// V = Σ_g (Σ_i |h_i| α_{ig})²/m_g, ScaledOneNorm is Σ_i |h_i| r_i with
+// r_i² = Σ_g α_{ig}²/m_g (which reduces to 1/N_i without a split), the
+// shares are Radius·v_i/V with v_i = |h_i| Σ_g s_g α_{ig}, s_g the group's
+// Σ_i |h_i| α_{ig}/m_g, and the truncations are the threshold rule with
+// 1/r_i² in place of N_i and, as Optimal, the better of that and dropping
+// nothing (no search is run; Lower is 0 and Exact false).
 func CertifyPlan(h *hamiltonian.Hamiltonian, p *allocate.Plan, delta float64, opts *Options) (*Certificate, error) {
 	if p == nil {
 		return nil, fmt.Errorf("guarantee: nil plan")
@@ -166,6 +174,12 @@ func CertifyPlan(h *hamiltonian.Hamiltonian, p *allocate.Plan, delta float64, op
 				return nil, fmt.Errorf("guarantee: term %d (%s): plan says %d covering shots, its settings give %d", i, h.Pauli(i), p.Cover[i], n)
 			}
 		}
+	}
+	if err := c.setSplit(p.Split); err != nil {
+		return nil, err
+	}
+	if c.sp != nil {
+		return certifySplit(c, delta, opts), nil
 	}
 	return certify(c, delta, opts), nil
 }

@@ -25,6 +25,8 @@ type coverage struct {
 	index  *coverindex.Index
 	b32    []int32 // scratch for rescans
 	sorted bool    // terms returns the terms in table order
+
+	sp *splitState // the coefficient split, nil for the implicit weights (setSplit)
 }
 
 // newCoverage checks a plan against h and builds its coverage. Entries with

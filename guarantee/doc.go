@@ -14,10 +14,12 @@
 // readout. Device noise, readout error, drift between shots and
 // state-preparation error are NOT covered; neither is the difference between
 // the prepared state and the state one meant to prepare. The exception is
-// readout error with independent per-qubit flips: [CalibratedBounds] bounds
-// the readout-mitigated estimate from calibration shots, covering shot noise
-// and the uncertainty of the calibrated rates (MATH.md §2.1.2), and
-// [PlanReadoutBudget] plans its calibration and measurement shots. A bound "at
+// readout error with independent per-qubit flips, or with disjoint pairs of
+// qubits whose reads may flip together (MATH.md §2.1.5): [CalibratedBounds]
+// bounds the readout-mitigated estimate from calibration shots, covering
+// shot noise and the uncertainty of the calibrated rates (MATH.md §2.1.2),
+// [CertifyAll] does so for several observables at once (AllOptions.Calibration),
+// and [PlanReadoutBudget] plans its calibration and measurement shots. A bound "at
 // confidence 1 − δ" fails with probability at most δ under those
 // assumptions. Intervals from the normal approximation
 // ([DataBound].ApproxRadius, and the estimate package's ApproxInterval) are

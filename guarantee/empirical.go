@@ -85,6 +85,13 @@ type EmpiricalOptions struct {
 	// variance bound (the other half of δ goes to the sum). It must be
 	// chosen before seeing the data. Nil means equal shares.
 	Shares []float64
+	// Split, if not nil, is the coefficient split of the plan the records
+	// come from (allocate.Plan.Split): the bound is then about the split
+	// estimate of estimate.Grouped with the same split, each shot of
+	// setting g giving w = Σ_{i◁g, kept} h_i (α_{ig}/m_g) s_i (MATH.md
+	// §2.5, §4.3, §4.7), with m_g the records' shots of g. Every setting it
+	// names must be in the records. Only [Empirical] takes it.
+	Split hamiltonian.Split
 }
 
 // DataBound is a bound on the error of the grouped estimate (MATH.md §2)
@@ -288,9 +295,13 @@ func prepareGroups(c *coverage, coef []float64) ([]*groupStat, groupRows) {
 		half := 0.0
 		for _, i := range c.terms(q) {
 			if coef[i] != 0 {
+				w := coef[i]
+				if c.sp != nil {
+					w = c.h.Coeff(int(i)) * c.u(q, int(i)) // MATH.md §2.5
+				}
 				rows = append(rows, int(i))
-				cf = append(cf, coef[i])
-				half += math.Abs(coef[i])
+				cf = append(cf, w)
+				half += math.Abs(w)
 			}
 		}
 		return rows, cf, half
@@ -353,6 +364,9 @@ func Empirical(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64,
 	// groups in their order: distinct setting q is group q.
 	c, err := newCoverage(h, settings, shots)
 	if err != nil {
+		return nil, err
+	}
+	if err := c.setSplit(o.Split); err != nil {
 		return nil, err
 	}
 	coef, bias := estimatorWeights(h, c.cover, 1, o.Exclude)

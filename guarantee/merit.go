@@ -19,7 +19,8 @@ type Merit struct {
 	// PlanValue is M·Var(Ê) for the grouped estimate Ê of MATH.md §2 at
 	// the plan's own shot counts: with m_g shots of distinct setting g and
 	// N_i = Σ_{g∋i} m_g, Var(Ê) = Σ_g Var(O_g)/m_g where
-	// O_g = Σ_{i◁g} (m_g/N_i) h_i P_i.
+	// O_g = Σ_{i◁g} (m_g/N_i) h_i P_i, or Σ_{i◁g} α_{ig} h_i P_i with the
+	// plan's coefficient split (MATH.md §2.5).
 	PlanValue float64
 	// Optimal is (Σ_g sqrt(Var(O_g)))², the value of M·Var at the shot
 	// fractions f_g ∝ sqrt(Var(O_g)) for the same split O_g of the
@@ -41,8 +42,12 @@ type Merit struct {
 // so n ≤ [hamiltonian.MaxExactQubits]. The terms the plan never covers do
 // not enter: they are bias, not variance.
 //
+// With the plan's coefficient split (allocate.Plan.Split, MATH.md §2.5),
+// O_g = Σ_{i◁g} α_{ig} h_i P_i: the merit of the split estimator.
+//
 // MeritOf returns an error for a nil argument, a plan of another width or
-// without shots, or a state of the wrong length.
+// without shots, a split that does not fit it, or a state of the wrong
+// length.
 func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (*Merit, error) {
 	switch {
 	case h == nil || p == nil:
@@ -58,6 +63,9 @@ func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (
 	}
 	if c.shots == 0 {
 		return nil, fmt.Errorf("guarantee: the plan has no shots")
+	}
+	if err := c.setSplit(p.Split); err != nil {
+		return nil, err
 	}
 	sim, err := estimate.NewSimulator(state, 0, nil)
 	if err != nil {

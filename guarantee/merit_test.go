@@ -93,7 +93,8 @@ func qwcCovers(s pauli.Setting, p pauli.String) bool {
 }
 
 // referenceMerit recomputes PlanValue and Optimal of a local plan with dense
-// matrices: Var_g = ⟨O_g²⟩ − ⟨O_g⟩² with O_g = Σ_{i◁g} (m_g/N_i) h_i P_i.
+// matrices: Var_g = ⟨O_g²⟩ − ⟨O_g⟩² with O_g = Σ_{i◁g} α_{ig} h_i P_i,
+// α_{ig} = m_g/N_i or the plan's split (MATH.md §2.5, [splitWeight]).
 func referenceMerit(h *hamiltonian.Hamiltonian, p *allocate.Plan, psi []complex128) (planValue, optimal float64) {
 	settings, shots := p.Distinct()
 	cover := make([]int, h.Len())
@@ -112,7 +113,7 @@ func referenceMerit(h *hamiltonian.Hamiltonian, p *allocate.Plan, psi []complex1
 			if !covers(s, h.Term(i).Pauli) {
 				continue
 			}
-			w := complex(float64(shots[g])/float64(cover[i])*h.Coeff(i), 0)
+			w := complex(splitWeight(p, s, i, shots[g], cover[i])*h.Coeff(i), 0)
 			d := denseString(h.Term(i).Pauli)
 			for r := range dim {
 				for c := range dim {
@@ -210,7 +211,7 @@ func TestMeritOfH2Outside(t *testing.T) {
 		for _, c := range []struct {
 			a      allocate.Allocator
 			budget int
-		}{{&allocate.Sorted{}, 1000}, {&allocate.Sorted{}, 997}, {&allocate.SortedGC{}, 1000}} {
+		}{{&allocate.Sorted{}, 1000}, {&allocate.Sorted{}, 997}, {&allocate.SortedGC{}, 1000}, {&allocate.Overlap{Proxy: mustStateProxy(t, psi)}, 1000}, {&allocate.Overlap{}, 999}} {
 			budget := c.budget
 			p, err := allocate.Run(h, budget, c.a, nil)
 			if err != nil {
@@ -232,6 +233,37 @@ func TestMeritOfH2Outside(t *testing.T) {
 			}
 		}
 	}
+}
+
+// splitWeight returns α_{ig} of term i in setting s (m_g shots; the term
+// has N_i covering shots): the plan's split weight when the split lists
+// the term (0 in a setting that does not list it), else m_g/N_i. It reads
+// the split entry by entry, independently of the library's lookups.
+func splitWeight(p *allocate.Plan, s pauli.Setting, i, mg, ni int) float64 {
+	listed, w := false, 0.0
+	for _, gr := range p.Split {
+		for k, t := range gr.Terms {
+			if t == i {
+				listed = true
+				if gr.Setting.Equal(s) {
+					w = gr.Weights[k]
+				}
+			}
+		}
+	}
+	if !listed {
+		return float64(mg) / float64(ni)
+	}
+	return w
+}
+
+func mustStateProxy(t *testing.T, psi []complex128) *allocate.StateProxy {
+	t.Helper()
+	px, err := allocate.NewStateProxy(psi)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return px
 }
 
 // applyString returns P|ψ⟩ by the textbook action of a Pauli string on

@@ -7,6 +7,7 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
 )
 
 // Observable is one of several observables estimated from the same shots:
@@ -32,6 +33,22 @@ type AllOptions struct {
 	// passing budget (each step reruns the strategy). Zero means to the
 	// shot.
 	Resolution float64
+	// Calibration, if not nil, makes every estimate of [CertifyAll]
+	// readout-mitigated with the mitigation made from these calibration
+	// counts (MATH.md §2.1.1), and every bound that of the mitigated
+	// estimate, covering shot noise and the calibration's uncertainty
+	// (MATH.md §2.1.2, §4.8): CalibrationDelta of δ is spent once on the
+	// calibration intervals, shared by all observables, and the rest is
+	// split over the observables. Only the pooled data bound exists for a
+	// mitigated estimate (Form must be Pooled).
+	Calibration *estimate.Calibration
+	// CalibrationDelta is the part of δ spent on the calibration
+	// intervals; zero means δ/4. It must be in (0, δ).
+	CalibrationDelta float64
+	// Rates, if not nil, mitigates with readout rates taken as exact (one
+	// per qubit), spending no δ on them; the bounds then hold only if the
+	// rates are the true ones. Calibration and Rates exclude each other.
+	Rates []estimate.Readout
 }
 
 // ObservableBound is one observable's part of a [Simultaneous] result.
@@ -43,9 +60,18 @@ type ObservableBound struct {
 	// observable at Delta (nil without a plan).
 	Certificate *Certificate
 	// Estimate is the grouped estimate from the records and Data its data
-	// bound at Delta (both nil without records).
+	// bound at Delta (both nil without records). With readout
+	// mitigation ([AllOptions.Calibration] or Rates) they are the
+	// mitigated estimate ([estimate.Mitigated]) and its data bound, whose
+	// Bias includes the calibration bias.
 	Estimate *estimate.Result
 	Data     *DataBound
+	// Readout holds the bounds of the mitigated estimate when AllOptions
+	// asks for readout mitigation, and is nil otherwise; Certificate is
+	// then nil and Readout.Certified is the a-priori bound (from the plan,
+	// or from the records' settings without a plan). Its ShotDelta is
+	// Delta and its CalibrationDelta the shared one.
+	Readout *ReadoutBound
 }
 
 // Simultaneous holds bounds for several observables that hold together:
@@ -53,10 +79,27 @@ type ObservableBound struct {
 // separate statement, also at 1 − Delta) every Data bound, holds at once.
 type Simultaneous struct {
 	Delta float64
-	// Split[k] is the fraction of Delta given to observable k (they add
-	// up to 1): the union bound P(some bound fails) ≤ Σ_k δ_k = Delta.
+	// Split[k] is the fraction of Delta − CalibrationDelta given to
+	// observable k (they add up to 1): the union bound P(some bound
+	// fails) ≤ CalibrationDelta + Σ_k δ_k = Delta.
 	Split  []float64
 	Bounds []ObservableBound
+	// CalibrationDelta is the part of Delta spent on the calibration
+	// intervals (zero without AllOptions.Calibration).
+	CalibrationDelta float64
+}
+
+// CertifiedBound returns the observable's a-priori bound: Readout.Certified
+// with readout mitigation, Certificate.Bound otherwise (NaN without a plan
+// and without mitigation).
+func (b *ObservableBound) CertifiedBound() float64 {
+	switch {
+	case b.Readout != nil:
+		return b.Readout.Certified
+	case b.Certificate != nil:
+		return b.Certificate.Bound
+	}
+	return math.NaN()
 }
 
 // split returns the normalised shares of δ for k observables.
@@ -111,6 +154,14 @@ func checkObservables(obs []Observable) (int, error) {
 // need not have been made for any one of the observables: terms it never
 // covers count in each bound's bias.
 //
+// With AllOptions.Calibration every observable is readout-mitigated by the
+// same mitigation (MATH.md §2.1.1) and bounded as in [CalibratedBounds]:
+// CalibrationDelta is spent once on the calibration intervals (one event
+// for all observables) and δ − CalibrationDelta is split over the
+// observables, so all certificates, and separately all data bounds, hold
+// together with probability at least 1 − δ (MATH.md §4.8). With
+// AllOptions.Rates the rates are taken as exact and all of δ is split.
+//
 // It returns an error for no observables, observables of different widths,
 // a bad split, δ outside [MinDelta, 1), or any error of Certify,
 // estimate.Grouped or Empirical, naming the observable.
@@ -137,10 +188,22 @@ func CertifyAll(obs []Observable, p *allocate.Plan, rec *estimate.Records, delta
 		return nil, err
 	}
 	s := &Simultaneous{Delta: delta, Split: w, Bounds: make([]ObservableBound, len(obs))}
+	m, dc, err := o.mitigation(n, delta)
+	if err != nil {
+		return nil, err
+	}
+	s.CalibrationDelta = dc
 	for k, ob := range obs {
-		b := ObservableBound{Name: ob.Name, Delta: delta * w[k]}
+		b := ObservableBound{Name: ob.Name, Delta: (delta - dc) * w[k]}
 		if !validDelta(b.Delta) {
 			return nil, fmt.Errorf("guarantee: observable %d (%q): share δ_k = %v is below MinDelta", k, ob.Name, b.Delta)
+		}
+		if m != nil {
+			if err := mitigatedObservable(&b, ob.H, p, rec, m, dc); err != nil {
+				return nil, fmt.Errorf("guarantee: observable %d (%q): %w", k, ob.Name, err)
+			}
+			s.Bounds[k] = b
+			continue
 		}
 		if p != nil {
 			if b.Certificate, err = Certify(ob.H, p.Settings, p.Shots, b.Delta, o.Options); err != nil {
@@ -158,6 +221,91 @@ func CertifyAll(obs []Observable, p *allocate.Plan, rec *estimate.Records, delta
 		s.Bounds[k] = b
 	}
 	return s, nil
+}
+
+// mitigation returns the readout mitigation AllOptions asks for (nil for
+// none) and the part of δ spent on the calibration intervals.
+func (o AllOptions) mitigation(n int, delta float64) (*estimate.Mitigation, float64, error) {
+	switch {
+	case o.Calibration == nil && o.Rates == nil:
+		if o.CalibrationDelta != 0 {
+			return nil, 0, fmt.Errorf("guarantee: calibration δ = %v without a calibration", o.CalibrationDelta)
+		}
+		return nil, 0, nil
+	case o.Calibration != nil && o.Rates != nil:
+		return nil, 0, fmt.Errorf("guarantee: both a calibration and exact readout rates given; the calibration measures the rates")
+	case o.Form != Pooled:
+		return nil, 0, fmt.Errorf("guarantee: a readout-mitigated estimate has only the pooled data bound, not %v", o.Form)
+	}
+	if o.Rates != nil {
+		if len(o.Rates) != n {
+			return nil, 0, fmt.Errorf("guarantee: %d readout rates for observables of %d qubits", len(o.Rates), n)
+		}
+		if o.CalibrationDelta != 0 {
+			return nil, 0, fmt.Errorf("guarantee: calibration δ = %v with exact readout rates (no calibration to spend it on)", o.CalibrationDelta)
+		}
+		m, err := estimate.NewMitigation(estimate.KnownRates(o.Rates))
+		return m, 0, err
+	}
+	if o.Calibration.Qubits() != n {
+		return nil, 0, fmt.Errorf("guarantee: calibration of %d qubits, observables have %d", o.Calibration.Qubits(), n)
+	}
+	dc, err := ReadoutOptions{CalibrationDelta: o.CalibrationDelta}.calibrationDelta(delta)
+	if err != nil {
+		return nil, 0, err
+	}
+	m, err := o.Calibration.Mitigation(dc)
+	return m, dc, err
+}
+
+// mitigatedObservable fills b, whose Delta is the observable's shot δ_k,
+// with the mitigated estimate of h and its bounds (MATH.md §2.1.2): the
+// certificate from the plan's settings (the records' without a plan) and
+// the data bound from the records.
+func mitigatedObservable(b *ObservableBound, h *hamiltonian.Hamiltonian, p *allocate.Plan, rec *estimate.Records, m *estimate.Mitigation, dc float64) error {
+	var settings []pauli.Setting
+	var shots []int
+	if p != nil {
+		settings, shots = p.Settings, p.Shots
+	} else {
+		settings, shots = recordSettings(rec)
+	}
+	r := &ReadoutBound{Delta: dc + b.Delta, CalibrationDelta: dc, ShotDelta: b.Delta, Mitigation: m}
+	v := 0.0
+	bias, err := mitigatedGroups(h, settings, shots, m, nil, func(_ int, g *mitigatedGroup) {
+		s := 0.0
+		for j := range g.coef {
+			s += math.Abs(g.coef[j]) * g.half[j]
+			r.CalibrationBias += float64(g.mult) * math.Abs(g.coef[j]) * g.bias[j]
+		}
+		v += float64(g.mult) * s * s
+	})
+	if err != nil {
+		return err
+	}
+	r.Bias, r.Radius = bias, math.Sqrt(2*v*math.Log(2/b.Delta))
+	r.Certified = r.Radius + r.CalibrationBias + r.Bias
+	if rec != nil {
+		if b.Estimate, err = estimate.Mitigated(h, rec, m, nil); err != nil {
+			return err
+		}
+		if b.Data, _, err = MitigatedData(h, rec, m, b.Delta, nil); err != nil {
+			return err
+		}
+		r.Energy, r.Data = b.Data.Energy, b.Data
+	}
+	b.Readout = r
+	return nil
+}
+
+// recordSettings returns the distinct settings of rec and their shots.
+func recordSettings(rec *estimate.Records) ([]pauli.Setting, []int) {
+	settings := make([]pauli.Setting, rec.Groups())
+	shots := make([]int, rec.Groups())
+	for g := range settings {
+		settings[g], shots[g] = rec.Setting(g), rec.GroupLen(g)
+	}
+	return settings, shots
 }
 
 // UnionHamiltonian returns the Hamiltonian Σ_k c_k |O_k|: on every Pauli
@@ -278,7 +426,7 @@ func PlanAll(obs []Observable, targets []float64, a allocate.Allocator, delta fl
 		m.Evaluated++
 		ok := true
 		for k, b := range s.Bounds {
-			ok = ok && b.Certificate.Bound <= targets[k]
+			ok = ok && b.CertifiedBound() <= targets[k]
 		}
 		// Keep the smallest passing budget; until one passes, the latest.
 		if ok && (!m.Met || n < m.Shots) || !ok && !m.Met {

@@ -20,13 +20,19 @@ type ReadoutOptions struct {
 	// Exclude marks terms left out of the estimate, as in
 	// [EmpiricalOptions]; their |h_i| is added to the bias.
 	Exclude []bool
+	// Pairs, if not nil, makes [PlanReadoutBudget] plan a calibration of
+	// these disjoint pairs read through their 4×4 design matrices (MATH.md
+	// §2.1.5): four preparations ([estimate.PairCalibrationPreparations])
+	// instead of two.
+	Pairs []estimate.PairReadout
 }
 
 // ReadoutBound holds the bounds of a readout-mitigated grouped estimate
 // ([estimate.Mitigated]; MATH.md §2.1.1, §2.1.2): each of Certified and Data
 // covers |Energy − E| with probability at least 1 − Delta over the
 // calibration shots and the measurement shots together, under the
-// independent-qubit readout model of MATH.md §2.1.
+// independent-qubit readout model of MATH.md §2.1 (or, for a calibration
+// with pairs, the model of disjoint pairs of MATH.md §2.1.5).
 type ReadoutBound struct {
 	// Energy is the mitigated estimate, and Delta the failure probability
 	// of each bound: CalibrationDelta for the calibration intervals plus
@@ -57,8 +63,10 @@ type ReadoutBound struct {
 // calibration must come from shots independent of rec's (a separate run).
 //
 // δ is split: CalibrationDelta for the calibration intervals (every
-// qubit's two Clopper–Pearson intervals, each at CalibrationDelta/(2n)),
-// the rest for the shots. On the event that every rate lies in its
+// qubit's two Clopper–Pearson intervals, each at CalibrationDelta/(2n);
+// with pairs, the 16 cells of each pair and the two rates of each unpaired
+// qubit, each at CalibrationDelta/J, MATH.md §2.1.5), the rest for the
+// shots. On the event that every rate lies in its
 // interval the mitigated estimate's mean is within CalibrationBias of the
 // energy of the measured terms; given the calibration, the shots are
 // independent and each mitigated sample of a term read on mask M lies in
@@ -86,11 +94,7 @@ func CalibratedBounds(h *hamiltonian.Hamiltonian, rec *estimate.Records, cal *es
 	if cal.Qubits() != h.Qubits() {
 		return nil, fmt.Errorf("guarantee: calibration of %d qubits, Hamiltonian has %d", cal.Qubits(), h.Qubits())
 	}
-	bounds, err := cal.Bounds(dc)
-	if err != nil {
-		return nil, err
-	}
-	m, err := estimate.NewMitigation(bounds)
+	m, err := cal.Mitigation(dc)
 	if err != nil {
 		return nil, err
 	}

@@ -13,12 +13,15 @@ import (
 // and measurement shots reach a target accuracy with the readout-aware
 // certificate.
 type ReadoutBudget struct {
-	// CalibrationShots is the number of shots of each of the two
-	// calibration preparations (estimate.CalibrationPreparations), and
-	// Repeat how many times the base plan is measured (every setting gets
-	// Repeat times its base shots). MeasurementShots = Repeat × the base
-	// plan's shots, and TotalShots = 2·CalibrationShots + MeasurementShots.
+	// CalibrationShots is the number of shots of each of the
+	// Preparations calibration preparations (two,
+	// estimate.CalibrationPreparations; four with pairs,
+	// estimate.PairCalibrationPreparations), and Repeat how many times the
+	// base plan is measured (every setting gets Repeat times its base
+	// shots). MeasurementShots = Repeat × the base plan's shots, and
+	// TotalShots = Preparations·CalibrationShots + MeasurementShots.
 	CalibrationShots, Repeat, MeasurementShots, TotalShots int
+	Preparations                                           int
 	// CalibrationBias, Radius and Bias are the parts of the planned
 	// certificate (see [ReadoutBound]) at the design rates; Certified is
 	// their sum, at most the target.
@@ -40,6 +43,12 @@ type ReadoutBudget struct {
 // a grid (×1.25 steps from 16 to 2^40) and the C with the fewest total
 // shots 2C + k·(base shots) is returned. The realised intervals vary with
 // the calibration data; the plan is for the expected counts.
+//
+// With ReadoutOptions.Pairs the calibration has four preparations and
+// the pairs' expected counts are round(Matrix[r][s]·C), the unpaired
+// qubits' round(P·2C) ([estimate.ExpectedPairCalibration]); the intervals
+// and the bias are those of MATH.md §2.1.5, and the total is
+// 4C + k·(base shots).
 //
 // It returns an error for eps ≤ 0, δ outside (0, 1), an empty base plan,
 // rates of the wrong length, or a target that no grid point reaches (the
@@ -73,23 +82,40 @@ func PlanReadoutBudget(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 		return nil, fmt.Errorf("guarantee: empty base plan")
 	}
 	ds := delta - dc
+	preps := 2
+	if o.Pairs != nil {
+		preps = 4
+		if _, err := estimate.ExpectedPairCalibration(rates, o.Pairs, 0); err != nil {
+			return nil, fmt.Errorf("guarantee: %w", err)
+		}
+	}
 	var best *ReadoutBudget
 	for c := 16.0; c <= 1<<40; c = math.Ceil(c * 1.25) {
 		cal := int(c)
-		counts := estimate.NewCalibration(h.Qubits())
-		for q, r := range rates {
-			counts.Counts[q] = estimate.QubitCounts{
-				Zero: cal, Flips01: int(math.Round(r.P01 * c)),
-				One: cal, Flips10: int(math.Round(r.P10 * c)),
+		var m *estimate.Mitigation
+		if o.Pairs != nil {
+			counts, err := estimate.ExpectedPairCalibration(rates, o.Pairs, cal)
+			if err != nil {
+				return nil, err
 			}
-		}
-		bounds, err := counts.Bounds(dc)
-		if err != nil {
-			return nil, err
-		}
-		m, err := estimate.NewMitigation(bounds)
-		if err != nil {
-			continue // too few shots: the interval centres leave λ̃ ≤ 0
+			if m, err = counts.Mitigation(dc); err != nil {
+				continue // too few shots: a plug-in model has nothing to invert
+			}
+		} else {
+			counts := estimate.NewCalibration(h.Qubits())
+			for q, r := range rates {
+				counts.Counts[q] = estimate.QubitCounts{
+					Zero: cal, Flips01: int(math.Round(r.P01 * c)),
+					One: cal, Flips10: int(math.Round(r.P10 * c)),
+				}
+			}
+			bounds, err := counts.Bounds(dc)
+			if err != nil {
+				return nil, err
+			}
+			if m, err = estimate.NewMitigation(bounds); err != nil {
+				continue // too few shots: the interval centres leave λ̃ ≤ 0
+			}
 		}
 		v, calBias := 0.0, 0.0
 		bias, err := mitigatedGroups(h, settings, shots, m, o.Exclude, func(_ int, g *mitigatedGroup) {
@@ -113,16 +139,16 @@ func PlanReadoutBudget(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sho
 		for math.Sqrt(2*v/float64(k)*math.Log(2/ds)) > room {
 			k++
 		}
-		total := 2*cal + k*base
+		total := preps*cal + k*base
 		if best != nil && total >= best.TotalShots {
-			if 2*cal > best.TotalShots {
+			if preps*cal > best.TotalShots {
 				break // calibration alone costs more than the best found
 			}
 			continue
 		}
 		r := math.Sqrt(2 * v / float64(k) * math.Log(2/ds))
 		best = &ReadoutBudget{
-			CalibrationShots: cal, Repeat: k, MeasurementShots: k * base, TotalShots: total,
+			CalibrationShots: cal, Repeat: k, MeasurementShots: k * base, TotalShots: total, Preparations: preps,
 			CalibrationBias: calBias, Radius: r, Bias: bias, Certified: calBias + r + bias,
 		}
 	}

@@ -101,8 +101,15 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 	if c.shots == 0 {
 		return nil, fmt.Errorf("guarantee: the plan has no shots")
 	}
-	a := c.weights()
-	s := c.loads(a, nil)
+	if err := c.setSplit(p.Split); err != nil {
+		return nil, err
+	}
+	var s []float64
+	if c.sp != nil {
+		s = c.splitLoads(nil) // MATH.md §2.5
+	} else {
+		s = c.loads(c.weights(), nil)
+	}
 	v := c.variance(s)
 	b := &ShotBudget{
 		Epsilon: eps, Delta: delta, Reference: c.shots, Settings: len(c.settings),
@@ -227,7 +234,7 @@ func walshHadamard(p []float64) {
 
 // shotMoments computes the first two moments of one shot's contribution
 // Z = Σ_i (h_i/N_i) s_i of a setting to the grouped estimate (MATH.md §2,
-// §2.3) in a state, from the Walsh–Hadamard transform of the setting's
+// §2.3; with a split, Z = Σ_i h_i (α_{iq}/m_q) s_i, MATH.md §2.5) in a state, from the Walsh–Hadamard transform of the setting's
 // outcome distribution: E[s_i] and E[s_i s_j] are its entries at the masks
 // of the bits term i (and j) read. Its slices are scratch space reused from
 // call to call.
@@ -259,7 +266,7 @@ func (sh *shotMoments) of(h *hamiltonian.Hamiltonian, c *coverage, q int, s paul
 			mask, sign = zz[0], sg
 		}
 		sh.masks = append(sh.masks, mask)
-		sh.coef = append(sh.coef, float64(sign)*h.Coeff(int(i))/float64(c.cover[i]))
+		sh.coef = append(sh.coef, float64(sign)*h.Coeff(int(i))*c.u(q, int(i)))
 	}
 	for a, ma := range sh.masks {
 		m1 += sh.coef[a] * sh.p[ma]

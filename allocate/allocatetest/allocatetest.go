@@ -272,6 +272,11 @@ func checkPlan(t reporter, h *hamiltonian.Hamiltonian, budget int, seed uint64, 
 		t.Errorf("Plan.Cover = %v, want CoverCounts of the settings %v", p.Cover, want)
 	}
 
+	// Coefficient split.
+	if err := p.Split.Check(h, p.Settings, p.Shots); err != nil {
+		t.Errorf("Plan.Split: %v", err)
+	}
+
 	// Drawn terms.
 	if p.Drawn != nil {
 		if len(p.Drawn) != budget {

@@ -11,6 +11,7 @@ import (
 	"time"
 
 	"github.com/shotplan/shotplan/allocate"
+	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -29,6 +30,27 @@ type budgetRow struct {
 	Anytime   int     `json:"anytime_shots"`
 	Seconds   float64 `json:"seconds"`
 	Note      string  `json:"note,omitempty"`
+	// Readout is the readout-aware budget (guarantee.PlanReadoutBudget),
+	// present with -readout or -calibration.
+	Readout *readoutBudgetRow `json:"readout,omitempty"`
+}
+
+// readoutBudgetRow is a strategy's readout-aware budget: calibration shots
+// of each of the two preparations, copies of the reference plan, and the
+// parts of the planned certificate.
+type readoutBudgetRow struct {
+	Reachable         bool    `json:"reachable"`
+	CalibrationShots  int     `json:"calibration_shots"`
+	Preparations      int     `json:"preparations"`
+	Copies            int     `json:"copies"`
+	MeasurementShots  int     `json:"measurement_shots"`
+	TotalShots        int     `json:"total_shots"`
+	CalibrationBias   float64 `json:"calibration_bias"`
+	Radius            float64 `json:"radius"`
+	Bias              float64 `json:"bias"`
+	Bound             float64 `json:"certified_bound"`
+	CalibrationDelta  float64 `json:"calibration_delta"`
+	UnreachableReason string  `json:"unreachable,omitempty"`
 }
 
 func budgetFlags(fs *flag.FlagSet, e *env) func() error {
@@ -39,6 +61,10 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the random strategies")
 	reference := fs.Int("reference", 0, "shots of the reference plan whose copies are counted (default: doubled from max(1000, 2·terms) until every term is measured)")
 	proxy := fs.String("proxy", "worst", "variance proxy for the expected figures: worst (every state), exact (the exact ground state), or a basis state as a bit string, qubit 0 first (for example a Hartree–Fock determinant)")
+	readout := fs.String("readout", "", "also plan calibration and measurement shots for the readout-mitigated certificate, for these expected flip rates: P, p01=X,p10=Y or @FILE as in simulate")
+	calibration := fs.String("calibration", "", "like -readout, with the flip rates observed in this calibration records file (see calibrate)")
+	calDelta := fs.Float64("calibration-delta", 0, "with -readout or -calibration: part of -delta spent on the calibration intervals (default -delta/4)")
+	pairsFlag := fs.String("pairs", "", "with -calibration: plan a calibration of these disjoint pairs read through 4×4 models (as calibrate -pairs), their matrices as observed in the file: A-B,C-D")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -70,12 +96,23 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		if err != nil {
+			return err
+		}
+		if pairs != nil && *calibration == "" {
+			return badf("-pairs without -calibration: the pairs' 4×4 readout models are taken from calibration records")
+		}
+		rates, pairModels, err := budgetRates(*readout, *calibration, pairs, h.Qubits(), *delta, *calDelta)
+		if err != nil {
+			return err
+		}
 		var rows []budgetRow
 		for _, name := range names {
 			if name == "fixed" {
 				continue
 			}
-			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state)
+			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, rates, pairModels, *calDelta)
 			if err != nil {
 				return err
 			}
@@ -88,6 +125,10 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 				Proxy   string      `json:"proxy"`
 				Rows    []budgetRow `json:"strategies"`
 			}{*eps, *delta, proxyName, rows})
+		}
+		if rates != nil {
+			e.printReadoutBudget(rows, *ham, *eps, *delta)
+			return nil
 		}
 		fmt.Fprintf(e.stdout, "shots for |error| ≤ %g with probability ≥ %g%% on %s (proxy: %s)\n", *eps, 100*(1-*delta), *ham, proxyName)
 		width := len("strategy")
@@ -114,8 +155,96 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 	}
 }
 
-// budgetFor plans the reference plan of one strategy and counts its copies.
-func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128) (budgetRow, error) {
+// budgetRates returns the expected flip rates of -readout or of the
+// calibration file of -calibration (the observed fractions), nil for
+// neither.
+func budgetRates(readout, calPath string, pairs [][2]int, qubits int, delta, calDelta float64) ([]estimate.Readout, []estimate.PairReadout, error) {
+	switch {
+	case readout != "" && calPath != "":
+		return nil, nil, badf("-readout and -calibration both given: give the expected rates or a calibration to take them from")
+	case readout == "" && calPath == "":
+		if calDelta != 0 {
+			return nil, nil, badf("-calibration-delta without -readout or -calibration")
+		}
+		return nil, nil, nil
+	}
+	if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
+		return nil, nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
+	}
+	if readout != "" {
+		r, err := parseReadout(readout, qubits)
+		return r, nil, err
+	}
+	cal, err := loadCalibration(calPath, pairs, qubits)
+	if err != nil {
+		return nil, nil, err
+	}
+	paired := make([]bool, qubits)
+	for _, p := range pairs {
+		paired[p[0]], paired[p[1]] = true, true
+	}
+	rates := make([]estimate.Readout, qubits)
+	for q, k := range cal.Counts {
+		if paired[q] {
+			continue // read through its pair's matrix
+		}
+		if k.Zero == 0 {
+			return nil, nil, badf("%s: qubit %d was never prepared in 0: its rate P01 is unknown", calPath, q)
+		}
+		if k.One == 0 {
+			return nil, nil, badf("%s: qubit %d was never prepared in 1: its rate P10 is unknown", calPath, q)
+		}
+		rates[q] = estimate.Readout{P01: float64(k.Flips01) / float64(k.Zero), P10: float64(k.Flips10) / float64(k.One)}
+		if rates[q].P01+rates[q].P10 >= 1 {
+			return nil, nil, badf("%s: qubit %d: observed P01 + P10 = %.3g leaves nothing to mitigate (need < 1)", calPath, q, rates[q].P01+rates[q].P10)
+		}
+	}
+	if pairs == nil {
+		return rates, nil, nil
+	}
+	models, err := cal.ObservedPairs()
+	if err != nil {
+		return nil, nil, badf("%s: %w", calPath, err)
+	}
+	return rates, models, nil
+}
+
+// printReadoutBudget prints the readout-aware budget of every strategy.
+func (e *env) printReadoutBudget(rows []budgetRow, ham string, eps, delta float64) {
+	fmt.Fprintf(e.stdout, "shots for |error| ≤ %g of the readout-mitigated estimate with probability ≥ %g%% on %s, calibration included\n", eps, 100*(1-delta), ham)
+	width := len("strategy")
+	for _, r := range rows {
+		width = max(width, len(r.Strategy))
+	}
+	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', tabwriter.AlignRight)
+	fmt.Fprintf(tw, "%-*s\treference\tcalibration\tcopies\tmeasurement\ttotal\tcalibration bias\tplain certified\t\n", width, "strategy")
+	for _, r := range rows {
+		plain := "-"
+		if r.Reachable {
+			plain = fmt.Sprint(r.Shots)
+		}
+		if r.Readout == nil || !r.Readout.Reachable {
+			fmt.Fprintf(tw, "%-*s\t%d\t-\t-\t-\t-\t-\t%s\t\n", width, r.Strategy, r.Reference, plain)
+			continue
+		}
+		b := r.Readout
+		fmt.Fprintf(tw, "%-*s\t%d\t%d×%d\t%d\t%d\t%d\t%.3g\t%s\t\n", width, r.Strategy, r.Reference, b.Preparations, b.CalibrationShots, b.Copies,
+			b.MeasurementShots, b.TotalShots, b.CalibrationBias, plain)
+	}
+	tw.Flush()
+	for _, r := range rows {
+		switch {
+		case r.Note != "":
+			fmt.Fprintf(e.stdout, "%s: %s\n", r.Strategy, r.Note)
+		case r.Readout != nil && !r.Readout.Reachable:
+			fmt.Fprintf(e.stdout, "%s: %s\n", r.Strategy, r.Readout.UnreachableReason)
+		}
+	}
+}
+
+// budgetFor plans the reference plan of one strategy and counts its copies;
+// with rates, also the readout-aware budget of calibration and copies.
+func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
 	start := time.Now()
 	row := budgetRow{Strategy: name}
 	a, err := allocate.ByName(name, seed)
@@ -149,6 +278,25 @@ func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64,
 	}
 	row.Reference, row.Settings, row.Bias, row.Reachable = b.Reference, b.Settings, b.Bias, b.Reachable
 	row.Copies, row.Shots, row.Proxy, row.Anytime = b.Copies, b.Shots, b.ProxyShots, b.AnytimeShots
+	if rates != nil {
+		row.Readout = &readoutBudgetRow{CalibrationDelta: calDelta}
+		if row.Readout.CalibrationDelta == 0 {
+			row.Readout.CalibrationDelta = delta / 4
+		}
+		rb, err := guarantee.PlanReadoutBudget(h, p.Settings, p.Shots, rates, eps, delta, &guarantee.ReadoutOptions{CalibrationDelta: calDelta, Pairs: pairs})
+		if err != nil {
+			// The inputs were checked: what is left is a target no
+			// calibration size reaches with this plan.
+			row.Readout.UnreachableReason = strings.TrimPrefix(err.Error(), "guarantee: ")
+		} else {
+			*row.Readout = readoutBudgetRow{
+				Reachable: true, CalibrationShots: rb.CalibrationShots, Preparations: rb.Preparations, Copies: rb.Repeat,
+				MeasurementShots: rb.MeasurementShots, TotalShots: rb.TotalShots,
+				CalibrationBias: rb.CalibrationBias, Radius: rb.Radius, Bias: rb.Bias, Bound: rb.Certified,
+				CalibrationDelta: row.Readout.CalibrationDelta,
+			}
+		}
+	}
 	if !b.Reachable {
 		row.Note = fmt.Sprintf("terms its reference plan never measures add a bias of %.3g ≥ ε; try a larger -reference", b.Bias)
 	} else if b.Bias > 0 {
@@ -216,5 +364,21 @@ states and are close to the certified one.
 JSON keys, per strategy: reference_shots, settings, bias (of terms the
 reference plan never measures), reachable (bias < ε), copies,
 certified_shots, proxy_shots, anytime_shots, seconds, note.
+
+With -readout RATES (the flip rates expected of the device) or -calibration
+FILE (the rates observed in earlier calibration records) the budget is for
+the readout-mitigated estimate certified with a fresh calibration (MATH.md
+§2.1.3): calibration shots C of each of the two preparations (all 0, all 1)
+and copies k of the reference plan, the pair with the fewest total shots
+2C + k × reference whose planned certificate (calibration bias + radius +
+bias, at the expected calibration counts) is ≤ ε. -calibration-delta of δ
+goes to the calibration intervals. The plan is for the expected counts; a
+real calibration's intervals vary. With -pairs A-B,C-D (and -calibration)
+the calibration is that of calibrate -pairs: four preparations, the pairs
+read through 4×4 models observed in the file (MATH.md §2.1.5), total
+4C + k × reference. JSON key readout, per strategy: reachable,
+calibration_shots (per preparation), preparations, copies, measurement_shots,
+total_shots, calibration_bias, radius, bias, certified_bound,
+calibration_delta, unreachable (why not, when not reachable).
 `
 }

@@ -31,6 +31,7 @@ func calibrateFlags(fs *flag.FlagSet, e *env) func() error {
 	qubits := fs.Int("qubits", 0, "number of qubits (required)")
 	shots := fs.Int("shots", 0, "shots of each preparation (required)")
 	out := fs.String("o", "", "output calibration plan, CSV prepared,shots (required; - for standard output)")
+	pairsFlag := fs.String("pairs", "", pairsFlagHelp)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -48,7 +49,16 @@ func calibrateFlags(fs *flag.FlagSet, e *env) func() error {
 			return err
 		}
 		preps := estimate.CalibrationPreparations(*qubits)
-		err := e.writeOutput(*out, func(w io.Writer) error {
+		pairs, err := parsePairs(*pairsFlag, *qubits)
+		if err != nil {
+			return err
+		}
+		if pairs != nil {
+			if preps, err = estimate.PairCalibrationPreparations(*qubits, pairs); err != nil {
+				return bad(err)
+			}
+		}
+		err = e.writeOutput(*out, func(w io.Writer) error {
 			bw := bufio.NewWriter(w)
 			bw.WriteString("prepared,shots\n")
 			for _, p := range preps {
@@ -67,8 +77,12 @@ func calibrateFlags(fs *flag.FlagSet, e *env) func() error {
 				Shots        int    `json:"shots"`
 			}{*out, *qubits, len(preps), len(preps) * *shots})
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: %d preparations (all 0, all 1) × %s = %s on %d qubits\n",
-			outName(*out), len(preps), plural(*shots, "shot"), plural(len(preps)**shots, "shot"), *qubits)
+		what := "all 0, all 1"
+		if pairs != nil {
+			what = fmt.Sprintf("each of %s in each of its 4 states", plural(len(pairs), "pair"))
+		}
+		fmt.Fprintf(e.stdout, "wrote %s: %d preparations (%s) × %s = %s on %d qubits\n",
+			outName(*out), len(preps), what, plural(*shots, "shot"), plural(len(preps)**shots, "shot"), *qubits)
 		return nil
 	}
 }
@@ -87,7 +101,67 @@ calibration records file:
 
 (qubit 0 first). Give that file to estimate -calibration; simulate
 -calibration-shots writes one from simulated readout error.
+
+With -pairs 0-1,2-3 the listed pairs of qubits, whose read bits may flip
+together, are calibrated as pairs: four preparations put every pair in each
+of its four basis states at once (all 0; every pair's first qubit 1; every
+pair's second qubit 1; all 1), and estimate -calibration FILE -pairs 0-1,2-3
+reads each pair through its own 4×4 readout model with its confidence region
+(MATH.md §2.1.5). Pairs must be disjoint.
 `
+}
+
+// pairsFlagHelp is the help text of -pairs.
+const pairsFlagHelp = "calibrate these disjoint pairs of qubits as pairs whose read bits may flip together: A-B,C-D (for example 0-1,2-3; MATH.md §2.1.5)"
+
+// maxPairsFlag caps the length of a -pairs list.
+const maxPairsFlag = 1 << 16
+
+// parsePairs reads the -pairs list "A-B,C-D" of disjoint pairs of qubits
+// below n; "" means none.
+func parsePairs(s string, n int) ([][2]int, error) {
+	if s == "" {
+		return nil, nil
+	}
+	if len(s) > maxPairsFlag {
+		return nil, badf("-pairs: %d bytes, at most %d", len(s), maxPairsFlag)
+	}
+	var out [][2]int
+	for _, f := range strings.Split(s, ",") {
+		a, b, ok := strings.Cut(strings.TrimSpace(f), "-")
+		x, err1 := strconv.Atoi(strings.TrimSpace(a))
+		y, err2 := strconv.Atoi(strings.TrimSpace(b))
+		if !ok || err1 != nil || err2 != nil {
+			return nil, badf("-pairs: %q is not a pair A-B of qubit numbers (for example 0-1)", shorten(f))
+		}
+		out = append(out, [2]int{x, y})
+	}
+	if _, err := estimate.PairCalibrationPreparations(n, out); err != nil {
+		_, why, _ := strings.Cut(err.Error(), estimate.ErrFormat.Error()+": ")
+		return nil, badf("-pairs: %s", why)
+	}
+	return out, nil
+}
+
+// shorten clips a flag value for a message.
+func shorten(s string) string {
+	if len(s) > 40 {
+		return s[:37] + "..."
+	}
+	return s
+}
+
+// loadCalibration reads the calibration records file of -calibration, with
+// the pairs of -pairs, for a Hamiltonian of the given width.
+func loadCalibration(path string, pairs [][2]int, qubits int) (*estimate.Calibration, error) {
+	cal, err := estimate.ReadCalibrationPairsFile(path, pairs)
+	if err != nil {
+		return nil, bad(err)
+	}
+	if cal.Qubits() != qubits {
+		return nil, badf("%s: calibration of %d qubits, the Hamiltonian has %d", path, cal.Qubits(), qubits)
+	}
+	return cal, nil
 }
 
 // parseRates parses the keyed forms of -readout: "p01=X,p10=Y" for every
@@ -259,18 +333,15 @@ func printMitigated(w io.Writer, r *mitigatedResult, groups int, delta float64, 
 }
 
 // estimateMitigated is estimate with -readout or -calibration.
-func (e *env) estimateMitigated(h *hamiltonian.Hamiltonian, rec *estimate.Records, settings []pauli.Setting, shots []int, ro []estimate.Readout, calPath string, delta, calDelta float64) error {
+func (e *env) estimateMitigated(h *hamiltonian.Hamiltonian, rec *estimate.Records, settings []pauli.Setting, shots []int, ro []estimate.Readout, calPath string, pairs [][2]int, delta, calDelta float64) error {
 	if ro != nil && calPath != "" {
 		return badf("-readout and -calibration both given: the calibration measures the rates")
 	}
 	var cal *estimate.Calibration
 	if calPath != "" {
 		var err error
-		if cal, err = estimate.ReadCalibrationFile(calPath); err != nil {
-			return bad(err)
-		}
-		if cal.Qubits() != h.Qubits() {
-			return badf("%s: calibration of %d qubits, the Hamiltonian has %d", calPath, cal.Qubits(), h.Qubits())
+		if cal, err = loadCalibration(calPath, pairs, h.Qubits()); err != nil {
+			return err
 		}
 		if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
 			return badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)

@@ -6,12 +6,12 @@
 //	shotplan info     [-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
 //	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] -o PLAN
-//	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N]
+//	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
 //	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR
-//	shotplan simulate -ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
-//	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D]] [-observables N,Sz,S2]
-//	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS]
-//	shotplan calibrate -qubits N -shots M -o PLAN
+//	shotplan simulate -ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P [-pairs A-B,...]] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
+//	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
+//	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|exact|BITS] [-readout P|p01=X,p10=Y|@FILE | -calibration CALIB [-pairs A-B,...]] [-calibration-delta D]
+//	shotplan calibrate -qubits N -shots M [-pairs A-B,...] -o PLAN
 //	shotplan rounds start  -ham H -eps E [-delta 0.05] [-strategy NAME] -o STATE
 //	shotplan rounds next   -state STATE -o PLAN
 //	shotplan rounds add    -state STATE -records RECORDS...

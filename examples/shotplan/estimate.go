@@ -22,6 +22,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	readout := fs.String("readout", "", "mitigate readout error with these rates, taken as exact: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "calibration records file (prepared,outcome; see calibrate): mitigate readout error and bound the mitigated estimate with the calibration's uncertainty")
 	calDelta := fs.Float64("calibration-delta", 0, "part of -delta spent on the calibration intervals (default -delta/4)")
+	pairsFlag := fs.String("pairs", "", "with -calibration: read these disjoint pairs of qubits through 4×4 readout models calibrated from the file (as given to calibrate -pairs): A-B,C-D")
 	observables := fs.String("observables", "", observablesFlagHelp)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -47,16 +48,28 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
+		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		if err != nil {
+			return err
+		}
+		if pairs != nil && *calibration == "" {
+			return badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
+		}
+		split := f.Plan.Split
+		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
+			return badf("the plan splits coefficients between settings (-strategy overlap); -observables, -readout and -calibration do not take such plans yet")
+		}
 		if *observables != "" {
-			if ro != nil || *calibration != "" {
-				return badf("-observables cannot be combined with -readout or -calibration yet: the observables' bounds would not cover readout error")
+			ropts, err := readoutOptions(ro, *calibration, pairs, h.Qubits(), *delta, *calDelta)
+			if err != nil {
+				return err
 			}
-			return e.estimateObservables(*observables, *ham, h, f.Plan, rec, *delta)
+			return e.estimateObservables(*observables, *ham, h, f.Plan, rec, *delta, ropts)
 		}
 		if ro != nil || *calibration != "" {
-			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, *delta, *calDelta)
+			return e.estimateMitigated(h, rec, settings, shots, ro, *calibration, pairs, *delta, *calDelta)
 		}
-		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta})
+		res, err := estimate.Grouped(h, rec, &estimate.Options{Confidence: 1 - *delta, Split: split})
 		if err != nil {
 			return err
 		}
@@ -64,7 +77,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		data, form, err := dataBound(h, rec, *delta)
+		data, form, err := dataBound(h, rec, *delta, split)
 		if err != nil {
 			return err
 		}
@@ -86,7 +99,11 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		conf := 100 * (1 - *delta)
 		tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
-		fmt.Fprintf(tw, "energy\t%.8f\tgrouped estimator, %d shots on %s\n", res.Energy, res.Shots, plural(rec.Groups(), "setting"))
+		what := "grouped estimator"
+		if split != nil {
+			what = "grouped estimator with the plan's coefficient split"
+		}
+		fmt.Fprintf(tw, "energy\t%.8f\t%s, %d shots on %s\n", res.Energy, what, res.Shots, plural(rec.Groups(), "setting"))
 		fmt.Fprintf(tw, "error bar\t±%.8f\tAPPROXIMATE %g%% interval (standard error %.3g, normal approximation)\n", res.ApproxInterval[1]-res.Energy, conf, res.StdErr)
 		fmt.Fprintf(tw, "certified bound\t±%.8f\tfrom the plan alone, every state, probability ≥ %g%%\n", cert.Bound, conf)
 		fmt.Fprintf(tw, "data bound\t±%.8f\tfrom these shots (empirical Bernstein, %s), probability ≥ %g%%\n", data.Bound, form, conf)
@@ -106,13 +123,14 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 // (guarantee.Empirical), each at δ/2, so that the one reported holds at
 // 1 − δ (a union bound), and the name of the form it came from. Pooled
 // suits settings with many shots each; residual, plans whose settings are
-// mostly measured once (MATH.md §4.3, §4.7).
-func dataBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64) (*guarantee.DataBound, string, error) {
-	pooled, err := guarantee.Empirical(h, rec, delta/2, nil)
+// mostly measured once (MATH.md §4.3, §4.7). A plan's coefficient split
+// (MATH.md §2.5), if any, is the estimate's.
+func dataBound(h *hamiltonian.Hamiltonian, rec *estimate.Records, delta float64, split hamiltonian.Split) (*guarantee.DataBound, string, error) {
+	pooled, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Split: split})
 	if err != nil {
 		return nil, "", err
 	}
-	resid, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Form: guarantee.Residual})
+	resid, err := guarantee.Empirical(h, rec, delta/2, &guarantee.EmpiricalOptions{Form: guarantee.Residual, Split: split})
 	if err != nil {
 		return nil, "", err
 	}
@@ -177,6 +195,9 @@ With -calibration FILE (calibration records, see calibrate) the energy is
 readout-mitigated and both bounds are those of the mitigated estimate: they
 cover shot noise and the uncertainty of the calibrated flip rates (MATH.md
 §2.1.2), with -calibration-delta of δ spent on the calibration intervals.
+With -pairs A-B,C-D as well (a calibration made with calibrate -pairs) the
+listed disjoint pairs are read through their own 4×4 readout models, for
+devices whose neighbouring read bits flip together (MATH.md §2.1.5).
 With -readout RATES the rates are taken as exact and the bounds are those of
 the mitigated estimate under that assumption.
 
@@ -184,6 +205,10 @@ With -observables N,Sz,S2 (an FCIDUMP as -ham) the particle number, S_z and
 S² built from its orbitals are estimated from the same records as the energy,
 one line each; δ is split equally over the energy and the listed observables
 so that all certified bounds hold together at 1 − δ, and so do all data
-bounds (MATH.md §4.8).
+bounds (MATH.md §4.8). With -calibration (or -readout) as well, every
+observable is readout-mitigated and bounded with the calibration's
+uncertainty: -calibration-delta of δ is spent once on the calibration
+intervals, the rest split equally over the observables (MATH.md §2.1.2,
+§4.8), and the data bound is the pooled one.
 `
 }

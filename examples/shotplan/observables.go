@@ -55,6 +55,39 @@ func parseObservables(list, path string, h *hamiltonian.Hamiltonian) ([]guarante
 	return obs, nil
 }
 
+// readoutOptions returns the readout part of the observables' options from
+// -readout (rates taken as exact) or -calibration FILE: nil for neither.
+func readoutOptions(ro []estimate.Readout, calPath string, pairs [][2]int, qubits int, delta, calDelta float64) (*guarantee.AllOptions, error) {
+	if ro != nil && calPath != "" {
+		return nil, badf("-readout and -calibration both given: the calibration measures the rates")
+	}
+	if calPath == "" {
+		if calDelta != 0 {
+			return nil, badf("-calibration-delta without -calibration")
+		}
+		if ro == nil {
+			return nil, nil
+		}
+		return &guarantee.AllOptions{Rates: ro}, nil
+	}
+	cal, err := loadCalibration(calPath, pairs, qubits)
+	if err != nil {
+		return nil, err
+	}
+	if calDelta != 0 && !(calDelta > 0 && calDelta < delta) {
+		return nil, badf("-calibration-delta %g: want a value in (0, -delta = %g)", calDelta, delta)
+	}
+	// Refuse a calibration with nothing to invert here, naming the file.
+	dc := calDelta
+	if dc == 0 {
+		dc = delta / 4
+	}
+	if _, err := cal.Mitigation(dc); err != nil {
+		return nil, badf("%s: %w", calPath, err)
+	}
+	return &guarantee.AllOptions{Calibration: cal, CalibrationDelta: calDelta}, nil
+}
+
 // observableReport is one line of the estimate -observables output.
 type observableReport struct {
 	Name      string  `json:"name"`
@@ -64,46 +97,72 @@ type observableReport struct {
 	DataBound float64 `json:"data_bound"`
 	DataForm  string  `json:"data_form"`
 	Bias      float64 `json:"bias"`
-	Delta     float64 `json:"delta"`
+	// CalibrationBias is the readout mitigation's bias bound (included in
+	// both bounds); zero without mitigation.
+	CalibrationBias float64 `json:"calibration_bias"`
+	Delta           float64 `json:"delta"`
 }
 
 // estimateObservables estimates the energy and the listed observables from
 // the same records. The certificates are at δ_k = δ/K each; the data bound
 // of each observable is the smaller of the pooled and residual bounds, each
 // at δ_k/2, so all certificates hold together at 1 − δ, and so do all data
-// bounds (union bounds, MATH.md §4.8).
-func (e *env) estimateObservables(list, path string, h *hamiltonian.Hamiltonian, p *allocate.Plan, rec *estimate.Records, delta float64) error {
+// bounds (union bounds, MATH.md §4.8). With readout options (ro not nil)
+// every observable is mitigated; the calibration's share of δ is spent
+// once, the rest split over the observables, and the data bound is the
+// pooled one of the mitigated samples (MATH.md §2.1.2).
+func (e *env) estimateObservables(list, path string, h *hamiltonian.Hamiltonian, p *allocate.Plan, rec *estimate.Records, delta float64, ro *guarantee.AllOptions) error {
 	obs, err := parseObservables(list, path, h)
 	if err != nil {
 		return err
 	}
-	cert, err := guarantee.CertifyAll(obs, p, rec, delta, &guarantee.AllOptions{Options: &guarantee.Options{Top: -1}})
-	if err != nil {
-		return err
-	}
-	pooled, err := guarantee.CertifyAll(obs, nil, rec, delta/2, nil)
-	if err != nil {
-		return err
-	}
-	resid, err := guarantee.CertifyAll(obs, nil, rec, delta/2, &guarantee.AllOptions{Form: guarantee.Residual})
-	if err != nil {
-		return err
-	}
 	out := make([]observableReport, len(obs))
-	for k, b := range cert.Bounds {
-		data, form := pooled.Bounds[k].Data, "pooled"
-		if r := resid.Bounds[k].Data; r.Bound < data.Bound {
-			data, form = r, "residual"
+	var calDelta float64
+	if ro != nil {
+		s, err := guarantee.CertifyAll(obs, p, rec, delta, ro)
+		if err != nil {
+			if ro.Calibration != nil {
+				return bad(err)
+			}
+			return err
 		}
-		out[k] = observableReport{b.Name, b.Estimate.Energy, b.Estimate.StdErr, b.Certificate.Bound, data.Bound, form, b.Estimate.Bias, b.Delta}
+		calDelta = s.CalibrationDelta
+		for k, b := range s.Bounds {
+			out[k] = observableReport{b.Name, b.Estimate.Energy, b.Estimate.StdErr, b.Readout.Certified, b.Data.Bound, "pooled",
+				b.Readout.Bias, b.Readout.CalibrationBias, b.Delta}
+		}
+	} else {
+		cert, err := guarantee.CertifyAll(obs, p, rec, delta, &guarantee.AllOptions{Options: &guarantee.Options{Top: -1}})
+		if err != nil {
+			return err
+		}
+		pooled, err := guarantee.CertifyAll(obs, nil, rec, delta/2, nil)
+		if err != nil {
+			return err
+		}
+		resid, err := guarantee.CertifyAll(obs, nil, rec, delta/2, &guarantee.AllOptions{Form: guarantee.Residual})
+		if err != nil {
+			return err
+		}
+		for k, b := range cert.Bounds {
+			data, form := pooled.Bounds[k].Data, "pooled"
+			if r := resid.Bounds[k].Data; r.Bound < data.Bound {
+				data, form = r, "residual"
+			}
+			out[k] = observableReport{b.Name, b.Estimate.Energy, b.Estimate.StdErr, b.Certificate.Bound, data.Bound, form, b.Estimate.Bias, 0, b.Delta}
+		}
 	}
+	mitigated, calibrated := ro != nil, ro != nil && ro.Calibration != nil
 	if e.json {
 		return e.writeJSON(struct {
-			Observables []observableReport `json:"observables"`
-			Delta       float64            `json:"delta"`
-			Shots       int                `json:"shots"`
-			Settings    int                `json:"settings"`
-		}{out, delta, rec.Len(), rec.Groups()})
+			Observables      []observableReport `json:"observables"`
+			Delta            float64            `json:"delta"`
+			CalibrationDelta float64            `json:"calibration_delta"`
+			Shots            int                `json:"shots"`
+			Settings         int                `json:"settings"`
+			Mitigated        bool               `json:"readout_mitigated"`
+			Calibrated       bool               `json:"readout_calibrated"`
+		}{out, delta, calDelta, rec.Len(), rec.Groups(), mitigated, calibrated})
 	}
 	tw := tabwriter.NewWriter(e.stdout, 0, 0, 2, ' ', 0)
 	fmt.Fprintf(tw, "observable\testimate\tcertified bound\tdata bound\tδ_k\n")
@@ -111,8 +170,17 @@ func (e *env) estimateObservables(list, path string, h *hamiltonian.Hamiltonian,
 		fmt.Fprintf(tw, "%s\t%.8f\t±%.8f\t±%.8f (%s)\t%.3g\n", r.Name, r.Estimate, r.Bound, r.DataBound, r.DataForm, r.Delta)
 	}
 	tw.Flush()
-	fmt.Fprintf(e.stdout, "%d shots on %s; all certified bounds hold together with probability ≥ %g%%, and so do all data bounds\n"+
-		"(δ = %g split equally over %d observables; shot noise only)\n", rec.Len(), plural(rec.Groups(), "setting"), 100*(1-delta), delta, len(obs))
+	fmt.Fprintf(e.stdout, "%d shots on %s; all certified bounds hold together with probability ≥ %g%%, and so do all data bounds\n",
+		rec.Len(), plural(rec.Groups(), "setting"), 100*(1-delta))
+	switch {
+	case calibrated:
+		fmt.Fprintf(e.stdout, "(readout-mitigated; δ = %g split as %.3g for the calibration intervals and the rest equally over %d observables;\n"+
+			" the bounds cover shot noise and the calibration's uncertainty)\n", delta, calDelta, len(obs))
+	case mitigated:
+		fmt.Fprintf(e.stdout, "(readout-mitigated with the -readout rates taken as exact; δ = %g split equally over %d observables)\n", delta, len(obs))
+	default:
+		fmt.Fprintf(e.stdout, "(δ = %g split equally over %d observables; shot noise only)\n", delta, len(obs))
+	}
 	return nil
 }
 

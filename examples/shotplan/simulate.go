@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"errors"
 	"flag"
 	"fmt"
@@ -13,6 +14,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
 )
 
 func simulateFlags(fs *flag.FlagSet, e *env) func() error {
@@ -29,6 +31,7 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 	depol := fs.String("depolarizing", "", "probability P that each qubit is depolarised just before it is measured (every outcome of a product-basis setting flips with probability P/2)")
 	dephase := fs.String("dephasing", "", "probability P that each qubit loses its coherence just before it is measured (X and Y outcomes of a product-basis setting flip with probability P/2)")
 	pairFlip := fs.String("pair-flip", "", "probability P that the read bits of each pair of neighbouring qubits q, q+1 flip together")
+	pairsFlag := fs.String("pairs", "", "with -pair-flip: only these disjoint pairs of neighbouring qubits A-B (B = A ± 1) flip together, and -calibration-shots prepares the 4 states of every pair (as calibrate -pairs) and reads them through all the noise")
 	sf := addSectorFlags(fs)
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -107,6 +110,15 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if opts.PairFlip, err = uniformRate("pair-flip", *pairFlip, h.Qubits()-1); err != nil {
 			return err
 		}
+		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		if err != nil {
+			return err
+		}
+		if pairs != nil {
+			if opts.PairFlip, err = onlyPairs(opts.PairFlip, pairs); err != nil {
+				return err
+			}
+		}
 		if err := checkMemory(fmt.Sprintf("simulating %d shots on %d qubits (%s)", f.Plan.TotalShots(), h.Qubits(), sec), simulateBytes(h.Qubits(), f.Plan.TotalShots(), sec), memLimit); err != nil {
 			return err
 		}
@@ -171,7 +183,12 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			if rates == nil {
 				rates = make([]estimate.Readout, h.Qubits())
 			}
-			if err := outputErr(estimate.WriteCalibrationShotsFile(*calOut, rates, *calShots, *seed^0x63616c)); err != nil {
+			if pairs != nil {
+				err = writeNoisyCalibration(*calOut, h.Qubits(), pairs, opts, *calShots, *seed^0x63616c)
+			} else {
+				err = estimate.WriteCalibrationShotsFile(*calOut, rates, *calShots, *seed^0x63616c)
+			}
+			if err := outputErr(err); err != nil {
 				return err
 			}
 		}
@@ -186,10 +203,11 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 			Depolarizing string   `json:"depolarizing,omitempty"`
 			Dephasing    string   `json:"dephasing,omitempty"`
 			PairFlip     string   `json:"pair_flip,omitempty"`
+			Pairs        string   `json:"pairs,omitempty"`
 			Sector       string   `json:"sector"`
 			Calibration  string   `json:"calibration_output,omitempty"`
 			CalShots     int      `json:"calibration_shots,omitempty"`
-		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, sec.String(), *calOut, *calShots}
+		}{*out, rec.Len(), *seed, *prepare, h.Energy(state), nil, *readout, *depol, *dephase, *pairFlip, *pairsFlag, sec.String(), *calOut, *calShots}
 		if ground != nil {
 			res.GroundEnergy, res.Energy = &ground.Energy, ground.Energy
 		}
@@ -200,14 +218,22 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if *readout != "" {
 			fmt.Fprintf(e.stdout, ", readout error %s", *readout)
 		}
-		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", *pairFlip}} {
+		flips := *pairFlip
+		if flips != "" && *pairsFlag != "" {
+			flips += " on pairs " + *pairsFlag
+		}
+		for _, n := range [][2]string{{"depolarizing", *depol}, {"dephasing", *dephase}, {"pair flips", flips}} {
 			if n[1] != "" {
 				fmt.Fprintf(e.stdout, ", %s %s", n[0], n[1])
 			}
 		}
 		fmt.Fprintln(e.stdout)
 		if *calOut != "" {
-			fmt.Fprintf(e.stdout, "wrote %s: %d calibration shots of each of 2 preparations\n", *calOut, *calShots)
+			preps := 2
+			if pairs != nil {
+				preps = 4
+			}
+			fmt.Fprintf(e.stdout, "wrote %s: %d calibration shots of each of %d preparations\n", *calOut, *calShots, preps)
 		}
 		return nil
 	}
@@ -236,6 +262,73 @@ func groundOrCached(h *hamiltonian.Hamiltonian, sec chosenSector, stateFile stri
 		}
 	}
 	return g, nil
+}
+
+// onlyPairs keeps the pair flips of the listed pairs (neighbours) and
+// drops the others.
+func onlyPairs(flip []float64, pairs [][2]int) ([]float64, error) {
+	for _, p := range pairs {
+		if d := p[1] - p[0]; d != 1 && d != -1 {
+			return nil, badf("-pairs %d-%d: the simulator flips neighbouring qubits q, q+1 together; give neighbours", p[0], p[1])
+		}
+	}
+	if flip == nil {
+		return nil, nil
+	}
+	out := make([]float64, len(flip))
+	for _, p := range pairs {
+		q := min(p[0], p[1])
+		out[q] = flip[q]
+	}
+	return out, nil
+}
+
+// calibrationChunk is how many calibration shots are simulated at once.
+const calibrationChunk = 1 << 14
+
+// writeNoisyCalibration writes calibration records (prepared,outcome) of
+// shots shots of each preparation of estimate.PairCalibrationPreparations,
+// each a basis state measured in Z on the simulator with every noise model
+// of opts.
+func writeNoisyCalibration(path string, n int, pairs [][2]int, opts *estimate.SimulatorOptions, shots int, seed uint64) error {
+	preps, err := estimate.PairCalibrationPreparations(n, pairs)
+	if err != nil {
+		return err
+	}
+	z, err := pauli.ParseSetting(strings.Repeat("Z", n))
+	if err != nil {
+		return err
+	}
+	return atomicfile.Write(path, func(w io.Writer) error {
+		bw := bufio.NewWriter(w)
+		bw.WriteString("prepared,outcome\n")
+		var buf []byte
+		for k, p := range preps {
+			psi := make([]complex128, 1<<n)
+			idx := 0
+			for q := range n {
+				idx |= int(p.Get(q)) << q
+			}
+			psi[idx] = 1
+			sim, err := estimate.NewSimulator(psi, seed+uint64(k), opts)
+			if err != nil {
+				return err
+			}
+			text := p.Format(n)
+			for left := shots; left > 0; left -= calibrationChunk {
+				rec := estimate.NewRecords(n)
+				if err := sim.Run([]pauli.Setting{z}, []int{min(left, calibrationChunk)}, rec); err != nil {
+					return err
+				}
+				for s := range rec.GroupLen(0) {
+					buf = append(append(append(buf[:0], text...), ','), rec.Outcome(0, s).AppendText(nil, n)...)
+					buf = append(buf, '\n')
+					bw.Write(buf)
+				}
+			}
+		}
+		return bw.Flush()
+	})
 }
 
 // uniformRate parses the probability of flag name (empty: none) and

@@ -3,6 +3,7 @@ package molecule
 import (
 	"encoding/json"
 	"fmt"
+	"maps"
 	"math"
 	"math/bits"
 	"os"
@@ -15,9 +16,10 @@ import (
 
 var encodings = []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity}
 
-// reference holds testdata/energies.json: RHF and full-CI energies computed
-// outside this project with Debian's psi4 1.3.2 (see testdata/README.md,
-// copied from the shared data folder's README).
+// reference holds an entry of testdata/energies.json or
+// testdata/energies_beh2_nh3.json: RHF and full-CI energies computed outside
+// this project with Debian's psi4 1.3.2 (see testdata/README.md, copied from
+// the shared data folder's README, and testdata/closed_shell/README.md).
 type reference struct {
 	EHF   float64 `json:"E_HF"`
 	EFCI  float64 `json:"E_FCI"`
@@ -26,23 +28,27 @@ type reference struct {
 	NElec int     `json:"nelec"`
 }
 
-var molecules = []string{"h2_sto3g_1.4bohr", "h2_sto3g_0.7414A", "h2_sto3g_0.74A", "lih_sto3g_1.5949A", "h2o_sto3g"}
+var molecules = []string{"h2_sto3g_1.4bohr", "h2_sto3g_0.7414A", "h2_sto3g_0.74A", "lih_sto3g_1.5949A", "h2o_sto3g", "beh2_sto3g_1.326A", "nh3_sto3g"}
 
 func loadReferences(t testing.TB) map[string]reference {
 	t.Helper()
-	data, err := os.ReadFile(filepath.Join("testdata", "energies.json"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var raw map[string]json.RawMessage
-	if err := json.Unmarshal(data, &raw); err != nil {
-		t.Fatal(err)
+	raw := map[string]json.RawMessage{}
+	for _, file := range []string{"energies.json", "energies_beh2_nh3.json"} {
+		data, err := os.ReadFile(filepath.Join("testdata", file))
+		if err != nil {
+			t.Fatal(err)
+		}
+		var m map[string]json.RawMessage
+		if err := json.Unmarshal(data, &m); err != nil {
+			t.Fatalf("%s: %v", file, err)
+		}
+		maps.Copy(raw, m)
 	}
 	refs := map[string]reference{}
 	for _, name := range molecules {
 		var r reference
 		if err := json.Unmarshal(raw[name], &r); err != nil {
-			t.Fatalf("energies.json %s: %v", name, err)
+			t.Fatalf("reference energies of %s: %v", name, err)
 		}
 		refs[name] = r
 	}
@@ -185,8 +191,9 @@ func diagonal(h *hamiltonian.Hamiltonian, b uint64) float64 {
 }
 
 // TestHartreeFockEnergies checks every file and every encoding against the
-// RHF energies in testdata/energies.json (psi4 1.3.2, computed outside this
-// project), to 1e-8 hartree: once from the integrals by the closed-shell
+// RHF energies of testdata/energies.json and energies_beh2_nh3.json (psi4
+// 1.3.2, SCF converged to 1e-12 hartree, computed outside this project), to
+// 1e-8 hartree: once from the integrals by the closed-shell
 // formula, once as the diagonal element of the qubit Hamiltonian on the
 // Hartree–Fock determinant (lowest NELEC spin orbitals occupied, interleaved
 // α, β) encoded as b = β f.

@@ -1,0 +1,731 @@
+package allocate
+
+import (
+	"encoding/binary"
+	"fmt"
+	"math"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/inputcap"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// Overlap is overlapped grouping measurement (Wu et al., arXiv:2105.13091)
+// with iterative coefficient splitting (Yen et al., arXiv:2201.01471), on
+// local (qubit-wise) settings; MATH.md §2.5. Both are implemented from their
+// methods as recalled from memory, not from the papers' text (the authors
+// too are recalled, not checked): the group construction, the worst-case
+// model, the floor and the order of the updates below are ours.
+//
+// # Groups
+//
+// The groups start as those of sorted insertion ([Sorted]: terms by |h_i|
+// descending, ties by index, each into the first group whose letters it
+// agrees with). Each group is then extended: every term, in the same order
+// and whatever its own group, joins it when it commutes qubit-wise with the
+// group's letters so far. A group is thus maximal (no further term fits its
+// letters) and a term lies in every group whose setting covers it: the
+// groups overlap. Free qubits get Fill, and a group whose setting repeats
+// an earlier one is merged into it. The weights start at sorted insertion's
+// partition (each term wholly in its first group), so the optimisation
+// starts from sorted insertion's plan and, under the model, only improves
+// on it.
+//
+// # Splitting and shots
+//
+// Term i's coefficient is split among the groups that cover it,
+// h_i = Σ_g α_{ig} h_i with α_{ig} ≥ 0 and Σ_g α_{ig} = 1, group g estimates
+// O_g = Σ_i α_{ig} h_i P_i from its own m_g = f_g·N shots, and the estimate
+// has variance Σ_g Var(O_g)/m_g. The variances come from a model of the
+// covariances (MATH.md §2.5): with Proxy nil, the worst case over states,
+// Var(O_g) ≤ (Σ_i |h_i| α_{ig})², which makes the objective the certified
+// variance V of MATH.md §3.1; with a Proxy, (1 − Floor)·Var_φ(O_g) +
+// Floor·Σ_i h_i² α_{ig}², the proxy state's variance (MATH.md §2.4) mixed
+// with the state-free model Var(P_i) = 1, Cov = 0. The alternating
+// minimisation sets f_g ∝ sqrt(Var(O_g)) (exact for fixed α), then updates
+// every split term's weights in turn to the exact minimiser over its groups
+// for the others fixed (block coordinate descent on a convex quadratic, a
+// non-negative simplex per term); neither step increases the objective. It
+// stops after Rounds rounds or when a round lowers it by less than a part
+// in 10^10. The budget is rounded as in [Sorted] (largest remainder), after
+// one shot to every group when the budget allows, and the weights are then
+// optimised once more for the rounded counts. A group left without shots
+// is not measured.
+//
+// The plan carries the split ([Plan].Split, through [Splitter]), listing
+// the terms that two or more measured groups cover; a term covered by one
+// group has weight 1 there, which is also its implicit weight.
+//
+// # Cost
+//
+// Grouping reads every term once per group, twice: O(G·M·n/64) for G
+// groups of M terms on n qubits. With no proxy a round costs O(Σ_g k_g) for groups of
+// k_g terms. With a proxy the model keeps each group's covariance matrix,
+// Σ_g k_g² numbers (at most 2^23, else Init fails), each from one proxy
+// expectation per distinct product P_i P_j (cached; for a [StateProxy]
+// 2^n operations each), and a round costs O(Σ_g k_g²). Overlap implements
+// [Batcher] and [Splitter] and uses no randomness.
+type Overlap struct {
+	// Proxy, if not nil, is the classical state whose covariances the
+	// variances are computed from (MATH.md §2.4); nil means the worst case
+	// over states.
+	Proxy Proxy
+	// Floor is the weight of the state-free model in the covariances when
+	// Proxy is set, in (0, 1]: it keeps every group that holds a term
+	// measured and stands for the proxy's error. Zero means 0.01, the best
+	// of 0.3, 0.1, 0.03, 0.01 for ε²M on LiH and H2O with the
+	// Hartree–Fock proxy (BENCHMARKS.md); a larger floor trades ε²M for a
+	// smaller certified bound.
+	Floor float64
+	// Rounds is the largest number of alternating rounds; zero means 50.
+	Rounds int
+	// Fill is the letter of qubits no member of a group touches; zero
+	// (pauli.I) means Z.
+	Fill pauli.Letter
+
+	groupQueue
+	split hamiltonian.Split
+}
+
+// maxSplitEntries bounds Σ_g k_g², the covariance entries a proxy needs.
+const maxSplitEntries = 1 << 23
+
+// String returns "overlap".
+func (o *Overlap) String() string { return "overlap" }
+
+// Split implements [Splitter]: the split of the last Init.
+func (o *Overlap) Split() hamiltonian.Split { return o.split }
+
+// Init implements [Allocator]: it forms the groups, optimises the split
+// and the shares, and rounds the budget.
+func (o *Overlap) Init(h *hamiltonian.Hamiltonian, budget int) error {
+	fill, err := fillLetter("overlap", o.Fill)
+	if err != nil {
+		return err
+	}
+	floor := o.Floor
+	switch {
+	case floor == 0:
+		floor = 0.01
+	case !(floor > 0 && floor <= 1):
+		return fmt.Errorf("overlap: floor %v is not in (0, 1]", o.Floor)
+	}
+	rounds := o.Rounds
+	switch {
+	case rounds == 0:
+		rounds = 50
+	case rounds < 0:
+		return fmt.Errorf("overlap: negative round count %d", rounds)
+	}
+	if err := checkProxyWidth(o.Proxy, h.Qubits()); err != nil {
+		return fmt.Errorf("overlap: %w", err)
+	}
+	o.split = nil
+	settings, home := overlapGroups(h, fill)
+	md, err := newSplitModel(h, settings, home, o.Proxy, floor)
+	if err != nil {
+		return fmt.Errorf("overlap: %w", err)
+	}
+	f := md.optimise(rounds)
+	shots := roundShares(budget, f)
+	total := float64(budget)
+	for g, k := range shots {
+		f[g] = float64(k) / total
+	}
+	md.optimiseSplit(f, rounds)
+	o.reset("overlap", shots)
+	for _, st := range settings {
+		o.add(st)
+	}
+	o.split = md.splitOf(settings, shots)
+	return nil
+}
+
+// checkProxyWidth returns an error when a proxy of a known kind does not
+// fit n qubits.
+func checkProxyWidth(px Proxy, n int) error {
+	switch p := px.(type) {
+	case *StateProxy:
+		if p == nil {
+			return fmt.Errorf("nil *StateProxy")
+		}
+		if p.Qubits() != n {
+			return fmt.Errorf("proxy state has %d qubits, Hamiltonian has %d", p.Qubits(), n)
+		}
+	case BasisProxy:
+		if len(p.Bits) < pauli.Words(n) {
+			return fmt.Errorf("proxy basis state has %d words of bits, %d qubits need %d", len(p.Bits), n, pauli.Words(n))
+		}
+	}
+	return nil
+}
+
+// overlapGroups returns the distinct settings of the overlapping groups
+// (see [Overlap]) and every term's home: the group sorted insertion put it
+// in, an index into the settings.
+func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
+	rk := newRanked(h)
+	n, w, m := rk.n, rk.w, len(rk.order)
+	// fits reports whether the term with words x, z agrees with the
+	// letters gx, gz on the qubits gm where both act.
+	fits := func(x, z, gx, gz, gm []uint64) bool {
+		for k := range w {
+			if ((x[k]^gx[k])|(z[k]^gz[k]))&(x[k]|z[k])&gm[k] != 0 {
+				return false
+			}
+		}
+		return true
+	}
+	// Sorted insertion: first fit in rank order.
+	var gx, gz, gm []uint64
+	homeRank := make([]int, m)
+	groups := 0
+	for r := range m {
+		x, z := rk.row(r)
+		g := 0
+		for ; g < groups; g++ {
+			if fits(x, z, gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]) {
+				break
+			}
+		}
+		if g == groups {
+			gx = append(gx, make([]uint64, w)...)
+			gz = append(gz, make([]uint64, w)...)
+			gm = append(gm, make([]uint64, w)...)
+			groups++
+		}
+		for k := range w {
+			gx[g*w+k] |= x[k]
+			gz[g*w+k] |= z[k]
+			gm[g*w+k] |= x[k] | z[k]
+		}
+		homeRank[r] = g
+	}
+	// Extension: every term, in rank order, that fits a group's letters
+	// so far joins it.
+	for g := range groups {
+		ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
+		for r := range m {
+			x, z := rk.row(r)
+			if !fits(x, z, ex, ez, em) {
+				continue
+			}
+			for k := range w {
+				ex[k] |= x[k]
+				ez[k] |= z[k]
+				em[k] |= x[k] | z[k]
+			}
+		}
+	}
+	fx, fz := letterBits(fill)
+	index := make(map[string]int)
+	of := make([]int, groups)
+	var out []pauli.Setting
+	for g := range groups {
+		x, z := make([]uint64, w), make([]uint64, w)
+		for k := range w {
+			free := rk.all[k] &^ gm[g*w+k]
+			x[k] = gx[g*w+k] | free&fx
+			z[k] = gz[g*w+k] | free&fz
+		}
+		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
+		if err != nil {
+			panic("allocate: overlap built an invalid setting") // letters are X, Y or Z on every qubit
+		}
+		key := st.Key()
+		j, ok := index[key]
+		if !ok {
+			j = len(out)
+			index[key] = j
+			out = append(out, st)
+		}
+		of[g] = j
+	}
+	home := make([]int, m)
+	for r, i := range rk.order {
+		home[i] = of[homeRank[r]]
+	}
+	return out, home
+}
+
+// memberRef places a term in a group: group g, position k among its terms.
+type memberRef struct{ g, k int32 }
+
+// splitModel holds the overlapping groups' terms, their weights α and the
+// covariance model of [Overlap] (MATH.md §2.5).
+type splitModel struct {
+	abs     []float64     // |h_i|
+	members [][]int       // the terms group g covers, in table order
+	alpha   [][]float64   // alpha[g][k] is α of term members[g][k] in group g
+	refs    [][]memberRef // refs[i] are the groups that cover term i
+	// The worst-case model (cov == nil): load[g] = Σ_k |h_i| α_{ig}, and
+	// Var(O_g) ≤ load[g]².
+	load []float64
+	// The proxy's model: cov[g] is the k_g × k_g matrix A_g, row-major,
+	// with Var(O_g) = α_gᵀ A_g α_g, and y[g] = A_g α_g.
+	cov, y [][]float64
+	// Scratch of the per-term solve.
+	d, e, a []float64
+	idx     []int
+}
+
+// newSplitModel finds the terms of every group and builds the model. The
+// weights start at sorted insertion's partition: each term's whole
+// coefficient in its home group.
+func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*splitModel, error) {
+	tab := h.Table()
+	md := &splitModel{
+		abs:     make([]float64, h.Len()),
+		members: make([][]int, len(settings)),
+		alpha:   make([][]float64, len(settings)),
+		refs:    make([][]memberRef, h.Len()),
+	}
+	for i, c := range h.Coeffs() {
+		md.abs[i] = math.Abs(c)
+	}
+	entries := 0
+	for g, st := range settings {
+		md.members[g] = tab.Covered(nil, st)
+		k := len(md.members[g])
+		entries += k * k
+		md.alpha[g] = make([]float64, k)
+		for j, i := range md.members[g] {
+			md.refs[i] = append(md.refs[i], memberRef{int32(g), int32(j)})
+		}
+	}
+	for g, terms := range md.members {
+		for j, i := range terms {
+			if home[i] == g {
+				md.alpha[g][j] = 1
+			}
+		}
+	}
+	if px == nil {
+		md.load = make([]float64, len(settings))
+		md.refresh()
+		return md, nil
+	}
+	if entries > maxSplitEntries {
+		return nil, fmt.Errorf("the proxy's covariances of the %d groups need %d numbers, more than the limit %d; plan without a proxy (the worst-case model)", len(settings), entries, maxSplitEntries)
+	}
+	// ⟨P_i P_j⟩ for two strings a local setting covers: they agree where
+	// both act, so the product has the phase +1 and the words x_i ⊕ x_j,
+	// z_i ⊕ z_j (MATH.md §2.5). A StateProxy gives every expectation of a
+	// group at once from the Walsh–Hadamard transform of the setting's Born
+	// probabilities, F[m] = ⟨P⟩ for the covered string P of support m
+	// (MATH.md §2.3); another proxy is asked string by string, the
+	// products cached by their words.
+	n, w := h.Qubits(), pauli.Words(h.Qubits())
+	expect := func(p pauli.String) (float64, error) {
+		e := px.Expect(p)
+		if !(math.Abs(e) <= 1+1e-9) {
+			return 0, fmt.Errorf("the proxy gives ⟨%s⟩ = %v, outside [−1, 1]", inputcap.Clip(p.String()), e)
+		}
+		return e, nil
+	}
+	sp, fast := px.(*StateProxy)
+	var born *bornTransform
+	var mean []float64
+	if fast {
+		born = newBornTransform(sp)
+	} else {
+		mean = make([]float64, h.Len())
+		for i := range mean {
+			if len(md.refs[i]) > 0 {
+				e, err := expect(h.Pauli(i))
+				if err != nil {
+					return nil, err
+				}
+				mean[i] = e
+			}
+		}
+	}
+	cache := make(map[string]float64)
+	key := make([]byte, 16*w)
+	px2, pz2 := make([]uint64, w), make([]uint64, w)
+	coef := h.Coeffs()
+	md.cov = make([][]float64, len(settings))
+	md.y = make([][]float64, len(settings))
+	var gm []float64 // the group's ⟨P_i⟩
+	for g, terms := range md.members {
+		k := len(terms)
+		a := make([]float64, k*k)
+		var f []float64
+		gm = gm[:0]
+		for _, i := range terms {
+			if fast {
+				if f == nil {
+					f = born.of(settings[g])
+				}
+				x, z := tab.Words(i)
+				gm = append(gm, f[x[0]|z[0]])
+			} else {
+				gm = append(gm, mean[i])
+			}
+		}
+		for r, i := range terms {
+			xi, zi := tab.Words(i)
+			a[r*k+r] = coef[i] * coef[i] * ((1-floor)*(1-gm[r]*gm[r]) + floor)
+			for c := r + 1; c < k; c++ {
+				j := terms[c]
+				xj, zj := tab.Words(j)
+				var e float64
+				if fast {
+					e = f[(xi[0]|zi[0])^(xj[0]|zj[0])]
+				} else {
+					for t := range w {
+						px2[t], pz2[t] = xi[t]^xj[t], zi[t]^zj[t]
+						binary.LittleEndian.PutUint64(key[16*t:], px2[t])
+						binary.LittleEndian.PutUint64(key[16*t+8:], pz2[t])
+					}
+					var ok bool
+					if e, ok = cache[string(key)]; !ok {
+						var err error
+						if e, err = expect(pauli.FromWords(n, px2, pz2)); err != nil {
+							return nil, err
+						}
+						cache[string(key)] = e
+					}
+				}
+				v := (1 - floor) * coef[i] * coef[j] * (e - gm[r]*gm[c])
+				a[r*k+c], a[c*k+r] = v, v
+			}
+		}
+		md.cov[g] = a
+		md.y[g] = make([]float64, k)
+	}
+	md.refresh()
+	return md, nil
+}
+
+// refresh recomputes load or y from the weights.
+func (md *splitModel) refresh() {
+	for g, terms := range md.members {
+		al := md.alpha[g]
+		if md.cov == nil {
+			s := 0.0
+			for j, i := range terms {
+				s += md.abs[i] * al[j]
+			}
+			md.load[g] = s
+			continue
+		}
+		k, a, y := len(terms), md.cov[g], md.y[g]
+		for r := range k {
+			s := 0.0
+			for c, v := range a[r*k : (r+1)*k] {
+				s += v * al[c]
+			}
+			y[r] = s
+		}
+	}
+}
+
+// variance returns the model's Var(O_g).
+func (md *splitModel) variance(g int) float64 {
+	if md.cov == nil {
+		return md.load[g] * md.load[g]
+	}
+	s := 0.0
+	for j, v := range md.alpha[g] {
+		s += v * md.y[g][j]
+	}
+	return max(s, 0)
+}
+
+// shares sets f_g = sd_g/Σ sd (the optimal fractions for fixed weights,
+// MATH.md §2.3) and returns the objective there, (Σ_g sd_g)².
+func (md *splitModel) shares(f []float64) float64 {
+	sum := 0.0
+	for g := range f {
+		f[g] = math.Sqrt(md.variance(g))
+		sum += f[g]
+	}
+	if sum == 0 {
+		for g := range f {
+			f[g] = 1 / float64(len(f))
+		}
+		return 0
+	}
+	for g := range f {
+		f[g] /= sum
+	}
+	return sum * sum
+}
+
+// objective returns Σ_g Var(O_g)/f_g over the groups with f_g > 0.
+func (md *splitModel) objective(f []float64) float64 {
+	s := 0.0
+	for g, fg := range f {
+		if fg > 0 {
+			s += md.variance(g) / fg
+		}
+	}
+	return s
+}
+
+// optimise alternates shares and weights (MATH.md §2.5) for at most
+// rounds rounds and returns the fractions f_g.
+func (md *splitModel) optimise(rounds int) []float64 {
+	f := make([]float64, len(md.members))
+	prev := md.shares(f)
+	for range rounds {
+		md.sweep(f)
+		j := md.shares(f)
+		if !(prev-j > 1e-10*prev) {
+			break
+		}
+		prev = j
+	}
+	return f
+}
+
+// optimiseSplit optimises the weights for fixed fractions f, of which
+// some may be zero: those groups get no weight.
+func (md *splitModel) optimiseSplit(f []float64, rounds int) {
+	for _, refs := range md.refs {
+		sum, act := 0.0, 0
+		for _, r := range refs {
+			if f[r.g] > 0 {
+				sum += md.alpha[r.g][r.k]
+				act++
+			}
+		}
+		for _, r := range refs {
+			switch {
+			case f[r.g] == 0:
+				md.alpha[r.g][r.k] = 0
+			case sum > 0:
+				md.alpha[r.g][r.k] /= sum
+			default:
+				md.alpha[r.g][r.k] = 1 / float64(act)
+			}
+		}
+	}
+	md.refresh()
+	prev := md.objective(f)
+	for range rounds {
+		md.sweep(f)
+		j := md.objective(f)
+		if !(prev-j > 1e-10*prev) {
+			break
+		}
+		prev = j
+	}
+}
+
+// sweep replaces, term by term, the weights of every term covered by two
+// or more groups with f_g > 0 by their exact minimiser with the other
+// terms' weights fixed: with d_g = A_{g,ii}/f_g and
+// e_g = (A_g α_g − A_{g,ii} α_{ig})_i / f_g, minimise Σ_g d_g α_g² + 2 e_g α_g
+// over α ≥ 0, Σ α = 1 (MATH.md §2.5).
+func (md *splitModel) sweep(f []float64) {
+	md.refresh()
+	for i, refs := range md.refs {
+		if len(refs) < 2 {
+			continue
+		}
+		md.d, md.e, md.a, md.idx = md.d[:0], md.e[:0], md.a[:0], md.idx[:0]
+		for j, r := range refs {
+			fg := f[r.g]
+			if fg == 0 {
+				continue
+			}
+			al := md.alpha[r.g][r.k]
+			var a, b float64
+			if md.cov == nil {
+				a = md.abs[i] * md.abs[i]
+				b = md.abs[i] * (md.load[r.g] - md.abs[i]*al)
+			} else {
+				k := len(md.members[r.g])
+				a = md.cov[r.g][int(r.k)*k+int(r.k)]
+				b = md.y[r.g][r.k] - a*al
+			}
+			md.d = append(md.d, a/fg)
+			md.e = append(md.e, b/fg)
+			md.idx = append(md.idx, j)
+		}
+		if len(md.idx) < 2 {
+			continue
+		}
+		md.a = append(md.a, make([]float64, len(md.idx))...)
+		simplexMin(md.d, md.e, md.a)
+		for t, j := range md.idx {
+			md.set(i, refs[j], md.a[t])
+		}
+	}
+}
+
+// set changes α of term i in group r.g to v and updates load or y.
+func (md *splitModel) set(i int, r memberRef, v float64) {
+	al := &md.alpha[r.g][r.k]
+	dv := v - *al
+	if dv == 0 {
+		return
+	}
+	*al = v
+	if md.cov == nil {
+		md.load[r.g] += md.abs[i] * dv
+		return
+	}
+	k := len(md.members[r.g])
+	a, y := md.cov[r.g], md.y[r.g]
+	for row := range k {
+		y[row] += dv * a[row*k+int(r.k)]
+	}
+}
+
+// simplexMin writes into out the minimiser of Σ_j d_j x_j² + 2 e_j x_j
+// over x ≥ 0, Σ_j x_j = 1, for d_j > 0. By the KKT conditions
+// x_j = max(0, (μ − e_j)/d_j) with μ such that the x_j add up to one, the
+// positive ones being those with e_j < μ (MATH.md §2.5). μ is found by
+// shrinking the active set (the method of projection onto the simplex
+// attributed to Michelot, 1986, recalled from memory; the argument is
+// ours): start with every j active, set μ = (1 + Σ_A e_j/d_j)/(Σ_A 1/d_j),
+// drop the j with e_j ≥ μ, repeat until none is dropped. Dropping such a j
+// does not raise μ (μ' ≤ μ exactly when e_j ≥ μ), so a dropped j stays out,
+// the active j end with e_j < μ, the dropped with e_j ≥ μ: the KKT point.
+// The j with the smallest e_j is never dropped (alone it gives
+// μ = d_j + e_j > e_j). Each pass is O(k), and there are at most k.
+func simplexMin(d, e, out []float64) {
+	for j := range out {
+		out[j] = 1 // 1: active, 0: dropped
+	}
+	mu := 0.0
+	for {
+		s1, s2 := 0.0, 0.0
+		for j, a := range out {
+			if a != 0 {
+				s1 += 1 / d[j]
+				s2 += e[j] / d[j]
+			}
+		}
+		mu = (1 + s2) / s1
+		dropped := false
+		for j, a := range out {
+			if a != 0 && e[j] >= mu {
+				out[j], dropped = 0, true
+			}
+		}
+		if !dropped {
+			break
+		}
+	}
+	sum := 0.0
+	for j := range out {
+		out[j] = max(0, (mu-e[j])/d[j])
+		sum += out[j]
+	}
+	for j := range out {
+		out[j] /= sum
+	}
+}
+
+// roundShares rounds budget among the fractions f by largest remainder,
+// after one shot to every group with f_g > 0 when the budget allows.
+func roundShares(budget int, f []float64) []int {
+	act := 0
+	for _, v := range f {
+		if v > 0 {
+			act++
+		}
+	}
+	if budget < act {
+		return largestRemainder(budget, f)
+	}
+	out := largestRemainder(budget-act, f)
+	for g, v := range f {
+		if v > 0 {
+			out[g]++
+		}
+	}
+	return out
+}
+
+// splitOf returns the split of the measured groups: every term that two
+// or more of them cover, with its weights there (those with α > 0),
+// normalised to add up to one.
+func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
+	sum := make([]float64, len(md.refs))
+	split := make([]bool, len(md.refs))
+	for i, refs := range md.refs {
+		act := 0
+		for _, r := range refs {
+			if shots[r.g] > 0 {
+				act++
+				sum[i] += md.alpha[r.g][r.k]
+			}
+		}
+		split[i] = act >= 2 && sum[i] > 0
+	}
+	var out hamiltonian.Split
+	for g, terms := range md.members {
+		if shots[g] == 0 {
+			continue
+		}
+		gr := hamiltonian.SplitGroup{Setting: settings[g]}
+		for j, i := range terms {
+			if v := md.alpha[g][j]; split[i] && v > 0 {
+				gr.Terms = append(gr.Terms, i)
+				gr.Weights = append(gr.Weights, v/sum[i])
+			}
+		}
+		if len(gr.Terms) > 0 {
+			out = append(out, gr)
+		}
+	}
+	return out
+}
+
+// bornTransform computes, for a local setting, the Walsh–Hadamard transform
+// F[m] = Σ_b p(b)(−1)^{|b∧m|} of the Born probabilities of a StateProxy's
+// state measured in the setting: F[m] is ⟨P⟩ for the string P of support m
+// with the setting's letters there (MATH.md §2.3). Each qubit read in X is
+// rotated by H, in Y by H·S†, which take the +1 eigenvector to |0⟩
+// (textbook); the cost is n·2^n operations per setting.
+type bornTransform struct {
+	amp, buf []complex128
+	n        int
+	p        []float64
+}
+
+func newBornTransform(s *StateProxy) *bornTransform {
+	return &bornTransform{amp: s.amp, n: s.n, buf: make([]complex128, len(s.amp)), p: make([]float64, len(s.amp))}
+}
+
+// of returns F for the setting st; the slice is reused by the next call.
+func (b *bornTransform) of(st pauli.Setting) []float64 {
+	copy(b.buf, b.amp)
+	r := complex(1/math.Sqrt2, 0)
+	for q := range b.n {
+		l := st.At(q)
+		if l == pauli.Z {
+			continue
+		}
+		bit := 1 << q
+		for i := range b.buf {
+			if i&bit != 0 {
+				continue
+			}
+			a0, a1 := b.buf[i], b.buf[i|bit]
+			if l == pauli.X {
+				b.buf[i], b.buf[i|bit] = r*(a0+a1), r*(a0-a1)
+			} else {
+				b.buf[i], b.buf[i|bit] = r*(a0-1i*a1), r*(a0+1i*a1)
+			}
+		}
+	}
+	for i, a := range b.buf {
+		b.p[i] = real(a)*real(a) + imag(a)*imag(a)
+	}
+	// The butterfly of the fast Walsh–Hadamard transform (common practice).
+	for h := 1; h < len(b.p); h <<= 1 {
+		for i := 0; i < len(b.p); i += h << 1 {
+			for j := i; j < i+h; j++ {
+				x, y := b.p[j], b.p[j+h]
+				b.p[j], b.p[j+h] = x+y, x-y
+			}
+		}
+	}
+	return b.p
+}

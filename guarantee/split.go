@@ -1,0 +1,190 @@
+package guarantee
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"slices"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+)
+
+// splitState is a coefficient split (MATH.md §2.5) laid over a coverage's
+// distinct settings.
+type splitState struct {
+	split  hamiltonian.Split
+	listed []bool
+	group  []int     // distinct setting q → its group in split, or −1
+	alpha  []float64 // scratch: the weights of group cur, by term
+	cur    int       // the distinct setting whose weights alpha holds, or −1
+}
+
+// setSplit makes the coverage's per-shot weights those of the split; an
+// empty split keeps the implicit ones. It returns an error if the split
+// does not fit the Hamiltonian and the settings.
+func (c *coverage) setSplit(split hamiltonian.Split) error {
+	c.sp = nil
+	if len(split) == 0 {
+		return nil
+	}
+	if err := split.Check(c.h, c.settings, c.mult); err != nil {
+		return fmt.Errorf("guarantee: %w", err)
+	}
+	sp := &splitState{split: split, listed: split.Listed(c.h.Len()), group: make([]int, len(c.settings)), alpha: make([]float64, c.h.Len()), cur: -1}
+	index := split.Groups()
+	for q, s := range c.settings {
+		g, ok := index[s.Key()]
+		if !ok {
+			g = -1
+		}
+		sp.group[q] = g
+	}
+	c.sp = sp
+	return nil
+}
+
+// u returns the per-shot weight of term i in distinct setting q, which
+// covers it: 1/N_i (MATH.md §2), or α_{iq}/m_q for a term the split lists
+// (MATH.md §2.5).
+func (c *coverage) u(q, i int) float64 {
+	sp := c.sp
+	if sp == nil || !sp.listed[i] {
+		return 1 / float64(c.cover[i])
+	}
+	if sp.cur != q {
+		if sp.cur >= 0 {
+			if g := sp.group[sp.cur]; g >= 0 {
+				for _, t := range sp.split[g].Terms {
+					sp.alpha[t] = 0
+				}
+			}
+		}
+		if g := sp.group[q]; g >= 0 {
+			for k, t := range sp.split[g].Terms {
+				sp.alpha[t] = sp.split[g].Weights[k]
+			}
+		}
+		sp.cur = q
+	}
+	return sp.alpha[i] / float64(c.mult[q])
+}
+
+// splitLoads returns s_Q = Σ_{i◁Q, keep} |h_i| u(Q, i) for every distinct
+// setting (a nil drop keeps every term): V = Σ_Q m_Q s_Q² is the
+// certificate's variance with the split (MATH.md §2.5).
+func (c *coverage) splitLoads(drop []bool) []float64 {
+	s := make([]float64, len(c.settings))
+	for q := range c.settings {
+		sum := 0.0
+		for _, i := range c.terms(q) {
+			if drop == nil || !drop[i] {
+				sum += math.Abs(c.h.Coeff(int(i))) * c.u(q, int(i))
+			}
+		}
+		s[q] = sum
+	}
+	return s
+}
+
+// certifySplit is certify for a coverage with a split (MATH.md §2.5):
+// V = Σ_g (Σ_i |h_i| α_{ig})²/m_g, term i's share Radius·v_i/V with
+// v_i = |h_i| Σ_g m_g s_g u(g, i), and the scaled one-norm
+// Σ_i |h_i| r_i, r_i² = Σ_g m_g u(g, i)² = Σ_g α_{ig}²/m_g, which bounds
+// sqrt(V) (Cauchy–Schwarz). The truncations are the threshold rule with
+// N_i replaced by 1/r_i² and, as Optimal, the better of it and dropping
+// nothing: the searches of MATH.md §3.3 are not run for a split.
+func certifySplit(c *coverage, delta float64, opts *Options) *Certificate {
+	h := c.h
+	l := math.Log(2 / delta)
+	sq := math.Sqrt(2 * l)
+	s := c.splitLoads(nil)
+	v := c.variance(s)
+	cert := &Certificate{
+		Delta: delta, Shots: c.shots, Settings: len(c.settings), Cover: c.cover,
+		Variance: v, Radius: math.Sqrt(2 * v * l),
+	}
+	load := make([]float64, h.Len())
+	r2 := make([]float64, h.Len())
+	for q := range c.settings {
+		mq := float64(c.mult[q])
+		for _, i := range c.terms(q) {
+			u := c.u(q, int(i))
+			load[i] += mq * s[q] * u
+			r2[i] += mq * u * u
+		}
+	}
+	cert.Share = make([]float64, h.Len())
+	cert.RelaxedShare = make([]float64, h.Len())
+	for i, n := range c.cover {
+		abs := math.Abs(h.Coeff(i))
+		if n == 0 {
+			cert.Uncovered++
+			cert.Bias += abs
+			cert.Share[i] = abs
+			cert.RelaxedShare[i] = abs
+			continue
+		}
+		r := abs * math.Sqrt(r2[i])
+		cert.ScaledOneNorm += r
+		cert.RelaxedShare[i] = sq * r
+		if v > 0 {
+			cert.Share[i] = cert.Radius * abs * load[i] / v
+		}
+	}
+	cert.RelaxedRadius = cert.ScaledOneNorm * sq
+	cert.Bound = cert.Radius + cert.Bias
+	if k := min(opts.top(), h.Len()); k > 0 {
+		order := make([]int, h.Len())
+		for i := range order {
+			order[i] = i
+		}
+		slices.SortFunc(order, func(x, y int) int {
+			if d := cmp.Compare(cert.Share[y], cert.Share[x]); d != 0 {
+				return d
+			}
+			return cmp.Compare(x, y)
+		})
+		for _, i := range order[:k] {
+			cert.Top = append(cert.Top, Contribution{
+				Term: i, Pauli: h.Pauli(i), Coeff: h.Coeff(i), Cover: c.cover[i],
+				Share: cert.Share[i], RelaxedShare: cert.RelaxedShare[i],
+			})
+		}
+	}
+	// Threshold: drop i when r_i > 1/c(δ), i.e. when its relaxed share
+	// c(δ)|h_i| r_i exceeds its bias |h_i| (MATH.md §3.3 with 1/r_i² for N_i).
+	none := make([]bool, h.Len())
+	thr := make([]bool, h.Len())
+	for i, n := range c.cover {
+		none[i] = n == 0
+		thr[i] = n == 0 || 2*l*r2[i] > 1
+	}
+	cert.Threshold = evaluateSplit(c, r2, thr, delta, "threshold: drop terms with 2 ln(2/δ)·Σ_g α_ig²/m_g > 1 (coefficient split)")
+	cert.Optimal = evaluateSplit(c, r2, none, delta, "with a coefficient split: the better of dropping nothing and the threshold rule (no search)")
+	if cert.Threshold.Bound < cert.Optimal.Bound {
+		cert.Optimal = cert.Threshold
+		cert.Optimal.Method = "with a coefficient split: the better of dropping nothing and the threshold rule (no search)"
+	}
+	return cert
+}
+
+// evaluateSplit fills the bound of a dropped set under the split. Lower is
+// 0 (the bound is non-negative), Exact false: no search is made.
+func evaluateSplit(c *coverage, r2 []float64, drop []bool, delta float64, method string) Truncation {
+	l := math.Log(2 / delta)
+	t := Truncation{Drop: drop, Method: method}
+	for i, d := range drop {
+		abs := math.Abs(c.h.Coeff(i))
+		if d {
+			t.Dropped++
+			t.Bias += abs
+			continue
+		}
+		t.RelaxedRadius += abs * math.Sqrt(r2[i])
+	}
+	t.RelaxedRadius *= math.Sqrt(2 * l)
+	t.Variance = c.variance(c.splitLoads(drop))
+	t.Radius = math.Sqrt(2 * t.Variance * l)
+	t.Bound = t.Bias + t.Radius
+	return t
+}
