@@ -72,6 +72,23 @@
 // recovered into an [ErrStrategy] naming the strategy and the method. The
 // Hamiltonian is never modified.
 //
+// # Plan files
+//
+// Three layouts, told apart by their first line and all read by
+// [ReadPlan]: the full one of [WritePlan] (version 1, one entry per run of
+// shots), the compact one of [WriteCompactPlan] (version 2, one line per
+// distinct setting) and the seed plan of [WriteSeedPlan] (version 5). A
+// seed plan stores, for the strategies whose every shot is an independent
+// draw from one distribution (random, biased, importance; MATH §4.1), the
+// distribution, the seed, the shots and the generator ([SeedGenerator]),
+// never the shots themselves, so 10^8 shots take a few lines
+// ([NewSeedPlan]). [SeedPlan.Stream] regenerates its entries in constant
+// memory, bit for bit those [Run] gives with the same strategy and seed;
+// [SeedPlan.Distinct] streams them into distinct settings; ReadPlan expands
+// one up to [MaxExpandBytes] and refuses a larger one with the estimate
+// ([ErrPlanTooLarge]), which [ReadSeedPlan] reads. Every reader caps its
+// lines and its file and names the line of any problem.
+//
 // # Figures of merit
 //
 // [ScaledOneNorm] gives the plan objective Σ_i |h_i|/sqrt(N_i) of MATH §3.2.

@@ -38,7 +38,8 @@ var (
 )
 
 // PlanFileError reports a problem with a plan file: the file, the line, the
-// entry and what is wrong. Its Err is [ErrPlanFile] or [ErrPlanMismatch].
+// entry and what is wrong. Its Err is [ErrPlanFile] or [ErrPlanMismatch]
+// (or [ErrPlanTooLarge] for a seed plan [ReadPlan] will not expand).
 type PlanFileError struct {
 	File   string // the file's path, or "" when read from a reader
 	Line   int    // 1-based line of the entry, 0 if not known
@@ -78,6 +79,10 @@ type PlanFile struct {
 	Plan *Plan
 	// Seed is the seed the strategy was given (0 when none was recorded).
 	Seed uint64
+	// Draw is the seed plan of a file in that layout ([WriteSeedPlan]),
+	// nil for the others; Plan is then its expansion, whose Cover is nil
+	// until [PlanFile.Check] counts it.
+	Draw *SeedPlan
 
 	name       string
 	qubitsLine int
@@ -293,7 +298,11 @@ func ReadPlanFile(path string) (*PlanFile, error) {
 // holds (one line at a time, each at most [MaxPlanLineBytes]; the file at
 // most MaxPlanBytes). In a compact plan a setting that appears on two lines,
 // counts that disagree with the header, and drawn counts that do not add up
-// to the setting's shots are errors naming the line.
+// to the setting's shots are errors naming the line. It also reads a seed
+// plan ([WriteSeedPlan], version 5) with [ReadSeedPlan] and expands it
+// ([PlanFile].Draw holds it); one that would take more than
+// [MaxExpandBytes] is a *PlanFileError wrapping [ErrPlanTooLarge] with the
+// estimate.
 func ReadPlan(r io.Reader) (*PlanFile, error) {
 	return readPlanFrom(r, "")
 }
@@ -310,6 +319,9 @@ func readPlanFrom(r io.Reader, name string) (*PlanFile, error) {
 	}
 	if isCompact(br) {
 		return readCompact(br, name)
+	}
+	if isSeedPlan(br) {
+		return readSeedPlanFile(br, name)
 	}
 	data, err := inputcap.ReadAll(br, MaxPlanBytes)
 	if err != nil {
@@ -555,7 +567,7 @@ func (pr *planReader) checkHeader(f *PlanFile, p *Plan, raw *rawPlan) error {
 		if raw.version == CompactPlanVersion {
 			return pr.fail(raw.versionLine, "version", "version %d in the layout of version %d: a compact plan has its whole header on the first line", raw.version, PlanVersion)
 		}
-		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d, %d and %d", raw.version, PlanVersion, CompactPlanVersion, SplitPlanVersion)
+		return pr.fail(raw.versionLine, "version", "version %d, this reader knows versions %d, %d, %d, %d and %d", raw.version, PlanVersion, CompactPlanVersion, SplitPlanVersion, CompactSplitPlanVersion, SeedPlanVersion)
 	}
 	if raw.haveSplit != (raw.version == SplitPlanVersion) {
 		if raw.haveSplit {
@@ -648,8 +660,14 @@ func (pr *planReader) checkCounts(f *PlanFile, p *Plan, raw *rawPlan, sum int) e
 // setting covers the term drawn for it, and for a plan with a split that it
 // passes [hamiltonian.Split.Check] (every group's setting covers its terms).
 // A problem is a *[PlanFileError] wrapping [ErrPlanMismatch], naming the
-// line of the plan file.
+// line of the plan file. For a seed plan ([PlanFile].Draw) it compares the
+// width, the term count and the fingerprint of the terms (and importance
+// sampling's weights with |h_i|), then counts the cover counts into
+// Plan.Cover.
 func (f *PlanFile) Check(h *hamiltonian.Hamiltonian) error {
+	if f.Draw != nil {
+		return f.checkSeed(h)
+	}
 	p := f.Plan
 	fail := func(line int, entry, format string, args ...any) error {
 		return &PlanFileError{File: f.name, Line: line, Entry: entry, Reason: fmt.Sprintf(format, args...), Err: ErrPlanMismatch}

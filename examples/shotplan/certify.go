@@ -31,9 +31,22 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		f, err := loadPlan(*plan)
+		f, sp, err := loadPlanOrSeed(*plan)
+		if err == nil && sp != nil {
+			if err = sp.Check(h); err != nil {
+				err = badf("%s: %w (Hamiltonian %s)", *plan, err, *ham)
+			}
+		}
 		if err != nil {
 			return err
+		}
+		if sp != nil {
+			// A seed plan too large to expand: certify it from its
+			// distribution, without drawing its shots.
+			if *observables != "" || *readout != "" || *calibration != "" || *calDelta != 0 || *pairsFlag != "" {
+				return badf("%s: a seed plan of %d shots, too many to expand, is certified from its distribution alone; -readout, -calibration, -pairs and -observables need a plan of fewer shots", *plan, sp.Shots)
+			}
+			return e.certifySeed(h, sp, *ham, *plan, *delta)
 		}
 		if *observables != "" || *readout != "" || *calibration != "" || *calDelta != 0 || *pairsFlag != "" {
 			ro, err := parseReadout(*readout, h.Qubits())

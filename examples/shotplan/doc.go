@@ -5,7 +5,7 @@
 //
 //	shotplan info     [-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN
 //	shotplan convert  [-encoding jw|bk|parity] [-frozen K] [-active M] -o HAMILTONIAN FCIDUMP
-//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] -o PLAN
+//	shotplan plan     -ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,...] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] [-by-seed] -o PLAN
 //	shotplan certify  -ham H -plan PLAN [-delta δ] [-top N] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
 //	shotplan export   -plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR
 //	shotplan simulate -ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P [-pairs A-B,...]] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS
@@ -19,6 +19,7 @@
 //	shotplan version
 //
 // plan -proxy gives sorted, sorted-gc and color-gc their group shares from
+// (and overlap its split and shares, MATH.md §2.5)
 // a state computed classically before any shot (allocate.Proxy, MATH.md
 // §2.4): group g gets shots in proportion to the standard deviation of its
 // terms' sum in that state, floored at 1% of the group's one-norm, one
@@ -45,8 +46,12 @@
 // second. Every subcommand takes -h for its flags and -json for
 // machine-readable output on standard output. Hamiltonian files are in the text or JSON
 // format of package hamiltonian, plan files in the compact layout of
-// allocate.WriteCompactPlan (one line per distinct setting) or, for a name
-// ending in .json, the full layout of allocate.WritePlan, records in the CSV
+// allocate.WriteCompactPlan (one line per distinct setting), for a name
+// ending in .json the full layout of allocate.WritePlan, or with plan
+// -by-seed the seed plan of allocate.WriteSeedPlan (the distribution and
+// seed of random, biased or importance, a few lines whatever the shots;
+// certify takes one too large to expand from its distribution, the other
+// commands stream it into its distinct settings), records in the CSV
 // or JSON form of package estimate (chosen by the file name's extension,
 // .json or anything else). Wherever a
 // Hamiltonian file is read, an FCIDUMP file (recognised by its "&FCI"

@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -24,13 +25,47 @@ func loadHam(path string) (*hamiltonian.Hamiltonian, error) {
 	return h, bad(err)
 }
 
-// loadPlan reads the plan file given by -plan.
+// loadPlan reads the plan file given by -plan. A seed plan too large to
+// expand in memory is streamed into its distinct settings with their
+// totals (drawn terms left out), which is all the commands use.
 func loadPlan(path string) (*allocate.PlanFile, error) {
+	return loadPlanChecked(path, nil)
+}
+
+// loadPlanChecked is loadPlan with a check of a large seed plan's header
+// (its shots and width) before its shots are drawn, which takes time in
+// proportion to the shots.
+func loadPlanChecked(path string, check func(*allocate.SeedPlan) error) (*allocate.PlanFile, error) {
+	f, sp, err := loadPlanOrSeed(path)
+	if err != nil || sp == nil {
+		return f, err
+	}
+	if check != nil {
+		if err := check(sp); err != nil {
+			return nil, err
+		}
+	}
+	settings, shots, err := sp.Distinct()
+	if err != nil {
+		return nil, badf("%s: a seed plan of %d shots on %d qubits (about %s with every shot in memory): %w",
+			path, sp.Shots, sp.Qubits, formatBytes(float64(sp.PlanBytes())), err)
+	}
+	p := &allocate.Plan{Qubits: sp.Qubits, Settings: settings, Shots: shots, Stats: allocate.Stats{Strategy: sp.Strategy}}
+	return &allocate.PlanFile{Plan: p, Seed: sp.Seed, Draw: sp}, nil
+}
+
+// loadPlanOrSeed reads the plan file given by -plan, or returns the seed
+// plan it holds when that is too large to expand in memory.
+func loadPlanOrSeed(path string) (*allocate.PlanFile, *allocate.SeedPlan, error) {
 	if err := need("plan", path); err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	f, err := allocate.ReadPlanFile(path)
-	return f, bad(err)
+	if errors.Is(err, allocate.ErrPlanTooLarge) {
+		sp, err := allocate.ReadSeedPlanFile(path)
+		return nil, sp, bad(err)
+	}
+	return f, nil, bad(err)
 }
 
 // loadHamPlan reads the files given by -ham and -plan and checks that the

@@ -139,7 +139,7 @@ func checkShotLimit(name string, a allocate.Allocator, shots, limit, qubits int)
 	entries := float64(shots)
 	mem := entries * float64(planEntryBytes+2*((qubits+63)/64)*8)
 	file := entries * float64(planFileEntryBytes+qubits)
-	return badf("-shots %d: strategy %s chooses a setting for every shot, so the plan may hold up to %d entries (up to about %s of memory and a %s file, and a run time growing as shots × terms); the limit is %d (raise -shot-limit to run it anyway, or use a strategy that plans by groups such as sorted)",
+	return badf("-shots %d: strategy %s chooses a setting for every shot, so the plan may hold up to %d entries (up to about %s of memory and a %s file, and a run time growing as shots × terms); the limit is %d (raise -shot-limit to run it anyway, use a strategy that plans by groups such as sorted, or for random, biased and importance write a seed plan with -by-seed)",
 		shots, name, shots, formatBytes(mem), formatBytes(file), limit)
 }
 

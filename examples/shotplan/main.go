@@ -31,7 +31,7 @@ type command struct {
 var commands = []command{
 	{"info", "print the size, offset and one-norm of a Hamiltonian (and its exact ground energy)", infoFlags, "[-exact [-electrons N] [-spin MS2]] [-json] HAMILTONIAN", nil},
 	{"convert", "turn an FCIDUMP file into a qubit Hamiltonian file", convertFlags, "[-encoding jw|bk|parity] [-frozen K] [-active M] -o OUT FCIDUMP", nil},
-	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,... [-delta δ]] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] -o PLAN", strategyHelp},
+	{"plan", "plan the settings of a budget of shots with a strategy", planFlags, "-ham H [-strategy NAME] [-shots N] [-seed S] [-settings FILE] [-cost-budget B -shot-cost T -circuit-cost T] [-observables N,Sz,S2 -targets E,... [-delta δ]] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] [-by-seed] -o PLAN", strategyHelp},
 	{"certify", "bound the error of a plan's estimate before any shot", certifyFlags, "-ham H -plan PLAN [-delta δ] [-top N] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]", certifyHelp},
 	{"budget", "count the shots a target accuracy needs, per strategy", budgetFlags, "-ham H -eps E [-delta δ] [-strategy NAME|all] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] [-readout P|p01=X,p10=Y|@FILE | -calibration CALIB [-pairs A-B,...]] [-calibration-delta D]", budgetHelp},
 	{"export", "write a plan's settings as OpenQASM 3 programs with a manifest", exportFlags, "-plan PLAN [-max-shots-per-circuit N] [-max-circuits-per-job N] [-one-program] -o DIR", nil},

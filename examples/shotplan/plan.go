@@ -54,6 +54,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 	targets := fs.String("targets", "", "with -observables: the accuracy of each observable, the energy's first, comma-separated (such as 0.0016,0.05,0.05,0.1)")
 	proxy := fs.String("proxy", "worst", "for "+proxyStrategies+": give group g shots ∝ the standard deviation of its terms' sum in this state instead of ∝ their one-norm; "+proxyUsage)
 	sf := addSectorFlags(fs)
+	bySeed := fs.Bool("by-seed", false, "with -strategy random, biased or importance: write a seed plan, the strategy's distribution and -seed from which every shot is regenerated when read, a few lines whatever -shots (-o not ending in .json)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
 			return err
@@ -95,6 +96,15 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 		} else if *settings != "" {
 			return badf("-settings is for -strategy fixed, not %s", *strategy)
+		}
+		if *bySeed {
+			switch {
+			case *costBudget != 0 || *observables != "" || *targets != "":
+				return badf("-by-seed cannot be combined with -cost-budget, -observables or -targets")
+			case isJSON(*out):
+				return badf("-o %s: -by-seed writes a seed plan, one JSON object a line; choose a name not ending in .json (such as plan.jsonl)", *out)
+			}
+			return e.planBySeed(h, *ham, a, *shots, *out)
 		}
 		limit := *shotLimit
 		if limit <= 0 {

@@ -10,6 +10,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
@@ -69,7 +70,11 @@ func simulateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return bad(err)
 		}
-		f, err := loadPlan(*plan)
+		// A large seed plan's records alone take 16 bytes a shot (a lower
+		// bound of simulateBytes): refuse before drawing its shots.
+		f, err := loadPlanChecked(*plan, func(sp *allocate.SeedPlan) error {
+			return checkMemory(fmt.Sprintf("simulating %d shots on %d qubits", sp.Shots, sp.Qubits), 16*float64(sp.Shots), memLimit)
+		})
 		if err != nil {
 			return err
 		}

@@ -23,11 +23,12 @@ func versionFlags(fs *flag.FlagSet, e *env) func() error {
 			PlanFormat   string `json:"plan_format"`
 			PlanVersion  int    `json:"plan_version"`
 			CompactPlan  int    `json:"compact_plan_version"`
+			SeedPlan     int    `json:"seed_plan_version"`
 			StateFormat  string `json:"rounds_state_format"`
 			StateVersion int    `json:"rounds_state_version"`
 		}{Module: "github.com/shotplan/shotplan", Version: "unknown", Go: runtime.Version(),
 			PlanFormat: allocate.PlanFormat, PlanVersion: allocate.PlanVersion, CompactPlan: allocate.CompactPlanVersion,
-			StateFormat: roundsFormat, StateVersion: roundsVersion}
+			SeedPlan: allocate.SeedPlanVersion, StateFormat: roundsFormat, StateVersion: roundsVersion}
 		if bi, ok := debug.ReadBuildInfo(); ok {
 			if bi.Main.Path != "" {
 				res.Module = bi.Main.Path
@@ -55,8 +56,8 @@ func versionFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			fmt.Fprint(e.stdout, ")")
 		}
-		fmt.Fprintf(e.stdout, ", %s\nplan files: %q version %d (compact layout, the default) and %d (full JSON, for names ending in .json)\nrounds state files: %q version %d\n",
-			res.Go, res.PlanFormat, res.CompactPlan, res.PlanVersion, res.StateFormat, res.StateVersion)
+		fmt.Fprintf(e.stdout, ", %s\nplan files: %q version %d (compact layout, the default), %d (full JSON, for names ending in .json) and %d (seed plans, plan -by-seed)\nrounds state files: %q version %d\n",
+			res.Go, res.PlanFormat, res.CompactPlan, res.PlanVersion, res.SeedPlan, res.StateFormat, res.StateVersion)
 		return nil
 	}
 }
