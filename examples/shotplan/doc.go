@@ -19,9 +19,10 @@
 //	shotplan version
 //
 // plan -proxy gives sorted, sorted-gc and color-gc their group shares (and
-// overlap its coefficient split and shares, MATH.md §2.5) from a state computed classically before any shot (allocate.Proxy, MATH.md
-// §2.4): group g gets shots in proportion to the standard deviation of its
-// terms' sum in that state, floored at 1% of the group's one-norm, one
+// overlap its coefficient split and shares, MATH.md §2.5) from a state
+// computed classically before any shot (allocate.Proxy, MATH.md §2.4):
+// group g gets shots in proportion to the standard deviation of its terms'
+// sum in that state, floored at 1% of the group's one-norm, one
 // shot per group first. hf is the Hartree–Fock determinant of an FCIDUMP
 // -ham (molecule.Integrals.HartreeFockBits), exact the ground state of the
 // sector (at most 20 qubits), BITS a basis state, FILE an amplitude file.
