@@ -82,6 +82,13 @@ func certifyFlags(fs *flag.FlagSet, e *env) func() error {
 		// against its counts instead of counting them again. A plan of
 		// another width or length fails the check before any count.
 		p := f.Plan
+		if p.Cover == nil {
+			// An expanded seed plan carries no cover counts: Check
+			// compares its fingerprint and counts them.
+			if err := f.Check(h); err != nil {
+				return badf("%w (Hamiltonian %s)", err, *ham)
+			}
+		}
 		if p.Qubits != h.Qubits() || len(p.Cover) != h.Len() {
 			return badf("%w (Hamiltonian %s)", f.Check(h), *ham)
 		}
