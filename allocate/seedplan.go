@@ -885,16 +885,8 @@ func (f *PlanFile) checkSeed(h *hamiltonian.Hamiltonian) error {
 // isSeedPlan reports whether the first line of a plan file is the header
 // of a seed plan: a complete JSON object with version 5.
 func isSeedPlan(br *bufio.Reader) bool {
-	head, _ := br.Peek(64 << 10)
-	head = bytes.TrimPrefix(head, []byte("\ufeff"))
-	first, _, ok := bytes.Cut(head, []byte{'\n'})
-	if !ok {
-		first = head
-	}
-	var h struct {
-		Version json.RawMessage `json:"version"`
-	}
-	return json.Unmarshal(first, &h) == nil && string(h.Version) == strconv.Itoa(SeedPlanVersion)
+	v, ok := headerVersion(br)
+	return ok && v == strconv.Itoa(SeedPlanVersion)
 }
 
 // readSeedPlanFile is [ReadPlan] of a seed plan: read, then expanded.
