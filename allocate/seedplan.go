@@ -438,18 +438,7 @@ func (st *SeedStream) draw(dst []pauli.Letter) int {
 			dst[q] = pauli.Letter(1 + st.rng.IntN(3))
 		}
 	case "biased": // Biased.Next
-		for q := range dst {
-			u := st.rng.Float64()
-			p := st.sp.Probs[q]
-			switch {
-			case u < p[0]:
-				dst[q] = pauli.X
-			case u < p[0]+p[1]:
-				dst[q] = pauli.Y
-			default:
-				dst[q] = pauli.Z
-			}
-		}
+		drawBiased(st.rng, st.sp.Probs, dst)
 	case "importance": // Importance.Next
 		u := st.rng.Float64() * st.cum[len(st.cum)-1]
 		i, _ := slices.BinarySearch(st.cum, u)
