@@ -440,19 +440,9 @@ func (st *SeedStream) draw(dst []pauli.Letter) int {
 	case "biased": // Biased.Next
 		drawBiased(st.rng, st.sp.Probs, dst)
 	case "importance": // Importance.Next
-		u := st.rng.Float64() * st.cum[len(st.cum)-1]
-		i, _ := slices.BinarySearch(st.cum, u)
-		for i < len(st.cum)-1 && st.cum[i] <= u {
-			i++
-		}
+		i := drawTerm(st.rng, st.cum)
 		x, z := st.sp.TermStrings[i].Words()
-		for q := range dst {
-			if l := pauli.LetterAt(x, z, q); l != pauli.I {
-				dst[q] = l
-			} else {
-				dst[q] = st.sp.Fill
-			}
-		}
+		fillSetting(x, z, st.sp.Fill, dst)
 		return i
 	}
 	return -1
