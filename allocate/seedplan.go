@@ -16,6 +16,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/internal/fnvmix"
 	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -155,25 +156,17 @@ func cumulative(w []float64) ([]float64, error) {
 // termsFingerprint is FNV-1a (64 bits) over the width, the number of rows
 // and every row's x and z words, little-endian, in row order.
 func termsFingerprint(t *pauli.Table) uint64 {
-	const prime = 1099511628211
-	f := uint64(14695981039346656037)
-	mix := func(w uint64) {
-		for range 8 {
-			f ^= w & 0xff
-			f *= prime
-			w >>= 8
-		}
-	}
-	mix(uint64(t.Qubits()))
-	mix(uint64(t.Len()))
+	f := fnvmix.New()
+	f.Word(uint64(t.Qubits()))
+	f.Word(uint64(t.Len()))
 	for i := range t.Len() {
 		x, z := t.Words(i)
 		for k := range x {
-			mix(x[k])
-			mix(z[k])
+			f.Word(x[k])
+			f.Word(z[k])
 		}
 	}
-	return f
+	return f.Sum()
 }
 
 // stringsFingerprint is termsFingerprint of a list of strings.
