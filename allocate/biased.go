@@ -52,9 +52,18 @@ func (b *Biased) Init(h *hamiltonian.Hamiltonian, budget int) error {
 
 // Next implements [Stepper].
 func (b *Biased) Next(dst []pauli.Letter) (int, error) {
+	drawBiased(b.rng, b.beta, dst)
+	return 1, nil
+}
+
+// drawBiased draws one basis letter a qubit from its distribution
+// probs[q] = (p_X, p_Y, p_Z), one uniform draw of rng per qubit in qubit
+// order; [Biased.Next] and the seed plan's regeneration share it so that a
+// seed gives the same shots both ways.
+func drawBiased(rng *rand.Rand, probs [][3]float64, dst []pauli.Letter) {
 	for q := range dst {
-		u := b.rng.Float64()
-		p := b.beta[q]
+		u := rng.Float64()
+		p := probs[q]
 		switch {
 		case u < p[0]:
 			dst[q] = pauli.X
@@ -64,7 +73,6 @@ func (b *Biased) Next(dst []pauli.Letter) (int, error) {
 			dst[q] = pauli.Z
 		}
 	}
-	return 1, nil
 }
 
 // Distributions returns the per-qubit distributions found by the last Init,

@@ -215,16 +215,27 @@ func WriteCompactPlanFile(path string, p *Plan, seed uint64) error {
 // isCompact reports whether the first line of a plan file is the header of
 // a compact plan: a complete JSON object with version 2.
 func isCompact(br *bufio.Reader) bool {
+	v, ok := headerVersion(br)
+	return ok && (v == strconv.Itoa(CompactPlanVersion) || v == strconv.Itoa(CompactSplitPlanVersion))
+}
+
+// headerVersion peeks at the first line of a plan file (a leading byte
+// order mark skipped) and returns the raw JSON text of its "version" field;
+// ok is false when that line is not a complete JSON object.
+func headerVersion(br *bufio.Reader) (version string, ok bool) {
 	head, _ := br.Peek(64 << 10)
 	head = bytes.TrimPrefix(head, []byte("\ufeff"))
-	first, _, ok := bytes.Cut(head, []byte{'\n'})
-	if !ok {
+	first, _, found := bytes.Cut(head, []byte{'\n'})
+	if !found {
 		first = head
 	}
 	var h struct {
 		Version json.RawMessage `json:"version"`
 	}
-	return json.Unmarshal(first, &h) == nil && (string(h.Version) == strconv.Itoa(CompactPlanVersion) || string(h.Version) == strconv.Itoa(CompactSplitPlanVersion))
+	if json.Unmarshal(first, &h) != nil {
+		return "", false
+	}
+	return string(h.Version), true
 }
 
 // compactReader reads a compact plan file line by line, holding one line at

@@ -69,22 +69,36 @@ func (im *Importance) Init(h *hamiltonian.Hamiltonian, budget int) error {
 
 // Next implements [Stepper].
 func (im *Importance) Next(dst []pauli.Letter) (int, error) {
-	u := im.rng.Float64() * im.cum[len(im.cum)-1]
-	// The first i with cum[i] > u; a term with zero weight is never drawn.
-	i, _ := slices.BinarySearch(im.cum, u)
-	for i < len(im.cum)-1 && im.cum[i] <= u {
-		i++
-	}
+	i := drawTerm(im.rng, im.cum)
 	im.drawn = append(im.drawn, i)
 	x, z := im.table.Words(i)
+	fillSetting(x, z, im.fill, dst)
+	return 1, nil
+}
+
+// drawTerm draws a term index with probability proportional to its weight,
+// from cum, the running sums of the weights, with one uniform draw of rng;
+// [Importance.Next] and the seed plan's regeneration share it.
+func drawTerm(rng *rand.Rand, cum []float64) int {
+	u := rng.Float64() * cum[len(cum)-1]
+	// The first i with cum[i] > u; a term with zero weight is never drawn.
+	i, _ := slices.BinarySearch(cum, u)
+	for i < len(cum)-1 && cum[i] <= u {
+		i++
+	}
+	return i
+}
+
+// fillSetting writes into dst the letters of the Pauli string with words
+// x, z, and fill on the qubits where that string is the identity.
+func fillSetting(x, z []uint64, fill pauli.Letter, dst []pauli.Letter) {
 	for q := range dst {
 		if l := pauli.LetterAt(x, z, q); l != pauli.I {
 			dst[q] = l
 		} else {
-			dst[q] = im.fill
+			dst[q] = fill
 		}
 	}
-	return 1, nil
 }
 
 // Drawn implements [TermDrawer]: the term drawn for each shot so far.

@@ -16,6 +16,7 @@ import (
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/internal/fnvmix"
 	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -155,25 +156,17 @@ func cumulative(w []float64) ([]float64, error) {
 // termsFingerprint is FNV-1a (64 bits) over the width, the number of rows
 // and every row's x and z words, little-endian, in row order.
 func termsFingerprint(t *pauli.Table) uint64 {
-	const prime = 1099511628211
-	f := uint64(14695981039346656037)
-	mix := func(w uint64) {
-		for range 8 {
-			f ^= w & 0xff
-			f *= prime
-			w >>= 8
-		}
-	}
-	mix(uint64(t.Qubits()))
-	mix(uint64(t.Len()))
+	f := fnvmix.New()
+	f.Word(uint64(t.Qubits()))
+	f.Word(uint64(t.Len()))
 	for i := range t.Len() {
 		x, z := t.Words(i)
 		for k := range x {
-			mix(x[k])
-			mix(z[k])
+			f.Word(x[k])
+			f.Word(z[k])
 		}
 	}
-	return f
+	return f.Sum()
 }
 
 // stringsFingerprint is termsFingerprint of a list of strings.
@@ -438,32 +431,11 @@ func (st *SeedStream) draw(dst []pauli.Letter) int {
 			dst[q] = pauli.Letter(1 + st.rng.IntN(3))
 		}
 	case "biased": // Biased.Next
-		for q := range dst {
-			u := st.rng.Float64()
-			p := st.sp.Probs[q]
-			switch {
-			case u < p[0]:
-				dst[q] = pauli.X
-			case u < p[0]+p[1]:
-				dst[q] = pauli.Y
-			default:
-				dst[q] = pauli.Z
-			}
-		}
+		drawBiased(st.rng, st.sp.Probs, dst)
 	case "importance": // Importance.Next
-		u := st.rng.Float64() * st.cum[len(st.cum)-1]
-		i, _ := slices.BinarySearch(st.cum, u)
-		for i < len(st.cum)-1 && st.cum[i] <= u {
-			i++
-		}
+		i := drawTerm(st.rng, st.cum)
 		x, z := st.sp.TermStrings[i].Words()
-		for q := range dst {
-			if l := pauli.LetterAt(x, z, q); l != pauli.I {
-				dst[q] = l
-			} else {
-				dst[q] = st.sp.Fill
-			}
-		}
+		fillSetting(x, z, st.sp.Fill, dst)
 		return i
 	}
 	return -1
@@ -885,16 +857,8 @@ func (f *PlanFile) checkSeed(h *hamiltonian.Hamiltonian) error {
 // isSeedPlan reports whether the first line of a plan file is the header
 // of a seed plan: a complete JSON object with version 5.
 func isSeedPlan(br *bufio.Reader) bool {
-	head, _ := br.Peek(64 << 10)
-	head = bytes.TrimPrefix(head, []byte("\ufeff"))
-	first, _, ok := bytes.Cut(head, []byte{'\n'})
-	if !ok {
-		first = head
-	}
-	var h struct {
-		Version json.RawMessage `json:"version"`
-	}
-	return json.Unmarshal(first, &h) == nil && string(h.Version) == strconv.Itoa(SeedPlanVersion)
+	v, ok := headerVersion(br)
+	return ok && v == strconv.Itoa(SeedPlanVersion)
 }
 
 // readSeedPlanFile is [ReadPlan] of a seed plan: read, then expanded.

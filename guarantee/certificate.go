@@ -223,27 +223,37 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 	cert.RelaxedRadius = cert.ScaledOneNorm * sq
 	cert.Bound = cert.Radius + cert.Bias
 
-	if k := min(opts.top(), h.Len()); k > 0 {
-		order := make([]int, h.Len())
-		for i := range order {
-			order[i] = i
-		}
-		slices.SortFunc(order, func(x, y int) int {
-			if d := cmp.Compare(cert.Share[y], cert.Share[x]); d != 0 {
-				return d
-			}
-			return cmp.Compare(x, y)
-		})
-		for _, i := range order[:k] {
-			cert.Top = append(cert.Top, Contribution{
-				Term: i, Pauli: h.Pauli(i), Coeff: h.Coeff(i), Cover: c.cover[i],
-				Share: cert.Share[i], RelaxedShare: cert.RelaxedShare[i],
-			})
-		}
-	}
+	cert.Top = topContributions(c, cert.Share, cert.RelaxedShare, min(opts.top(), h.Len()))
 	cert.Threshold = thresholdTruncation(c, a, s, delta)
 	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate(), opts.searchBudget())
 	return cert
+}
+
+// topContributions lists the k terms with the largest share, largest first
+// (ties by term index); nil when k is 0.
+func topContributions(c *coverage, share, relaxed []float64, k int) []Contribution {
+	if k <= 0 {
+		return nil
+	}
+	h := c.h
+	order := make([]int, h.Len())
+	for i := range order {
+		order[i] = i
+	}
+	slices.SortFunc(order, func(x, y int) int {
+		if d := cmp.Compare(share[y], share[x]); d != 0 {
+			return d
+		}
+		return cmp.Compare(x, y)
+	})
+	var top []Contribution
+	for _, i := range order[:k] {
+		top = append(top, Contribution{
+			Term: i, Pauli: h.Pauli(i), Coeff: h.Coeff(i), Cover: c.cover[i],
+			Share: share[i], RelaxedShare: relaxed[i],
+		})
+	}
+	return top
 }
 
 // String summarises the certificate in a few lines.

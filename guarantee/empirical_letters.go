@@ -133,19 +133,7 @@ func empiricalLetters(h *hamiltonian.Hamiltonian, rec *estimate.Records, c *cove
 			sum[k][i] = float64(c - 2*o)
 		}
 	}
-	tot, tcnt := make([]float64, m), make([]float64, m)
-	for i := range m {
-		for k := range residualFolds {
-			tot[i] += sum[k][i]
-			tcnt[i] += cnt[k][i]
-		}
-	}
-	var st residualStats
-	for i, ci := range coef {
-		if ci != 0 && tcnt[i] == 1 {
-			st.loo += ci * ci
-		}
-	}
+	tot, tcnt, st := foldTotals(&sum, &cnt, coef)
 	// Pass 2: every shot's residual about the other fold's means and the
 	// leave-one-out residual of every one-shot group, as residuals.
 	y := wv

@@ -8,6 +8,7 @@ import (
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/fnvmix"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -210,26 +211,18 @@ func (d *IID) Variance(mean func(i int) float64, second func(i, k int) float64) 
 // strings) with 64-bit FNV-1a, so that a plan can tell whether the
 // Hamiltonian it is given is, in content, the one it was built for.
 func fingerprint(h *hamiltonian.Hamiltonian) uint64 {
-	const prime = 1099511628211
-	f := uint64(14695981039346656037)
-	mix := func(w uint64) {
-		for range 8 {
-			f ^= w & 0xff
-			f *= prime
-			w >>= 8
-		}
-	}
-	mix(uint64(h.Qubits()))
-	mix(uint64(h.Len()))
-	mix(math.Float64bits(h.Offset()))
+	f := fnvmix.New()
+	f.Word(uint64(h.Qubits()))
+	f.Word(uint64(h.Len()))
+	f.Word(math.Float64bits(h.Offset()))
 	t := h.Table()
 	for i, c := range h.Coeffs() {
-		mix(math.Float64bits(c))
+		f.Word(math.Float64bits(c))
 		x, z := t.Words(i)
 		for k := range x {
-			mix(x[k])
-			mix(z[k])
+			f.Word(x[k])
+			f.Word(z[k])
 		}
 	}
-	return f
+	return f.Sum()
 }

@@ -61,19 +61,7 @@ func residuals(tab *pauli.Table, gs []*groupStat, rowsOf groupRows, coef []float
 			n++
 		}
 	}
-	tot, tcnt := make([]float64, m), make([]float64, m)
-	for i := range m {
-		for k := range residualFolds {
-			tot[i] += sum[k][i]
-			tcnt[i] += cnt[k][i]
-		}
-	}
-	var st residualStats
-	for i, c := range coef {
-		if c != 0 && tcnt[i] == 1 {
-			st.loo += c * c // no other sample: the largest variance of ±1
-		}
-	}
+	tot, tcnt, st := foldTotals(&sum, &cnt, coef)
 	n = 0
 	for gi, g := range gs {
 		rows, gcoef, _ := rowsOf(gi)
@@ -101,6 +89,26 @@ func residuals(tab *pauli.Table, gs []*groupStat, rowsOf groupRows, coef []float
 		}
 	}
 	return st
+}
+
+// foldTotals adds each term's per-fold sums and sample counts over the
+// folds, and starts the statistics with the leave-one-out part of the terms
+// in the estimate that have a single sample.
+func foldTotals(sum, cnt *[residualFolds][]float64, coef []float64) (tot, tcnt []float64, st residualStats) {
+	m := len(sum[0])
+	tot, tcnt = make([]float64, m), make([]float64, m)
+	for i := range m {
+		for k := range residualFolds {
+			tot[i] += sum[k][i]
+			tcnt[i] += cnt[k][i]
+		}
+	}
+	for i, c := range coef {
+		if c != 0 && tcnt[i] == 1 {
+			st.loo += c * c // no other sample: the largest variance of ±1
+		}
+	}
+	return tot, tcnt, st
 }
 
 // residualRadius is the Residual form's statistical radius at confidence

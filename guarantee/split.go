@@ -1,10 +1,8 @@
 package guarantee
 
 import (
-	"cmp"
 	"fmt"
 	"math"
-	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 )
@@ -133,24 +131,7 @@ func certifySplit(c *coverage, delta float64, opts *Options) *Certificate {
 	}
 	cert.RelaxedRadius = cert.ScaledOneNorm * sq
 	cert.Bound = cert.Radius + cert.Bias
-	if k := min(opts.top(), h.Len()); k > 0 {
-		order := make([]int, h.Len())
-		for i := range order {
-			order[i] = i
-		}
-		slices.SortFunc(order, func(x, y int) int {
-			if d := cmp.Compare(cert.Share[y], cert.Share[x]); d != 0 {
-				return d
-			}
-			return cmp.Compare(x, y)
-		})
-		for _, i := range order[:k] {
-			cert.Top = append(cert.Top, Contribution{
-				Term: i, Pauli: h.Pauli(i), Coeff: h.Coeff(i), Cover: c.cover[i],
-				Share: cert.Share[i], RelaxedShare: cert.RelaxedShare[i],
-			})
-		}
-	}
+	cert.Top = topContributions(c, cert.Share, cert.RelaxedShare, min(opts.top(), h.Len()))
 	// Threshold: drop i when r_i > 1/c(δ), i.e. when its relaxed share
 	// c(δ)|h_i| r_i exceeds its bias |h_i| (MATH.md §3.3 with 1/r_i² for N_i).
 	none := make([]bool, h.Len())

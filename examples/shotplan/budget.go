@@ -88,14 +88,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			names = []string{*strategy}
 		}
-		if err := need("ham", *ham); err != nil {
-			return err
-		}
-		h, g, err := readHamAny(*ham)
-		if err != nil {
-			return bad(err)
-		}
-		px, err := resolveProxy(*proxy, *ham, h, g, sf)
+		h, px, err := readHamProxy(*ham, *proxy, sf)
 		if err != nil {
 			return err
 		}

@@ -78,14 +78,7 @@ func planFlags(fs *flag.FlagSet, e *env) func() error {
 		if p := strings.TrimSpace(*proxy); p != "worst" && p != "" && !setProxy(a, nil) {
 			return badf("-proxy %s: strategy %s does not weigh groups; -proxy is for %s", *proxy, *strategy, proxyStrategies)
 		}
-		if err := need("ham", *ham); err != nil {
-			return err
-		}
-		h, g, err := readHamAny(*ham)
-		if err != nil {
-			return bad(err)
-		}
-		px, err := resolveProxy(*proxy, *ham, h, g, sf)
+		h, px, err := readHamProxy(*ham, *proxy, sf)
 		if err != nil {
 			return err
 		}

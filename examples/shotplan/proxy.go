@@ -29,6 +29,23 @@ type chosenProxy struct {
 	state []complex128
 }
 
+// readHamProxy reads the Hamiltonian file ham (-ham, required) and resolves
+// -proxy spec for it with the sector flags.
+func readHamProxy(ham, spec string, sf sectorFlags) (*hamiltonian.Hamiltonian, chosenProxy, error) {
+	if err := need("ham", ham); err != nil {
+		return nil, chosenProxy{}, err
+	}
+	h, g, err := readHamAny(ham)
+	if err != nil {
+		return nil, chosenProxy{}, bad(err)
+	}
+	px, err := resolveProxy(spec, ham, h, g, sf)
+	if err != nil {
+		return nil, chosenProxy{}, err
+	}
+	return h, px, nil
+}
+
 // resolveProxy reads -proxy for h, read from the file ham (g holds its
 // integrals if it is an FCIDUMP file, else nil) and the sector flags.
 func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, error) {
