@@ -45,32 +45,6 @@ func (e *env) planBySeed(h *hamiltonian.Hamiltonian, hamPath string, a allocate.
 	return nil
 }
 
-// loadHamPlanOrSeed is loadHamPlan, except that a seed plan too large to
-// expand is returned as such (checked against the Hamiltonian) rather
-// than streamed into its distinct settings.
-func loadHamPlanOrSeed(hamPath, planPath string) (*hamiltonian.Hamiltonian, *allocate.PlanFile, *allocate.SeedPlan, error) {
-	h, err := loadHam(hamPath)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	f, sp, err := loadPlanOrSeed(planPath)
-	if err != nil {
-		return nil, nil, nil, err
-	}
-	if sp != nil {
-		err = sp.Check(h)
-	} else {
-		err = f.Check(h)
-	}
-	if err != nil {
-		if sp != nil {
-			err = fmt.Errorf("%s: %w", planPath, err)
-		}
-		return nil, nil, nil, badf("%w (Hamiltonian %s)", err, hamPath)
-	}
-	return h, f, sp, nil
-}
-
 // certifySeed certifies a seed plan too large to expand from its
 // distribution alone (MATH.md §4.1): the bound is for the mean of the
 // single-shot values X of i.i.d. draws.
