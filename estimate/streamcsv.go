@@ -22,7 +22,7 @@ type AddCSVOptions struct {
 // csvBatches is the number of batch buffers in flight. Tests lower
 // csvBatchShots to cross many batch boundaries with few shots.
 var (
-	csvBatchShots = 1024
+	csvBatchShots = 4096
 	csvBatches    = 4
 )
 
@@ -51,7 +51,7 @@ var errCSVStopped = errors.New("estimate: stopped")
 // added.
 //
 // Unless opts.Serial is set or GOMAXPROCS is 1, the lines are read and
-// parsed on a second goroutine, in batches of 1024 shots passed through
+// parsed on a second goroutine, in batches of 4096 shots passed through
 // four reused buffers, while the calling goroutine adds them; memory does
 // not grow with the number of shots. On an error or at the end, AddCSV
 // stops that goroutine and waits for it, so r is not read after AddCSV
