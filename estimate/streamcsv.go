@@ -27,12 +27,14 @@ var (
 )
 
 // csvBatch is a run of parsed shots handed from the reading goroutine to
-// the adding one: shot k has setting sets[k], outcome
-// bits[k*w:(k+1)*w] and line lines[k]. The last batch of a scan carries
-// the scan's qubit count and error.
+// the adding one: shot k has setting tab[ids[k]], outcome
+// bits[k*w:(k+1)*w] and line lines[k]. tab is the reading goroutine's
+// table of settings when the batch was sent (it only appends to it). The
+// last batch of a scan carries the scan's qubit count and error.
 type csvBatch struct {
 	lines []int
-	sets  []pauli.Setting
+	ids   []int32
+	tab   []pauli.Setting
 	bits  []uint64
 	last  bool
 	n     int
@@ -67,16 +69,19 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 	for range csvBatches {
 		free <- &csvBatch{
 			lines: make([]int, 0, csvBatchShots),
-			sets:  make([]pauli.Setting, 0, csvBatchShots),
+			ids:   make([]int32, 0, csvBatchShots),
 		}
 	}
 	go func() {
 		defer close(exited)
 		var b *csvBatch
+		// The settings by id (scanCSV's), capacity clipped so that
+		// appending never writes to the caller's array.
+		tab := settings[:len(settings):len(settings)]
 		get := func() bool {
 			select {
 			case b = <-free:
-				b.lines, b.sets, b.bits = b.lines[:0], b.sets[:0], b.bits[:0]
+				b.lines, b.ids, b.bits = b.lines[:0], b.ids[:0], b.bits[:0]
 				return true
 			case <-done:
 				return false
@@ -85,13 +90,17 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		if !get() {
 			return
 		}
-		n, err := scanCSV(r, settings, func(line, _ int, st pauli.Setting, bits pauli.Bits) error {
+		n, err := scanCSV(r, settings, func(line, _, id int, st pauli.Setting, bits pauli.Bits) error {
+			if id == len(tab) {
+				tab = append(tab, st)
+			}
 			b.lines = append(b.lines, line)
-			b.sets = append(b.sets, st)
+			b.ids = append(b.ids, int32(id))
 			b.bits = append(b.bits, bits...)
 			if len(b.lines) < csvBatchShots {
 				return nil
 			}
+			b.tab = tab
 			select {
 			case full <- b:
 			case <-done:
@@ -105,7 +114,7 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		if err == errCSVStopped {
 			return
 		}
-		b.last, b.n, b.err = true, n, err
+		b.last, b.n, b.err, b.tab = true, n, err, tab
 		select {
 		case full <- b:
 		case <-done:
@@ -122,7 +131,7 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 			w = len(b.bits) / len(b.lines)
 		}
 		for k, line := range b.lines {
-			if err := s.Add(b.sets[k], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
+			if err := s.Add(b.tab[b.ids[k]], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
 				return 0, lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
 			}
 		}

@@ -18,11 +18,14 @@ import (
 // csvText returns the CSV form of the case's shots, in shot order; every
 // third line names its setting by index into c.settings, the others spell
 // it out.
-func (c *streamCase) csvText() []string {
+func (c *streamCase) csvText() []string { return c.csvLines(true) }
+
+// csvLines is csvText, with every setting spelled out if !index.
+func (c *streamCase) csvLines(index bool) []string {
 	lines := []string{csvHeader}
 	for n, k := range c.order {
 		set := c.settings[k].String()
-		if n%3 == 0 {
+		if index && n%3 == 0 {
 			set = fmt.Sprint(k)
 		}
 		lines = append(lines, set+","+string(c.outcomes[n].AppendText(nil, c.h.Qubits())))
@@ -45,18 +48,27 @@ var bitsEqual = cmp.Comparer(func(a, b float64) bool { return math.Float64bits(a
 // TestAddCSVMatchesSerial checks that Stream.AddCSV, pipelined or not,
 // adds the same shots in the same order as ScanCSV with Stream.Add on one
 // goroutine: the results are equal bit for bit, under GOMAXPROCS 1 and 2
-// and with batches that split the file many times or not at all. The
+// and with batches that split the file many times or not at all, with
+// and without a settings list (settings by index, or all spelled out). The
 // serial path itself is checked against Grouped and a shot-by-shot
 // reference of MATH.md §2 in TestStreamMatchesGrouped.
 func TestAddCSVMatchesSerial(t *testing.T) {
-	for _, qubits := range []int{8, 70} {
+	for _, tc := range []struct {
+		qubits int
+		list   bool
+	}{{8, true}, {70, true}, {8, false}} {
+		qubits := tc.qubits
 		c := newStreamCase(t, qubits, 200, 11)
-		text := strings.Join(c.csvText(), "\n") + "\n"
+		text := strings.Join(c.csvLines(tc.list), "\n") + "\n"
+		list := c.settings
+		if !tc.list {
+			list = nil
+		}
 		serial, err := NewStream(c.h, c.settings, c.shots, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if _, err := ScanCSV(strings.NewReader(text), c.settings, serial.Add); err != nil {
+		if _, err := ScanCSV(strings.NewReader(text), list, serial.Add); err != nil {
 			t.Fatal(err)
 		}
 		want, err := serial.Result()
@@ -76,7 +88,7 @@ func TestAddCSVMatchesSerial(t *testing.T) {
 						if err != nil {
 							t.Fatal(err)
 						}
-						n, err := st.AddCSV(strings.NewReader(text), c.settings, &AddCSVOptions{Serial: ser})
+						n, err := st.AddCSV(strings.NewReader(text), list, &AddCSVOptions{Serial: ser})
 						if err != nil || n != qubits {
 							t.Fatalf("qubits %d procs %d batch %d serial %v: AddCSV = %d, %v", qubits, procs, batch, ser, n, err)
 						}
