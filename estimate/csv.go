@@ -128,8 +128,8 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 	}
 	cr := newLineReader(&lineCap{r: r, max: maxCSVLine(n)}, maxCSVLine(n))
 	var (
-		bits   pauli.Bits
-		header bool
+		bits    pauli.Bits
+		header  bool
 		parsed  = make(map[string]int)
 		spelled []pauli.Setting
 	)
