@@ -332,19 +332,25 @@ func (c *lineCap) Read(p []byte) (int, error) {
 		return 0, &lineTooLong{c.line + 1, c.max}
 	}
 	n, err := c.r.Read(p)
-	for i, b := range p[:n] {
-		if b == '\n' {
+	// Line by line: the byte that would make the line too long is at
+	// i+room; a newline before it ends the line.
+	for i := 0; i < n; {
+		room := c.max - c.cur
+		end := min(n, i+room+1)
+		if j := bytes.IndexByte(p[i:end], '\n'); j >= 0 {
 			c.line++
 			c.cur = 0
+			i += j + 1
 			continue
 		}
-		c.cur++
-		if c.cur > c.max {
+		if end == i+room+1 {
 			c.exhausted = true
 			// Hand over what precedes the offending byte; the next call
 			// reports the error.
-			return i, nil
+			return i + room, nil
 		}
+		c.cur += end - i
+		i = end
 	}
 	return n, err
 }
