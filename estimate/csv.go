@@ -132,6 +132,12 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 		header  bool
 		parsed  = make(map[string]int)
 		spelled []pauli.Setting
+		texts   []string // texts[j] is the key of spelled[j] in parsed
+		// The id of the last spelled setting: records often repeat a
+		// setting on consecutive lines, and a comparison is cheaper than
+		// a map lookup.
+		lastText string
+		lastID   int
 	)
 	for {
 		fields, err := cr.Read()
@@ -178,8 +184,12 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 				return 0, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
 			}
 			s, id = settings[k], k
+		} else if sf == lastText {
+			s, id = spelled[lastID-len(settings)], lastID
 		} else if j, ok := parsed[sf]; ok {
 			s, id = spelled[j-len(settings)], j
+			lastID = j
+			lastText = texts[j-len(settings)]
 		} else {
 			// sf aliases the reader's buffer: keep a copy.
 			sf = strings.Clone(sf)
@@ -201,6 +211,8 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 			id = len(settings) + len(spelled)
 			parsed[sf] = id
 			spelled = append(spelled, t)
+			texts = append(texts, sf)
+			lastText, lastID = sf, id
 			s = t
 		}
 		if bits == nil {
