@@ -78,7 +78,7 @@ func WriteCSVFile(path string, rec *Records) error {
 // an outcome character other than 0 and 1. errors.Is(err, ErrFormat) holds.
 func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 	var rec *Records
-	n, err := scanCSV(r, settings, func(_, n int, s pauli.Setting, b pauli.Bits) error {
+	n, err := scanCSV(r, settings, func(_, n, _ int, s pauli.Setting, b pauli.Bits) error {
 		if rec == nil {
 			rec = NewRecords(n)
 		}
@@ -101,7 +101,7 @@ func ReadCSV(r io.Reader, settings []pauli.Setting) (*Records, error) {
 // line, with fn's error as its reason. ScanCSV returns the qubit count (of
 // settings, else of the first row), or an error as ReadCSV.
 func ScanCSV(r io.Reader, settings []pauli.Setting, fn func(s pauli.Setting, b pauli.Bits) error) (int, error) {
-	return scanCSV(r, settings, func(line, _ int, s pauli.Setting, b pauli.Bits) error {
+	return scanCSV(r, settings, func(line, _, _ int, s pauli.Setting, b pauli.Bits) error {
 		if err := fn(s, b); err != nil {
 			return lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
 		}
@@ -110,9 +110,11 @@ func ScanCSV(r io.Reader, settings []pauli.Setting, fn func(s pauli.Setting, b p
 }
 
 // scanCSV parses the CSV form and calls fn with each shot's line, the
-// qubit count, the setting and the outcome (a reused buffer); it returns
-// the qubit count.
-func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli.Setting, b pauli.Bits) error) (int, error) {
+// qubit count, the setting's id and the setting, and the outcome (a reused
+// buffer); it returns the qubit count. The id of settings[k] is k; a
+// setting spelled out gets the next id, len(settings) and up, in order of
+// first appearance, and keeps it.
+func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s pauli.Setting, b pauli.Bits) error) (int, error) {
 	n := -1
 	for k, s := range settings {
 		if k == 0 {
@@ -126,9 +128,16 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 	}
 	cr := newLineReader(&lineCap{r: r, max: maxCSVLine(n)}, maxCSVLine(n))
 	var (
-		bits   pauli.Bits
-		header bool
-		parsed = make(map[string]pauli.Setting)
+		bits    pauli.Bits
+		header  bool
+		parsed  = make(map[string]int)
+		spelled []pauli.Setting
+		texts   []string // texts[j] is the key of spelled[j] in parsed
+		// The id of the last spelled setting: records often repeat a
+		// setting on consecutive lines, and a comparison is cheaper than
+		// a map lookup.
+		lastText string
+		lastID   int
 	)
 	for {
 		fields, err := cr.Read()
@@ -157,7 +166,10 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 			return 0, lineError(line, fmt.Sprintf("%d fields, want 2 (setting,outcome)", len(fields)))
 		}
 		sf, bf := strings.TrimSpace(fields[0]), strings.TrimSpace(fields[1])
-		var s pauli.Setting
+		var (
+			s  pauli.Setting
+			id int
+		)
 		if sf == "" {
 			return 0, lineError(line, "empty setting")
 		}
@@ -171,9 +183,13 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 			case k >= len(settings):
 				return 0, lineError(line, fmt.Sprintf("setting index %d out of range: %d settings", k, len(settings)))
 			}
-			s = settings[k]
-		} else if t, ok := parsed[sf]; ok {
-			s = t
+			s, id = settings[k], k
+		} else if sf == lastText {
+			s, id = spelled[lastID-len(settings)], lastID
+		} else if j, ok := parsed[sf]; ok {
+			s, id = spelled[j-len(settings)], j
+			lastID = j
+			lastText = texts[j-len(settings)]
 		} else {
 			// sf aliases the reader's buffer: keep a copy.
 			sf = strings.Clone(sf)
@@ -192,7 +208,11 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 			if t.Qubits() != n {
 				return 0, lineError(line, fmt.Sprintf("setting %q has %d qubits, want %d", sf, t.Qubits(), n))
 			}
-			parsed[sf] = t
+			id = len(settings) + len(spelled)
+			parsed[sf] = id
+			spelled = append(spelled, t)
+			texts = append(texts, sf)
+			lastText, lastID = sf, id
 			s = t
 		}
 		if bits == nil {
@@ -204,7 +224,7 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n int, s pauli
 		if q, ok := parseBitsInto(bits, bf); !ok {
 			return 0, lineError(line, fmt.Sprintf("outcome %q: character %q at qubit %d is not 0 or 1", bf, bf[q], q))
 		}
-		if err := fn(line, n, s, bits); err != nil {
+		if err := fn(line, n, id, s, bits); err != nil {
 			return 0, err
 		}
 	}
@@ -324,19 +344,25 @@ func (c *lineCap) Read(p []byte) (int, error) {
 		return 0, &lineTooLong{c.line + 1, c.max}
 	}
 	n, err := c.r.Read(p)
-	for i, b := range p[:n] {
-		if b == '\n' {
+	// Line by line: the byte that would make the line too long is at
+	// i+room; a newline before it ends the line.
+	for i := 0; i < n; {
+		room := c.max - c.cur
+		end := min(n, i+room+1)
+		if j := bytes.IndexByte(p[i:end], '\n'); j >= 0 {
 			c.line++
 			c.cur = 0
+			i += j + 1
 			continue
 		}
-		c.cur++
-		if c.cur > c.max {
+		if end == i+room+1 {
 			c.exhausted = true
 			// Hand over what precedes the offending byte; the next call
 			// reports the error.
-			return i, nil
+			return i + room, nil
 		}
+		c.cur += end - i
+		i = end
 	}
 	return n, err
 }

@@ -81,7 +81,8 @@ func readRecords(paths []string, settings []pauli.Setting, qubits int) (*estimat
 }
 
 // streamRecords feeds the shots of the -records sources, in order, to st:
-// CSV sources are scanned line by line, JSON sources read whole first (as
+// CSV sources are scanned line by line (parsed on a second goroutine when
+// GOMAXPROCS allows, [estimate.Stream.AddCSV]), JSON sources read whole first (as
 // readRecords would) and fed group by group, the order readRecords
 // combines them in.
 func streamRecords(paths []string, settings []pauli.Setting, qubits int, st *estimate.Stream) error {
@@ -106,7 +107,7 @@ func streamRecords(paths []string, settings []pauli.Setting, qubits int, st *est
 		return nil
 	}
 	scan := func(path string, r io.Reader) error {
-		n, err := estimate.ScanCSV(r, settings, st.Add)
+		n, err := st.AddCSV(r, settings, nil)
 		if err != nil {
 			return badf("%s: %w", recordsName(path), err)
 		}
