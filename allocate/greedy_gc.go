@@ -3,7 +3,10 @@ package allocate
 import (
 	"encoding/binary"
 	"errors"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -30,18 +33,19 @@ import (
 // worst, and then merges the C terms it covered back into the order at
 // their new weights, O(M + C log C), instead of sorting all terms again. A family seen
 // before is looked up by its accepted terms; a new one costs one
-// [pauli.Diagonalize] and one coverage scan of the terms. GreedyGC is slower
+// [pauli.Diagonalize] and one coverage scan of the terms, split in parts of
+// 2^14 terms among GOMAXPROCS cores (the same result on any number). GreedyGC is slower
 // per setting than [Greedy] and meant for moderate M.
 //
 // GreedyGC is deterministic. It implements [Batcher] and [Counter]. The zero
 // value is ready to use.
 type GreedyGC struct {
 	rk    *ranked
-	tab   *pauli.Table // terms in rank order
-	cnt   []int        // N per rank
-	order []int32      // ranks in walk order
-	key   []float64    // walk key of each rank
-	spare []int32      // scratch of reorder
+	parts []*pauli.Table // terms in rank order, gcPart ranks a table
+	cnt   []int          // N per rank
+	order []int32        // ranks in walk order
+	key   []float64      // walk key of each rank
+	spare []int32        // scratch of reorder
 	moved []int32
 	mark  []bool
 	acc   []int32
@@ -62,10 +66,13 @@ func (g *GreedyGC) String() string { return "greedy-gc" }
 func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.rk = newRanked(h)
 	m := len(g.rk.order)
-	g.tab = pauli.NewTable(g.rk.n, m)
+	g.parts = g.parts[:0]
 	for r := range m {
+		if r%gcPart == 0 {
+			g.parts = append(g.parts, pauli.NewTable(g.rk.n, min(gcPart, m-r)))
+		}
 		x, z := g.rk.row(r)
-		g.tab.Append(pauli.FromWords(g.rk.n, x, z))
+		g.parts[r/gcPart].Append(pauli.FromWords(g.rk.n, x, z))
 	}
 	g.cnt = make([]int, m)
 	g.order = make([]int32, m)
@@ -125,17 +132,70 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	if !ok {
 		fam := make([]pauli.String, len(g.acc))
 		for j, r := range g.acc {
-			fam[j] = g.tab.At(int(r))
+			fam[j] = g.parts[int(r)/gcPart].At(int(r) % gcPart)
 		}
 		s, err := pauli.NewFamilySetting(fam)
 		if err != nil {
 			return pauli.Setting{}, err
 		}
-		f = gcFamily{s: s, covers: g.tab.Covered(nil, s)}
+		f = gcFamily{s: s, covers: g.covered(s)}
 		g.cache[string(g.kbuf)] = f
 	}
 	g.reorder(f.covers)
 	return f.s, nil
+}
+
+// gcPart is the number of ranks in each part of the terms' table. The
+// coverage scan of a new family's setting takes the parts on up to
+// GOMAXPROCS cores and joins their lists in part order, so the result does
+// not depend on the number of cores.
+const gcPart = 1 << 14
+
+// covered returns the ranks that s covers, in increasing order.
+func (g *GreedyGC) covered(s pauli.Setting) []int {
+	parts := g.parts
+	workers := min(runtime.GOMAXPROCS(0), len(parts))
+	if workers <= 1 {
+		var out []int
+		for p, t := range parts {
+			k := len(out)
+			out = t.Covered(out, s)
+			for j := k; j < len(out); j++ {
+				out[j] += p * gcPart
+			}
+		}
+		return out
+	}
+	lists := make([][]int, len(parts))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				p := int(next.Add(1)) - 1
+				if p >= len(parts) {
+					return
+				}
+				l := parts[p].Covered(nil, s)
+				for j := range l {
+					l[j] += p * gcPart
+				}
+				lists[p] = l
+			}
+		}()
+	}
+	wg.Wait()
+	total := 0
+	for _, l := range lists {
+		total += len(l)
+	}
+	out := make([]int, 0, total)
+	for _, l := range lists {
+		out = append(out, l...)
+	}
+	return out
 }
 
 // keyOf returns the weight of rank r in the walk: uncovered terms sort
