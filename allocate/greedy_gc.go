@@ -3,6 +3,7 @@ package allocate
 import (
 	"encoding/binary"
 	"errors"
+	"math/bits"
 	"runtime"
 	"slices"
 	"sync"
@@ -51,6 +52,18 @@ type GreedyGC struct {
 	acc   []int32
 	kbuf  []byte
 	cache map[string]gcFamily
+
+	// Narrowed walks (see round).
+	slot     []int32  // letter slot of each qubit, −1 if no term touches it
+	lbits    []uint64 // letter bit sets (letterSets)
+	limit    int      // entries a walk reads before it narrows; −1 never
+	narrowAt int      // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
+	pos      []int32  // walk position of each rank
+	mask     []uint64 // ranks commuting with every generator applied
+	live     []int32  // words of mask that may be nonzero
+	gens     []int32  // ranks of the independent accepted terms
+	offs     []int    // scratch of restrict
+	cand     []int32  // scratch: candidates of a narrowed walk
 }
 
 // gcFamily is a setting the walk produced before, with the ranks it covers.
@@ -85,7 +98,105 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		g.key[r] = g.keyOf(r)
 	}
 	g.cache = make(map[string]gcFamily)
+	g.initNarrow()
 	return nil
+}
+
+// initNarrow prepares narrowed walks: the letter bit sets of the terms and
+// the walk position of each rank.
+func (g *GreedyGC) initNarrow() {
+	rk := g.rk
+	m, words := len(rk.order), (len(rk.order)+63)/64
+	g.slot = make([]int32, rk.n)
+	ns := 0
+	for q := range rk.n {
+		g.slot[q] = -1
+		if rk.used[q>>6]>>(q&63)&1 != 0 {
+			g.slot[q] = int32(ns)
+			ns++
+		}
+	}
+	g.limit = -1
+	g.lbits = nil
+	if 16*ns*words > narrowMaxBytes {
+		return
+	}
+	g.limit = max(narrowMinRead, m/narrowShare)
+	switch {
+	case g.narrowAt > 0:
+		g.limit = g.narrowAt - 1
+	case g.narrowAt < 0:
+		g.limit = -1
+	}
+	g.lbits = letterSets(rk, g.slot, ns)
+	g.pos = make([]int32, m)
+	for r := range m {
+		g.pos[r] = int32(r)
+	}
+	g.mask = make([]uint64, words)
+	g.live = make([]int32, 0, words)
+}
+
+// startMask sets mask to all ranks and applies the generators so far.
+func (g *GreedyGC) startMask() {
+	m := len(g.rk.order)
+	g.live = g.live[:0]
+	for k := range g.mask {
+		g.mask[k] = ^uint64(0)
+		g.live = append(g.live, int32(k))
+	}
+	if m%64 != 0 {
+		g.mask[len(g.mask)-1] = 1<<(m%64) - 1
+	}
+	for _, r := range g.gens {
+		g.restrict(r)
+	}
+}
+
+// restrict removes from mask the ranks that anticommute with rank a: the
+// symplectic product of a term with a is the parity of its x bits on a's
+// z qubits and its z bits on a's x qubits, a XOR of letter bit sets, taken
+// only over the words of mask still nonzero.
+func (g *GreedyGC) restrict(a int32) {
+	words := len(g.mask)
+	x, z := g.rk.row(int(a))
+	g.offs = g.offs[:0]
+	for q := range supportOf(x, z) {
+		s := int(g.slot[q])
+		if z[q>>6]>>(q&63)&1 != 0 {
+			g.offs = append(g.offs, 2*s*words)
+		}
+		if x[q>>6]>>(q&63)&1 != 0 {
+			g.offs = append(g.offs, (2*s+1)*words)
+		}
+	}
+	live := g.live[:0]
+	lb := g.lbits
+	for _, k := range g.live {
+		var v uint64
+		for _, o := range g.offs {
+			v ^= lb[o+int(k)]
+		}
+		if w := g.mask[k] &^ v; w != 0 {
+			g.mask[k] = w
+			live = append(live, k)
+		} else {
+			g.mask[k] = 0
+		}
+	}
+	g.live = live
+}
+
+// candMax is the most candidates a narrowed walk sorts.
+const candMax = 1 << 13
+
+// maskCount returns the number of ranks in mask.
+func (g *GreedyGC) maskCount() int {
+	c := 0
+	for _, k := range g.live {
+		c += bits.OnesCount64(g.mask[k])
+	}
+	return c
 }
 
 // NextBatch implements [Batcher]: one setting with one shot.
@@ -112,15 +223,49 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	}
 	gs := newCommutingGroups(rk.w)
 	g.acc = g.acc[:0]
-	for _, r := range g.order {
+	g.gens = g.gens[:0]
+	masked, full := false, false
+	// accept tests rank r as the sequential walk does and reports whether
+	// the walk is over.
+	accept := func(r int32) bool {
 		x, z := rk.row(int(r))
 		if gs.len() > 0 && !gs.fits(0, x, z) {
-			continue
+			return false
+		}
+		before := 0
+		if gs.len() > 0 {
+			before = gs.rank(0)
 		}
 		gs.add(0, x, z)
 		g.acc = append(g.acc, r)
-		if gs.rank(0) == rk.n {
+		if gs.rank(0) > before {
+			g.gens = append(g.gens, r)
+			if masked {
+				g.restrict(r)
+			}
+		}
+		full = gs.rank(0) == rk.n
+		return full
+	}
+	// Past limit entries, the walk keeps the set of ranks that commute
+	// with every accepted term (mask) and, once it holds at most candMax
+	// ranks, reads only those (narrowWalk); the count is taken again
+	// whenever a generator was added.
+	counted := -1
+	for p, r := range g.order {
+		if accept(r) {
 			break
+		}
+		if g.limit >= 0 && p >= g.limit && counted != len(g.gens) {
+			if !masked {
+				g.startMask()
+				masked = true
+			}
+			counted = len(g.gens)
+			if g.maskCount() <= candMax {
+				g.narrowWalk(p, accept)
+				break
+			}
 		}
 	}
 	slices.Sort(g.acc)
@@ -138,11 +283,56 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 		if err != nil {
 			return pauli.Setting{}, err
 		}
-		f = gcFamily{s: s, covers: g.covered(s)}
+		var covers []int
+		if masked && full {
+			// The accepted terms span a maximal commuting subspace,
+			// which is its own commutant: the terms the setting
+			// covers are those commuting with every generator.
+			covers = g.maskRanks()
+		} else {
+			covers = g.covered(s)
+		}
+		f = gcFamily{s: s, covers: covers}
 		g.cache[string(g.kbuf)] = f
 	}
 	g.reorder(f.covers)
 	return f.s, nil
+}
+
+// narrowWalk continues a walk that has read positions 0..p among the
+// ranks left in mask, the only ones it can still accept: those not
+// accepted yet, in walk order.
+func (g *GreedyGC) narrowWalk(p int, accept func(int32) bool) {
+	c := g.cand[:0]
+	for _, k := range g.live {
+		for w := g.mask[k]; w != 0; w &= w - 1 {
+			r := int32(k)<<6 | int32(bits.TrailingZeros64(w))
+			if int(g.pos[r]) > p {
+				c = append(c, r)
+			}
+		}
+	}
+	slices.SortFunc(c, func(a, b int32) int { return int(g.pos[a]) - int(g.pos[b]) })
+	for _, r := range c {
+		if g.mask[r>>6]>>(r&63)&1 == 0 {
+			continue
+		}
+		if accept(r) {
+			break
+		}
+	}
+	g.cand = c
+}
+
+// maskRanks returns the ranks in mask, in increasing order.
+func (g *GreedyGC) maskRanks() []int {
+	out := make([]int, 0, g.maskCount())
+	for _, k := range g.live {
+		for w := g.mask[k]; w != 0; w &= w - 1 {
+			out = append(out, int(k)<<6|bits.TrailingZeros64(w))
+		}
+	}
+	return out
 }
 
 // gcPart is the number of ranks in each part of the terms' table. The
@@ -251,4 +441,9 @@ func (g *GreedyGC) reorder(covers []int) {
 		}
 	}
 	g.order, g.spare = out, kept
+	if g.pos != nil {
+		for p, r := range g.order {
+			g.pos[r] = int32(p)
+		}
+	}
 }
