@@ -6,6 +6,7 @@ import (
 	"math/bits"
 	"runtime"
 	"slices"
+	"sort"
 	"sync"
 	"sync/atomic"
 
@@ -30,13 +31,21 @@ import (
 // # Cost
 //
 // The terms are kept in walk order; a round tests them in that order
-// against a reduced basis of at most n accepted vectors, O(M·n·⌈n/64⌉) at
-// worst, and then merges the C terms it covered back into the order at
-// their new weights, O(M + C log C), instead of sorting all terms again. A family seen
-// before is looked up by its accepted terms; a new one costs one
-// [pauli.Diagonalize] and one coverage scan of the terms, split in parts of
-// 2^14 terms among GOMAXPROCS cores (the same result on any number). GreedyGC is slower
-// per setting than [Greedy] and meant for moderate M.
+// against a reduced basis of at most n accepted vectors. A walk that has
+// read max(4096, M/16) entries narrows: from letter bit sets of the terms
+// (as [Greedy] keeps them) it forms, word-wise, the set of terms that
+// commute with every accepted term — the only ones it can still accept —
+// and once that set holds at most 8192 terms it reads only those, in walk
+// order, shrinking the set with every new independent term. When the
+// accepted terms reach rank n they span a maximal commuting subspace, its
+// own commutant, so that set is also the set of terms the setting covers
+// and no coverage scan is needed. The covered terms then move back into
+// the order at their new weights, each placed by binary search and the
+// runs between copied whole, instead of sorting all terms again. A family
+// seen before is looked up by its accepted terms; a new one costs one
+// [pauli.Diagonalize] and, unless the walk narrowed to full rank, one
+// coverage scan of the terms, split in parts of 2^14 terms among
+// GOMAXPROCS cores (the same result on any number).
 //
 // GreedyGC is deterministic. It implements [Batcher] and [Counter]. The zero
 // value is ready to use.
@@ -58,7 +67,6 @@ type GreedyGC struct {
 	lbits    []uint64 // letter bit sets (letterSets)
 	limit    int      // entries a walk reads before it narrows; −1 never
 	narrowAt int      // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
-	pos      []int32  // walk position of each rank
 	mask     []uint64 // ranks commuting with every generator applied
 	live     []int32  // words of mask that may be nonzero
 	gens     []int32  // ranks of the independent accepted terms
@@ -129,47 +137,69 @@ func (g *GreedyGC) initNarrow() {
 		g.limit = -1
 	}
 	g.lbits = letterSets(rk, g.slot, ns)
-	g.pos = make([]int32, m)
-	for r := range m {
-		g.pos[r] = int32(r)
-	}
 	g.mask = make([]uint64, words)
 	g.live = make([]int32, 0, words)
 }
 
-// startMask sets mask to all ranks and applies the generators so far.
+// startMask sets mask to the ranks that commute with every generator so
+// far, word by word: a word's generators are applied until it is empty,
+// which for most words takes a few.
 func (g *GreedyGC) startMask() {
-	m := len(g.rk.order)
-	g.live = g.live[:0]
-	for k := range g.mask {
-		g.mask[k] = ^uint64(0)
-		g.live = append(g.live, int32(k))
-	}
-	if m%64 != 0 {
-		g.mask[len(g.mask)-1] = 1<<(m%64) - 1
-	}
+	m, words := len(g.rk.order), len(g.mask)
+	g.offs = g.offs[:0]
+	ends := make([]int, 0, len(g.gens))
 	for _, r := range g.gens {
-		g.restrict(r)
+		g.offs = g.appendOffs(g.offs, r)
+		ends = append(ends, len(g.offs))
+	}
+	g.live = g.live[:0]
+	lb, offs := g.lbits, g.offs
+	for k := range words {
+		w := ^uint64(0)
+		if k == words-1 && m%64 != 0 {
+			w = 1<<(m%64) - 1
+		}
+		a := 0
+		for _, e := range ends {
+			var v uint64
+			for _, o := range offs[a:e] {
+				v ^= lb[o+k]
+			}
+			a = e
+			if w &^= v; w == 0 {
+				break
+			}
+		}
+		g.mask[k] = w
+		if w != 0 {
+			g.live = append(g.live, int32(k))
+		}
 	}
 }
 
-// restrict removes from mask the ranks that anticommute with rank a: the
-// symplectic product of a term with a is the parity of its x bits on a's
-// z qubits and its z bits on a's x qubits, a XOR of letter bit sets, taken
-// only over the words of mask still nonzero.
-func (g *GreedyGC) restrict(a int32) {
+// appendOffs appends the offsets in lbits of the letter bit sets whose XOR
+// is the set of ranks anticommuting with rank a: the symplectic product of
+// a term with a is the parity of its x bits on a's z qubits and its z bits
+// on a's x qubits.
+func (g *GreedyGC) appendOffs(dst []int, a int32) []int {
 	words := len(g.mask)
 	x, z := g.rk.row(int(a))
-	g.offs = g.offs[:0]
 	for q := range supportOf(x, z) {
 		s := int(g.slot[q])
 		if z[q>>6]>>(q&63)&1 != 0 {
-			g.offs = append(g.offs, 2*s*words)
+			dst = append(dst, 2*s*words)
 		}
 		if x[q>>6]>>(q&63)&1 != 0 {
-			g.offs = append(g.offs, (2*s+1)*words)
+			dst = append(dst, (2*s+1)*words)
 		}
 	}
+	return dst
+}
+
+// restrict removes from mask the ranks that anticommute with rank a (see
+// appendOffs), over the words of mask still nonzero.
+func (g *GreedyGC) restrict(a int32) {
+	g.offs = g.appendOffs(g.offs[:0], a)
 	live := g.live[:0]
 	lb := g.lbits
 	for _, k := range g.live {
@@ -303,16 +333,22 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 // ranks left in mask, the only ones it can still accept: those not
 // accepted yet, in walk order.
 func (g *GreedyGC) narrowWalk(p int, accept func(int32) bool) {
+	cur := g.order[p]
 	c := g.cand[:0]
 	for _, k := range g.live {
 		for w := g.mask[k]; w != 0; w &= w - 1 {
 			r := int32(k)<<6 | int32(bits.TrailingZeros64(w))
-			if int(g.pos[r]) > p {
+			if g.walkBefore(cur, r) {
 				c = append(c, r)
 			}
 		}
 	}
-	slices.SortFunc(c, func(a, b int32) int { return int(g.pos[a]) - int(g.pos[b]) })
+	slices.SortFunc(c, func(a, b int32) int {
+		if g.walkBefore(a, b) {
+			return -1
+		}
+		return 1
+	})
 	for _, r := range c {
 		if g.mask[r>>6]>>(r&63)&1 == 0 {
 			continue
@@ -428,22 +464,18 @@ func (g *GreedyGC) reorder(covers []int) {
 			kept = append(kept, r)
 		}
 	}
+	// Each moved rank goes after the kept ranks that precede it, found by
+	// binary search; the runs between are copied whole.
 	out := g.order[:0]
-	i, j := 0, 0
-	for i < len(kept) || j < len(g.moved) {
-		if j == len(g.moved) || i < len(kept) && g.walkBefore(kept[i], g.moved[j]) {
-			out = append(out, kept[i])
-			i++
-		} else {
-			out = append(out, g.moved[j])
-			g.mark[g.moved[j]] = false
-			j++
-		}
+	i := 0
+	for _, mv := range g.moved {
+		rest := kept[i:]
+		j := i + sort.Search(len(rest), func(t int) bool { return !g.walkBefore(rest[t], mv) })
+		out = append(out, kept[i:j]...)
+		out = append(out, mv)
+		g.mark[mv] = false
+		i = j
 	}
+	out = append(out, kept[i:]...)
 	g.order, g.spare = out, kept
-	if g.pos != nil {
-		for p, r := range g.order {
-			g.pos[r] = int32(p)
-		}
-	}
 }
