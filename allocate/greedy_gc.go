@@ -64,7 +64,8 @@ type GreedyGC struct {
 
 	// Narrowed walks (see round).
 	slot     []int32  // letter slot of each qubit, −1 if no term touches it
-	lbits    []uint64 // letter bit sets (letterSets)
+	lbits    []uint64 // letter bit sets (letterSets), word k of set t at k·stride+t
+	stride   int
 	limit    int      // entries a walk reads before it narrows; −1 never
 	narrowAt int      // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
 	mask     []uint64 // ranks commuting with every generator applied
@@ -136,7 +137,16 @@ func (g *GreedyGC) initNarrow() {
 	case g.narrowAt < 0:
 		g.limit = -1
 	}
-	g.lbits = letterSets(rk, g.slot, ns)
+	// The letter bit sets word by word: word k of every set at
+	// k·2ns, so that forming a word of mask reads one short stretch.
+	sets := letterSets(rk, g.slot, ns)
+	g.stride = 2 * ns
+	g.lbits = make([]uint64, len(sets))
+	for t := range 2 * ns {
+		for k := range words {
+			g.lbits[k*g.stride+t] = sets[t*words+k]
+		}
+	}
 	g.mask = make([]uint64, words)
 	g.live = make([]int32, 0, words)
 }
@@ -145,7 +155,7 @@ func (g *GreedyGC) initNarrow() {
 // far, word by word: a word's generators are applied until it is empty,
 // which for most words takes a few.
 func (g *GreedyGC) startMask() {
-	m, words := len(g.rk.order), len(g.mask)
+	m, words, st := len(g.rk.order), len(g.mask), g.stride
 	g.offs = g.offs[:0]
 	ends := make([]int, 0, len(g.gens))
 	for _, r := range g.gens {
@@ -160,10 +170,11 @@ func (g *GreedyGC) startMask() {
 			w = 1<<(m%64) - 1
 		}
 		a := 0
+		row := lb[k*st : (k+1)*st]
 		for _, e := range ends {
 			var v uint64
 			for _, o := range offs[a:e] {
-				v ^= lb[o+k]
+				v ^= row[o]
 			}
 			a = e
 			if w &^= v; w == 0 {
@@ -182,15 +193,14 @@ func (g *GreedyGC) startMask() {
 // a term with a is the parity of its x bits on a's z qubits and its z bits
 // on a's x qubits.
 func (g *GreedyGC) appendOffs(dst []int, a int32) []int {
-	words := len(g.mask)
 	x, z := g.rk.row(int(a))
 	for q := range supportOf(x, z) {
 		s := int(g.slot[q])
 		if z[q>>6]>>(q&63)&1 != 0 {
-			dst = append(dst, 2*s*words)
+			dst = append(dst, 2*s)
 		}
 		if x[q>>6]>>(q&63)&1 != 0 {
-			dst = append(dst, (2*s+1)*words)
+			dst = append(dst, 2*s+1)
 		}
 	}
 	return dst
@@ -201,11 +211,12 @@ func (g *GreedyGC) appendOffs(dst []int, a int32) []int {
 func (g *GreedyGC) restrict(a int32) {
 	g.offs = g.appendOffs(g.offs[:0], a)
 	live := g.live[:0]
-	lb := g.lbits
+	lb, st := g.lbits, g.stride
 	for _, k := range g.live {
+		row := lb[int(k)*st : (int(k)+1)*st]
 		var v uint64
 		for _, o := range g.offs {
-			v ^= lb[o+int(k)]
+			v ^= row[o]
 		}
 		if w := g.mask[k] &^ v; w != 0 {
 			g.mask[k] = w
