@@ -62,3 +62,51 @@ func TestSameOnOneAndTwoCores(t *testing.T) {
 		})
 	}
 }
+
+// TestGreedyGCSameOnOneAndTwoCores runs greedy-gc, whose coverage scan of a
+// new family's setting goes over parts of 2^14 terms on all cores, on a
+// Hamiltonian of three parts with GOMAXPROCS 1 and 2, and requires the same
+// settings, shots and cover counts; the cover counts must also equal a
+// count of the plan made row by row with [pauli.Table.CoversRow], which
+// does not split the terms. Correctness only: no timing.
+func TestGreedyGCSameOnOneAndTwoCores(t *testing.T) {
+	h, err := hamiltonian.RandomLocal(20, 40000, 4, 22)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var plans []*allocate.Plan
+	for _, procs := range []int{1, 2} {
+		old := runtime.GOMAXPROCS(procs)
+		p, err := allocate.Run(h, 60, &allocate.GreedyGC{}, nil)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		plans = append(plans, p)
+	}
+	var got [2][]string
+	for j, p := range plans {
+		for k, s := range p.Settings {
+			got[j] = append(got[j], fmt.Sprintf("%s %d", s, p.Shots[k]))
+		}
+		got[j] = append(got[j], fmt.Sprint(p.Cover))
+	}
+	if len(plans[0].Settings) < 8 {
+		t.Fatalf("%d distinct settings: too few", len(plans[0].Settings))
+	}
+	if d := gocmp.Diff(got[0], got[1]); d != "" {
+		t.Fatalf("plan with GOMAXPROCS 2 differs from GOMAXPROCS 1 (-1 +2):\n%s", d)
+	}
+	p := plans[0]
+	want := make([]int, h.Len())
+	for k, s := range p.Settings {
+		for i := range want {
+			if h.Table().CoversRow(i, s) {
+				want[i] += p.Shots[k]
+			}
+		}
+	}
+	if d := gocmp.Diff(want, p.Cover); d != "" {
+		t.Errorf("cover counts differ from a row-by-row count (-want +got):\n%s", d)
+	}
+}

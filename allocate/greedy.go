@@ -210,20 +210,7 @@ func (g *Greedy) initNarrow() {
 		g.limit = g.narrowAt - 1
 	}
 	ns := g.ns
-	g.lbits = make([]uint64, 2*ns*words)
-	for r := range m {
-		x, z := rk.row(r)
-		bit := uint64(1) << (r & 63)
-		for q := range supportOf(x, z) {
-			o := 2*int(g.slot[q])*words + r>>6
-			if x[q>>6]>>(q&63)&1 != 0 {
-				g.lbits[o] |= bit
-			}
-			if z[q>>6]>>(q&63)&1 != 0 {
-				g.lbits[o+words] |= bit
-			}
-		}
-	}
+	g.lbits = letterSets(rk, g.slot, ns)
 	// kills: X rules out the ranks with a z bit on the qubit, Z those with
 	// an x bit, Y those with exactly one.
 	g.kills = make([]int32, 3*ns)
@@ -239,6 +226,29 @@ func (g *Greedy) initNarrow() {
 	g.none = make([]uint64, words)
 	g.live = make([]int32, 0, words)
 	g.seen = make([]uint64, rk.w)
+}
+
+// letterSets returns the letter bit sets of the ranks of rk: for slot s
+// (slot[q] of qubit q, −1 for a qubit no term touches), the ranks whose
+// letter on the qubit has an x bit at 2s·W and those with a z bit at
+// (2s+1)·W, W = ⌈M/64⌉ words each.
+func letterSets(rk *ranked, slot []int32, ns int) []uint64 {
+	m, words := len(rk.order), (len(rk.order)+63)/64
+	lbits := make([]uint64, 2*ns*words)
+	for r := range m {
+		x, z := rk.row(r)
+		bit := uint64(1) << (r & 63)
+		for q := range supportOf(x, z) {
+			o := 2*int(slot[q])*words + r>>6
+			if x[q>>6]>>(q&63)&1 != 0 {
+				lbits[o] |= bit
+			}
+			if z[q>>6]>>(q&63)&1 != 0 {
+				lbits[o+words] |= bit
+			}
+		}
+	}
+	return lbits
 }
 
 // The walk narrows after reading max(narrowMinRead, M/narrowShare) entries.

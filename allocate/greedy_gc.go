@@ -3,7 +3,12 @@ package allocate
 import (
 	"encoding/binary"
 	"errors"
+	"math/bits"
+	"runtime"
 	"slices"
+	"sort"
+	"sync"
+	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -26,27 +31,48 @@ import (
 // # Cost
 //
 // The terms are kept in walk order; a round tests them in that order
-// against a reduced basis of at most n accepted vectors, O(M·n·⌈n/64⌉) at
-// worst, and then merges the C terms it covered back into the order at
-// their new weights, O(M + C log C), instead of sorting all terms again. A family seen
-// before is looked up by its accepted terms; a new one costs one
-// [pauli.Diagonalize] and one coverage scan of the terms. GreedyGC is slower
-// per setting than [Greedy] and meant for moderate M.
+// against a reduced basis of at most n accepted vectors. A walk that has
+// read max(4096, M/16) entries narrows: from letter bit sets of the terms
+// (as [Greedy] keeps them) it forms, word-wise, the set of terms that
+// commute with every accepted term — the only ones it can still accept —
+// and once that set holds at most 8192 terms it reads only those, in walk
+// order, shrinking the set with every new independent term. When the
+// accepted terms reach rank n they span a maximal commuting subspace, its
+// own commutant, so that set is also the set of terms the setting covers
+// and no coverage scan is needed. The covered terms then move back into
+// the order at their new weights, each placed by binary search and the
+// runs between copied whole, instead of sorting all terms again. A family
+// seen before is looked up by its accepted terms; a new one costs one
+// [pauli.Diagonalize] and, unless the walk narrowed to full rank, one
+// coverage scan of the terms, split in parts of 2^14 terms among
+// GOMAXPROCS cores (the same result on any number).
 //
 // GreedyGC is deterministic. It implements [Batcher] and [Counter]. The zero
 // value is ready to use.
 type GreedyGC struct {
 	rk    *ranked
-	tab   *pauli.Table // terms in rank order
-	cnt   []int        // N per rank
-	order []int32      // ranks in walk order
-	key   []float64    // walk key of each rank
-	spare []int32      // scratch of reorder
+	parts []*pauli.Table // terms in rank order, gcPart ranks a table
+	cnt   []int          // N per rank
+	order []int32        // ranks in walk order
+	key   []float64      // walk key of each rank
+	spare []int32        // scratch of reorder
 	moved []int32
 	mark  []bool
 	acc   []int32
 	kbuf  []byte
 	cache map[string]gcFamily
+
+	// Narrowed walks (see round).
+	slot     []int32  // letter slot of each qubit, −1 if no term touches it
+	lbits    []uint64 // letter bit sets (letterSets), word k of set t at k·stride+t
+	stride   int
+	limit    int      // entries a walk reads before it narrows; −1 never
+	narrowAt int      // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
+	mask     []uint64 // ranks commuting with every generator applied
+	live     []int32  // words of mask that may be nonzero
+	gens     []int32  // ranks of the independent accepted terms
+	offs     []int    // scratch of restrict
+	cand     []int32  // scratch: candidates of a narrowed walk
 }
 
 // gcFamily is a setting the walk produced before, with the ranks it covers.
@@ -62,10 +88,13 @@ func (g *GreedyGC) String() string { return "greedy-gc" }
 func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.rk = newRanked(h)
 	m := len(g.rk.order)
-	g.tab = pauli.NewTable(g.rk.n, m)
+	g.parts = g.parts[:0]
 	for r := range m {
+		if r%gcPart == 0 {
+			g.parts = append(g.parts, pauli.NewTable(g.rk.n, min(gcPart, m-r)))
+		}
 		x, z := g.rk.row(r)
-		g.tab.Append(pauli.FromWords(g.rk.n, x, z))
+		g.parts[r/gcPart].Append(pauli.FromWords(g.rk.n, x, z))
 	}
 	g.cnt = make([]int, m)
 	g.order = make([]int32, m)
@@ -78,7 +107,137 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		g.key[r] = g.keyOf(r)
 	}
 	g.cache = make(map[string]gcFamily)
+	g.initNarrow()
 	return nil
+}
+
+// initNarrow prepares narrowed walks: the letter bit sets of the terms and
+// the walk position of each rank.
+func (g *GreedyGC) initNarrow() {
+	rk := g.rk
+	m, words := len(rk.order), (len(rk.order)+63)/64
+	g.slot = make([]int32, rk.n)
+	ns := 0
+	for q := range rk.n {
+		g.slot[q] = -1
+		if rk.used[q>>6]>>(q&63)&1 != 0 {
+			g.slot[q] = int32(ns)
+			ns++
+		}
+	}
+	g.limit = -1
+	g.lbits = nil
+	if 16*ns*words > narrowMaxBytes {
+		return
+	}
+	g.limit = max(narrowMinRead, m/narrowShare)
+	switch {
+	case g.narrowAt > 0:
+		g.limit = g.narrowAt - 1
+	case g.narrowAt < 0:
+		g.limit = -1
+	}
+	// The letter bit sets word by word: word k of every set at
+	// k·2ns, so that forming a word of mask reads one short stretch.
+	sets := letterSets(rk, g.slot, ns)
+	g.stride = 2 * ns
+	g.lbits = make([]uint64, len(sets))
+	for t := range 2 * ns {
+		for k := range words {
+			g.lbits[k*g.stride+t] = sets[t*words+k]
+		}
+	}
+	g.mask = make([]uint64, words)
+	g.live = make([]int32, 0, words)
+}
+
+// startMask sets mask to the ranks that commute with every generator so
+// far, word by word: a word's generators are applied until it is empty,
+// which for most words takes a few.
+func (g *GreedyGC) startMask() {
+	m, words, st := len(g.rk.order), len(g.mask), g.stride
+	g.offs = g.offs[:0]
+	ends := make([]int, 0, len(g.gens))
+	for _, r := range g.gens {
+		g.offs = g.appendOffs(g.offs, r)
+		ends = append(ends, len(g.offs))
+	}
+	g.live = g.live[:0]
+	lb, offs := g.lbits, g.offs
+	for k := range words {
+		w := ^uint64(0)
+		if k == words-1 && m%64 != 0 {
+			w = 1<<(m%64) - 1
+		}
+		a := 0
+		row := lb[k*st : (k+1)*st]
+		for _, e := range ends {
+			var v uint64
+			for _, o := range offs[a:e] {
+				v ^= row[o]
+			}
+			a = e
+			if w &^= v; w == 0 {
+				break
+			}
+		}
+		g.mask[k] = w
+		if w != 0 {
+			g.live = append(g.live, int32(k))
+		}
+	}
+}
+
+// appendOffs appends the offsets in lbits of the letter bit sets whose XOR
+// is the set of ranks anticommuting with rank a: the symplectic product of
+// a term with a is the parity of its x bits on a's z qubits and its z bits
+// on a's x qubits.
+func (g *GreedyGC) appendOffs(dst []int, a int32) []int {
+	x, z := g.rk.row(int(a))
+	for q := range supportOf(x, z) {
+		s := int(g.slot[q])
+		if z[q>>6]>>(q&63)&1 != 0 {
+			dst = append(dst, 2*s)
+		}
+		if x[q>>6]>>(q&63)&1 != 0 {
+			dst = append(dst, 2*s+1)
+		}
+	}
+	return dst
+}
+
+// restrict removes from mask the ranks that anticommute with rank a (see
+// appendOffs), over the words of mask still nonzero.
+func (g *GreedyGC) restrict(a int32) {
+	g.offs = g.appendOffs(g.offs[:0], a)
+	live := g.live[:0]
+	lb, st := g.lbits, g.stride
+	for _, k := range g.live {
+		row := lb[int(k)*st : (int(k)+1)*st]
+		var v uint64
+		for _, o := range g.offs {
+			v ^= row[o]
+		}
+		if w := g.mask[k] &^ v; w != 0 {
+			g.mask[k] = w
+			live = append(live, k)
+		} else {
+			g.mask[k] = 0
+		}
+	}
+	g.live = live
+}
+
+// candMax is the most candidates a narrowed walk sorts.
+const candMax = 1 << 13
+
+// maskCount returns the number of ranks in mask.
+func (g *GreedyGC) maskCount() int {
+	c := 0
+	for _, k := range g.live {
+		c += bits.OnesCount64(g.mask[k])
+	}
+	return c
 }
 
 // NextBatch implements [Batcher]: one setting with one shot.
@@ -105,15 +264,49 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	}
 	gs := newCommutingGroups(rk.w)
 	g.acc = g.acc[:0]
-	for _, r := range g.order {
+	g.gens = g.gens[:0]
+	masked, full := false, false
+	// accept tests rank r as the sequential walk does and reports whether
+	// the walk is over.
+	accept := func(r int32) bool {
 		x, z := rk.row(int(r))
 		if gs.len() > 0 && !gs.fits(0, x, z) {
-			continue
+			return false
+		}
+		before := 0
+		if gs.len() > 0 {
+			before = gs.rank(0)
 		}
 		gs.add(0, x, z)
 		g.acc = append(g.acc, r)
-		if gs.rank(0) == rk.n {
+		if gs.rank(0) > before {
+			g.gens = append(g.gens, r)
+			if masked {
+				g.restrict(r)
+			}
+		}
+		full = gs.rank(0) == rk.n
+		return full
+	}
+	// Past limit entries, the walk keeps the set of ranks that commute
+	// with every accepted term (mask) and, once it holds at most candMax
+	// ranks, reads only those (narrowWalk); the count is taken again
+	// whenever a generator was added.
+	counted := -1
+	for p, r := range g.order {
+		if accept(r) {
 			break
+		}
+		if g.limit >= 0 && p >= g.limit && counted != len(g.gens) {
+			if !masked {
+				g.startMask()
+				masked = true
+			}
+			counted = len(g.gens)
+			if g.maskCount() <= candMax {
+				g.narrowWalk(p, accept)
+				break
+			}
 		}
 	}
 	slices.Sort(g.acc)
@@ -125,17 +318,121 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	if !ok {
 		fam := make([]pauli.String, len(g.acc))
 		for j, r := range g.acc {
-			fam[j] = g.tab.At(int(r))
+			fam[j] = g.parts[int(r)/gcPart].At(int(r) % gcPart)
 		}
 		s, err := pauli.NewFamilySetting(fam)
 		if err != nil {
 			return pauli.Setting{}, err
 		}
-		f = gcFamily{s: s, covers: g.tab.Covered(nil, s)}
+		var covers []int
+		if masked && full {
+			// The accepted terms span a maximal commuting subspace,
+			// which is its own commutant: the terms the setting
+			// covers are those commuting with every generator.
+			covers = g.maskRanks()
+		} else {
+			covers = g.covered(s)
+		}
+		f = gcFamily{s: s, covers: covers}
 		g.cache[string(g.kbuf)] = f
 	}
 	g.reorder(f.covers)
 	return f.s, nil
+}
+
+// narrowWalk continues a walk that has read positions 0..p among the
+// ranks left in mask, the only ones it can still accept: those not
+// accepted yet, in walk order.
+func (g *GreedyGC) narrowWalk(p int, accept func(int32) bool) {
+	cur := g.order[p]
+	c := g.cand[:0]
+	for _, k := range g.live {
+		for w := g.mask[k]; w != 0; w &= w - 1 {
+			r := int32(k)<<6 | int32(bits.TrailingZeros64(w))
+			if g.walkBefore(cur, r) {
+				c = append(c, r)
+			}
+		}
+	}
+	slices.SortFunc(c, func(a, b int32) int {
+		if g.walkBefore(a, b) {
+			return -1
+		}
+		return 1
+	})
+	for _, r := range c {
+		if g.mask[r>>6]>>(r&63)&1 == 0 {
+			continue
+		}
+		if accept(r) {
+			break
+		}
+	}
+	g.cand = c
+}
+
+// maskRanks returns the ranks in mask, in increasing order.
+func (g *GreedyGC) maskRanks() []int {
+	out := make([]int, 0, g.maskCount())
+	for _, k := range g.live {
+		for w := g.mask[k]; w != 0; w &= w - 1 {
+			out = append(out, int(k)<<6|bits.TrailingZeros64(w))
+		}
+	}
+	return out
+}
+
+// gcPart is the number of ranks in each part of the terms' table. The
+// coverage scan of a new family's setting takes the parts on up to
+// GOMAXPROCS cores and joins their lists in part order, so the result does
+// not depend on the number of cores.
+const gcPart = 1 << 14
+
+// covered returns the ranks that s covers, in increasing order.
+func (g *GreedyGC) covered(s pauli.Setting) []int {
+	parts := g.parts
+	workers := min(runtime.GOMAXPROCS(0), len(parts))
+	if workers <= 1 {
+		var out []int
+		for p, t := range parts {
+			k := len(out)
+			out = t.Covered(out, s)
+			for j := k; j < len(out); j++ {
+				out[j] += p * gcPart
+			}
+		}
+		return out
+	}
+	lists := make([][]int, len(parts))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				p := int(next.Add(1)) - 1
+				if p >= len(parts) {
+					return
+				}
+				l := parts[p].Covered(nil, s)
+				for j := range l {
+					l[j] += p * gcPart
+				}
+				lists[p] = l
+			}
+		}()
+	}
+	wg.Wait()
+	total := 0
+	for _, l := range lists {
+		total += len(l)
+	}
+	out := make([]int, 0, total)
+	for _, l := range lists {
+		out = append(out, l...)
+	}
+	return out
 }
 
 // keyOf returns the weight of rank r in the walk: uncovered terms sort
@@ -178,17 +475,18 @@ func (g *GreedyGC) reorder(covers []int) {
 			kept = append(kept, r)
 		}
 	}
+	// Each moved rank goes after the kept ranks that precede it, found by
+	// binary search; the runs between are copied whole.
 	out := g.order[:0]
-	i, j := 0, 0
-	for i < len(kept) || j < len(g.moved) {
-		if j == len(g.moved) || i < len(kept) && g.walkBefore(kept[i], g.moved[j]) {
-			out = append(out, kept[i])
-			i++
-		} else {
-			out = append(out, g.moved[j])
-			g.mark[g.moved[j]] = false
-			j++
-		}
+	i := 0
+	for _, mv := range g.moved {
+		rest := kept[i:]
+		j := i + sort.Search(len(rest), func(t int) bool { return !g.walkBefore(rest[t], mv) })
+		out = append(out, kept[i:j]...)
+		out = append(out, mv)
+		g.mark[mv] = false
+		i = j
 	}
+	out = append(out, kept[i:]...)
 	g.order, g.spare = out, kept
 }
