@@ -214,7 +214,7 @@ func TestStreamAddAllocs(t *testing.T) {
 		t.Fatal(err)
 	}
 	settings := []pauli.Setting{pauli.MustParseSetting(strings.Repeat("Z", 20)), pauli.MustParseSetting(strings.Repeat("X", 20))}
-	s, err := NewStream(h, settings, []int{1 << 40, 1 << 40}, nil)
+	s, err := NewStream(h, settings, []int{1 << 30, 1 << 30}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
