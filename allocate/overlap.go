@@ -639,6 +639,17 @@ func simplexMin(d, e, out []float64) {
 			stiff = j
 		}
 	}
+	if stiff < 0 {
+		// Every j dropped, which only rounding can cause (the smallest
+		// e_j is never dropped in exact arithmetic): the smallest e_j
+		// takes the weight.
+		stiff = 0
+		for j := range e {
+			if e[j] < e[stiff] {
+				stiff = j
+			}
+		}
+	}
 	sum := 0.0
 	for j := range out {
 		out[j] = 0
