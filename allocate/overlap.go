@@ -552,9 +552,10 @@ func (md *splitModel) sweep(f []float64) {
 		simplexMin(md.d, md.e, md.a)
 		if !finiteWeights(md.a) {
 			// Only for terms whose coefficient is near zero (1e-16 and
-			// below in molecular Bravyi–Kitaev Hamiltonians), where d_g
-			// underflows against e_g: their weights keep the values they
-			// had, which matter to nothing but that term.
+			// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
+			// is then so far below e_g ∝ |h_i| that μ − e_g is lost to
+			// rounding. Their weights keep the values they had, which
+			// matter to nothing but that term.
 			continue
 		}
 		for t, j := range md.idx {
@@ -628,39 +629,10 @@ func simplexMin(d, e, out []float64) {
 			break
 		}
 	}
-	// The active j with the smallest d_j takes what the others leave,
-	// 1 − Σ_{k≠j} x_k, instead of (μ − e_j)/d_j: when d_j is many orders
-	// below the others (a term whose coefficient is near zero, such as
-	// 1e-18 in a Bravyi–Kitaev Hamiltonian), μ − e_j is lost to rounding
-	// while the other x_k = (μ − e_k)/d_k keep their relative accuracy.
-	stiff := -1
-	for j, a := range out {
-		if a != 0 && (stiff < 0 || d[j] < d[stiff]) {
-			stiff = j
-		}
-	}
-	if stiff < 0 {
-		// Every j dropped, which only rounding can cause (the smallest
-		// e_j is never dropped in exact arithmetic): the smallest e_j
-		// takes the weight.
-		stiff = 0
-		for j := range e {
-			if e[j] < e[stiff] {
-				stiff = j
-			}
-		}
-	}
 	sum := 0.0
 	for j := range out {
-		out[j] = 0
-		if j != stiff {
-			out[j] = max(0, (mu-e[j])/d[j])
-			sum += out[j]
-		}
-	}
-	if sum < 1 {
-		out[stiff] = 1 - sum
-		return
+		out[j] = max(0, (mu-e[j])/d[j])
+		sum += out[j]
 	}
 	for j := range out {
 		out[j] /= sum
