@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 
+	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
 	"github.com/shotplan/shotplan/pauli"
@@ -195,4 +196,20 @@ func (c *coverage) variance(s []float64) float64 {
 		v += float64(c.mult[q]) * sq * sq
 	}
 	return v
+}
+
+// planCoverage returns the coverage of a plan with at least one shot,
+// with the plan's coefficient split (MATH.md §2.5) if it has one.
+func planCoverage(h *hamiltonian.Hamiltonian, p *allocate.Plan) (*coverage, error) {
+	c, err := newCoverage(h, p.Settings, p.Shots)
+	if err != nil {
+		return nil, err
+	}
+	if c.shots == 0 {
+		return nil, fmt.Errorf("guarantee: the plan has no shots")
+	}
+	if err := c.setSplit(p.Split); err != nil {
+		return nil, err
+	}
+	return c, nil
 }

@@ -57,14 +57,8 @@ func MeritOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128) (
 	case h.Qubits() > hamiltonian.MaxExactQubits || len(state) != 1<<h.Qubits():
 		return nil, fmt.Errorf("guarantee: the state has %d amplitudes, want 2^%d (at most 2^%d)", len(state), h.Qubits(), hamiltonian.MaxExactQubits)
 	}
-	c, err := newCoverage(h, p.Settings, p.Shots)
+	c, err := planCoverage(h, p)
 	if err != nil {
-		return nil, err
-	}
-	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: the plan has no shots")
-	}
-	if err := c.setSplit(p.Split); err != nil {
 		return nil, err
 	}
 	sim, err := estimate.NewSimulator(state, 0, nil)

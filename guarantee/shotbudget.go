@@ -95,14 +95,8 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 	case p.Qubits != h.Qubits():
 		return nil, fmt.Errorf("guarantee: plan has %d qubits, Hamiltonian has %d", p.Qubits, h.Qubits())
 	}
-	c, err := newCoverage(h, p.Settings, p.Shots)
+	c, err := planCoverage(h, p)
 	if err != nil {
-		return nil, err
-	}
-	if c.shots == 0 {
-		return nil, fmt.Errorf("guarantee: the plan has no shots")
-	}
-	if err := c.setSplit(p.Split); err != nil {
 		return nil, err
 	}
 	var s []float64
