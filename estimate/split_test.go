@@ -9,6 +9,7 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -40,32 +41,7 @@ func splitHamiltonian(t *testing.T) *hamiltonian.Hamiltonian {
 func denseEnergy(h *hamiltonian.Hamiltonian, psi []complex128) float64 {
 	e := complex(h.Offset(), 0)
 	for i := range h.Len() {
-		p := h.Pauli(i)
-		phi := make([]complex128, len(psi))
-		for b, a := range psi {
-			// P|b⟩ = phase·|b'⟩, qubit by qubit: X|0⟩=|1⟩, X|1⟩=|0⟩,
-			// Y|0⟩=i|1⟩, Y|1⟩=−i|0⟩, Z|0⟩=|0⟩, Z|1⟩=−|1⟩.
-			ph, out := complex(1, 0), b
-			for q := range h.Qubits() {
-				bit := b >> q & 1
-				switch p.At(q) {
-				case pauli.X:
-					out ^= 1 << q
-				case pauli.Y:
-					out ^= 1 << q
-					if bit == 0 {
-						ph *= 1i
-					} else {
-						ph *= -1i
-					}
-				case pauli.Z:
-					if bit == 1 {
-						ph = -ph
-					}
-				}
-			}
-			phi[out] += ph * a
-		}
+		phi := hamiltoniantest.ApplyString(h.Pauli(i), psi)
 		s := complex(0, 0)
 		for b := range psi {
 			s += cmplx.Conj(psi[b]) * phi[b]

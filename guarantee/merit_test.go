@@ -11,6 +11,7 @@ import (
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
+	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
 	"github.com/shotplan/shotplan/hamiltonian/molecule"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -266,43 +267,10 @@ func mustStateProxy(t *testing.T, psi []complex128) *allocate.StateProxy {
 	return px
 }
 
-// applyString returns P|ψ⟩ by the textbook action of a Pauli string on
-// basis states: X flips, Z gives (−1)^bit, Y = iXZ gives i·(−1)^bit on the
-// flipped bit. Written out per qubit, independently of the library.
-func applyString(p pauli.String, psi []complex128) []complex128 {
-	out := make([]complex128, len(psi))
-	for b, a := range psi {
-		if a == 0 {
-			continue
-		}
-		nb, ph := b, complex128(1)
-		for q := range p.Qubits() {
-			bit := b >> q & 1
-			switch p.At(q) {
-			case pauli.X:
-				nb ^= 1 << q
-			case pauli.Y:
-				nb ^= 1 << q
-				if bit == 0 {
-					ph *= 1i
-				} else {
-					ph *= -1i
-				}
-			case pauli.Z:
-				if bit == 1 {
-					ph = -ph
-				}
-			}
-		}
-		out[nb] += ph * a
-	}
-	return out
-}
-
 // TestMeritOfLiHOutside does the same for LiH (12 qubits, Jordan–Wigner) in
 // its exact ground state (sector of 4 electrons, S_z = 0; energy checked
 // against the full-CI value of the README), with O_g|ψ⟩ built term by term
-// by applyString and Var_g = ‖O_g ψ‖² − ⟨ψ|O_g|ψ⟩².
+// by hamiltoniantest.ApplyString and Var_g = ‖O_g ψ‖² − ⟨ψ|O_g|ψ⟩².
 func TestMeritOfLiHOutside(t *testing.T) {
 	if testing.Short() {
 		t.Skip("LiH: a few seconds")
@@ -346,7 +314,7 @@ func TestMeritOfLiHOutside(t *testing.T) {
 				continue
 			}
 			w := complex(float64(shots[k])/float64(cover[i])*h.Coeff(i), 0)
-			for b, x := range applyString(h.Term(i).Pauli, psi) {
+			for b, x := range hamiltoniantest.ApplyString(h.Term(i).Pauli, psi) {
 				o[b] += w * x
 			}
 		}
