@@ -23,32 +23,32 @@ func pairNoise() *estimate.SimulatorOptions {
 var testPairs = [][2]int{{0, 1}, {2, 3}}
 
 // simulatePairCalibration prepares each state of
-// estimate.PairCalibrationPreparations shots times on the simulator (a
-// basis state read in Z through the same noise) and counts the shots in a
-// calibration with pairs and one without.
-func simulatePairCalibration(t *testing.T, shots int, seed uint64) (withPairs, perQubit *estimate.Calibration) {
+// estimate.PairCalibrationPreparations of n qubits with the given pairs
+// shots times on the simulator (a basis state read in Z through noise) and
+// counts the shots in a calibration with pairs and one without.
+func simulatePairCalibration(t *testing.T, n int, pairs [][2]int, noise *estimate.SimulatorOptions, shots int, seed uint64) (withPairs, perQubit *estimate.Calibration) {
 	t.Helper()
-	preps, err := estimate.PairCalibrationPreparations(4, testPairs)
+	preps, err := estimate.PairCalibrationPreparations(n, pairs)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if withPairs, err = estimate.NewPairCalibration(4, testPairs); err != nil {
+	if withPairs, err = estimate.NewPairCalibration(n, pairs); err != nil {
 		t.Fatal(err)
 	}
-	perQubit = estimate.NewCalibration(4)
-	z, _ := pauli.ParseSetting("ZZZZ")
+	perQubit = estimate.NewCalibration(n)
+	z := pauli.Complete(pauli.Identity(n), pauli.Z)
 	for k, p := range preps {
-		psi := make([]complex128, 16)
+		psi := make([]complex128, 1<<n)
 		idx := 0
-		for q := range 4 {
+		for q := range n {
 			idx |= int(p.Get(q)) << q
 		}
 		psi[idx] = 1
-		sim, err := estimate.NewSimulator(psi, seed*8+uint64(k), pairNoise())
+		sim, err := estimate.NewSimulator(psi, seed*8+uint64(k), noise)
 		if err != nil {
 			t.Fatal(err)
 		}
-		rec := estimate.NewRecords(4)
+		rec := estimate.NewRecords(n)
 		if err := sim.Run([]pauli.Setting{z}, []int{shots}, rec); err != nil {
 			t.Fatal(err)
 		}
@@ -114,7 +114,7 @@ func TestPairReadoutBoundsCover(t *testing.T) {
 			if err := sim.Run(p.Settings, p.Shots, rec); err != nil {
 				t.Fatal(err)
 			}
-			cal, _ := simulatePairCalibration(t, calShots, seed<<16)
+			cal, _ := simulatePairCalibration(t, 4, testPairs, pairNoise(), calShots, seed<<16)
 			b, err := CalibratedBounds(h, rec, cal, delta, nil)
 			if err != nil {
 				t.Fatal(err)
@@ -162,7 +162,7 @@ func TestPerQubitBoundsFailUnderPairReadout(t *testing.T) {
 		if err := sim.Run(p.Settings, p.Shots, rec); err != nil {
 			t.Fatal(err)
 		}
-		withPairs, perQubit := simulatePairCalibration(t, calShots, uint64(r+100))
+		withPairs, perQubit := simulatePairCalibration(t, 4, testPairs, pairNoise(), calShots, uint64(r+100))
 		single, err := CalibratedBounds(h, rec, perQubit, delta, nil)
 		if err != nil {
 			t.Fatal(err)

@@ -1,6 +1,7 @@
 package guarantee
 
 import (
+	"bytes"
 	"flag"
 	"fmt"
 	"io"
@@ -17,6 +18,7 @@ import (
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/hamiltonian/hamiltoniantest"
+	"github.com/shotplan/shotplan/hamiltonian/molecule"
 	"github.com/shotplan/shotplan/internal/atomicfile"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -122,41 +124,86 @@ func TestApproxRadiusOneShotSettings(t *testing.T) {
 	}
 }
 
-// molecularCase is a molecule's Jordan–Wigner Hamiltonian with its exact
-// ground state.
+// molecularCase is a molecule's qubit Hamiltonian under one encoding with
+// its exact ground state, its integrals and its Hartree–Fock determinant.
 type molecularCase struct {
 	name   string
 	h      *hamiltonian.Hamiltonian
 	state  []complex128
 	energy float64
+	enc    fermion.Encoding
+	hf     allocate.BasisProxy // the Hartree–Fock determinant (molecule.Integrals.HartreeFockBits)
 }
 
-// molecularCases returns the first n of H2, LiH and H2O.
+// moleculeCache keeps the molecules built in this test binary: a ground
+// state of 14 qubits costs seconds, and several tests use the same ones.
+var moleculeCache = map[string]molecularCase{}
+
+// moleculeOf returns the molecule of hamiltonian/hamiltoniantest named file
+// under enc, built once per test binary, with its ground state: under
+// Jordan–Wigner the lowest state of the electron sector (the molecule's
+// electron count and 2S_z, hamiltonian.ElectronSector), otherwise of the
+// whole space (small molecules only). The energy must equal the full-CI
+// energy of the reference data (psi4 1.3.2, hamiltoniantest.FullCI) to
+// 1e-8 hartree: for these molecules it is also the lowest eigenvalue of
+// the whole qubit Hamiltonian.
+func moleculeOf(t *testing.T, name, file string, enc fermion.Encoding) molecularCase {
+	t.Helper()
+	key := file + "/" + enc.String()
+	if mc, ok := moleculeCache[key]; ok {
+		return mc
+	}
+	raw, err := hamiltoniantest.FCIDUMP(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, err := molecule.ReadFCIDUMP(bytes.NewReader(raw))
+	if err != nil {
+		t.Fatal(err)
+	}
+	h, err := g.QubitHamiltonian(enc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var opts *hamiltonian.EigenOptions
+	if enc == fermion.JordanWigner {
+		sec, err := hamiltonian.ElectronSector(h.Qubits(), g.Electrons, g.SpinTwice)
+		if err != nil {
+			t.Fatal(err)
+		}
+		opts = &hamiltonian.EigenOptions{Sector: &sec}
+	}
+	ev, err := hamiltonian.GroundState(h, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fci, err := hamiltoniantest.FullCI(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(ev.Energy-fci) > 1e-8 {
+		t.Fatalf("%s (%s) ground energy %.10f, want the full-CI %.10f (hamiltonian/hamiltoniantest)", name, enc, ev.Energy, fci)
+	}
+	bits, err := g.HartreeFockBits(enc)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mc := molecularCase{name: name, h: h, state: ev.State, energy: ev.Energy, enc: enc, hf: allocate.BasisProxy{Bits: bits}}
+	moleculeCache[key] = mc
+	return mc
+}
+
+// molecularCases returns the first n of H2 (at 0.7414 Å), LiH and H2O
+// under Jordan–Wigner.
 func molecularCases(t *testing.T, n int) []molecularCase {
 	t.Helper()
 	var out []molecularCase
-	for _, c := range []struct {
-		name, file string
-		fci        float64
-	}{
-		// Full-CI energies of hamiltonian/hamiltoniantest (psi4 1.3.2), equal to the
-		// lowest eigenvalue of the qubit Hamiltonian.
-		{"H2", hamiltoniantest.H2Alt, -1.1372701747},
-		{"LiH", hamiltoniantest.LiH, -7.8824034103},
-		{"H2O", hamiltoniantest.H2O, -75.0124258090},
+	for _, c := range []struct{ name, file string }{
+		{"H2", hamiltoniantest.H2Alt},
+		{"LiH", hamiltoniantest.LiH},
+		{"H2O", hamiltoniantest.H2O},
 	}[:n] {
-		h, err := hamiltoniantest.Molecule(c.file, fermion.JordanWigner)
-		if err != nil {
-			t.Fatal(err)
-		}
-		ev, err := hamiltonian.GroundState(h, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if math.Abs(ev.Energy-c.fci) > 1e-8 {
-			t.Fatalf("%s ground energy %.10f, want the full-CI %.10f (hamiltonian/hamiltoniantest)", c.name, ev.Energy, c.fci)
-		}
-		out = append(out, molecularCase{c.name, h, ev.State, ev.Energy})
+		out = append(out, moleculeOf(t, c.name, c.file, fermion.JordanWigner))
 	}
 	return out
 }
@@ -194,13 +241,18 @@ func planOutcomes(t *testing.T, state []complex128, settings []pauli.Setting, sh
 // fixedPlanRuns evaluates the data bounds of every repetition of a plan
 // through the same code as Empirical, reusing the coverage: it returns the
 // errors |Ê − E| and, per repetition, the Residual and Pooled totals and
-// the approximate radius (plus bias). Repetition 0 also goes through
-// Empirical with real records, which must agree.
+// the approximate radius (plus bias). A plan with a coefficient split
+// (Plan.Split) is estimated and bounded with it. Repetition 0 also goes
+// through Empirical and estimate.Grouped with real records, which must
+// agree.
 func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, delta float64, seed uint64) (errs, res, free, pooled, approx []float64) {
 	t.Helper()
 	settings, shots := p.Distinct()
 	c, err := newCoverage(mc.h, settings, shots)
 	if err != nil {
+		t.Fatal(err)
+	}
+	if err := c.setSplit(p.Split); err != nil {
 		t.Fatal(err)
 	}
 	coef, bias := estimatorWeights(mc.h, c.cover, 1, nil)
@@ -221,9 +273,10 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 			gr.half = half
 			buf = gr.addOutcomes(mc.h.Table(), rows, cf, func(j int) pauli.Bits { return out(g, j) }, shots[g], buf)
 		}
-		b := fixedBound(mc.h, gs, rowsOf, coef, bias, p.TotalShots(), delta, Residual, nil, out)
-		pr, _ := radius(gs, delta, Pooled, nil)
+		// fixedBound, with the residual statistics kept for free.
 		st := residuals(mc.h.Table(), gs, rowsOf, coef, out)
+		b := boundFromStats(mc.h, gs, st, bias, p.TotalShots(), delta, Residual, nil)
+		pr, _ := radius(gs, delta, Pooled, nil)
 		free = append(free, math.Sqrt(2*math.Log(4/delta)*(st.sq[0]+st.sq[1]))+bias)
 		errs = append(errs, math.Abs(b.Energy-mc.energy))
 		res = append(res, b.Bound)
@@ -238,7 +291,7 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 					}
 				}
 			}
-			eb, err := Empirical(mc.h, rec, delta, &EmpiricalOptions{Form: Residual})
+			eb, err := Empirical(mc.h, rec, delta, &EmpiricalOptions{Form: Residual, Split: p.Split})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -246,7 +299,14 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 				t.Errorf("%s: Empirical = %.15g ± %.15g (approx %.15g), table-driven %.15g ± %.15g (approx %.15g)",
 					mc.name, eb.Energy, eb.Bound, eb.ApproxRadius, b.Energy, b.Bound, b.ApproxRadius)
 			}
-			g, err := estimate.Grouped(mc.h, rec, nil)
+			ep, err := Empirical(mc.h, rec, delta, &EmpiricalOptions{Form: Pooled, Split: p.Split})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !near(ep.Bound, pr+bias, 1e-12) {
+				t.Errorf("%s: Empirical (pooled) bound %.15g, table-driven %.15g", mc.name, ep.Bound, pr+bias)
+			}
+			g, err := estimate.Grouped(mc.h, rec, &estimate.Options{Split: p.Split})
 			if err != nil {
 				t.Fatal(err)
 			}
