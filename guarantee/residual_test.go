@@ -335,23 +335,31 @@ func fixedPlanRuns(t *testing.T, mc molecularCase, p *allocate.Plan, reps int, d
 //
 // A check whose true failure rate is exactly δ fails with probability
 // 1.9e-4 at 200 repetitions (exact binomial tail P(X ≥ 23), p = 0.05),
-// 7.6e-4 at 50 (P(X ≥ 9)); at most 0.8% for all 28 checks together. The
-// Residual bound fails far less often than δ, so its checks are safer still.
+// 7.6e-4 at 50 (P(X ≥ 9)); at most 0.5% for the 24 checks without the
+// flag below and 1.2% for all 48 with it. The Residual bound fails far less
+// often than δ, so its checks are safer still.
 //
-// With -databound-table FILE it adds LiH's greedy and derandomized plans at
-// 10^5 shots (50 repetitions) and writes the table of BENCHMARKS.md.
-// Skipped under -short.
+// With -databound-table FILE it adds BeH2 with the same four strategies,
+// on LiH, BeH2 and H2O the overlap plan (coefficient splitting) and the
+// sorted-gc plan with moment shares, both with the Hartree–Fock proxy
+// (200 repetitions each), LiH's greedy and derandomized plans at 10^5
+// shots (50 repetitions), and writes the table of BENCHMARKS.md, with the
+// a-priori certificate's ratio too. Skipped under -short.
 func TestFixedPlanDataBounds(t *testing.T) {
 	if testing.Short() {
 		t.Skip("long simulation")
 	}
 	const delta, budget, reps = 0.05, 10000, 200
 	var report strings.Builder
-	fmt.Fprintf(&report, "| molecule | plan | shots | reps | distinct settings | q₀.₉₅ of \\|Ê−E\\| (mHa) | residual (median) / q₀.₉₅ | fails | residual without range terms / q₀.₉₅ | pooled (median) / q₀.₉₅ | approx. normal / q₀.₉₅ | approx. misses |\n")
-	fmt.Fprintf(&report, "|---|---|---|---|---|---|---|---|---|---|---|---|\n")
-	row := func(mc molecularCase, a allocate.Allocator, budget, reps int, seed uint64) {
+	fmt.Fprintf(&report, "| molecule | plan | shots | reps | distinct settings | q₀.₉₅ of \\|Ê−E\\| (mHa) | certificate / q₀.₉₅ | residual (median) / q₀.₉₅ | fails | residual without range terms / q₀.₉₅ | pooled (median) / q₀.₉₅ | approx. normal / q₀.₉₅ | approx. misses |\n")
+	fmt.Fprintf(&report, "|---|---|---|---|---|---|---|---|---|---|---|---|---|\n")
+	row := func(mc molecularCase, label string, a allocate.Allocator, budget, reps int, seed uint64) {
 		allow := delta + 4*math.Sqrt(delta*(1-delta)/float64(reps))
 		p, err := allocate.Run(mc.h, budget, a, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		cert, err := CertifyPlan(mc.h, p, delta, nil)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -365,7 +373,7 @@ func TestFixedPlanDataBounds(t *testing.T) {
 				misses++
 			}
 		}
-		name := fmt.Sprintf("%s %v, %d shots", mc.name, a, budget)
+		name := fmt.Sprintf("%s %s, %d shots", mc.name, label, budget)
 		if f := float64(fails) / float64(reps); f > allow {
 			t.Errorf("%s: Residual bound exceeded in %d of %d repetitions, more than δ + 4σ = %.3f", name, fails, reps, allow)
 		}
@@ -374,21 +382,36 @@ func TestFixedPlanDataBounds(t *testing.T) {
 		}
 		q := quantile(errs, 1-delta)
 		settings, _ := p.Distinct()
-		fmt.Fprintf(&report, "| %s | %v | %d | %d | %d | %.3g | %.2f | %d | %.2f | %.2f | %.2f | %d |\n", mc.name, a, budget, reps, len(settings), 1000*q,
-			quantile(res, 0.5)/q, fails, quantile(free, 0.5)/q, quantile(pooled, 0.5)/q, quantile(approx, 0.5)/q, misses)
+		fmt.Fprintf(&report, "| %s | %s | %d | %d | %d | %.3g | %.2f | %.2f | %d | %.2f | %.2f | %.2f | %d |\n", mc.name, label, budget, reps, len(settings), 1000*q,
+			cert.Bound/q, quantile(res, 0.5)/q, fails, quantile(free, 0.5)/q, quantile(pooled, 0.5)/q, quantile(approx, 0.5)/q, misses)
+	}
+	fixed := func() []allocate.Allocator {
+		return []allocate.Allocator{&allocate.Greedy{}, &allocate.Derandomized{}, &allocate.Random{Seed: 5}, &allocate.Sorted{}}
 	}
 	mcs := molecularCases(t, 3)
 	for mi, mc := range mcs {
-		for si, a := range []allocate.Allocator{&allocate.Greedy{}, &allocate.Derandomized{}, &allocate.Random{Seed: 5}, &allocate.Sorted{}} {
-			row(mc, a, budget, reps, uint64(100*mi+si))
+		for si, a := range fixed() {
+			row(mc, allocate.Name(a), a, budget, reps, uint64(100*mi+si))
 		}
 	}
 	if *dataBoundTable != "" {
+		// BeH2 with the same plans, and on LiH, BeH2 and H2O the plans
+		// of the variance proxies: overlap (coefficient splitting) and
+		// sorted-gc with moment shares, both with the Hartree–Fock
+		// determinant as proxy.
+		beh2 := moleculeOf(t, "BeH2", hamiltoniantest.BeH2, fermion.JordanWigner)
+		for si, a := range fixed() {
+			row(beh2, allocate.Name(a), a, budget, reps, uint64(300+si))
+		}
+		for mi, mc := range []molecularCase{mcs[1], beh2, mcs[2]} {
+			row(mc, "overlap (hf)", &allocate.Overlap{Proxy: mc.hf}, budget, reps, uint64(500+10*mi))
+			row(mc, "sorted-gc (hf, moment)", &allocate.SortedGC{Proxy: mc.hf, ProxyMoment: true}, budget, reps, uint64(501+10*mi))
+		}
 		// The range terms of the bound fall like 1/N, its variance term
 		// like 1/sqrt(N): the same plans of LiH at 10^5 shots (fewer
 		// repetitions: allowance δ + 4σ with their σ).
 		for si, a := range []allocate.Allocator{&allocate.Greedy{}, &allocate.Derandomized{}} {
-			row(mcs[1], a, 10*budget, 50, uint64(1000+si))
+			row(mcs[1], allocate.Name(a), a, 10*budget, 50, uint64(1000+si))
 		}
 	}
 	fmt.Fprintf(&report, "\nSeeded repetitions, δ = %g, exact ground states (Jordan–Wigner); fails and misses allowed: δ + 4σ of the repetitions (22 of 200, 8 of 50).\n", delta)
