@@ -28,8 +28,9 @@ import (
 //     (coefficient splitting, Plan.Split; MATH.md §2.5), sorted with the
 //     Hartree–Fock proxy and ProxyFloor 0.1, sorted-gc with the Hartree–Fock
 //     proxy and ProxyMoment, and color-gc with the exact state as proxy
-//     (MATH.md §2.4): the a-priori certificate (CertifyPlan, with the
-//     split's V for overlap) and the Pooled and Residual data bounds
+//     (MATH.md §2.4; the overlap plan of H2 under Jordan–Wigner splits no
+//     coefficient, the others do): the a-priori certificate (CertifyPlan,
+//     with the split's V for overlap) and the Pooled and Residual data bounds
 //     (Empirical with EmpiricalOptions.Split; repetition 0 through
 //     Empirical and estimate.Grouped, the others through the same code on
 //     the drawn outcomes);
