@@ -125,7 +125,7 @@ func TestApproxRadiusOneShotSettings(t *testing.T) {
 }
 
 // molecularCase is a molecule's qubit Hamiltonian under one encoding with
-// its exact ground state, its integrals and its Hartree–Fock determinant.
+// its exact ground state and its Hartree–Fock determinant.
 type molecularCase struct {
 	name   string
 	h      *hamiltonian.Hamiltonian
