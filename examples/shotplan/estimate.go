@@ -162,7 +162,7 @@ func (e *env) printEstimate(res *estimate.Result, cert *guarantee.Certificate, d
 	tw.Flush()
 	if bar := res.ApproxInterval[1] - res.Energy; data.Bound > 3*bar {
 		fmt.Fprintf(e.stdout, "(the data bound is %.1f× the error bar: a fixed plan pays for the range of every shot; for a bound near the\n"+
-			" error bar draw the settings i.i.d. from the plan (guarantee.IIDOf) and certify with guarantee.Anytime)\n", data.Bound/bar)
+			" error bar let every shot draw its setting at random and certify round by round: shotplan rounds start -ham H -eps E)\n", data.Bound/bar)
 	}
 	if res.Bias > 0 {
 		fmt.Fprintf(e.stdout, "(terms never measured add a bias of at most %.4g, included in both bounds)\n", res.Bias)
@@ -243,7 +243,7 @@ confidence 1 − δ for shot noise only (readout error and drift not covered).
 data_bound is the smaller of the pooled and the residual bounds, each at
 δ/2; data_form names it. When it is more than 3× the error bar the plan's
 per-shot ranges dominate it, and a line says so: a randomised plan certified
-with the library's anytime route gets closer.
+with "shotplan rounds" (the anytime route) gets closer.
 
 With -calibration FILE (calibration records, see calibrate) the energy is
 readout-mitigated and both bounds are those of the mitigated estimate: they
