@@ -30,6 +30,7 @@ type coverage struct {
 	letters *coverindex.Letters // set when the rows are not stored and every setting is local
 	b32     []int32             // scratch for rescans
 	sorted  bool                // terms returns the terms in table order
+	pairs   int64               // stored (setting, term) pairs, set by storeRows
 
 	sp *splitState // the coefficient split, nil for the implicit weights (setSplit)
 }
@@ -141,6 +142,10 @@ const storeChunk = 64
 // storeRows splits among goroutines.
 const storeSplitMin = 1 << 22
 
+// loadsSplitMin is the least number of stored pairs whose loads are
+// summed on several goroutines.
+const loadsSplitMin = 1 << 16
+
 // storeRows finds and stores the terms every distinct setting covers, and
 // their cover counts N_i, for a plan whose pairs are known to be stored.
 // The settings go by chunks of storeChunk to up to GOMAXPROCS goroutines,
@@ -157,7 +162,8 @@ func (c *coverage) storeRows() {
 		workers = max(1, min(runtime.GOMAXPROCS(0), chunks))
 	}
 	part := make([][]int, workers)
-	var next atomic.Int64
+	var next, pairs atomic.Int64
+	defer func() { c.pairs = pairs.Load() }()
 	work := func(t int) {
 		w := &coverage{h: c.h, index: c.index}
 		cover := c.cover
@@ -181,6 +187,7 @@ func (c *coverage) storeRows() {
 			}
 			block := make([]int32, len(buf))
 			copy(block, buf)
+			pairs.Add(int64(len(buf)))
 			for q := lo; q < hi; q++ {
 				row := block[end[q-lo]:end[q-lo+1]:end[q-lo+1]]
 				c.rows[q] = row
@@ -257,8 +264,9 @@ func (c *coverage) loads(a []float64, drop []bool) []float64 {
 			s[q] = sum
 		}
 	}
-	if c.rows == nil {
-		// Rescans share the coverage's scratch: one goroutine.
+	if c.rows == nil || c.pairs < loadsSplitMin {
+		// Rescans share the coverage's scratch: one goroutine; so do
+		// small plans.
 		sum(0, len(s))
 		return s
 	}
