@@ -14,7 +14,7 @@ import (
 // TestSameOnOneAndTwoCores runs the strategies whose work is split among
 // cores — the general-commutation groupings (degree count, first fit, cover
 // counts) and the driver's cover count of many local settings (greedy) —
-// with GOMAXPROCS 1 and 2 and requires the same plan: settings, shots,
+// with GOMAXPROCS 1, 2 and 3 and requires the same plan: settings, shots,
 // cover counts and, for the groupings, the groups with their member order.
 // The Hamiltonian is large enough for every split to happen (more than
 // 2^22 settings × terms for the cover counts, several batches of first
@@ -32,7 +32,7 @@ func TestSameOnOneAndTwoCores(t *testing.T) {
 	for _, name := range []string{"color-gc", "sorted-gc", "greedy"} {
 		t.Run(name, func(t *testing.T) {
 			var got []result
-			for _, procs := range []int{1, 2} {
+			for _, procs := range []int{1, 2, 3} {
 				a, err := allocate.ByName(name, 1)
 				if err != nil {
 					t.Fatal(err)
@@ -56,8 +56,10 @@ func TestSameOnOneAndTwoCores(t *testing.T) {
 			if len(got[0].Plan) < 16 {
 				t.Fatalf("%d distinct settings: too few for the cover count to split", len(got[0].Plan))
 			}
-			if d := gocmp.Diff(got[0], got[1]); d != "" {
-				t.Errorf("plan with GOMAXPROCS 2 differs from GOMAXPROCS 1 (-1 +2):\n%s", d)
+			for k, procs := range []int{2, 3} {
+				if d := gocmp.Diff(got[0], got[k+1]); d != "" {
+					t.Errorf("plan with GOMAXPROCS %d differs from GOMAXPROCS 1 (-1 +%d):\n%s", procs, procs, d)
+				}
 			}
 		})
 	}

@@ -268,18 +268,24 @@ func (g *groupShots) init(name string, h *hamiltonian.Hamiltonian, rk *ranked, o
 		// neither overflow nor underflow; the shares are unchanged.
 		weight[k] += share.term(rk.abs[r] / rk.abs[0])
 	}
+	// Every group's setting depends on its members alone: the groups are
+	// shared among cores, each setting stored at its group's index, and
+	// the error reported is that of the first failing group.
 	settings := make([]pauli.Setting, len(ranks))
-	for k, rs := range ranks {
+	errs := make([]error, len(ranks))
+	splitEach(len(ranks), func(k int) {
+		rs := ranks[k]
 		fam := make([]pauli.String, len(rs))
 		for j, r := range rs {
 			x, z := rk.row(int(r))
 			fam[j] = pauli.FromWords(rk.n, x, z)
 		}
-		st, err := pauli.NewFamilySetting(fam)
+		settings[k], errs[k] = pauli.NewFamilySetting(fam)
+	})
+	for k, err := range errs {
 		if err != nil {
 			return fmt.Errorf("%s: group %d: %w", name, k, err)
 		}
-		settings[k] = st
 	}
 	members := membersOf(rk, ranks)
 	var quota []int
@@ -492,6 +498,29 @@ func (c *commutingGroups) firstAll(rk *ranked, order []int32, out []int32) {
 				}
 			}
 		}()
+	}
+	wg.Wait()
+}
+
+// splitEach calls f(k) for every k in [0, n), the indices handed out one
+// at a time to up to GOMAXPROCS goroutines; f must write only what belongs
+// to k, so that the result does not depend on the split.
+func splitEach(n int, f func(k int)) {
+	workers := min(runtime.GOMAXPROCS(0), n)
+	if workers <= 1 {
+		for k := range n {
+			f(k)
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			for k := int(next.Add(1)) - 1; k < n; k = int(next.Add(1)) - 1 {
+				f(k)
+			}
+		})
 	}
 	wg.Wait()
 }

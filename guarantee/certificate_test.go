@@ -309,7 +309,7 @@ func TestCertifyRescanPath(t *testing.T) {
 
 // The transposed path shares its work among GOMAXPROCS goroutines by
 // fixed chunks and sums every term and setting in a fixed order: the
-// certificate must be identical, bit for bit, on one and on two.
+// certificate must be identical, bit for bit, on one, two and three.
 func TestCertifyWorkersIdentical(t *testing.T) {
 	rng := rand.New(rand.NewPCG(10, 11))
 	h := randomH(t, rng, 12, 700, 4)
@@ -325,8 +325,10 @@ func TestCertifyWorkersIdentical(t *testing.T) {
 		}
 		return certify(c, 0.05, nil)
 	}
-	one, two := run(1), run(2)
-	if diff := cmp.Diff(one, two, cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
-		t.Errorf("certificate on 1 and 2 goroutines differs (-1 +2):\n%s", diff)
+	one := run(1)
+	for _, procs := range []int{2, 3} {
+		if diff := cmp.Diff(one, run(procs), cmp.Comparer(func(a, b pauli.String) bool { return a.Equal(b) })); diff != "" {
+			t.Errorf("certificate on 1 and %d goroutines differs (-1 +%d):\n%s", procs, procs, diff)
+		}
 	}
 }

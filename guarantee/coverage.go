@@ -3,7 +3,10 @@ package guarantee
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -27,6 +30,7 @@ type coverage struct {
 	letters *coverindex.Letters // set when the rows are not stored and every setting is local
 	b32     []int32             // scratch for rescans
 	sorted  bool                // terms returns the terms in table order
+	pairs   int64               // stored (setting, term) pairs, set by storeRows
 
 	sp *splitState // the coefficient split, nil for the implicit weights (setSplit)
 }
@@ -70,17 +74,29 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 	c.settings, c.mult = pauli.MergeSettings(settings, shots)
 	// Plans that may cover more pairs than are stored are counted through
 	// the transposed settings first; if they do cover more, the sums over
-	// pairs go through it too, term by term (see coverindex.Letters).
-	if len(c.settings)*h.Len() > maxStored && !slices.ContainsFunc(c.settings, func(s pauli.Setting) bool { return !s.IsLocal() }) {
+	// pairs go through it too, term by term (see coverindex.Letters). When
+	// the pairs are known to fit (fit), they are found and stored on all
+	// cores (storeRows).
+	fit := int64(len(c.settings))*int64(h.Len()) <= int64(maxStored)
+	if !fit && !slices.ContainsFunc(c.settings, func(s pauli.Setting) bool { return !s.IsLocal() }) {
 		l := coverindex.NewLetters(h.Qubits(), c.settings, c.mult, h.Len(), h.Table().Words)
-		if cover, pairs := l.Counts(); pairs > int64(maxStored) {
+		cover, pairs := l.Counts()
+		if pairs > int64(maxStored) {
 			c.cover, c.letters, c.rows = cover, l, nil
 			c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
 			return c, nil
 		}
+		fit = true
 	}
-	// The rows are cut from blocks of up to 1<<20 entries, so that no
-	// stored index is ever copied by a growing slice.
+	if fit {
+		c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
+		c.storeRows()
+		return c, nil
+	}
+	// Plans with entangled settings that may cover more pairs than are
+	// stored: one setting at a time, storing until the cap. The rows are
+	// cut from blocks of up to 1<<20 entries, so that no stored index is
+	// ever copied by a growing slice.
 	c.index = coverindex.New(h.Qubits(), h.Len(), h.Table().Words)
 	c.rows = make([][]int32, len(c.settings))
 	var block []int32
@@ -116,6 +132,85 @@ func newCoverageStoring(h *hamiltonian.Hamiltonian, settings []pauli.Setting, sh
 		c.rows[q] = row
 	}
 	return c, nil
+}
+
+// storeChunk is the number of distinct settings whose covered terms are
+// found, and stored in one block, at a time.
+const storeChunk = 64
+
+// storeSplitMin is the least work, in distinct settings times terms, that
+// storeRows splits among goroutines.
+const storeSplitMin = 1 << 22
+
+// loadsSplitMin is the least number of stored pairs whose loads are
+// summed on several goroutines.
+const loadsSplitMin = 1 << 16
+
+// storeRows finds and stores the terms every distinct setting covers, and
+// their cover counts N_i, for a plan whose pairs are known to be stored.
+// The settings go by chunks of storeChunk to up to GOMAXPROCS goroutines,
+// each with its own query scratch of the index and its own counts; a chunk's
+// rows are cut from one block of exactly their length. A setting's row is
+// the index's answer whichever goroutine asks, and the counts are integer
+// sums, so nothing depends on the split.
+func (c *coverage) storeRows() {
+	g, m := len(c.settings), c.h.Len()
+	c.rows = make([][]int32, g)
+	chunks := (g + storeChunk - 1) / storeChunk
+	workers := 1
+	if int64(g)*int64(m) >= storeSplitMin {
+		workers = max(1, min(runtime.GOMAXPROCS(0), chunks))
+	}
+	part := make([][]int, workers)
+	var next, pairs atomic.Int64
+	defer func() { c.pairs = pairs.Load() }()
+	work := func(t int) {
+		w := &coverage{h: c.h, index: c.index}
+		cover := c.cover
+		if workers > 1 {
+			w.index = c.index.Clone()
+			cover = make([]int, m)
+			part[t] = cover
+		}
+		var buf []int32
+		var end [storeChunk + 1]int
+		for {
+			k := int(next.Add(1)) - 1
+			if k >= chunks {
+				return
+			}
+			lo, hi := k*storeChunk, min(k*storeChunk+storeChunk, g)
+			buf = buf[:0]
+			for q := lo; q < hi; q++ {
+				buf = w.covered(buf, c.settings[q])
+				end[q-lo+1] = len(buf)
+			}
+			block := make([]int32, len(buf))
+			copy(block, buf)
+			pairs.Add(int64(len(buf)))
+			for q := lo; q < hi; q++ {
+				row := block[end[q-lo]:end[q-lo+1]:end[q-lo+1]]
+				c.rows[q] = row
+				for _, i := range row {
+					cover[i] += c.mult[q]
+				}
+			}
+		}
+	}
+	if workers == 1 {
+		work(0)
+		return
+	}
+	var wg sync.WaitGroup
+	for t := range workers {
+		wg.Go(func() { work(t) })
+	}
+	wg.Wait()
+	for _, p := range part {
+		for i, v := range p {
+			c.cover[i] += v
+		}
+	}
 }
 
 // terms returns the indices of the terms distinct setting q covers. The
@@ -158,16 +253,52 @@ func (c *coverage) loads(a []float64, drop []bool) []float64 {
 		return c.letters.SumOver(a, drop)
 	}
 	s := make([]float64, len(c.settings))
-	for q := range c.settings {
-		sum := 0.0
-		for _, i := range c.terms(q) {
-			if drop == nil || !drop[i] {
-				sum += a[i]
+	sum := func(lo, hi int) {
+		for q := lo; q < hi; q++ {
+			sum := 0.0
+			for _, i := range c.terms(q) {
+				if drop == nil || !drop[i] {
+					sum += a[i]
+				}
 			}
+			s[q] = sum
 		}
-		s[q] = sum
 	}
+	if c.rows == nil || c.pairs < loadsSplitMin {
+		// Rescans share the coverage's scratch: one goroutine; so do
+		// small plans.
+		sum(0, len(s))
+		return s
+	}
+	// Each s_Q is its own sum, in the order of its stored row, whichever
+	// goroutine adds it.
+	splitRange(len(s), 256, sum)
 	return s
+}
+
+// splitRange runs f(lo, hi) over [0, n) in chunks of the given size,
+// shared among up to GOMAXPROCS goroutines; f must write only what belongs
+// to its chunk, so that the result does not depend on the split.
+func splitRange(n, chunk int, f func(lo, hi int)) {
+	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
+	if workers < 2 {
+		f(0, n)
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			for {
+				lo := int(next.Add(int64(chunk))) - chunk
+				if lo >= n {
+					return
+				}
+				f(lo, min(lo+chunk, n))
+			}
+		})
+	}
+	wg.Wait()
 }
 
 // termLoads returns load_i = Σ_{Q ∋ i} m_Q s_Q for every term, the
