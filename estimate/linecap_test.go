@@ -9,27 +9,35 @@ import (
 	"testing/iotest"
 )
 
-// TestLineCap checks lineCap against the definition, byte by byte: the
-// bytes before the first byte that makes its line longer than max are
-// handed over, then the error names that line; an input without such a
-// line passes whole. Inputs are random lines around the cap, read whole,
-// in halves and one byte at a time.
-func TestLineCap(t *testing.T) {
+// TestChunkLines checks the records' line reader against the definition,
+// byte by byte: the lines before the first byte that makes its line longer
+// than max are handed out in order ("\r" before a newline or at the end
+// dropped), then the error names that line; an input without such a line
+// is read whole. Inputs are random lines around the cap, read whole, in
+// halves and one byte at a time, through buffers from the smallest the
+// reader takes up to many lines long.
+func TestChunkLines(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	for trial := range 300 {
 		max := 1 + rng.IntN(20)
 		var data []byte
 		for range rng.IntN(12) {
 			data = append(data, bytes.Repeat([]byte{'a'}, rng.IntN(max+3))...)
+			if rng.IntN(4) == 0 {
+				data = append(data, '\r')
+			}
 			if rng.IntN(6) > 0 {
 				data = append(data, '\n')
 			}
 		}
 		// The reference: scan the bytes one by one.
 		off, line, cur := len(data), 0, 0
+		var want [][]byte
+		start := 0
 		for i, b := range data {
 			if b == '\n' {
-				line, cur = line+1, 0
+				want = append(want, bytes.TrimSuffix(data[start:i], []byte{'\r'}))
+				line, cur, start = line+1, 0, i+1
 				continue
 			}
 			if cur++; cur > max {
@@ -37,18 +45,37 @@ func TestLineCap(t *testing.T) {
 				break
 			}
 		}
+		if off == len(data) && start < len(data) {
+			want = append(want, bytes.TrimSuffix(data[start:], []byte{'\r'}))
+		}
 		for _, wrap := range []func(io.Reader) io.Reader{
 			func(r io.Reader) io.Reader { return r }, iotest.HalfReader, iotest.OneByteReader,
 		} {
-			got, err := io.ReadAll(&lineCap{r: wrap(bytes.NewReader(data)), max: max})
-			var long *lineTooLong
-			switch {
-			case !bytes.Equal(got, data[:off]):
-				t.Fatalf("trial %d (max %d, %q): handed over %q, want %q", trial, max, data, got, data[:off])
-			case off == len(data) && err != nil:
-				t.Fatalf("trial %d (max %d, %q): error %v, want none", trial, max, data, err)
-			case off < len(data) && (!errors.As(err, &long) || long.line != line+1 || long.max != max):
-				t.Fatalf("trial %d (max %d, %q): error %v, want line %d too long", trial, max, data, err, line+1)
+			for _, size := range []int{1, 3 * max, 1000} {
+				c := newChunkLines(wrap(bytes.NewReader(data)), max, size)
+				var got [][]byte
+				var err error
+				for {
+					var raw []byte
+					if raw, err = c.next(); err != nil {
+						break
+					}
+					got = append(got, bytes.Clone(raw))
+				}
+				var long *lineTooLong
+				switch {
+				case len(got) != len(want):
+					t.Fatalf("trial %d (max %d, buffer %d, %q): lines %q, want %q", trial, max, size, data, got, want)
+				case off == len(data) && err != io.EOF:
+					t.Fatalf("trial %d (max %d, %q): error %v, want EOF", trial, max, data, err)
+				case off < len(data) && (!errors.As(err, &long) || long.line != line+1 || long.max != max):
+					t.Fatalf("trial %d (max %d, %q): error %v, want line %d too long", trial, max, data, err, line+1)
+				}
+				for k := range got {
+					if !bytes.Equal(got[k], want[k]) {
+						t.Fatalf("trial %d (max %d, buffer %d, %q): line %d %q, want %q", trial, max, size, data, k+1, got[k], want[k])
+					}
+				}
 			}
 		}
 	}

@@ -4,7 +4,6 @@ import (
 	"errors"
 	"io"
 	"runtime"
-	"strings"
 
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -59,8 +58,14 @@ var errCSVStopped = errors.New("estimate: stopped")
 // stops that goroutine and waits for it, so r is not read after AddCSV
 // returns (a read already blocked in r is waited for).
 func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptions) (int, error) {
+	var ids groupIDs
 	if (opts != nil && opts.Serial) || runtime.GOMAXPROCS(0) < 2 {
-		return ScanCSV(r, settings, s.Add)
+		return scanCSV(r, settings, func(line, _, id int, st pauli.Setting, b pauli.Bits) error {
+			if err := s.addID(&ids, id, st, b); err != nil {
+				return lineError(line, err.Error())
+			}
+			return nil
+		})
 	}
 	full := make(chan *csvBatch, csvBatches)
 	free := make(chan *csvBatch, csvBatches)
@@ -131,8 +136,8 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 			w = len(b.bits) / len(b.lines)
 		}
 		for k, line := range b.lines {
-			if err := s.Add(b.tab[b.ids[k]], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
-				return 0, lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
+			if err := s.addID(&ids, int(b.ids[k]), b.tab[b.ids[k]], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
+				return 0, lineError(line, err.Error())
 			}
 		}
 		if b.last {
@@ -140,4 +145,28 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		}
 		free <- b
 	}
+}
+
+// groupIDs maps the setting ids of scanCSV to the stream's groups: entry
+// id is the group's index plus one, 0 while the id has not been met.
+type groupIDs []int32
+
+// addID adds a shot of setting st, whose id in the scan is id, as Add
+// does (its error without the package prefix), finding the setting's
+// group only at the id's first shot.
+func (s *Stream) addID(ids *groupIDs, id int, st pauli.Setting, b pauli.Bits) error {
+	if id < len(*ids) {
+		if g := (*ids)[id]; g > 0 {
+			return s.sums.AddGroup(g-1, b)
+		}
+	}
+	gi, ok := s.sums.Group(st)
+	if !ok {
+		return s.sums.Add(st, b)
+	}
+	for len(*ids) <= id {
+		*ids = append(*ids, 0)
+	}
+	(*ids)[id] = gi + 1
+	return s.sums.AddGroup(gi, b)
 }
