@@ -332,21 +332,30 @@ type textTable struct {
 	n     int
 }
 
-// textHash mixes the bytes of t, eight at a time.
+// textHash mixes the bytes of t, eight at a time (the last eight
+// overlapping the ones before when the length is not a multiple of 8).
 func textHash(t string) uint64 {
 	h := uint64(len(t)) * 0x9E3779B97F4A7C15
-	for ; len(t) >= 8; t = t[8:] {
-		v := uint64(t[0]) | uint64(t[1])<<8 | uint64(t[2])<<16 | uint64(t[3])<<24 |
-			uint64(t[4])<<32 | uint64(t[5])<<40 | uint64(t[6])<<48 | uint64(t[7])<<56
+	if len(t) < 8 {
+		var v uint64
+		for i := range len(t) {
+			v |= uint64(t[i]) << (8 * i)
+		}
 		h = (h ^ v) * 0xFF51AFD7ED558CCD
-		h ^= h >> 32
+		return h ^ h>>32
 	}
-	var v uint64
-	for i := range len(t) {
-		v |= uint64(t[i]) << (8 * i)
+	for q := 0; ; q += 8 {
+		if q+8 > len(t) {
+			q = len(t) - 8
+		}
+		u := t[q : q+8]
+		v := uint64(u[0]) | uint64(u[1])<<8 | uint64(u[2])<<16 | uint64(u[3])<<24 |
+			uint64(u[4])<<32 | uint64(u[5])<<40 | uint64(u[6])<<48 | uint64(u[7])<<56
+		h = (h ^ v) * 0xFF51AFD7ED558CCD
+		if q+8 == len(t) {
+			return h ^ h>>32
+		}
 	}
-	h = (h ^ v) * 0xFF51AFD7ED558CCD
-	return h ^ h>>32
 }
 
 func (tt *textTable) find(key string, texts []string) int {
@@ -508,12 +517,29 @@ func parseBitsInto(b pauli.Bits, s string) (int, bool) {
 	// their low bits, one per byte, are gathered into one byte by a
 	// multiplication (byte k's bit lands on bit 56 + k).
 	for ; q+8 <= len(s); q += 8 {
-		v := uint64(s[q]) | uint64(s[q+1])<<8 | uint64(s[q+2])<<16 | uint64(s[q+3])<<24 |
-			uint64(s[q+4])<<32 | uint64(s[q+5])<<40 | uint64(s[q+6])<<48 | uint64(s[q+7])<<56
+		t := s[q : q+8]
+		v := uint64(t[0]) | uint64(t[1])<<8 | uint64(t[2])<<16 | uint64(t[3])<<24 |
+			uint64(t[4])<<32 | uint64(t[5])<<40 | uint64(t[6])<<48 | uint64(t[7])<<56
 		if v&0xFEFEFEFEFEFEFEFE != 0x3030303030303030 {
 			break
 		}
 		b[q>>6] |= ((v & 0x0101010101010101) * 0x0102040810204080) >> 56 << (q & 63)
+	}
+	// The last characters: the final eight, overlapping ones already set
+	// (setting a bit twice is harmless), which may straddle two words.
+	if q < len(s) && q+8 > len(s) && len(s) >= 8 {
+		p := len(s) - 8
+		t := s[p:]
+		v := uint64(t[0]) | uint64(t[1])<<8 | uint64(t[2])<<16 | uint64(t[3])<<24 |
+			uint64(t[4])<<32 | uint64(t[5])<<40 | uint64(t[6])<<48 | uint64(t[7])<<56
+		if v&0xFEFEFEFEFEFEFEFE == 0x3030303030303030 {
+			u := ((v & 0x0101010101010101) * 0x0102040810204080) >> 56
+			b[p>>6] |= u << (p & 63)
+			if p&63 > 56 {
+				b[p>>6+1] |= u >> (64 - p&63)
+			}
+			return 0, true
+		}
 	}
 	for ; q < len(s); q++ {
 		switch s[q] {
