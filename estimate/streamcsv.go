@@ -26,8 +26,8 @@ var (
 )
 
 // csvBatch is a run of parsed shots handed from the reading goroutine to
-// the adding one: shot k has setting tab[ids[k]], outcome
-// bits[k*w:(k+1)*w] and line lines[k]. tab is the reading goroutine's
+// the adding one: shot j < k has setting tab[ids[j]], outcome
+// bits[j*w:(j+1)*w] and line lines[j]. tab is the reading goroutine's
 // table of settings when the batch was sent (it only appends to it). The
 // last batch of a scan carries the scan's qubit count and error.
 type csvBatch struct {
@@ -35,6 +35,7 @@ type csvBatch struct {
 	ids   []int32
 	tab   []pauli.Setting
 	bits  []uint64
+	k     int // shots held
 	last  bool
 	n     int
 	err   error
@@ -73,8 +74,8 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 	exited := make(chan struct{})
 	for range csvBatches {
 		free <- &csvBatch{
-			lines: make([]int, 0, csvBatchShots),
-			ids:   make([]int32, 0, csvBatchShots),
+			lines: make([]int, csvBatchShots),
+			ids:   make([]int32, csvBatchShots),
 		}
 	}
 	go func() {
@@ -86,7 +87,7 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		get := func() bool {
 			select {
 			case b = <-free:
-				b.lines, b.ids, b.bits = b.lines[:0], b.ids[:0], b.bits[:0]
+				b.k = 0
 				return true
 			case <-done:
 				return false
@@ -99,10 +100,18 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 			if id == len(tab) {
 				tab = append(tab, st)
 			}
-			b.lines = append(b.lines, line)
-			b.ids = append(b.ids, int32(id))
-			b.bits = append(b.bits, bits...)
-			if len(b.lines) < csvBatchShots {
+			k, w := b.k, len(bits)
+			if len(b.bits) != csvBatchShots*w {
+				b.bits = make([]uint64, csvBatchShots*w)
+			}
+			b.lines[k] = line
+			b.ids[k] = int32(id)
+			if w == 1 {
+				b.bits[k] = bits[0]
+			} else {
+				copy(b.bits[k*w:(k+1)*w], bits)
+			}
+			if b.k = k + 1; b.k < csvBatchShots {
 				return nil
 			}
 			b.tab = tab
@@ -132,11 +141,19 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 	for {
 		b := <-full
 		w := 0
-		if len(b.lines) > 0 {
-			w = len(b.bits) / len(b.lines)
+		if b.k > 0 {
+			w = len(b.bits) / csvBatchShots
 		}
-		for k, line := range b.lines {
-			if err := s.addID(&ids, int(b.ids[k]), b.tab[b.ids[k]], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
+		for k, line := range b.lines[:b.k] {
+			id := b.ids[k]
+			bits := pauli.Bits(b.bits[k*w : (k+1)*w : (k+1)*w])
+			var err error
+			if int(id) < len(ids) && ids[id] > 0 {
+				err = s.sums.AddGroup(ids[id]-1, bits)
+			} else {
+				err = s.addID(&ids, int(id), b.tab[id], bits)
+			}
+			if err != nil {
 				return 0, lineError(line, err.Error())
 			}
 		}
