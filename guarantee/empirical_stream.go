@@ -134,12 +134,20 @@ func streamResiduals(sm *shotsum.Sums) residualStats {
 			e := g.Shift - pred
 			st.sq[k] += g.FoldSq[k] + 2*e*g.FoldSum[k] + float64(g.FoldT[k])*e*e
 		}
-		// The worst-case sums shot by shot, in the order residuals adds
-		// them.
-		for j := range g.T {
-			k := (g.Off + j) % residualFolds
-			st.big[k] = max(st.big[k], 4*g.Half*g.Half)
-			st.worst[k] += g.Half * g.Half
+		// The worst-case sums: residuals adds Half² shot by shot to the
+		// sum of the shot's fold. The folds' sums are apart, so adding
+		// fold by fold (FoldT[k] shots each) is the same additions in the
+		// same order for every sum.
+		x := g.Half * g.Half
+		for k := range residualFolds {
+			if g.FoldT[k] > 0 {
+				st.big[k] = max(st.big[k], 4*x)
+			}
+			w := st.worst[k]
+			for range g.FoldT[k] {
+				w += x
+			}
+			st.worst[k] = w
 		}
 		if g.T == 1 {
 			r := 0.0
