@@ -27,7 +27,10 @@ import (
 // from a Stream.
 //
 // Shots of one setting are processed 64 at a time; the work per shot is
-// about two floating-point operations per term its setting covers. The
+// about two floating-point operations per term its setting covers, except
+// for outcomes of the setting met before: a shot's value depends only on
+// its setting and outcome, and a fixed-size cache (about 1 MB) keeps the
+// values of recent (setting, outcome) pairs. The
 // covered terms of every setting are kept (4 bytes a pair) up to 2^27
 // pairs; past that they are found again for every batch of 64 shots of a
 // setting, which costs time instead of memory. Only local settings are
