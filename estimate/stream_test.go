@@ -269,17 +269,31 @@ func TestParseBitsInto(t *testing.T) {
 	}
 }
 
-// A coefficient split is not streamed: NewStream refuses it rather than
-// silently using the implicit weights.
+// NewStream refuses a coefficient split that does not fit the plan (a
+// term's weights not adding up to one, a setting the plan lacks) and one
+// on a plan of more cover pairs than the stream stores.
 func TestStreamRefusesSplit(t *testing.T) {
 	h, err := hamiltonian.New(2, 0, []hamiltonian.Term{{Pauli: pauli.MustParse("ZI"), Coeff: 1}, {Pauli: pauli.MustParse("IZ"), Coeff: 0.5}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	st := pauli.MustParseSetting("ZZ")
-	split := hamiltonian.Split{{Setting: st, Terms: []int{0}, Weights: []float64{1}}}
-	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: split}); err == nil {
-		t.Fatal("NewStream with a split: no error")
+	for _, split := range []hamiltonian.Split{
+		{{Setting: st, Terms: []int{0}, Weights: []float64{0.5}}},
+		{{Setting: pauli.MustParseSetting("ZX"), Terms: []int{0}, Weights: []float64{1}}},
+	} {
+		if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: split}); err == nil || !strings.Contains(err.Error(), "split") {
+			t.Errorf("NewStream with split %v: error %v, want one about the split", split, err)
+		}
+	}
+	good := hamiltonian.Split{{Setting: st, Terms: []int{0}, Weights: []float64{1}}}
+	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: good}); err != nil {
+		t.Errorf("NewStream with a fitting split: %v", err)
+	}
+	defer func(m int) { shotsum.MaxStored = m }(shotsum.MaxStored)
+	shotsum.MaxStored = 1
+	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: good}); err == nil || !strings.Contains(err.Error(), "cover pairs") {
+		t.Errorf("NewStream with a split past the storage cap: error %v", err)
 	}
 }
 

@@ -64,6 +64,9 @@ type Group struct {
 	FoldSum, FoldSq [Folds]float64
 	// One is the outcome of the group's shot when the plan asks for one.
 	One pauli.Bits
+	// RowOnes[k] is the number of −1 samples of term Rows[k] in the
+	// group's shots, kept when CountRows was called (nil otherwise).
+	RowOnes []int64
 
 	pend  []uint64 // outcomes waiting for the next batch, W words each
 	npend int
@@ -235,6 +238,41 @@ func (s *Sums) SetWeights(a []float64) {
 		}
 	}
 	s.weighted = true
+}
+
+// Stored reports whether the groups keep their covered terms (Rows, Kept,
+// Coef); past MaxStored cover pairs they are found again when needed.
+func (s *Sums) Stored() bool { return s.stored }
+
+// SetGroupWeights sets group g's own weights, after SetWeights and before
+// the first shot: coef[k] is the weight of term g.Rows[k] in g's Z (zero
+// leaves it out of g's Z), for a plan whose estimate weighs a term
+// differently in different settings. Only with stored lists; it panics
+// otherwise, or if coef does not match g.Rows.
+func (s *Sums) SetGroupWeights(g *Group, coef []float64) {
+	if !s.stored || len(coef) != len(g.Rows) {
+		panic("shotsum: SetGroupWeights without stored lists or with the wrong length")
+	}
+	g.Kept, g.Coef, g.Half = g.Kept[:0], g.Coef[:0], 0
+	for k, c := range coef {
+		if c != 0 {
+			g.Kept = append(g.Kept, g.Rows[k])
+			g.Coef = append(g.Coef, c)
+			g.Half += math.Abs(c)
+		}
+	}
+}
+
+// CountRows makes every group count the −1 samples of each of its terms
+// (Group.RowOnes), before the first shot. Only with stored lists; it
+// panics otherwise.
+func (s *Sums) CountRows() {
+	if !s.stored {
+		panic("shotsum: CountRows without stored lists")
+	}
+	for _, g := range s.Groups {
+		g.RowOnes = make([]int64, len(g.Rows))
+	}
 }
 
 // Lists returns g's covered terms in table order, those with a non-zero
@@ -413,13 +451,16 @@ func (s *Sums) flush(gi int32, g *Group) {
 		clear(z)
 	}
 	kept := 0
-	for _, i := range rows {
+	for r, i := range rows {
 		p := uint64(0)
 		for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
 			p ^= s.slice[q]
 		}
 		p &= valid
 		s.Ones[i] += int64(bits.OnesCount64(p))
+		if g.RowOnes != nil {
+			g.RowOnes[r] += int64(bits.OnesCount64(p))
+		}
 		s.FoldOnes[0][i] += int64(bits.OnesCount64(p & fm[0]))
 		s.FoldOnes[1][i] += int64(bits.OnesCount64(p & fm[1]))
 		s.FoldCnt[0][i] += c0
