@@ -38,10 +38,14 @@ import (
 type Stream struct {
 	cfg  *config
 	sums *shotsum.Sums
-	// With a coefficient split, splitA[g][k] is the weight α of term
+	// With a coefficient split, split.a[g][k] is the weight α of term
 	// Rows[k] of plan group g in its mean (MATH.md §2.5); nil without.
-	splitA [][]float64
+	split *streamSplit
 }
+
+// streamSplit is a Stream's coefficient split (behind a pointer, so that
+// a Stream stays comparable).
+type streamSplit struct{ a [][]float64 }
 
 // NewStream returns a Stream for the plan that measures settings[k] for
 // shots[k] shots (a setting may repeat; zero counts are ignored). Options
@@ -107,7 +111,7 @@ func (s *Stream) setSplit(split hamiltonian.Split) error {
 	listed := split.Listed(m)
 	index := split.Groups()
 	alpha := make([]float64, m) // scratch: the setting's split weights by term
-	s.splitA = make([][]float64, len(sm.Groups))
+	s.split = &streamSplit{a: make([][]float64, len(sm.Groups))}
 	for gi, g := range sm.Groups {
 		j, ok := index[g.Setting.Key()]
 		if ok {
@@ -130,7 +134,7 @@ func (s *Stream) setSplit(split hamiltonian.Split) error {
 			}
 		}
 		sm.SetGroupWeights(g, w)
-		s.splitA[gi] = as
+		s.split.a[gi] = as
 		if ok {
 			for _, i := range split[j].Terms {
 				alpha[i] = 0
@@ -156,7 +160,7 @@ func (s *Stream) resultSplit() *Result {
 		for k, i := range g.Rows {
 			// The sum of the ±1 samples, an integer and so exact.
 			gsum := float64(int64(g.T) - 2*g.RowOnes[k])
-			res.Means[i] += s.splitA[gi][k] * gsum / mg
+			res.Means[i] += s.split.a[gi][k] * gsum / mg
 		}
 	}
 	for i := range m {
@@ -240,7 +244,7 @@ func (s *Stream) Result() (*Result, error) {
 	if s.sums.Shots == 0 {
 		return nil, fmt.Errorf("estimate: %w: Stream: no shot", ErrFormat)
 	}
-	if s.splitA != nil {
+	if s.split != nil {
 		return s.resultSplit(), nil
 	}
 	sm := s.Sums()
