@@ -338,7 +338,11 @@ func (s *Sums) AddGroup(gi int32, b pauli.Bits) error {
 		s.Order = append(s.Order, gi)
 		g.pend = make([]uint64, min(g.Planned, batch)*s.W)
 	}
-	copy(g.pend[g.npend*s.W:], b)
+	if s.W == 1 {
+		g.pend[g.npend] = b[0]
+	} else {
+		copy(g.pend[g.npend*s.W:], b)
+	}
 	g.npend++
 	s.Shots++
 	if g.npend == len(g.pend)/s.W {
@@ -489,19 +493,25 @@ func (s *Sums) flush(gi int32, g *Group) {
 			s.zc.put(gi, g.pend[j*w:(j+1)*w], z[j])
 		}
 	}
-	for _, v := range z {
-		if g.T == 0 {
-			g.Shift = v
-		}
-		d := v - g.Shift
-		k := (g.Off + g.T) & 1
-		g.T++
-		g.Sum += d
-		g.SumSq += d * d
-		g.FoldT[k]++
-		g.FoldSum[k] += d
-		g.FoldSq[k] += d * d
+	// The running sums, in shot order, kept in locals for the loop (the
+	// same additions in the same order).
+	if g.T == 0 && len(z) > 0 {
+		g.Shift = z[0]
 	}
+	shift, sum, ssq := g.Shift, g.Sum, g.SumSq
+	fs, fq := g.FoldSum, g.FoldSq
+	k := (g.Off + g.T) & 1
+	for _, v := range z {
+		d := v - shift
+		sum += d
+		ssq += d * d
+		g.FoldT[k]++
+		fs[k] += d
+		fq[k] += d * d
+		k ^= 1
+	}
+	g.T += len(z)
+	g.Sum, g.SumSq, g.FoldSum, g.FoldSq = sum, ssq, fs, fq
 	if g.Planned == 1 {
 		g.One = pauli.Bits(g.pend[:w:w])
 	}
