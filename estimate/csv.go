@@ -415,6 +415,7 @@ type chunkLines struct {
 	line     int // line number of the last line returned
 	eof      bool
 	err      error // the reader's error, returned once the lines before it are
+	empty    int   // reads in a row that returned nothing
 	fields   []string
 }
 
@@ -479,7 +480,13 @@ func (c *chunkLines) next() ([]byte, error) {
 		case err != nil:
 			c.err = err
 		case m == 0:
-			// A reader may return nothing without an error; ask again.
+			// A reader may return nothing without an error; ask again,
+			// up to a limit (as bufio does).
+			if c.empty++; c.empty >= 100 {
+				c.err = io.ErrNoProgress
+			}
+		default:
+			c.empty = 0
 		}
 	}
 }

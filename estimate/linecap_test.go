@@ -80,3 +80,18 @@ func TestChunkLines(t *testing.T) {
 		}
 	}
 }
+
+// emptyReader returns nothing, without an error, forever.
+type emptyReader struct{}
+
+func (emptyReader) Read([]byte) (int, error) { return 0, nil }
+
+// TestChunkLinesNoProgress checks that a reader that returns nothing and
+// no error is given up on (io.ErrNoProgress, as bufio does) instead of
+// asked forever.
+func TestChunkLinesNoProgress(t *testing.T) {
+	c := newChunkLines(emptyReader{}, 10, 0)
+	if _, err := c.next(); err != io.ErrNoProgress {
+		t.Errorf("next = %v, want io.ErrNoProgress", err)
+	}
+}
