@@ -164,7 +164,7 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 		// other line, or one of these that is not exactly so (an unknown
 		// setting, a bad bit), goes the general way below, which
 		// accepts it the same way or names what is wrong.
-		if header && n > 0 {
+		if header && n > 0 && csvFastLines {
 			id := -1
 			if len(raw) == 2*n+1 && raw[n] == ',' && raw[0] > '9' {
 				key := unsafe.String(unsafe.SliceData(raw), n)
@@ -278,6 +278,10 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 	}
 	return n, nil
 }
+
+// csvFastLines turns on scanCSV's reading of common lines without
+// splitting; tests turn it off to compare with the general path.
+var csvFastLines = true
 
 // splitCSVLine returns the fields of a non-empty records line, as
 // encoding/csv reads them for this form, without a string per line: a line
@@ -416,6 +420,9 @@ type chunkLines struct {
 	eof      bool
 	err      error // the reader's error, returned once the lines before it are
 	empty    int   // reads in a row that returned nothing
+	fills    int   // reads that filled the buffer since it last grew
+	size     int   // the buffer's size for reading
+	limit    int   // its largest size: size, or room for two longest lines
 	fields   []string
 }
 
@@ -425,13 +432,15 @@ func (e *lineTooLong) Error() string {
 	return fmt.Sprintf("line %d longer than %d bytes", e.line, e.max)
 }
 
-// newChunkLines reads r in chunks of size bytes (1 MiB for 0), or more
-// when needed to hold a line of max bytes.
+// newChunkLines reads r in chunks of up to size bytes (1 MiB for 0), or
+// more when needed to hold a line of maxLine bytes. The buffer starts small
+// (a short input costs little) and doubles while reads fill it, or while a
+// line does not fit.
 func newChunkLines(r io.Reader, maxLine, size int) *chunkLines {
 	if size <= 0 {
 		size = 1 << 20
 	}
-	return &chunkLines{r: r, max: maxLine, buf: make([]byte, max(size, 2*maxLine+4))}
+	return &chunkLines{r: r, max: maxLine, size: size, limit: max(size, 2*maxLine+4), buf: make([]byte, min(size, 16<<10))}
 }
 
 // next returns the next line, io.EOF after the last, a *lineTooLong, or
@@ -472,7 +481,17 @@ func (c *chunkLines) next() ([]byte, error) {
 			c.end = copy(c.buf, c.buf[c.pos:c.end])
 			c.pos = 0
 		}
+		// A partial line that fills the buffer (at most max bytes, checked
+		// above), or reads that keep filling it: double it.
+		if c.end == len(c.buf) || (c.fills >= 2 && len(c.buf) < c.size) {
+			nb := make([]byte, min(2*len(c.buf), c.limit))
+			copy(nb, c.buf[:c.end])
+			c.buf, c.fills = nb, 0
+		}
 		m, err := c.r.Read(c.buf[c.end:])
+		if c.end+m == len(c.buf) {
+			c.fills++
+		}
 		c.end += m
 		switch {
 		case err == io.EOF:

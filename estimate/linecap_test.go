@@ -5,8 +5,11 @@ import (
 	"errors"
 	"io"
 	"math/rand/v2"
+	"strings"
 	"testing"
 	"testing/iotest"
+
+	"github.com/shotplan/shotplan/pauli"
 )
 
 // TestChunkLines checks the records' line reader against the definition,
@@ -94,4 +97,76 @@ func TestChunkLinesNoProgress(t *testing.T) {
 	if _, err := c.next(); err != io.ErrNoProgress {
 		t.Errorf("next = %v, want io.ErrNoProgress", err)
 	}
+}
+
+// readBothWays reads in with the common lines read directly and with
+// every line taken the general way; both must give the same records and
+// the same error.
+func readBothWays(t *testing.T, in string, settings []pauli.Setting) {
+	t.Helper()
+	fast, ferr := ReadCSV(strings.NewReader(in), settings)
+	defer func() { csvFastLines = true }()
+	csvFastLines = false
+	slow, serr := ReadCSV(strings.NewReader(in), settings)
+	csvFastLines = true
+	switch {
+	case (ferr == nil) != (serr == nil):
+		t.Fatalf("%q: error %v read directly, %v the general way", in, ferr, serr)
+	case ferr != nil && ferr.Error() != serr.Error():
+		t.Fatalf("%q: error %q read directly, %q the general way", in, ferr, serr)
+	case ferr == nil && !fast.Equal(slow):
+		t.Fatalf("%q: records differ between the two ways", in)
+	}
+}
+
+// TestCSVFastLinesSame checks that reading the common lines directly
+// (without splitting) changes nothing: random files of well-formed and
+// malformed lines (spaces, wrong widths, bad bits and letters, quotes,
+// "\r\n", extra fields, indices in and out of range, settings outside a
+// list) give the same records and the same error, naming the same line,
+// either way.
+func TestCSVFastLinesSame(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	list := []pauli.Setting{pauli.MustParseSetting("XYZ"), pauli.MustParseSetting("ZZZ"), pauli.MustParseSetting("XXY")}
+	pieces := []string{
+		"XYZ,010", "ZZZ,111", "XXY,000", "YYY,101", "XYZ,011", "0,010", "1,110", "2,001", "3,010",
+		"007,011", "1234567890,010", " XYZ,010", "XYZ ,010", "XYZ, 010", "XYZ,01", "XYZ,0101",
+		"XYZ,012", "XQZ,010", "\"XYZ\",010", "XYZ,010,1", "XY,010", "XYZW,0101", "", "XYZ,010\r",
+		"ZZZ,1 1", "X|Z,010", ",010", "XYZ,", "XYZ", "+1,010", "XYZ,0x0",
+	}
+	for trial := range 3000 {
+		var b strings.Builder
+		if trial%50 != 0 {
+			b.WriteString("setting,outcome\n")
+		}
+		for range 1 + rng.IntN(12) {
+			// Mostly good lines, so that errors come late.
+			p := pieces[rng.IntN(5)]
+			if rng.IntN(4) == 0 {
+				p = pieces[rng.IntN(len(pieces))]
+			}
+			b.WriteString(p)
+			b.WriteString("\n")
+		}
+		in := b.String()
+		if rng.IntN(5) == 0 {
+			in = strings.TrimSuffix(in, "\n")
+		}
+		for _, settings := range [][]pauli.Setting{nil, list} {
+			readBothWays(t, in, settings)
+		}
+	}
+}
+
+// FuzzCSVFastLines is TestCSVFastLinesSame on any input.
+func FuzzCSVFastLines(f *testing.F) {
+	f.Add("setting,outcome\nXYZ,010\nXYZ,011\n0,111\n")
+	f.Add("setting,outcome\nZZ,01\r\nZZ,0x\n")
+	f.Add("setting,outcome\n1,10\n12,01\n")
+	list := []pauli.Setting{pauli.MustParseSetting("ZZ"), pauli.MustParseSetting("XY")}
+	f.Fuzz(func(t *testing.T, in string) {
+		for _, settings := range [][]pauli.Setting{nil, list} {
+			readBothWays(t, in, settings)
+		}
+	})
 }
