@@ -126,21 +126,25 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 	if n == 0 {
 		return 0, fmt.Errorf("estimate: %w: settings list: zero-qubit settings", ErrFormat)
 	}
-	cr := newLineReader(&lineCap{r: r, max: maxCSVLine(n)}, maxCSVLine(n))
+	cl := newChunkLines(r, maxCSVLine(n), 0)
 	var (
 		bits    pauli.Bits
 		header  bool
 		parsed  = make(map[string]int)
 		spelled []pauli.Setting
 		texts   []string // texts[j] is the key of spelled[j] in parsed
+		byText  textTable
 		// The id of the last spelled setting: records often repeat a
 		// setting on consecutive lines, and a comparison is cheaper than
-		// a map lookup.
+		// a lookup.
 		lastText string
 		lastID   int
 	)
+	if n > 0 {
+		bits = pauli.NewBits(n)
+	}
 	for {
-		fields, err := cr.Read()
+		raw, err := cl.next()
 		if err == io.EOF {
 			break
 		}
@@ -149,12 +153,49 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 			if errors.As(err, &long) {
 				return 0, &LineError{Reader: "estimate", Line: long.line, Reason: fmt.Sprintf("line longer than %d bytes, more than any setting and outcome of the records' width need", long.max)}
 			}
-			if le := csvLineError(err); le != nil {
-				return 0, le
-			}
 			return 0, fmt.Errorf("estimate: reading records: %w", err)
 		}
-		line := cr.line
+		line := cl.line
+		if len(raw) == 0 {
+			continue
+		}
+		// The common lines, read without splitting: a spelled-out local
+		// setting (n letters) or an index, a comma, and n bits. Any
+		// other line, or one of these that is not exactly so (an unknown
+		// setting, a bad bit), goes the general way below, which
+		// accepts it the same way or names what is wrong.
+		if header && n > 0 && csvFastLines {
+			id := -1
+			if len(raw) == 2*n+1 && raw[n] == ',' && raw[0] > '9' {
+				key := unsafe.String(unsafe.SliceData(raw), n)
+				if key == lastText {
+					id = lastID
+				} else if j := byText.find(key, texts); j >= 0 {
+					id = len(settings) + j
+					lastID, lastText = id, texts[j]
+				}
+			} else if k, c := fastIndex(raw); c > 0 && len(raw) == c+1+n && raw[c] == ',' && k < len(settings) {
+				id = k
+			}
+			if id >= 0 {
+				if _, ok := parseBitsInto(bits, unsafe.String(&raw[len(raw)-n], n)); ok {
+					var st pauli.Setting
+					if id < len(settings) {
+						st = settings[id]
+					} else {
+						st = spelled[id-len(settings)]
+					}
+					if err := fn(line, n, id, st, bits); err != nil {
+						return 0, err
+					}
+					continue
+				}
+			}
+		}
+		fields, err := splitCSVLine(raw, line, &cl.fields)
+		if err != nil {
+			return 0, err
+		}
 		if !header {
 			if len(fields) != 2 || strings.ToLower(strings.TrimSpace(fields[0])) != "setting" || strings.ToLower(strings.TrimSpace(fields[1])) != "outcome" {
 				return 0, lineError(line, fmt.Sprintf("header %q, want %q", strings.Join(fields, ","), csvHeader))
@@ -212,6 +253,7 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 			parsed[sf] = id
 			spelled = append(spelled, t)
 			texts = append(texts, sf)
+			byText.add(sf, len(texts)-1, texts)
 			lastText, lastID = sf, id
 			s = t
 		}
@@ -237,78 +279,234 @@ func scanCSV(r io.Reader, settings []pauli.Setting, fn func(line, n, id int, s p
 	return n, nil
 }
 
-// lineReader reads the records' CSV lines as encoding/csv does for this
-// form, without a string per line: a line without a quote is split at its
-// commas, the fields aliasing the reader's buffer until the next Read; a
-// line with a quote is handed to encoding/csv alone. As encoding/csv it
-// skips empty lines, reads "\r\n" as "\n" and drops a "\r" before the end of
-// the input.
-type lineReader struct {
-	br     *bufio.Reader
-	line   int // line of the fields last returned
-	fields []string
-	eof    bool
-}
+// csvFastLines turns on scanCSV's reading of common lines without
+// splitting; tests turn it off to compare with the general path.
+var csvFastLines = true
 
-func newLineReader(r io.Reader, maxLine int) *lineReader {
-	return &lineReader{br: bufio.NewReaderSize(r, max(64<<10, maxLine+2))}
-}
-
-// Read returns the fields of the next non-empty line, io.EOF at the end, a
-// *csv.ParseError (its Line the file's) for a bad quoted line, or the
-// reader's error.
-func (lr *lineReader) Read() ([]string, error) {
-	for {
-		if lr.eof {
-			return nil, io.EOF
+// splitCSVLine returns the fields of a non-empty records line, as
+// encoding/csv reads them for this form, without a string per line: a line
+// without a quote is split at its commas, the fields aliasing raw (in the
+// reused *fields); a line with a quote is handed to encoding/csv alone. A
+// bad quoted line is a [*LineError] naming line.
+func splitCSVLine(raw []byte, line int, fields *[]string) ([]string, error) {
+	if bytes.IndexByte(raw, '"') >= 0 {
+		cr := csv.NewReader(bytes.NewReader(raw))
+		cr.FieldsPerRecord = -1
+		f, err := cr.Read()
+		if err != nil {
+			var pe *csv.ParseError
+			if errors.As(err, &pe) {
+				return nil, lineError(line, pe.Err.Error())
+			}
+			return nil, lineError(line, err.Error())
 		}
-		raw, err := lr.br.ReadSlice('\n')
-		switch {
-		case err == io.EOF:
-			lr.eof = true
-			if len(raw) == 0 {
-				return nil, io.EOF
+		return f, nil
+	}
+	text := unsafe.String(unsafe.SliceData(raw), len(raw))
+	f := (*fields)[:0]
+	for {
+		k := strings.IndexByte(text, ',')
+		if k < 0 {
+			f = append(f, text)
+			break
+		}
+		f = append(f, text[:k])
+		text = text[k+1:]
+	}
+	*fields = f
+	return f, nil
+}
+
+// fastIndex reads a setting index of one to nine digits at the start of
+// raw: the index and the number of digits, or 0 digits if raw does not
+// start so.
+func fastIndex(raw []byte) (k, digits int) {
+	for digits < len(raw) && digits < 9 && raw[digits] >= '0' && raw[digits] <= '9' {
+		k = k*10 + int(raw[digits]-'0')
+		digits++
+	}
+	return k, digits
+}
+
+// textTable finds the index j of a setting's text among texts (as the map
+// of the general path does) by a hash of its bytes, without a string or a
+// map access per line.
+type textTable struct {
+	slots []int32 // j+1 of the text hashed there, 0 for an empty slot
+	n     int
+}
+
+// textHash mixes the bytes of t, eight at a time (the last eight
+// overlapping the ones before when the length is not a multiple of 8).
+func textHash(t string) uint64 {
+	h := uint64(len(t)) * 0x9E3779B97F4A7C15
+	if len(t) < 8 {
+		var v uint64
+		for i := range len(t) {
+			v |= uint64(t[i]) << (8 * i)
+		}
+		h = (h ^ v) * 0xFF51AFD7ED558CCD
+		return h ^ h>>32
+	}
+	for q := 0; ; q += 8 {
+		if q+8 > len(t) {
+			q = len(t) - 8
+		}
+		u := t[q : q+8]
+		v := uint64(u[0]) | uint64(u[1])<<8 | uint64(u[2])<<16 | uint64(u[3])<<24 |
+			uint64(u[4])<<32 | uint64(u[5])<<40 | uint64(u[6])<<48 | uint64(u[7])<<56
+		h = (h ^ v) * 0xFF51AFD7ED558CCD
+		if q+8 == len(t) {
+			return h ^ h>>32
+		}
+	}
+}
+
+func (tt *textTable) find(key string, texts []string) int {
+	if tt.n == 0 {
+		return -1
+	}
+	mask := uint64(len(tt.slots) - 1)
+	for k := textHash(key) & mask; ; k = (k + 1) & mask {
+		j := tt.slots[k]
+		if j == 0 {
+			return -1
+		}
+		if texts[j-1] == key {
+			return int(j - 1)
+		}
+	}
+}
+
+// add records that texts[j] is key; the table grows to keep at least half
+// its slots empty.
+func (tt *textTable) add(key string, j int, texts []string) {
+	if 2*(tt.n+1) > len(tt.slots) {
+		old := tt.slots
+		tt.slots = make([]int32, max(64, 2*len(old)))
+		tt.n = 0
+		for _, o := range old {
+			if o != 0 {
+				tt.insert(texts[o-1], o)
 			}
-			if raw[len(raw)-1] == '\r' {
-				raw = raw[:len(raw)-1]
+		}
+	}
+	tt.insert(key, int32(j+1))
+}
+
+func (tt *textTable) insert(key string, v int32) {
+	mask := uint64(len(tt.slots) - 1)
+	k := textHash(key) & mask
+	for tt.slots[k] != 0 {
+		k = (k + 1) & mask
+	}
+	tt.slots[k] = v
+	tt.n++
+}
+
+// chunkLines reads lines in large chunks and hands them out as slices of
+// its buffer, valid until the next call: a line is the bytes before a
+// newline, or the bytes after the last newline at the end of the input,
+// without a "\r" at its end (as encoding/csv reads "\r\n" and a final
+// "\r"). A line longer than max bytes (its "\r" counted) is refused
+// before more than the buffer is read, so that a file without newlines
+// (/dev/zero) is refused instead of read whole.
+type chunkLines struct {
+	r        io.Reader
+	buf      []byte
+	pos, end int // unread bytes: buf[pos:end]
+	max      int
+	line     int // line number of the last line returned
+	eof      bool
+	err      error // the reader's error, returned once the lines before it are
+	empty    int   // reads in a row that returned nothing
+	fills    int   // reads that filled the buffer since it last grew
+	size     int   // the buffer's size for reading
+	limit    int   // its largest size: size, or room for two longest lines
+	fields   []string
+}
+
+type lineTooLong struct{ line, max int }
+
+func (e *lineTooLong) Error() string {
+	return fmt.Sprintf("line %d longer than %d bytes", e.line, e.max)
+}
+
+// newChunkLines reads r in chunks of up to size bytes (1 MiB for 0), or
+// more when needed to hold a line of maxLine bytes. The buffer starts small
+// (a short input costs little) and doubles while reads fill it, or while a
+// line does not fit.
+func newChunkLines(r io.Reader, maxLine, size int) *chunkLines {
+	if size <= 0 {
+		size = 1 << 20
+	}
+	return &chunkLines{r: r, max: maxLine, size: size, limit: max(size, 2*maxLine+4), buf: make([]byte, min(size, 16<<10))}
+}
+
+// next returns the next line, io.EOF after the last, a *lineTooLong, or
+// the reader's error.
+func (c *chunkLines) next() ([]byte, error) {
+	for {
+		if k := bytes.IndexByte(c.buf[c.pos:c.end], '\n'); k >= 0 {
+			if k > c.max {
+				return nil, &lineTooLong{c.line + 1, c.max}
 			}
-		case err != nil:
-			return nil, err
-		default:
-			raw = raw[:len(raw)-1]
-			if k := len(raw); k > 0 && raw[k-1] == '\r' {
+			raw := c.buf[c.pos : c.pos+k]
+			c.pos += k + 1
+			c.line++
+			if k > 0 && raw[k-1] == '\r' {
 				raw = raw[:k-1]
 			}
+			return raw, nil
 		}
-		lr.line++
-		if len(raw) == 0 {
-			continue
+		if c.end-c.pos > c.max {
+			return nil, &lineTooLong{c.line + 1, c.max}
 		}
-		if bytes.IndexByte(raw, '"') >= 0 {
-			cr := csv.NewReader(bytes.NewReader(raw))
-			cr.FieldsPerRecord = -1
-			f, err := cr.Read()
-			if err != nil {
-				var pe *csv.ParseError
-				if errors.As(err, &pe) {
-					pe.StartLine, pe.Line = lr.line, lr.line
-				}
-				return nil, err
+		if c.err != nil {
+			return nil, c.err
+		}
+		if c.eof {
+			if c.pos == c.end {
+				return nil, io.EOF
 			}
-			return f, nil
-		}
-		text := unsafe.String(unsafe.SliceData(raw), len(raw))
-		lr.fields = lr.fields[:0]
-		for {
-			k := strings.IndexByte(text, ',')
-			if k < 0 {
-				lr.fields = append(lr.fields, text)
-				break
+			raw := c.buf[c.pos:c.end]
+			c.pos = c.end
+			c.line++
+			if k := len(raw); raw[k-1] == '\r' {
+				raw = raw[:k-1]
 			}
-			lr.fields = append(lr.fields, text[:k])
-			text = text[k+1:]
+			return raw, nil
 		}
-		return lr.fields, nil
+		if c.pos > 0 {
+			c.end = copy(c.buf, c.buf[c.pos:c.end])
+			c.pos = 0
+		}
+		// A partial line that fills the buffer (at most max bytes, checked
+		// above), or reads that keep filling it: double it.
+		if c.end == len(c.buf) || (c.fills >= 2 && len(c.buf) < c.size) {
+			nb := make([]byte, min(2*len(c.buf), c.limit))
+			copy(nb, c.buf[:c.end])
+			c.buf, c.fills = nb, 0
+		}
+		m, err := c.r.Read(c.buf[c.end:])
+		if c.end+m == len(c.buf) {
+			c.fills++
+		}
+		c.end += m
+		switch {
+		case err == io.EOF:
+			c.eof = true
+		case err != nil:
+			c.err = err
+		case m == 0:
+			// A reader may return nothing without an error; ask again,
+			// up to a limit (as bufio does).
+			if c.empty++; c.empty >= 100 {
+				c.err = io.ErrNoProgress
+			}
+		default:
+			c.empty = 0
+		}
 	}
 }
 
@@ -321,50 +519,6 @@ func maxCSVLine(n int) int {
 		n = hamiltonian.MaxReadQubits
 	}
 	return 8*n + 4096
-}
-
-// lineCap passes bytes through and fails once a line (bytes since the last
-// newline) exceeds max, so that a file without newlines (/dev/zero) is
-// refused instead of read whole.
-type lineCap struct {
-	r         io.Reader
-	max, cur  int
-	line      int
-	exhausted bool
-}
-
-type lineTooLong struct{ line, max int }
-
-func (e *lineTooLong) Error() string {
-	return fmt.Sprintf("line %d longer than %d bytes", e.line, e.max)
-}
-
-func (c *lineCap) Read(p []byte) (int, error) {
-	if c.exhausted {
-		return 0, &lineTooLong{c.line + 1, c.max}
-	}
-	n, err := c.r.Read(p)
-	// Line by line: the byte that would make the line too long is at
-	// i+room; a newline before it ends the line.
-	for i := 0; i < n; {
-		room := c.max - c.cur
-		end := min(n, i+room+1)
-		if j := bytes.IndexByte(p[i:end], '\n'); j >= 0 {
-			c.line++
-			c.cur = 0
-			i += j + 1
-			continue
-		}
-		if end == i+room+1 {
-			c.exhausted = true
-			// Hand over what precedes the offending byte; the next call
-			// reports the error.
-			return i + room, nil
-		}
-		c.cur += end - i
-		i = end
-	}
-	return n, err
 }
 
 // csvLineError returns the [*LineError] for a syntax error of
@@ -389,12 +543,29 @@ func parseBitsInto(b pauli.Bits, s string) (int, bool) {
 	// their low bits, one per byte, are gathered into one byte by a
 	// multiplication (byte k's bit lands on bit 56 + k).
 	for ; q+8 <= len(s); q += 8 {
-		v := uint64(s[q]) | uint64(s[q+1])<<8 | uint64(s[q+2])<<16 | uint64(s[q+3])<<24 |
-			uint64(s[q+4])<<32 | uint64(s[q+5])<<40 | uint64(s[q+6])<<48 | uint64(s[q+7])<<56
+		t := s[q : q+8]
+		v := uint64(t[0]) | uint64(t[1])<<8 | uint64(t[2])<<16 | uint64(t[3])<<24 |
+			uint64(t[4])<<32 | uint64(t[5])<<40 | uint64(t[6])<<48 | uint64(t[7])<<56
 		if v&0xFEFEFEFEFEFEFEFE != 0x3030303030303030 {
 			break
 		}
 		b[q>>6] |= ((v & 0x0101010101010101) * 0x0102040810204080) >> 56 << (q & 63)
+	}
+	// The last characters: the final eight, overlapping ones already set
+	// (setting a bit twice is harmless), which may straddle two words.
+	if q < len(s) && q+8 > len(s) && len(s) >= 8 {
+		p := len(s) - 8
+		t := s[p:]
+		v := uint64(t[0]) | uint64(t[1])<<8 | uint64(t[2])<<16 | uint64(t[3])<<24 |
+			uint64(t[4])<<32 | uint64(t[5])<<40 | uint64(t[6])<<48 | uint64(t[7])<<56
+		if v&0xFEFEFEFEFEFEFEFE == 0x3030303030303030 {
+			u := ((v & 0x0101010101010101) * 0x0102040810204080) >> 56
+			b[p>>6] |= u << (p & 63)
+			if p&63 > 56 {
+				b[p>>6+1] |= u >> (64 - p&63)
+			}
+			return 0, true
+		}
 	}
 	for ; q < len(s); q++ {
 		switch s[q] {

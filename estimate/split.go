@@ -14,8 +14,9 @@ import (
 // α_{ig} = m_g/N_i for the others. One shot of g contributes
 // Z = Σ_i c_{ig} s_i, c_{ig} = h_i α_{ig}/m_g, and the standard error is
 // estimated as in Grouped from the Z of every shot (MATH.md §2.2 with
-// c_{ig} in place of h_i/N_i). It reads every (shot, covered term) pair
-// once per pass, two passes.
+// c_{ig} in place of h_i/N_i; a setting's variance from running sums, as
+// a [Stream] keeps them). It reads every (shot, covered term) pair once
+// per pass, two passes.
 func groupedSplit(h *hamiltonian.Hamiltonian, rec *Records, c *config, split hamiltonian.Split) (*Result, error) {
 	G := rec.Groups()
 	settings := make([]pauli.Setting, G)
@@ -77,14 +78,16 @@ func groupedSplit(h *hamiltonian.Hamiltonian, rec *Records, c *config, split ham
 		cg[g] = make([]float64, len(rows[g]))
 		mg := float64(shots[g])
 		for k, i := range rows[g] {
-			a := mg / float64(res.Cover[i])
+			a, u := mg/float64(res.Cover[i]), 1/float64(res.Cover[i])
 			if listed[i] {
-				a = alpha[i]
+				a, u = alpha[i], alpha[i]/mg
 			}
 			// The term's mean gathers α_{ig}·mean_g(s_i).
 			res.Means[i] += a * gsum[g][k] / mg
 			if !c.excluded(i) {
-				cg[g][k] = coef[i] * c.scale[i] * a / mg
+				// h_i·u_{ig}, u = α_{ig}/m_g or 1/N_i, rounded as the
+				// data bounds of package guarantee weigh a shot's sample.
+				cg[g][k] = coef[i] * u * c.scale[i]
 			}
 		}
 		if ok {
@@ -133,7 +136,7 @@ func groupedSplit(h *hamiltonian.Hamiltonian, rec *Records, c *config, split ham
 			}
 		}
 		if len(z) > 1 {
-			vsum += float64(len(z)) * sampleVariance(z)
+			vsum += float64(len(z)) * runningVariance(z)
 		}
 	}
 	res.StdErr = math.Sqrt(vsum)

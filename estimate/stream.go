@@ -27,7 +27,10 @@ import (
 // from a Stream.
 //
 // Shots of one setting are processed 64 at a time; the work per shot is
-// about two floating-point operations per term its setting covers. The
+// about two floating-point operations per term its setting covers, except
+// for outcomes of the setting met before: a shot's value depends only on
+// its setting and outcome, and a fixed-size cache (about 1 MB) keeps the
+// values of recent (setting, outcome) pairs. The
 // covered terms of every setting are kept (4 bytes a pair) up to 2^27
 // pairs; past that they are found again for every batch of 64 shots of a
 // setting, which costs time instead of memory. Only local settings are
@@ -35,19 +38,29 @@ import (
 type Stream struct {
 	cfg  *config
 	sums *shotsum.Sums
+	// With a coefficient split, split.a[g][k] is the weight α of term
+	// Rows[k] of plan group g in its mean (MATH.md §2.5); nil without.
+	split *streamSplit
 }
+
+// streamSplit is a Stream's coefficient split (behind a pointer, so that
+// a Stream stays comparable).
+type streamSplit struct{ a [][]float64 }
 
 // NewStream returns a Stream for the plan that measures settings[k] for
 // shots[k] shots (a setting may repeat; zero counts are ignored). Options
-// work as for [Grouped] (Batches is ignored). It returns an error for a nil
-// Hamiltonian, lengths that disagree, a setting of the wrong width or
-// entangled, a negative count, or invalid options.
+// work as for [Grouped] (Batches is ignored). With Options.Split, the
+// plan's coefficient split (MATH.md §2.5), every setting weighs its terms
+// as the split says and the result is that of Grouped with the same split
+// on the same shots, to the last bit; the stream then also counts each
+// setting's −1 samples per term (8 bytes a cover pair). It returns an
+// error for a nil Hamiltonian, lengths that disagree, a setting of the
+// wrong width or entangled, a negative count, invalid options, a split
+// that does not fit the plan, or a split on a plan of more cover pairs
+// than are stored (see the Stream's doc).
 func NewStream(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, opts *Options) (*Stream, error) {
 	if h == nil {
 		return nil, fmt.Errorf("estimate: Stream: nil Hamiltonian")
-	}
-	if opts != nil && opts.Split != nil {
-		return nil, fmt.Errorf("estimate: Stream: a coefficient split (Options.Split) is not streamed yet; use Grouped on records in memory")
 	}
 	c, err := configFor(h, opts, "Stream")
 	if err != nil {
@@ -67,7 +80,125 @@ func NewStream(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int
 	s.SetWeights(a)
 	s.Mitigated = c.readoutBias != nil
 	s.Exclude = c.exclude
-	return &Stream{cfg: c, sums: s}, nil
+	st := &Stream{cfg: c, sums: s}
+	if opts != nil && len(opts.Split) > 0 {
+		if err := st.setSplit(opts.Split); err != nil {
+			return nil, err
+		}
+	}
+	return st, nil
+}
+
+// setSplit gives every setting its own weights of the split estimate
+// (MATH.md §2.5), as groupedSplit computes them, and makes the sums count
+// each setting's −1 samples per term for the split means.
+func (s *Stream) setSplit(split hamiltonian.Split) error {
+	sm, c := s.sums, s.cfg
+	h := sm.H
+	settings := make([]pauli.Setting, len(sm.Groups))
+	shots := make([]int, len(sm.Groups))
+	for k, g := range sm.Groups {
+		settings[k], shots[k] = g.Setting, g.Planned
+	}
+	if err := split.Check(h, settings, shots); err != nil {
+		return fmt.Errorf("estimate: Stream: the plan does not fit the split: %w", err)
+	}
+	if !sm.Stored() {
+		return fmt.Errorf("estimate: Stream: a coefficient split is streamed for plans of at most %d (setting, term) cover pairs; use Grouped on records in memory", shotsum.MaxStored)
+	}
+	m := h.Len()
+	coef := h.Coeffs()
+	listed := split.Listed(m)
+	index := split.Groups()
+	alpha := make([]float64, m) // scratch: the setting's split weights by term
+	s.split = &streamSplit{a: make([][]float64, len(sm.Groups))}
+	for gi, g := range sm.Groups {
+		j, ok := index[g.Setting.Key()]
+		if ok {
+			for k, i := range split[j].Terms {
+				alpha[i] = split[j].Weights[k]
+			}
+		}
+		mg := float64(g.Planned)
+		as := make([]float64, len(g.Rows))
+		w := make([]float64, len(g.Rows))
+		for k, r := range g.Rows {
+			i := int(r)
+			a, u := mg/float64(sm.Cover[i]), 1/float64(sm.Cover[i])
+			if listed[i] {
+				a, u = alpha[i], alpha[i]/mg
+			}
+			as[k] = a
+			if !c.excluded(i) {
+				w[k] = coef[i] * u * c.scale[i]
+			}
+		}
+		sm.SetGroupWeights(g, w)
+		s.split.a[gi] = as
+		if ok {
+			for _, i := range split[j].Terms {
+				alpha[i] = 0
+			}
+		}
+	}
+	sm.CountRows()
+	return nil
+}
+
+// resultSplit is Result for a plan with a coefficient split: the
+// operations of groupedSplit, in the same order, on the running sums.
+func (s *Stream) resultSplit() *Result {
+	sm := s.Sums()
+	h, c := sm.H, s.cfg
+	m := h.Len()
+	coef := h.Coeffs()
+	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: sm.Shots, Energy: h.Offset()}
+	copy(res.Cover, sm.Cover)
+	for _, gi := range sm.Order {
+		g := sm.Groups[gi]
+		mg := float64(g.T)
+		for k, i := range g.Rows {
+			// The sum of the ±1 samples, an integer and so exact.
+			gsum := float64(int64(g.T) - 2*g.RowOnes[k])
+			res.Means[i] += s.split.a[gi][k] * gsum / mg
+		}
+	}
+	for i := range m {
+		if res.Cover[i] == 0 {
+			res.Means[i] = math.NaN()
+			continue
+		}
+		res.Means[i] *= c.scale[i]
+		if !c.excluded(i) {
+			res.Energy += coef[i] * res.Means[i]
+		}
+	}
+	vsum := 0.0
+	for _, gi := range sm.Order {
+		g := sm.Groups[gi]
+		if g.T > 1 {
+			vsum += float64(g.T) * g.Variance()
+			continue
+		}
+		r := 0.0
+		for a, i := range g.Kept {
+			ck := g.Coef[a]
+			v := 1.0
+			if sm.Odd(i, g.One) {
+				v = -1
+			}
+			if n := res.Cover[i]; n > 1 {
+				plain := float64(int64(n) - 2*sm.Ones[i])
+				r += ck * (v - (plain-v)/float64(n-1))
+			} else {
+				vsum += ck * ck // no data on its spread: Var(s) ≤ 1
+			}
+		}
+		vsum += r * r
+	}
+	res.StdErr = math.Sqrt(vsum)
+	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })
+	return res
 }
 
 // Add adds one shot: setting st gave outcome b (the bits are copied). It
@@ -112,6 +243,9 @@ func (s *Stream) Result() (*Result, error) {
 	}
 	if s.sums.Shots == 0 {
 		return nil, fmt.Errorf("estimate: %w: Stream: no shot", ErrFormat)
+	}
+	if s.split != nil {
+		return s.resultSplit(), nil
 	}
 	sm := s.Sums()
 	h, c := sm.H, s.cfg

@@ -269,16 +269,90 @@ func TestParseBitsInto(t *testing.T) {
 	}
 }
 
-// A coefficient split is not streamed: NewStream refuses it rather than
-// silently using the implicit weights.
+// NewStream refuses a coefficient split that does not fit the plan (a
+// term's weights not adding up to one, a setting the plan lacks) and one
+// on a plan of more cover pairs than the stream stores.
 func TestStreamRefusesSplit(t *testing.T) {
 	h, err := hamiltonian.New(2, 0, []hamiltonian.Term{{Pauli: pauli.MustParse("ZI"), Coeff: 1}, {Pauli: pauli.MustParse("IZ"), Coeff: 0.5}})
 	if err != nil {
 		t.Fatal(err)
 	}
 	st := pauli.MustParseSetting("ZZ")
-	split := hamiltonian.Split{{Setting: st, Terms: []int{0}, Weights: []float64{1}}}
-	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: split}); err == nil {
-		t.Fatal("NewStream with a split: no error")
+	for _, split := range []hamiltonian.Split{
+		{{Setting: st, Terms: []int{0}, Weights: []float64{0.5}}},
+		{{Setting: pauli.MustParseSetting("ZX"), Terms: []int{0}, Weights: []float64{1}}},
+	} {
+		if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: split}); err == nil || !strings.Contains(err.Error(), "split") {
+			t.Errorf("NewStream with split %v: error %v, want one about the split", split, err)
+		}
+	}
+	good := hamiltonian.Split{{Setting: st, Terms: []int{0}, Weights: []float64{1}}}
+	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: good}); err != nil {
+		t.Errorf("NewStream with a fitting split: %v", err)
+	}
+	defer func(m int) { shotsum.MaxStored = m }(shotsum.MaxStored)
+	shotsum.MaxStored = 1
+	if _, err := NewStream(h, []pauli.Setting{st}, []int{4}, &Options{Split: good}); err == nil || !strings.Contains(err.Error(), "cover pairs") {
+		t.Errorf("NewStream with a split past the storage cap: error %v", err)
+	}
+}
+
+// TestStreamRepeatedOutcomes is TestStreamMatchesGrouped on the case the
+// stream's cache of shot values serves: settings covering many terms (a
+// 2-local Hamiltonian) whose outcomes mostly repeat, as a state near a
+// basis state gives. Equal to Grouped to the last bit, and to the
+// shot-by-shot reference of MATH.md §2 within rounding.
+func TestStreamRepeatedOutcomes(t *testing.T) {
+	const n = 12
+	h, err := hamiltonian.RandomLocal(n, 200, 2, 9)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(9, 10))
+	c := &streamCase{h: h, rec: NewRecords(n)}
+	letters := make([]byte, n)
+	for k := range 6 {
+		for q := range letters {
+			letters[q] = "XYZ"[rng.IntN(3)]
+		}
+		c.settings = append(c.settings, pauli.MustParseSetting(string(letters)))
+		c.shots = append(c.shots, 1500+100*k)
+		for range c.shots[k] {
+			c.order = append(c.order, k)
+		}
+	}
+	rng.Shuffle(len(c.order), func(i, j int) { c.order[i], c.order[j] = c.order[j], c.order[i] })
+	common := make([]uint64, 6)
+	for k := range common {
+		common[k] = rng.Uint64() & (1<<n - 1)
+	}
+	for _, k := range c.order {
+		b := pauli.Bits{common[rng.IntN(len(common))]}
+		if rng.IntN(10) == 0 {
+			b[0] = rng.Uint64() & (1<<n - 1)
+		}
+		c.outcomes = append(c.outcomes, b)
+		if err := c.rec.Add(c.settings[k], b); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want, err := Grouped(h, c.rec, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := c.stream(t, nil).Result()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if diff := cmp.Diff(want, got, bitsEqual); diff != "" {
+		t.Errorf("stream differs from Grouped (-Grouped +stream):\n%s", diff)
+	}
+	scale := make([]float64, h.Len())
+	for i := range scale {
+		scale[i] = 1
+	}
+	e, se, _, _ := refGrouped(h, c.rec, make([]bool, h.Len()), scale)
+	if math.Abs(e-got.Energy) > 1e-9 || math.Abs(se-got.StdErr) > 1e-9*se {
+		t.Errorf("stream %v ± %v, shot-by-shot reference %v ± %v", got.Energy, got.StdErr, e, se)
 	}
 }

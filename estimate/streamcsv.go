@@ -4,7 +4,6 @@ import (
 	"errors"
 	"io"
 	"runtime"
-	"strings"
 
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -27,8 +26,8 @@ var (
 )
 
 // csvBatch is a run of parsed shots handed from the reading goroutine to
-// the adding one: shot k has setting tab[ids[k]], outcome
-// bits[k*w:(k+1)*w] and line lines[k]. tab is the reading goroutine's
+// the adding one: shot j < k has setting tab[ids[j]], outcome
+// bits[j*w:(j+1)*w] and line lines[j]. tab is the reading goroutine's
 // table of settings when the batch was sent (it only appends to it). The
 // last batch of a scan carries the scan's qubit count and error.
 type csvBatch struct {
@@ -36,6 +35,7 @@ type csvBatch struct {
 	ids   []int32
 	tab   []pauli.Setting
 	bits  []uint64
+	k     int // shots held
 	last  bool
 	n     int
 	err   error
@@ -59,8 +59,14 @@ var errCSVStopped = errors.New("estimate: stopped")
 // stops that goroutine and waits for it, so r is not read after AddCSV
 // returns (a read already blocked in r is waited for).
 func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptions) (int, error) {
+	var ids groupIDs
 	if (opts != nil && opts.Serial) || runtime.GOMAXPROCS(0) < 2 {
-		return ScanCSV(r, settings, s.Add)
+		return scanCSV(r, settings, func(line, _, id int, st pauli.Setting, b pauli.Bits) error {
+			if err := s.addID(&ids, id, st, b); err != nil {
+				return lineError(line, err.Error())
+			}
+			return nil
+		})
 	}
 	full := make(chan *csvBatch, csvBatches)
 	free := make(chan *csvBatch, csvBatches)
@@ -68,8 +74,8 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 	exited := make(chan struct{})
 	for range csvBatches {
 		free <- &csvBatch{
-			lines: make([]int, 0, csvBatchShots),
-			ids:   make([]int32, 0, csvBatchShots),
+			lines: make([]int, csvBatchShots),
+			ids:   make([]int32, csvBatchShots),
 		}
 	}
 	go func() {
@@ -81,7 +87,7 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		get := func() bool {
 			select {
 			case b = <-free:
-				b.lines, b.ids, b.bits = b.lines[:0], b.ids[:0], b.bits[:0]
+				b.k = 0
 				return true
 			case <-done:
 				return false
@@ -94,10 +100,18 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 			if id == len(tab) {
 				tab = append(tab, st)
 			}
-			b.lines = append(b.lines, line)
-			b.ids = append(b.ids, int32(id))
-			b.bits = append(b.bits, bits...)
-			if len(b.lines) < csvBatchShots {
+			k, w := b.k, len(bits)
+			if len(b.bits) != csvBatchShots*w {
+				b.bits = make([]uint64, csvBatchShots*w)
+			}
+			b.lines[k] = line
+			b.ids[k] = int32(id)
+			if w == 1 {
+				b.bits[k] = bits[0]
+			} else {
+				copy(b.bits[k*w:(k+1)*w], bits)
+			}
+			if b.k = k + 1; b.k < csvBatchShots {
 				return nil
 			}
 			b.tab = tab
@@ -127,12 +141,20 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 	for {
 		b := <-full
 		w := 0
-		if len(b.lines) > 0 {
-			w = len(b.bits) / len(b.lines)
+		if b.k > 0 {
+			w = len(b.bits) / csvBatchShots
 		}
-		for k, line := range b.lines {
-			if err := s.Add(b.tab[b.ids[k]], b.bits[k*w:(k+1)*w:(k+1)*w]); err != nil {
-				return 0, lineError(line, strings.TrimPrefix(err.Error(), "estimate: "))
+		for k, line := range b.lines[:b.k] {
+			id := b.ids[k]
+			bits := pauli.Bits(b.bits[k*w : (k+1)*w : (k+1)*w])
+			var err error
+			if int(id) < len(ids) && ids[id] > 0 {
+				err = s.sums.AddGroup(ids[id]-1, bits)
+			} else {
+				err = s.addID(&ids, int(id), b.tab[id], bits)
+			}
+			if err != nil {
+				return 0, lineError(line, err.Error())
 			}
 		}
 		if b.last {
@@ -140,4 +162,28 @@ func (s *Stream) AddCSV(r io.Reader, settings []pauli.Setting, opts *AddCSVOptio
 		}
 		free <- b
 	}
+}
+
+// groupIDs maps the setting ids of scanCSV to the stream's groups: entry
+// id is the group's index plus one, 0 while the id has not been met.
+type groupIDs []int32
+
+// addID adds a shot of setting st, whose id in the scan is id, as Add
+// does (its error without the package prefix), finding the setting's
+// group only at the id's first shot.
+func (s *Stream) addID(ids *groupIDs, id int, st pauli.Setting, b pauli.Bits) error {
+	if id < len(*ids) {
+		if g := (*ids)[id]; g > 0 {
+			return s.sums.AddGroup(g-1, b)
+		}
+	}
+	gi, ok := s.sums.Group(st)
+	if !ok {
+		return s.sums.Add(st, b)
+	}
+	for len(*ids) <= id {
+		*ids = append(*ids, 0)
+	}
+	(*ids)[id] = gi + 1
+	return s.sums.AddGroup(gi, b)
 }

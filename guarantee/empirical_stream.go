@@ -12,8 +12,9 @@ import (
 // records (MATH.md §4.10), in memory that does not grow with the number of
 // shots. The groups are the stream's settings in the order their first shot
 // arrived, as the groups of records read from the same shots. The terms
-// left out are the stream's (estimate.Options.Exclude); opts.Exclude must
-// be nil.
+// left out are the stream's (estimate.Options.Exclude), and so is the
+// coefficient split (estimate.Options.Split): the bound is then that of
+// Empirical with the same split; opts.Exclude and opts.Split must be nil.
 //
 // It equals Empirical on the same shots to the last bit for the pooled and
 // per-group forms and for DataBound.ApproxRadius; the Residual form expands
@@ -39,7 +40,7 @@ func EmpiricalStream(st *estimate.Stream, delta float64, opts *EmpiricalOptions)
 		return nil, fmt.Errorf("guarantee: no shots in the stream")
 	}
 	if o.Split != nil {
-		return nil, fmt.Errorf("guarantee: EmpiricalOptions.Split is set: a coefficient split is not streamed yet; use Empirical on records in memory")
+		return nil, fmt.Errorf("guarantee: EmpiricalOptions.Split is set: a stream's coefficient split is that of its estimate.Options")
 	}
 	if o.Exclude != nil {
 		return nil, fmt.Errorf("guarantee: EmpiricalOptions.Exclude is set: a stream's terms left out are those of its estimate.Options")
@@ -134,12 +135,20 @@ func streamResiduals(sm *shotsum.Sums) residualStats {
 			e := g.Shift - pred
 			st.sq[k] += g.FoldSq[k] + 2*e*g.FoldSum[k] + float64(g.FoldT[k])*e*e
 		}
-		// The worst-case sums shot by shot, in the order residuals adds
-		// them.
-		for j := range g.T {
-			k := (g.Off + j) % residualFolds
-			st.big[k] = max(st.big[k], 4*g.Half*g.Half)
-			st.worst[k] += g.Half * g.Half
+		// The worst-case sums: residuals adds Half² shot by shot to the
+		// sum of the shot's fold. The folds' sums are apart, so adding
+		// fold by fold (FoldT[k] shots each) is the same additions in the
+		// same order for every sum.
+		x := g.Half * g.Half
+		for k := range residualFolds {
+			if g.FoldT[k] > 0 {
+				st.big[k] = max(st.big[k], 4*x)
+			}
+			w := st.worst[k]
+			for range g.FoldT[k] {
+				w += x
+			}
+			st.worst[k] = w
 		}
 		if g.T == 1 {
 			r := 0.0

@@ -52,10 +52,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
 			return badf("the plan splits coefficients between settings (-strategy overlap); -observables, -readout and -calibration do not take such plans yet")
 		}
-		// Plain estimates of local plans without a coefficient split are
-		// streamed; the others read the records into memory.
+		// Plain estimates of local plans, with or without a coefficient
+		// split, are streamed; the others read the records into memory.
 		local := !slices.ContainsFunc(settings, func(s pauli.Setting) bool { return !s.IsLocal() })
-		if *observables == "" && ro == nil && *calibration == "" && local && split == nil {
+		if *observables == "" && ro == nil && *calibration == "" && local {
 			return e.estimateStream(records, h, f.Plan, settings, shots, *delta)
 		}
 		rec, err := readRecords(records, settings, h.Qubits())
@@ -92,12 +92,13 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	}
 }
 
-// estimateStream is the plain estimate (no mitigation, no observables):
-// the records are streamed into an estimate.Stream, CSV sources line by
-// line in memory that does not grow with the number of shots; JSON
-// sources are read whole first.
+// estimateStream is the plain estimate (no mitigation, no observables),
+// with the plan's coefficient split if it has one: the records are
+// streamed into an estimate.Stream, CSV sources line by line in memory
+// that does not grow with the number of shots; JSON sources are read
+// whole first.
 func (e *env) estimateStream(paths []string, h *hamiltonian.Hamiltonian, p *allocate.Plan, settings []pauli.Setting, shots []int, delta float64) error {
-	st, err := estimate.NewStream(h, settings, shots, &estimate.Options{Confidence: 1 - delta})
+	st, err := estimate.NewStream(h, settings, shots, &estimate.Options{Confidence: 1 - delta, Split: p.Split})
 	if err != nil {
 		return err
 	}
@@ -128,7 +129,7 @@ func (e *env) estimateStream(paths []string, h *hamiltonian.Hamiltonian, p *allo
 	if resid.Bound < pooled.Bound {
 		data, form = resid, "residual"
 	}
-	return e.printEstimate(res, cert, data, form, st.Groups(), delta, false)
+	return e.printEstimate(res, cert, data, form, st.Groups(), delta, len(p.Split) > 0)
 }
 
 // printEstimate writes the plain estimate's report.
@@ -234,8 +235,9 @@ func estimateHelp() string {
 	return `
 The records must hold exactly the plan's shots (any order). CSV records are
 read in one pass in memory that does not grow with the number of shots
-(MATH.md §4.10); JSON records, and estimates with -readout, -calibration or
--observables or of plans with entangled settings, are read whole. The energy is the
+(MATH.md §4.10), also for plans that split coefficients (-strategy overlap);
+JSON records, and estimates with -readout, -calibration or -observables or
+of plans with entangled settings, are read whole. The energy is the
 grouped estimate; std_error and approx_interval come from the data by the
 normal approximation and are NOT guarantees. certified_bound is the plan's
 certified bound and data_bound an empirical Bernstein bound from these shots, each at

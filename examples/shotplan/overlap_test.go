@@ -37,8 +37,11 @@ func TestOverlapWorkflow(t *testing.T) {
 		}
 		ok(t, "simulate", "-ham", ham, "-plan", plan, "-o", recs)
 		var got struct {
-			Energy float64 `json:"energy"`
-			Bound  float64 `json:"certified_bound"`
+			Energy    float64 `json:"energy"`
+			StdErr    float64 `json:"std_error"`
+			Bound     float64 `json:"certified_bound"`
+			DataBound float64 `json:"data_bound"`
+			DataForm  string  `json:"data_form"`
 		}
 		okJSON(t, &got, "estimate", "-ham", ham, "-plan", plan, "-records", recs)
 		f, err := allocate.ReadPlanFile(plan)
@@ -60,6 +63,23 @@ func TestOverlapWorkflow(t *testing.T) {
 		}
 		if math.Abs(got.Energy-want.Energy) > 1e-12 || math.Abs(got.Bound-cert.Bound) > 1e-12 {
 			t.Errorf("%s: estimate reports energy %.15g and bound %.15g, the split estimator %.15g and %.15g", name, got.Energy, got.Bound, want.Energy, cert.Bound)
+		}
+		// The command streams the records; its estimate is Grouped's with
+		// the split to the last bit, and its data bound Empirical's: the
+		// pooled form to the last bit, the residual one within the
+		// rounding of its expanded sums (MATH.md §4.10: about
+		// (16γ_{t+4} + 32γ_{k+4}) Σ t·half² for t ≤ 500 shots of k ≤ 12
+		// terms, below 10^−12 of the sums with γ_n ≈ n·2^−53; the radius
+		// moves by at most that relative amount).
+		if got.Energy != want.Energy || got.StdErr != want.StdErr {
+			t.Errorf("%s: streamed energy %v ± %v, in memory %v ± %v", name, got.Energy, got.StdErr, want.Energy, want.StdErr)
+		}
+		data, form, err := dataBound(h, rec, 0.05, f.Plan.Split)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if form != got.DataForm || math.Abs(got.DataBound-data.Bound) > 1e-12*data.Bound || (form == "pooled" && got.DataBound != data.Bound) {
+			t.Errorf("%s: streamed data bound %v (%s), in memory %v (%s)", name, got.DataBound, got.DataForm, data.Bound, form)
 		}
 		out := ok(t, "certify", "-ham", ham, "-plan", plan)
 		if !strings.Contains(out, "certified bound ±") {

@@ -64,9 +64,16 @@ type Group struct {
 	FoldSum, FoldSq [Folds]float64
 	// One is the outcome of the group's shot when the plan asks for one.
 	One pauli.Bits
+	// RowOnes[k] is the number of −1 samples of term Rows[k] in the
+	// group's shots, kept when CountRows was called (nil otherwise).
+	RowOnes []int64
 
 	pend  []uint64 // outcomes waiting for the next batch, W words each
 	npend int
+	// Counts of Z-cache lookups and hits; the cache is no longer asked
+	// for this group once it has missed too often (noCache).
+	zLook, zHit int
+	noCache     bool
 }
 
 // Sums is the accumulator. Its exported fields are read-only to callers.
@@ -107,6 +114,7 @@ type Sums struct {
 	qIdx     []uint16 //
 	slice    []uint64 // one word per qubit: bit j is qubit q of shot j of the batch
 	z        [batch]float64
+	zc       zCache
 }
 
 // MaxStored is the number of (setting, term) cover pairs an accumulator
@@ -232,6 +240,41 @@ func (s *Sums) SetWeights(a []float64) {
 	s.weighted = true
 }
 
+// Stored reports whether the groups keep their covered terms (Rows, Kept,
+// Coef); past MaxStored cover pairs they are found again when needed.
+func (s *Sums) Stored() bool { return s.stored }
+
+// SetGroupWeights sets group g's own weights, after SetWeights and before
+// the first shot: coef[k] is the weight of term g.Rows[k] in g's Z (zero
+// leaves it out of g's Z), for a plan whose estimate weighs a term
+// differently in different settings. Only with stored lists; it panics
+// otherwise, or if coef does not match g.Rows.
+func (s *Sums) SetGroupWeights(g *Group, coef []float64) {
+	if !s.stored || len(coef) != len(g.Rows) {
+		panic("shotsum: SetGroupWeights without stored lists or with the wrong length")
+	}
+	g.Kept, g.Coef, g.Half = g.Kept[:0], g.Coef[:0], 0
+	for k, c := range coef {
+		if c != 0 {
+			g.Kept = append(g.Kept, g.Rows[k])
+			g.Coef = append(g.Coef, c)
+			g.Half += math.Abs(c)
+		}
+	}
+}
+
+// CountRows makes every group count the −1 samples of each of its terms
+// (Group.RowOnes), before the first shot. Only with stored lists; it
+// panics otherwise.
+func (s *Sums) CountRows() {
+	if !s.stored {
+		panic("shotsum: CountRows without stored lists")
+	}
+	for _, g := range s.Groups {
+		g.RowOnes = make([]int64, len(g.Rows))
+	}
+}
+
 // Lists returns g's covered terms in table order, those with a non-zero
 // weight and their weights: g's own lists when they are stored, else
 // lists found again through the cover index, valid until the next call.
@@ -263,19 +306,31 @@ func (s *Sums) Lists(g *Group) (rows, kept []int32, coef []float64) {
 // set beyond the last qubit. It does not allocate once every setting has
 // been seen.
 func (s *Sums) Add(st pauli.Setting, b pauli.Bits) error {
-	if len(b) != s.W {
-		return fmt.Errorf("outcome has %d words, want %d for %d qubits", len(b), s.W, s.Qubits)
-	}
-	if k := s.Qubits & 63; k != 0 && b[s.W-1]>>k != 0 {
-		return fmt.Errorf("outcome has bits set beyond qubit %d", s.Qubits-1)
+	if err := s.checkBits(b); err != nil {
+		return err
 	}
 	gi, ok := s.lookup(st)
 	if !ok {
 		return fmt.Errorf("setting %s is not in the plan", st)
 	}
+	return s.AddGroup(gi, b)
+}
+
+// Group returns the index in Groups of setting st, or false for a setting
+// outside the plan.
+func (s *Sums) Group(st pauli.Setting) (int32, bool) { return s.lookup(st) }
+
+// AddGroup adds one shot of the setting Groups[gi] (from [Sums.Group]),
+// as Add does without finding the setting again. It returns an error, and
+// changes nothing, for a shot beyond the plan's count, or an outcome of
+// the wrong length or with bits set beyond the last qubit.
+func (s *Sums) AddGroup(gi int32, b pauli.Bits) error {
+	if err := s.checkBits(b); err != nil {
+		return err
+	}
 	g := s.Groups[gi]
 	if g.T+g.npend >= g.Planned {
-		return fmt.Errorf("more than %d shots of setting %s, the plan's count", g.Planned, st)
+		return fmt.Errorf("more than %d shots of setting %s, the plan's count", g.Planned, g.Setting)
 	}
 	if !g.Seen {
 		g.Seen, g.Off = true, s.nextOff
@@ -283,11 +338,27 @@ func (s *Sums) Add(st pauli.Setting, b pauli.Bits) error {
 		s.Order = append(s.Order, gi)
 		g.pend = make([]uint64, min(g.Planned, batch)*s.W)
 	}
-	copy(g.pend[g.npend*s.W:], b)
+	if s.W == 1 {
+		g.pend[g.npend] = b[0]
+	} else {
+		copy(g.pend[g.npend*s.W:], b)
+	}
 	g.npend++
 	s.Shots++
 	if g.npend == len(g.pend)/s.W {
-		s.flush(g)
+		s.flush(gi, g)
+	}
+	return nil
+}
+
+// checkBits reports an outcome of the wrong length or with bits set
+// beyond the last qubit.
+func (s *Sums) checkBits(b pauli.Bits) error {
+	if len(b) != s.W {
+		return fmt.Errorf("outcome has %d words, want %d for %d qubits", len(b), s.W, s.Qubits)
+	}
+	if k := s.Qubits & 63; k != 0 && b[s.W-1]>>k != 0 {
+		return fmt.Errorf("outcome has bits set beyond qubit %d", s.Qubits-1)
 	}
 	return nil
 }
@@ -319,14 +390,17 @@ func (s *Sums) lookup(st pauli.Setting) (int32, bool) {
 func (s *Sums) Flush() {
 	for _, gi := range s.Order {
 		if g := s.Groups[gi]; g.npend > 0 {
-			s.flush(g)
+			s.flush(gi, g)
 		}
 	}
 }
 
-// flush processes the pending shots of g: counts of −1 samples per term
-// and fold, then every shot's Z in order.
-func (s *Sums) flush(g *Group) {
+// flush processes the pending shots of group gi (g): counts of −1 samples
+// per term and fold, then every shot's Z in order. A shot's Z depends only
+// on its setting and outcome, so the Z of outcomes met before are taken
+// from a fixed-size cache (zCache) instead of summed again: the same
+// value, computed by the same operations in the same order.
+func (s *Sums) flush(gi int32, g *Group) {
 	nb := g.npend
 	w := s.W
 	clear(s.slice)
@@ -351,16 +425,46 @@ func (s *Sums) flush(g *Group) {
 	fm[1] = valid &^ fm[0]
 	c0, c1 := int64(bits.OnesCount64(fm[0])), int64(bits.OnesCount64(fm[1]))
 	z := s.z[:nb]
-	clear(z)
 	rows, gk, gc := s.Lists(g)
+	// miss: the shots whose Z is not in the cache. Caching pays only for
+	// settings of several terms, and only while outcomes repeat.
+	miss := valid
+	cached := !g.noCache && len(gk) >= zCacheMinTerms
+	if cached {
+		s.zc.init(w)
+		for j := range nb {
+			if v, ok := s.zc.get(gi, g.pend[j*w:(j+1)*w]); ok {
+				z[j] = v
+				miss &^= 1 << j
+			}
+		}
+		g.zLook += nb
+		g.zHit += nb - bits.OnesCount64(miss)
+		if g.zLook >= zCacheProbe && g.zHit < g.zLook/4 {
+			g.noCache = true
+		}
+	}
+	// Few misses: add the terms shot by shot for those alone; else for
+	// the whole batch (the same sums for every shot either way).
+	sparse := bits.OnesCount64(miss) <= batch/2 && cached
+	if sparse {
+		for m := miss; m != 0; m &= m - 1 {
+			z[bits.TrailingZeros64(m)] = 0
+		}
+	} else {
+		clear(z)
+	}
 	kept := 0
-	for _, i := range rows {
+	for r, i := range rows {
 		p := uint64(0)
 		for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
 			p ^= s.slice[q]
 		}
 		p &= valid
 		s.Ones[i] += int64(bits.OnesCount64(p))
+		if g.RowOnes != nil {
+			g.RowOnes[r] += int64(bits.OnesCount64(p))
+		}
 		s.FoldOnes[0][i] += int64(bits.OnesCount64(p & fm[0]))
 		s.FoldOnes[1][i] += int64(bits.OnesCount64(p & fm[1]))
 		s.FoldCnt[0][i] += c0
@@ -371,29 +475,114 @@ func (s *Sums) flush(g *Group) {
 			// The sample is 1 − 2·parity: add a·s, that is a or −a (its
 			// sign bit flipped by the parity), exactly what a·(±1) gives.
 			ab := math.Float64bits(a)
+			if sparse {
+				for m := miss; m != 0; m &= m - 1 {
+					j := bits.TrailingZeros64(m)
+					z[j&(batch-1)] += math.Float64frombits(ab ^ (p>>j&1)<<63)
+				}
+				continue
+			}
 			for j := range z {
 				z[j] += math.Float64frombits(ab ^ (p>>j&1)<<63)
 			}
 		}
 	}
-	for j, v := range z {
-		if g.T == 0 {
-			g.Shift = v
+	if cached {
+		for m := miss; m != 0; m &= m - 1 {
+			j := bits.TrailingZeros64(m)
+			s.zc.put(gi, g.pend[j*w:(j+1)*w], z[j])
 		}
-		d := v - g.Shift
-		k := (g.Off + g.T) & 1
-		g.T++
-		g.Sum += d
-		g.SumSq += d * d
-		g.FoldT[k]++
-		g.FoldSum[k] += d
-		g.FoldSq[k] += d * d
-		_ = j
 	}
+	// The running sums, in shot order, kept in locals for the loop (the
+	// same additions in the same order).
+	if g.T == 0 && len(z) > 0 {
+		g.Shift = z[0]
+	}
+	shift, sum, ssq := g.Shift, g.Sum, g.SumSq
+	fs, fq := g.FoldSum, g.FoldSq
+	k := (g.Off + g.T) & 1
+	for _, v := range z {
+		d := v - shift
+		sum += d
+		ssq += d * d
+		g.FoldT[k]++
+		fs[k] += d
+		fq[k] += d * d
+		k ^= 1
+	}
+	g.T += len(z)
+	g.Sum, g.SumSq, g.FoldSum, g.FoldSq = sum, ssq, fs, fq
 	if g.Planned == 1 {
 		g.One = pauli.Bits(g.pend[:w:w])
 	}
 	g.npend = 0
+}
+
+// zCacheMinTerms is the fewest weighted terms for which a setting's Z
+// values are cached; zCacheProbe the lookups after which a setting whose
+// outcomes hit the cache less than a quarter of the time stops asking.
+const (
+	zCacheMinTerms = 8
+	zCacheProbe    = 4096
+)
+
+// zCache maps (group, outcome) to the outcome's Z, direct-mapped: a new
+// entry replaces whatever shared its slot. Its size is fixed (about
+// 1 MB), whatever the number of shots.
+type zCache struct {
+	w    int      // words per outcome
+	mask uint64   // slots − 1
+	g    []int32  // group of the slot's entry, −1 for none
+	key  []uint64 // outcome of the slot's entry, w words
+	val  []float64
+}
+
+func (c *zCache) init(w int) {
+	if c.g != nil {
+		return
+	}
+	slots := 1 << 15
+	for slots > 64 && slots*(8*w+12) > 1<<20 {
+		slots >>= 1
+	}
+	c.w, c.mask = w, uint64(slots-1)
+	c.g = make([]int32, slots)
+	for k := range c.g {
+		c.g[k] = -1
+	}
+	c.key = make([]uint64, slots*w)
+	c.val = make([]float64, slots)
+}
+
+// slot returns the slot of (gi, out).
+func (c *zCache) slot(gi int32, out []uint64) uint64 {
+	h := uint64(gi) * 0x9E3779B97F4A7C15
+	for _, v := range out {
+		h = (h ^ v) * 0xFF51AFD7ED558CCD
+		h ^= h >> 29
+	}
+	return h & c.mask
+}
+
+func (c *zCache) get(gi int32, out []uint64) (float64, bool) {
+	k := c.slot(gi, out)
+	if c.g[k] != gi {
+		return 0, false
+	}
+	key := c.key[int(k)*c.w : int(k+1)*c.w]
+	for i, v := range out {
+		if key[i] != v {
+			return 0, false
+		}
+	}
+	return c.val[k], true
+}
+
+func (c *zCache) put(gi int32, out []uint64, z float64) {
+	k := c.slot(gi, out)
+	c.g[k] = gi
+	copy(c.key[int(k)*c.w:int(k+1)*c.w], out)
+	c.val[k] = z
 }
 
 // Check reports the first setting, in plan order, whose shots added differ
