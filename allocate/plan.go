@@ -122,6 +122,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 	}
 	distinct, total := pauli.MergeSettings(settings, shots)
 	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	xp := xPartsFor(t, distinct)
 	var next atomic.Int64
 	parts := make([][]int, workers)
 	var wg sync.WaitGroup
@@ -133,6 +134,10 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 			}
 			parts[w] = part
 			q := ci.Clone()
+			var xq *xQuery
+			if xp != nil {
+				xq = xp.query()
+			}
 			var idx []int32
 			var rows []int
 			for {
@@ -141,7 +146,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 					return
 				}
 				for j := lo; j < min(lo+coverBlock, len(distinct)); j++ {
-					idx, rows = addCover(part, t, q, distinct[j], total[j], idx, rows)
+					idx, rows = addCover(part, t, q, xq, distinct[j], total[j], idx, rows)
 				}
 			}
 		})
