@@ -73,6 +73,9 @@ type GreedyGC struct {
 	gens     []int32  // ranks of the independent accepted terms
 	offs     []int    // scratch of restrict
 	cand     []int32  // scratch: candidates of a narrowed walk
+	xq       *xQuery  // X-part buckets of the ranks (see startMask)
+	gwords   []uint64 // scratch: the generators' words
+	xbuf     []int32  // scratch of covered
 }
 
 // gcFamily is a setting the walk produced before, with the ranks it covers.
@@ -107,6 +110,11 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		g.key[r] = g.keyOf(r)
 	}
 	g.cache = make(map[string]gcFamily)
+	g.xq = nil
+	if g.rk.n*g.rk.n <= m {
+		// The buckets pay for a query's elimination (see xPartsFor).
+		g.xq = newXParts(g.rk.n, m, g.rk.row).query()
+	}
 	g.initNarrow()
 	return nil
 }
@@ -152,10 +160,27 @@ func (g *GreedyGC) initNarrow() {
 }
 
 // startMask sets mask to the ranks that commute with every generator so
-// far, word by word: a word's generators are applied until it is empty,
-// which for most words takes a few.
+// far. When the generators' span holds enough Z-strings, the X-part buckets
+// find them (xQuery.commuting); otherwise the letter bit sets do, word by
+// word: a word's generators are applied until it is empty.
 func (g *GreedyGC) startMask() {
 	m, words, st := len(g.rk.order), len(g.mask), g.stride
+	if g.xq != nil && len(g.gens) <= 64 {
+		w := g.rk.w
+		g.gwords = g.gwords[:0]
+		for _, r := range g.gens {
+			g.gwords = append(g.gwords, g.rk.words[2*w*int(r):2*w*int(r)+2*w]...)
+		}
+		if g.xq.commuting(g.mask, g.gwords, len(g.gens), g.rk.words) {
+			g.live = g.live[:0]
+			for k, v := range g.mask {
+				if v != 0 {
+					g.live = append(g.live, int32(k))
+				}
+			}
+			return
+		}
+	}
 	g.offs = g.offs[:0]
 	ends := make([]int, 0, len(g.gens))
 	for _, r := range g.gens {
@@ -388,9 +413,23 @@ func (g *GreedyGC) maskRanks() []int {
 // not depend on the number of cores.
 const gcPart = 1 << 14
 
-// covered returns the ranks that s covers, in increasing order.
+// covered returns the ranks that s covers, in increasing order: for an
+// entangled setting through the X-part buckets when they pay, otherwise
+// by a scan.
 func (g *GreedyGC) covered(s pauli.Setting) []int {
 	parts := g.parts
+	if g.xq != nil && !s.IsLocal() {
+		covers := func(r int32) bool { return parts[r/gcPart].CoversRow(int(r%gcPart), s) }
+		var ok bool
+		if g.xbuf, ok = g.xq.appendCovered(g.xbuf[:0], s, covers); ok {
+			slices.Sort(g.xbuf)
+			out := make([]int, len(g.xbuf))
+			for j, r := range g.xbuf {
+				out[j] = int(r)
+			}
+			return out
+		}
+	}
 	workers := min(runtime.GOMAXPROCS(0), len(parts))
 	if workers <= 1 {
 		var out []int

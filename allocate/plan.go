@@ -121,7 +121,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 		return
 	}
 	distinct, total := pauli.MergeSettings(settings, shots)
-	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	ci := localIndexFor(t, distinct)
 	xp := xPartsFor(t, distinct)
 	var next atomic.Int64
 	parts := make([][]int, workers)
@@ -133,7 +133,10 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 				part = make([]int, len(cover))
 			}
 			parts[w] = part
-			q := ci.Clone()
+			var q *coverindex.Index
+			if ci != nil {
+				q = ci.Clone()
+			}
 			var xq *xQuery
 			if xp != nil {
 				xq = xp.query()

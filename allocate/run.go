@@ -344,10 +344,13 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	// Many settings: bucket the terms once so that each setting reads only
 	// the buckets it can cover. The settings are split among cores
 	// (splitCounts), each with its own copy of the index's scratch.
-	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	ci := localIndexFor(t, distinct)
 	xp := xPartsFor(t, distinct)
 	splitCounts(cover, len(distinct), t.Len(), func() func(int, []int) {
-		c := ci.Clone()
+		var c *coverindex.Index
+		if ci != nil {
+			c = ci.Clone()
+		}
 		var xq *xQuery
 		if xp != nil {
 			xq = xp.query()
@@ -360,6 +363,17 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	})
 }
 
+// localIndexFor returns the cover index of t if some of the settings are
+// local, otherwise nil.
+func localIndexFor(t *pauli.Table, settings []pauli.Setting) *coverindex.Index {
+	for _, s := range settings {
+		if s.IsLocal() {
+			return coverindex.New(t.Qubits(), t.Len(), t.Words)
+		}
+	}
+	return nil
+}
+
 // xPartsFor returns the X-part buckets of t if some of the settings are
 // entangled and the buckets pay for a query's elimination (n² ≤ rows),
 // otherwise nil.
@@ -369,7 +383,7 @@ func xPartsFor(t *pauli.Table, settings []pauli.Setting) *xParts {
 	}
 	for _, s := range settings {
 		if !s.IsLocal() {
-			return newXParts(t)
+			return newXParts(t.Qubits(), t.Len(), t.Words)
 		}
 	}
 	return nil
@@ -384,7 +398,8 @@ func addCover(cover []int, t *pauli.Table, ci *coverindex.Index, xq *xQuery, s p
 	if !s.IsLocal() {
 		if xq != nil {
 			var ok bool
-			if idx, ok = xq.appendCovered(idx[:0], t, s); ok {
+			covers := func(r int32) bool { return t.CoversRow(int(r), s) }
+			if idx, ok = xq.appendCovered(idx[:0], s, covers); ok {
 				for _, i := range idx {
 					cover[i] += n
 				}

@@ -29,28 +29,29 @@ import (
 // null space of the n×n matrix with rows a_q, found by Gaussian
 // elimination.
 type xParts struct {
-	n, w  int
-	keys  []uint64 // distinct X parts, bucket b's at keys[b·w:(b+1)·w]
-	start []int32  // bucket b holds rows[start[b]:start[b+1]]
-	rows  []int32  // row indices by bucket, increasing within one
+	n, w   int
+	keys   []uint64 // distinct X parts, bucket b's at keys[b·w:(b+1)·w]
+	start  []int32  // bucket b holds rows[start[b]:start[b+1]]
+	rows   []int32  // row indices by bucket, increasing within one
+	planes []uint64 // bit b%64 of planes[(b/64)·n+q]: bucket b's X part has qubit q
 }
 
 // xChecksMin is the least number of independent Z-strings of a setting's
-// group for which xQuery filters by X part; with fewer, about 2^−k of the
+// group for which the buckets are used; with fewer, about 2^−k of the
 // buckets fail for k of them, too few to beat a plain scan.
 const xChecksMin = 4
 
-// newXParts builds the buckets of t's rows.
-func newXParts(t *pauli.Table) *xParts {
-	n, m := t.Qubits(), t.Len()
+// newXParts builds the buckets of m rows on n qubits; row(i) returns the x
+// and z words of row i (for a [pauli.Table], its Words method).
+func newXParts(n, m int, row func(i int) (x, z []uint64)) *xParts {
 	w := pauli.Words(n)
 	ix := &xParts{n: n, w: w, rows: make([]int32, m)}
 	for i := range ix.rows {
 		ix.rows[i] = int32(i)
 	}
 	slices.SortFunc(ix.rows, func(a, b int32) int {
-		xa, _ := t.Words(int(a))
-		xb, _ := t.Words(int(b))
+		xa, _ := row(int(a))
+		xb, _ := row(int(b))
 		if c := slices.Compare(xa, xb); c != 0 {
 			return c
 		}
@@ -59,7 +60,7 @@ func newXParts(t *pauli.Table) *xParts {
 	ix.start = make([]int32, 0, 1024)
 	var last []uint64
 	for k, r := range ix.rows {
-		x, _ := t.Words(int(r))
+		x, _ := row(int(r))
 		if k == 0 || !slices.Equal(x, last) {
 			ix.start = append(ix.start, int32(k))
 			ix.keys = append(ix.keys, x...)
@@ -67,16 +68,30 @@ func newXParts(t *pauli.Table) *xParts {
 		}
 	}
 	ix.start = append(ix.start, int32(m))
+	nb := len(ix.start) - 1
+	ix.planes = make([]uint64, (nb+63)/64*n)
+	for b := range nb {
+		for i, v := range ix.keys[b*w : b*w+w] {
+			for ; v != 0; v &= v - 1 {
+				q := i<<6 | bits.TrailingZeros64(v)
+				ix.planes[(b>>6)*n+q] |= 1 << (b & 63)
+			}
+		}
+	}
 	return ix
 }
 
 // xQuery is one worker's scratch for queries of an xParts.
 type xQuery struct {
 	ix   *xParts
-	red  []uint64 // elimination rows: a_q then h_q, 2w words each
+	red  []uint64 // elimination rows: 2w words each
+	hs   []uint64 // the checks (Z-strings' z words), w words each
 	zq   []uint64 // scratch: the z words of Z_q
 	zero []uint64
-	tab  []uint64 // syndrome tables, 256 entries per byte of X part
+	tab  []uint64 // byte tables (see byteTables), two sets
+	offs []int32  // the checks' qubits, check after check
+	ends []int    // end of each check's qubits in offs
+	pass []int32  // buckets passing every check
 }
 
 // query returns a scratch space for queries of ix.
@@ -84,17 +99,92 @@ func (ix *xParts) query() *xQuery {
 	return &xQuery{
 		ix:   ix,
 		red:  make([]uint64, 2*ix.w*ix.n),
+		hs:   make([]uint64, ix.w*ix.n),
 		zq:   make([]uint64, ix.w),
 		zero: make([]uint64, ix.w),
-		tab:  make([]uint64, 256*((ix.n+7)/8)),
+		tab:  make([]uint64, 2*256*((ix.n+7)/8)),
 	}
 }
 
-// appendCovered appends to dst the rows of t (the table ix was built from)
-// that the entangled setting s covers, bucket by bucket, and reports true;
-// it reports false, appending nothing, when s's group has fewer than
-// xChecksMin independent Z-strings and a plain scan is the better way.
-func (q *xQuery) appendCovered(dst []int32, t *pauli.Table, s pauli.Setting) ([]int32, bool) {
+// passing sets q.pass to the buckets whose X part is orthogonal to each of
+// the count independent checks at hs[i·stride:] (w words each). The checks
+// are first brought to reduced row echelon form, which spans the same
+// space with fewer qubits per check, and are then applied 64 buckets at a
+// time through the planes, each check's parity being the XOR of the planes
+// of its qubits, until no bucket of the 64 is left.
+func (q *xQuery) passing(hs []uint64, stride, count int) {
+	ix := q.ix
+	n, w := ix.n, ix.w
+	h := q.hs[:count*w]
+	for i := range count {
+		copy(h[i*w:i*w+w], hs[i*stride:i*stride+w])
+	}
+	rank := 0
+	for c := 0; c < n && rank < count; c++ {
+		cw, cb := c>>6, uint64(1)<<(c&63)
+		p := -1
+		for r := rank; r < count; r++ {
+			if h[r*w+cw]&cb != 0 {
+				p = r
+				break
+			}
+		}
+		if p < 0 {
+			continue
+		}
+		for j := range w {
+			h[p*w+j], h[rank*w+j] = h[rank*w+j], h[p*w+j]
+		}
+		for r := range count {
+			if r != rank && h[r*w+cw]&cb != 0 {
+				for j := range w {
+					h[r*w+j] ^= h[rank*w+j]
+				}
+			}
+		}
+		rank++
+	}
+	q.offs, q.ends = q.offs[:0], q.ends[:0]
+	for i := range count {
+		for j, v := range h[i*w : i*w+w] {
+			for ; v != 0; v &= v - 1 {
+				q.offs = append(q.offs, int32(j<<6|bits.TrailingZeros64(v)))
+			}
+		}
+		q.ends = append(q.ends, len(q.offs))
+	}
+	nb := len(ix.start) - 1
+	pass, offs := q.pass[:0], q.offs
+	for k := range (nb + 63) / 64 {
+		alive := ^uint64(0)
+		if r := nb - k<<6; r < 64 {
+			alive = 1<<r - 1
+		}
+		row := ix.planes[k*n : k*n+n]
+		a := 0
+		for _, e := range q.ends {
+			var v uint64
+			for _, o := range offs[a:e] {
+				v ^= row[o]
+			}
+			a = e
+			if alive &^= v; alive == 0 {
+				break
+			}
+		}
+		for ; alive != 0; alive &= alive - 1 {
+			pass = append(pass, int32(k<<6|bits.TrailingZeros64(alive)))
+		}
+	}
+	q.pass = pass
+}
+
+// appendCovered appends to dst the rows that the entangled setting s
+// covers, bucket by bucket, covers(r) being the full test of row r, and
+// reports true; it reports false, appending nothing, when s's group has
+// fewer than xChecksMin independent Z-strings and a plain scan is the
+// better way.
+func (q *xQuery) appendCovered(dst []int32, s pauli.Setting, covers func(r int32) bool) ([]int32, bool) {
 	ix := q.ix
 	n, w := ix.n, ix.w
 	d := s.Diagonalization()
@@ -110,11 +200,66 @@ func (q *xQuery) appendCovered(dst []int32, t *pauli.Table, s pauli.Setting) ([]
 		copy(red[o:o+w], x)
 		red[o+w+(k>>6)] |= 1 << (k & 63)
 	}
+	rank := eliminateX(red, n, w, n)
+	if n-rank < xChecksMin {
+		return dst, false
+	}
+	q.passing(red[2*w*rank+w:], 2*w, n-rank)
+	for _, b := range q.pass {
+		for _, r := range ix.rows[ix.start[b]:ix.start[b+1]] {
+			if covers(r) {
+				dst = append(dst, r)
+			}
+		}
+	}
+	return dst, true
+}
+
+// byteTables fills tab (256 entries per byte of an n-bit vector) so that
+// byteLookup(tab, v) has bit i set to the parity of v·u_i, for the count
+// (at most 64) vectors u_i, u_i at vecs[i·stride:]: entry v of byte c is
+// the XOR of the columns of the bits set in v, built from the entry with
+// one bit fewer.
+func byteTables(tab []uint64, n int, vecs []uint64, stride, count int) {
+	for c := range (n + 7) / 8 {
+		var col [8]uint64
+		for j := range 8 {
+			b := 8*c + j
+			if b >= n {
+				break
+			}
+			for i := range count {
+				col[j] |= (vecs[i*stride+(b>>6)] >> (b & 63) & 1) << i
+			}
+		}
+		tc := tab[256*c : 256*c+256]
+		tc[0] = 0
+		for v := 1; v < 256; v++ {
+			tc[v] = tc[v&(v-1)] ^ col[bits.TrailingZeros(uint(v))]
+		}
+	}
+}
+
+// byteLookup returns the XOR over the nc bytes of v of their entries in tab
+// (see byteTables).
+func byteLookup(tab []uint64, v []uint64, nc int) uint64 {
+	var syn uint64
+	for c := range nc {
+		syn ^= tab[c<<8|int(v[c>>3]>>(8*(c&7))&255)]
+	}
+	return syn
+}
+
+// eliminateX reduces rows rows of red (2w words each: x words, then z
+// words) by Gaussian elimination over GF(2) on the n x columns and returns
+// the rank: rows rank.. are left with zero x words, and, the row operations
+// being invertible, their z words are independent if the rows were.
+func eliminateX(red []uint64, n, w, rows int) int {
 	rank := 0
-	for c := 0; c < n && rank < n; c++ {
+	for c := 0; c < n && rank < rows; c++ {
 		cw, cb := c>>6, uint64(1)<<(c&63)
 		p := -1
-		for r := rank; r < n; r++ {
+		for r := rank; r < rows; r++ {
 			if red[2*w*r+cw]&cb != 0 {
 				p = r
 				break
@@ -127,7 +272,7 @@ func (q *xQuery) appendCovered(dst []int32, t *pauli.Table, s pauli.Setting) ([]
 		for j := range 2 * w {
 			red[po+j], red[ro+j] = red[ro+j], red[po+j]
 		}
-		for r := range n {
+		for r := range rows {
 			if o := 2 * w * r; r != rank && red[o+cw]&cb != 0 {
 				for j := range 2 * w {
 					red[o+j] ^= red[ro+j]
@@ -136,47 +281,51 @@ func (q *xQuery) appendCovered(dst []int32, t *pauli.Table, s pauli.Setting) ([]
 		}
 		rank++
 	}
-	checks := min(n-rank, 64)
+	return rank
+}
+
+// commuting sets mask (bit r for row r, cleared first) to the rows that
+// commute with each of the k ≤ min(n, 64) strings of gens (string i: x
+// words, then z words, at gens[2w·i:]) and reports true. words holds the
+// rows the buckets were built from in the same layout. It reports false,
+// leaving mask alone, if the span of gens holds fewer than xChecksMin
+// independent Z-strings, too few for the buckets to pay.
+//
+// A row commutes with every string of the span if it commutes with gens.
+// For the Z-strings Z^h of the span this depends on the X part x alone
+// (x·h = 0), so a bucket failing one is skipped whole; in a bucket that
+// passes, a row (x, z) commutes with string g when x·z_g = z·x_g, and
+// both sides are taken for all g at once, as k-bit words, from byte tables:
+// the left once per bucket, the right once per row.
+func (q *xQuery) commuting(mask []uint64, gens []uint64, k int, words []uint64) bool {
+	ix := q.ix
+	n, w := ix.n, ix.w
+	if k > 64 || k > n {
+		return false
+	}
+	red := q.red[:2*w*k]
+	copy(red, gens[:2*w*k])
+	rank := eliminateX(red, n, w, k)
+	checks := k - rank
 	if checks < xChecksMin {
-		return dst, false
+		return false
 	}
-	// Syndrome tables: bit i of tab[c·256+v] is the parity of byte c of
-	// an X part equal to v against check i (h of row rank+i).
-	tab := q.tab
-	for c := range (n + 7) / 8 {
-		var col [8]uint64
-		for j := range 8 {
-			b := 8*c + j
-			if b >= n {
-				break
-			}
-			for i := range checks {
-				h := red[2*w*(rank+i)+w:]
-				col[j] |= (h[b>>6] >> (b & 63) & 1) << i
-			}
-		}
-		tc := tab[256*c : 256*c+256]
-		tc[0] = 0
-		for v := 1; v < 256; v++ {
-			tc[v] = tc[v&(v-1)] ^ col[bits.TrailingZeros(uint(v))]
-		}
-	}
+	q.passing(red[2*w*rank+w:], 2*w, checks)
 	nc := (n + 7) / 8
-	keys, start := ix.keys, ix.start
-	for b := range len(start) - 1 {
-		key := keys[b*w : b*w+w]
-		var syn uint64
-		for c := range nc {
-			syn ^= tab[c<<8|int(key[c>>3]>>(8*(c&7))&255)]
-		}
-		if syn != 0 {
-			continue
-		}
-		for _, r := range ix.rows[start[b]:start[b+1]] {
-			if t.CoversRow(int(r), s) {
-				dst = append(dst, r)
+	size := 256 * nc
+	tz, tx := q.tab[:size], q.tab[size:2*size]
+	byteTables(tz, n, gens[w:], 2*w, k) // bit i: x·z_i
+	byteTables(tx, n, gens, 2*w, k)     // bit i: z·x_i
+	clear(mask)
+	keys, start, rows := ix.keys, ix.start, ix.rows
+	for _, b := range q.pass {
+		a := byteLookup(tz, keys[int(b)*w:int(b)*w+w], nc)
+		for _, r := range rows[start[b]:start[b+1]] {
+			o := 2*w*int(r) + w
+			if byteLookup(tx, words[o:o+w], nc) == a {
+				mask[r>>6] |= 1 << (r & 63)
 			}
 		}
 	}
-	return dst, true
+	return true
 }
