@@ -1,6 +1,7 @@
 package allocate
 
 import (
+	"cmp"
 	"encoding/binary"
 	"errors"
 	"math/bits"
@@ -56,7 +57,7 @@ type GreedyGC struct {
 	order []int32        // ranks in walk order
 	key   []float64      // walk key of each rank
 	spare []int32        // scratch of reorder
-	moved []int32
+	moved []keyRank
 	mark  []bool
 	acc   []int32
 	kbuf  []byte
@@ -66,16 +67,16 @@ type GreedyGC struct {
 	slot     []int32  // letter slot of each qubit, −1 if no term touches it
 	lbits    []uint64 // letter bit sets (letterSets), word k of set t at k·stride+t
 	stride   int
-	limit    int      // entries a walk reads before it narrows; −1 never
-	narrowAt int      // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
-	mask     []uint64 // ranks commuting with every generator applied
-	live     []int32  // words of mask that may be nonzero
-	gens     []int32  // ranks of the independent accepted terms
-	offs     []int    // scratch of restrict
-	cand     []int32  // scratch: candidates of a narrowed walk
-	xq       *xQuery  // X-part buckets of the ranks (see startMask)
-	gwords   []uint64 // scratch: the generators' words
-	xbuf     []int32  // scratch of covered
+	limit    int       // entries a walk reads before it narrows; −1 never
+	narrowAt int       // if > 0, narrowAt−1 replaces limit; if < 0, no narrowing (tests)
+	mask     []uint64  // ranks commuting with every generator applied
+	live     []int32   // words of mask that may be nonzero
+	gens     []int32   // ranks of the independent accepted terms
+	offs     []int     // scratch of restrict
+	cand     []keyRank // scratch: candidates of a narrowed walk
+	xq       *xQuery   // X-part buckets of the ranks (see startMask)
+	gwords   []uint64  // scratch: the generators' words
+	xbuf     []int32   // scratch of covered
 }
 
 // gcFamily is a setting the walk produced before, with the ranks it covers.
@@ -375,17 +376,13 @@ func (g *GreedyGC) narrowWalk(p int, accept func(int32) bool) {
 		for w := g.mask[k]; w != 0; w &= w - 1 {
 			r := int32(k)<<6 | int32(bits.TrailingZeros64(w))
 			if g.walkBefore(cur, r) {
-				c = append(c, r)
+				c = append(c, keyRank{g.key[r], r})
 			}
 		}
 	}
-	slices.SortFunc(c, func(a, b int32) int {
-		if g.walkBefore(a, b) {
-			return -1
-		}
-		return 1
-	})
-	for _, r := range c {
+	slices.SortFunc(c, compareWalk)
+	for _, kr := range c {
+		r := kr.r
 		if g.mask[r>>6]>>(r&63)&1 == 0 {
 			continue
 		}
@@ -490,6 +487,24 @@ func (g *GreedyGC) walkBefore(a, b int32) bool {
 	return g.key[a] > g.key[b] || g.key[a] == g.key[b] && a < b
 }
 
+// keyRank is a rank with its walk key, for sorting in walk order without
+// reading the keys of the ranks compared.
+type keyRank struct {
+	k float64
+	r int32
+}
+
+// compareWalk orders as walkBefore does: larger key first, then lower rank.
+func compareWalk(a, b keyRank) int {
+	switch {
+	case a.k > b.k:
+		return -1
+	case a.k < b.k:
+		return 1
+	}
+	return cmp.Compare(a.r, b.r)
+}
+
 // reorder records one more cover of each of the given ranks and restores
 // the walk order: only their keys fell, so the other ranks keep their
 // order, and the covered ones, sorted among themselves, are merged back in
@@ -500,14 +515,9 @@ func (g *GreedyGC) reorder(covers []int) {
 		g.cnt[r]++
 		g.key[r] = g.keyOf(r)
 		g.mark[r] = true
-		g.moved = append(g.moved, int32(r))
+		g.moved = append(g.moved, keyRank{g.key[r], int32(r)})
 	}
-	slices.SortFunc(g.moved, func(a, b int32) int {
-		if g.walkBefore(a, b) {
-			return -1
-		}
-		return 1
-	})
+	slices.SortFunc(g.moved, compareWalk)
 	kept := g.spare[:0]
 	for _, r := range g.order {
 		if !g.mark[r] {
@@ -515,12 +525,22 @@ func (g *GreedyGC) reorder(covers []int) {
 		}
 	}
 	// Each moved rank goes after the kept ranks that precede it, found by
-	// binary search; the runs between are copied whole.
+	// a galloping search from the place of the one before; the runs
+	// between are copied whole.
 	out := g.order[:0]
 	i := 0
-	for _, mv := range g.moved {
-		rest := kept[i:]
-		j := i + sort.Search(len(rest), func(t int) bool { return !g.walkBefore(rest[t], mv) })
+	for _, kr := range g.moved {
+		mv := kr.r
+		// kept[i:lo] precede mv; kept[hi] does not, or hi = len(kept).
+		lo, hi, step := i, i, 1
+		for hi < len(kept) && g.walkBefore(kept[hi], mv) {
+			lo = hi + 1
+			hi = lo + step
+			step <<= 1
+		}
+		hi = min(hi, len(kept))
+		rest := kept[lo:hi]
+		j := lo + sort.Search(len(rest), func(t int) bool { return !g.walkBefore(rest[t], mv) })
 		out = append(out, kept[i:j]...)
 		out = append(out, mv)
 		g.mark[mv] = false
