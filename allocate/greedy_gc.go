@@ -115,6 +115,7 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	if g.rk.n*g.rk.n <= m {
 		// The buckets pay for a query's elimination (see xPartsFor).
 		g.xq = newXParts(g.rk.n, m, g.rk.row).query()
+		g.xq.split = true
 	}
 	g.initNarrow()
 	return nil

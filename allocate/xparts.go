@@ -2,7 +2,9 @@ package allocate
 
 import (
 	"math/bits"
+	"runtime"
 	"slices"
+	"sync"
 
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -92,6 +94,49 @@ type xQuery struct {
 	offs []int32  // the checks' qubits, check after check
 	ends []int    // end of each check's qubits in offs
 	pass []int32  // buckets passing every check
+
+	// split, if true, splits a query's scans among up to GOMAXPROCS
+	// goroutines (for a caller that makes one query at a time), each
+	// with its own list, joined in order: the result does not depend on
+	// the split.
+	split    bool
+	splitMin int // if > 0, replaces xSplitMin (tests)
+	lists    [][]int32
+}
+
+// xSplitMin is the least number of bucket words, or of buckets, that a
+// goroutine of a split scan takes.
+const xSplitMin = 256
+
+// runParts calls fn(p, lo, hi) for the parts p of [0, n), each at least
+// xSplitMin long, on up to GOMAXPROCS goroutines if q.split (one part
+// otherwise), and returns the number of parts, each with its list in
+// q.lists[p] (emptied first).
+func (q *xQuery) runParts(n int, fn func(p, lo, hi int)) int {
+	parts := 1
+	if q.split {
+		least := xSplitMin
+		if q.splitMin > 0 {
+			least = q.splitMin
+		}
+		parts = max(1, min(runtime.GOMAXPROCS(0), n/least))
+	}
+	for len(q.lists) < parts {
+		q.lists = append(q.lists, nil)
+	}
+	for p := range parts {
+		q.lists[p] = q.lists[p][:0]
+	}
+	if parts == 1 {
+		fn(0, 0, n)
+		return 1
+	}
+	var wg sync.WaitGroup
+	for p := range parts {
+		wg.Go(func() { fn(p, n*p/parts, n*(p+1)/parts) })
+	}
+	wg.Wait()
+	return parts
 }
 
 // query returns a scratch space for queries of ix.
@@ -154,29 +199,36 @@ func (q *xQuery) passing(hs []uint64, stride, count int) {
 		q.ends = append(q.ends, len(q.offs))
 	}
 	nb := len(ix.start) - 1
-	pass, offs := q.pass[:0], q.offs
-	for k := range (nb + 63) / 64 {
-		alive := ^uint64(0)
-		if r := nb - k<<6; r < 64 {
-			alive = 1<<r - 1
-		}
-		row := ix.planes[k*n : k*n+n]
-		a := 0
-		for _, e := range q.ends {
-			var v uint64
-			for _, o := range offs[a:e] {
-				v ^= row[o]
+	offs, ends := q.offs, q.ends
+	parts := q.runParts((nb+63)/64, func(p, lo, hi int) {
+		pass := q.lists[p]
+		for k := lo; k < hi; k++ {
+			alive := ^uint64(0)
+			if r := nb - k<<6; r < 64 {
+				alive = 1<<r - 1
 			}
-			a = e
-			if alive &^= v; alive == 0 {
-				break
+			row := ix.planes[k*n : k*n+n]
+			a := 0
+			for _, e := range ends {
+				var v uint64
+				for _, o := range offs[a:e] {
+					v ^= row[o]
+				}
+				a = e
+				if alive &^= v; alive == 0 {
+					break
+				}
+			}
+			for ; alive != 0; alive &= alive - 1 {
+				pass = append(pass, int32(k<<6|bits.TrailingZeros64(alive)))
 			}
 		}
-		for ; alive != 0; alive &= alive - 1 {
-			pass = append(pass, int32(k<<6|bits.TrailingZeros64(alive)))
-		}
+		q.lists[p] = pass
+	})
+	q.pass = q.pass[:0]
+	for _, l := range q.lists[:parts] {
+		q.pass = append(q.pass, l...)
 	}
-	q.pass = pass
 }
 
 // appendCovered appends to dst the rows that the entangled setting s
@@ -317,14 +369,23 @@ func (q *xQuery) commuting(mask []uint64, gens []uint64, k int, words []uint64) 
 	byteTables(tz, n, gens[w:], 2*w, k) // bit i: x·z_i
 	byteTables(tx, n, gens, 2*w, k)     // bit i: z·x_i
 	clear(mask)
-	keys, start, rows := ix.keys, ix.start, ix.rows
-	for _, b := range q.pass {
-		a := byteLookup(tz, keys[int(b)*w:int(b)*w+w], nc)
-		for _, r := range rows[start[b]:start[b+1]] {
-			o := 2*w*int(r) + w
-			if byteLookup(tx, words[o:o+w], nc) == a {
-				mask[r>>6] |= 1 << (r & 63)
+	keys, start, rows, pass := ix.keys, ix.start, ix.rows, q.pass
+	parts := q.runParts(len(pass), func(p, lo, hi int) {
+		found := q.lists[p]
+		for _, b := range pass[lo:hi] {
+			a := byteLookup(tz, keys[int(b)*w:int(b)*w+w], nc)
+			for _, r := range rows[start[b]:start[b+1]] {
+				o := 2*w*int(r) + w
+				if byteLookup(tx, words[o:o+w], nc) == a {
+					found = append(found, r)
+				}
 			}
+		}
+		q.lists[p] = found
+	})
+	for _, l := range q.lists[:parts] {
+		for _, r := range l {
+			mask[r>>6] |= 1 << (r & 63)
 		}
 	}
 	return true

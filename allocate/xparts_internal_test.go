@@ -2,6 +2,7 @@ package allocate
 
 import (
 	"math/rand/v2"
+	"runtime"
 	"slices"
 	"testing"
 
@@ -34,6 +35,10 @@ func TestXPartsCoveredMatchesDefinition(t *testing.T) {
 		}
 		ix := newXParts(n, m, tab.Words)
 		q := ix.query()
+		// Scans split in parts of 4 bucket words or buckets (on up to
+		// GOMAXPROCS goroutines, at least 2 here) must give the same rows.
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(max(2, runtime.GOMAXPROCS(0))))
+		q.split, q.splitMin = n == 70, 4
 		used := 0
 		for range 60 {
 			var fam []pauli.String
@@ -107,6 +112,8 @@ func TestXPartsCommutingMatchesDefinition(t *testing.T) {
 			words = append(append(words, x...), z...)
 		}
 		q := newXParts(n, m, tab.Words).query()
+		defer runtime.GOMAXPROCS(runtime.GOMAXPROCS(max(2, runtime.GOMAXPROCS(0))))
+		q.split, q.splitMin = n == 9, 4 // split scans as in the test above
 		mask := make([]uint64, (m+63)/64)
 		used := 0
 		for range 60 {
