@@ -54,11 +54,14 @@ type GreedyGC struct {
 	rk    *ranked
 	parts []*pauli.Table // terms in rank order, gcPart ranks a table
 	cnt   []int          // N per rank
-	order []int32        // ranks in walk order
+	order []int32        // ranks in walk order, but for those in ovf (see reorder)
 	key   []float64      // walk key of each rank
-	spare []int32        // scratch of reorder
+	spare []int32        // scratch of rebuild
 	moved []keyRank
-	mark  []bool
+	ovf   []keyRank // ranks moved since the last rebuild, in walk order
+	ovf2  []keyRank // scratch of reorder
+	mark  []bool    // scratch of reorder
+	out   []bool    // ranks in ovf rather than order
 	acc   []int32
 	kbuf  []byte
 	cache map[string]gcFamily
@@ -105,6 +108,8 @@ func (g *GreedyGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	g.key = make([]float64, m)
 	g.spare = make([]int32, 0, m)
 	g.mark = make([]bool, m)
+	g.out = make([]bool, m)
+	g.ovf = g.ovf[:0]
 	for r := range m {
 		// Rank order: |h| descending, all uncovered, so already walk order.
 		g.order[r] = int32(r)
@@ -320,7 +325,24 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	// ranks, reads only those (narrowWalk); the count is taken again
 	// whenever a generator was added.
 	counted := -1
-	for p, r := range g.order {
+	main, ovf := g.order, g.ovf
+	i, j := 0, 0
+	for p := 0; ; p++ {
+		// The next rank in walk order: the earlier of the heads of
+		// order (skipping ranks moved to ovf) and ovf.
+		for i < len(main) && g.out[main[i]] {
+			i++
+		}
+		var r int32
+		if i < len(main) && (j == len(ovf) || g.walkBefore(main[i], ovf[j].r)) {
+			r = main[i]
+			i++
+		} else if j < len(ovf) {
+			r = ovf[j].r
+			j++
+		} else {
+			break
+		}
 		if accept(r) {
 			break
 		}
@@ -331,7 +353,7 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 			}
 			counted = len(g.gens)
 			if g.maskCount() <= candMax {
-				g.narrowWalk(p, accept)
+				g.narrowWalk(r, accept)
 				break
 			}
 		}
@@ -367,11 +389,10 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	return f.s, nil
 }
 
-// narrowWalk continues a walk that has read positions 0..p among the
-// ranks left in mask, the only ones it can still accept: those not
-// accepted yet, in walk order.
-func (g *GreedyGC) narrowWalk(p int, accept func(int32) bool) {
-	cur := g.order[p]
+// narrowWalk continues a walk that has read the ranks up to cur among the
+// ranks left in mask, the only ones it can still accept: those after cur
+// in walk order.
+func (g *GreedyGC) narrowWalk(cur int32, accept func(int32) bool) {
 	c := g.cand[:0]
 	for _, k := range g.live {
 		for w := g.mask[k]; w != 0; w &= w - 1 {
@@ -506,31 +527,64 @@ func compareWalk(a, b keyRank) int {
 	return cmp.Compare(a.r, b.r)
 }
 
+// ovfShare sets when the moved ranks are merged back into the main walk
+// order: once they are more than 1/ovfShare of the ranks.
+const ovfShare = 16
+
 // reorder records one more cover of each of the given ranks and restores
-// the walk order: only their keys fell, so the other ranks keep their
-// order, and the covered ones, sorted among themselves, are merged back in
-// one pass, O(M + C log C) for C covered ranks.
+// the walk order. Only their keys fell, so the other ranks keep their
+// order. The moved ranks, sorted among themselves, are merged into ovf, a
+// second list in walk order of the ranks moved since the last rebuild
+// (dropping their earlier entries there), and leave the main order, where
+// the walk skips them: O(L + C log C) for C covered ranks and L in ovf.
+// When ovf grows past 1/ovfShare of the ranks, rebuild merges it back, in
+// O(M).
 func (g *GreedyGC) reorder(covers []int) {
 	g.moved = g.moved[:0]
 	for _, r := range covers {
 		g.cnt[r]++
 		g.key[r] = g.keyOf(r)
 		g.mark[r] = true
+		g.out[r] = true
 		g.moved = append(g.moved, keyRank{g.key[r], int32(r)})
 	}
 	slices.SortFunc(g.moved, compareWalk)
+	merged := g.ovf2[:0]
+	i := 0
+	for _, e := range g.ovf {
+		if g.mark[e.r] {
+			continue // moved again: its entry is in moved
+		}
+		for i < len(g.moved) && compareWalk(g.moved[i], e) < 0 {
+			merged = append(merged, g.moved[i])
+			i++
+		}
+		merged = append(merged, e)
+	}
+	merged = append(merged, g.moved[i:]...)
+	g.ovf, g.ovf2 = merged, g.ovf
+	for _, r := range covers {
+		g.mark[r] = false
+	}
+	if len(g.ovf)*ovfShare > len(g.order) {
+		g.rebuild()
+	}
+}
+
+// rebuild merges ovf back into the main walk order: the ranks left in it,
+// with each of ovf's placed after those that precede it, found by a
+// galloping search from the place of the one before; the runs between are
+// copied whole.
+func (g *GreedyGC) rebuild() {
 	kept := g.spare[:0]
 	for _, r := range g.order {
-		if !g.mark[r] {
+		if !g.out[r] {
 			kept = append(kept, r)
 		}
 	}
-	// Each moved rank goes after the kept ranks that precede it, found by
-	// a galloping search from the place of the one before; the runs
-	// between are copied whole.
 	out := g.order[:0]
 	i := 0
-	for _, kr := range g.moved {
+	for _, kr := range g.ovf {
 		mv := kr.r
 		// kept[i:lo] precede mv; kept[hi] does not, or hi = len(kept).
 		lo, hi, step := i, i, 1
@@ -544,9 +598,10 @@ func (g *GreedyGC) reorder(covers []int) {
 		j := lo + sort.Search(len(rest), func(t int) bool { return !g.walkBefore(rest[t], mv) })
 		out = append(out, kept[i:j]...)
 		out = append(out, mv)
-		g.mark[mv] = false
+		g.out[mv] = false
 		i = j
 	}
 	out = append(out, kept[i:]...)
 	g.order, g.spare = out, kept
+	g.ovf = g.ovf[:0]
 }
