@@ -33,20 +33,29 @@ import (
 //
 // The terms are kept in walk order; a round tests them in that order
 // against a reduced basis of at most n accepted vectors. A walk that has
-// read max(4096, M/16) entries narrows: from letter bit sets of the terms
-// (as [Greedy] keeps them) it forms, word-wise, the set of terms that
+// read max(4096, M/16) entries narrows: it forms the set of terms that
 // commute with every accepted term — the only ones it can still accept —
 // and once that set holds at most 8192 terms it reads only those, in walk
-// order, shrinking the set with every new independent term. When the
-// accepted terms reach rank n they span a maximal commuting subspace, its
-// own commutant, so that set is also the set of terms the setting covers
-// and no coverage scan is needed. The covered terms then move back into
-// the order at their new weights, each placed by binary search and the
-// runs between copied whole, instead of sorting all terms again. A family
-// seen before is looked up by its accepted terms; a new one costs one
-// [pauli.Diagonalize] and, unless the walk narrowed to full rank, one
-// coverage scan of the terms, split in parts of 2^14 terms among
-// GOMAXPROCS cores (the same result on any number).
+// order, shrinking the set with every new independent term. The set is
+// formed through the terms grouped by X part (see xParts): the Z-strings
+// in the span of the accepted terms rule out whole groups by their X part,
+// 64 groups at a time, and the terms of the groups left are tested with
+// two table lookups per term; if the span holds fewer than 4 independent
+// Z-strings, from letter bit sets of the terms (as [Greedy] keeps them),
+// word-wise. When the accepted terms reach rank n they span a maximal
+// commuting subspace, its own commutant, so that set is also the set of
+// terms the setting covers and no coverage scan is needed. The covered
+// terms then leave the walk order for a second, short list in walk order
+// at their new weights, which the walk merges as it reads; the two are
+// joined when the short list exceeds M/16 terms, each of its terms placed
+// by a galloping search and the runs between copied whole. A family seen
+// before is looked up by its accepted terms; a new one costs one
+// [pauli.Diagonalize] and, unless the walk narrowed to full rank, the
+// coverage of its setting: through the groups by X part when the
+// setting's group holds at least 4 independent Z-strings, otherwise a
+// scan of the terms split in parts of 2^14 terms. The scans of groups
+// and terms are split among GOMAXPROCS cores, with the same result on any
+// number.
 //
 // GreedyGC is deterministic. It implements [Batcher] and [Counter]. The zero
 // value is ready to use.

@@ -60,7 +60,8 @@ type Progress struct {
 //
 // Run does not take a strategy's word for its results: the cover counts of
 // a [Counter] are checked against a count of its own (through the shared
-// cover index), and every term a [TermDrawer] reports must be a term of h
+// cover index for local settings, and for entangled ones through the terms
+// grouped by X part, each covered term tested in full), and every term a [TermDrawer] reports must be a term of h
 // that the setting of its shot covers; a disagreement is an [ErrStrategy]
 // naming the strategy and the term or shot.
 //

@@ -1,6 +1,7 @@
 package allocate
 
 import (
+	"cmp"
 	"math/bits"
 	"runtime"
 	"slices"
@@ -51,14 +52,36 @@ func newXParts(n, m int, row func(i int) (x, z []uint64)) *xParts {
 	for i := range ix.rows {
 		ix.rows[i] = int32(i)
 	}
-	slices.SortFunc(ix.rows, func(a, b int32) int {
-		xa, _ := row(int(a))
-		xb, _ := row(int(b))
-		if c := slices.Compare(xa, xb); c != 0 {
-			return c
+	if w == 1 {
+		// One word: sort (X part, row) pairs, with no call per comparison.
+		type keyRow struct {
+			x uint64
+			r int32
 		}
-		return int(a - b)
-	})
+		kr := make([]keyRow, m)
+		for i := range kr {
+			x, _ := row(i)
+			kr[i] = keyRow{x[0], int32(i)}
+		}
+		slices.SortFunc(kr, func(a, b keyRow) int {
+			if c := cmp.Compare(a.x, b.x); c != 0 {
+				return c
+			}
+			return cmp.Compare(a.r, b.r)
+		})
+		for i, e := range kr {
+			ix.rows[i] = e.r
+		}
+	} else {
+		slices.SortFunc(ix.rows, func(a, b int32) int {
+			xa, _ := row(int(a))
+			xb, _ := row(int(b))
+			if c := slices.Compare(xa, xb); c != 0 {
+				return c
+			}
+			return cmp.Compare(a, b)
+		})
+	}
 	ix.start = make([]int32, 0, 1024)
 	var last []uint64
 	for k, r := range ix.rows {
