@@ -37,6 +37,7 @@ type xParts struct {
 	start  []int32  // bucket b holds rows[start[b]:start[b+1]]
 	rows   []int32  // row indices by bucket, increasing within one
 	planes []uint64 // bit b%64 of planes[(b/64)·n+q]: bucket b's X part has qubit q
+	zs     []uint64 // one word (n ≤ 64): z word of rows[k] at zs[k]
 }
 
 // xChecksMin is the least number of independent Z-strings of a setting's
@@ -93,6 +94,13 @@ func newXParts(n, m int, row func(i int) (x, z []uint64)) *xParts {
 		}
 	}
 	ix.start = append(ix.start, int32(m))
+	if w == 1 {
+		ix.zs = make([]uint64, m)
+		for k, r := range ix.rows {
+			_, z := row(int(r))
+			ix.zs[k] = z[0]
+		}
+	}
 	nb := len(ix.start) - 1
 	ix.planes = make([]uint64, (nb+63)/64*n)
 	for b := range nb {
@@ -112,6 +120,7 @@ type xQuery struct {
 	red  []uint64 // elimination rows: 2w words each
 	hs   []uint64 // the checks (Z-strings' z words), w words each
 	zq   []uint64 // scratch: the z words of Z_q
+	img  []uint64 // one word: x word of U X_q U† at img[q], of U Z_q U† at img[n+q]
 	zero []uint64
 	tab  []uint64 // byte tables (see byteTables), two sets
 	offs []int32  // the checks' qubits, check after check
@@ -169,6 +178,7 @@ func (ix *xParts) query() *xQuery {
 		red:  make([]uint64, 2*ix.w*ix.n),
 		hs:   make([]uint64, ix.w*ix.n),
 		zq:   make([]uint64, ix.w),
+		img:  make([]uint64, 2*ix.n),
 		zero: make([]uint64, ix.w),
 		tab:  make([]uint64, 2*256*((ix.n+7)/8)),
 	}
@@ -255,8 +265,10 @@ func (q *xQuery) passing(hs []uint64, stride, count int) {
 }
 
 // appendCovered appends to dst the rows that the entangled setting s
-// covers, bucket by bucket, covers(r) being the full test of row r, and
-// reports true; it reports false, appending nothing, when s's group has
+// covers, bucket by bucket, and reports true. The rows of the buckets that
+// pass are tested in full: for n ≤ 64 through the images of X_q and Z_q
+// under the setting's circuit (see below), otherwise by covers(r). It
+// reports false, appending nothing, when s's group has
 // fewer than xChecksMin independent Z-strings and a plain scan is the
 // better way.
 func (q *xQuery) appendCovered(dst []int32, s pauli.Setting, covers func(r int32) bool) ([]int32, bool) {
@@ -274,20 +286,72 @@ func (q *xQuery) appendCovered(dst []int32, s pauli.Setting, covers func(r int32
 		x, _ := img.Words()
 		copy(red[o:o+w], x)
 		red[o+w+(k>>6)] |= 1 << (k & 63)
+		if w == 1 {
+			q.img[n+k] = x[0]
+			img, _ = d.Conjugate(pauli.FromWords(n, q.zq, q.zero))
+			x, _ = img.Words()
+			q.img[k] = x[0]
+		}
 	}
 	rank := eliminateX(red, n, w, n)
 	if n-rank < xChecksMin {
 		return dst, false
 	}
 	q.passing(red[2*w*rank+w:], 2*w, n-rank)
+	if w > 1 {
+		for _, b := range q.pass {
+			for _, r := range ix.rows[ix.start[b]:ix.start[b+1]] {
+				if covers(r) {
+					dst = append(dst, r)
+				}
+			}
+		}
+		return dst, true
+	}
+	// One word: the X part of U P U† for P = (x, z) is the XOR of those
+	// of U X_q U† over x's qubits and of U Z_q U† over z's, zero exactly
+	// when P is covered; the first half is taken once per bucket, the
+	// second once per row, both from byte tables.
+	nc := (n + 7) / 8
+	size := 256 * nc
+	tx, tz := q.tab[:size], q.tab[size:2*size]
+	mapTables(tx, n, q.img[:n])
+	mapTables(tz, n, q.img[n:])
+	keys, start, rows, zs := ix.keys, ix.start, ix.rows, ix.zs
 	for _, b := range q.pass {
-		for _, r := range ix.rows[ix.start[b]:ix.start[b+1]] {
-			if covers(r) {
-				dst = append(dst, r)
+		a := lookup1(tx, keys[b], nc)
+		for k := start[b]; k < start[b+1]; k++ {
+			if lookup1(tz, zs[k], nc) == a {
+				dst = append(dst, rows[k])
 			}
 		}
 	}
 	return dst, true
+}
+
+// mapTables fills tab (256 entries per byte of an n-bit word, n ≤ 64) so
+// that lookup1(tab, v) is the XOR of img[q] over the bits q set in v.
+func mapTables(tab []uint64, n int, img []uint64) {
+	for c := range (n + 7) / 8 {
+		var col [8]uint64
+		for j := range min(8, n-8*c) {
+			col[j] = img[8*c+j]
+		}
+		tc := tab[256*c : 256*c+256]
+		tc[0] = 0
+		for v := 1; v < 256; v++ {
+			tc[v] = tc[v&(v-1)] ^ col[bits.TrailingZeros(uint(v))]
+		}
+	}
+}
+
+// lookup1 is byteLookup for one-word vectors.
+func lookup1(tab []uint64, v uint64, nc int) uint64 {
+	var out uint64
+	for c := range nc {
+		out ^= tab[c<<8|int(v>>(8*c)&255)]
+	}
+	return out
 }
 
 // byteTables fills tab (256 entries per byte of an n-bit vector) so that
@@ -397,6 +461,14 @@ func (q *xQuery) commuting(mask []uint64, gens []uint64, k int, words []uint64) 
 		found := q.lists[p]
 		for _, b := range pass[lo:hi] {
 			a := byteLookup(tz, keys[int(b)*w:int(b)*w+w], nc)
+			if w == 1 {
+				for k := start[b]; k < start[b+1]; k++ {
+					if lookup1(tx, ix.zs[k], nc) == a {
+						found = append(found, rows[k])
+					}
+				}
+				continue
+			}
 			for _, r := range rows[start[b]:start[b+1]] {
 				o := 2*w*int(r) + w
 				if byteLookup(tx, words[o:o+w], nc) == a {
