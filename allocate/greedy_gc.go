@@ -387,9 +387,21 @@ func (g *GreedyGC) round() (pauli.Setting, error) {
 	}
 	f, ok := g.cache[string(g.kbuf)]
 	if !ok {
-		fam := make([]pauli.String, len(g.acc))
-		for j, r := range g.acc {
-			fam[j] = g.parts[int(r)/gcPart].At(int(r) % gcPart)
+		// The setting depends only on the family's independent
+		// generators, each the first member (in rank order) that is not
+		// a product of earlier ones; those alone are passed.
+		ind := newCommutingGroups(rk.w)
+		var fam []pauli.String
+		for _, r := range g.acc {
+			x, z := rk.row(int(r))
+			before := 0
+			if ind.len() > 0 {
+				before = ind.rank(0)
+			}
+			ind.add(0, x, z)
+			if ind.rank(0) > before {
+				fam = append(fam, g.parts[int(r)/gcPart].At(int(r)%gcPart))
+			}
 		}
 		s, err := pauli.NewFamilySetting(fam)
 		if err != nil {
