@@ -121,7 +121,8 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 		return
 	}
 	distinct, total := pauli.MergeSettings(settings, shots)
-	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	ci := localIndexFor(t, distinct)
+	xp := xPartsFor(t, distinct)
 	var next atomic.Int64
 	parts := make([][]int, workers)
 	var wg sync.WaitGroup
@@ -132,7 +133,14 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 				part = make([]int, len(cover))
 			}
 			parts[w] = part
-			q := ci.Clone()
+			var q *coverindex.Index
+			if ci != nil {
+				q = ci.Clone()
+			}
+			var xq *xQuery
+			if xp != nil {
+				xq = xp.query()
+			}
 			var idx []int32
 			var rows []int
 			for {
@@ -141,7 +149,7 @@ func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots 
 					return
 				}
 				for j := lo; j < min(lo+coverBlock, len(distinct)); j++ {
-					idx, rows = addCover(part, t, q, distinct[j], total[j], idx, rows)
+					idx, rows = addCover(part, t, q, xq, distinct[j], total[j], idx, rows)
 				}
 			}
 		})

@@ -60,7 +60,8 @@ type Progress struct {
 //
 // Run does not take a strategy's word for its results: the cover counts of
 // a [Counter] are checked against a count of its own (through the shared
-// cover index), and every term a [TermDrawer] reports must be a term of h
+// cover index for local settings, and for entangled ones through the terms
+// grouped by X part, each covered term tested in full), and every term a [TermDrawer] reports must be a term of h
 // that the setting of its shot covers; a disagreement is an [ErrStrategy]
 // naming the strategy and the term or shot.
 //
@@ -344,23 +345,68 @@ func countCover(cover []int, t *pauli.Table, settings []pauli.Setting, shots []i
 	// Many settings: bucket the terms once so that each setting reads only
 	// the buckets it can cover. The settings are split among cores
 	// (splitCounts), each with its own copy of the index's scratch.
-	ci := coverindex.New(t.Qubits(), t.Len(), t.Words)
+	ci := localIndexFor(t, distinct)
+	xp := xPartsFor(t, distinct)
 	splitCounts(cover, len(distinct), t.Len(), func() func(int, []int) {
-		c := ci.Clone()
+		var c *coverindex.Index
+		if ci != nil {
+			c = ci.Clone()
+		}
+		var xq *xQuery
+		if xp != nil {
+			xq = xp.query()
+		}
 		var idx []int32
 		var rows []int
 		return func(j int, dst []int) {
-			idx, rows = addCover(dst, t, c, distinct[j], total[j], idx, rows)
+			idx, rows = addCover(dst, t, c, xq, distinct[j], total[j], idx, rows)
 		}
 	})
 }
 
+// localIndexFor returns the cover index of t if some of the settings are
+// local, otherwise nil.
+func localIndexFor(t *pauli.Table, settings []pauli.Setting) *coverindex.Index {
+	for _, s := range settings {
+		if s.IsLocal() {
+			return coverindex.New(t.Qubits(), t.Len(), t.Words)
+		}
+	}
+	return nil
+}
+
+// xPartsFor returns the X-part buckets of t if some of the settings are
+// entangled and the buckets pay for a query's elimination (n² ≤ rows),
+// otherwise nil.
+func xPartsFor(t *pauli.Table, settings []pauli.Setting) *xParts {
+	if n := t.Qubits(); n*n > t.Len() {
+		return nil
+	}
+	for _, s := range settings {
+		if !s.IsLocal() {
+			return newXParts(t.Qubits(), t.Len(), t.Words)
+		}
+	}
+	return nil
+}
+
 // addCover adds n to cover[i] for every row i of t that setting s covers,
-// through the cover index ci for a local setting (an entangled one has no
-// letters to bucket by and is tested row by row). idx and rows are scratch
-// space, returned for reuse.
-func addCover(cover []int, t *pauli.Table, ci *coverindex.Index, s pauli.Setting, n int, idx []int32, rows []int) ([]int32, []int) {
+// through the cover index ci for a local setting. An entangled one has no
+// letters to bucket by: it goes through the X-part buckets of xq if not nil
+// (see xParts), otherwise row by row. idx and rows are scratch space,
+// returned for reuse.
+func addCover(cover []int, t *pauli.Table, ci *coverindex.Index, xq *xQuery, s pauli.Setting, n int, idx []int32, rows []int) ([]int32, []int) {
 	if !s.IsLocal() {
+		if xq != nil {
+			var ok bool
+			covers := func(r int32) bool { return t.CoversRow(int(r), s) }
+			if idx, ok = xq.appendCovered(idx[:0], s, covers); ok {
+				for _, i := range idx {
+					cover[i] += n
+				}
+				return idx, rows
+			}
+		}
 		rows = t.Covered(rows[:0], s)
 		for _, i := range rows {
 			cover[i] += n
