@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/inputcap"
@@ -160,113 +161,27 @@ func checkProxyWidth(px Proxy, n int) error {
 	return nil
 }
 
-// overlapGroups returns the distinct settings of the overlapping groups
-// (see [Overlap]) and every term's home: the group sorted insertion put it
-// in, an index into the settings.
-func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
-	rk := newRanked(h)
-	n, w, m := rk.n, rk.w, len(rk.order)
-	// fits reports whether the term with words x, z agrees with the
-	// letters gx, gz on the qubits gm where both act.
-	fits := func(x, z, gx, gz, gm []uint64) bool {
-		for k := range w {
-			if ((x[k]^gx[k])|(z[k]^gz[k]))&(x[k]|z[k])&gm[k] != 0 {
-				return false
-			}
-		}
-		return true
-	}
-	// Sorted insertion: first fit in rank order.
-	var gx, gz, gm []uint64
-	homeRank := make([]int, m)
-	groups := 0
-	for r := range m {
-		x, z := rk.row(r)
-		g := 0
-		for ; g < groups; g++ {
-			if fits(x, z, gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]) {
-				break
-			}
-		}
-		if g == groups {
-			gx = append(gx, make([]uint64, w)...)
-			gz = append(gz, make([]uint64, w)...)
-			gm = append(gm, make([]uint64, w)...)
-			groups++
-		}
-		for k := range w {
-			gx[g*w+k] |= x[k]
-			gz[g*w+k] |= z[k]
-			gm[g*w+k] |= x[k] | z[k]
-		}
-		homeRank[r] = g
-	}
-	// Extension: every term, in rank order, that fits a group's letters
-	// so far joins it.
-	for g := range groups {
-		ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
-		for r := range m {
-			x, z := rk.row(r)
-			if !fits(x, z, ex, ez, em) {
-				continue
-			}
-			for k := range w {
-				ex[k] |= x[k]
-				ez[k] |= z[k]
-				em[k] |= x[k] | z[k]
-			}
-		}
-	}
-	fx, fz := letterBits(fill)
-	index := make(map[string]int)
-	of := make([]int, groups)
-	var out []pauli.Setting
-	for g := range groups {
-		x, z := make([]uint64, w), make([]uint64, w)
-		for k := range w {
-			free := rk.all[k] &^ gm[g*w+k]
-			x[k] = gx[g*w+k] | free&fx
-			z[k] = gz[g*w+k] | free&fz
-		}
-		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
-		if err != nil {
-			panic("allocate: overlap built an invalid setting") // letters are X, Y or Z on every qubit
-		}
-		key := st.Key()
-		j, ok := index[key]
-		if !ok {
-			j = len(out)
-			index[key] = j
-			out = append(out, st)
-		}
-		of[g] = j
-	}
-	home := make([]int, m)
-	for r, i := range rk.order {
-		home[i] = of[homeRank[r]]
-	}
-	return out, home
-}
-
-// memberRef places a term in a group: group g, position k among its terms.
-type memberRef struct{ g, k int32 }
-
-// splitModel holds the overlapping groups' terms, their weights α and the
-// covariance model of [Overlap] (MATH.md §2.5).
+// splitModel holds the cover pairs of the overlapping groups, their
+// weights α and the covariance model of [Overlap] (MATH.md §2.5). The pairs
+// are stored term-major in blocks ([refBlock]), 12 bytes each; with a
+// proxy, in one block, with every group's pairs listed in term order.
 type splitModel struct {
-	abs     []float64     // |h_i|
-	members [][]int       // the terms group g covers, in table order
-	alpha   [][]float64   // alpha[g][k] is α of term members[g][k] in group g
-	refs    [][]memberRef // refs[i] are the groups that cover term i
-	// The worst-case model (cov == nil): load[g] = Σ_k |h_i| α_{ig}, and
+	abs    []float64 // |h_i|
+	blocks []refBlock
+	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
-	// The proxy's model: cov[g] is the k_g × k_g matrix A_g, row-major,
-	// with Var(O_g) = α_gᵀ A_g α_g, and y[g] = A_g α_g.
+	// The proxy's model: gpair[g] are the pairs of group g (indices into
+	// blocks[0]) in term order and pos[e] the place of pair e there; cov[g]
+	// is the k_g × k_g matrix A_g, row-major, with Var(O_g) = α_gᵀ A_g α_g,
+	// and y[g] = A_g α_g.
+	gpair  [][]int32
+	pos    []int32
 	cov, y [][]float64
 	// Scratch of the per-term solve.
 	d, e, a []float64
-	idx     []int
+	idx     []int32
+	simplex simplexScratch
 }
 
 // newSplitModel finds the terms of every group and builds the model. The
@@ -274,29 +189,18 @@ type splitModel struct {
 // coefficient in its home group.
 func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*splitModel, error) {
 	tab := h.Table()
-	md := &splitModel{
-		abs:     make([]float64, h.Len()),
-		members: make([][]int, len(settings)),
-		alpha:   make([][]float64, len(settings)),
-		refs:    make([][]memberRef, h.Len()),
-	}
+	md := &splitModel{abs: make([]float64, h.Len())}
 	for i, c := range h.Coeffs() {
 		md.abs[i] = math.Abs(c)
 	}
-	entries := 0
-	for g, st := range settings {
-		md.members[g] = tab.Covered(nil, st)
-		k := len(md.members[g])
-		entries += k * k
-		md.alpha[g] = make([]float64, k)
-		for j, i := range md.members[g] {
-			md.refs[i] = append(md.refs[i], memberRef{int32(g), int32(j)})
-		}
-	}
-	for g, terms := range md.members {
-		for j, i := range terms {
-			if home[i] == g {
-				md.alpha[g][j] = 1
+	md.blocks = coverBlocks(h, settings, overlapBlockTerms)
+	for b := range md.blocks {
+		bl := &md.blocks[b]
+		for t := range len(bl.off) - 1 {
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if int(bl.grp[e]) == home[bl.lo+t] {
+					bl.alpha[e] = 1
+				}
 			}
 		}
 	}
@@ -305,8 +209,44 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		md.refresh()
 		return md, nil
 	}
+	count := make([]int, len(settings))
+	for _, bl := range md.blocks {
+		for _, g := range bl.grp {
+			count[g]++
+		}
+	}
+	entries := 0
+	for _, k := range count {
+		entries += k * k
+	}
 	if entries > maxSplitEntries {
 		return nil, fmt.Errorf("the proxy's covariances of the %d groups need %d numbers, more than the limit %d; plan without a proxy (the worst-case model)", len(settings), entries, maxSplitEntries)
+	}
+	// One block, and every group's pairs in term order.
+	one := refBlock{off: []int32{0}}
+	for _, bl := range md.blocks {
+		base := int32(len(one.grp))
+		for _, o := range bl.off[1:] {
+			one.off = append(one.off, base+o)
+		}
+		one.grp = append(one.grp, bl.grp...)
+		one.alpha = append(one.alpha, bl.alpha...)
+	}
+	md.blocks = []refBlock{one}
+	md.gpair = make([][]int32, len(settings))
+	md.pos = make([]int32, len(one.grp))
+	members := make([][]int, len(settings)) // the terms of group g, in table order
+	for g, k := range count {
+		md.gpair[g] = make([]int32, 0, k)
+		members[g] = make([]int, 0, k)
+	}
+	for i := range len(one.off) - 1 {
+		for e := one.off[i]; e < one.off[i+1]; e++ {
+			g := one.grp[e]
+			md.pos[e] = int32(len(md.gpair[g]))
+			md.gpair[g] = append(md.gpair[g], e)
+			members[g] = append(members[g], i)
+		}
 	}
 	// ⟨P_i P_j⟩ for two strings a local setting covers: they agree where
 	// both act, so the product has the phase +1 and the words x_i ⊕ x_j,
@@ -331,7 +271,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	} else {
 		mean = make([]float64, h.Len())
 		for i := range mean {
-			if len(md.refs[i]) > 0 {
+			if one.off[i+1] > one.off[i] {
 				e, err := expect(h.Pauli(i))
 				if err != nil {
 					return nil, err
@@ -347,7 +287,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	md.cov = make([][]float64, len(settings))
 	md.y = make([][]float64, len(settings))
 	var gm []float64 // the group's ⟨P_i⟩
-	for g, terms := range md.members {
+	for g, terms := range members {
 		k := len(terms)
 		a := make([]float64, k*k)
 		var f []float64
@@ -398,23 +338,36 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	return md, nil
 }
 
-// refresh recomputes load or y from the weights.
+// groups returns the number of groups.
+func (md *splitModel) groups() int {
+	if md.cov == nil {
+		return len(md.load)
+	}
+	return len(md.cov)
+}
+
+// refresh recomputes load or y from the weights. The loads add the terms
+// in table order, term-major.
 func (md *splitModel) refresh() {
-	for g, terms := range md.members {
-		al := md.alpha[g]
-		if md.cov == nil {
-			s := 0.0
-			for j, i := range terms {
-				s += md.abs[i] * al[j]
+	if md.cov == nil {
+		clear(md.load)
+		for _, bl := range md.blocks {
+			for t := range len(bl.off) - 1 {
+				a := md.abs[bl.lo+t]
+				for e := bl.off[t]; e < bl.off[t+1]; e++ {
+					md.load[bl.grp[e]] += a * bl.alpha[e]
+				}
 			}
-			md.load[g] = s
-			continue
 		}
-		k, a, y := len(terms), md.cov[g], md.y[g]
+		return
+	}
+	alpha := md.blocks[0].alpha
+	for g, pairs := range md.gpair {
+		k, a, y := len(pairs), md.cov[g], md.y[g]
 		for r := range k {
 			s := 0.0
 			for c, v := range a[r*k : (r+1)*k] {
-				s += v * al[c]
+				s += v * alpha[pairs[c]]
 			}
 			y[r] = s
 		}
@@ -426,9 +379,10 @@ func (md *splitModel) variance(g int) float64 {
 	if md.cov == nil {
 		return md.load[g] * md.load[g]
 	}
+	alpha := md.blocks[0].alpha
 	s := 0.0
-	for j, v := range md.alpha[g] {
-		s += v * md.y[g][j]
+	for j, e := range md.gpair[g] {
+		s += alpha[e] * md.y[g][j]
 	}
 	return max(s, 0)
 }
@@ -467,7 +421,7 @@ func (md *splitModel) objective(f []float64) float64 {
 // optimise alternates shares and weights (MATH.md §2.5) for at most
 // rounds rounds and returns the fractions f_g.
 func (md *splitModel) optimise(rounds int) []float64 {
-	f := make([]float64, len(md.members))
+	f := make([]float64, md.groups())
 	prev := md.shares(f)
 	for range rounds {
 		md.sweep(f)
@@ -481,26 +435,33 @@ func (md *splitModel) optimise(rounds int) []float64 {
 }
 
 // optimiseSplit optimises the weights for fixed fractions f, of which
-// some may be zero: those groups get no weight.
+// some may be zero: those groups get no weight. In the worst-case model
+// their pairs are then dropped, as nothing reads them any more.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
-	for _, refs := range md.refs {
-		sum, act := 0.0, 0
-		for _, r := range refs {
-			if f[r.g] > 0 {
-				sum += md.alpha[r.g][r.k]
-				act++
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := bl.off[t], bl.off[t+1]
+			sum, act := 0.0, 0
+			for e := lo; e < hi; e++ {
+				if f[bl.grp[e]] > 0 {
+					sum += bl.alpha[e]
+					act++
+				}
+			}
+			for e := lo; e < hi; e++ {
+				switch {
+				case f[bl.grp[e]] == 0:
+					bl.alpha[e] = 0
+				case sum > 0:
+					bl.alpha[e] /= sum
+				default:
+					bl.alpha[e] = 1 / float64(act)
+				}
 			}
 		}
-		for _, r := range refs {
-			switch {
-			case f[r.g] == 0:
-				md.alpha[r.g][r.k] = 0
-			case sum > 0:
-				md.alpha[r.g][r.k] /= sum
-			default:
-				md.alpha[r.g][r.k] = 1 / float64(act)
-			}
-		}
+	}
+	if md.cov == nil {
+		md.dropUnmeasured(f)
 	}
 	md.refresh()
 	prev := md.objective(f)
@@ -514,52 +475,84 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	}
 }
 
+// dropUnmeasured removes the pairs of the groups with f_g = 0 (weight 0),
+// copying every block into storage of its new size.
+func (md *splitModel) dropUnmeasured(f []float64) {
+	for b := range md.blocks {
+		bl := &md.blocks[b]
+		keep := 0
+		for _, g := range bl.grp {
+			if f[g] > 0 {
+				keep++
+			}
+		}
+		nb := refBlock{lo: bl.lo, off: make([]int32, 1, len(bl.off)), grp: make([]int32, 0, keep), alpha: make([]float64, 0, keep)}
+		for t := range len(bl.off) - 1 {
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if f[bl.grp[e]] > 0 {
+					nb.grp = append(nb.grp, bl.grp[e])
+					nb.alpha = append(nb.alpha, bl.alpha[e])
+				}
+			}
+			nb.off = append(nb.off, int32(len(nb.grp)))
+		}
+		*bl = nb
+	}
+}
+
 // sweep replaces, term by term, the weights of every term covered by two
 // or more groups with f_g > 0 by their exact minimiser with the other
 // terms' weights fixed: with d_g = A_{g,ii}/f_g and
 // e_g = (A_g α_g − A_{g,ii} α_{ig})_i / f_g, minimise Σ_g d_g α_g² + 2 e_g α_g
-// over α ≥ 0, Σ α = 1 (MATH.md §2.5).
+// over α ≥ 0, Σ α = 1 (MATH.md §2.5). It reads each cover pair a fixed
+// number of times and allocates nothing once its scratch has grown.
 func (md *splitModel) sweep(f []float64) {
 	md.refresh()
-	for i, refs := range md.refs {
-		if len(refs) < 2 {
-			continue
-		}
-		md.d, md.e, md.a, md.idx = md.d[:0], md.e[:0], md.a[:0], md.idx[:0]
-		for j, r := range refs {
-			fg := f[r.g]
-			if fg == 0 {
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := bl.off[t], bl.off[t+1]
+			if hi-lo < 2 {
 				continue
 			}
-			al := md.alpha[r.g][r.k]
-			var a, b float64
-			if md.cov == nil {
-				a = md.abs[i] * md.abs[i]
-				b = md.abs[i] * (md.load[r.g] - md.abs[i]*al)
-			} else {
-				k := len(md.members[r.g])
-				a = md.cov[r.g][int(r.k)*k+int(r.k)]
-				b = md.y[r.g][r.k] - a*al
+			i := bl.lo + t
+			abs := md.abs[i]
+			md.d, md.e, md.idx = md.d[:0], md.e[:0], md.idx[:0]
+			for e := lo; e < hi; e++ {
+				g := bl.grp[e]
+				fg := f[g]
+				if fg == 0 {
+					continue
+				}
+				al := bl.alpha[e]
+				var a, b float64
+				if md.cov == nil {
+					a = abs * abs
+					b = abs * (md.load[g] - abs*al)
+				} else {
+					k, p := len(md.gpair[g]), int(md.pos[e])
+					a = md.cov[g][p*k+p]
+					b = md.y[g][p] - a*al
+				}
+				md.d = append(md.d, a/fg)
+				md.e = append(md.e, b/fg)
+				md.idx = append(md.idx, e)
 			}
-			md.d = append(md.d, a/fg)
-			md.e = append(md.e, b/fg)
-			md.idx = append(md.idx, j)
-		}
-		if len(md.idx) < 2 {
-			continue
-		}
-		md.a = append(md.a, make([]float64, len(md.idx))...)
-		simplexMin(md.d, md.e, md.a)
-		if !finiteWeights(md.a) {
-			// Only for terms whose coefficient is near zero (1e-16 and
-			// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
-			// is then so far below e_g ∝ |h_i| that μ − e_g is lost to
-			// rounding. Their weights keep the values they had, which
-			// matter to nothing but that term.
-			continue
-		}
-		for t, j := range md.idx {
-			md.set(i, refs[j], md.a[t])
+			if len(md.idx) < 2 {
+				continue
+			}
+			md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
+			md.simplex.solve(md.d, md.e, md.a)
+			if !finiteWeights(md.a) {
+				// Only for terms whose coefficient is near zero (1e-16 and
+				// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
+				// is then so far below e_g ∝ |h_i| that μ − e_g is lost to
+				// rounding. Their weights keep the values they had, which
+				// matter to nothing but that term.
+				continue
+			}
+			for s, e := range md.idx {
+				md.set(i, bl, e, md.a[s])
+			}
 		}
 	}
 }
@@ -574,22 +567,23 @@ func finiteWeights(a []float64) bool {
 	return true
 }
 
-// set changes α of term i in group r.g to v and updates load or y.
-func (md *splitModel) set(i int, r memberRef, v float64) {
-	al := &md.alpha[r.g][r.k]
+// set changes α of term i at pair e of bl to v and updates load or y.
+func (md *splitModel) set(i int, bl refBlock, e int32, v float64) {
+	al := &bl.alpha[e]
 	dv := v - *al
 	if dv == 0 {
 		return
 	}
 	*al = v
+	g := bl.grp[e]
 	if md.cov == nil {
-		md.load[r.g] += md.abs[i] * dv
+		md.load[g] += md.abs[i] * dv
 		return
 	}
-	k := len(md.members[r.g])
-	a, y := md.cov[r.g], md.y[r.g]
+	k, p := len(md.gpair[g]), int(md.pos[e])
+	a, y := md.cov[g], md.y[g]
 	for row := range k {
-		y[row] += dv * a[row*k+int(r.k)]
+		y[row] += dv * a[row*k+p]
 	}
 }
 
@@ -604,27 +598,47 @@ func (md *splitModel) set(i int, r memberRef, v float64) {
 // does not raise μ (μ' ≤ μ exactly when e_j ≥ μ), so a dropped j stays out,
 // the active j end with e_j < μ, the dropped with e_j ≥ μ: the KKT point.
 // The j with the smallest e_j is never dropped (alone it gives
-// μ = d_j + e_j > e_j). Each pass is O(k), and there are at most k.
+// μ = d_j + e_j > e_j). The first pass is O(k); each later one reads only
+// the j still active, kept in a list in increasing order so that the sums
+// are those of a pass over every j.
 func simplexMin(d, e, out []float64) {
-	for j := range out {
-		out[j] = 1 // 1: active, 0: dropped
+	var s simplexScratch
+	s.solve(d, e, out)
+}
+
+// simplexScratch holds the reusable storage of [simplexMin].
+type simplexScratch struct {
+	inv, ed []float64 // 1/d_j, e_j/d_j
+	act     []int32   // the active j, increasing
+}
+
+// solve is [simplexMin] with s's storage.
+func (s *simplexScratch) solve(d, e, out []float64) {
+	k := len(d)
+	s.inv = slices.Grow(s.inv[:0], k)[:k]
+	s.ed = slices.Grow(s.ed[:0], k)[:k]
+	s.act = s.act[:0]
+	for j := range k {
+		s.inv[j] = 1 / d[j]
+		s.ed[j] = e[j] / d[j]
+		s.act = append(s.act, int32(j))
 	}
 	mu := 0.0
 	for {
 		s1, s2 := 0.0, 0.0
-		for j, a := range out {
-			if a != 0 {
-				s1 += 1 / d[j]
-				s2 += e[j] / d[j]
-			}
+		for _, j := range s.act {
+			s1 += s.inv[j]
+			s2 += s.ed[j]
 		}
 		mu = (1 + s2) / s1
-		dropped := false
-		for j, a := range out {
-			if a != 0 && e[j] >= mu {
-				out[j], dropped = 0, true
+		keep := s.act[:0]
+		for _, j := range s.act {
+			if !(e[j] >= mu) {
+				keep = append(keep, j)
 			}
 		}
+		dropped := len(keep) < len(s.act)
+		s.act = keep
 		if !dropped {
 			break
 		}
@@ -664,32 +678,51 @@ func roundShares(budget int, f []float64) []int {
 // or more of them cover, with its weights there (those with α > 0),
 // normalised to add up to one.
 func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
-	sum := make([]float64, len(md.refs))
-	split := make([]bool, len(md.refs))
-	for i, refs := range md.refs {
-		act := 0
-		for _, r := range refs {
-			if shots[r.g] > 0 {
-				act++
-				sum[i] += md.alpha[r.g][r.k]
+	sum := make([]float64, len(md.abs))
+	split := make([]bool, len(md.abs))
+	count := make([]int, len(settings))
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			i, act := bl.lo+t, 0
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if shots[bl.grp[e]] > 0 {
+					act++
+					sum[i] += bl.alpha[e]
+				}
+			}
+			split[i] = act >= 2 && sum[i] > 0
+			if !split[i] {
+				continue
+			}
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if shots[bl.grp[e]] > 0 && bl.alpha[e] > 0 {
+					count[bl.grp[e]]++
+				}
 			}
 		}
-		split[i] = act >= 2 && sum[i] > 0
 	}
+	at := make([]int, len(settings)) // group g's place in the split, or −1
 	var out hamiltonian.Split
-	for g, terms := range md.members {
-		if shots[g] == 0 {
-			continue
+	for g, k := range count {
+		at[g] = -1
+		if k > 0 {
+			at[g] = len(out)
+			out = append(out, hamiltonian.SplitGroup{Setting: settings[g], Terms: make([]int, 0, k), Weights: make([]float64, 0, k)})
 		}
-		gr := hamiltonian.SplitGroup{Setting: settings[g]}
-		for j, i := range terms {
-			if v := md.alpha[g][j]; split[i] && v > 0 {
-				gr.Terms = append(gr.Terms, i)
-				gr.Weights = append(gr.Weights, v/sum[i])
+	}
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			i := bl.lo + t
+			if !split[i] {
+				continue
 			}
-		}
-		if len(gr.Terms) > 0 {
-			out = append(out, gr)
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if v := bl.alpha[e]; shots[bl.grp[e]] > 0 && v > 0 {
+					gr := &out[at[bl.grp[e]]]
+					gr.Terms = append(gr.Terms, i)
+					gr.Weights = append(gr.Weights, v/sum[i])
+				}
+			}
 		}
 	}
 	return out
