@@ -129,9 +129,9 @@ type refMemberRef struct{ g, k int32 }
 // refSplitModel holds the overlapping groups' terms, their weights α and the
 // covariance model of [Overlap] (MATH.md §2.5).
 type refSplitModel struct {
-	abs     []float64     // |h_i|
-	members [][]int       // the terms group g covers, in table order
-	alpha   [][]float64   // alpha[g][k] is α of term members[g][k] in group g
+	abs     []float64        // |h_i|
+	members [][]int          // the terms group g covers, in table order
+	alpha   [][]float64      // alpha[g][k] is α of term members[g][k] in group g
 	refs    [][]refMemberRef // refs[i] are the groups that cover term i
 	// The worst-case model (cov == nil): load[g] = Σ_k |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
@@ -569,7 +569,6 @@ func (md *refSplitModel) splitOf(settings []pauli.Setting, shots []int) hamilton
 	}
 	return out
 }
-
 
 // RefOverlapPlan exposes the reference to the external tests.
 var RefOverlapPlan = refOverlapPlan
