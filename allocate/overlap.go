@@ -643,13 +643,22 @@ func (s *simplexScratch) solve(d, e, out []float64) {
 			break
 		}
 	}
+	// x_j = max(0, (μ − e_j)/d_j), without the division where it is
+	// exactly 0 (μ − e_j ≤ 0 over a positive finite d_j), which is most j
+	// of a term in many groups; likewise 0/Σ = 0 for a positive Σ.
 	sum := 0.0
 	for j := range out {
+		if mu-e[j] <= 0 && d[j] > 0 && d[j] <= math.MaxFloat64 {
+			out[j] = 0
+			continue
+		}
 		out[j] = max(0, (mu-e[j])/d[j])
 		sum += out[j]
 	}
 	for j := range out {
-		out[j] /= sum
+		if out[j] != 0 || !(sum > 0) {
+			out[j] /= sum
+		}
 	}
 }
 

@@ -3,6 +3,7 @@ package allocate
 import (
 	"math/bits"
 	"runtime"
+	"slices"
 	"sync"
 	"sync/atomic"
 
@@ -213,9 +214,10 @@ const overlapBlockTerms = 1024
 // coverBlocks returns the cover pairs of every term of h against the
 // local settings, in blocks of blockTerms terms. A setting covers a term
 // when it has the term's letter on each of its qubits: the intersection
-// of the term's letter sets of the settings, 64 settings a word, read
-// word by word until the intersection is empty. The blocks are filled by
-// GOMAXPROCS goroutines, each its own.
+// of the term's letter sets of the settings, 64 settings a word. Only the
+// words where the sparsest of the term's sets is not empty are read, each
+// until the intersection is. The blocks are filled by GOMAXPROCS
+// goroutines, each its own.
 func coverBlocks(h *hamiltonian.Hamiltonian, settings []pauli.Setting, blockTerms int) []refBlock {
 	n, m := h.Qubits(), h.Len()
 	words := (len(settings) + 63) / 64
@@ -224,48 +226,74 @@ func coverBlocks(h *hamiltonian.Hamiltonian, settings []pauli.Setting, blockTerm
 		x, z := st.Words()
 		for q := range n {
 			if c := letterIndex(x, z, q); c >= 0 {
-				sets[(3*int32(q)+c)*int32(words)+int32(g/64)] |= 1 << (g % 64)
+				sets[(3*q+int(c))*words+g/64] |= 1 << (g % 64)
 			}
 		}
+	}
+	// nonEmpty[c] lists the words of set c that are not empty.
+	nonEmpty := make([][]int32, 3*n)
+	for c := range nonEmpty {
+		for j, v := range sets[c*words : (c+1)*words] {
+			if v != 0 {
+				nonEmpty[c] = append(nonEmpty[c], int32(j))
+			}
+		}
+	}
+	last := ^uint64(0) // the settings of the last word
+	if len(settings)%64 != 0 {
+		last = 1<<(len(settings)%64) - 1
 	}
 	tab := h.Table()
 	blocks := make([]refBlock, (m+blockTerms-1)/blockTerms)
 	parallelChunks(len(blocks), 1, func(lo, hi int) {
 		var codes []int32
+		var buf []int32
 		for b := lo; b < hi; b++ {
 			bl := &blocks[b]
 			bl.lo = b * blockTerms
 			end := min(bl.lo+blockTerms, m)
 			bl.off = make([]int32, 1, end-bl.lo+1)
+			buf = buf[:0]
 			for i := bl.lo; i < end; i++ {
 				x, z := tab.Words(i)
 				codes = codes[:0]
+				sparsest := -1
 				for q := range supportOf(x, z) {
-					codes = append(codes, (int32(3*q)+letterIndex(x, z, q))*int32(words))
-				}
-				nz := 0
-				for k, c := range codes {
-					if c/int32(words)%3 != 1 {
-						codes[nz], codes[k] = codes[k], codes[nz]
-						nz++
+					c := 3*q + int(letterIndex(x, z, q))
+					if sparsest < 0 || len(nonEmpty[c]) < len(nonEmpty[codes[sparsest]/int32(words)]) {
+						sparsest = len(codes)
 					}
+					codes = append(codes, int32(c*words))
 				}
-				for j := range int32(words) {
-					v := ^uint64(0)
-					for _, c := range codes {
+				if sparsest < 0 {
+					// The identity: every setting covers it.
+					for j := range words {
+						v := ^uint64(0)
+						if j == words-1 {
+							v = last
+						}
+						for ; v != 0; v &= v - 1 {
+							buf = append(buf, int32(j*64+bits.TrailingZeros64(v)))
+						}
+					}
+					bl.off = append(bl.off, int32(len(buf)))
+					continue
+				}
+				codes[0], codes[sparsest] = codes[sparsest], codes[0]
+				for _, j := range nonEmpty[codes[0]/int32(words)] {
+					v := sets[codes[0]+j]
+					for _, c := range codes[1:] {
 						if v &= sets[c+j]; v == 0 {
 							break
 						}
 					}
-					if j == int32(words)-1 && len(settings)%64 != 0 {
-						v &= 1<<(len(settings)%64) - 1
-					}
 					for ; v != 0; v &= v - 1 {
-						bl.grp = append(bl.grp, j*64+int32(bits.TrailingZeros64(v)))
+						buf = append(buf, j*64+int32(bits.TrailingZeros64(v)))
 					}
 				}
-				bl.off = append(bl.off, int32(len(bl.grp)))
+				bl.off = append(bl.off, int32(len(buf)))
 			}
+			bl.grp = slices.Clone(buf)
 			bl.alpha = make([]float64, len(bl.grp))
 		}
 	})

@@ -314,5 +314,5 @@ func TestOverlapStateProxyPaths(t *testing.T) {
 // on the 20-qubit molecular fixture (14 250 terms), the worst-case model:
 // grouping costs O(G·M·n/64) and each round O(Σ_g k_g).
 func BenchmarkOverlap(b *testing.B) {
-	benchMoleculePlan(b, func() allocate.Allocator { return &allocate.Overlap{} }, benchSettings, 10)
+	benchMoleculePlan(b, func() allocate.Allocator { return &allocate.Overlap{} }, benchSettings)
 }
