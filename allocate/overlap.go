@@ -162,12 +162,25 @@ func checkProxyWidth(px Proxy, n int) error {
 }
 
 // splitModel holds the cover pairs of the overlapping groups, their
-// weights α and the covariance model of [Overlap] (MATH.md §2.5). The pairs
-// are stored term-major in blocks ([refBlock]), 12 bytes each; with a
-// proxy, in one block, with every group's pairs listed in term order.
+// weights α and the covariance model of [Overlap] (MATH.md §2.5).
+//
+// In the worst-case model the pairs of all groups are not stored: while
+// every group may get shots ([splitModel.optimise]), the weights are kept
+// sparse, only those that are not zero, and each sweep has the groups
+// that cover a term computed afresh from the groups' letter sets
+// ([coverSets.each]). Once the shots are rounded, the pairs of the groups
+// with shots are stored term-major in blocks ([refBlock]), 12 bytes each.
+// With a proxy every pair is stored, in one block, with every group's
+// pairs listed in term order.
 type splitModel struct {
-	abs    []float64 // |h_i|
-	blocks []refBlock
+	h        *hamiltonian.Hamiltonian
+	settings []pauli.Setting
+	abs      []float64 // |h_i|
+	blocks   []refBlock
+	// The sparse weights of the worst-case model before the shots are
+	// rounded, and the letter sets of all groups; nil after.
+	sp *sparseAlpha
+	cs *coverSets
 	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
@@ -179,9 +192,17 @@ type splitModel struct {
 	pos    []int32
 	cov, y [][]float64
 	// Scratch of the per-term solve.
-	d, e, a []float64
-	idx     []int32
-	simplex simplexScratch
+	d, e, a, old []float64
+	idx          []int32
+	simplex      simplexScratch
+}
+
+// sparseAlpha holds the weights α_{ig} that are not zero, term-major: term
+// i's at off[i] to off[i+1]−1, groups increasing.
+type sparseAlpha struct {
+	off []int
+	grp []int32
+	val []float64
 }
 
 // newSplitModel finds the terms of every group and builds the model. The
@@ -189,11 +210,23 @@ type splitModel struct {
 // coefficient in its home group.
 func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*splitModel, error) {
 	tab := h.Table()
-	md := &splitModel{abs: make([]float64, h.Len())}
+	md := &splitModel{h: h, settings: settings, abs: make([]float64, h.Len())}
 	for i, c := range h.Coeffs() {
 		md.abs[i] = math.Abs(c)
 	}
-	md.blocks = coverBlocks(h, settings, overlapBlockTerms)
+	if px == nil {
+		md.cs = newCoverSets(h, settings, nil)
+		md.sp = &sparseAlpha{off: make([]int, h.Len()+1), grp: make([]int32, h.Len()), val: make([]float64, h.Len())}
+		for i, g := range home {
+			md.sp.off[i+1] = i + 1
+			md.sp.grp[i] = int32(g)
+			md.sp.val[i] = 1
+		}
+		md.load = make([]float64, len(settings))
+		md.refresh()
+		return md, nil
+	}
+	md.blocks = newCoverSets(h, settings, nil).blocks(overlapBlockTerms)
 	for b := range md.blocks {
 		bl := &md.blocks[b]
 		for t := range len(bl.off) - 1 {
@@ -203,11 +236,6 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 				}
 			}
 		}
-	}
-	if px == nil {
-		md.load = make([]float64, len(settings))
-		md.refresh()
-		return md, nil
 	}
 	count := make([]int, len(settings))
 	for _, bl := range md.blocks {
@@ -349,6 +377,15 @@ func (md *splitModel) groups() int {
 // refresh recomputes load or y from the weights. The loads add the terms
 // in table order, term-major.
 func (md *splitModel) refresh() {
+	if sp := md.sp; sp != nil {
+		clear(md.load)
+		for i, a := range md.abs {
+			for e := sp.off[i]; e < sp.off[i+1]; e++ {
+				md.load[sp.grp[e]] += a * sp.val[e]
+			}
+		}
+		return
+	}
 	if md.cov == nil {
 		clear(md.load)
 		for _, bl := range md.blocks {
@@ -436,8 +473,11 @@ func (md *splitModel) optimise(rounds int) []float64 {
 
 // optimiseSplit optimises the weights for fixed fractions f, of which
 // some may be zero: those groups get no weight. In the worst-case model
-// their pairs are then dropped, as nothing reads them any more.
+// only the pairs of the other groups are stored from here on.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
+	if md.sp != nil {
+		md.storeMeasured(f)
+	}
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
 			lo, hi := bl.off[t], bl.off[t+1]
@@ -460,9 +500,6 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 			}
 		}
 	}
-	if md.cov == nil {
-		md.dropUnmeasured(f)
-	}
 	md.refresh()
 	prev := md.objective(f)
 	for range rounds {
@@ -475,29 +512,112 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	}
 }
 
-// dropUnmeasured removes the pairs of the groups with f_g = 0 (weight 0),
-// copying every block into storage of its new size.
-func (md *splitModel) dropUnmeasured(f []float64) {
-	for b := range md.blocks {
-		bl := &md.blocks[b]
-		keep := 0
-		for _, g := range bl.grp {
-			if f[g] > 0 {
-				keep++
-			}
+// storeMeasured replaces the sparse weights by the stored pairs of the
+// groups with f_g > 0, the only ones read from here on.
+func (md *splitModel) storeMeasured(f []float64) {
+	var glob []int32
+	var sub []pauli.Setting
+	for g, fg := range f {
+		if fg > 0 {
+			glob = append(glob, int32(g))
+			sub = append(sub, md.settings[g])
 		}
-		nb := refBlock{lo: bl.lo, off: make([]int32, 1, len(bl.off)), grp: make([]int32, 0, keep), alpha: make([]float64, 0, keep)}
+	}
+	md.blocks = newCoverSets(md.h, sub, glob).blocks(overlapBlockTerms)
+	sp := md.sp
+	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
+			i := bl.lo + t
+			s, end := sp.off[i], sp.off[i+1]
 			for e := bl.off[t]; e < bl.off[t+1]; e++ {
-				if f[bl.grp[e]] > 0 {
-					nb.grp = append(nb.grp, bl.grp[e])
-					nb.alpha = append(nb.alpha, bl.alpha[e])
+				g := bl.grp[e]
+				for s < end && sp.grp[s] < g {
+					s++
+				}
+				if s < end && sp.grp[s] == g {
+					bl.alpha[e] = sp.val[s]
 				}
 			}
-			nb.off = append(nb.off, int32(len(nb.grp)))
 		}
-		*bl = nb
 	}
+	md.sp, md.cs = nil, nil
+}
+
+// sweepSparse is [splitModel.sweep] on the sparse weights: the groups that
+// cover each term come from the letter sets, and the term's weights that
+// are not zero afterwards make the next sparse weights.
+func (md *splitModel) sweepSparse(f []float64) {
+	md.refresh()
+	sp := md.sp
+	nsp := &sparseAlpha{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
+	md.cs.each(func(i int, cov []int32) {
+		lo, hi := sp.off[i], sp.off[i+1]
+		keep := func() {
+			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
+			nsp.val = append(nsp.val, sp.val[lo:hi]...)
+			nsp.off = append(nsp.off, len(nsp.grp))
+		}
+		if len(cov) < 2 {
+			keep()
+			return
+		}
+		abs := md.abs[i]
+		md.d, md.e, md.old, md.idx = md.d[:0], md.e[:0], md.old[:0], md.idx[:0]
+		s := lo
+		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			al := 0.0
+			if s < hi && sp.grp[s] == g {
+				al = sp.val[s]
+			}
+			fg := f[g]
+			if fg == 0 {
+				continue
+			}
+			a := abs * abs
+			b := abs * (md.load[g] - abs*al)
+			md.d = append(md.d, a/fg)
+			md.e = append(md.e, b/fg)
+			md.old = append(md.old, al)
+			md.idx = append(md.idx, int32(j))
+		}
+		if len(md.idx) < 2 {
+			keep()
+			return
+		}
+		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
+		md.simplex.solve(md.d, md.e, md.a)
+		if !finiteWeights(md.a) {
+			keep() // see sweep
+			return
+		}
+		for t, j := range md.idx {
+			if dv := md.a[t] - md.old[t]; dv != 0 {
+				md.load[cov[j]] += abs * dv
+			}
+		}
+		t, s := 0, lo
+		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			var v float64
+			if t < len(md.idx) && int(md.idx[t]) == j {
+				v = md.a[t]
+				t++
+			} else if s < hi && sp.grp[s] == g {
+				v = sp.val[s]
+			}
+			if v != 0 {
+				nsp.grp = append(nsp.grp, g)
+				nsp.val = append(nsp.val, v)
+			}
+		}
+		nsp.off = append(nsp.off, len(nsp.grp))
+	})
+	md.sp = nsp
 }
 
 // sweep replaces, term by term, the weights of every term covered by two
@@ -507,6 +627,10 @@ func (md *splitModel) dropUnmeasured(f []float64) {
 // over α ≥ 0, Σ α = 1 (MATH.md §2.5). It reads each cover pair a fixed
 // number of times and allocates nothing once its scratch has grown.
 func (md *splitModel) sweep(f []float64) {
+	if md.sp != nil {
+		md.sweepSparse(f)
+		return
+	}
 	md.refresh()
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {

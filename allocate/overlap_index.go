@@ -211,43 +211,104 @@ type refBlock struct {
 // overlapBlockTerms is the number of terms per [refBlock].
 const overlapBlockTerms = 1024
 
-// coverBlocks returns the cover pairs of every term of h against the
-// local settings, in blocks of blockTerms terms. A setting covers a term
-// when it has the term's letter on each of its qubits: the intersection
-// of the term's letter sets of the settings, 64 settings a word. Only the
-// words where the sparsest of the term's sets is not empty are read, each
-// until the intersection is. The blocks are filled by GOMAXPROCS
-// goroutines, each its own.
-func coverBlocks(h *hamiltonian.Hamiltonian, settings []pauli.Setting, blockTerms int) []refBlock {
-	n, m := h.Qubits(), h.Len()
-	words := (len(settings) + 63) / 64
-	sets := make([]uint64, 3*n*words) // set 3q+l at (3q+l)·words
+// coverSets is the transpose of a list of local settings: for every qubit
+// q and letter code l, the set of the settings with that letter on q, 64
+// settings a word. A setting covers a term when it has the term's letter
+// on each of its qubits, so the settings that cover a term are the
+// intersection of the term's sets. Only the words where the sparsest of
+// the term's sets is not empty are read, each until the intersection is.
+type coverSets struct {
+	tab      *pauli.Table
+	n, words int
+	sets     []uint64  // set 3q+l at (3q+l)·words
+	nonEmpty [][]int32 // the words of each set that are not empty
+	last     uint64    // the settings of the last word
+	glob     []int32   // the caller's number of each setting, nil for its place
+}
+
+// newCoverSets builds the sets of the settings for the terms of h; glob,
+// if not nil and increasing, renumbers the settings in the answers.
+func newCoverSets(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []int32) *coverSets {
+	n := h.Qubits()
+	cs := &coverSets{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0), glob: glob}
+	cs.sets = make([]uint64, 3*n*cs.words)
 	for g, st := range settings {
 		x, z := st.Words()
 		for q := range n {
 			if c := letterIndex(x, z, q); c >= 0 {
-				sets[(3*q+int(c))*words+g/64] |= 1 << (g % 64)
+				cs.sets[(3*q+int(c))*cs.words+g/64] |= 1 << (g % 64)
 			}
 		}
 	}
-	// nonEmpty[c] lists the words of set c that are not empty.
-	nonEmpty := make([][]int32, 3*n)
-	for c := range nonEmpty {
-		for j, v := range sets[c*words : (c+1)*words] {
+	cs.nonEmpty = make([][]int32, 3*n)
+	for c := range cs.nonEmpty {
+		for j, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
 			if v != 0 {
-				nonEmpty[c] = append(nonEmpty[c], int32(j))
+				cs.nonEmpty[c] = append(cs.nonEmpty[c], int32(j))
 			}
 		}
 	}
-	last := ^uint64(0) // the settings of the last word
 	if len(settings)%64 != 0 {
-		last = 1<<(len(settings)%64) - 1
+		cs.last = 1<<(len(settings)%64) - 1
 	}
-	tab := h.Table()
+	return cs
+}
+
+// appendCovering appends to dst the settings that cover term i, in
+// increasing order; codes is scratch.
+func (cs *coverSets) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
+	x, z := cs.tab.Words(i)
+	words := cs.words
+	codes = codes[:0]
+	sparsest := -1
+	for q := range supportOf(x, z) {
+		c := 3*q + int(letterIndex(x, z, q))
+		if sparsest < 0 || len(cs.nonEmpty[c]) < len(cs.nonEmpty[codes[sparsest]/int32(words)]) {
+			sparsest = len(codes)
+		}
+		codes = append(codes, int32(c*words))
+	}
+	start := len(dst)
+	if sparsest < 0 {
+		// The identity: every setting covers it.
+		for j := range words {
+			v := ^uint64(0)
+			if j == words-1 {
+				v = cs.last
+			}
+			for ; v != 0; v &= v - 1 {
+				dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
+			}
+		}
+	} else {
+		codes[0], codes[sparsest] = codes[sparsest], codes[0]
+		for _, j := range cs.nonEmpty[codes[0]/int32(words)] {
+			v := cs.sets[codes[0]+j]
+			for _, c := range codes[1:] {
+				if v &= cs.sets[c+j]; v == 0 {
+					break
+				}
+			}
+			for ; v != 0; v &= v - 1 {
+				dst = append(dst, j*64+int32(bits.TrailingZeros64(v)))
+			}
+		}
+	}
+	if cs.glob != nil {
+		for k, g := range dst[start:] {
+			dst[start+k] = cs.glob[g]
+		}
+	}
+	return dst, codes
+}
+
+// blocks returns the cover pairs of every term, in blocks of blockTerms
+// terms, filled by GOMAXPROCS goroutines, each its own blocks.
+func (cs *coverSets) blocks(blockTerms int) []refBlock {
+	m := cs.tab.Len()
 	blocks := make([]refBlock, (m+blockTerms-1)/blockTerms)
 	parallelChunks(len(blocks), 1, func(lo, hi int) {
-		var codes []int32
-		var buf []int32
+		var codes, buf []int32
 		for b := lo; b < hi; b++ {
 			bl := &blocks[b]
 			bl.lo = b * blockTerms
@@ -255,42 +316,7 @@ func coverBlocks(h *hamiltonian.Hamiltonian, settings []pauli.Setting, blockTerm
 			bl.off = make([]int32, 1, end-bl.lo+1)
 			buf = buf[:0]
 			for i := bl.lo; i < end; i++ {
-				x, z := tab.Words(i)
-				codes = codes[:0]
-				sparsest := -1
-				for q := range supportOf(x, z) {
-					c := 3*q + int(letterIndex(x, z, q))
-					if sparsest < 0 || len(nonEmpty[c]) < len(nonEmpty[codes[sparsest]/int32(words)]) {
-						sparsest = len(codes)
-					}
-					codes = append(codes, int32(c*words))
-				}
-				if sparsest < 0 {
-					// The identity: every setting covers it.
-					for j := range words {
-						v := ^uint64(0)
-						if j == words-1 {
-							v = last
-						}
-						for ; v != 0; v &= v - 1 {
-							buf = append(buf, int32(j*64+bits.TrailingZeros64(v)))
-						}
-					}
-					bl.off = append(bl.off, int32(len(buf)))
-					continue
-				}
-				codes[0], codes[sparsest] = codes[sparsest], codes[0]
-				for _, j := range nonEmpty[codes[0]/int32(words)] {
-					v := sets[codes[0]+j]
-					for _, c := range codes[1:] {
-						if v &= sets[c+j]; v == 0 {
-							break
-						}
-					}
-					for ; v != 0; v &= v - 1 {
-						buf = append(buf, j*64+int32(bits.TrailingZeros64(v)))
-					}
-				}
+				buf, codes = cs.appendCovering(buf, codes, i)
 				bl.off = append(bl.off, int32(len(buf)))
 			}
 			bl.grp = slices.Clone(buf)
@@ -298,4 +324,75 @@ func coverBlocks(h *hamiltonian.Hamiltonian, settings []pauli.Setting, blockTerm
 		}
 	})
 	return blocks
+}
+
+// coverChunk is the answer of [coverSets.each] for a run of terms.
+type coverChunk struct {
+	lo  int
+	off []int32
+	grp []int32
+}
+
+// coverChunkTerms is the number of terms per [coverChunk].
+const coverChunkTerms = 32
+
+// each calls fn for every term in table order with the settings that
+// cover it, in increasing order; fn must not keep the slice. The
+// intersections are computed ahead by GOMAXPROCS goroutines, at most a
+// few chunks of terms ahead of fn, so that memory stays bounded whatever
+// the number of cover pairs.
+func (cs *coverSets) each(fn func(i int, covering []int32)) {
+	m := cs.tab.Len()
+	workers := runtime.GOMAXPROCS(0)
+	if workers < 2 || m <= coverChunkTerms {
+		var codes, buf []int32
+		for i := range m {
+			buf, codes = cs.appendCovering(buf[:0], codes, i)
+			fn(i, buf)
+		}
+		return
+	}
+	chunks := (m + coverChunkTerms - 1) / coverChunkTerms
+	window := 2 * workers
+	free := make(chan *coverChunk, window)
+	for range window {
+		free <- &coverChunk{}
+	}
+	done := make([]chan *coverChunk, chunks)
+	for c := range done {
+		done[c] = make(chan *coverChunk, 1)
+	}
+	// A worker takes a free buffer, then the next chunk: every chunk
+	// handed out is filled, and the chunk fn waits for either is or will
+	// be handed out next, so the window never deadlocks.
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			var codes []int32
+			for {
+				ch := <-free
+				c := int(next.Add(1)) - 1
+				if c >= chunks {
+					free <- ch
+					return
+				}
+				ch.lo = c * coverChunkTerms
+				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
+				for i := ch.lo; i < min(ch.lo+coverChunkTerms, m); i++ {
+					ch.grp, codes = cs.appendCovering(ch.grp, codes, i)
+					ch.off = append(ch.off, int32(len(ch.grp)))
+				}
+				done[c] <- ch
+			}
+		})
+	}
+	for c := range chunks {
+		ch := <-done[c]
+		for t := range len(ch.off) - 1 {
+			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]])
+		}
+		free <- ch
+	}
+	wg.Wait()
 }
