@@ -674,8 +674,17 @@ func (md *splitModel) sweep(f []float64) {
 				// matter to nothing but that term.
 				continue
 			}
+			if md.cov != nil {
+				for s, e := range md.idx {
+					md.set(i, bl, e, md.a[s])
+				}
+				continue
+			}
 			for s, e := range md.idx {
-				md.set(i, bl, e, md.a[s])
+				if dv := md.a[s] - bl.alpha[e]; dv != 0 {
+					bl.alpha[e] = md.a[s]
+					md.load[bl.grp[e]] += abs * dv
+				}
 			}
 		}
 	}
@@ -742,14 +751,22 @@ func (s *simplexScratch) solve(d, e, out []float64) {
 	s.inv = slices.Grow(s.inv[:0], k)[:k]
 	s.ed = slices.Grow(s.ed[:0], k)[:k]
 	s.act = s.act[:0]
+	// The first pass, over every j, also fills inv and ed.
+	s1, s2 := 0.0, 0.0
 	for j := range k {
 		s.inv[j] = 1 / d[j]
 		s.ed[j] = e[j] / d[j]
-		s.act = append(s.act, int32(j))
+		s1 += s.inv[j]
+		s2 += s.ed[j]
 	}
-	mu := 0.0
-	for {
-		s1, s2 := 0.0, 0.0
+	mu := (1 + s2) / s1
+	for j := range k {
+		if !(e[j] >= mu) {
+			s.act = append(s.act, int32(j))
+		}
+	}
+	for dropped := len(s.act) < k; dropped; {
+		s1, s2 = 0, 0
 		for _, j := range s.act {
 			s1 += s.inv[j]
 			s2 += s.ed[j]
@@ -761,11 +778,8 @@ func (s *simplexScratch) solve(d, e, out []float64) {
 				keep = append(keep, j)
 			}
 		}
-		dropped := len(keep) < len(s.act)
+		dropped = len(keep) < len(s.act)
 		s.act = keep
-		if !dropped {
-			break
-		}
 	}
 	// x_j = max(0, (μ − e_j)/d_j), without the division where it is
 	// exactly 0 (μ − e_j ≤ 0 over a positive finite d_j), which is most j

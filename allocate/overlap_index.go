@@ -216,12 +216,14 @@ const overlapBlockTerms = 1024
 // settings a word. A setting covers a term when it has the term's letter
 // on each of its qubits, so the settings that cover a term are the
 // intersection of the term's sets. Only the words where the sparsest of
-// the term's sets is not empty are read, each until the intersection is.
+// the term's sets is not empty are read, each until the intersection is,
+// the sets taken from the sparsest.
 type coverSets struct {
 	tab      *pauli.Table
 	n, words int
 	sets     []uint64  // set 3q+l at (3q+l)·words
 	nonEmpty [][]int32 // the words of each set that are not empty
+	count    []int     // the settings in each set
 	last     uint64    // the settings of the last word
 	glob     []int32   // the caller's number of each setting, nil for its place
 }
@@ -241,10 +243,12 @@ func newCoverSets(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []i
 		}
 	}
 	cs.nonEmpty = make([][]int32, 3*n)
+	cs.count = make([]int, 3*n)
 	for c := range cs.nonEmpty {
 		for j, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
 			if v != 0 {
 				cs.nonEmpty[c] = append(cs.nonEmpty[c], int32(j))
+				cs.count[c] += bits.OnesCount64(v)
 			}
 		}
 	}
@@ -260,16 +264,11 @@ func (cs *coverSets) appendCovering(dst, codes []int32, i int) ([]int32, []int32
 	x, z := cs.tab.Words(i)
 	words := cs.words
 	codes = codes[:0]
-	sparsest := -1
 	for q := range supportOf(x, z) {
-		c := 3*q + int(letterIndex(x, z, q))
-		if sparsest < 0 || len(cs.nonEmpty[c]) < len(cs.nonEmpty[codes[sparsest]/int32(words)]) {
-			sparsest = len(codes)
-		}
-		codes = append(codes, int32(c*words))
+		codes = append(codes, int32(3*q)+letterIndex(x, z, q))
 	}
 	start := len(dst)
-	if sparsest < 0 {
+	if len(codes) == 0 {
 		// The identity: every setting covers it.
 		for j := range words {
 			v := ^uint64(0)
@@ -281,7 +280,16 @@ func (cs *coverSets) appendCovering(dst, codes []int32, i int) ([]int32, []int32
 			}
 		}
 	} else {
-		codes[0], codes[sparsest] = codes[sparsest], codes[0]
+		// Sparsest sets first (insertion sort: a term has few letters),
+		// so that the intersection of a word is empty soonest.
+		for k := 1; k < len(codes); k++ {
+			for l := k; l > 0 && cs.count[codes[l]] < cs.count[codes[l-1]]; l-- {
+				codes[l], codes[l-1] = codes[l-1], codes[l]
+			}
+		}
+		for k := range codes {
+			codes[k] *= int32(words)
+		}
 		for _, j := range cs.nonEmpty[codes[0]/int32(words)] {
 			v := cs.sets[codes[0]+j]
 			for _, c := range codes[1:] {
