@@ -132,19 +132,28 @@ func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setti
 // reads conflict sets, as [Sorted.Init] does: word j of set 3q+L holds,
 // for groups 64j to 64j+63, the groups with a letter other than code L on
 // qubit q.
+//
+// The search is shared among GOMAXPROCS goroutines without changing its
+// answer: the ranks go in batches, every term of a batch first finds its
+// first fit among the groups there were before the batch (in parallel;
+// nothing is written), and then the batch is placed in rank order. A
+// group only gains conflicts, so a group before the one found still
+// conflicts; the one found still fits unless an earlier term of the batch
+// gave it new letters (then it is tested again, and the search goes on
+// past it); if none was found, only the groups opened in the batch remain.
 func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups int) {
 	n, w, m := rk.n, rk.w, len(rk.order)
 	homeRank = make([]int32, m)
 	var conflict []uint64
-	var codes []int32
-	for r := range m {
+	// codesOf returns the letter codes 3q+L of rank r, X and Y first: they
+	// rule groups out soonest in Jordan–Wigner Hamiltonians. The order only
+	// changes the speed.
+	codesOf := func(codes []int32, r int) []int32 {
 		x, z := rk.row(r)
 		codes = codes[:0]
 		for q := range supportOf(x, z) {
 			codes = append(codes, int32(3*q)+letterIndex(x, z, q))
 		}
-		// X and Y first: they rule groups out soonest in Jordan–Wigner
-		// Hamiltonians. The order only changes the speed.
 		nz := 0
 		for i, c := range codes {
 			if c%3 != 1 {
@@ -152,47 +161,90 @@ func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups i
 				nz++
 			}
 		}
-		g := groups
-		for j := 0; j*64 < groups; j++ {
+		return codes
+	}
+	// scan returns the first group g, from ≤ g < upto, in no conflict set
+	// of codes, or upto.
+	scan := func(codes []int32, from, upto int) int {
+		for j := from / 64; j*64 < upto; j++ {
 			row := conflict[3*n*j : 3*n*(j+1)]
 			var bad uint64
+			if j == from/64 {
+				bad = 1<<(from%64) - 1
+			}
 			for _, c := range codes {
-				bad |= row[c]
-				if bad == ^uint64(0) {
+				if bad |= row[c]; bad == ^uint64(0) {
 					break
 				}
 			}
 			if bad != ^uint64(0) {
-				g = min(g, j*64+bits.TrailingZeros64(^bad))
-				break
+				return min(upto, j*64+bits.TrailingZeros64(^bad))
 			}
 		}
-		if g == groups {
-			gx = append(gx, make([]uint64, w)...)
-			gz = append(gz, make([]uint64, w)...)
-			gm = append(gm, make([]uint64, w)...)
-			if g%64 == 0 {
-				conflict = append(conflict, make([]uint64, 3*n)...)
+		return upto
+	}
+	const batch = 1024
+	spec := make([]int32, batch)
+	var modified []bool // the groups that gained letters in this batch
+	var touched []int32
+	var codes []int32
+	for r0 := 0; r0 < m; r0 += batch {
+		r1, before := min(r0+batch, m), groups
+		parallelChunks(r1-r0, 64, func(lo, hi int) {
+			var codes []int32
+			for t := lo; t < hi; t++ {
+				codes = codesOf(codes, r0+t)
+				spec[t] = int32(scan(codes, 0, before))
 			}
-			groups++
-		}
-		row, bit := conflict[3*n*(g/64):3*n*(g/64+1)], uint64(1)<<(g%64)
-		for _, c := range codes {
-			q := int(c / 3)
-			if gm[g*w+q>>6]>>(q&63)&1 == 0 {
-				for l := range int32(3) {
-					if l != c%3 {
-						row[3*int32(q)+l] |= bit
+		})
+		for r := r0; r < r1; r++ {
+			codes = codesOf(codes, r)
+			g := int(spec[r-r0])
+			switch {
+			case g == before:
+				g = scan(codes, before, groups)
+			case modified[g]:
+				g = scan(codes, g, groups)
+			}
+			if g == groups {
+				gx = append(gx, make([]uint64, w)...)
+				gz = append(gz, make([]uint64, w)...)
+				gm = append(gm, make([]uint64, w)...)
+				modified = append(modified, false)
+				if g%64 == 0 {
+					conflict = append(conflict, make([]uint64, 3*n)...)
+				}
+				groups++
+			}
+			row, bit := conflict[3*n*(g/64):3*n*(g/64+1)], uint64(1)<<(g%64)
+			grew := false
+			for _, c := range codes {
+				q := int(c / 3)
+				if gm[g*w+q>>6]>>(q&63)&1 == 0 {
+					grew = true
+					for l := range int32(3) {
+						if l != c%3 {
+							row[3*int32(q)+l] |= bit
+						}
 					}
 				}
 			}
+			if grew && !modified[g] {
+				modified[g] = true
+				touched = append(touched, int32(g))
+			}
+			x, z := rk.row(r)
+			for k := range w {
+				gx[g*w+k] |= x[k]
+				gz[g*w+k] |= z[k]
+				gm[g*w+k] |= x[k] | z[k]
+			}
+			homeRank[r] = int32(g)
 		}
-		for k := range w {
-			gx[g*w+k] |= x[k]
-			gz[g*w+k] |= z[k]
-			gm[g*w+k] |= x[k] | z[k]
+		for _, g := range touched {
+			modified[g] = false
 		}
-		homeRank[r] = int32(g)
+		touched = touched[:0]
 	}
 	return gx, gz, gm, homeRank, groups
 }
