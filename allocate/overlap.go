@@ -192,8 +192,8 @@ type splitModel struct {
 	pos    []int32
 	cov, y [][]float64
 	// Scratch of the per-term solve.
-	d, e, a, old []float64
-	idx          []int32
+	d, e, a, old, inv []float64
+	idx               []int32
 	simplex      simplexScratch
 }
 
@@ -500,6 +500,7 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 			}
 		}
 	}
+	md.fixShares(f)
 	md.refresh()
 	prev := md.objective(f)
 	for range rounds {
@@ -541,6 +542,33 @@ func (md *splitModel) storeMeasured(f []float64) {
 		}
 	}
 	md.sp, md.cs = nil, nil
+}
+
+// fixShares stores, for the fractions f that stay fixed from here on,
+// every pair's d = A_{g,ii}/f_g and 1/d of the per-term step (see sweep),
+// computed as the step would: they no longer change between rounds.
+func (md *splitModel) fixShares(f []float64) {
+	for b := range md.blocks {
+		bl := &md.blocks[b]
+		bl.dq, bl.inv = make([]float64, len(bl.grp)), make([]float64, len(bl.grp))
+		for t := range len(bl.off) - 1 {
+			abs := md.abs[bl.lo+t]
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				g := bl.grp[e]
+				fg := f[g]
+				if fg == 0 {
+					continue
+				}
+				a := abs * abs
+				if md.cov != nil {
+					k, p := len(md.gpair[g]), int(md.pos[e])
+					a = md.cov[g][p*k+p]
+				}
+				bl.dq[e] = a / fg
+				bl.inv[e] = 1 / bl.dq[e]
+			}
+		}
+	}
 }
 
 // sweepSparse is [splitModel.sweep] on the sparse weights: the groups that
@@ -588,7 +616,7 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-		md.simplex.solve(md.d, md.e, md.a)
+		md.simplex.solve(md.d, md.e, nil, md.a)
 		if !finiteWeights(md.a) {
 			keep() // see sweep
 			return
@@ -640,7 +668,7 @@ func (md *splitModel) sweep(f []float64) {
 			}
 			i := bl.lo + t
 			abs := md.abs[i]
-			md.d, md.e, md.idx = md.d[:0], md.e[:0], md.idx[:0]
+			md.d, md.e, md.inv, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.idx[:0]
 			for e := lo; e < hi; e++ {
 				g := bl.grp[e]
 				fg := f[g]
@@ -657,7 +685,12 @@ func (md *splitModel) sweep(f []float64) {
 					a = md.cov[g][p*k+p]
 					b = md.y[g][p] - a*al
 				}
-				md.d = append(md.d, a/fg)
+				if bl.dq != nil {
+					md.d = append(md.d, bl.dq[e])
+					md.inv = append(md.inv, bl.inv[e])
+				} else {
+					md.d = append(md.d, a/fg)
+				}
 				md.e = append(md.e, b/fg)
 				md.idx = append(md.idx, e)
 			}
@@ -665,7 +698,11 @@ func (md *splitModel) sweep(f []float64) {
 				continue
 			}
 			md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-			md.simplex.solve(md.d, md.e, md.a)
+			inv := md.inv
+			if bl.dq == nil {
+				inv = nil
+			}
+			md.simplex.solve(md.d, md.e, inv, md.a)
 			if !finiteWeights(md.a) {
 				// Only for terms whose coefficient is near zero (1e-16 and
 				// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
@@ -736,7 +773,7 @@ func (md *splitModel) set(i int, bl refBlock, e int32, v float64) {
 // are those of a pass over every j.
 func simplexMin(d, e, out []float64) {
 	var s simplexScratch
-	s.solve(d, e, out)
+	s.solve(d, e, nil, out)
 }
 
 // simplexScratch holds the reusable storage of [simplexMin].
@@ -746,39 +783,51 @@ type simplexScratch struct {
 }
 
 // solve is [simplexMin] with s's storage.
-func (s *simplexScratch) solve(d, e, out []float64) {
+func (s *simplexScratch) solve(d, e, inv, out []float64) {
 	k := len(d)
-	s.inv = slices.Grow(s.inv[:0], k)[:k]
 	s.ed = slices.Grow(s.ed[:0], k)[:k]
 	s.act = s.act[:0]
-	// The first pass, over every j, also fills inv and ed.
+	// The first pass, over every j, also fills inv (unless given) and ed.
 	s1, s2 := 0.0, 0.0
-	for j := range k {
-		s.inv[j] = 1 / d[j]
-		s.ed[j] = e[j] / d[j]
-		s1 += s.inv[j]
-		s2 += s.ed[j]
+	if inv == nil {
+		s.inv = slices.Grow(s.inv[:0], k)[:k]
+		inv = s.inv
+		for j := range k {
+			inv[j] = 1 / d[j]
+			s.ed[j] = e[j] / d[j]
+			s1 += inv[j]
+			s2 += s.ed[j]
+		}
+	} else {
+		for j := range k {
+			s.ed[j] = e[j] / d[j]
+			s1 += inv[j]
+			s2 += s.ed[j]
+		}
 	}
+	// Each later pass drops with the μ of the last and sums over the j it
+	// keeps, in increasing order: the sums of the next pass.
 	mu := (1 + s2) / s1
+	s1, s2 = 0, 0
 	for j := range k {
 		if !(e[j] >= mu) {
 			s.act = append(s.act, int32(j))
-		}
-	}
-	for dropped := len(s.act) < k; dropped; {
-		s1, s2 = 0, 0
-		for _, j := range s.act {
-			s1 += s.inv[j]
+			s1 += inv[j]
 			s2 += s.ed[j]
 		}
+	}
+	for len(s.act) < k {
+		k = len(s.act)
 		mu = (1 + s2) / s1
+		s1, s2 = 0, 0
 		keep := s.act[:0]
 		for _, j := range s.act {
 			if !(e[j] >= mu) {
 				keep = append(keep, j)
+				s1 += inv[j]
+				s2 += s.ed[j]
 			}
 		}
-		dropped = len(keep) < len(s.act)
 		s.act = keep
 	}
 	// x_j = max(0, (μ − e_j)/d_j), without the division where it is

@@ -258,6 +258,9 @@ type refBlock struct {
 	off   []int32
 	grp   []int32
 	alpha []float64
+	// dq and inv, once the shares are fixed, are d and 1/d of the
+	// per-term step of each pair ([splitModel.fixShares]).
+	dq, inv []float64
 }
 
 // overlapBlockTerms is the number of terms per [refBlock].
