@@ -194,7 +194,7 @@ type splitModel struct {
 	// Scratch of the per-term solve.
 	d, e, a, old, inv []float64
 	idx               []int32
-	simplex      simplexScratch
+	simplex           simplexScratch
 }
 
 // sparseAlpha holds the weights α_{ig} that are not zero, term-major: term
