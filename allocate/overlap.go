@@ -684,30 +684,26 @@ func (md *splitModel) sweep(f []float64) {
 			i := bl.lo + t
 			abs := md.abs[i]
 			md.d, md.e, md.inv, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.idx[:0]
-			for e := lo; e < hi; e++ {
-				g := bl.grp[e]
-				fg := f[g]
-				if fg == 0 {
-					continue
+			if md.cov == nil && bl.dq != nil {
+				// The worst-case model with the shares fixed: the same
+				// numbers as below, written in place.
+				k := int(hi - lo)
+				md.d, md.e = slices.Grow(md.d, k)[:k], slices.Grow(md.e, k)[:k]
+				md.inv, md.idx = slices.Grow(md.inv, k)[:k], slices.Grow(md.idx, k)[:k]
+				n := 0
+				for e := lo; e < hi; e++ {
+					g := bl.grp[e]
+					fg := f[g]
+					if fg == 0 {
+						continue
+					}
+					b := abs * (md.load[g] - abs*bl.alpha[e])
+					md.d[n], md.inv[n], md.e[n], md.idx[n] = bl.dq[e], bl.inv[e], b/fg, e
+					n++
 				}
-				al := bl.alpha[e]
-				var a, b float64
-				if md.cov == nil {
-					a = abs * abs
-					b = abs * (md.load[g] - abs*al)
-				} else {
-					k, p := len(md.gpair[g]), int(md.pos[e])
-					a = md.cov[g][p*k+p]
-					b = md.y[g][p] - a*al
-				}
-				if bl.dq != nil {
-					md.d = append(md.d, bl.dq[e])
-					md.inv = append(md.inv, bl.inv[e])
-				} else {
-					md.d = append(md.d, a/fg)
-				}
-				md.e = append(md.e, b/fg)
-				md.idx = append(md.idx, e)
+				md.d, md.e, md.inv, md.idx = md.d[:n], md.e[:n], md.inv[:n], md.idx[:n]
+			} else {
+				md.fill(f, bl, lo, hi, abs)
 			}
 			if len(md.idx) < 2 {
 				continue
@@ -739,6 +735,37 @@ func (md *splitModel) sweep(f []float64) {
 				}
 			}
 		}
+	}
+}
+
+// fill writes into md.d, md.e (and md.inv once the shares are fixed) the
+// terms d_g, e_g of the per-term step of term i, whose pairs are lo to
+// hi−1 of bl, for the groups with f_g > 0, and their pairs into md.idx.
+func (md *splitModel) fill(f []float64, bl refBlock, lo, hi int32, abs float64) {
+	for e := lo; e < hi; e++ {
+		g := bl.grp[e]
+		fg := f[g]
+		if fg == 0 {
+			continue
+		}
+		al := bl.alpha[e]
+		var a, b float64
+		if md.cov == nil {
+			a = abs * abs
+			b = abs * (md.load[g] - abs*al)
+		} else {
+			k, p := len(md.gpair[g]), int(md.pos[e])
+			a = md.cov[g][p*k+p]
+			b = md.y[g][p] - a*al
+		}
+		if bl.dq != nil {
+			md.d = append(md.d, bl.dq[e])
+			md.inv = append(md.inv, bl.inv[e])
+		} else {
+			md.d = append(md.d, a/fg)
+		}
+		md.e = append(md.e, b/fg)
+		md.idx = append(md.idx, e)
 	}
 }
 

@@ -145,20 +145,19 @@ func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups i
 	n, w, m := rk.n, rk.w, len(rk.order)
 	homeRank = make([]int32, m)
 	var conflict []uint64
-	// codesOf returns the letter codes 3q+L of rank r, X and Y first: they
-	// rule groups out soonest in Jordan–Wigner Hamiltonians. The order only
-	// changes the speed.
+	// conflicts[c] counts the groups in conflict set c: those with a letter
+	// on qubit q, less those with letter code L there.
+	conflicts := make([]int, 3*n)
+	// codesOf returns the letter codes 3q+L of rank r, largest conflict
+	// sets first (insertion sort; a term has few letters), so that a word
+	// of groups is ruled out soonest. The order only changes the speed.
 	codesOf := func(codes []int32, r int) []int32 {
 		x, z := rk.row(r)
 		codes = codes[:0]
 		for q := range supportOf(x, z) {
 			codes = append(codes, int32(3*q)+letterIndex(x, z, q))
-		}
-		nz := 0
-		for i, c := range codes {
-			if c%3 != 1 {
-				codes[nz], codes[i] = codes[i], codes[nz]
-				nz++
+			for k := len(codes) - 1; k > 0 && conflicts[codes[k]] > conflicts[codes[k-1]]; k-- {
+				codes[k], codes[k-1] = codes[k-1], codes[k]
 			}
 		}
 		return codes
@@ -225,6 +224,7 @@ func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups i
 					for l := range int32(3) {
 						if l != c%3 {
 							row[3*int32(q)+l] |= bit
+							conflicts[3*int32(q)+l]++
 						}
 					}
 				}
