@@ -183,19 +183,19 @@ func checkProxyWidth(px Proxy, n int) error {
 // every group may get shots ([splitModel.optimise]), the weights are kept
 // sparse, only those that are not zero, and each sweep has the groups
 // that cover a term computed afresh from the groups' letter sets
-// ([coverSets.each]). Once the shots are rounded, the pairs of the groups
-// with shots are stored term-major in blocks ([refBlock]), 12 bytes each.
+// ([overlapCover.each]). Once the shots are rounded, the pairs of the groups
+// with shots are stored term-major in blocks ([overlapBlock]), 12 bytes each.
 // With a proxy every pair is stored, in one block, with every group's
 // pairs listed in term order.
 type splitModel struct {
 	h        *hamiltonian.Hamiltonian
 	settings []pauli.Setting
 	abs      []float64 // |h_i|
-	blocks   []refBlock
+	blocks   []overlapBlock
 	// The sparse weights of the worst-case model before the shots are
 	// rounded, and the letter sets of all groups; nil after.
-	sp *sparseAlpha
-	cs *coverSets
+	sp *overlapSparse
+	cs *overlapCover
 	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
@@ -212,9 +212,9 @@ type splitModel struct {
 	simplex           simplexScratch
 }
 
-// sparseAlpha holds the weights α_{ig} that are not zero, term-major: term
+// overlapSparse holds the weights α_{ig} that are not zero, term-major: term
 // i's at off[i] to off[i+1]−1, groups increasing.
-type sparseAlpha struct {
+type overlapSparse struct {
 	off []int
 	grp []int32
 	val []float64
@@ -230,8 +230,8 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		md.abs[i] = math.Abs(c)
 	}
 	if px == nil {
-		md.cs = newCoverSets(h, settings, nil)
-		md.sp = &sparseAlpha{off: make([]int, h.Len()+1), grp: make([]int32, h.Len()), val: make([]float64, h.Len())}
+		md.cs = newOverlapCover(h, settings, nil)
+		md.sp = &overlapSparse{off: make([]int, h.Len()+1), grp: make([]int32, h.Len()), val: make([]float64, h.Len())}
 		for i, g := range home {
 			md.sp.off[i+1] = i + 1
 			md.sp.grp[i] = int32(g)
@@ -241,7 +241,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		md.refresh()
 		return md, nil
 	}
-	md.blocks = newCoverSets(h, settings, nil).blocks(overlapBlockTerms)
+	md.blocks = newOverlapCover(h, settings, nil).blocks(overlapBlockTerms)
 	for b := range md.blocks {
 		bl := &md.blocks[b]
 		for t := range len(bl.off) - 1 {
@@ -266,7 +266,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		return nil, fmt.Errorf("the proxy's covariances of the %d groups need %d numbers, more than the limit %d; plan without a proxy (the worst-case model)", len(settings), entries, maxSplitEntries)
 	}
 	// One block, and every group's pairs in term order.
-	one := refBlock{off: []int32{0}}
+	one := overlapBlock{off: []int32{0}}
 	for _, bl := range md.blocks {
 		base := int32(len(one.grp))
 		for _, o := range bl.off[1:] {
@@ -275,7 +275,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		one.grp = append(one.grp, bl.grp...)
 		one.alpha = append(one.alpha, bl.alpha...)
 	}
-	md.blocks = []refBlock{one}
+	md.blocks = []overlapBlock{one}
 	md.gpair = make([][]int32, len(settings))
 	md.pos = make([]int32, len(one.grp))
 	members := make([][]int, len(settings)) // the terms of group g, in table order
@@ -539,7 +539,7 @@ func (md *splitModel) storeMeasured(f []float64) {
 			sub = append(sub, md.settings[g])
 		}
 	}
-	md.blocks = newCoverSets(md.h, sub, glob).blocks(overlapBlockTerms)
+	md.blocks = newOverlapCover(md.h, sub, glob).blocks(overlapBlockTerms)
 	sp := md.sp
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
@@ -592,7 +592,7 @@ func (md *splitModel) fixShares(f []float64) {
 func (md *splitModel) sweepSparse(f []float64) {
 	md.refresh()
 	sp := md.sp
-	nsp := &sparseAlpha{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
+	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
 	md.cs.each(func(i int, cov []int32) {
 		lo, hi := sp.off[i], sp.off[i+1]
 		keep := func() {
@@ -741,7 +741,7 @@ func (md *splitModel) sweep(f []float64) {
 // fill writes into md.d, md.e (and md.inv once the shares are fixed) the
 // terms d_g, e_g of the per-term step of term i, whose pairs are lo to
 // hi−1 of bl, for the groups with f_g > 0, and their pairs into md.idx.
-func (md *splitModel) fill(f []float64, bl refBlock, lo, hi int32, abs float64) {
+func (md *splitModel) fill(f []float64, bl overlapBlock, lo, hi int32, abs float64) {
 	for e := lo; e < hi; e++ {
 		g := bl.grp[e]
 		fg := f[g]
@@ -780,7 +780,7 @@ func finiteWeights(a []float64) bool {
 }
 
 // set changes α of term i at pair e of bl to v and updates load or y.
-func (md *splitModel) set(i int, bl refBlock, e int32, v float64) {
+func (md *splitModel) set(i int, bl overlapBlock, e int32, v float64) {
 	al := &bl.alpha[e]
 	dv := v - *al
 	if dv == 0 {

@@ -19,10 +19,10 @@ import (
 // that is independent per group or per term is shared among GOMAXPROCS
 // goroutines, each writing only its own groups' or terms' entries.
 
-// parallelChunks runs f(lo, hi) over [0, n) in chunks of size chunk,
+// overlapParallel runs f(lo, hi) over [0, n) in chunks of size chunk,
 // shared among up to GOMAXPROCS goroutines. f must only write data of its
 // own range, so that the result does not depend on the schedule.
-func parallelChunks(n, chunk int, f func(lo, hi int)) {
+func overlapParallel(n, chunk int, f func(lo, hi int)) {
 	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
 	if workers < 2 {
 		for lo := 0; lo < n; lo += chunk {
@@ -52,13 +52,13 @@ func parallelChunks(n, chunk int, f func(lo, hi int)) {
 func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
 	rk := newRanked(h)
 	n, w, m := rk.n, rk.w, len(rk.order)
-	gx, gz, gm, homeRank, groups := firstFitGroups(rk)
+	gx, gz, gm, homeRank, groups := overlapFirstFit(rk)
 	// Extension: every term, in rank order, that fits a group's letters
 	// so far joins it. A term whose support lies inside the group's qubits
 	// and fits adds no letter, so once the group's qubits hold the support
 	// of every term no later term changes it and the walk stops. Groups
 	// are independent: each worker extends its own.
-	parallelChunks(groups, 16, func(lo, hi int) {
+	overlapParallel(groups, 16, func(lo, hi int) {
 		for g := lo; g < hi; g++ {
 			ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
 			full := func() bool {
@@ -125,7 +125,7 @@ func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setti
 	return out, home
 }
 
-// firstFitGroups is sorted insertion over the ranked terms: each joins the
+// overlapFirstFit is sorted insertion over the ranked terms: each joins the
 // first group whose letters so far agree with it where both act, or opens
 // a new one. It returns the groups' letters (x, z and support words, group
 // g at g·w), every rank's group and the number of groups. The first fit
@@ -141,7 +141,7 @@ func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setti
 // conflicts; the one found still fits unless an earlier term of the batch
 // gave it new letters (then it is tested again, and the search goes on
 // past it); if none was found, only the groups opened in the batch remain.
-func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups int) {
+func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups int) {
 	n, w, m := rk.n, rk.w, len(rk.order)
 	homeRank = make([]int32, m)
 	var conflict []uint64
@@ -189,7 +189,7 @@ func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups i
 	var codes []int32
 	for r0 := 0; r0 < m; r0 += batch {
 		r1, before := min(r0+batch, m), groups
-		parallelChunks(r1-r0, 64, func(lo, hi int) {
+		overlapParallel(r1-r0, 64, func(lo, hi int) {
 			var codes []int32
 			for t := lo; t < hi; t++ {
 				codes = codesOf(codes, r0+t)
@@ -249,11 +249,11 @@ func firstFitGroups(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups i
 	return gx, gz, gm, homeRank, groups
 }
 
-// refBlock holds the (term, group) cover pairs of the terms lo to
+// overlapBlock holds the (term, group) cover pairs of the terms lo to
 // lo+len(off)−2, term-major: term lo+t is covered by the groups
 // grp[off[t]:off[t+1]], in increasing order, with weights α in alpha at
 // the same positions.
-type refBlock struct {
+type overlapBlock struct {
 	lo    int
 	off   []int32
 	grp   []int32
@@ -263,17 +263,17 @@ type refBlock struct {
 	dq, inv []float64
 }
 
-// overlapBlockTerms is the number of terms per [refBlock].
+// overlapBlockTerms is the number of terms per [overlapBlock].
 const overlapBlockTerms = 1024
 
-// coverSets is the transpose of a list of local settings: for every qubit
+// overlapCover is the transpose of a list of local settings: for every qubit
 // q and letter code l, the set of the settings with that letter on q, 64
 // settings a word. A setting covers a term when it has the term's letter
 // on each of its qubits, so the settings that cover a term are the
 // intersection of the term's sets. Only the words where the sparsest of
 // the term's sets is not empty are read, each until the intersection is,
 // the sets taken from the sparsest.
-type coverSets struct {
+type overlapCover struct {
 	tab      *pauli.Table
 	n, words int
 	sets     []uint64  // set 3q+l at (3q+l)·words
@@ -283,11 +283,11 @@ type coverSets struct {
 	glob     []int32   // the caller's number of each setting, nil for its place
 }
 
-// newCoverSets builds the sets of the settings for the terms of h; glob,
+// newOverlapCover builds the sets of the settings for the terms of h; glob,
 // if not nil and increasing, renumbers the settings in the answers.
-func newCoverSets(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []int32) *coverSets {
+func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []int32) *overlapCover {
 	n := h.Qubits()
-	cs := &coverSets{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0), glob: glob}
+	cs := &overlapCover{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0), glob: glob}
 	cs.sets = make([]uint64, 3*n*cs.words)
 	for g, st := range settings {
 		x, z := st.Words()
@@ -315,7 +315,7 @@ func newCoverSets(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []i
 
 // appendCovering appends to dst the settings that cover term i, in
 // increasing order; codes is scratch.
-func (cs *coverSets) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
+func (cs *overlapCover) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
 	x, z := cs.tab.Words(i)
 	words := cs.words
 	codes = codes[:0]
@@ -367,10 +367,10 @@ func (cs *coverSets) appendCovering(dst, codes []int32, i int) ([]int32, []int32
 
 // blocks returns the cover pairs of every term, in blocks of blockTerms
 // terms, filled by GOMAXPROCS goroutines, each its own blocks.
-func (cs *coverSets) blocks(blockTerms int) []refBlock {
+func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 	m := cs.tab.Len()
-	blocks := make([]refBlock, (m+blockTerms-1)/blockTerms)
-	parallelChunks(len(blocks), 1, func(lo, hi int) {
+	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
+	overlapParallel(len(blocks), 1, func(lo, hi int) {
 		var codes, buf []int32
 		for b := lo; b < hi; b++ {
 			bl := &blocks[b]
@@ -389,25 +389,25 @@ func (cs *coverSets) blocks(blockTerms int) []refBlock {
 	return blocks
 }
 
-// coverChunk is the answer of [coverSets.each] for a run of terms.
-type coverChunk struct {
+// overlapCoverChunk is the answer of [overlapCover.each] for a run of terms.
+type overlapCoverChunk struct {
 	lo  int
 	off []int32
 	grp []int32
 }
 
-// coverChunkTerms is the number of terms per [coverChunk].
-const coverChunkTerms = 32
+// overlapChunkTerms is the number of terms per [overlapCoverChunk].
+const overlapChunkTerms = 32
 
 // each calls fn for every term in table order with the settings that
 // cover it, in increasing order; fn must not keep the slice. The
 // intersections are computed ahead by GOMAXPROCS goroutines, at most a
 // few chunks of terms ahead of fn, so that memory stays bounded whatever
 // the number of cover pairs.
-func (cs *coverSets) each(fn func(i int, covering []int32)) {
+func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	m := cs.tab.Len()
 	workers := runtime.GOMAXPROCS(0)
-	if workers < 2 || m <= coverChunkTerms {
+	if workers < 2 || m <= overlapChunkTerms {
 		var codes, buf []int32
 		for i := range m {
 			buf, codes = cs.appendCovering(buf[:0], codes, i)
@@ -415,15 +415,15 @@ func (cs *coverSets) each(fn func(i int, covering []int32)) {
 		}
 		return
 	}
-	chunks := (m + coverChunkTerms - 1) / coverChunkTerms
+	chunks := (m + overlapChunkTerms - 1) / overlapChunkTerms
 	window := 2 * workers
-	free := make(chan *coverChunk, window)
+	free := make(chan *overlapCoverChunk, window)
 	for range window {
-		free <- &coverChunk{}
+		free <- &overlapCoverChunk{}
 	}
-	done := make([]chan *coverChunk, chunks)
+	done := make([]chan *overlapCoverChunk, chunks)
 	for c := range done {
-		done[c] = make(chan *coverChunk, 1)
+		done[c] = make(chan *overlapCoverChunk, 1)
 	}
 	// A worker takes a free buffer, then the next chunk: every chunk
 	// handed out is filled, and the chunk fn waits for either is or will
@@ -440,9 +440,9 @@ func (cs *coverSets) each(fn func(i int, covering []int32)) {
 					free <- ch
 					return
 				}
-				ch.lo = c * coverChunkTerms
+				ch.lo = c * overlapChunkTerms
 				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
-				for i := ch.lo; i < min(ch.lo+coverChunkTerms, m); i++ {
+				for i := ch.lo; i < min(ch.lo+overlapChunkTerms, m); i++ {
 					ch.grp, codes = cs.appendCovering(ch.grp, codes, i)
 					ch.off = append(ch.off, int32(len(ch.grp)))
 				}
