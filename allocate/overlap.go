@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/inputcap"
@@ -58,13 +59,28 @@ import (
 //
 // # Cost
 //
-// Grouping reads every term once per group, twice: O(G·M·n/64) for G
-// groups of M terms on n qubits. With no proxy a round costs O(Σ_g k_g) for groups of
-// k_g terms. With a proxy the model keeps each group's covariance matrix,
-// Σ_g k_g² numbers (at most 2^23, else Init fails), each from one proxy
+// For M terms on n qubits and G groups: sorted insertion's first fit reads
+// conflict sets as [Sorted] does, its search shared among GOMAXPROCS
+// goroutines. A group's extension reads the terms in rank order only until
+// its qubits hold every qubit some term acts on (no later term can change
+// it): O(R·n/64) for the rank R reached, at most M (about 10^3 on average
+// on the molecular fixtures of the benchmarks); the groups are extended in
+// parallel. The groups that cover a term are the intersection of its
+// letter sets of the groups, at most G/64 words per term and set.
+//
+// Without a proxy, while every group may get shots, the weights are kept
+// sparse (those that are not zero) and each round recomputes every term's
+// covering groups, GOMAXPROCS goroutines a bounded window ahead of the
+// sweep; once the budget is rounded, the P pairs (term, group with shots)
+// are stored, 28 bytes each, and a round costs O(P). Memory is thus
+// O(M + G·n/64 + P) however many pairs there are in all (1.7·10^8 on the
+// 571 875-term fixture, against 8·10^6 with shots). With a proxy the model
+// keeps every pair and each group's covariance matrix, Σ_g k_g² numbers for
+// groups of k_g terms (at most 2^23, else Init fails), each from one proxy
 // expectation per distinct product P_i P_j (cached; for a [StateProxy]
-// 2^n operations each), and a round costs O(Σ_g k_g²). Overlap implements
-// [Batcher] and [Splitter] and uses no randomness.
+// 2^n operations each), and a round costs O(Σ_g k_g²). The plan does not
+// depend on GOMAXPROCS. Overlap implements [Batcher] and [Splitter] and
+// uses no randomness.
 type Overlap struct {
 	// Proxy, if not nil, is the classical state whose covariances the
 	// variances are computed from (MATH.md §2.4); nil means the worst case
@@ -160,113 +176,48 @@ func checkProxyWidth(px Proxy, n int) error {
 	return nil
 }
 
-// overlapGroups returns the distinct settings of the overlapping groups
-// (see [Overlap]) and every term's home: the group sorted insertion put it
-// in, an index into the settings.
-func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
-	rk := newRanked(h)
-	n, w, m := rk.n, rk.w, len(rk.order)
-	// fits reports whether the term with words x, z agrees with the
-	// letters gx, gz on the qubits gm where both act.
-	fits := func(x, z, gx, gz, gm []uint64) bool {
-		for k := range w {
-			if ((x[k]^gx[k])|(z[k]^gz[k]))&(x[k]|z[k])&gm[k] != 0 {
-				return false
-			}
-		}
-		return true
-	}
-	// Sorted insertion: first fit in rank order.
-	var gx, gz, gm []uint64
-	homeRank := make([]int, m)
-	groups := 0
-	for r := range m {
-		x, z := rk.row(r)
-		g := 0
-		for ; g < groups; g++ {
-			if fits(x, z, gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]) {
-				break
-			}
-		}
-		if g == groups {
-			gx = append(gx, make([]uint64, w)...)
-			gz = append(gz, make([]uint64, w)...)
-			gm = append(gm, make([]uint64, w)...)
-			groups++
-		}
-		for k := range w {
-			gx[g*w+k] |= x[k]
-			gz[g*w+k] |= z[k]
-			gm[g*w+k] |= x[k] | z[k]
-		}
-		homeRank[r] = g
-	}
-	// Extension: every term, in rank order, that fits a group's letters
-	// so far joins it.
-	for g := range groups {
-		ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
-		for r := range m {
-			x, z := rk.row(r)
-			if !fits(x, z, ex, ez, em) {
-				continue
-			}
-			for k := range w {
-				ex[k] |= x[k]
-				ez[k] |= z[k]
-				em[k] |= x[k] | z[k]
-			}
-		}
-	}
-	fx, fz := letterBits(fill)
-	index := make(map[string]int)
-	of := make([]int, groups)
-	var out []pauli.Setting
-	for g := range groups {
-		x, z := make([]uint64, w), make([]uint64, w)
-		for k := range w {
-			free := rk.all[k] &^ gm[g*w+k]
-			x[k] = gx[g*w+k] | free&fx
-			z[k] = gz[g*w+k] | free&fz
-		}
-		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
-		if err != nil {
-			panic("allocate: overlap built an invalid setting") // letters are X, Y or Z on every qubit
-		}
-		key := st.Key()
-		j, ok := index[key]
-		if !ok {
-			j = len(out)
-			index[key] = j
-			out = append(out, st)
-		}
-		of[g] = j
-	}
-	home := make([]int, m)
-	for r, i := range rk.order {
-		home[i] = of[homeRank[r]]
-	}
-	return out, home
-}
-
-// memberRef places a term in a group: group g, position k among its terms.
-type memberRef struct{ g, k int32 }
-
-// splitModel holds the overlapping groups' terms, their weights α and the
-// covariance model of [Overlap] (MATH.md §2.5).
+// splitModel holds the cover pairs of the overlapping groups, their
+// weights α and the covariance model of [Overlap] (MATH.md §2.5).
+//
+// In the worst-case model the pairs of all groups are not stored: while
+// every group may get shots ([splitModel.optimise]), the weights are kept
+// sparse, only those that are not zero, and each sweep has the groups
+// that cover a term computed afresh from the groups' letter sets
+// ([overlapCover.each]). Once the shots are rounded, the pairs of the groups
+// with shots are stored term-major in blocks ([overlapBlock]), 12 bytes each.
+// With a proxy every pair is stored, in one block, with every group's
+// pairs listed in term order.
 type splitModel struct {
-	abs     []float64     // |h_i|
-	members [][]int       // the terms group g covers, in table order
-	alpha   [][]float64   // alpha[g][k] is α of term members[g][k] in group g
-	refs    [][]memberRef // refs[i] are the groups that cover term i
-	// The worst-case model (cov == nil): load[g] = Σ_k |h_i| α_{ig}, and
+	h        *hamiltonian.Hamiltonian
+	settings []pauli.Setting
+	abs      []float64 // |h_i|
+	blocks   []overlapBlock
+	// The sparse weights of the worst-case model before the shots are
+	// rounded, and the letter sets of all groups; nil after.
+	sp *overlapSparse
+	cs *overlapCover
+	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
-	// The proxy's model: cov[g] is the k_g × k_g matrix A_g, row-major,
-	// with Var(O_g) = α_gᵀ A_g α_g, and y[g] = A_g α_g.
+	// The proxy's model: gpair[g] are the pairs of group g (indices into
+	// blocks[0]) in term order and pos[e] the place of pair e there; cov[g]
+	// is the k_g × k_g matrix A_g, row-major, with Var(O_g) = α_gᵀ A_g α_g,
+	// and y[g] = A_g α_g.
+	gpair  [][]int32
+	pos    []int32
 	cov, y [][]float64
 	// Scratch of the per-term solve.
-	d, e, a []float64
-	idx     []int
+	d, e, a, old, inv []float64
+	idx               []int32
+	simplex           simplexScratch
+}
+
+// overlapSparse holds the weights α_{ig} that are not zero, term-major: term
+// i's at off[i] to off[i+1]−1, groups increasing.
+type overlapSparse struct {
+	off []int
+	grp []int32
+	val []float64
 }
 
 // newSplitModel finds the terms of every group and builds the model. The
@@ -274,39 +225,71 @@ type splitModel struct {
 // coefficient in its home group.
 func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*splitModel, error) {
 	tab := h.Table()
-	md := &splitModel{
-		abs:     make([]float64, h.Len()),
-		members: make([][]int, len(settings)),
-		alpha:   make([][]float64, len(settings)),
-		refs:    make([][]memberRef, h.Len()),
-	}
+	md := &splitModel{h: h, settings: settings, abs: make([]float64, h.Len())}
 	for i, c := range h.Coeffs() {
 		md.abs[i] = math.Abs(c)
 	}
-	entries := 0
-	for g, st := range settings {
-		md.members[g] = tab.Covered(nil, st)
-		k := len(md.members[g])
-		entries += k * k
-		md.alpha[g] = make([]float64, k)
-		for j, i := range md.members[g] {
-			md.refs[i] = append(md.refs[i], memberRef{int32(g), int32(j)})
-		}
-	}
-	for g, terms := range md.members {
-		for j, i := range terms {
-			if home[i] == g {
-				md.alpha[g][j] = 1
-			}
-		}
-	}
 	if px == nil {
+		md.cs = newOverlapCover(h, settings, nil)
+		md.sp = &overlapSparse{off: make([]int, h.Len()+1), grp: make([]int32, h.Len()), val: make([]float64, h.Len())}
+		for i, g := range home {
+			md.sp.off[i+1] = i + 1
+			md.sp.grp[i] = int32(g)
+			md.sp.val[i] = 1
+		}
 		md.load = make([]float64, len(settings))
 		md.refresh()
 		return md, nil
 	}
+	md.blocks = newOverlapCover(h, settings, nil).blocks(overlapBlockTerms)
+	for b := range md.blocks {
+		bl := &md.blocks[b]
+		for t := range len(bl.off) - 1 {
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if int(bl.grp[e]) == home[bl.lo+t] {
+					bl.alpha[e] = 1
+				}
+			}
+		}
+	}
+	count := make([]int, len(settings))
+	for _, bl := range md.blocks {
+		for _, g := range bl.grp {
+			count[g]++
+		}
+	}
+	entries := 0
+	for _, k := range count {
+		entries += k * k
+	}
 	if entries > maxSplitEntries {
 		return nil, fmt.Errorf("the proxy's covariances of the %d groups need %d numbers, more than the limit %d; plan without a proxy (the worst-case model)", len(settings), entries, maxSplitEntries)
+	}
+	// One block, and every group's pairs in term order.
+	one := overlapBlock{off: []int32{0}}
+	for _, bl := range md.blocks {
+		base := int32(len(one.grp))
+		for _, o := range bl.off[1:] {
+			one.off = append(one.off, base+o)
+		}
+		one.grp = append(one.grp, bl.grp...)
+		one.alpha = append(one.alpha, bl.alpha...)
+	}
+	md.blocks = []overlapBlock{one}
+	md.gpair = make([][]int32, len(settings))
+	md.pos = make([]int32, len(one.grp))
+	members := make([][]int, len(settings)) // the terms of group g, in table order
+	for g, k := range count {
+		md.gpair[g] = make([]int32, 0, k)
+		members[g] = make([]int, 0, k)
+	}
+	for i := range len(one.off) - 1 {
+		for e := one.off[i]; e < one.off[i+1]; e++ {
+			g := one.grp[e]
+			md.pos[e] = int32(len(md.gpair[g]))
+			md.gpair[g] = append(md.gpair[g], e)
+			members[g] = append(members[g], i)
+		}
 	}
 	// ⟨P_i P_j⟩ for two strings a local setting covers: they agree where
 	// both act, so the product has the phase +1 and the words x_i ⊕ x_j,
@@ -331,7 +314,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	} else {
 		mean = make([]float64, h.Len())
 		for i := range mean {
-			if len(md.refs[i]) > 0 {
+			if one.off[i+1] > one.off[i] {
 				e, err := expect(h.Pauli(i))
 				if err != nil {
 					return nil, err
@@ -347,7 +330,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	md.cov = make([][]float64, len(settings))
 	md.y = make([][]float64, len(settings))
 	var gm []float64 // the group's ⟨P_i⟩
-	for g, terms := range md.members {
+	for g, terms := range members {
 		k := len(terms)
 		a := make([]float64, k*k)
 		var f []float64
@@ -398,23 +381,45 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	return md, nil
 }
 
-// refresh recomputes load or y from the weights.
+// groups returns the number of groups.
+func (md *splitModel) groups() int {
+	if md.cov == nil {
+		return len(md.load)
+	}
+	return len(md.cov)
+}
+
+// refresh recomputes load or y from the weights. The loads add the terms
+// in table order, term-major.
 func (md *splitModel) refresh() {
-	for g, terms := range md.members {
-		al := md.alpha[g]
-		if md.cov == nil {
-			s := 0.0
-			for j, i := range terms {
-				s += md.abs[i] * al[j]
+	if sp := md.sp; sp != nil {
+		clear(md.load)
+		for i, a := range md.abs {
+			for e := sp.off[i]; e < sp.off[i+1]; e++ {
+				md.load[sp.grp[e]] += a * sp.val[e]
 			}
-			md.load[g] = s
-			continue
 		}
-		k, a, y := len(terms), md.cov[g], md.y[g]
+		return
+	}
+	if md.cov == nil {
+		clear(md.load)
+		for _, bl := range md.blocks {
+			for t := range len(bl.off) - 1 {
+				a := md.abs[bl.lo+t]
+				for e := bl.off[t]; e < bl.off[t+1]; e++ {
+					md.load[bl.grp[e]] += a * bl.alpha[e]
+				}
+			}
+		}
+		return
+	}
+	alpha := md.blocks[0].alpha
+	for g, pairs := range md.gpair {
+		k, a, y := len(pairs), md.cov[g], md.y[g]
 		for r := range k {
 			s := 0.0
 			for c, v := range a[r*k : (r+1)*k] {
-				s += v * al[c]
+				s += v * alpha[pairs[c]]
 			}
 			y[r] = s
 		}
@@ -426,9 +431,10 @@ func (md *splitModel) variance(g int) float64 {
 	if md.cov == nil {
 		return md.load[g] * md.load[g]
 	}
+	alpha := md.blocks[0].alpha
 	s := 0.0
-	for j, v := range md.alpha[g] {
-		s += v * md.y[g][j]
+	for j, e := range md.gpair[g] {
+		s += alpha[e] * md.y[g][j]
 	}
 	return max(s, 0)
 }
@@ -467,7 +473,7 @@ func (md *splitModel) objective(f []float64) float64 {
 // optimise alternates shares and weights (MATH.md §2.5) for at most
 // rounds rounds and returns the fractions f_g.
 func (md *splitModel) optimise(rounds int) []float64 {
-	f := make([]float64, len(md.members))
+	f := make([]float64, md.groups())
 	prev := md.shares(f)
 	for range rounds {
 		md.sweep(f)
@@ -481,27 +487,35 @@ func (md *splitModel) optimise(rounds int) []float64 {
 }
 
 // optimiseSplit optimises the weights for fixed fractions f, of which
-// some may be zero: those groups get no weight.
+// some may be zero: those groups get no weight. In the worst-case model
+// only the pairs of the other groups are stored from here on.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
-	for _, refs := range md.refs {
-		sum, act := 0.0, 0
-		for _, r := range refs {
-			if f[r.g] > 0 {
-				sum += md.alpha[r.g][r.k]
-				act++
+	if md.sp != nil {
+		md.storeMeasured(f)
+	}
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := bl.off[t], bl.off[t+1]
+			sum, act := 0.0, 0
+			for e := lo; e < hi; e++ {
+				if f[bl.grp[e]] > 0 {
+					sum += bl.alpha[e]
+					act++
+				}
 			}
-		}
-		for _, r := range refs {
-			switch {
-			case f[r.g] == 0:
-				md.alpha[r.g][r.k] = 0
-			case sum > 0:
-				md.alpha[r.g][r.k] /= sum
-			default:
-				md.alpha[r.g][r.k] = 1 / float64(act)
+			for e := lo; e < hi; e++ {
+				switch {
+				case f[bl.grp[e]] == 0:
+					bl.alpha[e] = 0
+				case sum > 0:
+					bl.alpha[e] /= sum
+				default:
+					bl.alpha[e] = 1 / float64(act)
+				}
 			}
 		}
 	}
+	md.fixShares(f)
 	md.refresh()
 	prev := md.objective(f)
 	for range rounds {
@@ -514,53 +528,244 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	}
 }
 
+// storeMeasured replaces the sparse weights by the stored pairs of the
+// groups with f_g > 0, the only ones read from here on.
+func (md *splitModel) storeMeasured(f []float64) {
+	var glob []int32
+	var sub []pauli.Setting
+	for g, fg := range f {
+		if fg > 0 {
+			glob = append(glob, int32(g))
+			sub = append(sub, md.settings[g])
+		}
+	}
+	md.blocks = newOverlapCover(md.h, sub, glob).blocks(overlapBlockTerms)
+	sp := md.sp
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			i := bl.lo + t
+			s, end := sp.off[i], sp.off[i+1]
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				g := bl.grp[e]
+				for s < end && sp.grp[s] < g {
+					s++
+				}
+				if s < end && sp.grp[s] == g {
+					bl.alpha[e] = sp.val[s]
+				}
+			}
+		}
+	}
+	md.sp, md.cs = nil, nil
+}
+
+// fixShares stores, for the fractions f that stay fixed from here on,
+// every pair's d = A_{g,ii}/f_g and 1/d of the per-term step (see sweep),
+// computed as the step would: they no longer change between rounds.
+func (md *splitModel) fixShares(f []float64) {
+	for b := range md.blocks {
+		bl := &md.blocks[b]
+		bl.dq, bl.inv = make([]float64, len(bl.grp)), make([]float64, len(bl.grp))
+		for t := range len(bl.off) - 1 {
+			abs := md.abs[bl.lo+t]
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				g := bl.grp[e]
+				fg := f[g]
+				if fg == 0 {
+					continue
+				}
+				a := abs * abs
+				if md.cov != nil {
+					k, p := len(md.gpair[g]), int(md.pos[e])
+					a = md.cov[g][p*k+p]
+				}
+				bl.dq[e] = a / fg
+				bl.inv[e] = 1 / bl.dq[e]
+			}
+		}
+	}
+}
+
+// sweepSparse is [splitModel.sweep] on the sparse weights: the groups that
+// cover each term come from the letter sets, and the term's weights that
+// are not zero afterwards make the next sparse weights.
+func (md *splitModel) sweepSparse(f []float64) {
+	md.refresh()
+	sp := md.sp
+	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
+	md.cs.each(func(i int, cov []int32) {
+		lo, hi := sp.off[i], sp.off[i+1]
+		keep := func() {
+			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
+			nsp.val = append(nsp.val, sp.val[lo:hi]...)
+			nsp.off = append(nsp.off, len(nsp.grp))
+		}
+		if len(cov) < 2 {
+			keep()
+			return
+		}
+		abs := md.abs[i]
+		md.d, md.e, md.old, md.idx = md.d[:0], md.e[:0], md.old[:0], md.idx[:0]
+		s := lo
+		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			al := 0.0
+			if s < hi && sp.grp[s] == g {
+				al = sp.val[s]
+			}
+			fg := f[g]
+			if fg == 0 {
+				continue
+			}
+			a := abs * abs
+			b := abs * (md.load[g] - abs*al)
+			md.d = append(md.d, a/fg)
+			md.e = append(md.e, b/fg)
+			md.old = append(md.old, al)
+			md.idx = append(md.idx, int32(j))
+		}
+		if len(md.idx) < 2 {
+			keep()
+			return
+		}
+		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
+		md.simplex.solve(md.d, md.e, nil, md.a)
+		if !finiteWeights(md.a) {
+			keep() // see sweep
+			return
+		}
+		for t, j := range md.idx {
+			if dv := md.a[t] - md.old[t]; dv != 0 {
+				md.load[cov[j]] += abs * dv
+			}
+		}
+		t, s := 0, lo
+		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			var v float64
+			if t < len(md.idx) && int(md.idx[t]) == j {
+				v = md.a[t]
+				t++
+			} else if s < hi && sp.grp[s] == g {
+				v = sp.val[s]
+			}
+			if v != 0 {
+				nsp.grp = append(nsp.grp, g)
+				nsp.val = append(nsp.val, v)
+			}
+		}
+		nsp.off = append(nsp.off, len(nsp.grp))
+	})
+	md.sp = nsp
+}
+
 // sweep replaces, term by term, the weights of every term covered by two
 // or more groups with f_g > 0 by their exact minimiser with the other
 // terms' weights fixed: with d_g = A_{g,ii}/f_g and
 // e_g = (A_g α_g − A_{g,ii} α_{ig})_i / f_g, minimise Σ_g d_g α_g² + 2 e_g α_g
-// over α ≥ 0, Σ α = 1 (MATH.md §2.5).
+// over α ≥ 0, Σ α = 1 (MATH.md §2.5). It reads each cover pair a fixed
+// number of times and allocates nothing once its scratch has grown.
 func (md *splitModel) sweep(f []float64) {
+	if md.sp != nil {
+		md.sweepSparse(f)
+		return
+	}
 	md.refresh()
-	for i, refs := range md.refs {
-		if len(refs) < 2 {
-			continue
-		}
-		md.d, md.e, md.a, md.idx = md.d[:0], md.e[:0], md.a[:0], md.idx[:0]
-		for j, r := range refs {
-			fg := f[r.g]
-			if fg == 0 {
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := bl.off[t], bl.off[t+1]
+			if hi-lo < 2 {
 				continue
 			}
-			al := md.alpha[r.g][r.k]
-			var a, b float64
-			if md.cov == nil {
-				a = md.abs[i] * md.abs[i]
-				b = md.abs[i] * (md.load[r.g] - md.abs[i]*al)
+			i := bl.lo + t
+			abs := md.abs[i]
+			md.d, md.e, md.inv, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.idx[:0]
+			if md.cov == nil && bl.dq != nil {
+				// The worst-case model with the shares fixed: the same
+				// numbers as below, written in place.
+				k := int(hi - lo)
+				md.d, md.e = slices.Grow(md.d, k)[:k], slices.Grow(md.e, k)[:k]
+				md.inv, md.idx = slices.Grow(md.inv, k)[:k], slices.Grow(md.idx, k)[:k]
+				n := 0
+				for e := lo; e < hi; e++ {
+					g := bl.grp[e]
+					fg := f[g]
+					if fg == 0 {
+						continue
+					}
+					b := abs * (md.load[g] - abs*bl.alpha[e])
+					md.d[n], md.inv[n], md.e[n], md.idx[n] = bl.dq[e], bl.inv[e], b/fg, e
+					n++
+				}
+				md.d, md.e, md.inv, md.idx = md.d[:n], md.e[:n], md.inv[:n], md.idx[:n]
 			} else {
-				k := len(md.members[r.g])
-				a = md.cov[r.g][int(r.k)*k+int(r.k)]
-				b = md.y[r.g][r.k] - a*al
+				md.fill(f, bl, lo, hi, abs)
 			}
+			if len(md.idx) < 2 {
+				continue
+			}
+			md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
+			inv := md.inv
+			if bl.dq == nil {
+				inv = nil
+			}
+			md.simplex.solve(md.d, md.e, inv, md.a)
+			if !finiteWeights(md.a) {
+				// Only for terms whose coefficient is near zero (1e-16 and
+				// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
+				// is then so far below e_g ∝ |h_i| that μ − e_g is lost to
+				// rounding. Their weights keep the values they had, which
+				// matter to nothing but that term.
+				continue
+			}
+			if md.cov != nil {
+				for s, e := range md.idx {
+					md.set(i, bl, e, md.a[s])
+				}
+				continue
+			}
+			for s, e := range md.idx {
+				if dv := md.a[s] - bl.alpha[e]; dv != 0 {
+					bl.alpha[e] = md.a[s]
+					md.load[bl.grp[e]] += abs * dv
+				}
+			}
+		}
+	}
+}
+
+// fill writes into md.d, md.e (and md.inv once the shares are fixed) the
+// terms d_g, e_g of the per-term step of term i, whose pairs are lo to
+// hi−1 of bl, for the groups with f_g > 0, and their pairs into md.idx.
+func (md *splitModel) fill(f []float64, bl overlapBlock, lo, hi int32, abs float64) {
+	for e := lo; e < hi; e++ {
+		g := bl.grp[e]
+		fg := f[g]
+		if fg == 0 {
+			continue
+		}
+		al := bl.alpha[e]
+		var a, b float64
+		if md.cov == nil {
+			a = abs * abs
+			b = abs * (md.load[g] - abs*al)
+		} else {
+			k, p := len(md.gpair[g]), int(md.pos[e])
+			a = md.cov[g][p*k+p]
+			b = md.y[g][p] - a*al
+		}
+		if bl.dq != nil {
+			md.d = append(md.d, bl.dq[e])
+			md.inv = append(md.inv, bl.inv[e])
+		} else {
 			md.d = append(md.d, a/fg)
-			md.e = append(md.e, b/fg)
-			md.idx = append(md.idx, j)
 		}
-		if len(md.idx) < 2 {
-			continue
-		}
-		md.a = append(md.a, make([]float64, len(md.idx))...)
-		simplexMin(md.d, md.e, md.a)
-		if !finiteWeights(md.a) {
-			// Only for terms whose coefficient is near zero (1e-16 and
-			// below in molecular Bravyi–Kitaev Hamiltonians): d_g ∝ h_i²
-			// is then so far below e_g ∝ |h_i| that μ − e_g is lost to
-			// rounding. Their weights keep the values they had, which
-			// matter to nothing but that term.
-			continue
-		}
-		for t, j := range md.idx {
-			md.set(i, refs[j], md.a[t])
-		}
+		md.e = append(md.e, b/fg)
+		md.idx = append(md.idx, e)
 	}
 }
 
@@ -574,22 +779,23 @@ func finiteWeights(a []float64) bool {
 	return true
 }
 
-// set changes α of term i in group r.g to v and updates load or y.
-func (md *splitModel) set(i int, r memberRef, v float64) {
-	al := &md.alpha[r.g][r.k]
+// set changes α of term i at pair e of bl to v and updates load or y.
+func (md *splitModel) set(i int, bl overlapBlock, e int32, v float64) {
+	al := &bl.alpha[e]
 	dv := v - *al
 	if dv == 0 {
 		return
 	}
 	*al = v
+	g := bl.grp[e]
 	if md.cov == nil {
-		md.load[r.g] += md.abs[i] * dv
+		md.load[g] += md.abs[i] * dv
 		return
 	}
-	k := len(md.members[r.g])
-	a, y := md.cov[r.g], md.y[r.g]
+	k, p := len(md.gpair[g]), int(md.pos[e])
+	a, y := md.cov[g], md.y[g]
 	for row := range k {
-		y[row] += dv * a[row*k+int(r.k)]
+		y[row] += dv * a[row*k+p]
 	}
 }
 
@@ -604,38 +810,84 @@ func (md *splitModel) set(i int, r memberRef, v float64) {
 // does not raise μ (μ' ≤ μ exactly when e_j ≥ μ), so a dropped j stays out,
 // the active j end with e_j < μ, the dropped with e_j ≥ μ: the KKT point.
 // The j with the smallest e_j is never dropped (alone it gives
-// μ = d_j + e_j > e_j). Each pass is O(k), and there are at most k.
+// μ = d_j + e_j > e_j). The first pass is O(k); each later one reads only
+// the j still active, kept in a list in increasing order so that the sums
+// are those of a pass over every j.
 func simplexMin(d, e, out []float64) {
-	for j := range out {
-		out[j] = 1 // 1: active, 0: dropped
-	}
-	mu := 0.0
-	for {
-		s1, s2 := 0.0, 0.0
-		for j, a := range out {
-			if a != 0 {
-				s1 += 1 / d[j]
-				s2 += e[j] / d[j]
-			}
+	var s simplexScratch
+	s.solve(d, e, nil, out)
+}
+
+// simplexScratch holds the reusable storage of [simplexMin].
+type simplexScratch struct {
+	inv, ed []float64 // 1/d_j, e_j/d_j
+	act     []int32   // the active j, increasing
+}
+
+// solve is [simplexMin] with s's storage.
+func (s *simplexScratch) solve(d, e, inv, out []float64) {
+	k := len(d)
+	s.ed = slices.Grow(s.ed[:0], k)[:k]
+	s.act = s.act[:0]
+	// The first pass, over every j, also fills inv (unless given) and ed.
+	s1, s2 := 0.0, 0.0
+	if inv == nil {
+		s.inv = slices.Grow(s.inv[:0], k)[:k]
+		inv = s.inv
+		for j := range k {
+			inv[j] = 1 / d[j]
+			s.ed[j] = e[j] / d[j]
+			s1 += inv[j]
+			s2 += s.ed[j]
 		}
+	} else {
+		for j := range k {
+			s.ed[j] = e[j] / d[j]
+			s1 += inv[j]
+			s2 += s.ed[j]
+		}
+	}
+	// Each later pass drops with the μ of the last and sums over the j it
+	// keeps, in increasing order: the sums of the next pass.
+	mu := (1 + s2) / s1
+	s1, s2 = 0, 0
+	for j := range k {
+		if !(e[j] >= mu) {
+			s.act = append(s.act, int32(j))
+			s1 += inv[j]
+			s2 += s.ed[j]
+		}
+	}
+	for len(s.act) < k {
+		k = len(s.act)
 		mu = (1 + s2) / s1
-		dropped := false
-		for j, a := range out {
-			if a != 0 && e[j] >= mu {
-				out[j], dropped = 0, true
+		s1, s2 = 0, 0
+		keep := s.act[:0]
+		for _, j := range s.act {
+			if !(e[j] >= mu) {
+				keep = append(keep, j)
+				s1 += inv[j]
+				s2 += s.ed[j]
 			}
 		}
-		if !dropped {
-			break
-		}
+		s.act = keep
 	}
+	// x_j = max(0, (μ − e_j)/d_j), without the division where it is
+	// exactly 0 (μ − e_j ≤ 0 over a positive finite d_j), which is most j
+	// of a term in many groups; likewise 0/Σ = 0 for a positive Σ.
 	sum := 0.0
 	for j := range out {
+		if mu-e[j] <= 0 && d[j] > 0 && d[j] <= math.MaxFloat64 {
+			out[j] = 0
+			continue
+		}
 		out[j] = max(0, (mu-e[j])/d[j])
 		sum += out[j]
 	}
 	for j := range out {
-		out[j] /= sum
+		if out[j] != 0 || !(sum > 0) {
+			out[j] /= sum
+		}
 	}
 }
 
@@ -664,32 +916,51 @@ func roundShares(budget int, f []float64) []int {
 // or more of them cover, with its weights there (those with α > 0),
 // normalised to add up to one.
 func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
-	sum := make([]float64, len(md.refs))
-	split := make([]bool, len(md.refs))
-	for i, refs := range md.refs {
-		act := 0
-		for _, r := range refs {
-			if shots[r.g] > 0 {
-				act++
-				sum[i] += md.alpha[r.g][r.k]
+	sum := make([]float64, len(md.abs))
+	split := make([]bool, len(md.abs))
+	count := make([]int, len(settings))
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			i, act := bl.lo+t, 0
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if shots[bl.grp[e]] > 0 {
+					act++
+					sum[i] += bl.alpha[e]
+				}
+			}
+			split[i] = act >= 2 && sum[i] > 0
+			if !split[i] {
+				continue
+			}
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if shots[bl.grp[e]] > 0 && bl.alpha[e] > 0 {
+					count[bl.grp[e]]++
+				}
 			}
 		}
-		split[i] = act >= 2 && sum[i] > 0
 	}
+	at := make([]int, len(settings)) // group g's place in the split, or −1
 	var out hamiltonian.Split
-	for g, terms := range md.members {
-		if shots[g] == 0 {
-			continue
+	for g, k := range count {
+		at[g] = -1
+		if k > 0 {
+			at[g] = len(out)
+			out = append(out, hamiltonian.SplitGroup{Setting: settings[g], Terms: make([]int, 0, k), Weights: make([]float64, 0, k)})
 		}
-		gr := hamiltonian.SplitGroup{Setting: settings[g]}
-		for j, i := range terms {
-			if v := md.alpha[g][j]; split[i] && v > 0 {
-				gr.Terms = append(gr.Terms, i)
-				gr.Weights = append(gr.Weights, v/sum[i])
+	}
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			i := bl.lo + t
+			if !split[i] {
+				continue
 			}
-		}
-		if len(gr.Terms) > 0 {
-			out = append(out, gr)
+			for e := bl.off[t]; e < bl.off[t+1]; e++ {
+				if v := bl.alpha[e]; shots[bl.grp[e]] > 0 && v > 0 {
+					gr := &out[at[bl.grp[e]]]
+					gr.Terms = append(gr.Terms, i)
+					gr.Weights = append(gr.Weights, v/sum[i])
+				}
+			}
 		}
 	}
 	return out

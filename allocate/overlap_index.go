@@ -1,0 +1,461 @@
+package allocate
+
+import (
+	"math/bits"
+	"runtime"
+	"slices"
+	"sync"
+	"sync/atomic"
+
+	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/pauli"
+)
+
+// The indexed searches of [Overlap]: which group a term joins first
+// (sorted insertion through conflict sets, as [Sorted] does), how far a
+// group's extension must read, and which groups cover a term (letter sets
+// of the groups, 64 groups a word). Each gives exactly the answers of a
+// scan over every group, so the plan does not depend on them; the work
+// that is independent per group or per term is shared among GOMAXPROCS
+// goroutines, each writing only its own groups' or terms' entries.
+
+// overlapParallel runs f(lo, hi) over [0, n) in chunks of size chunk,
+// shared among up to GOMAXPROCS goroutines. f must only write data of its
+// own range, so that the result does not depend on the schedule.
+func overlapParallel(n, chunk int, f func(lo, hi int)) {
+	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
+	if workers < 2 {
+		for lo := 0; lo < n; lo += chunk {
+			f(lo, min(lo+chunk, n))
+		}
+		return
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			for {
+				lo := int(next.Add(int64(chunk))) - chunk
+				if lo >= n {
+					return
+				}
+				f(lo, min(lo+chunk, n))
+			}
+		})
+	}
+	wg.Wait()
+}
+
+// overlapGroups returns the distinct settings of the overlapping groups
+// (see [Overlap]) and every term's home: the group sorted insertion put it
+// in, an index into the settings.
+func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setting, []int) {
+	rk := newRanked(h)
+	n, w, m := rk.n, rk.w, len(rk.order)
+	gx, gz, gm, homeRank, groups := overlapFirstFit(rk)
+	// Extension: every term, in rank order, that fits a group's letters
+	// so far joins it. A term whose support lies inside the group's qubits
+	// and fits adds no letter, so once the group's qubits hold the support
+	// of every term no later term changes it and the walk stops. Groups
+	// are independent: each worker extends its own.
+	overlapParallel(groups, 16, func(lo, hi int) {
+		for g := lo; g < hi; g++ {
+			ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
+			full := func() bool {
+				for k := range w {
+					if rk.used[k]&^em[k] != 0 {
+						return false
+					}
+				}
+				return true
+			}
+			if full() {
+				continue
+			}
+			for r := range m {
+				x, z := rk.row(r)
+				grow, bad := uint64(0), uint64(0)
+				for k := range w {
+					s := x[k] | z[k]
+					bad |= ((x[k] ^ ex[k]) | (z[k] ^ ez[k])) & s & em[k]
+					grow |= s &^ em[k]
+				}
+				if bad != 0 || grow == 0 {
+					continue
+				}
+				for k := range w {
+					ex[k] |= x[k]
+					ez[k] |= z[k]
+					em[k] |= x[k] | z[k]
+				}
+				if full() {
+					break
+				}
+			}
+		}
+	})
+	fx, fz := letterBits(fill)
+	index := make(map[string]int)
+	of := make([]int, groups)
+	var out []pauli.Setting
+	x, z := make([]uint64, w), make([]uint64, w)
+	for g := range groups {
+		for k := range w {
+			free := rk.all[k] &^ gm[g*w+k]
+			x[k] = gx[g*w+k] | free&fx
+			z[k] = gz[g*w+k] | free&fz
+		}
+		st, err := pauli.NewSetting(pauli.FromWords(n, x, z))
+		if err != nil {
+			panic("allocate: overlap built an invalid setting") // letters are X, Y or Z on every qubit
+		}
+		key := st.Key()
+		j, ok := index[key]
+		if !ok {
+			j = len(out)
+			index[key] = j
+			out = append(out, st)
+		}
+		of[g] = j
+	}
+	home := make([]int, m)
+	for r, i := range rk.order {
+		home[i] = of[homeRank[r]]
+	}
+	return out, home
+}
+
+// overlapFirstFit is sorted insertion over the ranked terms: each joins the
+// first group whose letters so far agree with it where both act, or opens
+// a new one. It returns the groups' letters (x, z and support words, group
+// g at g·w), every rank's group and the number of groups. The first fit
+// reads conflict sets, as [Sorted.Init] does: word j of set 3q+L holds,
+// for groups 64j to 64j+63, the groups with a letter other than code L on
+// qubit q.
+//
+// The search is shared among GOMAXPROCS goroutines without changing its
+// answer: the ranks go in batches, every term of a batch first finds its
+// first fit among the groups there were before the batch (in parallel;
+// nothing is written), and then the batch is placed in rank order. A
+// group only gains conflicts, so a group before the one found still
+// conflicts; the one found still fits unless an earlier term of the batch
+// gave it new letters (then it is tested again, and the search goes on
+// past it); if none was found, only the groups opened in the batch remain.
+func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups int) {
+	n, w, m := rk.n, rk.w, len(rk.order)
+	homeRank = make([]int32, m)
+	var conflict []uint64
+	// conflicts[c] counts the groups in conflict set c: those with a letter
+	// on qubit q, less those with letter code L there.
+	conflicts := make([]int, 3*n)
+	// codesOf returns the letter codes 3q+L of rank r, largest conflict
+	// sets first (insertion sort; a term has few letters), so that a word
+	// of groups is ruled out soonest. The order only changes the speed.
+	codesOf := func(codes []int32, r int) []int32 {
+		x, z := rk.row(r)
+		codes = codes[:0]
+		for q := range supportOf(x, z) {
+			codes = append(codes, int32(3*q)+letterIndex(x, z, q))
+			for k := len(codes) - 1; k > 0 && conflicts[codes[k]] > conflicts[codes[k-1]]; k-- {
+				codes[k], codes[k-1] = codes[k-1], codes[k]
+			}
+		}
+		return codes
+	}
+	// scan returns the first group g, from ≤ g < upto, in no conflict set
+	// of codes, or upto.
+	scan := func(codes []int32, from, upto int) int {
+		for j := from / 64; j*64 < upto; j++ {
+			row := conflict[3*n*j : 3*n*(j+1)]
+			var bad uint64
+			if j == from/64 {
+				bad = 1<<(from%64) - 1
+			}
+			for _, c := range codes {
+				if bad |= row[c]; bad == ^uint64(0) {
+					break
+				}
+			}
+			if bad != ^uint64(0) {
+				return min(upto, j*64+bits.TrailingZeros64(^bad))
+			}
+		}
+		return upto
+	}
+	const batch = 1024
+	spec := make([]int32, batch)
+	var modified []bool // the groups that gained letters in this batch
+	var touched []int32
+	var codes []int32
+	for r0 := 0; r0 < m; r0 += batch {
+		r1, before := min(r0+batch, m), groups
+		overlapParallel(r1-r0, 64, func(lo, hi int) {
+			var codes []int32
+			for t := lo; t < hi; t++ {
+				codes = codesOf(codes, r0+t)
+				spec[t] = int32(scan(codes, 0, before))
+			}
+		})
+		for r := r0; r < r1; r++ {
+			codes = codesOf(codes, r)
+			g := int(spec[r-r0])
+			switch {
+			case g == before:
+				g = scan(codes, before, groups)
+			case modified[g]:
+				g = scan(codes, g, groups)
+			}
+			if g == groups {
+				gx = append(gx, make([]uint64, w)...)
+				gz = append(gz, make([]uint64, w)...)
+				gm = append(gm, make([]uint64, w)...)
+				modified = append(modified, false)
+				if g%64 == 0 {
+					conflict = append(conflict, make([]uint64, 3*n)...)
+				}
+				groups++
+			}
+			row, bit := conflict[3*n*(g/64):3*n*(g/64+1)], uint64(1)<<(g%64)
+			grew := false
+			for _, c := range codes {
+				q := int(c / 3)
+				if gm[g*w+q>>6]>>(q&63)&1 == 0 {
+					grew = true
+					for l := range int32(3) {
+						if l != c%3 {
+							row[3*int32(q)+l] |= bit
+							conflicts[3*int32(q)+l]++
+						}
+					}
+				}
+			}
+			if grew && !modified[g] {
+				modified[g] = true
+				touched = append(touched, int32(g))
+			}
+			x, z := rk.row(r)
+			for k := range w {
+				gx[g*w+k] |= x[k]
+				gz[g*w+k] |= z[k]
+				gm[g*w+k] |= x[k] | z[k]
+			}
+			homeRank[r] = int32(g)
+		}
+		for _, g := range touched {
+			modified[g] = false
+		}
+		touched = touched[:0]
+	}
+	return gx, gz, gm, homeRank, groups
+}
+
+// overlapBlock holds the (term, group) cover pairs of the terms lo to
+// lo+len(off)−2, term-major: term lo+t is covered by the groups
+// grp[off[t]:off[t+1]], in increasing order, with weights α in alpha at
+// the same positions.
+type overlapBlock struct {
+	lo    int
+	off   []int32
+	grp   []int32
+	alpha []float64
+	// dq and inv, once the shares are fixed, are d and 1/d of the
+	// per-term step of each pair ([splitModel.fixShares]).
+	dq, inv []float64
+}
+
+// overlapBlockTerms is the number of terms per [overlapBlock].
+const overlapBlockTerms = 1024
+
+// overlapCover is the transpose of a list of local settings: for every qubit
+// q and letter code l, the set of the settings with that letter on q, 64
+// settings a word. A setting covers a term when it has the term's letter
+// on each of its qubits, so the settings that cover a term are the
+// intersection of the term's sets. Only the words where the sparsest of
+// the term's sets is not empty are read, each until the intersection is,
+// the sets taken from the sparsest.
+type overlapCover struct {
+	tab      *pauli.Table
+	n, words int
+	sets     []uint64  // set 3q+l at (3q+l)·words
+	nonEmpty [][]int32 // the words of each set that are not empty
+	count    []int     // the settings in each set
+	last     uint64    // the settings of the last word
+	glob     []int32   // the caller's number of each setting, nil for its place
+}
+
+// newOverlapCover builds the sets of the settings for the terms of h; glob,
+// if not nil and increasing, renumbers the settings in the answers.
+func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []int32) *overlapCover {
+	n := h.Qubits()
+	cs := &overlapCover{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0), glob: glob}
+	cs.sets = make([]uint64, 3*n*cs.words)
+	for g, st := range settings {
+		x, z := st.Words()
+		for q := range n {
+			if c := letterIndex(x, z, q); c >= 0 {
+				cs.sets[(3*q+int(c))*cs.words+g/64] |= 1 << (g % 64)
+			}
+		}
+	}
+	cs.nonEmpty = make([][]int32, 3*n)
+	cs.count = make([]int, 3*n)
+	for c := range cs.nonEmpty {
+		for j, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
+			if v != 0 {
+				cs.nonEmpty[c] = append(cs.nonEmpty[c], int32(j))
+				cs.count[c] += bits.OnesCount64(v)
+			}
+		}
+	}
+	if len(settings)%64 != 0 {
+		cs.last = 1<<(len(settings)%64) - 1
+	}
+	return cs
+}
+
+// appendCovering appends to dst the settings that cover term i, in
+// increasing order; codes is scratch.
+func (cs *overlapCover) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
+	x, z := cs.tab.Words(i)
+	words := cs.words
+	codes = codes[:0]
+	for q := range supportOf(x, z) {
+		codes = append(codes, int32(3*q)+letterIndex(x, z, q))
+	}
+	start := len(dst)
+	if len(codes) == 0 {
+		// The identity: every setting covers it.
+		for j := range words {
+			v := ^uint64(0)
+			if j == words-1 {
+				v = cs.last
+			}
+			for ; v != 0; v &= v - 1 {
+				dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
+			}
+		}
+	} else {
+		// Sparsest sets first (insertion sort: a term has few letters),
+		// so that the intersection of a word is empty soonest.
+		for k := 1; k < len(codes); k++ {
+			for l := k; l > 0 && cs.count[codes[l]] < cs.count[codes[l-1]]; l-- {
+				codes[l], codes[l-1] = codes[l-1], codes[l]
+			}
+		}
+		for k := range codes {
+			codes[k] *= int32(words)
+		}
+		for _, j := range cs.nonEmpty[codes[0]/int32(words)] {
+			v := cs.sets[codes[0]+j]
+			for _, c := range codes[1:] {
+				if v &= cs.sets[c+j]; v == 0 {
+					break
+				}
+			}
+			for ; v != 0; v &= v - 1 {
+				dst = append(dst, j*64+int32(bits.TrailingZeros64(v)))
+			}
+		}
+	}
+	if cs.glob != nil {
+		for k, g := range dst[start:] {
+			dst[start+k] = cs.glob[g]
+		}
+	}
+	return dst, codes
+}
+
+// blocks returns the cover pairs of every term, in blocks of blockTerms
+// terms, filled by GOMAXPROCS goroutines, each its own blocks.
+func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
+	m := cs.tab.Len()
+	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
+	overlapParallel(len(blocks), 1, func(lo, hi int) {
+		var codes, buf []int32
+		for b := lo; b < hi; b++ {
+			bl := &blocks[b]
+			bl.lo = b * blockTerms
+			end := min(bl.lo+blockTerms, m)
+			bl.off = make([]int32, 1, end-bl.lo+1)
+			buf = buf[:0]
+			for i := bl.lo; i < end; i++ {
+				buf, codes = cs.appendCovering(buf, codes, i)
+				bl.off = append(bl.off, int32(len(buf)))
+			}
+			bl.grp = slices.Clone(buf)
+			bl.alpha = make([]float64, len(bl.grp))
+		}
+	})
+	return blocks
+}
+
+// overlapCoverChunk is the answer of [overlapCover.each] for a run of terms.
+type overlapCoverChunk struct {
+	lo  int
+	off []int32
+	grp []int32
+}
+
+// overlapChunkTerms is the number of terms per [overlapCoverChunk].
+const overlapChunkTerms = 32
+
+// each calls fn for every term in table order with the settings that
+// cover it, in increasing order; fn must not keep the slice. The
+// intersections are computed ahead by GOMAXPROCS goroutines, at most a
+// few chunks of terms ahead of fn, so that memory stays bounded whatever
+// the number of cover pairs.
+func (cs *overlapCover) each(fn func(i int, covering []int32)) {
+	m := cs.tab.Len()
+	workers := runtime.GOMAXPROCS(0)
+	if workers < 2 || m <= overlapChunkTerms {
+		var codes, buf []int32
+		for i := range m {
+			buf, codes = cs.appendCovering(buf[:0], codes, i)
+			fn(i, buf)
+		}
+		return
+	}
+	chunks := (m + overlapChunkTerms - 1) / overlapChunkTerms
+	window := 2 * workers
+	free := make(chan *overlapCoverChunk, window)
+	for range window {
+		free <- &overlapCoverChunk{}
+	}
+	done := make([]chan *overlapCoverChunk, chunks)
+	for c := range done {
+		done[c] = make(chan *overlapCoverChunk, 1)
+	}
+	// A worker takes a free buffer, then the next chunk: every chunk
+	// handed out is filled, and the chunk fn waits for either is or will
+	// be handed out next, so the window never deadlocks.
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			var codes []int32
+			for {
+				ch := <-free
+				c := int(next.Add(1)) - 1
+				if c >= chunks {
+					free <- ch
+					return
+				}
+				ch.lo = c * overlapChunkTerms
+				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
+				for i := ch.lo; i < min(ch.lo+overlapChunkTerms, m); i++ {
+					ch.grp, codes = cs.appendCovering(ch.grp, codes, i)
+					ch.off = append(ch.off, int32(len(ch.grp)))
+				}
+				done[c] <- ch
+			}
+		})
+	}
+	for c := range chunks {
+		ch := <-done[c]
+		for t := range len(ch.off) - 1 {
+			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]])
+		}
+		free <- ch
+	}
+	wg.Wait()
+}
