@@ -385,6 +385,51 @@ func TestBaselineErrors(t *testing.T) {
 	}
 }
 
+// TestAnytimeBudgetErrors checks AnytimeBudget's refusals and, on a case
+// worked by hand, its answer: H = 0.5 + 1.0 ZI − 0.5 IZ + 0.25 XX with the
+// one setting ZZ in the basis state |00⟩ gives X = 0.5 + 1 − 0.5 on every
+// shot (variance 0; bias 0.25 from XX), and with the state (|00⟩ + |11⟩)/√2,
+// s_0 = s_1 = ±1 with probability 1/2 each: X − 0.5 = ±0.5, variance 0.25;
+// with the baseline c = (1, 1, 0), X_c − 1 = (s_0 − 1) − 0.5(s_1 − 1) ∈
+// {0, −1}: variance 0.25 as well (the shift is a constant within the one
+// setting). Shots = ⌈2·0.25·ln(40)/(0.5 − 0.25)²⌉ = ⌈29.51⌉ = 30.
+func TestAnytimeBudgetErrors(t *testing.T) {
+	h := mustH(t, 2, 0.5, 1.0, "ZI", -0.5, "IZ", 0.25, "XX")
+	d, err := NewIID(h, []pauli.Setting{pauli.MustParseSetting("ZZ")}, []float64{1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	basis := []complex128{1, 0, 0, 0}
+	bell := []complex128{complex(1/math.Sqrt2, 0), 0, 0, complex(1/math.Sqrt2, 0)}
+	if _, v, err := AnytimeBudget(d, 0.5, 0.05, basis); err != nil || math.Abs(v) > 1e-15 {
+		t.Errorf("|00⟩: variance %v, %v; want 0", v, err)
+	}
+	dc, err := d.WithBaseline([]float64{1, 1, 0})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, dd := range []*IID{d, dc} {
+		n, v, err := AnytimeBudget(dd, 0.5, 0.05, bell)
+		if err != nil || math.Abs(v-0.25) > 1e-15 || n != 30 {
+			t.Errorf("Bell state: %d shots, variance %v, %v; want 30 and 0.25", n, v, err)
+		}
+	}
+	for _, c := range []struct {
+		eps, delta float64
+		state      []complex128
+		want       string
+	}{
+		{0.2, 0.05, basis, "bias"},
+		{0, 0.05, basis, "target"},
+		{0.5, 1, basis, "δ"},
+		{0.5, 0.05, basis[:2], "amplitudes"},
+	} {
+		if _, _, err := AnytimeBudget(d, c.eps, c.delta, c.state); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("AnytimeBudget(ε %v, δ %v, %d amplitudes): error %v, want %q", c.eps, c.delta, len(c.state), err, c.want)
+		}
+	}
+}
+
 // badProxy returns NaN for every string.
 type badProxy struct{}
 
