@@ -361,6 +361,16 @@ func TestBaselineErrors(t *testing.T) {
 	if _, err := BaselineOf(h, nil); err == nil {
 		t.Error("BaselineOf with a nil proxy: no error")
 	}
+	if _, err := BaselineOf(h, allocate.BasisProxy{}); err == nil || !strings.Contains(err.Error(), "basis state") {
+		t.Errorf("BaselineOf with an empty basis state: error %v", err)
+	}
+	three, err := allocate.NewStateProxy(make8())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := BaselineOf(h, three); err == nil || !strings.Contains(err.Error(), "3 qubits") {
+		t.Errorf("BaselineOf with a 3-qubit state for 2 qubits: error %v", err)
+	}
 	if _, err := BaselineOf(h, badProxy{}); err == nil || !strings.Contains(err.Error(), "term 0") {
 		t.Errorf("BaselineOf with NaN values: error %v, want one naming term 0", err)
 	}
@@ -428,6 +438,13 @@ func TestAnytimeBudgetErrors(t *testing.T) {
 			t.Errorf("AnytimeBudget(ε %v, δ %v, %d amplitudes): error %v, want %q", c.eps, c.delta, len(c.state), err, c.want)
 		}
 	}
+}
+
+// make8 returns |000⟩.
+func make8() []complex128 {
+	v := make([]complex128, 8)
+	v[0] = 1
+	return v
 }
 
 // badProxy returns NaN for every string.

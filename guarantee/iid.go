@@ -24,7 +24,9 @@ import (
 //
 //	Width = 2 max_{Q: π(Q)>0} Σ_{i◁Q, f_i>0} |h_i|/f_i,
 //
-// the exact largest range over the support, not an upper bound. The shots
+// the exact largest range over the support, not an upper bound. With a
+// baseline ([IID.WithBaseline]) the value is shifted by constants fixed
+// before the shots, keeping its mean (MATH.md §4.11). The shots
 // are also ordinary records: the grouped estimator (estimate.Grouped) may
 // be run on the same data.
 //
@@ -242,6 +244,17 @@ func BaselineOf(h *hamiltonian.Hamiltonian, px allocate.Proxy) ([]float64, error
 	if h == nil || px == nil {
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian or proxy")
 	}
+	// Expect panics on a width mismatch: check the proxies we know.
+	switch p := px.(type) {
+	case *allocate.StateProxy:
+		if p.Qubits() != h.Qubits() {
+			return nil, fmt.Errorf("guarantee: the proxy state has %d qubits, the Hamiltonian %d", p.Qubits(), h.Qubits())
+		}
+	case allocate.BasisProxy:
+		if len(p.Bits) < pauli.Words(h.Qubits()) {
+			return nil, fmt.Errorf("guarantee: the basis state has %d words, %d qubits need %d", len(p.Bits), h.Qubits(), pauli.Words(h.Qubits()))
+		}
+	}
 	c := make([]float64, h.Len())
 	for i := range c {
 		c[i] = px.Expect(h.Pauli(i))
@@ -275,7 +288,8 @@ func (d *IID) Index(s pauli.Setting) (int, bool) {
 	return k, ok
 }
 
-// Value returns the single-shot value X of outcome b of Settings[k].
+// Value returns the single-shot value X of outcome b of Settings[k] (X_c
+// of MATH.md §4.11 for a distribution with a baseline).
 func (d *IID) Value(k int, b pauli.Bits) float64 {
 	tab := d.h.Table()
 	x := d.Offset
