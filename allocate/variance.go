@@ -32,9 +32,18 @@ type Moments struct {
 	pi, pk   []int // the terms of each pair, pi < pk
 	sum      []float64
 	count    []int
-	shots    int
-	buf      []int8
-	cov      []int
+	// si and sk hold, per pair, the sums of s_i and of s_k over the shots
+	// that observed the pair: the shifted moment of a pair is estimated
+	// from the same shots (MATH.md §4.11).
+	si, sk []int32
+	// tsum and tcount hold, per term, the sum of its ±1 samples and their
+	// number; base is the baseline of SetBaseline, nil for none.
+	tsum   []float64
+	tcount []int
+	base   []float64
+	shots  int
+	buf    []int8
+	cov    []int
 }
 
 // NewMoments prepares to collect moments for a distribution over the given
@@ -82,7 +91,34 @@ func NewMoments(h *hamiltonian.Hamiltonian, settings []pauli.Setting) (*Moments,
 	}
 	m.sum = make([]float64, len(m.pi))
 	m.count = make([]int, len(m.pi))
+	m.si = make([]int32, len(m.pi))
+	m.sk = make([]int32, len(m.pi))
+	m.tsum = make([]float64, h.Len())
+	m.tcount = make([]int, h.Len())
 	return m, nil
+}
+
+// SetBaseline sets the per-term baseline c_i of a shifted single-shot value
+// (guarantee.IID.WithBaseline; MATH.md §4.11): from then on
+// [Moments.Reweight] and [Moments.SecondMoment] work with the second moment
+// of Σ_{i◁Q} (h_i/f_i)(s_i − c_i) instead of Σ_{i◁Q} (h_i/f_i) s_i. The
+// slice is copied; nil removes the baseline. It returns an error naming
+// the term for a wrong length, a NaN or an entry outside [−1, 1].
+func (m *Moments) SetBaseline(c []float64) error {
+	if c == nil {
+		m.base = nil
+		return nil
+	}
+	if len(c) != m.h.Len() {
+		return fmt.Errorf("allocate: baseline has %d entries, the Hamiltonian has %d terms", len(c), m.h.Len())
+	}
+	for i, v := range c {
+		if !(v >= -1 && v <= 1) {
+			return fmt.Errorf("allocate: baseline of term %d (%s) is %v, want a number in [−1, 1]", i, m.h.Pauli(i), v)
+		}
+	}
+	m.base = append([]float64(nil), c...)
+	return nil
 }
 
 // Settings returns the distinct candidate settings, in order of first
@@ -101,12 +137,18 @@ func (m *Moments) Observe(s pauli.Setting, b pauli.Bits) {
 	if q, ok := m.key[s.Key()]; ok {
 		rows := m.rows[q]
 		m.buf = samples(tab, m.buf, rows, s, b)
+		for a, i := range rows {
+			m.tsum[i] += float64(m.buf[a])
+			m.tcount[i]++
+		}
 		p := 0
 		for a := range rows {
 			for c := a + 1; c < len(rows); c++ {
 				id := m.pairs[q][p]
 				p++
 				m.sum[id] += float64(m.buf[a] * m.buf[c])
+				m.si[id] += int32(m.buf[a])
+				m.sk[id] += int32(m.buf[c])
 				m.count[id]++
 			}
 		}
@@ -115,9 +157,15 @@ func (m *Moments) Observe(s pauli.Setting, b pauli.Bits) {
 	m.cov = tab.Covered(m.cov[:0], s)
 	m.buf = samples(tab, m.buf, m.cov, s, b)
 	for a, i := range m.cov {
+		m.tsum[i] += float64(m.buf[a])
+		m.tcount[i]++
+	}
+	for a, i := range m.cov {
 		for c := a + 1; c < len(m.cov); c++ {
 			if id, ok := m.pairOf[[2]int{i, m.cov[c]}]; ok {
 				m.sum[id] += float64(m.buf[a] * m.buf[c])
+				m.si[id] += int32(m.buf[a])
+				m.sk[id] += int32(m.buf[c])
 				m.count[id]++
 			}
 		}
@@ -155,7 +203,12 @@ type VarianceOptions struct {
 //
 // where f_i is term i's cover probability, f_ik = Σ_Q π(Q)[i,k ◁ Q] and
 // m̂_ik the observed mean of s_i s_k (a pair without data gets the worst
-// case sign(h_i h_k)). Since E[X] does not depend on π, minimising S
+// case sign(h_i h_k)). With a baseline ([Moments.SetBaseline]) S is the
+// second moment of the shifted value (MATH.md §4.11): h_i²/f_i becomes
+// h_i² d̂_i/f_i with d̂_i = 1 − 2c_i m̂_i + c_i², m̂_i the observed mean of
+// s_i, and m̂_ik becomes the observed mean of (s_i − c_i)(s_k − c_k) over
+// the shots that saw both (worst cases without data: (1 + |c_i|)² and
+// sign(h_i h_k)(1 + |c_i|)(1 + |c_k|)). Since E[X] does not depend on π, minimising S
 // minimises Var(X), which is what the data-dependent bounds adapt to, instead
 // of the worst-case range of §3.1. The descent is Frank–Wolfe on the
 // simplex, started at start (nil means uniform) with floor η: each step
@@ -283,7 +336,8 @@ type evaluator struct {
 	m       *Moments
 	pi0     []float64
 	floor   float64
-	v       []float64 // h_i h_k m̂_ik per pair
+	v       []float64 // h_i h_k m̂_ik per pair (shifted with a baseline)
+	w       []float64 // h_i² d̂_i per term (h_i² without a baseline)
 	f, fik  []float64
 	d, pi   []float64
 	covered []bool // terms some candidate covers
@@ -292,13 +346,46 @@ type evaluator struct {
 func (m *Moments) newEvaluator(pi0 []float64, floor float64) *evaluator {
 	ev := &evaluator{m: m, pi0: pi0, floor: floor,
 		v: make([]float64, len(m.pi)), f: make([]float64, m.h.Len()), fik: make([]float64, len(m.pi)),
-		d: make([]float64, m.h.Len()), pi: make([]float64, len(pi0)), covered: make([]bool, m.h.Len())}
-	for id := range m.pi {
-		hh := m.h.Coeff(m.pi[id]) * m.h.Coeff(m.pk[id])
-		if m.count[id] > 0 {
-			ev.v[id] = hh * m.sum[id] / float64(m.count[id])
+		d: make([]float64, m.h.Len()), pi: make([]float64, len(pi0)), covered: make([]bool, m.h.Len()),
+		w: make([]float64, m.h.Len())}
+	// mean returns m̂_i and whether term i has data.
+	mean := func(i int) (float64, bool) {
+		if m.tcount[i] == 0 {
+			return 0, false
+		}
+		return m.tsum[i] / float64(m.tcount[i]), true
+	}
+	for i := range ev.w {
+		c := m.h.Coeff(i)
+		ev.w[i] = c * c
+		if m.base == nil {
+			continue
+		}
+		b := m.base[i]
+		if mi, ok := mean(i); ok {
+			// 1 − 2bm + b² ≥ (1 − |b|)² ≥ 0 for |m| ≤ 1.
+			ev.w[i] *= 1 - 2*b*mi + b*b
 		} else {
+			ev.w[i] *= (1 + math.Abs(b)) * (1 + math.Abs(b))
+		}
+	}
+	for id := range m.pi {
+		i, k := m.pi[id], m.pk[id]
+		hh := m.h.Coeff(i) * m.h.Coeff(k)
+		switch {
+		case m.count[id] > 0 && m.base == nil:
+			ev.v[id] = hh * m.sum[id] / float64(m.count[id])
+		case m.count[id] > 0:
+			// The mean of (s_i − c_i)(s_k − c_k) over the pair's own
+			// shots: near a reference state both factors are small on
+			// most shots, so this is far less noisy than combining means
+			// taken over different shots.
+			bi, bk, n := m.base[i], m.base[k], float64(m.count[id])
+			ev.v[id] = hh * ((m.sum[id]-bi*float64(m.sk[id])-bk*float64(m.si[id]))/n + bi*bk)
+		case m.base == nil:
 			ev.v[id] = math.Abs(hh)
+		default:
+			ev.v[id] = math.Abs(hh) * (1 + math.Abs(m.base[i])) * (1 + math.Abs(m.base[k]))
 		}
 	}
 	for q := range m.settings {
@@ -342,8 +429,7 @@ func (ev *evaluator) objective(rho []float64) float64 {
 		if f <= 0 {
 			return math.Inf(1)
 		}
-		c := m.h.Coeff(i)
-		s += c * c / f
+		s += ev.w[i] / f
 	}
 	for id, v := range ev.v {
 		if ev.fik[id] > 0 {
@@ -367,11 +453,10 @@ func (ev *evaluator) gradient(rho []float64) []float64 {
 		ev.d[i] += t / ev.f[i]
 		ev.d[k] += t / ev.f[k]
 	}
-	// ∂S/∂f_i = −h_i²/f_i² − 2 D_i.
+	// ∂S/∂f_i = −h_i² d_i/f_i² − 2 D_i (d_i = 1 without a baseline).
 	for i, f := range ev.f {
 		if f > 0 {
-			c := m.h.Coeff(i)
-			ev.d[i] = -c*c/(f*f) - 2*ev.d[i]
+			ev.d[i] = -ev.w[i]/(f*f) - 2*ev.d[i]
 		}
 	}
 	g := make([]float64, len(rho))

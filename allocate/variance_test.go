@@ -114,7 +114,8 @@ func TestMomentsEstimates(t *testing.T) {
 }
 
 // TestReweightGradient checks the analytic gradient of S against central
-// differences (step 1e-6, relative tolerance 1e-4).
+// differences (step 1e-6, relative tolerance 1e-4), without a baseline and
+// with a random one (MATH.md §4.11).
 func TestReweightGradient(t *testing.T) {
 	h, err := hamiltonian.Heisenberg(hamiltonian.Ring(6), 1)
 	if err != nil {
@@ -125,6 +126,21 @@ func TestReweightGradient(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	crng := rand.New(rand.NewPCG(4, 5))
+	c := make([]float64, h.Len())
+	for i := range c {
+		c[i] = 2*crng.Float64() - 1
+	}
+	for _, base := range [][]float64{nil, c} {
+		if err := f.m.SetBaseline(base); err != nil {
+			t.Fatal(err)
+		}
+		checkGradient(t, f, pi0)
+	}
+}
+
+func checkGradient(t *testing.T, f *varianceFixture, pi0 []float64) {
+	t.Helper()
 	ev := f.m.newEvaluator(pi0, 0.1)
 	rng := rand.New(rand.NewPCG(2, 3))
 	rho := make([]float64, len(pi0))
@@ -256,5 +272,64 @@ func TestReweightErrors(t *testing.T) {
 	}
 	if w[0] < 0.99 {
 		t.Errorf("Reweight gave ZX weight %v, want about 1 (it covers both terms)", w[0])
+	}
+}
+
+// TestMomentsBaseline checks the shifted second moment (MATH.md §4.11) on a
+// case worked by hand: H = 0.7 Z0 − 0.4 Z1 + 0.3 Z0Z1, one setting ZZ (so
+// f_i = 1 and every pair is seen on every shot), outcomes 00, 00, 01, 11.
+// Then SecondMoment is exactly the sample mean of (Σ_i h_i (s_i − c_i))²
+// over the four shots, and without a baseline that of (Σ_i h_i s_i)².
+func TestMomentsBaseline(t *testing.T) {
+	h, err := hamiltonian.New(2, 0, []hamiltonian.Term{
+		{Coeff: 0.7, Pauli: pauli.MustParse("ZI")}, {Coeff: -0.4, Pauli: pauli.MustParse("IZ")}, {Coeff: 0.3, Pauli: pauli.MustParse("ZZ")}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := pauli.MustParseSetting("ZZ")
+	m, err := NewMoments(h, []pauli.Setting{s})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Outcome bits (qubit 0 first) and the term signs they give.
+	outcomes := []struct {
+		b    uint64
+		sign [3]float64
+	}{{0b00, [3]float64{1, 1, 1}}, {0b00, [3]float64{1, 1, 1}}, {0b10, [3]float64{1, -1, -1}}, {0b11, [3]float64{-1, -1, 1}}}
+	for _, o := range outcomes {
+		m.Observe(s, pauli.Bits{o.b})
+	}
+	coef := []float64{0.7, -0.4, 0.3}
+	for _, c := range [][]float64{nil, {1, 1, 1}, {0.5, -0.25, 0}} {
+		if err := m.SetBaseline(c); err != nil {
+			t.Fatal(err)
+		}
+		want := 0.0
+		for _, o := range outcomes {
+			x := 0.0
+			for i, h := range coef {
+				ci := 0.0
+				if c != nil {
+					ci = c[i]
+				}
+				x += h * (o.sign[i] - ci)
+			}
+			want += x * x / float64(len(outcomes))
+		}
+		got, err := m.SecondMoment([]float64{1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(got-want) > 1e-12 {
+			t.Errorf("baseline %v: SecondMoment %.15g, want %.15g", c, got, want)
+		}
+	}
+	for _, c := range []struct {
+		c    []float64
+		want string
+	}{{[]float64{0, 0}, "2 entries"}, {[]float64{0, math.NaN(), 0}, "term 1"}, {[]float64{0, 0, 2}, "term 2"}} {
+		if err := m.SetBaseline(c.c); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("SetBaseline(%v): error %v, want one naming %q", c.c, err, c.want)
+		}
 	}
 }

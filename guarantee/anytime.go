@@ -14,7 +14,9 @@ import (
 // AnytimeOptions describes a sequential measurement for [Anytime].
 type AnytimeOptions struct {
 	// Plan is the distribution the shots draw their settings from; see
-	// [IIDOf] to make one from any plan. Required.
+	// [IIDOf] to make one from any plan. Required. A Plan with a baseline
+	// ([IID.WithBaseline]) feeds the shifted single-shot values X_c to the
+	// sequence (MATH.md §4.11), and a pilot re-weights for their variance.
 	Plan *IID
 	// Target is the bound ε to certify: the run stops once the certified
 	// interval is at most 2ε wide (bias included). Zero means run to
@@ -194,10 +196,16 @@ func anytimePilot(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOpt
 	if err != nil {
 		return nil, nil, err
 	}
+	// With a baseline the moments are those of X_c less its constant
+	// h_0 + Σ h_i c_i, which Range and Value of d put in.
+	if err := mo.SetBaseline(d.base); err != nil {
+		return nil, nil, err
+	}
+	center := d.Offset + d.center
 	pilotSum := 0.0
 	if err := drawRound(dev, d, rng, s.Pilot, pilot, nil, func(k int, b pauli.Bits) error {
 		mo.Observe(d.Settings[k], b)
-		pilotSum += d.Value(k, b) - d.Offset
+		pilotSum += d.Value(k, b) - center
 		return nil
 	}); err != nil {
 		return nil, nil, err
@@ -209,9 +217,17 @@ func anytimePilot(h *hamiltonian.Hamiltonian, dev estimate.Device, s *AnytimeOpt
 	if d, err = NewIID(h, mo.Settings(), w); err != nil {
 		return nil, nil, err
 	}
+	if s.Plan.base != nil {
+		// The re-weighting keeps the covered terms (Reweight keeps zero
+		// weights at zero), so the shifted mean is unchanged.
+		if d, err = d.WithBaseline(s.Plan.base); err != nil {
+			return nil, nil, err
+		}
+	}
 	if s.Target > 0 && bopt.Horizon == 0 {
 		// Var X = E[(X−h_0)²] − (E − h_0)², both estimated from the
-		// pilot; the mean of X − h_0 does not depend on π.
+		// pilot; the mean of X − h_0 does not depend on π (with a
+		// baseline: X_c less h_0 + Σ h_i c_i, whose mean does not either).
 		m2, err := mo.SecondMoment(w)
 		if err != nil {
 			return nil, nil, err

@@ -18,6 +18,7 @@ import "strconv"
 //	settings drawn i.i.d. from π       whenever you like     Anytime with Betting (default)       valid at every time at once; near the normal width for many shots
 //	settings drawn i.i.d. from π       whenever you like     Anytime with BernsteinEpochs         same guarantee, closed form, wider by the union over epochs
 //	pilot batch, then i.i.d. from π    whenever you like     Anytime with Pilot > 0               pilot only chooses π (sample splitting); certificate from later shots
+//	i.i.d. from π, shifted values      whenever you like     Anytime with Plan.WithBaseline(c)    c_i fixed before the shots (a classical state's ⟨P_i⟩); same mean, the groups' means leave the variance (§4.11)
 //	adaptive (settings from outcomes)  —                     none of these                        the plan depends on the data; use a pilot and a fixed π instead
 //
 // The normal-approximation intervals (DataBound.ApproxRadius, estimate's

@@ -143,7 +143,10 @@ func (d *tableDevice) Run(settings []pauli.Setting, shots []int, rec *estimate.R
 	return nil
 }
 
-// exactMoments returns ⟨P_i⟩ and ⟨P_i P_k⟩ of a state.
+// exactMoments returns ⟨P_i⟩ and ⟨P_i P_k⟩ of a state. For commuting P_i,
+// P_k the product is ±C with C a Pauli string (its phase is real), and the
+// sign is kept: generally commuting terms such as XX and YY have
+// XX·YY = −ZZ.
 func exactMoments(h *hamiltonian.Hamiltonian, psi []complex128) (func(i int) float64, func(i, k int) float64) {
 	means := make([]float64, h.Len())
 	for i := range means {
@@ -154,8 +157,8 @@ func exactMoments(h *hamiltonian.Hamiltonian, psi []complex128) (func(i int) flo
 		if v, ok := cache[[2]int{i, k}]; ok {
 			return v
 		}
-		p, _ := pauli.Mul(h.Pauli(i), h.Pauli(k))
-		v := hamiltonian.Expectation(psi, p)
+		p, ph := pauli.Mul(h.Pauli(i), h.Pauli(k))
+		v := real(ph.Complex()) * hamiltonian.Expectation(psi, p)
 		cache[[2]int{i, k}] = v
 		return v
 	}

@@ -24,7 +24,9 @@ import (
 //
 //	Width = 2 max_{Q: π(Q)>0} Σ_{i◁Q, f_i>0} |h_i|/f_i,
 //
-// the exact largest range over the support, not an upper bound. The shots
+// the exact largest range over the support, not an upper bound. With a
+// baseline ([IID.WithBaseline]) the value is shifted by constants fixed
+// before the shots, keeping its mean (MATH.md §4.11). The shots
 // are also ordinary records: the grouped estimator (estimate.Grouped) may
 // be run on the same data.
 //
@@ -39,6 +41,15 @@ type IID struct {
 	Prob     []float64
 	// Offset is h_0 and Bias is Σ|h_i| over the terms with f_i = 0.
 	Offset, Bias float64
+
+	// base holds the baseline c_i of every term, nil for none
+	// ([IID.WithBaseline]); center is Σ_{f_i>0} h_i c_i and shift[k] is
+	// Σ_{i◁Q_k, f_i>0} (h_i/f_i) c_i, so that X_c = h_0 + center −
+	// shift[k] + Σ (h_i/f_i) s_i. lo and hi are the range of X_c.
+	base   []float64
+	center float64
+	shift  []float64
+	lo, hi float64
 
 	h    *hamiltonian.Hamiltonian
 	cum  []float64   // cumulative Prob, last entry exactly 1
@@ -131,10 +142,131 @@ func IIDOf(h *hamiltonian.Hamiltonian, p *allocate.Plan) (*IID, error) {
 	return NewIID(h, settings, w)
 }
 
-// Range returns the interval [h_0 − Width/2, h_0 + Width/2] that every
-// single-shot value lies in.
+// Range returns an interval that every single-shot value lies in:
+// [h_0 − Width/2, h_0 + Width/2] without a baseline, and with one
+// (MATH.md §4.11)
+//
+//	[h_0 + C + min_Q(−A_Q − C_Q), h_0 + C + max_Q(A_Q − C_Q)],
+//
+// A_Q = Σ_{i◁Q, f_i>0} |h_i|/f_i, C_Q = Σ_{i◁Q, f_i>0} (h_i/f_i) c_i and
+// C = Σ_{f_i>0} h_i c_i, the minimum and maximum over the support of π.
 func (d *IID) Range() (lo, hi float64) {
+	if d.base != nil {
+		return d.lo, d.hi
+	}
 	return d.Offset - d.Dist.Width/2, d.Offset + d.Dist.Width/2
+}
+
+// WithBaseline returns the distribution d with the baseline shift (a
+// control variate, MATH.md §4.11): per-term constants c_i ∈ [−1, 1], fixed
+// before any shot (for example ⟨P_i⟩ in a state computed classically, see
+// [BaselineOf]), turn the single-shot value into
+//
+//	X_c = h_0 + Σ_{f_i>0} h_i c_i + Σ_{i◁Q, f_i>0} (h_i/f_i)(s_i − c_i),
+//
+// which has the same mean as X for every fixed c and the per-term second
+// moment 1 − 2c_i⟨P_i⟩ + c_i² instead of 1: when c_i is near ⟨P_i⟩ the
+// term's mean no longer enters the variance of X_c. The range of X_c
+// ([IID.Range]) may be wider than that of X. Value, Range and Variance of
+// the result use X_c; settings, probabilities, cover probabilities and
+// bias are those of d. c must have one entry per term of the Hamiltonian;
+// entries of terms π never covers are ignored. A nil c returns d without
+// a baseline. It returns an error naming the term for a wrong length, a NaN
+// or an entry outside [−1, 1].
+func (d *IID) WithBaseline(c []float64) (*IID, error) {
+	if d == nil || d.h == nil {
+		return nil, fmt.Errorf("guarantee: the distribution was not made by NewIID or IIDOf")
+	}
+	out := *d
+	out.base, out.shift, out.center, out.lo, out.hi = nil, nil, 0, 0, 0
+	if c == nil {
+		return &out, nil
+	}
+	if err := checkBaseline(d.h, c); err != nil {
+		return nil, err
+	}
+	out.base = append([]float64(nil), c...)
+	for i, f := range d.Dist.Cover {
+		if f > 0 {
+			out.center += d.h.Coeff(i) * c[i]
+		}
+	}
+	out.shift = make([]float64, len(d.Settings))
+	out.lo, out.hi = math.Inf(1), math.Inf(-1)
+	for k := range d.Settings {
+		a, sh := 0.0, 0.0
+		for j, i := range d.rows[k] {
+			// An entangled setting reads term i as sign·parity: s_i is
+			// still ±1, so the same bound holds.
+			a += math.Abs(d.coef[k][j])
+			sh += d.coef[k][j] * c[i]
+		}
+		out.shift[k] = sh
+		out.lo = min(out.lo, -a-sh)
+		out.hi = max(out.hi, a-sh)
+	}
+	base := d.Offset + out.center
+	out.lo, out.hi = base+out.lo, base+out.hi
+	return &out, nil
+}
+
+// Baseline returns a copy of the baseline c_i of every term, or nil for a
+// distribution without one.
+func (d *IID) Baseline() []float64 {
+	if d.base == nil {
+		return nil
+	}
+	return append([]float64(nil), d.base...)
+}
+
+// checkBaseline checks a baseline for h: one entry per term, each in
+// [−1, 1].
+func checkBaseline(h *hamiltonian.Hamiltonian, c []float64) error {
+	if len(c) != h.Len() {
+		return fmt.Errorf("guarantee: baseline has %d entries, the Hamiltonian has %d terms", len(c), h.Len())
+	}
+	for i, v := range c {
+		if !(v >= -1 && v <= 1) {
+			return fmt.Errorf("guarantee: baseline of term %d (%s) is %v, want a number in [−1, 1]", i, h.Pauli(i), v)
+		}
+	}
+	return nil
+}
+
+// BaselineOf returns c_i = ⟨P_i⟩ in the proxy state for every term of h, the
+// baseline [IID.WithBaseline] takes: for a basis state (for example the
+// Hartree–Fock determinant, [allocate.BasisProxy]) ±1 for a Z-string and 0
+// otherwise; for a state vector ([allocate.StateProxy]) the exact
+// expectations, at 2^n operations per term. Values within 1e-9 beyond ±1
+// (rounding) are clamped to ±1. It returns an error for a nil proxy or a
+// proxy value that is NaN or further outside [−1, 1] (naming the term).
+func BaselineOf(h *hamiltonian.Hamiltonian, px allocate.Proxy) ([]float64, error) {
+	if h == nil || px == nil {
+		return nil, fmt.Errorf("guarantee: nil Hamiltonian or proxy")
+	}
+	// Expect panics on a width mismatch: check the proxies we know.
+	switch p := px.(type) {
+	case *allocate.StateProxy:
+		if p.Qubits() != h.Qubits() {
+			return nil, fmt.Errorf("guarantee: the proxy state has %d qubits, the Hamiltonian %d", p.Qubits(), h.Qubits())
+		}
+	case allocate.BasisProxy:
+		if len(p.Bits) < pauli.Words(h.Qubits()) {
+			return nil, fmt.Errorf("guarantee: the basis state has %d words, %d qubits need %d", len(p.Bits), h.Qubits(), pauli.Words(h.Qubits()))
+		}
+	}
+	c := make([]float64, h.Len())
+	for i := range c {
+		c[i] = px.Expect(h.Pauli(i))
+		// A state vector's expectation may round to just beyond ±1.
+		if v := math.Abs(c[i]); v > 1 && v <= 1+1e-9 {
+			c[i] = math.Copysign(1, c[i])
+		}
+	}
+	if err := checkBaseline(h, c); err != nil {
+		return nil, err
+	}
+	return c, nil
 }
 
 // Draw returns the index into Settings of one setting drawn from π.
@@ -156,10 +288,14 @@ func (d *IID) Index(s pauli.Setting) (int, bool) {
 	return k, ok
 }
 
-// Value returns the single-shot value X of outcome b of Settings[k].
+// Value returns the single-shot value X of outcome b of Settings[k] (X_c
+// of MATH.md §4.11 for a distribution with a baseline).
 func (d *IID) Value(k int, b pauli.Bits) float64 {
 	tab := d.h.Table()
 	x := d.Offset
+	if d.base != nil {
+		x += d.center - d.shift[k]
+	}
 	if !d.Settings[k].IsLocal() {
 		// An entangled setting reads each term through its circuit's
 		// Z-image, prepared by the constructor.
@@ -184,23 +320,30 @@ func (d *IID) Value(k int, b pauli.Bits) float64 {
 	return x
 }
 
-// Variance returns Var(X) for a state with the given expectation values
-// of the terms' products: second(i, k) must return tr(ρ P_i P_k) for terms
-// i and k that some setting of the support covers together (their product
-// is then a Pauli string with no phase). It is the exact single-shot
-// variance the data-dependent bounds adapt to; tests use it with exact
-// expectation values.
+// Variance returns Var(X) (Var(X_c) with a baseline) for a state with the
+// given expectation values of the terms and of their products: second(i,
+// k) must return tr(ρ P_i P_k) for terms i and k that some setting of the
+// support covers together (they commute, so P_i P_k is ±C for a Pauli
+// string C, and the sign belongs to the value: XX·YY = −ZZ). It is the exact single-shot variance the data-dependent bounds
+// adapt to; tests use it with exact expectation values. With a baseline,
+// E[(s_i − c_i)(s_k − c_k)] = tr(ρ P_i P_k) − c_i⟨P_k⟩ − c_k⟨P_i⟩ + c_i c_k
+// (MATH.md §4.11).
 func (d *IID) Variance(mean func(i int) float64, second func(i, k int) float64) float64 {
 	m2, m1 := 0.0, 0.0
+	c := func(int) float64 { return 0 }
+	if d.base != nil {
+		c = func(i int) float64 { return d.base[i] }
+	}
 	for k := range d.Settings {
 		for a, i := range d.rows[k] {
-			m1 += d.Prob[k] * d.coef[k][a] * mean(i)
+			m1 += d.Prob[k] * d.coef[k][a] * (mean(i) - c(i))
 			for b, j := range d.rows[k] {
-				if a == b {
-					m2 += d.Prob[k] * d.coef[k][a] * d.coef[k][a]
-					continue
+				e := 1.0
+				if a != b {
+					e = second(i, j)
 				}
-				m2 += d.Prob[k] * d.coef[k][a] * d.coef[k][b] * second(i, j)
+				e += c(i)*c(j) - c(i)*mean(j) - c(j)*mean(i)
+				m2 += d.Prob[k] * d.coef[k][a] * d.coef[k][b] * e
 			}
 		}
 	}

@@ -126,11 +126,15 @@ func TestProxyMeritReport(t *testing.T) {
 // drawn from the distribution π(Q) = m_Q/N (IIDOf) of a 10^4-shot plan:
 // greedy (the baseline), and sorted, sorted-gc, color-gc with the
 // Hartree–Fock and exact proxies, shares ∝ standard deviation or
-// (ProxyMoment) ∝ root second moment. It reports the median, least and most
-// shots over SHOTPLAN_PROXY_SEEDS seeds without and with a 2000-shot pilot,
-// and BudgetOf's expected AnytimeShots. Every run must certify within
-// 3·10^7 shots or is counted as not certified; an interval that misses the
-// exact energy is logged (allowed with probability δ per run).
+// (ProxyMoment) ∝ root second moment; each without a baseline shift and
+// with the Hartree–Fock ("base hf") or exact-state ("base exact") baseline
+// of IID.WithBaseline (MATH.md §4.11). It reports the exact single-shot
+// variance σ² of the distribution in the ground state (IID.Variance), the
+// expected shots of AnytimeBudget, and the median, least and most shots over
+// SHOTPLAN_PROXY_SEEDS seeds without and with a 2000-shot pilot. Every run
+// must certify within 3·10^7 shots or is counted as not certified; an
+// interval that misses the exact energy is logged (allowed with probability
+// δ per run).
 func TestProxyAnytimeReport(t *testing.T) {
 	out := os.Getenv(proxyAnytimeEnv)
 	if out == "" {
@@ -138,9 +142,10 @@ func TestProxyAnytimeReport(t *testing.T) {
 	}
 	seeds := 20
 	if s := os.Getenv("SHOTPLAN_PROXY_SEEDS"); s != "" {
+		// 0 writes the σ² and expected columns only.
 		v, err := strconv.Atoi(s)
-		if err != nil || v < 1 {
-			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a positive count", s)
+		if err != nil || v < 0 {
+			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a non-negative count", s)
 		}
 		seeds = v
 	}
@@ -168,6 +173,7 @@ func TestProxyAnytimeReport(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	hfPx := allocate.BasisProxy{Bits: bits}
 	type row struct {
 		name string
 		a    allocate.Allocator
@@ -177,55 +183,82 @@ func TestProxyAnytimeReport(t *testing.T) {
 		for _, px := range []struct {
 			name string
 			p    allocate.Proxy
-		}{{"hf", allocate.BasisProxy{Bits: bits}}, {"exact", exact}} {
+		}{{"hf", hfPx}, {"exact", exact}} {
 			rows = append(rows, row{st.name + " " + px.name, st.make(px.p)},
 				row{st.name + " " + px.name + " moment", proxyMomentStrategies[st.name](px.p)})
 		}
 	}
+	baselines := []struct {
+		suffix string
+		px     allocate.Proxy
+	}{{"", nil}, {" base hf", hfPx}, {" base exact", exact}}
+	mean, second := exactMoments(sys.h, sys.state)
 	var b strings.Builder
-	fmt.Fprintf(&b, "| π from the 10^4-shot plan of | expected (BudgetOf) | no pilot: median [min, max] | pilot 2000 (included): median [min, max] |\n|---|---|---|---|\n")
+	fmt.Fprintf(&b, "| π from the 10^4-shot plan of | σ² (ground state) | expected (AnytimeBudget) | no pilot: median [min, max] | pilot 2000 (included): median [min, max] |\n|---|---|---|---|---|\n")
 	for _, r := range rows {
-		if len(keep) > 0 && !keep[r.name] {
-			continue
-		}
-		p, err := allocate.Run(sys.h, 10000, r.a, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
-		d, err := IIDOf(sys.h, p)
-		if err != nil {
-			t.Fatal(err)
-		}
-		bud, err := BudgetOf(sys.h, p, eps, delta, sys.state)
-		if err != nil {
-			t.Fatal(err)
-		}
-		fmt.Fprintf(&b, "| %s | %.3g |", r.name, float64(bud.AnytimeShots))
-		for _, pilot := range []int{0, 2000} {
-			dev := newTableDevice(t, sys.state, 7)
-			var used []float64
-			failed := 0
-			for seed := range seeds {
-				res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: d, Delta: delta, Target: eps, MaxShots: maxShots, Pilot: pilot,
-					Seed: uint64(seed), FirstRound: 10000})
+		var p *allocate.Plan
+		for _, base := range baselines {
+			name := r.name + base.suffix
+			if len(keep) > 0 && !keep[name] {
+				continue
+			}
+			if p == nil {
+				if p, err = allocate.Run(sys.h, 10000, r.a, nil); err != nil {
+					t.Fatal(err)
+				}
+			}
+			d, err := IIDOf(sys.h, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if base.px != nil {
+				c, err := BaselineOf(sys.h, base.px)
 				if err != nil {
 					t.Fatal(err)
 				}
-				if !res.Certified {
-					failed++
-					used = append(used, math.Inf(1))
-					continue
+				if d, err = d.WithBaseline(c); err != nil {
+					t.Fatal(err)
 				}
-				if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
-					t.Logf("%s pilot %d seed %d: interval %v misses E (allowed with probability δ)", r.name, pilot, seed, res.Interval)
-				}
-				used = append(used, float64(res.Shots+res.PilotShots))
 			}
-			slices.Sort(used)
-			fmt.Fprintf(&b, " %.3g [%.3g, %.3g] |", used[len(used)/2], used[0], used[len(used)-1])
-			t.Logf("%s pilot %d: median %.3g shots over %d seeds (%d not certified within %d)", r.name, pilot, used[len(used)/2], seeds, failed, maxShots)
+			expected, v, err := AnytimeBudget(d, eps, delta, sys.state)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if w := d.Variance(mean, second); math.Abs(w-v) > 1e-9*(1+w) {
+				t.Errorf("%s: AnytimeBudget's σ² %.12g, IID.Variance %.12g", name, v, w)
+			}
+			fmt.Fprintf(&b, "| %s | %.4g | %.3g |", name, v, float64(expected))
+			t.Logf("%s: σ² %.4g, expected %.3g shots", name, v, float64(expected))
+			if seeds == 0 {
+				b.WriteString("\n")
+				continue
+			}
+			for _, pilot := range []int{0, 2000} {
+				dev := newTableDevice(t, sys.state, 7)
+				var used []float64
+				failed := 0
+				for seed := range seeds {
+					res, err := Anytime(sys.h, dev, &AnytimeOptions{Plan: d, Delta: delta, Target: eps, MaxShots: maxShots, Pilot: pilot,
+						Seed: uint64(seed), FirstRound: 10000})
+					if err != nil {
+						t.Fatal(err)
+					}
+					if !res.Certified {
+						failed++
+						used = append(used, math.Inf(1))
+						continue
+					}
+					if sys.energy < res.Interval[0] || sys.energy > res.Interval[1] {
+						t.Logf("%s pilot %d seed %d: interval %v misses E (allowed with probability δ)", name, pilot, seed, res.Interval)
+					}
+					used = append(used, float64(res.Shots+res.PilotShots))
+				}
+				slices.Sort(used)
+				fmt.Fprintf(&b, " %.3g [%.3g, %.3g] |", used[len(used)/2], used[0], used[len(used)-1])
+				t.Logf("%s pilot %d: median %.3g [%.3g, %.3g] shots over %d seeds (%d not certified within %d)", name, pilot, used[len(used)/2], used[0], used[len(used)-1], seeds, failed, maxShots)
+			}
+			b.WriteString("\n")
 		}
-		b.WriteString("\n")
 	}
 	writeProxyReport(t, out, b.String())
 }

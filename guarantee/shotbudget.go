@@ -258,3 +258,93 @@ func (sh *shotMoments) of(h *hamiltonian.Hamiltonian, c *coverage, q int, s paul
 	}
 	return m1, m2
 }
+
+// AnytimeBudget returns the exact single-shot variance σ² of d (of X_c
+// when d has a baseline, MATH.md §4.11) in the proxy state (2^n
+// amplitudes, n ≤ [hamiltonian.MaxExactQubits]) and the shots
+// ⌈2 σ² ln(2/δ)/(ε − Bias)²⌉ the anytime route tunes its bets for, the
+// formula of [ShotBudget].AnytimeShots; an expectation, not a guarantee.
+// It costs one Walsh–Hadamard transform of 2^n Born probabilities per
+// setting of d's support. It returns an error for ε ≤ Bias (shots is then
+// unbounded), δ outside (0, 1), or a state of the wrong length.
+func AnytimeBudget(d *IID, eps, delta float64, state []complex128) (shots int, variance float64, err error) {
+	switch {
+	case d == nil || d.h == nil:
+		return 0, 0, fmt.Errorf("guarantee: the distribution was not made by NewIID or IIDOf")
+	case !(eps > 0) || math.IsInf(eps, 0):
+		return 0, 0, fmt.Errorf("guarantee: target ε = %v, want a positive number", eps)
+	case !validDelta(delta):
+		return 0, 0, fmt.Errorf("guarantee: δ = %v is not in [1e-300, 1) (MinDelta ≤ δ < 1)", delta)
+	case !(eps > d.Bias):
+		return 0, 0, fmt.Errorf("guarantee: target ε = %v is not above the bias %v of terms π never covers", eps, d.Bias)
+	}
+	n := d.h.Qubits()
+	if n > hamiltonian.MaxExactQubits || len(state) != 1<<n {
+		return 0, 0, fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), n)
+	}
+	sim, err := estimate.NewSimulator(state, 0, nil)
+	if err != nil {
+		return 0, 0, fmt.Errorf("guarantee: proxy state: %w", err)
+	}
+	variance = d.stateVariance(sim)
+	l := math.Log(2 / delta)
+	margin := eps - d.Bias
+	x := math.Ceil(2 * variance * l / (margin * margin))
+	if x > float64(math.MaxInt/2) {
+		return 0, variance, fmt.Errorf("guarantee: the anytime route needs more than %d shots", math.MaxInt/2)
+	}
+	return max(int(x), 1), variance, nil
+}
+
+// stateVariance returns Var(X) (Var(X_c) with a baseline) in the
+// simulator's state. For setting k let a_j = h_i/f_i of its j-th term, read
+// as σ_j χ_{m_j}(b) (see proxyVariances); with F the Walsh–Hadamard
+// transform of the Born probabilities, E[s_j] = σ_j F[m_j] and
+// E[s_j s_l] = σ_j σ_l F[m_j ⊕ m_l], so
+//
+//	M1_k = Σ_j a_j (E[s_j] − c_j),
+//	M2_k = Σ_{j,l} a_j a_l (E[s_j s_l] − c_j E[s_l] − c_l E[s_j] + c_j c_l),
+//
+// and Var = Σ_k π_k M2_k − (Σ_k π_k M1_k)².
+func (d *IID) stateVariance(sim *estimate.Simulator) float64 {
+	tab := d.h.Table()
+	var p, e, c []float64
+	var masks []uint64
+	m1, m2 := 0.0, 0.0
+	for k, s := range d.Settings {
+		p = sim.Probabilities(p, s)
+		statevec.WalshHadamard(p)
+		masks, e, c = masks[:0], e[:0], c[:0]
+		for j, i := range d.rows[k] {
+			var mask uint64
+			sign := 1.0
+			if s.IsLocal() {
+				x, z := tab.Words(i)
+				mask = x[0] | z[0]
+			} else {
+				mask, sign = d.image[k][j], float64(d.sign[k][j])
+			}
+			masks = append(masks, mask)
+			e = append(e, sign)
+			ci := 0.0
+			if d.base != nil {
+				ci = d.base[i]
+			}
+			c = append(c, ci)
+		}
+		a := d.coef[k]
+		for j, mj := range masks {
+			ej := e[j] * p[mj]
+			m1 += d.Prob[k] * a[j] * (ej - c[j])
+			for l, ml := range masks {
+				el := e[l] * p[ml]
+				sjl := 1.0
+				if j != l {
+					sjl = e[j] * e[l] * p[mj^ml]
+				}
+				m2 += d.Prob[k] * a[j] * a[l] * (sjl - c[j]*el - c[l]*ej + c[j]*c[l])
+			}
+		}
+	}
+	return max(m2-m1*m1, 0)
+}

@@ -12,7 +12,7 @@
 //	shotplan estimate -ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]
 //	shotplan budget   -ham H -eps E [-delta 0.05] [-strategy NAME|all] [-proxy worst|hf|exact|BITS|FILE [-electrons N] [-spin MS2]] [-readout P|p01=X,p10=Y|@FILE | -calibration CALIB [-pairs A-B,...]] [-calibration-delta D]
 //	shotplan calibrate -qubits N -shots M [-pairs A-B,...] -o PLAN
-//	shotplan rounds start  -ham H -eps E [-delta 0.05] [-strategy NAME] -o STATE
+//	shotplan rounds start  -ham H -eps E [-delta 0.05] [-strategy NAME] [-baseline none] -o STATE
 //	shotplan rounds next   -state STATE -o PLAN
 //	shotplan rounds add    -state STATE -records RECORDS...
 //	shotplan rounds status -state STATE

@@ -38,7 +38,7 @@ var commands = []command{
 	{"simulate", "simulate a plan's shots on the exact ground state or a prepared state", simulateFlags, "-ham H -plan PLAN [-seed S] [-prepare ground|hf|FILE] [-readout P|p01=X,p10=Y|@FILE] [-depolarizing P] [-dephasing P] [-pair-flip P [-pairs A-B,...]] [-calibration-shots M -calibration-o CALIB] [-electrons N] [-spin MS2] [-state FILE] -o RECORDS", nil},
 	{"estimate", "estimate the energy from shot records, with error bar and bounds", estimateFlags, "-ham H -plan PLAN -records RECORDS... [-delta δ] [-readout P|p01=X,p10=Y|@FILE] [-calibration CALIB [-calibration-delta D] [-pairs A-B,...]] [-observables N,Sz,S2]", estimateHelp},
 	{"calibrate", "write the readout calibration plan: basis states to prepare and shots of each", calibrateFlags, "-qubits N -shots M [-pairs A-B,...] -o PLAN", calibrateHelp},
-	{"rounds start", "begin a round-by-round certified run; its state goes to one file", roundsStartFlags, "-ham H -eps E [-delta δ] [-strategy NAME] -o STATE", roundsHelp},
+	{"rounds start", "begin a round-by-round certified run; its state goes to one file", roundsStartFlags, "-ham H -eps E [-delta δ] [-strategy NAME] [-baseline none|hf|exact|BITS|FILE] -o STATE", roundsHelp},
 	{"rounds next", "write the plan of the run's next round", roundsNextFlags, "-state STATE -o PLAN", roundsHelp},
 	{"rounds add", "add a round's records; print the interval and whether to stop", roundsAddFlags, "-state STATE -records RECORDS...", roundsHelp},
 	{"rounds status", "print the run's interval and whether to stop", roundsStatusFlags, "-state STATE", roundsHelp},

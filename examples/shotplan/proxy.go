@@ -49,24 +49,31 @@ func readHamProxy(ham, spec string, sf sectorFlags) (*hamiltonian.Hamiltonian, c
 // resolveProxy reads -proxy for h, read from the file ham (g holds its
 // integrals if it is an FCIDUMP file, else nil) and the sector flags.
 func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, error) {
+	return resolveState("proxy", spec, ham, h, g, sf)
+}
+
+// resolveState reads a classical state given as flag -name (-proxy of plan
+// and budget, -baseline of rounds start) for h: worst (no state), hf,
+// exact, a bit string or an amplitude file; see resolveProxy.
+func resolveState(name, spec string, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, error) {
 	n := h.Qubits()
 	spec = strings.TrimSpace(spec)
 	if spec != "hf" && spec != "exact" && (*sf.electrons != "" || *sf.spin != "") {
-		return chosenProxy{}, badf("-electrons and -spin choose the sector of -proxy hf or exact, not of -proxy %s", spec)
+		return chosenProxy{}, badf("-electrons and -spin choose the sector of -%s hf or exact, not of -%s %s", name, name, spec)
 	}
 	switch spec {
 	case "worst", "":
 		return chosenProxy{name: "worst case over all states"}, nil
 	case "hf":
 		if g == nil {
-			return chosenProxy{}, badf("-proxy hf needs an FCIDUMP file as -ham (%s is a qubit Hamiltonian)", ham)
+			return chosenProxy{}, badf("-%s hf needs an FCIDUMP file as -ham (%s is a qubit Hamiltonian)", name, ham)
 		}
 		sec, err := sf.resolve(n, g)
 		if err != nil {
 			return chosenProxy{}, err
 		}
 		if sec.sector == nil {
-			return chosenProxy{}, badf("-proxy hf needs a number of electrons, not -electrons all")
+			return chosenProxy{}, badf("-%s hf needs a number of electrons, not -electrons all", name)
 		}
 		gs := *g
 		gs.Electrons, gs.SpinTwice = sec.electrons, sec.spinTwice
@@ -81,7 +88,7 @@ func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecu
 		}, nil
 	case "exact":
 		if n > maxExactProxyQubits {
-			return chosenProxy{}, badf("-proxy exact: %d qubits, at most %d (use hf, a basis state or an amplitude file)", n, maxExactProxyQubits)
+			return chosenProxy{}, badf("-%s exact: %d qubits, at most %d (use hf, a basis state or an amplitude file)", name, n, maxExactProxyQubits)
 		}
 		sec, err := sf.resolve(n, g)
 		if err != nil {
@@ -100,16 +107,16 @@ func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecu
 	if isBitString(spec) {
 		b, err := pauli.ParseBits(spec)
 		if err != nil || len(spec) != n {
-			return chosenProxy{}, badf("-proxy %q: a basis state needs %d bits, qubit 0 first (or worst, hf, exact, an amplitude file)", spec, n)
+			return chosenProxy{}, badf("-%s %q: a basis state needs %d bits, qubit 0 first (or worst, hf, exact, an amplitude file)", name, spec, n)
 		}
 		return chosenProxy{name: "basis state " + spec + fmt.Sprintf(" (energy %.10f)", basisEnergy(h, b)), proxy: allocate.BasisProxy{Bits: b}, state: basisVector(n, b)}, nil
 	}
 	state, err := estimate.ReadAmplitudesFile(spec)
 	if err != nil {
-		return chosenProxy{}, badf("-proxy %q: want worst, hf, exact, a bit string or an amplitude file: %w", spec, err)
+		return chosenProxy{}, badf("-%s %q: want worst, hf, exact, a bit string or an amplitude file: %w", name, spec, err)
 	}
 	if len(state) != 1<<n {
-		return chosenProxy{}, badf("-proxy %s: the state has %d amplitudes; the Hamiltonian %s has %d qubits (2^%d amplitudes)", spec, len(state), ham, n, n)
+		return chosenProxy{}, badf("-%s %s: the state has %d amplitudes; the Hamiltonian %s has %d qubits (2^%d amplitudes)", name, spec, len(state), ham, n, n)
 	}
 	norm := 0.0
 	for _, a := range state {
@@ -120,7 +127,7 @@ func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecu
 	}
 	px, err := allocate.NewStateProxy(state)
 	if err != nil {
-		return chosenProxy{}, badf("-proxy %s: %w", spec, err)
+		return chosenProxy{}, badf("-%s %s: %w", name, spec, err)
 	}
 	return chosenProxy{name: fmt.Sprintf("the state of %s (energy %.10f)", spec, h.Energy(state)), proxy: px, state: state}, nil
 }

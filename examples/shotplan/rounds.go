@@ -21,6 +21,7 @@ import (
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/guarantee"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/hamiltonian/molecule"
 	"github.com/shotplan/shotplan/internal/atomicfile"
 	"github.com/shotplan/shotplan/pauli"
 )
@@ -50,9 +51,15 @@ type roundsState struct {
 	MaxShots    int             `json:"max_shots"`
 	// Settings and Weights are the distribution every shot draws its
 	// setting from: the reference plan's distinct settings and shot counts.
-	Settings []string     `json:"settings"`
-	Weights  []int        `json:"weights"`
-	Rounds   []roundEntry `json:"rounds"`
+	Settings []string `json:"settings"`
+	Weights  []int    `json:"weights"`
+	// Baseline, if present, holds the constant c_i of every term that the
+	// single-shot values are shifted by (guarantee.IID.WithBaseline,
+	// MATH.md §4.11), fixed at the start; BaselineSource says where it came
+	// from. Absent means no shift.
+	Baseline       []float64    `json:"baseline,omitempty"`
+	BaselineSource string       `json:"baseline_source,omitempty"`
+	Rounds         []roundEntry `json:"rounds"`
 }
 
 // roundEntry is one round whose records were added.
@@ -257,6 +264,11 @@ func parseRoundsState(path string, data []byte, replay bool) (*roundsRun, error)
 	}
 	if len(d.Settings) != len(settings) {
 		return nil, stateError(path, "settings", "a setting is listed twice")
+	}
+	if st.Baseline != nil {
+		if d, err = d.WithBaseline(st.Baseline); err != nil {
+			return nil, stateError(path, "baseline", "%v", err)
+		}
 	}
 	r := &roundsRun{st: &st, path: path, h: &h, d: d}
 	if err := r.start(); err != nil {
@@ -534,6 +546,8 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 	first := fs.Int("first", 1000, "shots of round 1")
 	growth := fs.Float64("growth", 1.5, "round k has first·growth^(k−1) shots (1 for equal rounds)")
 	maxShots := fs.Int("max-shots", 100_000_000, "stop after this many shots in all, certified or not")
+	baseline := fs.String("baseline", "none", "shift every shot's value by constants c_i = ⟨P_i⟩ of a classical state, fixed now (a control variate: same mean, smaller variance near that state): none, hf (the Hartree–Fock determinant of an FCIDUMP -ham), exact (the exact ground state, at most 20 qubits), BITS (a basis state, qubit 0 first) or an amplitude FILE, as -proxy of plan")
+	sf := addSectorFlags(fs)
 	out := fs.String("o", "", "state file to create (required; an existing file is kept)")
 	return func() error {
 		if err := e.positional(0, ""); err != nil {
@@ -570,7 +584,14 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 		if _, ok := a.(allocate.Observer); ok {
 			return badf("-strategy %s reads outcomes back; the rounds need a plan fixed before the data", *strategy)
 		}
-		h, err := loadHam(*ham)
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		c, source, err := readBaseline(*baseline, *ham, h, g, sf)
 		if err != nil {
 			return err
 		}
@@ -596,6 +617,7 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 			Format: roundsFormat, Version: roundsVersion, Hamiltonian: hj,
 			Strategy: p.Stats.Strategy, Seed: *seed, Epsilon: *eps, Delta: *delta,
 			FirstRound: *first, Growth: *growth, MaxShots: *maxShots, Rounds: []roundEntry{},
+			Baseline: c, BaselineSource: source,
 		}
 		settings, shots := p.Distinct()
 		for k, s := range settings {
@@ -618,20 +640,54 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := st.write(*out); err != nil {
 			return bad(err)
 		}
+		lo, hi := r.d.Range()
 		res := struct {
-			State     string  `json:"state"`
-			Strategy  string  `json:"strategy"`
-			Reference int     `json:"reference_shots"`
-			Settings  int     `json:"settings"`
-			Bias      float64 `json:"bias"`
-		}{*out, st.Strategy, p.TotalShots(), len(st.Settings), r.d.Bias}
+			State     string     `json:"state"`
+			Strategy  string     `json:"strategy"`
+			Reference int        `json:"reference_shots"`
+			Settings  int        `json:"settings"`
+			Bias      float64    `json:"bias"`
+			Baseline  string     `json:"baseline"`
+			Range     [2]float64 `json:"shot_range"`
+		}{*out, st.Strategy, p.TotalShots(), len(st.Settings), r.d.Bias, "none", [2]float64{lo, hi}}
+		if source != "" {
+			res.Baseline = source
+		}
 		if e.json {
 			return e.writeJSON(res)
 		}
-		fmt.Fprintf(e.stdout, "wrote %s: every shot draws one of %d settings of a %d-shot %s plan; next: shotplan rounds next -state %s -o round1.json\n",
-			*out, len(st.Settings), res.Reference, st.Strategy, *out)
+		shift := ""
+		if source != "" {
+			shift = ", values shifted by the baseline ⟨P_i⟩ of " + source
+		}
+		fmt.Fprintf(e.stdout, "wrote %s: every shot draws one of %d settings of a %d-shot %s plan%s; next: shotplan rounds next -state %s -o round1.json\n",
+			*out, len(st.Settings), res.Reference, st.Strategy, shift, *out)
 		return nil
 	}
+}
+
+// readBaseline resolves -baseline of rounds start: nil for none, else the
+// ⟨P_i⟩ of every term in the state -proxy would read from the same text
+// (resolveState), with the state's description.
+func readBaseline(spec, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) ([]float64, string, error) {
+	switch strings.TrimSpace(spec) {
+	case "none", "":
+		if *sf.electrons != "" || *sf.spin != "" {
+			return nil, "", badf("-electrons and -spin choose the sector of -baseline hf or exact, not of -baseline none")
+		}
+		return nil, "", nil
+	case "worst":
+		return nil, "", badf("-baseline worst: a baseline is one state's values; use -baseline none for no shift")
+	}
+	px, err := resolveState("baseline", spec, ham, h, g, sf)
+	if err != nil {
+		return nil, "", err
+	}
+	c, err := guarantee.BaselineOf(h, px.proxy)
+	if err != nil {
+		return nil, "", badf("-baseline %s: %w", spec, err)
+	}
+	return c, px.name, nil
 }
 
 func roundsNextFlags(fs *flag.FlagSet, e *env) func() error {
@@ -855,7 +911,10 @@ A run on a device, one round at a time, with the state in one file:
   shotplan rounds status -state STATE
 Every shot draws its setting at random from the reference plan's shares; the
 interval is an anytime-valid betting confidence sequence, so it holds at
-every round at once and the run may stop whenever it is narrow enough. The
+every round at once and the run may stop whenever it is narrow enough.
+-baseline hf|exact|BITS|FILE (rounds start) shifts every shot's value by the
+terms' expectations in a classical state fixed before any shot: the mean is
+unchanged and the variance falls when the measured state is near it. The
 state file is replaced atomically after each round; re-adding a round's
 records is refused. Shot noise only: readout error is not covered. Drift is
 tested: every report checks that each setting's outcome parity stayed the
