@@ -45,16 +45,20 @@ import (
 //     from the distribution alone (SeedDistribution, CertifyIID; MATH.md
 //     §4.1); the estimate, the mean of the single-shot values X, is
 //     computed here from the plan's weights with covers tested letter by
-//     letter, and checked against RandomizedBound's in repetition 0.
+//     letter, and checked against RandomizedBound's in repetition 0;
+//   - the anytime route with the Hartree–Fock baseline (control variate,
+//     MATH.md §4.11): settings drawn i.i.d. from the shares of greedy and
+//     color-gc (hf proxy) plans, Anytime's betting interval after 2000
+//     shots.
 //
-// Each of the 70 checks (system × plan × bound) runs R = 300 repetitions
+// Each of the 78 checks (system × plan × bound) runs R = 300 repetitions
 // and fails if the bound is exceeded more than L = 31 times, L the
 // smallest count with P(Bin(300, δ) > L) ≤ 1e-4 (binomialLimit, gonum's
 // binomial CDF): a bound failing with probability exactly δ fails a check
 // with probability 5.4e-5. The failures of each kind of bound are also
 // added over the systems and plans and checked the same way against
 // Binomial(total, δ) (1200 to 4800 repetitions; at most 9.0e-5 each). So
-// the test fails falsely with probability at most 76 × 1e-4 ≈ 0.8%
+// the test fails falsely with probability at most 85 × 1e-4 ≈ 0.9%
 // (union bound). A bound failing at rate 2δ exceeds L in one check with
 // probability 0.38, and its kind's added count exceeds its limit with
 // probability above 0.998 (P(Bin(1800, 0.1) > 126), the smallest total;
@@ -155,6 +159,43 @@ func TestMoleculeCoverage(t *testing.T) {
 		for ki, sp := range seedPlans {
 			errs, bound := seedPlanRuns(t, mc, sp.make, shots, reps, delta, uint64(9000+100*si+10*ki))
 			check(mc, sp.name, "–", "certificate (CertifyIID)", errs, bound)
+		}
+		// The anytime route with the Hartree–Fock baseline (MATH.md §4.11):
+		// settings drawn i.i.d. from the greedy and the color-gc (hf proxy)
+		// plans' shares, single-shot values shifted by c_i = ⟨P_i⟩ in the
+		// Hartree–Fock determinant, the betting interval after 2000 shots
+		// in rounds of 500. E lies in the interval [lo, hi] exactly when
+		// |mid − E| ≤ (hi − lo)/2, which is what check compares.
+		base, err := BaselineOf(mc.h, mc.hf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for ai, ap := range []struct {
+			name string
+			a    allocate.Allocator
+		}{{"anytime, greedy π, hf baseline", &allocate.Greedy{}}, {"anytime, color-gc hf π, hf baseline", &allocate.ColorGC{Proxy: mc.hf}}} {
+			p, err := allocate.Run(mc.h, shots, ap.a, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			d, err := IIDOf(mc.h, p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if d, err = d.WithBaseline(base); err != nil {
+				t.Fatal(err)
+			}
+			dev := newTableDevice(t, mc.state, uint64(11000+100*si+ai))
+			errs, half := make([]float64, reps), make([]float64, reps)
+			for r := range reps {
+				res, err := Anytime(mc.h, dev, &AnytimeOptions{Plan: d, Delta: delta, MaxShots: shots, FirstRound: 500, Seed: uint64(r)})
+				if err != nil {
+					t.Fatal(err)
+				}
+				errs[r] = math.Abs((res.Interval[0]+res.Interval[1])/2 - mc.energy)
+				half[r] = (res.Interval[1] - res.Interval[0]) / 2
+			}
+			check(mc, ap.name, fmt.Sprint(len(d.Settings)), "anytime interval (Anytime, baseline)", errs, half)
 		}
 	}
 	for _, k := range order {
