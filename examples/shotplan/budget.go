@@ -349,10 +349,11 @@ re-planning. Columns:
   proxy      shots at which the approximate error bar of shotplan estimate is
              expected to reach ε if the state were the proxy (not a guarantee)
   anytime    shots the anytime route (shotplan rounds start with the same
-             -strategy, -reference, -seed, -proxy and -baseline) is expected
-             to need: 2σ²ln(2/δ)/ε² for the single-shot variance σ² of its
-             draws from the reference plan's shares under the proxy; the
-             price of holding at every round comes on top
+             -strategy, -reference, -seed and -baseline, and -proxy for the
+             strategies that take it) is expected to need: 2σ²ln(2/δ)/ε²
+             for the single-shot variance σ² of its draws from the
+             reference plan's shares under the proxy; the price of holding
+             at every round comes on top
 With -proxy worst the expected figures use the largest variance over all
 states (for anytime an upper bound on it) and are close to the certified
 one. Any other -proxy also gives sorted, sorted-gc, color-gc and overlap

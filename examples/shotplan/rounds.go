@@ -958,7 +958,7 @@ unchanged and the variance falls when the measured state is near it.
 sorted-gc, color-gc or overlap its group shares from a classical state; the
 plan is still fixed before any shot. shotplan budget with the same -strategy,
 -reference, -seed, -proxy and -baseline prints the shots this run is
-expected to need (its anytime column). The
+expected to need in its proxy state (its anytime column). The
 state file is replaced atomically after each round; re-adding a round's
 records is refused. Shot noise only: readout error is not covered. Drift is
 tested: every report checks that each setting's outcome parity stayed the
