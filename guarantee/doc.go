@@ -3,7 +3,8 @@
 // and after the shots, from the data ([Empirical], [RandomizedBound], and
 // [Sequential], which stops as soon as a target accuracy is certified). It
 // also plans budgets for a target accuracy ([BudgetOf], in copies of one
-// plan and in one coverage scan; [PlanBudget], the exact smallest prefix of
+// plan and in one coverage scan, with the anytime route's expected shots;
+// [BudgetWith] adds that route's baseline; [PlanBudget], the exact smallest prefix of
 // a plan, much slower; [ImportanceShots]) and advises which terms to drop
 // ([Truncation]).
 //

@@ -15,6 +15,7 @@ import (
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/internal/atomicfile"
+	"github.com/shotplan/shotplan/pauli"
 )
 
 // moleculeTableEnv names the environment variable that turns on
@@ -26,8 +27,10 @@ const moleculeTableEnv = "SHOTPLAN_MOLTABLE"
 // reference molecule, encoding and built-in strategy, a plan of 10^4 shots,
 // its ε²M on the exact ground state (MeritOf), its certificate at δ = 0.05
 // (CertifyPlan), the data bound of one seeded simulation (Empirical) and
-// the shots to certify 1.6 mHa (BudgetOf). It also checks, on every row,
-// properties that hold whatever the numbers are:
+// the shots to certify 1.6 mHa (BudgetOf), with the expected shots of the
+// anytime route without and with the Hartree–Fock baseline (BudgetWith,
+// MATH.md §4.11). It also checks, on every row, properties that hold
+// whatever the numbers are:
 //
 //   - 0 < Optimal ≤ PlanValue (Cauchy–Schwarz, MATH.md §2.3) and
 //     PlanValue ≤ M·V, the worst case over all states (|Z| ≤ s_Q, §3.1);
@@ -36,11 +39,14 @@ const moleculeTableEnv = "SHOTPLAN_MOLTABLE"
 //   - the certified radius times sqrt(N) does not change when every shot
 //     count is multiplied by 4 (ε_stat = sqrt(2 V ln(2/δ)), V ∝ 1/N);
 //   - Copies copies of the plan certify 1.6 mHa and Copies − 1 do not
-//     (when the plan covers every term).
+//     (when the plan covers every term);
+//   - the baseline changes only the anytime figures (same Copies and proxy
+//     variance).
 //
 // It also checks that the Jordan–Wigner sector ground state, carried to the
 // Bravyi–Kitaev basis, has the same energy there (a state whose energy is
-// the lowest eigenvalue is a ground state).
+// the lowest eigenvalue is a ground state), and that the Bravyi–Kitaev
+// Hartree–Fock determinant is the Jordan–Wigner one carried the same way.
 func TestMoleculeTable(t *testing.T) {
 	out := os.Getenv(moleculeTableEnv)
 	if out == "" {
@@ -53,8 +59,8 @@ func TestMoleculeTable(t *testing.T) {
 		seed   = 1
 	)
 	var b strings.Builder
-	fmt.Fprintf(&b, "| molecule | enc | qubits | terms | strategy | settings | ε²M plan | ε²M opt. | certified ε | data ε | worst-case shots | anytime shots |\n")
-	fmt.Fprintf(&b, "|---|---|---|---|---|---|---|---|---|---|---|---|\n")
+	fmt.Fprintf(&b, "| molecule | enc | qubits | terms | strategy | settings | ε²M plan | ε²M opt. | certified ε | data ε | worst-case shots | anytime shots | anytime, HF baseline |\n")
+	fmt.Fprintf(&b, "|---|---|---|---|---|---|---|---|---|---|---|---|---|\n")
 	for _, mol := range []struct{ file, name string }{
 		{"h2_sto3g_0.7414A", "H2"}, {"lih_sto3g_1.5949A", "LiH"}, {"h2o_sto3g", "H2O"},
 		{"beh2_sto3g_1.326A", "BeH2"}, {"nh3_sto3g", "NH3"},
@@ -71,9 +77,20 @@ func TestMoleculeTable(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		hfJW, err := g.HartreeFockBits(fermion.JordanWigner)
+		if err != nil {
+			t.Fatal(err)
+		}
 		for _, enc := range []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev} {
 			h, state := hjw, gs.State
+			hf, err := g.HartreeFockBits(enc)
+			if err != nil {
+				t.Fatal(err)
+			}
 			if enc == fermion.BravyiKitaev {
+				if got := bkState(basisState(hfJW, h.Qubits()), h.Qubits()); got[hf[0]] != 1 {
+					t.Fatalf("%s: the Bravyi–Kitaev Hartree–Fock determinant %s is not the Jordan–Wigner one carried over", mol.name, hf.Format(h.Qubits()))
+				}
 				h, _ = moleculeHamiltonian(t, mol.file, enc)
 				state = bkState(gs.State, h.Qubits())
 				// The same eigenvector in the other basis has the same
@@ -82,6 +99,10 @@ func TestMoleculeTable(t *testing.T) {
 				if e := h.Energy(state); math.Abs(e-gs.Energy) > gs.Residual+1e-9 {
 					t.Fatalf("%s: Bravyi–Kitaev energy of the carried ground state %.10f, Jordan–Wigner %.10f", mol.name, e, gs.Energy)
 				}
+			}
+			base, err := guarantee.BaselineOf(h, allocate.BasisProxy{Bits: hf})
+			if err != nil {
+				t.Fatal(err)
 			}
 			for _, name := range allocate.Names() {
 				if name == "fixed" {
@@ -95,7 +116,7 @@ func TestMoleculeTable(t *testing.T) {
 				if err != nil {
 					t.Fatalf("%s %v %s: %v", mol.name, enc, name, err)
 				}
-				row := tableRow(t, h, p, state, delta, target, seed)
+				row := tableRow(t, h, p, state, base, delta, target, seed)
 				fmt.Fprintf(&b, "| %s | %s | %d | %d | %s | %s |\n", mol.name, encName(enc), h.Qubits(), h.Len(), name, row)
 			}
 		}
@@ -141,7 +162,7 @@ func encName(e fermion.Encoding) string {
 
 // tableRow evaluates one plan and checks the properties listed at
 // TestMoleculeTable; it returns the row's cells from "settings" on.
-func tableRow(t *testing.T, h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128, delta, target float64, seed uint64) string {
+func tableRow(t *testing.T, h *hamiltonian.Hamiltonian, p *allocate.Plan, state []complex128, base []float64, delta, target float64, seed uint64) string {
 	t.Helper()
 	what := p.Stats.Strategy
 	m, err := guarantee.MeritOf(h, p, state)
@@ -204,8 +225,16 @@ func tableRow(t *testing.T, h *hamiltonian.Hamiltonian, p *allocate.Plan, state 
 		}
 		p, ref = big, fmt.Sprintf(" (ref. %.0g)", float64(budget))
 	}
-	worst, anytime := "– (uncovered terms)", "– (uncovered terms)"
+	worst, anytime, anytimeHF := "– (uncovered terms)", "– (uncovered terms)", "– (uncovered terms)"
 	if bud.Reachable {
+		hf, err := guarantee.BudgetWith(h, p, target, delta, &guarantee.ShotBudgetOptions{State: state, Baseline: base})
+		if err != nil {
+			t.Fatalf("%s: %v", what, err)
+		}
+		if hf.Copies != bud.Copies || hf.ProxyVariance != bud.ProxyVariance || !hf.Baseline {
+			t.Errorf("%s: with the baseline %d copies, proxy variance %g; without %d, %g", what, hf.Copies, hf.ProxyVariance, bud.Copies, bud.ProxyVariance)
+		}
+		anytimeHF = sci(float64(hf.AnytimeShots)) + ref
 		for _, r := range []int{bud.Copies, bud.Copies - 1} {
 			if r < 1 {
 				continue
@@ -220,7 +249,7 @@ func tableRow(t *testing.T, h *hamiltonian.Hamiltonian, p *allocate.Plan, state 
 		}
 		worst, anytime = sci(float64(bud.Shots))+ref, sci(float64(bud.AnytimeShots))+ref
 	}
-	return fmt.Sprintf("%d | %.3g | %.3g | %.3g | %.3g | %s | %s", m.Settings, m.PlanValue, m.Optimal, cert.Bound, db.Bound, worst, anytime)
+	return fmt.Sprintf("%d | %.3g | %.3g | %.3g | %.3g | %s | %s | %s", m.Settings, m.PlanValue, m.Optimal, cert.Bound, db.Bound, worst, anytime, anytimeHF)
 }
 
 // copies returns r copies of p: every shot and cover count times r.
@@ -235,6 +264,13 @@ func copies(p *allocate.Plan, r int) *allocate.Plan {
 		cp.Cover[i] = r * n
 	}
 	return &cp
+}
+
+// basisState returns |b⟩ as 2^n amplitudes.
+func basisState(b pauli.Bits, n int) []complex128 {
+	v := make([]complex128, 1<<n)
+	v[b[0]] = 1
+	return v
 }
 
 // sci prints a shot count as 2.3e+08.

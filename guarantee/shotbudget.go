@@ -53,15 +53,21 @@ type ShotBudget struct {
 	// were the proxy. It is an expectation, not a guarantee.
 	ProxyVariance float64
 	// IIDVariance is the single-shot variance σ² of the plan's i.i.d. view
-	// ([IIDOf]: every shot draws its setting from the plan's shares) in the
-	// proxy state, or its upper bound Reference·V over all states without
-	// one. AnytimeShots is ⌈2 σ² ln(2/δ)/(Epsilon − Bias)²⌉, the sample size
-	// the anytime route ([Anytime]) tunes its bets for when it knows σ²:
-	// the shots at which a normal-width interval at the Hoeffding level
-	// reaches Epsilon. The betting sequence's own price for holding at
-	// every time comes on top (measured in BENCHMARKS.md); it is an
-	// expectation, not a guarantee.
+	// d = [IIDOf](h, p) (every shot draws its setting from the plan's
+	// shares, each term weighed by h_i/f_i), of its shifted values when
+	// [ShotBudgetOptions].Baseline is set (d.WithBaseline, MATH.md §4.11), in
+	// the proxy state; without one, the upper bound Σ_Q π(Q)(A_Q + |C_Q|)²
+	// over all states ([AnytimeBudget] with a nil state). AnytimeShots is
+	// ⌈2 σ² ln(2/δ)/(Epsilon − Bias)²⌉, the sample size the anytime route
+	// ([Anytime]) tunes its bets for when it knows σ²: the shots at which
+	// a normal-width interval at the Hoeffding level reaches Epsilon. Both
+	// are [AnytimeBudget] of d. The betting sequence's own price for
+	// holding at every time comes on top (measured in BENCHMARKS.md); it
+	// is an expectation, not a guarantee.
 	IIDVariance float64
+	// Baseline reports that IIDVariance and AnytimeShots are of the
+	// shifted values ([ShotBudgetOptions].Baseline).
+	Baseline bool
 	// Proxy names the variance proxy: "worst case" or "state".
 	Proxy string
 }
@@ -83,8 +89,35 @@ type ShotBudget struct {
 // setting, n·2^n operations, and needs n ≤ [hamiltonian.MaxExactQubits].
 //
 // BudgetOf returns an error for ε ≤ 0, δ outside (0, 1), a plan that does
-// not match h, or a state of the wrong length.
+// not match h, or a state of the wrong length. It is [BudgetWith] with
+// only a state.
 func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, state []complex128) (*ShotBudget, error) {
+	return BudgetWith(h, p, eps, delta, &ShotBudgetOptions{State: state})
+}
+
+// ShotBudgetOptions are the optional inputs of [BudgetWith]. The zero value
+// (or nil) is the worst case without a baseline.
+type ShotBudgetOptions struct {
+	// State is the proxy state of [BudgetOf], nil for the worst case.
+	State []complex128
+	// Baseline, if not nil, holds the constants c_i of every term (one
+	// per term of h, each in [−1, 1], for example [BaselineOf] of a
+	// Hartree–Fock determinant) that the anytime route shifts its
+	// single-shot values by ([IID.WithBaseline], MATH.md §4.11).
+	// IIDVariance and AnytimeShots are then those of
+	// IIDOf(h, p).WithBaseline(Baseline); the a-priori Copies and the
+	// grouped estimate's ProxyVariance do not change.
+	Baseline []float64
+}
+
+// BudgetWith is [BudgetOf] with options: the proxy state and the baseline
+// of the anytime route. It also returns an error for a baseline that
+// [IID.WithBaseline] refuses (naming the term).
+func BudgetWith(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, opt *ShotBudgetOptions) (*ShotBudget, error) {
+	if opt == nil {
+		opt = &ShotBudgetOptions{}
+	}
+	state := opt.State
 	switch {
 	case h == nil || p == nil:
 		return nil, fmt.Errorf("guarantee: nil Hamiltonian or plan")
@@ -118,6 +151,12 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 	if state != nil && len(state) != 1<<h.Qubits() {
 		return nil, fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), h.Qubits())
 	}
+	if opt.Baseline != nil {
+		if err := checkBaseline(h, opt.Baseline); err != nil {
+			return nil, err
+		}
+		b.Baseline = true
+	}
 	margin := eps - b.Bias
 	b.Reachable = margin > 0
 	if !b.Reachable {
@@ -149,11 +188,18 @@ func BudgetOf(h *hamiltonian.Hamiltonian, p *allocate.Plan, eps, delta float64, 
 		return nil, err
 	}
 	b.ProxyShots = b.ProxyCopies * c.shots
-	n := math.Ceil(2 * b.IIDVariance * l / (margin * margin))
-	if n > float64(math.MaxInt/2) {
-		return nil, fmt.Errorf("guarantee: the anytime route needs more than %d shots", math.MaxInt/2)
+	// The anytime figures are those of the distribution the anytime route
+	// draws from: one path with AnytimeBudget.
+	d, err := IIDOf(h, p)
+	if err != nil {
+		return nil, err
 	}
-	b.AnytimeShots = max(int(n), 1)
+	if d, err = d.WithBaseline(opt.Baseline); err != nil {
+		return nil, err
+	}
+	if b.AnytimeShots, b.IIDVariance, err = AnytimeBudget(d, eps, delta, state); err != nil {
+		return nil, err
+	}
 	return b, nil
 }
 
@@ -173,7 +219,7 @@ func wholeCopies(x float64, shots int, ok func(r float64) bool) (int, error) {
 	return r, nil
 }
 
-// proxyVariances sets b.ProxyVariance and b.IIDVariance from the state.
+// proxyVariances sets b.ProxyVariance from the state.
 //
 // For a distinct setting Q let c_i = h_i/N_i and read term i as
 // σ_i·χ_{m_i}(b), with χ_m(b) = (−1)^{|b∧m|} the parity of the outcome on
@@ -185,10 +231,7 @@ func wholeCopies(x float64, shots int, ok func(r float64) bool) (int, error) {
 //	M2_Q = E_Q[(Σ c_i σ_i χ_{m_i})²] = Σ_{i,j} c_i c_j σ_i σ_j F_Q[m_i ⊕ m_j].
 //
 // The grouped estimate of one copy sums m_Q independent shots of each Q, so
-// its variance is Σ_Q m_Q (M2_Q − M1_Q²). The i.i.d. view draws Q with
-// probability m_Q/N_0 and weighs term i by h_i/f_i = N_0 c_i, so its
-// single-shot value (less h_0) has second moment N_0 Σ_Q m_Q M2_Q and mean
-// μ = Σ_Q m_Q M1_Q = Σ_{i covered} h_i ⟨P_i⟩ (as Σ_{Q∋i} m_Q = N_i).
+// its variance is Σ_Q m_Q (M2_Q − M1_Q²).
 func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
 	h := c.h
 	n := h.Qubits()
@@ -200,16 +243,12 @@ func proxyVariances(c *coverage, state []complex128, b *ShotBudget) error {
 		return fmt.Errorf("guarantee: proxy state: %w", err)
 	}
 	var sh shotMoments
-	grouped, second, mean := 0.0, 0.0, 0.0
+	grouped := 0.0
 	for q, s := range c.settings {
 		m1, m2 := sh.of(h, c, q, s, sim)
-		w := float64(c.mult[q])
-		grouped += w * max(m2-m1*m1, 0)
-		second += w * m2
-		mean += w * m1
+		grouped += float64(c.mult[q]) * max(m2-m1*m1, 0)
 	}
 	b.ProxyVariance = grouped
-	b.IIDVariance = max(float64(c.shots)*second-mean*mean, 0)
 	return nil
 }
 
@@ -265,8 +304,17 @@ func (sh *shotMoments) of(h *hamiltonian.Hamiltonian, c *coverage, q int, s paul
 // ⌈2 σ² ln(2/δ)/(ε − Bias)²⌉ the anytime route tunes its bets for, the
 // formula of [ShotBudget].AnytimeShots; an expectation, not a guarantee.
 // It costs one Walsh–Hadamard transform of 2^n Born probabilities per
-// setting of d's support. It returns an error for ε ≤ Bias (shots is then
-// unbounded), δ outside (0, 1), or a state of the wrong length.
+// setting of d's support.
+//
+// A nil state means the worst case: σ² is then the upper bound
+// Σ_Q π(Q)(A_Q + |C_Q|)² over all states, with A_Q = Σ_{i◁Q, f_i>0}
+// |h_i|/f_i and C_Q = Σ_{i◁Q, f_i>0} (h_i/f_i) c_i (0 without a baseline):
+// given Q, X_c − h_0 − C = Σ (h_i/f_i) s_i − C_Q lies within A_Q + |C_Q|
+// of 0, and Var X_c ≤ E[(X_c − h_0 − C)²] (MATH.md §4.11). A baseline
+// never lowers this bound; it pays only near its state.
+//
+// It returns an error for ε ≤ Bias (shots is then unbounded), δ outside
+// (0, 1), or a state of the wrong length.
 func AnytimeBudget(d *IID, eps, delta float64, state []complex128) (shots int, variance float64, err error) {
 	switch {
 	case d == nil || d.h == nil:
@@ -278,15 +326,19 @@ func AnytimeBudget(d *IID, eps, delta float64, state []complex128) (shots int, v
 	case !(eps > d.Bias):
 		return 0, 0, fmt.Errorf("guarantee: target ε = %v is not above the bias %v of terms π never covers", eps, d.Bias)
 	}
-	n := d.h.Qubits()
-	if n > hamiltonian.MaxExactQubits || len(state) != 1<<n {
-		return 0, 0, fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), n)
+	if state == nil {
+		variance = d.worstVariance()
+	} else {
+		n := d.h.Qubits()
+		if n > hamiltonian.MaxExactQubits || len(state) != 1<<n {
+			return 0, 0, fmt.Errorf("guarantee: the proxy state has %d amplitudes, want 2^%d", len(state), n)
+		}
+		sim, err := estimate.NewSimulator(state, 0, nil)
+		if err != nil {
+			return 0, 0, fmt.Errorf("guarantee: proxy state: %w", err)
+		}
+		variance = d.stateVariance(sim)
 	}
-	sim, err := estimate.NewSimulator(state, 0, nil)
-	if err != nil {
-		return 0, 0, fmt.Errorf("guarantee: proxy state: %w", err)
-	}
-	variance = d.stateVariance(sim)
 	l := math.Log(2 / delta)
 	margin := eps - d.Bias
 	x := math.Ceil(2 * variance * l / (margin * margin))
@@ -294,6 +346,23 @@ func AnytimeBudget(d *IID, eps, delta float64, state []complex128) (shots int, v
 		return 0, variance, fmt.Errorf("guarantee: the anytime route needs more than %d shots", math.MaxInt/2)
 	}
 	return max(int(x), 1), variance, nil
+}
+
+// worstVariance returns Σ_k π_k (A_k + |C_k|)², the bound on Var(X_c)
+// over all states of AnytimeBudget with a nil state.
+func (d *IID) worstVariance() float64 {
+	v := 0.0
+	for k := range d.Settings {
+		a := 0.0
+		for _, x := range d.coef[k] {
+			a += math.Abs(x)
+		}
+		if d.base != nil {
+			a += math.Abs(d.shift[k])
+		}
+		v += d.Prob[k] * a * a
+	}
+	return v
 }
 
 // stateVariance returns Var(X) (Var(X_c) with a baseline) in the

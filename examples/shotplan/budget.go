@@ -27,8 +27,12 @@ type budgetRow struct {
 	Shots     int     `json:"certified_shots"`
 	Proxy     int     `json:"proxy_shots"`
 	Anytime   int     `json:"anytime_shots"`
-	Seconds   float64 `json:"seconds"`
-	Note      string  `json:"note,omitempty"`
+	// AnytimeVariance is the single-shot variance σ² behind Anytime: of
+	// the shifted values with -baseline, in the proxy state (an upper
+	// bound over all states with -proxy worst).
+	AnytimeVariance float64 `json:"anytime_variance"`
+	Seconds         float64 `json:"seconds"`
+	Note            string  `json:"note,omitempty"`
 	// Readout is the readout-aware budget (guarantee.PlanReadoutBudget),
 	// present with -readout or -calibration.
 	Readout *readoutBudgetRow `json:"readout,omitempty"`
@@ -60,6 +64,7 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 	seed := fs.Uint64("seed", 1, "seed of the random strategies")
 	reference := fs.Int("reference", 0, "shots of the reference plan whose copies are counted (default: doubled from max(1000, 2·terms) until every term is measured)")
 	proxy := fs.String("proxy", "worst", "variance proxy for the expected figures, and for the group shares of "+proxyStrategies+" (as plan -proxy): "+proxyUsage)
+	baseline := fs.String("baseline", "none", "the anytime column for the route of rounds start -baseline: "+baselineUsage)
 	sf := addSectorFlags(fs)
 	readout := fs.String("readout", "", "also plan calibration and measurement shots for the readout-mitigated certificate, for these expected flip rates: P, p01=X,p10=Y or @FILE as in simulate")
 	calibration := fs.String("calibration", "", "like -readout, with the flip rates observed in this calibration records file (see calibrate)")
@@ -88,7 +93,14 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			}
 			names = []string{*strategy}
 		}
-		h, px, err := readHamProxy(*ham, *proxy, sf)
+		if err := need("ham", *ham); err != nil {
+			return err
+		}
+		h, g, err := readHamAny(*ham)
+		if err != nil {
+			return bad(err)
+		}
+		px, base, baseName, err := readProxyBaseline(*proxy, *baseline, *ham, h, g, sf)
 		if err != nil {
 			return err
 		}
@@ -112,25 +124,35 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 			if name == "fixed" {
 				continue
 			}
-			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, px.proxy, rates, pairModels, *calDelta)
+			row, err := budgetFor(*ham, h, name, *seed, *reference, *eps, *delta, state, px.proxy, base, rates, pairModels, *calDelta)
 			if err != nil {
 				return err
 			}
 			rows = append(rows, row)
 		}
+		if baseName == "" {
+			baseName = "none"
+		}
 		if e.json {
 			return e.writeJSON(struct {
-				Epsilon float64     `json:"target"`
-				Delta   float64     `json:"delta"`
-				Proxy   string      `json:"proxy"`
-				Rows    []budgetRow `json:"strategies"`
-			}{*eps, *delta, proxyName, rows})
+				Epsilon  float64     `json:"target"`
+				Delta    float64     `json:"delta"`
+				Proxy    string      `json:"proxy"`
+				Baseline string      `json:"baseline"`
+				Rows     []budgetRow `json:"strategies"`
+			}{*eps, *delta, proxyName, baseName, rows})
 		}
 		if rates != nil {
 			e.printReadoutBudget(rows, *ham, *eps, *delta)
 			return nil
 		}
 		fmt.Fprintf(e.stdout, "shots for |error| ≤ %g with probability ≥ %g%% on %s (proxy: %s)\n", *eps, 100*(1-*delta), *ham, proxyName)
+		if base != nil {
+			fmt.Fprintf(e.stdout, "anytime: values shifted by the baseline ⟨P_i⟩ of %s\n", baseName)
+			if state == nil {
+				fmt.Fprintf(e.stdout, "anytime: -proxy worst bounds the variance over all states, which a baseline never lowers; give -proxy exact, hf, BITS or FILE for the expected shots\n")
+			}
+		}
 		width := len("strategy")
 		for _, r := range rows {
 			width = max(width, len(r.Strategy))
@@ -244,7 +266,7 @@ func (e *env) printReadoutBudget(rows []budgetRow, ham string, eps, delta float6
 
 // budgetFor plans the reference plan of one strategy and counts its copies;
 // with rates, also the readout-aware budget of calibration and copies.
-func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, px allocate.Proxy, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
+func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64, reference int, eps, delta float64, state []complex128, px allocate.Proxy, base []float64, rates []estimate.Readout, pairs []estimate.PairReadout, calDelta float64) (budgetRow, error) {
 	start := time.Now()
 	row := budgetRow{Strategy: name}
 	a, err := allocate.ByName(name, seed)
@@ -273,12 +295,13 @@ func budgetFor(ham string, h *hamiltonian.Hamiltonian, name string, seed uint64,
 		}
 		n *= 2
 	}
-	b, err := guarantee.BudgetOf(h, p, eps, delta, state)
+	b, err := guarantee.BudgetWith(h, p, eps, delta, &guarantee.ShotBudgetOptions{State: state, Baseline: base})
 	if err != nil {
 		return row, fmt.Errorf("%s: %w", name, err)
 	}
 	row.Reference, row.Settings, row.Bias, row.Reachable = b.Reference, b.Settings, b.Bias, b.Reachable
 	row.Copies, row.Shots, row.Proxy, row.Anytime = b.Copies, b.Shots, b.ProxyShots, b.AnytimeShots
+	row.AnytimeVariance = b.IIDVariance
 	if rates != nil {
 		row.Readout = &readoutBudgetRow{CalibrationDelta: calDelta}
 		if row.Readout.CalibrationDelta == 0 {
@@ -325,18 +348,29 @@ re-planning. Columns:
   certified  copies × reference shots: a guarantee for every state
   proxy      shots at which the approximate error bar of shotplan estimate is
              expected to reach ε if the state were the proxy (not a guarantee)
-  anytime    shots the anytime route (shotplan rounds) is expected to need:
-             2σ²ln(2/δ)/ε² for the single-shot variance σ² under the proxy;
-             the price of holding at every round comes on top
+  anytime    shots the anytime route (shotplan rounds start with the same
+             -strategy, -reference, -seed and -baseline, and -proxy for the
+             strategies that take it) is expected to need: 2σ²ln(2/δ)/ε²
+             for the single-shot variance σ² of its draws from the
+             reference plan's shares under the proxy; the price of holding
+             at every round comes on top
 With -proxy worst the expected figures use the largest variance over all
-states and are close to the certified one. Any other -proxy also gives
-sorted, sorted-gc and color-gc their group shares (as plan -proxy): the
-reference plan is still fixed before any shot, so its certified count
-holds for every state.
+states (for anytime an upper bound on it) and are close to the certified
+one. Any other -proxy also gives sorted, sorted-gc, color-gc and overlap
+their group shares (as plan -proxy): the reference plan is still fixed
+before any shot, so its certified count holds for every state.
+-baseline hf|exact|BITS|FILE makes the anytime column that of the route with
+every shot's value shifted by the terms' expectations in that classical
+state (rounds start -baseline, MATH.md §4.11): same mean, σ² of the shifted
+values. It changes no other column. Under -proxy worst it only raises the
+bound, so pair it with a -proxy state (-proxy exact -baseline hf: the
+expected shots if the device prepares the ground state).
 
-JSON keys, per strategy: reference_shots, settings, bias (of terms the
-reference plan never measures), reachable (bias < ε), copies,
-certified_shots, proxy_shots, anytime_shots, seconds, note.
+JSON keys: target, delta, proxy, baseline ("none" or the baseline state),
+and per strategy: reference_shots, settings, bias (of terms the reference
+plan never measures), reachable (bias < ε), copies, certified_shots,
+proxy_shots, anytime_shots, anytime_variance (σ² behind anytime_shots),
+seconds, note.
 
 With -readout RATES (the flip rates expected of the device) or -calibration
 FILE (the rates observed in earlier calibration records) the budget is for

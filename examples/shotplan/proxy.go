@@ -17,7 +17,7 @@ import (
 // by the exact solver before any planning.
 const maxExactProxyQubits = 20
 
-// proxyUsage is the text of -proxy in plan and budget.
+// proxyUsage is the text of -proxy in plan, budget and rounds start.
 const proxyUsage = "classical stand-in for the measured state, computed before any shot: worst (every state), hf (the Hartree–Fock determinant of an FCIDUMP -ham, NELEC and MS2 or -electrons and -spin), exact (the exact ground state of the sector, at most 20 qubits), BITS (a basis state, qubit 0 first), or an amplitude FILE (\"shotplan amplitudes 1\", as simulate -prepare); the plan stays fixed before any shot, so every certificate of it stays rigorous"
 
 // chosenProxy is the state of -proxy.
@@ -33,6 +33,9 @@ type chosenProxy struct {
 // -proxy spec for it with the sector flags.
 func readHamProxy(ham, spec string, sf sectorFlags) (*hamiltonian.Hamiltonian, chosenProxy, error) {
 	if err := need("ham", ham); err != nil {
+		return nil, chosenProxy{}, err
+	}
+	if err := sf.usedBy([]string{"proxy"}, []string{spec}); err != nil {
 		return nil, chosenProxy{}, err
 	}
 	h, g, err := readHamAny(ham)
@@ -52,15 +55,31 @@ func resolveProxy(spec string, ham string, h *hamiltonian.Hamiltonian, g *molecu
 	return resolveState("proxy", spec, ham, h, g, sf)
 }
 
-// resolveState reads a classical state given as flag -name (-proxy of plan
-// and budget, -baseline of rounds start) for h: worst (no state), hf,
-// exact, a bit string or an amplitude file; see resolveProxy.
+// usedBy refuses -electrons or -spin when none of the flags names (such as
+// "proxy", "baseline") has the value hf or exact in specs: the sector flags
+// choose the sector of those states only.
+func (sf sectorFlags) usedBy(names, specs []string) error {
+	if *sf.electrons == "" && *sf.spin == "" {
+		return nil
+	}
+	var given []string
+	for k, spec := range specs {
+		spec = strings.TrimSpace(spec)
+		if spec == "hf" || spec == "exact" {
+			return nil
+		}
+		given = append(given, "-"+names[k]+" "+spec)
+	}
+	return badf("-electrons and -spin choose the sector of -%s hf or exact, not of %s", strings.Join(names, " or -"), strings.Join(given, " "))
+}
+
+// resolveState reads a classical state given as flag -name (-proxy of plan,
+// budget and rounds start, -baseline of budget and rounds start) for h:
+// worst (no state), hf, exact, a bit string or an amplitude file; see
+// resolveProxy. The caller checks the sector flags (sectorFlags.usedBy).
 func resolveState(name, spec string, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, error) {
 	n := h.Qubits()
 	spec = strings.TrimSpace(spec)
-	if spec != "hf" && spec != "exact" && (*sf.electrons != "" || *sf.spin != "") {
-		return chosenProxy{}, badf("-electrons and -spin choose the sector of -%s hf or exact, not of -%s %s", name, name, spec)
-	}
 	switch spec {
 	case "worst", "":
 		return chosenProxy{name: "worst case over all states"}, nil

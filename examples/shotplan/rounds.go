@@ -546,7 +546,8 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 	first := fs.Int("first", 1000, "shots of round 1")
 	growth := fs.Float64("growth", 1.5, "round k has first·growth^(k−1) shots (1 for equal rounds)")
 	maxShots := fs.Int("max-shots", 100_000_000, "stop after this many shots in all, certified or not")
-	baseline := fs.String("baseline", "none", "shift every shot's value by constants c_i = ⟨P_i⟩ of a classical state, fixed now (a control variate: same mean, smaller variance near that state): none, hf (the Hartree–Fock determinant of an FCIDUMP -ham), exact (the exact ground state, at most 20 qubits), BITS (a basis state, qubit 0 first) or an amplitude FILE, as -proxy of plan")
+	baseline := fs.String("baseline", "none", baselineUsage)
+	proxy := fs.String("proxy", "worst", "variance proxy for the group shares of "+proxyStrategies+" in the reference plan (as plan -proxy): "+proxyUsage)
 	sf := addSectorFlags(fs)
 	out := fs.String("o", "", "state file to create (required; an existing file is kept)")
 	return func() error {
@@ -587,14 +588,18 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 		if err := need("ham", *ham); err != nil {
 			return err
 		}
+		if p := strings.TrimSpace(*proxy); p != "worst" && p != "" && !setProxy(a, nil) {
+			return badf("-proxy %s: strategy %s does not weigh groups; -proxy is for %s", *proxy, *strategy, proxyStrategies)
+		}
 		h, g, err := readHamAny(*ham)
 		if err != nil {
 			return bad(err)
 		}
-		c, source, err := readBaseline(*baseline, *ham, h, g, sf)
+		px, c, source, err := readProxyBaseline(*proxy, *baseline, *ham, h, g, sf)
 		if err != nil {
 			return err
 		}
+		setProxy(a, px.proxy)
 		n, fixed := *reference, *reference > 0
 		if !fixed {
 			n = max(1000, 2*h.Len())
@@ -647,9 +652,10 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 			Reference int        `json:"reference_shots"`
 			Settings  int        `json:"settings"`
 			Bias      float64    `json:"bias"`
+			Proxy     string     `json:"proxy"`
 			Baseline  string     `json:"baseline"`
 			Range     [2]float64 `json:"shot_range"`
-		}{*out, st.Strategy, p.TotalShots(), len(st.Settings), r.d.Bias, "none", [2]float64{lo, hi}}
+		}{*out, st.Strategy, p.TotalShots(), len(st.Settings), r.d.Bias, px.name, "none", [2]float64{lo, hi}}
 		if source != "" {
 			res.Baseline = source
 		}
@@ -657,8 +663,11 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 			return e.writeJSON(res)
 		}
 		shift := ""
+		if px.proxy != nil && setProxy(a, px.proxy) {
+			shift = ", group shares from the proxy " + px.name
+		}
 		if source != "" {
-			shift = ", values shifted by the baseline ⟨P_i⟩ of " + source
+			shift += ", values shifted by the baseline ⟨P_i⟩ of " + source
 		}
 		fmt.Fprintf(e.stdout, "wrote %s: every shot draws one of %d settings of a %d-shot %s plan%s; next: shotplan rounds next -state %s -o round1.json\n",
 			*out, len(st.Settings), res.Reference, st.Strategy, shift, *out)
@@ -666,21 +675,51 @@ func roundsStartFlags(fs *flag.FlagSet, e *env) func() error {
 	}
 }
 
-// readBaseline resolves -baseline of rounds start: nil for none, else the
-// ⟨P_i⟩ of every term in the state -proxy would read from the same text
-// (resolveState), with the state's description.
-func readBaseline(spec, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) ([]float64, string, error) {
+// baselineUsage is the text of -baseline in rounds start and budget.
+const baselineUsage = "shift every shot's value by constants c_i = ⟨P_i⟩ of a classical state, fixed now (a control variate: same mean, smaller variance near that state): none, hf (the Hartree–Fock determinant of an FCIDUMP -ham), exact (the exact ground state, at most 20 qubits), BITS (a basis state, qubit 0 first) or an amplitude FILE, as -proxy of plan"
+
+// readProxyBaseline resolves -proxy and -baseline of rounds start and
+// budget for h, read from the file ham (g its integrals for an FCIDUMP
+// file, else nil): the proxy state, the baseline (nil for none) and the
+// baseline state's description ("" for none). The sector flags may serve
+// either; a state named twice is resolved once.
+func readProxyBaseline(proxy, baseline, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags) (chosenProxy, []float64, string, error) {
+	if err := sf.usedBy([]string{"proxy", "baseline"}, []string{proxy, baseline}); err != nil {
+		return chosenProxy{}, nil, "", err
+	}
+	px, err := resolveProxy(proxy, ham, h, g, sf)
+	if err != nil {
+		return chosenProxy{}, nil, "", err
+	}
+	var same *chosenProxy
+	if px.proxy != nil && strings.TrimSpace(proxy) == strings.TrimSpace(baseline) {
+		same = &px
+	}
+	c, source, err := readBaseline(baseline, ham, h, g, sf, same)
+	if err != nil {
+		return chosenProxy{}, nil, "", err
+	}
+	return px, c, source, nil
+}
+
+// readBaseline resolves -baseline of rounds start and budget: nil for
+// none, else the ⟨P_i⟩ of every term in the state -proxy would read from
+// the same text (resolveState), with the state's description. same, if not
+// nil, is the state already resolved from the same text (the command's
+// -proxy), taken instead of resolving it again. The caller checks the
+// sector flags (sectorFlags.usedBy).
+func readBaseline(spec, ham string, h *hamiltonian.Hamiltonian, g *molecule.Integrals, sf sectorFlags, same *chosenProxy) ([]float64, string, error) {
 	switch strings.TrimSpace(spec) {
 	case "none", "":
-		if *sf.electrons != "" || *sf.spin != "" {
-			return nil, "", badf("-electrons and -spin choose the sector of -baseline hf or exact, not of -baseline none")
-		}
 		return nil, "", nil
 	case "worst":
 		return nil, "", badf("-baseline worst: a baseline is one state's values; use -baseline none for no shift")
 	}
-	px, err := resolveState("baseline", spec, ham, h, g, sf)
-	if err != nil {
+	var px chosenProxy
+	var err error
+	if same != nil {
+		px = *same
+	} else if px, err = resolveState("baseline", spec, ham, h, g, sf); err != nil {
 		return nil, "", err
 	}
 	c, err := guarantee.BaselineOf(h, px.proxy)
@@ -914,7 +953,12 @@ interval is an anytime-valid betting confidence sequence, so it holds at
 every round at once and the run may stop whenever it is narrow enough.
 -baseline hf|exact|BITS|FILE (rounds start) shifts every shot's value by the
 terms' expectations in a classical state fixed before any shot: the mean is
-unchanged and the variance falls when the measured state is near it. The
+unchanged and the variance falls when the measured state is near it.
+-proxy (rounds start, as plan -proxy) gives the reference plan of sorted,
+sorted-gc, color-gc or overlap its group shares from a classical state; the
+plan is still fixed before any shot. shotplan budget with the same -strategy,
+-reference, -seed, -proxy and -baseline prints the shots this run is
+expected to need in its proxy state (its anytime column). The
 state file is replaced atomically after each round; re-adding a round's
 records is refused. Shot noise only: readout error is not covered. Drift is
 tested: every report checks that each setting's outcome parity stayed the
