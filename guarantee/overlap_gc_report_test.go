@@ -20,8 +20,8 @@ import (
 const overlapGCReportEnv = "SHOTPLAN_OVERLAP_GC_REPORT"
 
 // TestOverlapGCReport compares overlap-gc (overlapped generally commuting
-// groups with coefficient splitting) with overlap, sorted-gc and
-// greedy-gc on H2O and BeH2 (STO-3G, Jordan–Wigner), 10^4 shots: ε²M in
+// groups with coefficient splitting) with overlap, sorted-gc (with and
+// without the Hartree–Fock proxy) and greedy-gc on H2O and BeH2 (STO-3G, Jordan–Wigner), 10^4 shots: ε²M in
 // the exact ground state (MeritOf) and the certified bound at δ = 0.05.
 // It checks, on every row, that the certificate's V bounds the plan's
 // variance in the ground state (PlanValue ≤ M·V, MATH.md §2.5).
@@ -53,6 +53,7 @@ func TestOverlapGCReport(t *testing.T) {
 			a               allocate.Allocator
 		}{
 			{"sorted-gc", "–", &allocate.SortedGC{}},
+			{"sorted-gc", "Hartree–Fock", &allocate.SortedGC{Proxy: hfp}},
 			{"greedy-gc", "–", &allocate.GreedyGC{}},
 			{"overlap", "none (worst case)", &allocate.Overlap{}},
 			{"overlap", "Hartree–Fock", &allocate.Overlap{Proxy: hfp}},
