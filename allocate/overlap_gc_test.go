@@ -1,9 +1,13 @@
 package allocate_test
 
 import (
+	"bytes"
+	"io"
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/google/go-cmp/cmp"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/allocate/allocatetest"
@@ -145,4 +149,63 @@ func TestOverlapGCProxyCovariance(t *testing.T) {
 	if math.Abs(float64(p.Shots[0])-want) > 1 {
 		t.Errorf("shots %v, want about %.2f to the XX, YY group", p.Shots, want)
 	}
+}
+
+// TestPlanFileEntangledSplit writes an overlap-gc plan in both layouts
+// (version 3 and the compact version 4) and reads it back: the same
+// settings, the same split, and every read-back entangled setting covers
+// the same terms with the same signs as the original (its circuit is
+// rebuilt from the generators), so the estimate of the read-back plan is
+// that of the plan.
+func TestPlanFileEntangledSplit(t *testing.T) {
+	h := gcSplitHamiltonian(t)
+	p, err := allocate.Run(h, 100, &allocate.OverlapGC{}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Split.Entries() == 0 {
+		t.Fatal("the plan has no split; the test needs one")
+	}
+	for _, c := range []struct {
+		version string
+		write   func(io.Writer, *allocate.Plan, uint64) error
+	}{
+		{`"version": 3`, allocate.WritePlan},
+		{`"version": 4`, allocate.WriteCompactPlan},
+	} {
+		var b bytes.Buffer
+		if err := c.write(&b, p, 0); err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(b.String(), c.version) {
+			t.Fatalf("want %s:\n%s", c.version, b.String())
+		}
+		f, err := allocate.ReadPlan(&b)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Check(h); err != nil {
+			t.Fatal(err)
+		}
+		key := cmp.Comparer(func(a, b interface{ Key() string }) bool { return a.Key() == b.Key() })
+		if d := cmp.Diff(p.Split, f.Plan.Split, key); d != "" {
+			t.Errorf("%s: split read back differs (-wrote +read):\n%s", c.version, d)
+		}
+		if d := cmp.Diff(p.Settings, f.Plan.Settings, key); d != "" {
+			t.Errorf("%s: settings read back differ (-wrote +read):\n%s", c.version, d)
+		}
+		for k, s := range f.Plan.Settings {
+			for i := range h.Len() {
+				_, s0, ok0 := p.Settings[k].Diagonal(h.Pauli(i))
+				_, s1, ok1 := s.Diagonal(h.Pauli(i))
+				if ok0 != ok1 || s0 != s1 {
+					t.Errorf("%s: setting %s: term %s covered %v sign %d, read back %v sign %d", c.version, s, h.Pauli(i), ok0, s0, ok1, s1)
+				}
+			}
+		}
+	}
+}
+
+func BenchmarkOverlapGC(b *testing.B) {
+	benchMoleculePlan(b, func() allocate.Allocator { return &allocate.OverlapGC{} }, benchSettings)
 }
