@@ -38,18 +38,24 @@ func gcSplitHamiltonian(t *testing.T) *hamiltonian.Hamiltonian {
 
 // TestGroupedSplitUnbiasedEntangled is TestGroupedSplitUnbiased for the
 // overlap-gc strategy, whose split weighs terms between entangled
-// settings: E[Ê] = E_0 + Σ_g Σ_b p_g(b)(E_g(b) − E_0) with p_g the Born
+// settings, on gcSplitHamiltonian (worst-case model and state proxies)
+// and on two random 6-qubit Hamiltonians (state proxies): E[Ê] = E_0 + Σ_g Σ_b p_g(b)(E_g(b) − E_0) with p_g the Born
 // probabilities of setting g after its circuit (the simulator's, checked
 // against the direct action of the Pauli strings in
 // TestSimulatorEntangledExpectation), against ⟨ψ|H|ψ⟩ from the Pauli
-// matrices (hamiltoniantest.ApplyString). The tolerance is that of
-// TestGroupedSplitUnbiased, whose rounding argument holds here too (about
-// 10^3 products per estimate, 16·G estimates).
+// matrices (hamiltoniantest.ApplyString). The tolerance follows the
+// rounding argument of TestGroupedSplitUnbiased: each estimate is a sum of
+// about 10^3 products of numbers at most ‖h‖_1 in size, and the expectation
+// sums 2^n·G of them, so the rounding error is below 10^3·2^n·G·2^−53·‖h‖_1.
 func TestGroupedSplitUnbiasedEntangled(t *testing.T) {
-	h := gcSplitHamiltonian(t)
 	rng := rand.New(rand.NewPCG(7, 13))
-	for trial := range 3 {
-		psi := randomState(rng, 4)
+	for trial := range 5 {
+		h := gcSplitHamiltonian(t)
+		if trial >= 3 {
+			h = randomSixQubit(t, rng)
+		}
+		n := h.Qubits()
+		psi := randomState(rng, n)
 		var a allocate.Allocator = &allocate.OverlapGC{}
 		if trial > 0 {
 			px, err := allocate.NewStateProxy(psi)
@@ -75,7 +81,7 @@ func TestGroupedSplitUnbiasedEntangled(t *testing.T) {
 			t.Fatalf("trial %d: the split has no entangled setting", trial)
 		}
 		energy := func(g int, b uint64) float64 {
-			rec := estimate.NewRecords(4)
+			rec := estimate.NewRecords(n)
 			for k, s := range settings {
 				out := pauli.Bits{0}
 				if k == g {
@@ -105,11 +111,35 @@ func TestGroupedSplitUnbiasedEntangled(t *testing.T) {
 			}
 		}
 		want := denseEnergy(h, psi)
-		tol := 2e-12 * float64(len(settings)) * h.OneNorm()
+		tol := 1e3 * float64(len(psi)*len(settings)) * 0x1p-53 * h.OneNorm()
 		if math.Abs(mean-want) > tol {
 			t.Errorf("trial %d: E[Ê] = %.15g, ⟨ψ|H|ψ⟩ = %.15g (difference %.3g, tolerance %.3g)", trial, mean, want, mean-want, tol)
 		}
 	}
+}
+
+// randomSixQubit returns 40 random Pauli strings on 6 qubits, of weight 2
+// to 4 with letters drawn uniformly, coefficients uniform in ±[0.05, 1)
+// (duplicates merge).
+func randomSixQubit(t *testing.T, rng *rand.Rand) *hamiltonian.Hamiltonian {
+	t.Helper()
+	var terms []hamiltonian.Term
+	for range 40 {
+		b := []byte("IIIIII")
+		for range 2 + rng.IntN(3) {
+			b[rng.IntN(6)] = "XYZ"[rng.IntN(3)]
+		}
+		c := 0.05 + 0.95*rng.Float64()
+		if rng.IntN(2) == 0 {
+			c = -c
+		}
+		terms = append(terms, hamiltonian.Term{Pauli: pauli.MustParse(string(b)), Coeff: c})
+	}
+	h, err := hamiltonian.New(6, 0.2, terms)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return h
 }
 
 // TestStreamRefusesEntangledSplit checks that a Stream refuses a plan of
