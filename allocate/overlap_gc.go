@@ -103,11 +103,11 @@ func (o *OverlapGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 		return fmt.Errorf("%s: %w", name, err)
 	}
 	o.split = nil
-	settings, home, err := overlapGCGroups(h)
+	settings, covers, home, err := overlapGCGroups(h)
 	if err != nil {
 		return fmt.Errorf("%s: %w", name, err)
 	}
-	md, err := newGCSplitModel(h, settings, home, o.Proxy, floor)
+	md, err := newGCSplitModel(h, settings, covers, home, o.Proxy, floor)
 	if err != nil {
 		return fmt.Errorf("%s: %w", name, err)
 	}
@@ -144,17 +144,18 @@ func (o *OverlapGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 }
 
 // overlapGCGroups returns the settings of the extended groups of
-// [OverlapGC], without repeats, and each term's home group (the group of
+// [OverlapGC], without repeats, the terms each covers (increasing), and
+// each term's home group (the group of
 // sorted-gc it was placed in, or the group that group was merged into; −1
 // for a term no group covers: the identity).
-func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, []int, error) {
+func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, [][]int, []int, error) {
 	m := h.Len()
 	home := make([]int, m)
 	for i := range home {
 		home[i] = -1
 	}
 	if m == 0 {
-		return nil, home, nil
+		return nil, nil, home, nil
 	}
 	rk := newRanked(h)
 	order := make([]int32, len(rk.order))
@@ -176,17 +177,13 @@ func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, []int, error)
 		lc := newCommutingGroups(rk.w)
 		lc.basis = [][]uint64{slices.Clone(gs.basis[k])}
 		lc.pivot = [][]int32{slices.Clone(gs.pivot[k])}
-		in := make(map[int32]bool, len(ranks[k]))
-		for _, r := range ranks[k] {
-			in[r] = true
-		}
 		fam := make([]pauli.String, 0, len(ranks[k]))
 		for _, r := range ranks[k] {
 			x, z := rk.row(int(r))
 			fam = append(fam, pauli.FromWords(rk.n, x, z))
 		}
 		for r := range rk.order {
-			if in[int32(r)] {
+			if int(groupOf[r]) == k {
 				continue
 			}
 			x, z := rk.row(r)
@@ -199,7 +196,7 @@ func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, []int, error)
 	})
 	for k, err := range errs {
 		if err != nil {
-			return nil, nil, fmt.Errorf("group %d: %w", k, err)
+			return nil, nil, nil, fmt.Errorf("group %d: %w", k, err)
 		}
 	}
 	// Merge the groups whose settings cover the same terms into the first.
@@ -209,6 +206,7 @@ func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, []int, error)
 	first := make(map[string]int, len(settings))
 	into := make([]int, len(settings))
 	var out []pauli.Setting
+	var outCovers [][]int
 	var b strings.Builder
 	for k, c := range covers {
 		b.Reset()
@@ -224,11 +222,12 @@ func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, []int, error)
 		first[key] = len(out)
 		into[k] = len(out)
 		out = append(out, settings[k])
+		outCovers = append(outCovers, c)
 	}
 	for r, k := range groupOf {
 		home[rk.order[r]] = into[k]
 	}
-	return out, home, nil
+	return out, outCovers, home, nil
 }
 
 // gcSplitModel is the model of [OverlapGC]: every pair (term, covering
@@ -252,9 +251,9 @@ type gcSplitModel struct {
 	simplex simplexScratch
 }
 
-// newGCSplitModel finds the covering groups of every term and builds the
-// model, the weights at the home partition.
-func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []int, px Proxy, floor float64) (*gcSplitModel, error) {
+// newGCSplitModel builds the model from the terms every group covers
+// (increasing), the weights at the home partition.
+func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, covers [][]int, home []int, px Proxy, floor float64) (*gcSplitModel, error) {
 	m, G := h.Len(), len(settings)
 	tab := h.Table()
 	coef := h.Coeffs()
@@ -262,8 +261,6 @@ func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home 
 	for i, c := range coef {
 		md.abs[i] = math.Abs(c)
 	}
-	covers := make([][]int, G)
-	splitEach(G, func(g int) { covers[g] = tab.Covered(nil, settings[g]) })
 	count := make([]int32, m)
 	for _, c := range covers {
 		for _, i := range c {
