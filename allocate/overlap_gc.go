@@ -145,9 +145,8 @@ func (o *OverlapGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 
 // overlapGCGroups returns the settings of the extended groups of
 // [OverlapGC], without repeats, the terms each covers (increasing), and
-// each term's home group (the group of
-// sorted-gc it was placed in, or the group that group was merged into; −1
-// for a term no group covers: the identity).
+// each term's home group: the group sorted-gc placed it in, or the group
+// that group was merged into.
 func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, [][]int, []int, error) {
 	m := h.Len()
 	home := make([]int, m)
