@@ -209,6 +209,19 @@ func TestOverlapGCCertificateSimulated(t *testing.T) {
 		if math.Abs(res.Energy-exact) > d.Bound {
 			dataFails++
 		}
+		if r == 0 {
+			// Every form of the data bound takes the entangled split: the
+			// same estimate and a finite positive radius.
+			for _, form := range []EmpiricalForm{Pooled, PerGroupAMS, PerGroupMP, Residual} {
+				db, err := Empirical(h, rec, 0.05, &EmpiricalOptions{Form: form, Split: p.Split})
+				if err != nil {
+					t.Fatalf("%v: %v", form, err)
+				}
+				if math.Abs(db.Energy-res.Energy) > 1e-12 || !(db.Radius > 0 && db.Radius < math.Inf(1)) {
+					t.Errorf("%v: energy %v radius %v, the split estimate %v", form, db.Energy, db.Radius, res.Energy)
+				}
+			}
+		}
 	}
 	if certFails > 40 {
 		t.Errorf("the certified bound ±%.4g failed in %d of %d runs", cert.Bound, certFails, runs)
