@@ -41,6 +41,7 @@
 //	color-gc    [ColorGC]       largest-degree-first colouring, general commutation (§5.6)
 //	greedy-gc   [GreedyGC]      greedy one-norm descent, settings grown as commuting families (§5.1)
 //	overlap     [Overlap]       overlapped grouping, iterative coefficient splitting (§2.5)
+//	overlap-gc  [OverlapGC]     overlap on generally commuting groups, entangled settings (§2.5)
 //
 // [ByName] makes one from its short name, [Names] lists the names.
 //

@@ -16,7 +16,7 @@ import (
 var update = flag.Bool("update", false, "rewrite the golden plans in testdata/golden")
 
 // TestGolden pins the first settings of every strategy (the local ones and
-// sorted-gc, color-gc, greedy-gc, overlap with its split), with seed 42, on a small invented
+// sorted-gc, color-gc, greedy-gc, overlap and overlap-gc with their splits), with seed 42, on a small invented
 // Hamiltonian. A change of a strategy's plan shows up here;
 // after checking that it is intended, regenerate with -update.
 //
@@ -33,7 +33,7 @@ func TestGolden(t *testing.T) {
 	const budget = 16
 	strategies := allStrategies(h.Qubits(), 42)
 	// The general-commutation strategies (entangled settings, MATH.md §8).
-	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc", "overlap"} {
+	for _, name := range []string{"sorted-gc", "color-gc", "greedy-gc", "overlap", "overlap-gc"} {
 		a, err := allocate.ByName(name, 42)
 		if err != nil {
 			t.Fatal(err)

@@ -20,13 +20,15 @@ var strategies = map[string]func(seed uint64) Allocator{
 	"color-gc":   func(uint64) Allocator { return &ColorGC{} },
 	"greedy-gc":  func(uint64) Allocator { return &GreedyGC{} },
 	"overlap":    func(uint64) Allocator { return &Overlap{} },
+	"overlap-gc": func(uint64) Allocator { return &OverlapGC{} },
 }
 
 // Names returns the short names of the built-in strategies, sorted:
 // "biased", "color-gc", "derand", "fixed", "greedy", "greedy-gc",
-// "importance", "overlap", "random", "sorted", "sorted-gc". The "-gc"
-// strategies group by general commutation and produce entangled settings;
-// "overlap" splits coefficients among overlapping groups ([Plan].Split).
+// "importance", "overlap", "overlap-gc", "random", "sorted", "sorted-gc".
+// The "-gc" strategies group by general commutation and produce entangled
+// settings; "overlap" and "overlap-gc" split coefficients among
+// overlapping groups ([Plan].Split).
 func Names() []string {
 	names := make([]string, 0, len(strategies))
 	for k := range strategies {

@@ -50,7 +50,7 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		}
 		split := f.Plan.Split
 		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
-			return badf("the plan splits coefficients between settings (-strategy overlap); -observables, -readout and -calibration do not take such plans yet")
+			return badf("the plan splits coefficients between settings (-strategy overlap or overlap-gc); -observables, -readout and -calibration do not take such plans yet")
 		}
 		// Plain estimates of local plans, with or without a coefficient
 		// split, are streamed; the others read the records into memory.

@@ -27,6 +27,7 @@ var strategyNotes = map[string]string{
 	"color-gc":   "largest-degree-first colouring by general commutation, entangled settings",
 	"greedy-gc":  "greedy one-norm descent grown as commuting families, entangled settings",
 	"overlap":    "overlapped grouping with iterative coefficient splitting (arXiv:2105.13091, arXiv:2201.01471); the plan carries the split",
+	"overlap-gc": "overlap on generally commuting groups, entangled settings; the plan carries the split",
 }
 
 func strategyHelp() string {

@@ -190,6 +190,8 @@ func setProxy(a allocate.Allocator, px allocate.Proxy) bool {
 		s.Proxy = px
 	case *allocate.Overlap:
 		s.Proxy = px
+	case *allocate.OverlapGC:
+		s.Proxy = px
 	default:
 		return false
 	}
@@ -197,4 +199,4 @@ func setProxy(a allocate.Allocator, px allocate.Proxy) bool {
 }
 
 // proxyStrategies names the strategies setProxy serves.
-const proxyStrategies = "sorted, sorted-gc, color-gc, overlap"
+const proxyStrategies = "sorted, sorted-gc, color-gc, overlap, overlap-gc"
