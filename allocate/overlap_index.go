@@ -313,57 +313,154 @@ func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob 
 	return cs
 }
 
-// appendCovering appends to dst the settings that cover term i, in
-// increasing order; codes is scratch.
-func (cs *overlapCover) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
-	x, z := cs.tab.Words(i)
-	words := cs.words
-	codes = codes[:0]
-	for q := range supportOf(x, z) {
-		codes = append(codes, int32(3*q)+letterIndex(x, z, q))
-	}
-	start := len(dst)
-	if len(codes) == 0 {
-		// The identity: every setting covers it.
-		for j := range words {
-			v := ^uint64(0)
-			if j == words-1 {
-				v = cs.last
-			}
-			for ; v != 0; v &= v - 1 {
-				dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
-			}
-		}
-	} else {
-		// Sparsest sets first (insertion sort: a term has few letters),
-		// so that the intersection of a word is empty soonest.
-		for k := 1; k < len(codes); k++ {
-			for l := k; l > 0 && cs.count[codes[l]] < cs.count[codes[l-1]]; l-- {
-				codes[l], codes[l-1] = codes[l-1], codes[l]
-			}
-		}
-		for k := range codes {
-			codes[k] *= int32(words)
-		}
-		for _, j := range cs.nonEmpty[codes[0]/int32(words)] {
-			v := cs.sets[codes[0]+j]
-			for _, c := range codes[1:] {
-				if v &= cs.sets[c+j]; v == 0 {
-					break
-				}
-			}
-			for ; v != 0; v &= v - 1 {
-				dst = append(dst, j*64+int32(bits.TrailingZeros64(v)))
-			}
-		}
-	}
-	if cs.glob != nil {
-		for k, g := range dst[start:] {
-			dst[start+k] = cs.glob[g]
-		}
-	}
-	return dst, codes
+// overlapCoverWords is the number of words of every set that
+// [overlapCover.appendRun] reads for all terms of a run before the next
+// words: 150 sets of 64 words (50 qubits) take 77 KB, which stay in cache
+// while the run's terms read them.
+const overlapCoverWords = 64
+
+// overlapRunTerms is the number of terms of a run of [overlapCover.appendRun].
+const overlapRunTerms = 64
+
+// coverScratch is the reusable storage of [overlapCover.appendRun].
+type coverScratch struct {
+	codes []int32 // the codes of the run's terms, sparsest first, times words
+	coff  []int32 // term t's codes at coff[t] to coff[t+1]−1
+	acc   [overlapCoverWords]uint64
+	at    [overlapCoverWords]int32
+	out   [][]int32 // term t's settings so far
 }
+
+// appendRun appends to grp the settings that cover each term lo to hi−1,
+// in increasing order, and to off the length of grp after each term. The
+// words of the sets are read a slice at a time for every term of the run,
+// so that a slice is read from memory once per run rather than once per
+// term; the answer is that of a scan term by term.
+func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch) ([]int32, []int32) {
+	words := cs.words
+	k := hi - lo
+	sc.codes, sc.coff = sc.codes[:0], append(sc.coff[:0], 0)
+	for len(sc.out) < k {
+		sc.out = append(sc.out, nil)
+	}
+	for t := range k {
+		x, z := cs.tab.Words(lo + t)
+		at := len(sc.codes)
+		for q := range supportOf(x, z) {
+			sc.codes = append(sc.codes, int32(3*q)+letterIndex(x, z, q))
+			// Sparsest sets first (insertion sort: a term has few
+			// letters), so that the intersection of a word is empty
+			// soonest.
+			for l := len(sc.codes) - 1; l > at && cs.count[sc.codes[l]] < cs.count[sc.codes[l-1]]; l-- {
+				sc.codes[l], sc.codes[l-1] = sc.codes[l-1], sc.codes[l]
+			}
+		}
+		for l := at; l < len(sc.codes); l++ {
+			sc.codes[l] *= int32(words)
+		}
+		sc.coff = append(sc.coff, int32(len(sc.codes)))
+		sc.out[t] = sc.out[t][:0]
+	}
+	for j0 := 0; j0 < words; j0 += overlapCoverWords {
+		j1 := min(j0+overlapCoverWords, words)
+		for t := range k {
+			codes := sc.codes[sc.coff[t]:sc.coff[t+1]]
+			dst := sc.out[t]
+			if len(codes) == 0 {
+				// The identity: every setting covers it.
+				for j := j0; j < j1; j++ {
+					v := ^uint64(0)
+					if j == words-1 {
+						v = cs.last
+					}
+					for ; v != 0; v &= v - 1 {
+						dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
+					}
+				}
+				sc.out[t] = dst
+				continue
+			}
+			sc.out[t] = cs.intersect(dst, codes, j0, j1, sc)
+		}
+	}
+	for t := range k {
+		start := len(grp)
+		grp = append(grp, sc.out[t]...)
+		if cs.glob != nil {
+			for e, g := range grp[start:] {
+				grp[start+e] = cs.glob[g]
+			}
+		}
+		off = append(off, int32(len(grp)))
+	}
+	return grp, off
+}
+
+// intersect appends to dst the settings of words j0 to j1−1 (at most
+// overlapCoverWords) in every set of codes (at least one, offsets of sets,
+// sparsest first), in increasing order. The first four sets are read for
+// every word; the words not yet empty are kept in a list (without a branch
+// per word), and each further set is read only at the words of the list.
+func (cs *overlapCover) intersect(dst, codes []int32, j0, j1 int, sc *coverScratch) []int32 {
+	w := j1 - j0
+	acc, at := sc.acc[:w], sc.at[:w]
+	s0 := cs.sets[int(codes[0])+j0 : int(codes[0])+j1]
+	n := 0
+	switch len(codes) {
+	case 1:
+		for j, v := range s0 {
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	case 2:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	case 3:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		s2 := cs.sets[int(codes[2])+j0 : int(codes[2])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j] & s2[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	default:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		s2 := cs.sets[int(codes[2])+j0 : int(codes[2])+j1][:w]
+		s3 := cs.sets[int(codes[3])+j0 : int(codes[3])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j] & s2[j] & s3[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+		for _, c := range codes[min(4, len(codes)):] {
+			if n == 0 {
+				break
+			}
+			set := cs.sets[int(c)+j0 : int(c)+j1]
+			m := 0
+			for t := range n {
+				v := acc[t] & set[at[t]]
+				acc[m], at[m] = v, at[t]
+				m += nonZero(v)
+			}
+			n = m
+		}
+	}
+	for t := range n {
+		base := int32(j0+int(at[t])) * 64
+		for v := acc[t]; v != 0; v &= v - 1 {
+			dst = append(dst, base+int32(bits.TrailingZeros64(v)))
+		}
+	}
+	return dst
+}
+
+// nonZero is 1 if v ≠ 0, else 0, without a branch.
+func nonZero(v uint64) int { return int((v | -v) >> 63) }
 
 // blocks returns the cover pairs of every term, in blocks of blockTerms
 // terms, filled by GOMAXPROCS goroutines, each its own blocks.
@@ -371,16 +468,16 @@ func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 	m := cs.tab.Len()
 	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
 	overlapParallel(len(blocks), 1, func(lo, hi int) {
-		var codes, buf []int32
+		var sc coverScratch
+		var buf []int32
 		for b := lo; b < hi; b++ {
 			bl := &blocks[b]
 			bl.lo = b * blockTerms
 			end := min(bl.lo+blockTerms, m)
 			bl.off = make([]int32, 1, end-bl.lo+1)
 			buf = buf[:0]
-			for i := bl.lo; i < end; i++ {
-				buf, codes = cs.appendCovering(buf, codes, i)
-				bl.off = append(bl.off, int32(len(buf)))
+			for r := bl.lo; r < end; r += overlapRunTerms {
+				buf, bl.off = cs.appendRun(buf, bl.off, r, min(r+overlapRunTerms, end), &sc)
 			}
 			bl.grp = slices.Clone(buf)
 			bl.alpha = make([]float64, len(bl.grp))
@@ -397,7 +494,7 @@ type overlapCoverChunk struct {
 }
 
 // overlapChunkTerms is the number of terms per [overlapCoverChunk].
-const overlapChunkTerms = 32
+const overlapChunkTerms = overlapRunTerms
 
 // each calls fn for every term in table order with the settings that
 // cover it, in increasing order; fn must not keep the slice. The
@@ -408,10 +505,15 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	m := cs.tab.Len()
 	workers := runtime.GOMAXPROCS(0)
 	if workers < 2 || m <= overlapChunkTerms {
-		var codes, buf []int32
-		for i := range m {
-			buf, codes = cs.appendCovering(buf[:0], codes, i)
-			fn(i, buf)
+		var sc coverScratch
+		var grp []int32
+		off := []int32{0}
+		for lo := 0; lo < m; lo += overlapChunkTerms {
+			hi := min(lo+overlapChunkTerms, m)
+			grp, off = cs.appendRun(grp[:0], off[:1], lo, hi, &sc)
+			for t := range hi - lo {
+				fn(lo+t, grp[off[t]:off[t+1]])
+			}
 		}
 		return
 	}
@@ -432,7 +534,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Go(func() {
-			var codes []int32
+			var sc coverScratch
 			for {
 				ch := <-free
 				c := int(next.Add(1)) - 1
@@ -442,10 +544,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 				}
 				ch.lo = c * overlapChunkTerms
 				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
-				for i := ch.lo; i < min(ch.lo+overlapChunkTerms, m); i++ {
-					ch.grp, codes = cs.appendCovering(ch.grp, codes, i)
-					ch.off = append(ch.off, int32(len(ch.grp)))
-				}
+				ch.grp, ch.off = cs.appendRun(ch.grp, ch.off, ch.lo, min(ch.lo+overlapChunkTerms, m), &sc)
 				done[c] <- ch
 			}
 		})
