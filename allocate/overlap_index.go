@@ -191,9 +191,10 @@ func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups 
 		r1, before := min(r0+batch, m), groups
 		overlapParallel(r1-r0, 64, func(lo, hi int) {
 			var codes []int32
+			var sc firstFitScratch
 			for t := lo; t < hi; t++ {
 				codes = codesOf(codes, r0+t)
-				spec[t] = int32(scan(codes, 0, before))
+				spec[t] = int32(sc.scan(conflict, 3*n, codes, before))
 			}
 		})
 		for r := r0; r < r1; r++ {
@@ -247,6 +248,69 @@ func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups 
 		touched = touched[:0]
 	}
 	return gx, gz, gm, homeRank, groups
+}
+
+// firstFitScratch is the storage of [firstFitScratch.scan].
+type firstFitScratch struct {
+	acc [64]uint64
+	at  [64]int32
+}
+
+// scan returns the first group g < upto in no conflict set of codes (rows
+// of stride words of conflict, as in [overlapFirstFit]), or upto: the
+// answer of a scan word by word. The words go in slices of 4, 8, ... 64:
+// the first four sets are read at every word of a slice, the words not
+// yet full are kept in a list (without a branch per word), and each
+// further set is read only at the words of the list; the first word left
+// holds the answer.
+func (sc *firstFitScratch) scan(conflict []uint64, stride int, codes []int32, upto int) int {
+	words := (upto + 63) / 64
+	var c0, c1, c2, c3 int
+	switch len(codes) {
+	case 0:
+		return min(upto, 0)
+	case 1:
+		c0 = int(codes[0])
+		c1, c2, c3 = c0, c0, c0
+	case 2:
+		c0, c1 = int(codes[0]), int(codes[1])
+		c2, c3 = c1, c1
+	case 3:
+		c0, c1, c2 = int(codes[0]), int(codes[1]), int(codes[2])
+		c3 = c2
+	default:
+		c0, c1, c2, c3 = int(codes[0]), int(codes[1]), int(codes[2]), int(codes[3])
+	}
+	rest := codes[min(4, len(codes)):]
+	w := 4
+	for j0 := 0; j0 < words; j0 += w {
+		w = min(2*w, 64)
+		j1 := min(j0+w, words)
+		acc, at := sc.acc[:j1-j0], sc.at[:j1-j0]
+		n := 0
+		for j := j0; j < j1; j++ {
+			row := conflict[stride*j : stride*(j+1)]
+			v := row[c0] | row[c1] | row[c2] | row[c3]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(^v)
+		}
+		for _, c := range rest {
+			if n == 0 {
+				break
+			}
+			m := 0
+			for t := range n {
+				v := acc[t] | conflict[stride*int(at[t])+int(c)]
+				acc[m], at[m] = v, at[t]
+				m += nonZero(^v)
+			}
+			n = m
+		}
+		if n > 0 {
+			return min(upto, int(at[0])*64+bits.TrailingZeros64(^acc[0]))
+		}
+	}
+	return upto
 }
 
 // overlapBlock holds the (term, group) cover pairs of the terms lo to
