@@ -196,6 +196,12 @@ type splitModel struct {
 	// rounded, and the letter sets of all groups; nil after.
 	sp *overlapSparse
 	cs *overlapCover
+	// glob, once the pairs of the groups with shots are stored, is the
+	// number of each of those groups among all, increasing: the blocks,
+	// load and the fractions of [splitModel.optimiseSplit] number them
+	// 0, 1, ... in that order, so that the loads read in a sweep lie
+	// close together in memory. Nil before, and with a proxy.
+	glob []int32
 	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
@@ -206,6 +212,10 @@ type splitModel struct {
 	gpair  [][]int32
 	pos    []int32
 	cov, y [][]float64
+	// next, when nextOK, holds what refresh would give for the weights
+	// as they are: [splitModel.sweepFixed] adds it up as it goes.
+	next   []float64
+	nextOK bool
 	// Scratch of the per-term solve.
 	d, e, a, old, inv []float64
 	idx               []int32
@@ -491,7 +501,7 @@ func (md *splitModel) optimise(rounds int) []float64 {
 // only the pairs of the other groups are stored from here on.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	if md.sp != nil {
-		md.storeMeasured(f)
+		f = md.storeMeasured(f)
 	}
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
@@ -516,6 +526,7 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 		}
 	}
 	md.fixShares(f)
+	md.nextOK = false
 	md.refresh()
 	prev := md.objective(f)
 	for range rounds {
@@ -529,24 +540,27 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 }
 
 // storeMeasured replaces the sparse weights by the stored pairs of the
-// groups with f_g > 0, the only ones read from here on.
-func (md *splitModel) storeMeasured(f []float64) {
+// groups with f_g > 0, the only ones read from here on, numbered as in
+// md.glob, and returns their fractions in that numbering.
+func (md *splitModel) storeMeasured(f []float64) []float64 {
 	var glob []int32
 	var sub []pauli.Setting
+	var fc []float64
 	for g, fg := range f {
 		if fg > 0 {
 			glob = append(glob, int32(g))
 			sub = append(sub, md.settings[g])
+			fc = append(fc, fg)
 		}
 	}
-	md.blocks = newOverlapCover(md.h, sub, glob).blocks(overlapBlockTerms)
+	md.blocks = newOverlapCover(md.h, sub, nil).blocks(overlapBlockTerms)
 	sp := md.sp
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
 			i := bl.lo + t
 			s, end := sp.off[i], sp.off[i+1]
 			for e := bl.off[t]; e < bl.off[t+1]; e++ {
-				g := bl.grp[e]
+				g := glob[bl.grp[e]]
 				for s < end && sp.grp[s] < g {
 					s++
 				}
@@ -557,6 +571,8 @@ func (md *splitModel) storeMeasured(f []float64) {
 		}
 	}
 	md.sp, md.cs = nil, nil
+	md.glob, md.load = glob, make([]float64, len(glob))
+	return fc
 }
 
 // fixShares stores, for the fractions f that stay fixed from here on,
@@ -674,6 +690,10 @@ func (md *splitModel) sweep(f []float64) {
 		md.sweepSparse(f)
 		return
 	}
+	if md.cov == nil && md.fixed(f) {
+		md.sweepFixed(f)
+		return
+	}
 	md.refresh()
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
@@ -736,6 +756,72 @@ func (md *splitModel) sweep(f []float64) {
 			}
 		}
 	}
+}
+
+// fixed reports whether the worst-case model's shares are fixed
+// ([splitModel.fixShares]) and every stored pair's group has f_g > 0, as
+// after [splitModel.storeMeasured].
+func (md *splitModel) fixed(f []float64) bool {
+	for _, bl := range md.blocks {
+		if bl.dq == nil {
+			return false
+		}
+	}
+	for _, fg := range f {
+		if !(fg > 0) {
+			return false
+		}
+	}
+	return true
+}
+
+// sweepFixed is [splitModel.sweep] in the worst-case model once the
+// shares are fixed and every group has f_g > 0: the same steps on the same
+// numbers, with d and 1/d read in place from the block, and the loads the
+// next sweep starts from (those of refresh, added term after term in the
+// same order) summed as each term is done rather than in a pass of their
+// own.
+func (md *splitModel) sweepFixed(f []float64) {
+	if len(md.next) != len(md.load) {
+		md.next = make([]float64, len(md.load))
+	}
+	if md.nextOK {
+		md.load, md.next = md.next, md.load
+	} else {
+		md.refresh()
+	}
+	next := md.next
+	clear(next)
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := int(bl.off[t]), int(bl.off[t+1])
+			abs := md.abs[bl.lo+t]
+			grp, alpha := bl.grp[lo:hi], bl.alpha[lo:hi]
+			if k := hi - lo; k >= 2 {
+				md.e = slices.Grow(md.e[:0], k)[:k]
+				for s, g := range grp {
+					b := abs * (md.load[g] - abs*alpha[s])
+					md.e[s] = b / f[g]
+				}
+				md.a = slices.Grow(md.a[:0], k)[:k]
+				md.simplex.solve(bl.dq[lo:hi], md.e, bl.inv[lo:hi], md.a)
+				// As in sweep, weights that are not finite numbers in
+				// [0, 1] are not taken.
+				if finiteWeights(md.a) {
+					for s, g := range grp {
+						if dv := md.a[s] - alpha[s]; dv != 0 {
+							alpha[s] = md.a[s]
+							md.load[g] += abs * dv
+						}
+					}
+				}
+			}
+			for s, g := range grp {
+				next[g] += abs * alpha[s]
+			}
+		}
+	}
+	md.nextOK = true
 }
 
 // fill writes into md.d, md.e (and md.inv once the shares are fixed) the
@@ -848,47 +934,59 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 		}
 	}
 	// Each later pass drops with the μ of the last and sums over the j it
-	// keeps, in increasing order: the sums of the next pass.
+	// keeps, in increasing order: the sums of the next pass. The passes
+	// have no branch per j: every j is written to the list and counted
+	// only when kept, and a dropped j adds +0 to the sums, which leaves
+	// them as they are (they start at +0 and so are never −0).
+	s.act = slices.Grow(s.act[:0], k)[:k]
 	mu := (1 + s2) / s1
 	s1, s2 = 0, 0
+	n := 0
 	for j := range k {
-		if !(e[j] >= mu) {
-			s.act = append(s.act, int32(j))
-			s1 += inv[j]
-			s2 += s.ed[j]
-		}
+		m := keepMask(e[j], mu)
+		s.act[n] = int32(j)
+		n += int(m & 1)
+		s1 += masked(inv[j], m)
+		s2 += masked(s.ed[j], m)
 	}
-	for len(s.act) < k {
-		k = len(s.act)
+	for n < k {
+		k = n
 		mu = (1 + s2) / s1
 		s1, s2 = 0, 0
-		keep := s.act[:0]
-		for _, j := range s.act {
-			if !(e[j] >= mu) {
-				keep = append(keep, j)
-				s1 += inv[j]
-				s2 += s.ed[j]
-			}
+		n = 0
+		for _, j := range s.act[:k] {
+			m := keepMask(e[j], mu)
+			s.act[n] = j
+			n += int(m & 1)
+			s1 += masked(inv[j], m)
+			s2 += masked(s.ed[j], m)
 		}
-		s.act = keep
 	}
-	// x_j = max(0, (μ − e_j)/d_j), without the division where it is
-	// exactly 0 (μ − e_j ≤ 0 over a positive finite d_j), which is most j
-	// of a term in many groups; likewise 0/Σ = 0 for a positive Σ.
+	// x_j = max(0, (μ − e_j)/d_j), then x_j/Σ x; a zero x_j stays +0
+	// (0/Σ = 0 for Σ > 0; with Σ not > 0 every x_j is divided anyway).
 	sum := 0.0
 	for j := range out {
-		if mu-e[j] <= 0 && d[j] > 0 && d[j] <= math.MaxFloat64 {
-			out[j] = 0
-			continue
-		}
 		out[j] = max(0, (mu-e[j])/d[j])
 		sum += out[j]
 	}
 	for j := range out {
-		if out[j] != 0 || !(sum > 0) {
-			out[j] /= sum
-		}
+		out[j] /= sum
 	}
+}
+
+// keepMask is all ones when !(e >= mu) (j stays active: e < μ, or either
+// is NaN), else zero, without a branch.
+func keepMask(e, mu float64) uint64 {
+	var k uint64
+	if !(e >= mu) {
+		k = 1
+	}
+	return -k
+}
+
+// masked is v where m is all ones and +0 where m is zero.
+func masked(v float64, m uint64) float64 {
+	return math.Float64frombits(math.Float64bits(v) & m)
 }
 
 // roundShares rounds budget among the fractions f by largest remainder,
@@ -916,6 +1014,14 @@ func roundShares(budget int, f []float64) []int {
 // or more of them cover, with its weights there (those with α > 0),
 // normalised to add up to one.
 func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
+	if md.glob != nil {
+		for _, bl := range md.blocks {
+			for e, g := range bl.grp {
+				bl.grp[e] = md.glob[g]
+			}
+		}
+		md.glob = nil
+	}
 	sum := make([]float64, len(md.abs))
 	split := make([]bool, len(md.abs))
 	count := make([]int, len(settings))
