@@ -962,16 +962,49 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 			s2 += masked(s.ed[j], m)
 		}
 	}
-	// x_j = max(0, (μ − e_j)/d_j), then x_j/Σ x; a zero x_j stays +0
-	// (0/Σ = 0 for Σ > 0; with Σ not > 0 every x_j is divided anyway).
-	sum := 0.0
+	// x_j = max(0, (μ − e_j)/d_j), then x_j/Σ x. Where μ − e_j ≤ 0 over a
+	// positive finite d_j, x_j is +0 without the division, and it stays +0
+	// (0/Σ = 0 for Σ > 0): only the other j, listed without a branch, are
+	// divided, and add to Σ (+0 would leave it as it is); with Σ not > 0
+	// every x_j is divided.
+	n = 0
 	for j := range out {
+		out[j] = 0
+		s.act[n] = int32(j)
+		n += int(divideMask(e[j], mu, d[j]) & 1)
+	}
+	sum := 0.0
+	for _, j := range s.act[:n] {
 		out[j] = max(0, (mu-e[j])/d[j])
 		sum += out[j]
 	}
-	for j := range out {
+	if !(sum > 0) {
+		for j := range out {
+			out[j] /= sum
+		}
+		return
+	}
+	for _, j := range s.act[:n] {
 		out[j] /= sum
 	}
+}
+
+// divideMask is all ones unless μ − e ≤ 0 and d is positive and finite
+// (then x = max(0, (μ − e)/d) is +0), without a branch.
+func divideMask(e, mu, d float64) uint64 {
+	var k uint64
+	if !(mu-e <= 0) {
+		k = 1
+	}
+	var bad uint64
+	if !(d > 0) {
+		bad = 1
+	}
+	var big uint64
+	if !(d <= math.MaxFloat64) {
+		big = 1
+	}
+	return -(k | bad | big)
 }
 
 // keepMask is all ones when !(e >= mu) (j stays active: e < μ, or either
