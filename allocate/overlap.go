@@ -609,7 +609,18 @@ func (md *splitModel) sweepSparse(f []float64) {
 	md.refresh()
 	sp := md.sp
 	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
-	md.cs.each(func(i int, cov []int32) {
+	// d_g = h_i²/f_g and 1/d_g depend on neither the loads nor the
+	// weights: the goroutines that find the covering groups compute them.
+	prep := func(i int, cov []int32, d, inv []float64) {
+		a := md.abs[i] * md.abs[i]
+		for j, g := range cov {
+			if fg := f[g]; fg != 0 {
+				d[j] = a / fg
+				inv[j] = 1 / d[j]
+			}
+		}
+	}
+	md.cs.each(prep, func(i int, cov []int32, dc, ic []float64) {
 		lo, hi := sp.off[i], sp.off[i+1]
 		keep := func() {
 			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
@@ -621,7 +632,7 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		abs := md.abs[i]
-		md.d, md.e, md.old, md.idx = md.d[:0], md.e[:0], md.old[:0], md.idx[:0]
+		md.d, md.e, md.inv, md.old, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.old[:0], md.idx[:0]
 		s := lo
 		for j, g := range cov {
 			for s < hi && sp.grp[s] < g {
@@ -635,9 +646,9 @@ func (md *splitModel) sweepSparse(f []float64) {
 			if fg == 0 {
 				continue
 			}
-			a := abs * abs
 			b := abs * (md.load[g] - abs*al)
-			md.d = append(md.d, a/fg)
+			md.d = append(md.d, dc[j])
+			md.inv = append(md.inv, ic[j])
 			md.e = append(md.e, b/fg)
 			md.old = append(md.old, al)
 			md.idx = append(md.idx, int32(j))
@@ -647,7 +658,7 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-		md.simplex.solve(md.d, md.e, nil, md.a)
+		md.simplex.solve(md.d, md.e, md.inv, md.a)
 		if !finiteWeights(md.a) {
 			keep() // see sweep
 			return

@@ -531,7 +531,7 @@ func nonZero(v uint64) int { return int((v | -v) >> 63) }
 func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 	m := cs.tab.Len()
 	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
-	overlapParallel(len(blocks), 1, func(lo, hi int) {
+	overlapParallel(len(blocks), 4, func(lo, hi int) {
 		var sc coverScratch
 		var buf []int32
 		for b := lo; b < hi; b++ {
@@ -552,31 +552,46 @@ func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 
 // overlapCoverChunk is the answer of [overlapCover.each] for a run of terms.
 type overlapCoverChunk struct {
-	lo  int
-	off []int32
-	grp []int32
+	lo     int
+	off    []int32
+	grp    []int32
+	d, inv []float64 // prep's numbers of each pair
+}
+
+// fill sets ch to the terms lo to hi−1 and calls prep for each.
+func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep func(i int, covering []int32, d, inv []float64)) {
+	ch.lo = lo
+	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
+	ch.d = slices.Grow(ch.d[:0], len(ch.grp))[:len(ch.grp)]
+	ch.inv = slices.Grow(ch.inv[:0], len(ch.grp))[:len(ch.grp)]
+	for t := range hi - lo {
+		a, b := ch.off[t], ch.off[t+1]
+		prep(lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
+	}
 }
 
 // overlapChunkTerms is the number of terms per [overlapCoverChunk].
 const overlapChunkTerms = overlapRunTerms
 
 // each calls fn for every term in table order with the settings that
-// cover it, in increasing order; fn must not keep the slice. The
-// intersections are computed ahead by GOMAXPROCS goroutines, at most a
-// few chunks of terms ahead of fn, so that memory stays bounded whatever
-// the number of cover pairs.
-func (cs *overlapCover) each(fn func(i int, covering []int32)) {
+// cover it, in increasing order, and the numbers prep wrote for them
+// (prep is called with every term's settings, before fn, perhaps in
+// another goroutine, and must only write d and inv); fn must not keep the
+// slices. The intersections and prep are computed ahead by GOMAXPROCS
+// goroutines, at most a few chunks of terms ahead of fn, so that memory
+// stays bounded whatever the number of cover pairs.
+func (cs *overlapCover) each(prep, fn func(i int, covering []int32, d, inv []float64)) {
 	m := cs.tab.Len()
 	workers := runtime.GOMAXPROCS(0)
 	if workers < 2 || m <= overlapChunkTerms {
 		var sc coverScratch
-		var grp []int32
-		off := []int32{0}
+		var ch overlapCoverChunk
 		for lo := 0; lo < m; lo += overlapChunkTerms {
 			hi := min(lo+overlapChunkTerms, m)
-			grp, off = cs.appendRun(grp[:0], off[:1], lo, hi, &sc)
+			ch.fill(cs, lo, hi, &sc, prep)
 			for t := range hi - lo {
-				fn(lo+t, grp[off[t]:off[t+1]])
+				a, b := ch.off[t], ch.off[t+1]
+				fn(lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
 			}
 		}
 		return
@@ -606,9 +621,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 					free <- ch
 					return
 				}
-				ch.lo = c * overlapChunkTerms
-				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
-				ch.grp, ch.off = cs.appendRun(ch.grp, ch.off, ch.lo, min(ch.lo+overlapChunkTerms, m), &sc)
+				ch.fill(cs, c*overlapChunkTerms, min((c+1)*overlapChunkTerms, m), &sc, prep)
 				done[c] <- ch
 			}
 		})
@@ -616,7 +629,8 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	for c := range chunks {
 		ch := <-done[c]
 		for t := range len(ch.off) - 1 {
-			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]])
+			a, b := ch.off[t], ch.off[t+1]
+			fn(ch.lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
 		}
 		free <- ch
 	}
