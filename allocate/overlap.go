@@ -609,18 +609,29 @@ func (md *splitModel) sweepSparse(f []float64) {
 	md.refresh()
 	sp := md.sp
 	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
-	// d_g = h_i²/f_g and 1/d_g depend on neither the loads nor the
-	// weights: the goroutines that find the covering groups compute them.
-	prep := func(i int, cov []int32, d, inv []float64) {
+	// d_g = h_i²/f_g, 1/d_g and the weights before the sweep do not
+	// depend on the loads: the goroutines that find the covering groups
+	// compute them (sp is not written until the sweep ends).
+	prep := func(i int, cov []int32, num [3][]float64) {
+		d, inv, old := num[0], num[1], num[2]
 		a := md.abs[i] * md.abs[i]
+		s, hi := sp.off[i], sp.off[i+1]
 		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			old[j] = 0
+			if s < hi && sp.grp[s] == g {
+				old[j] = sp.val[s]
+			}
 			if fg := f[g]; fg != 0 {
 				d[j] = a / fg
 				inv[j] = 1 / d[j]
 			}
 		}
 	}
-	md.cs.each(prep, func(i int, cov []int32, dc, ic []float64) {
+	md.cs.each(prep, func(i int, cov []int32, num [3][]float64) {
+		dc, ic, oc := num[0], num[1], num[2]
 		lo, hi := sp.off[i], sp.off[i+1]
 		keep := func() {
 			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
@@ -633,15 +644,8 @@ func (md *splitModel) sweepSparse(f []float64) {
 		}
 		abs := md.abs[i]
 		md.d, md.e, md.inv, md.old, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.old[:0], md.idx[:0]
-		s := lo
 		for j, g := range cov {
-			for s < hi && sp.grp[s] < g {
-				s++
-			}
-			al := 0.0
-			if s < hi && sp.grp[s] == g {
-				al = sp.val[s]
-			}
+			al := oc[j]
 			fg := f[g]
 			if fg == 0 {
 				continue
@@ -668,17 +672,12 @@ func (md *splitModel) sweepSparse(f []float64) {
 				md.load[cov[j]] += abs * dv
 			}
 		}
-		t, s := 0, lo
+		t := 0
 		for j, g := range cov {
-			for s < hi && sp.grp[s] < g {
-				s++
-			}
-			var v float64
+			v := oc[j]
 			if t < len(md.idx) && int(md.idx[t]) == j {
 				v = md.a[t]
 				t++
-			} else if s < hi && sp.grp[s] == g {
-				v = sp.val[s]
 			}
 			if v != 0 {
 				nsp.grp = append(nsp.grp, g)
@@ -808,24 +807,43 @@ func (md *splitModel) sweepFixed(f []float64) {
 			lo, hi := int(bl.off[t]), int(bl.off[t+1])
 			abs := md.abs[bl.lo+t]
 			grp, alpha := bl.grp[lo:hi], bl.alpha[lo:hi]
-			if k := hi - lo; k >= 2 {
-				md.e = slices.Grow(md.e[:0], k)[:k]
+			k := hi - lo
+			if k < 2 {
 				for s, g := range grp {
-					b := abs * (md.load[g] - abs*alpha[s])
-					md.e[s] = b / f[g]
+					next[g] += abs * alpha[s]
 				}
-				md.a = slices.Grow(md.a[:0], k)[:k]
-				md.simplex.solve(bl.dq[lo:hi], md.e, bl.inv[lo:hi], md.a)
-				// As in sweep, weights that are not finite numbers in
-				// [0, 1] are not taken.
-				if finiteWeights(md.a) {
-					for s, g := range grp {
-						if dv := md.a[s] - alpha[s]; dv != 0 {
-							alpha[s] = md.a[s]
-							md.load[g] += abs * dv
-						}
+				continue
+			}
+			// The first pass of the simplex step, with e_g computed in
+			// it: the same numbers and sums as solve's.
+			sx := &md.simplex
+			md.e = slices.Grow(md.e[:0], k)[:k]
+			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
+			e, ed := md.e, sx.ed[:k]
+			d, inv := bl.dq[lo:hi], bl.inv[lo:hi]
+			s1, s2 := 0.0, 0.0
+			for s, g := range grp {
+				b := abs * (md.load[g] - abs*alpha[s])
+				ev := b / f[g]
+				e[s] = ev
+				edv := ev / d[s]
+				ed[s] = edv
+				s1 += inv[s]
+				s2 += edv
+			}
+			md.a = slices.Grow(md.a[:0], k)[:k]
+			sx.finish(d, e, inv, md.a, s1, s2)
+			// As in sweep, weights that are not finite numbers in [0, 1]
+			// are not taken.
+			if finiteWeights(md.a) {
+				for s, g := range grp {
+					if dv := md.a[s] - alpha[s]; dv != 0 {
+						alpha[s] = md.a[s]
+						md.load[g] += abs * dv
 					}
+					next[g] += abs * alpha[s]
 				}
+				continue
 			}
 			for s, g := range grp {
 				next[g] += abs * alpha[s]
@@ -944,6 +962,13 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 			s2 += s.ed[j]
 		}
 	}
+	s.finish(d, e, inv, out, s1, s2)
+}
+
+// finish is [simplexScratch.solve] after its first pass, which left e_j/d_j
+// in s.ed and the sums of 1/d_j and e_j/d_j over every j in s1 and s2.
+func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64) {
+	k := len(d)
 	// Each later pass drops with the μ of the last and sums over the j it
 	// keeps, in increasing order: the sums of the next pass. The passes
 	// have no branch per j: every j is written to the list and counted

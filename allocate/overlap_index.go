@@ -552,23 +552,33 @@ func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 
 // overlapCoverChunk is the answer of [overlapCover.each] for a run of terms.
 type overlapCoverChunk struct {
-	lo     int
-	off    []int32
-	grp    []int32
-	d, inv []float64 // prep's numbers of each pair
+	lo  int
+	off []int32
+	grp []int32
+	num [3][]float64 // prep's numbers of each pair
 }
 
 // fill sets ch to the terms lo to hi−1 and calls prep for each.
-func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep func(i int, covering []int32, d, inv []float64)) {
+func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep coverFunc) {
 	ch.lo = lo
 	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
-	ch.d = slices.Grow(ch.d[:0], len(ch.grp))[:len(ch.grp)]
-	ch.inv = slices.Grow(ch.inv[:0], len(ch.grp))[:len(ch.grp)]
+	for r := range ch.num {
+		ch.num[r] = slices.Grow(ch.num[r][:0], len(ch.grp))[:len(ch.grp)]
+	}
 	for t := range hi - lo {
-		a, b := ch.off[t], ch.off[t+1]
-		prep(lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
+		prep(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
 	}
 }
+
+// nums returns the numbers of term lo+t's pairs.
+func (ch *overlapCoverChunk) nums(t int) [3][]float64 {
+	a, b := ch.off[t], ch.off[t+1]
+	return [3][]float64{ch.num[0][a:b], ch.num[1][a:b], ch.num[2][a:b]}
+}
+
+// coverFunc is the type of the functions [overlapCover.each] calls with a
+// term, the settings that cover it and three numbers per setting.
+type coverFunc func(i int, covering []int32, num [3][]float64)
 
 // overlapChunkTerms is the number of terms per [overlapCoverChunk].
 const overlapChunkTerms = overlapRunTerms
@@ -576,11 +586,11 @@ const overlapChunkTerms = overlapRunTerms
 // each calls fn for every term in table order with the settings that
 // cover it, in increasing order, and the numbers prep wrote for them
 // (prep is called with every term's settings, before fn, perhaps in
-// another goroutine, and must only write d and inv); fn must not keep the
-// slices. The intersections and prep are computed ahead by GOMAXPROCS
+// another goroutine, and must only write the numbers); fn must not keep
+// the slices. The intersections and prep are computed ahead by GOMAXPROCS
 // goroutines, at most a few chunks of terms ahead of fn, so that memory
 // stays bounded whatever the number of cover pairs.
-func (cs *overlapCover) each(prep, fn func(i int, covering []int32, d, inv []float64)) {
+func (cs *overlapCover) each(prep, fn coverFunc) {
 	m := cs.tab.Len()
 	workers := runtime.GOMAXPROCS(0)
 	if workers < 2 || m <= overlapChunkTerms {
@@ -590,8 +600,7 @@ func (cs *overlapCover) each(prep, fn func(i int, covering []int32, d, inv []flo
 			hi := min(lo+overlapChunkTerms, m)
 			ch.fill(cs, lo, hi, &sc, prep)
 			for t := range hi - lo {
-				a, b := ch.off[t], ch.off[t+1]
-				fn(lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
+				fn(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
 			}
 		}
 		return
@@ -629,8 +638,7 @@ func (cs *overlapCover) each(prep, fn func(i int, covering []int32, d, inv []flo
 	for c := range chunks {
 		ch := <-done[c]
 		for t := range len(ch.off) - 1 {
-			a, b := ch.off[t], ch.off[t+1]
-			fn(ch.lo+t, ch.grp[a:b], ch.d[a:b], ch.inv[a:b])
+			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
 		}
 		free <- ch
 	}
