@@ -334,17 +334,16 @@ const overlapBlockTerms = 1024
 // q and letter code l, the set of the settings with that letter on q, 64
 // settings a word. A setting covers a term when it has the term's letter
 // on each of its qubits, so the settings that cover a term are the
-// intersection of the term's sets. Only the words where the sparsest of
-// the term's sets is not empty are read, each until the intersection is,
-// the sets taken from the sparsest.
+// intersection of the term's sets, read a slice of words at a time for a
+// run of terms ([overlapCover.appendRun]), the sets taken from the
+// sparsest.
 type overlapCover struct {
 	tab      *pauli.Table
 	n, words int
-	sets     []uint64  // set 3q+l at (3q+l)·words
-	nonEmpty [][]int32 // the words of each set that are not empty
-	count    []int     // the settings in each set
-	last     uint64    // the settings of the last word
-	glob     []int32   // the caller's number of each setting, nil for its place
+	sets     []uint64 // set 3q+l at (3q+l)·words
+	count    []int    // the settings in each set
+	last     uint64   // the settings of the last word
+	glob     []int32  // the caller's number of each setting, nil for its place
 }
 
 // newOverlapCover builds the sets of the settings for the terms of h; glob,
@@ -361,14 +360,10 @@ func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob 
 			}
 		}
 	}
-	cs.nonEmpty = make([][]int32, 3*n)
 	cs.count = make([]int, 3*n)
-	for c := range cs.nonEmpty {
-		for j, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
-			if v != 0 {
-				cs.nonEmpty[c] = append(cs.nonEmpty[c], int32(j))
-				cs.count[c] += bits.OnesCount64(v)
-			}
+	for c := range cs.count {
+		for _, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
+			cs.count[c] += bits.OnesCount64(v)
 		}
 	}
 	if len(settings)%64 != 0 {
