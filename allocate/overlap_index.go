@@ -387,7 +387,10 @@ type coverScratch struct {
 	coff  []int32 // term t's codes at coff[t] to coff[t+1]−1
 	acc   [overlapCoverWords]uint64
 	at    [overlapCoverWords]int32
-	out   [][]int32 // term t's settings so far
+	// The settings found, piece after piece: piece r·k+t, of term t and
+	// slice r of the words, at tmp[piece[r·k+t]:piece[r·k+t+1]].
+	tmp   []int32
+	piece []int32
 }
 
 // appendRun appends to grp the settings that cover each term lo to hi−1,
@@ -399,9 +402,7 @@ func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch
 	words := cs.words
 	k := hi - lo
 	sc.codes, sc.coff = sc.codes[:0], append(sc.coff[:0], 0)
-	for len(sc.out) < k {
-		sc.out = append(sc.out, nil)
-	}
+	sc.tmp, sc.piece = sc.tmp[:0], append(sc.piece[:0], 0)
 	for t := range k {
 		x, z := cs.tab.Words(lo + t)
 		at := len(sc.codes)
@@ -418,13 +419,12 @@ func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch
 			sc.codes[l] *= int32(words)
 		}
 		sc.coff = append(sc.coff, int32(len(sc.codes)))
-		sc.out[t] = sc.out[t][:0]
 	}
 	for j0 := 0; j0 < words; j0 += overlapCoverWords {
 		j1 := min(j0+overlapCoverWords, words)
 		for t := range k {
 			codes := sc.codes[sc.coff[t]:sc.coff[t+1]]
-			dst := sc.out[t]
+			dst := sc.tmp
 			if len(codes) == 0 {
 				// The identity: every setting covers it.
 				for j := j0; j < j1; j++ {
@@ -436,15 +436,18 @@ func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch
 						dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
 					}
 				}
-				sc.out[t] = dst
-				continue
+			} else {
+				dst = cs.intersect(dst, codes, j0, j1, sc)
 			}
-			sc.out[t] = cs.intersect(dst, codes, j0, j1, sc)
+			sc.tmp = dst
+			sc.piece = append(sc.piece, int32(len(dst)))
 		}
 	}
 	for t := range k {
 		start := len(grp)
-		grp = append(grp, sc.out[t]...)
+		for p := t; p+1 < len(sc.piece); p += k {
+			grp = append(grp, sc.tmp[sc.piece[p]:sc.piece[p+1]]...)
+		}
 		if cs.glob != nil {
 			for e, g := range grp[start:] {
 				grp[start+e] = cs.glob[g]
@@ -557,8 +560,11 @@ type overlapCoverChunk struct {
 func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep coverFunc) {
 	ch.lo = lo
 	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
-	for r := range ch.num {
-		ch.num[r] = slices.Grow(ch.num[r][:0], len(ch.grp))[:len(ch.grp)]
+	for r, v := range ch.num {
+		if cap(v) < len(ch.grp) {
+			v = make([]float64, 2*len(ch.grp)) // no copy: all is written
+		}
+		ch.num[r] = v[:len(ch.grp)]
 	}
 	for t := range hi - lo {
 		prep(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
