@@ -630,6 +630,10 @@ func (md *splitModel) sweepSparse(f []float64) {
 			}
 		}
 	}
+	allActive := true
+	for _, fg := range f {
+		allActive = allActive && fg != 0
+	}
 	md.cs.each(prep, func(i int, cov []int32, num [3][]float64) {
 		dc, ic, oc := num[0], num[1], num[2]
 		lo, hi := sp.off[i], sp.off[i+1]
@@ -643,6 +647,45 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		abs := md.abs[i]
+		if allActive {
+			// Every covering group has f_g ≠ 0: the step below with
+			// d, 1/d and the old weights read in place and e_g computed
+			// in the simplex step's first pass (the same numbers).
+			k := len(cov)
+			sx := &md.simplex
+			md.e = slices.Grow(md.e[:0], k)[:k]
+			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
+			e, ed := md.e, sx.ed[:k]
+			s1, s2 := 0.0, 0.0
+			for j, g := range cov {
+				b := abs * (md.load[g] - abs*oc[j])
+				ev := b / f[g]
+				e[j] = ev
+				edv := ev / dc[j]
+				ed[j] = edv
+				s1 += ic[j]
+				s2 += edv
+			}
+			md.a = slices.Grow(md.a[:0], k)[:k]
+			sx.finish(dc, e, ic, md.a, s1, s2)
+			if !finiteWeights(md.a) {
+				keep() // see sweep
+				return
+			}
+			for j, g := range cov {
+				if dv := md.a[j] - oc[j]; dv != 0 {
+					md.load[g] += abs * dv
+				}
+			}
+			for j, g := range cov {
+				if v := md.a[j]; v != 0 {
+					nsp.grp = append(nsp.grp, g)
+					nsp.val = append(nsp.val, v)
+				}
+			}
+			nsp.off = append(nsp.off, len(nsp.grp))
+			return
+		}
 		md.d, md.e, md.inv, md.old, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.old[:0], md.idx[:0]
 		for j, g := range cov {
 			al := oc[j]
