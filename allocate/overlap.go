@@ -657,6 +657,7 @@ func (md *splitModel) sweepSparse(f []float64) {
 			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
 			e, ed := md.e, sx.ed[:k]
 			s1, s2 := 0.0, 0.0
+			var bad uint64
 			for j, g := range cov {
 				b := abs * (md.load[g] - abs*oc[j])
 				ev := b / f[g]
@@ -665,9 +666,10 @@ func (md *splitModel) sweepSparse(f []float64) {
 				ed[j] = edv
 				s1 += ic[j]
 				s2 += edv
+				bad |= badD(dc[j])
 			}
 			md.a = slices.Grow(md.a[:0], k)[:k]
-			sx.finish(dc, e, ic, md.a, s1, s2)
+			sx.finish(dc, e, ic, md.a, s1, s2, bad)
 			if !finiteWeights(md.a) {
 				keep() // see sweep
 				return
@@ -865,6 +867,7 @@ func (md *splitModel) sweepFixed(f []float64) {
 			e, ed := md.e, sx.ed[:k]
 			d, inv := bl.dq[lo:hi], bl.inv[lo:hi]
 			s1, s2 := 0.0, 0.0
+			var bad uint64
 			for s, g := range grp {
 				b := abs * (md.load[g] - abs*alpha[s])
 				ev := b / f[g]
@@ -873,9 +876,10 @@ func (md *splitModel) sweepFixed(f []float64) {
 				ed[s] = edv
 				s1 += inv[s]
 				s2 += edv
+				bad |= badD(d[s])
 			}
 			md.a = slices.Grow(md.a[:0], k)[:k]
-			sx.finish(d, e, inv, md.a, s1, s2)
+			sx.finish(d, e, inv, md.a, s1, s2, bad)
 			// As in sweep, weights that are not finite numbers in [0, 1]
 			// are not taken.
 			if finiteWeights(md.a) {
@@ -989,6 +993,7 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 	s.act = s.act[:0]
 	// The first pass, over every j, also fills inv (unless given) and ed.
 	s1, s2 := 0.0, 0.0
+	var bad uint64
 	if inv == nil {
 		s.inv = slices.Grow(s.inv[:0], k)[:k]
 		inv = s.inv
@@ -997,21 +1002,24 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 			s.ed[j] = e[j] / d[j]
 			s1 += inv[j]
 			s2 += s.ed[j]
+			bad |= badD(d[j])
 		}
 	} else {
 		for j := range k {
 			s.ed[j] = e[j] / d[j]
 			s1 += inv[j]
 			s2 += s.ed[j]
+			bad |= badD(d[j])
 		}
 	}
-	s.finish(d, e, inv, out, s1, s2)
+	s.finish(d, e, inv, out, s1, s2, bad)
 }
 
 // finish is [simplexScratch.solve] after its first pass, which left e_j/d_j
 // in s.ed and the sums of 1/d_j and e_j/d_j over every j in s1 and s2.
-func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64) {
+func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64, bad uint64) {
 	k := len(d)
+	low := math.Inf(1) // the least μ of the passes that dropped
 	// Each later pass drops with the μ of the last and sums over the j it
 	// keeps, in increasing order: the sums of the next pass. The passes
 	// have no branch per j: every j is written to the list and counted
@@ -1030,6 +1038,7 @@ func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64) {
 	}
 	for n < k {
 		k = n
+		low = min(low, mu)
 		mu = (1 + s2) / s1
 		s1, s2 = 0, 0
 		n = 0
@@ -1045,12 +1054,24 @@ func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64) {
 	// positive finite d_j, x_j is +0 without the division, and it stays +0
 	// (0/Σ = 0 for Σ > 0): only the other j, listed without a branch, are
 	// divided, and add to Σ (+0 would leave it as it is); with Σ not > 0
-	// every x_j is divided.
-	n = 0
-	for j := range out {
-		out[j] = 0
-		s.act[n] = int32(j)
-		n += int(divideMask(e[j], mu, d[j]) & 1)
+	// every x_j is divided. When every d_j is positive and finite (bad is
+	// 0) and the last μ is at most each μ before it, a j dropped at some
+	// μ' has e_j ≥ μ' ≥ μ, so μ − e_j ≤ 0 (a difference of floats has the
+	// sign of the exact one): only the j still active need the test.
+	clear(out)
+	if bad == 0 && mu <= low {
+		m := 0
+		for _, j := range s.act[:n] {
+			s.act[m] = j
+			m += int(divideMask(e[j], mu, d[j]) & 1)
+		}
+		n = m
+	} else {
+		n = 0
+		for j := range out {
+			s.act[n] = int32(j)
+			n += int(divideMask(e[j], mu, d[j]) & 1)
+		}
 	}
 	sum := 0.0
 	for _, j := range s.act[:n] {
@@ -1066,6 +1087,19 @@ func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64) {
 	for _, j := range s.act[:n] {
 		out[j] /= sum
 	}
+}
+
+// badD is 1 unless d is positive and finite, without a branch.
+func badD(d float64) uint64 {
+	var bad uint64
+	if !(d > 0) {
+		bad = 1
+	}
+	var big uint64
+	if !(d <= math.MaxFloat64) {
+		big = 1
+	}
+	return bad | big
 }
 
 // divideMask is all ones unless μ − e ≤ 0 and d is positive and finite
