@@ -562,7 +562,7 @@ func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch
 	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
 	for r, v := range ch.num {
 		if cap(v) < len(ch.grp) {
-			v = make([]float64, 2*len(ch.grp)) // no copy: all is written
+			v = make([]float64, len(ch.grp)+len(ch.grp)/4) // no copy: all is written
 		}
 		ch.num[r] = v[:len(ch.grp)]
 	}
