@@ -196,6 +196,12 @@ type splitModel struct {
 	// rounded, and the letter sets of all groups; nil after.
 	sp *overlapSparse
 	cs *overlapCover
+	// glob, once the pairs of the groups with shots are stored, is the
+	// number of each of those groups among all, increasing: the blocks,
+	// load and the fractions of [splitModel.optimiseSplit] number them
+	// 0, 1, ... in that order, so that the loads read in a sweep lie
+	// close together in memory. Nil before, and with a proxy.
+	glob []int32
 	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}, and
 	// Var(O_g) ≤ load[g]².
 	load []float64
@@ -206,6 +212,10 @@ type splitModel struct {
 	gpair  [][]int32
 	pos    []int32
 	cov, y [][]float64
+	// next, when nextOK, holds what refresh would give for the weights
+	// as they are: [splitModel.sweepFixed] adds it up as it goes.
+	next   []float64
+	nextOK bool
 	// Scratch of the per-term solve.
 	d, e, a, old, inv []float64
 	idx               []int32
@@ -491,7 +501,7 @@ func (md *splitModel) optimise(rounds int) []float64 {
 // only the pairs of the other groups are stored from here on.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	if md.sp != nil {
-		md.storeMeasured(f)
+		f = md.storeMeasured(f)
 	}
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
@@ -516,6 +526,7 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 		}
 	}
 	md.fixShares(f)
+	md.nextOK = false
 	md.refresh()
 	prev := md.objective(f)
 	for range rounds {
@@ -529,24 +540,27 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 }
 
 // storeMeasured replaces the sparse weights by the stored pairs of the
-// groups with f_g > 0, the only ones read from here on.
-func (md *splitModel) storeMeasured(f []float64) {
+// groups with f_g > 0, the only ones read from here on, numbered as in
+// md.glob, and returns their fractions in that numbering.
+func (md *splitModel) storeMeasured(f []float64) []float64 {
 	var glob []int32
 	var sub []pauli.Setting
+	var fc []float64
 	for g, fg := range f {
 		if fg > 0 {
 			glob = append(glob, int32(g))
 			sub = append(sub, md.settings[g])
+			fc = append(fc, fg)
 		}
 	}
-	md.blocks = newOverlapCover(md.h, sub, glob).blocks(overlapBlockTerms)
+	md.blocks = newOverlapCover(md.h, sub, nil).blocks(overlapBlockTerms)
 	sp := md.sp
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
 			i := bl.lo + t
 			s, end := sp.off[i], sp.off[i+1]
 			for e := bl.off[t]; e < bl.off[t+1]; e++ {
-				g := bl.grp[e]
+				g := glob[bl.grp[e]]
 				for s < end && sp.grp[s] < g {
 					s++
 				}
@@ -557,6 +571,8 @@ func (md *splitModel) storeMeasured(f []float64) {
 		}
 	}
 	md.sp, md.cs = nil, nil
+	md.glob, md.load = glob, make([]float64, len(glob))
+	return fc
 }
 
 // fixShares stores, for the fractions f that stay fixed from here on,
@@ -593,7 +609,33 @@ func (md *splitModel) sweepSparse(f []float64) {
 	md.refresh()
 	sp := md.sp
 	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
-	md.cs.each(func(i int, cov []int32) {
+	// d_g = h_i²/f_g, 1/d_g and the weights before the sweep do not
+	// depend on the loads: the goroutines that find the covering groups
+	// compute them (sp is not written until the sweep ends).
+	prep := func(i int, cov []int32, num [3][]float64) {
+		d, inv, old := num[0], num[1], num[2]
+		a := md.abs[i] * md.abs[i]
+		s, hi := sp.off[i], sp.off[i+1]
+		for j, g := range cov {
+			for s < hi && sp.grp[s] < g {
+				s++
+			}
+			old[j] = 0
+			if s < hi && sp.grp[s] == g {
+				old[j] = sp.val[s]
+			}
+			if fg := f[g]; fg != 0 {
+				d[j] = a / fg
+				inv[j] = 1 / d[j]
+			}
+		}
+	}
+	allActive := true
+	for _, fg := range f {
+		allActive = allActive && fg != 0
+	}
+	md.cs.each(prep, func(i int, cov []int32, num [3][]float64) {
+		dc, ic, oc := num[0], num[1], num[2]
 		lo, hi := sp.off[i], sp.off[i+1]
 		keep := func() {
 			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
@@ -605,23 +647,57 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		abs := md.abs[i]
-		md.d, md.e, md.old, md.idx = md.d[:0], md.e[:0], md.old[:0], md.idx[:0]
-		s := lo
+		if allActive {
+			// Every covering group has f_g ≠ 0: the step below with
+			// d, 1/d and the old weights read in place and e_g computed
+			// in the simplex step's first pass (the same numbers).
+			k := len(cov)
+			sx := &md.simplex
+			md.e = slices.Grow(md.e[:0], k)[:k]
+			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
+			e, ed := md.e, sx.ed[:k]
+			s1, s2 := 0.0, 0.0
+			var bad uint64
+			for j, g := range cov {
+				b := abs * (md.load[g] - abs*oc[j])
+				ev := b / f[g]
+				e[j] = ev
+				edv := ev / dc[j]
+				ed[j] = edv
+				s1 += ic[j]
+				s2 += edv
+				bad |= badD(dc[j])
+			}
+			md.a = slices.Grow(md.a[:0], k)[:k]
+			sx.finish(dc, e, ic, md.a, s1, s2, bad)
+			if !finiteWeights(md.a) {
+				keep() // see sweep
+				return
+			}
+			for j, g := range cov {
+				if dv := md.a[j] - oc[j]; dv != 0 {
+					md.load[g] += abs * dv
+				}
+			}
+			for j, g := range cov {
+				if v := md.a[j]; v != 0 {
+					nsp.grp = append(nsp.grp, g)
+					nsp.val = append(nsp.val, v)
+				}
+			}
+			nsp.off = append(nsp.off, len(nsp.grp))
+			return
+		}
+		md.d, md.e, md.inv, md.old, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.old[:0], md.idx[:0]
 		for j, g := range cov {
-			for s < hi && sp.grp[s] < g {
-				s++
-			}
-			al := 0.0
-			if s < hi && sp.grp[s] == g {
-				al = sp.val[s]
-			}
+			al := oc[j]
 			fg := f[g]
 			if fg == 0 {
 				continue
 			}
-			a := abs * abs
 			b := abs * (md.load[g] - abs*al)
-			md.d = append(md.d, a/fg)
+			md.d = append(md.d, dc[j])
+			md.inv = append(md.inv, ic[j])
 			md.e = append(md.e, b/fg)
 			md.old = append(md.old, al)
 			md.idx = append(md.idx, int32(j))
@@ -631,7 +707,7 @@ func (md *splitModel) sweepSparse(f []float64) {
 			return
 		}
 		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-		md.simplex.solve(md.d, md.e, nil, md.a)
+		md.simplex.solve(md.d, md.e, md.inv, md.a)
 		if !finiteWeights(md.a) {
 			keep() // see sweep
 			return
@@ -641,17 +717,12 @@ func (md *splitModel) sweepSparse(f []float64) {
 				md.load[cov[j]] += abs * dv
 			}
 		}
-		t, s := 0, lo
+		t := 0
 		for j, g := range cov {
-			for s < hi && sp.grp[s] < g {
-				s++
-			}
-			var v float64
+			v := oc[j]
 			if t < len(md.idx) && int(md.idx[t]) == j {
 				v = md.a[t]
 				t++
-			} else if s < hi && sp.grp[s] == g {
-				v = sp.val[s]
 			}
 			if v != 0 {
 				nsp.grp = append(nsp.grp, g)
@@ -672,6 +743,10 @@ func (md *splitModel) sweepSparse(f []float64) {
 func (md *splitModel) sweep(f []float64) {
 	if md.sp != nil {
 		md.sweepSparse(f)
+		return
+	}
+	if md.cov == nil && md.fixed(f) {
+		md.sweepFixed(f)
 		return
 	}
 	md.refresh()
@@ -736,6 +811,93 @@ func (md *splitModel) sweep(f []float64) {
 			}
 		}
 	}
+}
+
+// fixed reports whether the worst-case model's shares are fixed
+// ([splitModel.fixShares]) and every stored pair's group has f_g > 0, as
+// after [splitModel.storeMeasured].
+func (md *splitModel) fixed(f []float64) bool {
+	for _, bl := range md.blocks {
+		if bl.dq == nil {
+			return false
+		}
+	}
+	for _, fg := range f {
+		if !(fg > 0) {
+			return false
+		}
+	}
+	return true
+}
+
+// sweepFixed is [splitModel.sweep] in the worst-case model once the
+// shares are fixed and every group has f_g > 0: the same steps on the same
+// numbers, with d and 1/d read in place from the block, and the loads the
+// next sweep starts from (those of refresh, added term after term in the
+// same order) summed as each term is done rather than in a pass of their
+// own.
+func (md *splitModel) sweepFixed(f []float64) {
+	if len(md.next) != len(md.load) {
+		md.next = make([]float64, len(md.load))
+	}
+	if md.nextOK {
+		md.load, md.next = md.next, md.load
+	} else {
+		md.refresh()
+	}
+	next := md.next
+	clear(next)
+	for _, bl := range md.blocks {
+		for t := range len(bl.off) - 1 {
+			lo, hi := int(bl.off[t]), int(bl.off[t+1])
+			abs := md.abs[bl.lo+t]
+			grp, alpha := bl.grp[lo:hi], bl.alpha[lo:hi]
+			k := hi - lo
+			if k < 2 {
+				for s, g := range grp {
+					next[g] += abs * alpha[s]
+				}
+				continue
+			}
+			// The first pass of the simplex step, with e_g computed in
+			// it: the same numbers and sums as solve's.
+			sx := &md.simplex
+			md.e = slices.Grow(md.e[:0], k)[:k]
+			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
+			e, ed := md.e, sx.ed[:k]
+			d, inv := bl.dq[lo:hi], bl.inv[lo:hi]
+			s1, s2 := 0.0, 0.0
+			var bad uint64
+			for s, g := range grp {
+				b := abs * (md.load[g] - abs*alpha[s])
+				ev := b / f[g]
+				e[s] = ev
+				edv := ev / d[s]
+				ed[s] = edv
+				s1 += inv[s]
+				s2 += edv
+				bad |= badD(d[s])
+			}
+			md.a = slices.Grow(md.a[:0], k)[:k]
+			sx.finish(d, e, inv, md.a, s1, s2, bad)
+			// As in sweep, weights that are not finite numbers in [0, 1]
+			// are not taken.
+			if finiteWeights(md.a) {
+				for s, g := range grp {
+					if dv := md.a[s] - alpha[s]; dv != 0 {
+						alpha[s] = md.a[s]
+						md.load[g] += abs * dv
+					}
+					next[g] += abs * alpha[s]
+				}
+				continue
+			}
+			for s, g := range grp {
+				next[g] += abs * alpha[s]
+			}
+		}
+	}
+	md.nextOK = true
 }
 
 // fill writes into md.d, md.e (and md.inv once the shares are fixed) the
@@ -831,6 +993,7 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 	s.act = s.act[:0]
 	// The first pass, over every j, also fills inv (unless given) and ed.
 	s1, s2 := 0.0, 0.0
+	var bad uint64
 	if inv == nil {
 		s.inv = slices.Grow(s.inv[:0], k)[:k]
 		inv = s.inv
@@ -839,56 +1002,137 @@ func (s *simplexScratch) solve(d, e, inv, out []float64) {
 			s.ed[j] = e[j] / d[j]
 			s1 += inv[j]
 			s2 += s.ed[j]
+			bad |= badD(d[j])
 		}
 	} else {
 		for j := range k {
 			s.ed[j] = e[j] / d[j]
 			s1 += inv[j]
 			s2 += s.ed[j]
+			bad |= badD(d[j])
 		}
 	}
+	s.finish(d, e, inv, out, s1, s2, bad)
+}
+
+// finish is [simplexScratch.solve] after its first pass, which left e_j/d_j
+// in s.ed and the sums of 1/d_j and e_j/d_j over every j in s1 and s2.
+func (s *simplexScratch) finish(d, e, inv, out []float64, s1, s2 float64, bad uint64) {
+	k := len(d)
+	low := math.Inf(1) // the least μ of the passes that dropped
 	// Each later pass drops with the μ of the last and sums over the j it
-	// keeps, in increasing order: the sums of the next pass.
+	// keeps, in increasing order: the sums of the next pass. The passes
+	// have no branch per j: every j is written to the list and counted
+	// only when kept, and a dropped j adds +0 to the sums, which leaves
+	// them as they are (they start at +0 and so are never −0).
+	s.act = slices.Grow(s.act[:0], k)[:k]
 	mu := (1 + s2) / s1
 	s1, s2 = 0, 0
+	n := 0
 	for j := range k {
-		if !(e[j] >= mu) {
-			s.act = append(s.act, int32(j))
-			s1 += inv[j]
-			s2 += s.ed[j]
-		}
+		m := keepMask(e[j], mu)
+		s.act[n] = int32(j)
+		n += int(m & 1)
+		s1 += masked(inv[j], m)
+		s2 += masked(s.ed[j], m)
 	}
-	for len(s.act) < k {
-		k = len(s.act)
+	for n < k {
+		k = n
+		low = min(low, mu)
 		mu = (1 + s2) / s1
 		s1, s2 = 0, 0
-		keep := s.act[:0]
-		for _, j := range s.act {
-			if !(e[j] >= mu) {
-				keep = append(keep, j)
-				s1 += inv[j]
-				s2 += s.ed[j]
-			}
+		n = 0
+		for _, j := range s.act[:k] {
+			m := keepMask(e[j], mu)
+			s.act[n] = j
+			n += int(m & 1)
+			s1 += masked(inv[j], m)
+			s2 += masked(s.ed[j], m)
 		}
-		s.act = keep
 	}
-	// x_j = max(0, (μ − e_j)/d_j), without the division where it is
-	// exactly 0 (μ − e_j ≤ 0 over a positive finite d_j), which is most j
-	// of a term in many groups; likewise 0/Σ = 0 for a positive Σ.
-	sum := 0.0
-	for j := range out {
-		if mu-e[j] <= 0 && d[j] > 0 && d[j] <= math.MaxFloat64 {
-			out[j] = 0
-			continue
+	// x_j = max(0, (μ − e_j)/d_j), then x_j/Σ x. Where μ − e_j ≤ 0 over a
+	// positive finite d_j, x_j is +0 without the division, and it stays +0
+	// (0/Σ = 0 for Σ > 0): only the other j, listed without a branch, are
+	// divided, and add to Σ (+0 would leave it as it is); with Σ not > 0
+	// every x_j is divided. When every d_j is positive and finite (bad is
+	// 0) and the last μ is at most each μ before it, a j dropped at some
+	// μ' has e_j ≥ μ' ≥ μ, so μ − e_j ≤ 0 (a difference of floats has the
+	// sign of the exact one): only the j still active need the test.
+	clear(out)
+	if bad == 0 && mu <= low {
+		m := 0
+		for _, j := range s.act[:n] {
+			s.act[m] = j
+			m += int(divideMask(e[j], mu, d[j]) & 1)
 		}
+		n = m
+	} else {
+		n = 0
+		for j := range out {
+			s.act[n] = int32(j)
+			n += int(divideMask(e[j], mu, d[j]) & 1)
+		}
+	}
+	sum := 0.0
+	for _, j := range s.act[:n] {
 		out[j] = max(0, (mu-e[j])/d[j])
 		sum += out[j]
 	}
-	for j := range out {
-		if out[j] != 0 || !(sum > 0) {
+	if !(sum > 0) {
+		for j := range out {
 			out[j] /= sum
 		}
+		return
 	}
+	for _, j := range s.act[:n] {
+		out[j] /= sum
+	}
+}
+
+// badD is 1 unless d is positive and finite, without a branch.
+func badD(d float64) uint64 {
+	var bad uint64
+	if !(d > 0) {
+		bad = 1
+	}
+	var big uint64
+	if !(d <= math.MaxFloat64) {
+		big = 1
+	}
+	return bad | big
+}
+
+// divideMask is all ones unless μ − e ≤ 0 and d is positive and finite
+// (then x = max(0, (μ − e)/d) is +0), without a branch.
+func divideMask(e, mu, d float64) uint64 {
+	var k uint64
+	if !(mu-e <= 0) {
+		k = 1
+	}
+	var bad uint64
+	if !(d > 0) {
+		bad = 1
+	}
+	var big uint64
+	if !(d <= math.MaxFloat64) {
+		big = 1
+	}
+	return -(k | bad | big)
+}
+
+// keepMask is all ones when !(e >= mu) (j stays active: e < μ, or either
+// is NaN), else zero, without a branch.
+func keepMask(e, mu float64) uint64 {
+	var k uint64
+	if !(e >= mu) {
+		k = 1
+	}
+	return -k
+}
+
+// masked is v where m is all ones and +0 where m is zero.
+func masked(v float64, m uint64) float64 {
+	return math.Float64frombits(math.Float64bits(v) & m)
 }
 
 // roundShares rounds budget among the fractions f by largest remainder,
@@ -916,6 +1160,14 @@ func roundShares(budget int, f []float64) []int {
 // or more of them cover, with its weights there (those with α > 0),
 // normalised to add up to one.
 func (md *splitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
+	if md.glob != nil {
+		for _, bl := range md.blocks {
+			for e, g := range bl.grp {
+				bl.grp[e] = md.glob[g]
+			}
+		}
+		md.glob = nil
+	}
 	sum := make([]float64, len(md.abs))
 	split := make([]bool, len(md.abs))
 	count := make([]int, len(settings))

@@ -191,9 +191,10 @@ func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups 
 		r1, before := min(r0+batch, m), groups
 		overlapParallel(r1-r0, 64, func(lo, hi int) {
 			var codes []int32
+			var sc firstFitScratch
 			for t := lo; t < hi; t++ {
 				codes = codesOf(codes, r0+t)
-				spec[t] = int32(scan(codes, 0, before))
+				spec[t] = int32(sc.scan(conflict, 3*n, codes, before))
 			}
 		})
 		for r := r0; r < r1; r++ {
@@ -249,6 +250,69 @@ func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups 
 	return gx, gz, gm, homeRank, groups
 }
 
+// firstFitScratch is the storage of [firstFitScratch.scan].
+type firstFitScratch struct {
+	acc [64]uint64
+	at  [64]int32
+}
+
+// scan returns the first group g < upto in no conflict set of codes (rows
+// of stride words of conflict, as in [overlapFirstFit]), or upto: the
+// answer of a scan word by word. The words go in slices of 4, 8, ... 64:
+// the first four sets are read at every word of a slice, the words not
+// yet full are kept in a list (without a branch per word), and each
+// further set is read only at the words of the list; the first word left
+// holds the answer.
+func (sc *firstFitScratch) scan(conflict []uint64, stride int, codes []int32, upto int) int {
+	words := (upto + 63) / 64
+	var c0, c1, c2, c3 int
+	switch len(codes) {
+	case 0:
+		return min(upto, 0)
+	case 1:
+		c0 = int(codes[0])
+		c1, c2, c3 = c0, c0, c0
+	case 2:
+		c0, c1 = int(codes[0]), int(codes[1])
+		c2, c3 = c1, c1
+	case 3:
+		c0, c1, c2 = int(codes[0]), int(codes[1]), int(codes[2])
+		c3 = c2
+	default:
+		c0, c1, c2, c3 = int(codes[0]), int(codes[1]), int(codes[2]), int(codes[3])
+	}
+	rest := codes[min(4, len(codes)):]
+	w := 4
+	for j0 := 0; j0 < words; j0 += w {
+		w = min(2*w, 64)
+		j1 := min(j0+w, words)
+		acc, at := sc.acc[:j1-j0], sc.at[:j1-j0]
+		n := 0
+		for j := j0; j < j1; j++ {
+			row := conflict[stride*j : stride*(j+1)]
+			v := row[c0] | row[c1] | row[c2] | row[c3]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(^v)
+		}
+		for _, c := range rest {
+			if n == 0 {
+				break
+			}
+			m := 0
+			for t := range n {
+				v := acc[t] | conflict[stride*int(at[t])+int(c)]
+				acc[m], at[m] = v, at[t]
+				m += nonZero(^v)
+			}
+			n = m
+		}
+		if n > 0 {
+			return min(upto, int(at[0])*64+bits.TrailingZeros64(^acc[0]))
+		}
+	}
+	return upto
+}
+
 // overlapBlock holds the (term, group) cover pairs of the terms lo to
 // lo+len(off)−2, term-major: term lo+t is covered by the groups
 // grp[off[t]:off[t+1]], in increasing order, with weights α in alpha at
@@ -270,17 +334,16 @@ const overlapBlockTerms = 1024
 // q and letter code l, the set of the settings with that letter on q, 64
 // settings a word. A setting covers a term when it has the term's letter
 // on each of its qubits, so the settings that cover a term are the
-// intersection of the term's sets. Only the words where the sparsest of
-// the term's sets is not empty are read, each until the intersection is,
-// the sets taken from the sparsest.
+// intersection of the term's sets, read a slice of words at a time for a
+// run of terms ([overlapCover.appendRun]), the sets taken from the
+// sparsest.
 type overlapCover struct {
 	tab      *pauli.Table
 	n, words int
-	sets     []uint64  // set 3q+l at (3q+l)·words
-	nonEmpty [][]int32 // the words of each set that are not empty
-	count    []int     // the settings in each set
-	last     uint64    // the settings of the last word
-	glob     []int32   // the caller's number of each setting, nil for its place
+	sets     []uint64 // set 3q+l at (3q+l)·words
+	count    []int    // the settings in each set
+	last     uint64   // the settings of the last word
+	glob     []int32  // the caller's number of each setting, nil for its place
 }
 
 // newOverlapCover builds the sets of the settings for the terms of h; glob,
@@ -297,14 +360,10 @@ func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob 
 			}
 		}
 	}
-	cs.nonEmpty = make([][]int32, 3*n)
 	cs.count = make([]int, 3*n)
-	for c := range cs.nonEmpty {
-		for j, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
-			if v != 0 {
-				cs.nonEmpty[c] = append(cs.nonEmpty[c], int32(j))
-				cs.count[c] += bits.OnesCount64(v)
-			}
+	for c := range cs.count {
+		for _, v := range cs.sets[c*cs.words : (c+1)*cs.words] {
+			cs.count[c] += bits.OnesCount64(v)
 		}
 	}
 	if len(settings)%64 != 0 {
@@ -313,74 +372,174 @@ func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob 
 	return cs
 }
 
-// appendCovering appends to dst the settings that cover term i, in
-// increasing order; codes is scratch.
-func (cs *overlapCover) appendCovering(dst, codes []int32, i int) ([]int32, []int32) {
-	x, z := cs.tab.Words(i)
-	words := cs.words
-	codes = codes[:0]
-	for q := range supportOf(x, z) {
-		codes = append(codes, int32(3*q)+letterIndex(x, z, q))
-	}
-	start := len(dst)
-	if len(codes) == 0 {
-		// The identity: every setting covers it.
-		for j := range words {
-			v := ^uint64(0)
-			if j == words-1 {
-				v = cs.last
-			}
-			for ; v != 0; v &= v - 1 {
-				dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
-			}
-		}
-	} else {
-		// Sparsest sets first (insertion sort: a term has few letters),
-		// so that the intersection of a word is empty soonest.
-		for k := 1; k < len(codes); k++ {
-			for l := k; l > 0 && cs.count[codes[l]] < cs.count[codes[l-1]]; l-- {
-				codes[l], codes[l-1] = codes[l-1], codes[l]
-			}
-		}
-		for k := range codes {
-			codes[k] *= int32(words)
-		}
-		for _, j := range cs.nonEmpty[codes[0]/int32(words)] {
-			v := cs.sets[codes[0]+j]
-			for _, c := range codes[1:] {
-				if v &= cs.sets[c+j]; v == 0 {
-					break
-				}
-			}
-			for ; v != 0; v &= v - 1 {
-				dst = append(dst, j*64+int32(bits.TrailingZeros64(v)))
-			}
-		}
-	}
-	if cs.glob != nil {
-		for k, g := range dst[start:] {
-			dst[start+k] = cs.glob[g]
-		}
-	}
-	return dst, codes
+// overlapCoverWords is the number of words of every set that
+// [overlapCover.appendRun] reads for all terms of a run before the next
+// words: 150 sets of 64 words (50 qubits) take 77 KB, which stay in cache
+// while the run's terms read them.
+const overlapCoverWords = 64
+
+// overlapRunTerms is the number of terms of a run of [overlapCover.appendRun].
+const overlapRunTerms = 64
+
+// coverScratch is the reusable storage of [overlapCover.appendRun].
+type coverScratch struct {
+	codes []int32 // the codes of the run's terms, sparsest first, times words
+	coff  []int32 // term t's codes at coff[t] to coff[t+1]−1
+	acc   [overlapCoverWords]uint64
+	at    [overlapCoverWords]int32
+	// The settings found, piece after piece: piece r·k+t, of term t and
+	// slice r of the words, at tmp[piece[r·k+t]:piece[r·k+t+1]].
+	tmp   []int32
+	piece []int32
 }
+
+// appendRun appends to grp the settings that cover each term lo to hi−1,
+// in increasing order, and to off the length of grp after each term. The
+// words of the sets are read a slice at a time for every term of the run,
+// so that a slice is read from memory once per run rather than once per
+// term; the answer is that of a scan term by term.
+func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch) ([]int32, []int32) {
+	words := cs.words
+	k := hi - lo
+	sc.codes, sc.coff = sc.codes[:0], append(sc.coff[:0], 0)
+	sc.tmp, sc.piece = sc.tmp[:0], append(sc.piece[:0], 0)
+	for t := range k {
+		x, z := cs.tab.Words(lo + t)
+		at := len(sc.codes)
+		for q := range supportOf(x, z) {
+			sc.codes = append(sc.codes, int32(3*q)+letterIndex(x, z, q))
+			// Sparsest sets first (insertion sort: a term has few
+			// letters), so that the intersection of a word is empty
+			// soonest.
+			for l := len(sc.codes) - 1; l > at && cs.count[sc.codes[l]] < cs.count[sc.codes[l-1]]; l-- {
+				sc.codes[l], sc.codes[l-1] = sc.codes[l-1], sc.codes[l]
+			}
+		}
+		for l := at; l < len(sc.codes); l++ {
+			sc.codes[l] *= int32(words)
+		}
+		sc.coff = append(sc.coff, int32(len(sc.codes)))
+	}
+	for j0 := 0; j0 < words; j0 += overlapCoverWords {
+		j1 := min(j0+overlapCoverWords, words)
+		for t := range k {
+			codes := sc.codes[sc.coff[t]:sc.coff[t+1]]
+			dst := sc.tmp
+			if len(codes) == 0 {
+				// The identity: every setting covers it.
+				for j := j0; j < j1; j++ {
+					v := ^uint64(0)
+					if j == words-1 {
+						v = cs.last
+					}
+					for ; v != 0; v &= v - 1 {
+						dst = append(dst, int32(j*64+bits.TrailingZeros64(v)))
+					}
+				}
+			} else {
+				dst = cs.intersect(dst, codes, j0, j1, sc)
+			}
+			sc.tmp = dst
+			sc.piece = append(sc.piece, int32(len(dst)))
+		}
+	}
+	for t := range k {
+		start := len(grp)
+		for p := t; p+1 < len(sc.piece); p += k {
+			grp = append(grp, sc.tmp[sc.piece[p]:sc.piece[p+1]]...)
+		}
+		if cs.glob != nil {
+			for e, g := range grp[start:] {
+				grp[start+e] = cs.glob[g]
+			}
+		}
+		off = append(off, int32(len(grp)))
+	}
+	return grp, off
+}
+
+// intersect appends to dst the settings of words j0 to j1−1 (at most
+// overlapCoverWords) in every set of codes (at least one, offsets of sets,
+// sparsest first), in increasing order. The first four sets are read for
+// every word; the words not yet empty are kept in a list (without a branch
+// per word), and each further set is read only at the words of the list.
+func (cs *overlapCover) intersect(dst, codes []int32, j0, j1 int, sc *coverScratch) []int32 {
+	w := j1 - j0
+	acc, at := sc.acc[:w], sc.at[:w]
+	s0 := cs.sets[int(codes[0])+j0 : int(codes[0])+j1]
+	n := 0
+	switch len(codes) {
+	case 1:
+		for j, v := range s0 {
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	case 2:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	case 3:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		s2 := cs.sets[int(codes[2])+j0 : int(codes[2])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j] & s2[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+	default:
+		s1 := cs.sets[int(codes[1])+j0 : int(codes[1])+j1][:w]
+		s2 := cs.sets[int(codes[2])+j0 : int(codes[2])+j1][:w]
+		s3 := cs.sets[int(codes[3])+j0 : int(codes[3])+j1][:w]
+		for j, v := range s0 {
+			v &= s1[j] & s2[j] & s3[j]
+			acc[n], at[n] = v, int32(j)
+			n += nonZero(v)
+		}
+		for _, c := range codes[min(4, len(codes)):] {
+			if n == 0 {
+				break
+			}
+			set := cs.sets[int(c)+j0 : int(c)+j1]
+			m := 0
+			for t := range n {
+				v := acc[t] & set[at[t]]
+				acc[m], at[m] = v, at[t]
+				m += nonZero(v)
+			}
+			n = m
+		}
+	}
+	for t := range n {
+		base := int32(j0+int(at[t])) * 64
+		for v := acc[t]; v != 0; v &= v - 1 {
+			dst = append(dst, base+int32(bits.TrailingZeros64(v)))
+		}
+	}
+	return dst
+}
+
+// nonZero is 1 if v ≠ 0, else 0, without a branch.
+func nonZero(v uint64) int { return int((v | -v) >> 63) }
 
 // blocks returns the cover pairs of every term, in blocks of blockTerms
 // terms, filled by GOMAXPROCS goroutines, each its own blocks.
 func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 	m := cs.tab.Len()
 	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
-	overlapParallel(len(blocks), 1, func(lo, hi int) {
-		var codes, buf []int32
+	overlapParallel(len(blocks), 4, func(lo, hi int) {
+		var sc coverScratch
+		var buf []int32
 		for b := lo; b < hi; b++ {
 			bl := &blocks[b]
 			bl.lo = b * blockTerms
 			end := min(bl.lo+blockTerms, m)
 			bl.off = make([]int32, 1, end-bl.lo+1)
 			buf = buf[:0]
-			for i := bl.lo; i < end; i++ {
-				buf, codes = cs.appendCovering(buf, codes, i)
-				bl.off = append(bl.off, int32(len(buf)))
+			for r := bl.lo; r < end; r += overlapRunTerms {
+				buf, bl.off = cs.appendRun(buf, bl.off, r, min(r+overlapRunTerms, end), &sc)
 			}
 			bl.grp = slices.Clone(buf)
 			bl.alpha = make([]float64, len(bl.grp))
@@ -394,24 +553,56 @@ type overlapCoverChunk struct {
 	lo  int
 	off []int32
 	grp []int32
+	num [3][]float64 // prep's numbers of each pair
 }
 
+// fill sets ch to the terms lo to hi−1 and calls prep for each.
+func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep coverFunc) {
+	ch.lo = lo
+	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
+	for r, v := range ch.num {
+		if cap(v) < len(ch.grp) {
+			v = make([]float64, len(ch.grp)+len(ch.grp)/4) // no copy: all is written
+		}
+		ch.num[r] = v[:len(ch.grp)]
+	}
+	for t := range hi - lo {
+		prep(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
+	}
+}
+
+// nums returns the numbers of term lo+t's pairs.
+func (ch *overlapCoverChunk) nums(t int) [3][]float64 {
+	a, b := ch.off[t], ch.off[t+1]
+	return [3][]float64{ch.num[0][a:b], ch.num[1][a:b], ch.num[2][a:b]}
+}
+
+// coverFunc is the type of the functions [overlapCover.each] calls with a
+// term, the settings that cover it and three numbers per setting.
+type coverFunc func(i int, covering []int32, num [3][]float64)
+
 // overlapChunkTerms is the number of terms per [overlapCoverChunk].
-const overlapChunkTerms = 32
+const overlapChunkTerms = overlapRunTerms
 
 // each calls fn for every term in table order with the settings that
-// cover it, in increasing order; fn must not keep the slice. The
-// intersections are computed ahead by GOMAXPROCS goroutines, at most a
-// few chunks of terms ahead of fn, so that memory stays bounded whatever
-// the number of cover pairs.
-func (cs *overlapCover) each(fn func(i int, covering []int32)) {
+// cover it, in increasing order, and the numbers prep wrote for them
+// (prep is called with every term's settings, before fn, perhaps in
+// another goroutine, and must only write the numbers); fn must not keep
+// the slices. The intersections and prep are computed ahead by GOMAXPROCS
+// goroutines, at most a few chunks of terms ahead of fn, so that memory
+// stays bounded whatever the number of cover pairs.
+func (cs *overlapCover) each(prep, fn coverFunc) {
 	m := cs.tab.Len()
 	workers := runtime.GOMAXPROCS(0)
 	if workers < 2 || m <= overlapChunkTerms {
-		var codes, buf []int32
-		for i := range m {
-			buf, codes = cs.appendCovering(buf[:0], codes, i)
-			fn(i, buf)
+		var sc coverScratch
+		var ch overlapCoverChunk
+		for lo := 0; lo < m; lo += overlapChunkTerms {
+			hi := min(lo+overlapChunkTerms, m)
+			ch.fill(cs, lo, hi, &sc, prep)
+			for t := range hi - lo {
+				fn(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
+			}
 		}
 		return
 	}
@@ -432,7 +623,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Go(func() {
-			var codes []int32
+			var sc coverScratch
 			for {
 				ch := <-free
 				c := int(next.Add(1)) - 1
@@ -440,12 +631,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 					free <- ch
 					return
 				}
-				ch.lo = c * overlapChunkTerms
-				ch.off, ch.grp = append(ch.off[:0], 0), ch.grp[:0]
-				for i := ch.lo; i < min(ch.lo+overlapChunkTerms, m); i++ {
-					ch.grp, codes = cs.appendCovering(ch.grp, codes, i)
-					ch.off = append(ch.off, int32(len(ch.grp)))
-				}
+				ch.fill(cs, c*overlapChunkTerms, min((c+1)*overlapChunkTerms, m), &sc, prep)
 				done[c] <- ch
 			}
 		})
@@ -453,7 +639,7 @@ func (cs *overlapCover) each(fn func(i int, covering []int32)) {
 	for c := range chunks {
 		ch := <-done[c]
 		for t := range len(ch.off) - 1 {
-			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]])
+			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
 		}
 		free <- ch
 	}
