@@ -11,6 +11,7 @@ import (
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/coverindex"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -272,33 +273,8 @@ func (c *coverage) loads(a []float64, drop []bool) []float64 {
 	}
 	// Each s_Q is its own sum, in the order of its stored row, whichever
 	// goroutine adds it.
-	splitRange(len(s), 256, sum)
+	workshare.Chunks(len(s), 256, sum)
 	return s
-}
-
-// splitRange runs f(lo, hi) over [0, n) in chunks of the given size,
-// shared among up to GOMAXPROCS goroutines; f must write only what belongs
-// to its chunk, so that the result does not depend on the split.
-func splitRange(n, chunk int, f func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
-	if workers < 2 {
-		f(0, n)
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			for {
-				lo := int(next.Add(int64(chunk))) - chunk
-				if lo >= n {
-					return
-				}
-				f(lo, min(lo+chunk, n))
-			}
-		})
-	}
-	wg.Wait()
 }
 
 // termLoads returns load_i = Σ_{Q ∋ i} m_Q s_Q for every term, the

@@ -2,11 +2,9 @@ package coverindex
 
 import (
 	"math/bits"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"github.com/shotplan/shotplan/internal/symplectic"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -114,37 +112,13 @@ func (l *Letters) andInto(out []uint64, i, lo int) {
 	}
 }
 
-// parallel runs f(lo, hi) over [0, n) in chunks of size chunk, shared
-// among GOMAXPROCS goroutines.
-func parallel(n, chunk int, f func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
-	if workers < 2 {
-		f(0, n)
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			for {
-				lo := int(next.Add(int64(chunk))) - chunk
-				if lo >= n {
-					return
-				}
-				f(lo, min(lo+chunk, n))
-			}
-		})
-	}
-	wg.Wait()
-}
-
 // Counts returns N_i = Σ_{Q covers i} m_Q for every term and the number of
 // (distinct setting, term) cover pairs.
 func (l *Letters) Counts() ([]int, int64) {
 	rows := len(l.off) - 1
 	cover := make([]int, rows)
 	distinct := make([]int, rows)
-	parallel(rows, 256, func(lo, hi int) {
+	workshare.Chunks(rows, 256, func(lo, hi int) {
 		and := make([]uint64, l.words)
 		for i := lo; i < hi; i++ {
 			l.andInto(and, i, 0)
@@ -181,7 +155,7 @@ func (l *Letters) Counts() ([]int, int64) {
 func (l *Letters) SumOver(a []float64, drop []bool) []float64 {
 	s := make([]float64, l.words*64)
 	rows := len(l.off) - 1
-	parallel(l.words, 16, func(lo, hi int) {
+	workshare.Chunks(l.words, 16, func(lo, hi int) {
 		and := make([]uint64, hi-lo)
 		sc := s[lo<<6 : hi<<6]
 		for i := range rows {
@@ -208,7 +182,7 @@ func (l *Letters) Gather(f []float64) []float64 {
 	out := make([]float64, rows)
 	fp := make([]float64, l.words*64)
 	copy(fp, f)
-	parallel(rows, 256, func(lo, hi int) {
+	workshare.Chunks(rows, 256, func(lo, hi int) {
 		and := make([]uint64, l.words)
 		for i := lo; i < hi; i++ {
 			l.andInto(and, i, 0)
