@@ -582,8 +582,11 @@ func (md *splitModel) fixShares(f []float64) {
 	for b := range md.blocks {
 		bl := &md.blocks[b]
 		bl.dq, bl.inv = make([]float64, len(bl.grp)), make([]float64, len(bl.grp))
+		bl.sum1, bl.bad = make([]float64, len(bl.off)-1), make([]uint64, len(bl.off)-1)
 		for t := range len(bl.off) - 1 {
 			abs := md.abs[bl.lo+t]
+			s1 := 0.0
+			var bad uint64
 			for e := bl.off[t]; e < bl.off[t+1]; e++ {
 				g := bl.grp[e]
 				fg := f[g]
@@ -597,7 +600,12 @@ func (md *splitModel) fixShares(f []float64) {
 				}
 				bl.dq[e] = a / fg
 				bl.inv[e] = 1 / bl.dq[e]
+				s1 += bl.inv[e]
+				bad |= badD(bl.dq[e])
 			}
+			// Read by sweepFixed only, where every f_g is positive: then
+			// they are the sums of its first pass over every pair.
+			bl.sum1[t], bl.bad[t] = s1, bad
 		}
 	}
 }
@@ -866,17 +874,17 @@ func (md *splitModel) sweepFixed(f []float64) {
 			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
 			e, ed := md.e, sx.ed[:k]
 			d, inv := bl.dq[lo:hi], bl.inv[lo:hi]
-			s1, s2 := 0.0, 0.0
-			var bad uint64
+			// Σ 1/d and the test of d, which do not change between
+			// sweeps, were done once by fixShares.
+			s1, bad := bl.sum1[t], bl.bad[t]
+			s2 := 0.0
 			for s, g := range grp {
 				b := abs * (md.load[g] - abs*alpha[s])
 				ev := b / f[g]
 				e[s] = ev
 				edv := ev / d[s]
 				ed[s] = edv
-				s1 += inv[s]
 				s2 += edv
-				bad |= badD(d[s])
 			}
 			md.a = slices.Grow(md.a[:0], k)[:k]
 			sx.finish(d, e, inv, md.a, s1, s2, bad)

@@ -323,8 +323,13 @@ type overlapBlock struct {
 	grp   []int32
 	alpha []float64
 	// dq and inv, once the shares are fixed, are d and 1/d of the
-	// per-term step of each pair ([splitModel.fixShares]).
+	// per-term step of each pair ([splitModel.fixShares]); sum1[t] and
+	// bad[t] are the sum of term lo+t's 1/d in pair order and whether one
+	// of its d is not positive and finite (see [badD]), the same for
+	// every sweep.
 	dq, inv []float64
+	sum1    []float64
+	bad     []uint64
 }
 
 // overlapBlockTerms is the number of terms per [overlapBlock].
