@@ -891,12 +891,17 @@ func (md *splitModel) sweepFixed(f []float64) {
 			// As in sweep, weights that are not finite numbers in [0, 1]
 			// are not taken.
 			if finiteWeights(md.a) {
+				// Without a branch: where the weight stays, dv is +0 and
+				// the load, a sum of products ≥ 0 that is never −0, is
+				// left as it is by adding abs·dv = +0; the new weight,
+				// equal to the old and not −0 (finish never gives −0),
+				// has the same bits.
 				for s, g := range grp {
-					if dv := md.a[s] - alpha[s]; dv != 0 {
-						alpha[s] = md.a[s]
-						md.load[g] += abs * dv
-					}
-					next[g] += abs * alpha[s]
+					v := md.a[s]
+					dv := v - alpha[s]
+					alpha[s] = v
+					md.load[g] += abs * dv
+					next[g] += abs * v
 				}
 				continue
 			}
