@@ -451,10 +451,19 @@ func (md *splitModel) variance(g int) float64 {
 
 // shares sets f_g = sd_g/Σ sd (the optimal fractions for fixed weights,
 // MATH.md §2.3) and returns the objective there, (Σ_g sd_g)².
-func (md *splitModel) shares(f []float64) float64 {
+func (md *splitModel) shares(f []float64) float64 { return sdShares(f, md.variance) }
+
+// objective returns Σ_g Var(O_g)/f_g over the groups with f_g > 0.
+func (md *splitModel) objective(f []float64) float64 { return splitObjective(f, md.variance) }
+
+// sdShares sets f_g = sd_g/Σ sd with sd_g = sqrt(variance(g)), equal
+// shares when every sd_g is zero, and returns (Σ_g sd_g)², the objective
+// Σ_g Var(O_g)/f_g at those shares (MATH.md §2.3). Both overlap models use
+// it.
+func sdShares(f []float64, variance func(g int) float64) float64 {
 	sum := 0.0
 	for g := range f {
-		f[g] = math.Sqrt(md.variance(g))
+		f[g] = math.Sqrt(variance(g))
 		sum += f[g]
 	}
 	if sum == 0 {
@@ -469,12 +478,12 @@ func (md *splitModel) shares(f []float64) float64 {
 	return sum * sum
 }
 
-// objective returns Σ_g Var(O_g)/f_g over the groups with f_g > 0.
-func (md *splitModel) objective(f []float64) float64 {
+// splitObjective returns Σ_g variance(g)/f_g over the groups with f_g > 0.
+func splitObjective(f []float64, variance func(g int) float64) float64 {
 	s := 0.0
 	for g, fg := range f {
 		if fg > 0 {
-			s += md.variance(g) / fg
+			s += variance(g) / fg
 		}
 	}
 	return s

@@ -403,34 +403,10 @@ func (md *gcSplitModel) variance(g int) float64 {
 
 // shares sets f_g ∝ sqrt(Var(O_g)) and returns (Σ_g sqrt(Var(O_g)))², the
 // objective at those shares.
-func (md *gcSplitModel) shares(f []float64) float64 {
-	sum := 0.0
-	for g := range f {
-		f[g] = math.Sqrt(md.variance(g))
-		sum += f[g]
-	}
-	if sum == 0 {
-		for g := range f {
-			f[g] = 1 / float64(len(f))
-		}
-		return 0
-	}
-	for g := range f {
-		f[g] /= sum
-	}
-	return sum * sum
-}
+func (md *gcSplitModel) shares(f []float64) float64 { return sdShares(f, md.variance) }
 
 // objective returns Σ_g Var(O_g)/f_g over the groups with f_g > 0.
-func (md *gcSplitModel) objective(f []float64) float64 {
-	s := 0.0
-	for g, fg := range f {
-		if fg > 0 {
-			s += md.variance(g) / fg
-		}
-	}
-	return s
-}
+func (md *gcSplitModel) objective(f []float64) float64 { return splitObjective(f, md.variance) }
 
 // restrict moves the weights off the groups with f_g = 0: a term's
 // remaining weights are rescaled to add up to one, or made equal if they

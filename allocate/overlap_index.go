@@ -8,6 +8,7 @@ import (
 	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -18,33 +19,6 @@ import (
 // scan over every group, so the plan does not depend on them; the work
 // that is independent per group or per term is shared among GOMAXPROCS
 // goroutines, each writing only its own groups' or terms' entries.
-
-// overlapParallel runs f(lo, hi) over [0, n) in chunks of size chunk,
-// shared among up to GOMAXPROCS goroutines. f must only write data of its
-// own range, so that the result does not depend on the schedule.
-func overlapParallel(n, chunk int, f func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
-	if workers < 2 {
-		for lo := 0; lo < n; lo += chunk {
-			f(lo, min(lo+chunk, n))
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			for {
-				lo := int(next.Add(int64(chunk))) - chunk
-				if lo >= n {
-					return
-				}
-				f(lo, min(lo+chunk, n))
-			}
-		})
-	}
-	wg.Wait()
-}
 
 // overlapGroups returns the distinct settings of the overlapping groups
 // (see [Overlap]) and every term's home: the group sorted insertion put it
@@ -58,7 +32,7 @@ func overlapGroups(h *hamiltonian.Hamiltonian, fill pauli.Letter) ([]pauli.Setti
 	// and fits adds no letter, so once the group's qubits hold the support
 	// of every term no later term changes it and the walk stops. Groups
 	// are independent: each worker extends its own.
-	overlapParallel(groups, 16, func(lo, hi int) {
+	workshare.Chunks(groups, 16, func(lo, hi int) {
 		for g := lo; g < hi; g++ {
 			ex, ez, em := gx[g*w:(g+1)*w], gz[g*w:(g+1)*w], gm[g*w:(g+1)*w]
 			full := func() bool {
@@ -189,7 +163,7 @@ func overlapFirstFit(rk *ranked) (gx, gz, gm []uint64, homeRank []int32, groups 
 	var codes []int32
 	for r0 := 0; r0 < m; r0 += batch {
 		r1, before := min(r0+batch, m), groups
-		overlapParallel(r1-r0, 64, func(lo, hi int) {
+		workshare.Chunks(r1-r0, 64, func(lo, hi int) {
 			var codes []int32
 			var sc firstFitScratch
 			for t := lo; t < hi; t++ {
@@ -534,7 +508,7 @@ func nonZero(v uint64) int { return int((v | -v) >> 63) }
 func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 	m := cs.tab.Len()
 	blocks := make([]overlapBlock, (m+blockTerms-1)/blockTerms)
-	overlapParallel(len(blocks), 4, func(lo, hi int) {
+	workshare.Chunks(len(blocks), 4, func(lo, hi int) {
 		var sc coverScratch
 		var buf []int32
 		for b := lo; b < hi; b++ {
