@@ -489,6 +489,29 @@ func splitObjective(f []float64, variance func(g int) float64) float64 {
 	return s
 }
 
+// restrictTerm moves one term's weights alpha (on the groups grp) off the
+// groups with f_g = 0: the remaining weights are rescaled to add up to one,
+// or made equal if they were all zero. Both overlap models use it.
+func restrictTerm(alpha []float64, grp []int32, f []float64) {
+	sum, act := 0.0, 0
+	for e, g := range grp {
+		if f[g] > 0 {
+			sum += alpha[e]
+			act++
+		}
+	}
+	for e, g := range grp {
+		switch {
+		case f[g] == 0:
+			alpha[e] = 0
+		case sum > 0:
+			alpha[e] /= sum
+		default:
+			alpha[e] = 1 / float64(act)
+		}
+	}
+}
+
 // optimise alternates shares and weights (MATH.md §2.5) for at most
 // rounds rounds and returns the fractions f_g.
 func (md *splitModel) optimise(rounds int) []float64 {
@@ -514,24 +537,7 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	}
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
-			lo, hi := bl.off[t], bl.off[t+1]
-			sum, act := 0.0, 0
-			for e := lo; e < hi; e++ {
-				if f[bl.grp[e]] > 0 {
-					sum += bl.alpha[e]
-					act++
-				}
-			}
-			for e := lo; e < hi; e++ {
-				switch {
-				case f[bl.grp[e]] == 0:
-					bl.alpha[e] = 0
-				case sum > 0:
-					bl.alpha[e] /= sum
-				default:
-					bl.alpha[e] = 1 / float64(act)
-				}
-			}
+			restrictTerm(bl.alpha[bl.off[t]:bl.off[t+1]], bl.grp[bl.off[t]:bl.off[t+1]], f)
 		}
 	}
 	md.fixShares(f)

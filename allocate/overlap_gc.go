@@ -414,23 +414,7 @@ func (md *gcSplitModel) objective(f []float64) float64 { return splitObjective(f
 func (md *gcSplitModel) restrict(f []float64) {
 	for i := range md.abs {
 		lo, hi := md.off[i], md.off[i+1]
-		sum, act := 0.0, 0
-		for e := lo; e < hi; e++ {
-			if f[md.grp[e]] > 0 {
-				sum += md.alpha[e]
-				act++
-			}
-		}
-		for e := lo; e < hi; e++ {
-			switch {
-			case f[md.grp[e]] == 0:
-				md.alpha[e] = 0
-			case sum > 0:
-				md.alpha[e] /= sum
-			default:
-				md.alpha[e] = 1 / float64(act)
-			}
-		}
+		restrictTerm(md.alpha[lo:hi], md.grp[lo:hi], f)
 	}
 	md.refresh()
 }
