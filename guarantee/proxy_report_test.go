@@ -140,40 +140,13 @@ func TestProxyAnytimeReport(t *testing.T) {
 	if out == "" {
 		t.Skipf("set %s=<file> to build the proxy anytime table", proxyAnytimeEnv)
 	}
-	seeds := 20
-	if s := os.Getenv("SHOTPLAN_PROXY_SEEDS"); s != "" {
-		// 0 writes the σ² and expected columns only.
-		v, err := strconv.Atoi(s)
-		if err != nil || v < 0 {
-			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a non-negative count", s)
-		}
-		seeds = v
-	}
-	keep := map[string]bool{}
-	for _, r := range strings.Split(os.Getenv("SHOTPLAN_PROXY_ROWS"), ",") {
-		if r = strings.TrimSpace(r); r != "" {
-			keep[r] = true
-		}
-	}
+	// 0 seeds writes the σ² and expected columns only.
+	seeds, keep, sys, hfPx, exact := proxyReportSetup(t, 0)
 	const (
 		delta    = 0.05
 		eps      = 1.6e-3
 		maxShots = 30000000
 	)
-	sys := anytimeSystems(t)[1]
-	g, err := molecule.ReadFCIDUMPFile(filepath.Join("..", "hamiltonian", "molecule", "testdata", "lih_sto3g_1.5949A.fcidump"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	bits, err := g.HartreeFockBits(fermion.JordanWigner)
-	if err != nil {
-		t.Fatal(err)
-	}
-	exact, err := allocate.NewStateProxy(sys.state)
-	if err != nil {
-		t.Fatal(err)
-	}
-	hfPx := allocate.BasisProxy{Bits: bits}
 	type row struct {
 		name string
 		a    allocate.Allocator
@@ -203,6 +176,7 @@ func TestProxyAnytimeReport(t *testing.T) {
 				continue
 			}
 			if p == nil {
+				var err error
 				if p, err = allocate.Run(sys.h, 10000, r.a, nil); err != nil {
 					t.Fatal(err)
 				}
@@ -288,38 +262,12 @@ func TestProxySequentialReport(t *testing.T) {
 	if out == "" {
 		t.Skip("set SHOTPLAN_PROXY_SEQUENTIAL=<file> to build the proxy sequential table")
 	}
-	seeds := 20
-	if s := os.Getenv("SHOTPLAN_PROXY_SEEDS"); s != "" {
-		v, err := strconv.Atoi(s)
-		if err != nil || v < 1 {
-			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a positive count", s)
-		}
-		seeds = v
-	}
-	keep := map[string]bool{}
-	for _, r := range strings.Split(os.Getenv("SHOTPLAN_PROXY_ROWS"), ",") {
-		if r = strings.TrimSpace(r); r != "" {
-			keep[r] = true
-		}
-	}
+	seeds, keep, sys, hfPx, exact := proxyReportSetup(t, 1)
 	const (
 		delta    = 0.05
 		eps      = 1.6e-3
 		maxShots = 30000000
 	)
-	sys := anytimeSystems(t)[1]
-	g, err := molecule.ReadFCIDUMPFile(filepath.Join("..", "hamiltonian", "molecule", "testdata", "lih_sto3g_1.5949A.fcidump"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	bits, err := g.HartreeFockBits(fermion.JordanWigner)
-	if err != nil {
-		t.Fatal(err)
-	}
-	exact, err := allocate.NewStateProxy(sys.state)
-	if err != nil {
-		t.Fatal(err)
-	}
 	type row struct {
 		name string
 		a    allocate.Allocator
@@ -329,7 +277,7 @@ func TestProxySequentialReport(t *testing.T) {
 		for _, px := range []struct {
 			name string
 			p    allocate.Proxy
-		}{{"worst", nil}, {"hf", allocate.BasisProxy{Bits: bits}}, {"exact", exact}} {
+		}{{"worst", nil}, {"hf", hfPx}, {"exact", exact}} {
 			rows = append(rows, row{st.name + " " + px.name, st.make(px.p)})
 		}
 	}
@@ -367,4 +315,40 @@ func TestProxySequentialReport(t *testing.T) {
 		t.Logf("%s: median %.3g shots over %d seeds (%d not certified within %d)", r.name, used[len(used)/2], seeds, failed, maxShots)
 	}
 	writeProxyReport(t, out, b.String())
+}
+
+// proxyReportSetup reads the knobs the proxy reports share —
+// SHOTPLAN_PROXY_SEEDS (default 20, at least minSeeds) and the row filter
+// SHOTPLAN_PROXY_ROWS (empty keeps every row) — and returns them with
+// LiH (JW) of anytimeSystems, its Hartree–Fock determinant from the FCIDUMP
+// and its exact ground state as proxies.
+func proxyReportSetup(t *testing.T, minSeeds int) (seeds int, keep map[string]bool, sys anytimeSystem, hf allocate.BasisProxy, exact *allocate.StateProxy) {
+	t.Helper()
+	seeds = 20
+	if s := os.Getenv("SHOTPLAN_PROXY_SEEDS"); s != "" {
+		v, err := strconv.Atoi(s)
+		if err != nil || v < minSeeds {
+			t.Fatalf("SHOTPLAN_PROXY_SEEDS=%q: want a count of at least %d", s, minSeeds)
+		}
+		seeds = v
+	}
+	keep = map[string]bool{}
+	for _, r := range strings.Split(os.Getenv("SHOTPLAN_PROXY_ROWS"), ",") {
+		if r = strings.TrimSpace(r); r != "" {
+			keep[r] = true
+		}
+	}
+	sys = anytimeSystems(t)[1]
+	g, err := molecule.ReadFCIDUMPFile(filepath.Join("..", "hamiltonian", "molecule", "testdata", "lih_sto3g_1.5949A.fcidump"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	bits, err := g.HartreeFockBits(fermion.JordanWigner)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if exact, err = allocate.NewStateProxy(sys.state); err != nil {
+		t.Fatal(err)
+	}
+	return seeds, keep, sys, allocate.BasisProxy{Bits: bits}, exact
 }
