@@ -51,6 +51,14 @@ func plainColorGroups(h *hamiltonian.Hamiltonian) [][]int {
 		}
 		return cmp.Compare(a, b)
 	})
+	return plainFirstFit(h, order)
+}
+
+// plainFirstFit places the terms of h in the given order, each into the
+// first group all of whose members it commutes with (String.Commutes,
+// member by member) or into a new group: the textbook first-fit colouring
+// (common practice), the reference of the GC strategies' groupings.
+func plainFirstFit(h *hamiltonian.Hamiltonian, order []int) [][]int {
 	var groups [][]int
 	for _, i := range order {
 		p := h.Term(i).Pauli

@@ -35,28 +35,7 @@ func plainSortedGroups(h *hamiltonian.Hamiltonian) [][]int {
 		}
 		return cmp.Compare(a, b)
 	})
-	var groups [][]int
-	for _, i := range order {
-		p := h.Term(i).Pauli
-		k := 0
-		for ; k < len(groups); k++ {
-			fits := true
-			for _, j := range groups[k] {
-				if !p.Commutes(h.Term(j).Pauli) {
-					fits = false
-					break
-				}
-			}
-			if fits {
-				break
-			}
-		}
-		if k == len(groups) {
-			groups = append(groups, nil)
-		}
-		groups[k] = append(groups[k], i)
-	}
-	return groups
+	return plainFirstFit(h, order)
 }
 
 // TestSortedGCMatchesSerialFirstFit checks that SortedGC, whose first fit
