@@ -10,6 +10,7 @@ import (
 	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -472,57 +473,23 @@ func (c *commutingGroups) assign(rk *ranked, order []int32) []int32 {
 // len(), splitting the ranks among GOMAXPROCS workers when there are
 // groups to test. The groups must not change meanwhile.
 func (c *commutingGroups) firstAll(rk *ranked, order []int32, out []int32) {
-	const chunk = 32
-	workers := min(runtime.GOMAXPROCS(0), (len(order)+chunk-1)/chunk)
-	if c.len() == 0 || workers <= 1 {
-		for j, r := range order {
-			x, z := rk.row(int(r))
+	chunk := 32
+	if c.len() == 0 {
+		chunk = len(order) // nothing to test: one chunk, no goroutines
+	}
+	workshare.Chunks(len(order), chunk, func(lo, hi int) {
+		for j := lo; j < hi; j++ {
+			x, z := rk.row(int(order[j]))
 			out[j] = int32(c.first(x, z))
 		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				lo := chunk * (int(next.Add(1)) - 1)
-				if lo >= len(order) {
-					return
-				}
-				for j := lo; j < min(lo+chunk, len(order)); j++ {
-					x, z := rk.row(int(order[j]))
-					out[j] = int32(c.first(x, z))
-				}
-			}
-		}()
-	}
-	wg.Wait()
+	})
 }
 
 // splitEach calls f(k) for every k in [0, n), the indices handed out one
 // at a time to up to GOMAXPROCS goroutines; f must write only what belongs
 // to k, so that the result does not depend on the split.
 func splitEach(n int, f func(k int)) {
-	workers := min(runtime.GOMAXPROCS(0), n)
-	if workers <= 1 {
-		for k := range n {
-			f(k)
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			for k := int(next.Add(1)) - 1; k < n; k = int(next.Add(1)) - 1 {
-				f(k)
-			}
-		})
-	}
-	wg.Wait()
+	workshare.Chunks(n, 1, func(k, _ int) { f(k) })
 }
 
 // rank returns the dimension of group k's span.

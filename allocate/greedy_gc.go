@@ -8,8 +8,6 @@ import (
 	"runtime"
 	"slices"
 	"sort"
-	"sync"
-	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/pauli"
@@ -536,26 +534,13 @@ func (g *GreedyGC) covered(s pauli.Setting) []int {
 		return out
 	}
 	lists := make([][]int, len(parts))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				p := int(next.Add(1)) - 1
-				if p >= len(parts) {
-					return
-				}
-				l := parts[p].Covered(nil, s)
-				for j := range l {
-					l[j] += p * gcPart
-				}
-				lists[p] = l
-			}
-		}()
-	}
-	wg.Wait()
+	splitEach(len(parts), func(p int) {
+		l := parts[p].Covered(nil, s)
+		for j := range l {
+			l[j] += p * gcPart
+		}
+		lists[p] = l
+	})
 	total := 0
 	for _, l := range lists {
 		total += len(l)
