@@ -107,12 +107,9 @@ func budgetFlags(fs *flag.FlagSet, e *env) func() error {
 		if px.proxy != nil && px.state == nil {
 			return badf("-proxy %s: %d qubits, the expected figures take a proxy of at most %d", *proxy, h.Qubits(), hamiltonian.MaxExactQubits)
 		}
-		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		pairs, err := parseMitigationPairs(*pairsFlag, *calibration, h.Qubits())
 		if err != nil {
 			return err
-		}
-		if pairs != nil && *calibration == "" {
-			return badf("-pairs without -calibration: the pairs' 4×4 readout models are taken from calibration records")
 		}
 		rates, pairModels, err := budgetRates(*readout, *calibration, pairs, h.Qubits(), *delta, *calDelta)
 		if err != nil {

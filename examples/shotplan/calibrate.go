@@ -117,6 +117,20 @@ const pairsFlagHelp = "calibrate these disjoint pairs of qubits as pairs whose r
 // maxPairsFlag caps the length of a -pairs list.
 const maxPairsFlag = 1 << 16
 
+// parseMitigationPairs reads the -pairs flag of a command that mitigates
+// readout: the pairs' 4×4 models come only from calibration records, so
+// pairs without -calibration are refused.
+func parseMitigationPairs(flag, calibration string, n int) ([][2]int, error) {
+	pairs, err := parsePairs(flag, n)
+	if err != nil {
+		return nil, err
+	}
+	if pairs != nil && calibration == "" {
+		return nil, badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
+	}
+	return pairs, nil
+}
+
 // parsePairs reads the -pairs list "A-B,C-D" of disjoint pairs of qubits
 // below n; "" means none.
 func parsePairs(s string, n int) ([][2]int, error) {

@@ -41,12 +41,9 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if err != nil {
 			return err
 		}
-		pairs, err := parsePairs(*pairsFlag, h.Qubits())
+		pairs, err := parseMitigationPairs(*pairsFlag, *calibration, h.Qubits())
 		if err != nil {
 			return err
-		}
-		if pairs != nil && *calibration == "" {
-			return badf("-pairs without -calibration: the pairs' 4×4 readout models come from calibration records")
 		}
 		split := f.Plan.Split
 		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
