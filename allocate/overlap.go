@@ -1137,15 +1137,7 @@ func divideMask(e, mu, d float64) uint64 {
 	if !(mu-e <= 0) {
 		k = 1
 	}
-	var bad uint64
-	if !(d > 0) {
-		bad = 1
-	}
-	var big uint64
-	if !(d <= math.MaxFloat64) {
-		big = 1
-	}
-	return -(k | bad | big)
+	return -(k | badD(d))
 }
 
 // keepMask is all ones when !(e >= mu) (j stays active: e < μ, or either
