@@ -48,7 +48,12 @@ import (
 // for the others fixed (block coordinate descent on a convex quadratic, a
 // non-negative simplex per term); neither step increases the objective. It
 // stops after Rounds rounds or when a round lowers it by less than a part
-// in 10^10. The budget is rounded as in [Sorted] (largest remainder), after
+// in 10^10. In the worst-case model the alternation is not run before the
+// budget is rounded: at the optimal shares its objective is (Σ_i |h_i|)²
+// whatever the split, and every split is already a minimiser of the
+// weight step (MATH.md §2.5), so the shares are those of sorted
+// insertion's partition, f_g ∝ Σ of |h_i| over the group's own terms.
+// The budget is rounded as in [Sorted] (largest remainder), after
 // one shot to every group when the budget allows, and the weights are then
 // optimised once more for the rounded counts. A group left without shots
 // is not measured.
@@ -68,13 +73,11 @@ import (
 // parallel. The groups that cover a term are the intersection of its
 // letter sets of the groups, at most G/64 words per term and set.
 //
-// Without a proxy, while every group may get shots, the weights are kept
-// sparse (those that are not zero) and each round recomputes every term's
-// covering groups, GOMAXPROCS goroutines a bounded window ahead of the
-// sweep; once the budget is rounded, the P pairs (term, group with shots)
-// are stored, 28 bytes each, and a round costs O(P). Memory is thus
-// O(M + G·n/64 + P) however many pairs there are in all (1.7·10^8 on the
-// 571 875-term fixture, against 8·10^6 with shots). With a proxy the model
+// Without a proxy only the P pairs (term, group with shots) are stored,
+// once the budget is rounded, 28 bytes each, found by GOMAXPROCS
+// goroutines; a round costs O(P). Memory is thus O(M + G·n/64 + P)
+// however many pairs there are in all (1.7·10^8 on the 571 875-term
+// fixture, against 8·10^6 with shots). With a proxy the model
 // keeps every pair and each group's covariance matrix, Σ_g k_g² numbers for
 // groups of k_g terms (at most 2^23, else Init fails), each from one proxy
 // expectation per distinct product P_i P_j (cached; for a [StateProxy]
@@ -179,12 +182,10 @@ func checkProxyWidth(px Proxy, n int) error {
 // splitModel holds the cover pairs of the overlapping groups, their
 // weights α and the covariance model of [Overlap] (MATH.md §2.5).
 //
-// In the worst-case model the pairs of all groups are not stored: while
-// every group may get shots ([splitModel.optimise]), the weights are kept
-// sparse, only those that are not zero, and each sweep has the groups
-// that cover a term computed afresh from the groups' letter sets
-// ([overlapCover.each]). Once the shots are rounded, the pairs of the groups
-// with shots are stored term-major in blocks ([overlapBlock]), 12 bytes each.
+// In the worst-case model the pairs of all groups are never stored: the
+// weights stay at sorted insertion's partition until the shots are
+// rounded ([splitModel.optimise]); then the pairs of the groups with shots
+// are stored term-major in blocks ([overlapBlock]), 12 bytes each.
 // With a proxy every pair is stored, in one block, with every group's
 // pairs listed in term order.
 type splitModel struct {
@@ -192,10 +193,10 @@ type splitModel struct {
 	settings []pauli.Setting
 	abs      []float64 // |h_i|
 	blocks   []overlapBlock
-	// The sparse weights of the worst-case model before the shots are
-	// rounded, and the letter sets of all groups; nil after.
-	sp *overlapSparse
-	cs *overlapCover
+	// home, in the worst-case model before the shots are rounded, is
+	// every term's group under sorted insertion, where its whole weight
+	// lies (see [splitModel.optimise]); nil after, and with a proxy.
+	home []int
 	// glob, once the pairs of the groups with shots are stored, is the
 	// number of each of those groups among all, increasing: the blocks,
 	// load and the fractions of [splitModel.optimiseSplit] number them
@@ -222,14 +223,6 @@ type splitModel struct {
 	simplex           simplexScratch
 }
 
-// overlapSparse holds the weights α_{ig} that are not zero, term-major: term
-// i's at off[i] to off[i+1]−1, groups increasing.
-type overlapSparse struct {
-	off []int
-	grp []int32
-	val []float64
-}
-
 // newSplitModel finds the terms of every group and builds the model. The
 // weights start at sorted insertion's partition: each term's whole
 // coefficient in its home group.
@@ -240,18 +233,12 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		md.abs[i] = math.Abs(c)
 	}
 	if px == nil {
-		md.cs = newOverlapCover(h, settings, nil)
-		md.sp = &overlapSparse{off: make([]int, h.Len()+1), grp: make([]int32, h.Len()), val: make([]float64, h.Len())}
-		for i, g := range home {
-			md.sp.off[i+1] = i + 1
-			md.sp.grp[i] = int32(g)
-			md.sp.val[i] = 1
-		}
+		md.home = home
 		md.load = make([]float64, len(settings))
 		md.refresh()
 		return md, nil
 	}
-	md.blocks = newOverlapCover(h, settings, nil).blocks(overlapBlockTerms)
+	md.blocks = newOverlapCover(h, settings).blocks(overlapBlockTerms)
 	for b := range md.blocks {
 		bl := &md.blocks[b]
 		for t := range len(bl.off) - 1 {
@@ -402,12 +389,10 @@ func (md *splitModel) groups() int {
 // refresh recomputes load or y from the weights. The loads add the terms
 // in table order, term-major.
 func (md *splitModel) refresh() {
-	if sp := md.sp; sp != nil {
+	if md.home != nil {
 		clear(md.load)
 		for i, a := range md.abs {
-			for e := sp.off[i]; e < sp.off[i+1]; e++ {
-				md.load[sp.grp[e]] += a * sp.val[e]
-			}
+			md.load[md.home[i]] += a
 		}
 		return
 	}
@@ -513,10 +498,17 @@ func restrictTerm(alpha []float64, grp []int32, f []float64) {
 }
 
 // optimise alternates shares and weights (MATH.md §2.5) for at most
-// rounds rounds and returns the fractions f_g.
+// rounds rounds and returns the fractions f_g. In the worst-case model it
+// returns the shares of sorted insertion's partition and leaves the
+// weights there: at the optimal shares every split has the same objective,
+// (Σ_i |h_i|)², and is already a minimiser of the weight step (MATH.md
+// §2.5), so the alternation has nothing to gain.
 func (md *splitModel) optimise(rounds int) []float64 {
 	f := make([]float64, md.groups())
 	prev := md.shares(f)
+	if md.home != nil {
+		return f
+	}
 	for range rounds {
 		md.sweep(f)
 		j := md.shares(f)
@@ -532,7 +524,7 @@ func (md *splitModel) optimise(rounds int) []float64 {
 // some may be zero: those groups get no weight. In the worst-case model
 // only the pairs of the other groups are stored from here on.
 func (md *splitModel) optimiseSplit(f []float64, rounds int) {
-	if md.sp != nil {
+	if md.home != nil {
 		f = md.storeMeasured(f)
 	}
 	for _, bl := range md.blocks {
@@ -554,9 +546,10 @@ func (md *splitModel) optimiseSplit(f []float64, rounds int) {
 	}
 }
 
-// storeMeasured replaces the sparse weights by the stored pairs of the
-// groups with f_g > 0, the only ones read from here on, numbered as in
-// md.glob, and returns their fractions in that numbering.
+// storeMeasured stores the pairs of the groups with f_g > 0, the only
+// ones read from here on, numbered as in md.glob, with every term's whole
+// weight in its home group if that is one of them, and returns their
+// fractions in that numbering.
 func (md *splitModel) storeMeasured(f []float64) []float64 {
 	var glob []int32
 	var sub []pauli.Setting
@@ -568,24 +561,18 @@ func (md *splitModel) storeMeasured(f []float64) []float64 {
 			fc = append(fc, fg)
 		}
 	}
-	md.blocks = newOverlapCover(md.h, sub, nil).blocks(overlapBlockTerms)
-	sp := md.sp
+	md.blocks = newOverlapCover(md.h, sub).blocks(overlapBlockTerms)
 	for _, bl := range md.blocks {
 		for t := range len(bl.off) - 1 {
-			i := bl.lo + t
-			s, end := sp.off[i], sp.off[i+1]
+			home := int32(md.home[bl.lo+t])
 			for e := bl.off[t]; e < bl.off[t+1]; e++ {
-				g := glob[bl.grp[e]]
-				for s < end && sp.grp[s] < g {
-					s++
-				}
-				if s < end && sp.grp[s] == g {
-					bl.alpha[e] = sp.val[s]
+				if glob[bl.grp[e]] == home {
+					bl.alpha[e] = 1
 				}
 			}
 		}
 	}
-	md.sp, md.cs = nil, nil
+	md.home = nil
 	md.glob, md.load = glob, make([]float64, len(glob))
 	return fc
 }
@@ -625,138 +612,6 @@ func (md *splitModel) fixShares(f []float64) {
 	}
 }
 
-// sweepSparse is [splitModel.sweep] on the sparse weights: the groups that
-// cover each term come from the letter sets, and the term's weights that
-// are not zero afterwards make the next sparse weights.
-func (md *splitModel) sweepSparse(f []float64) {
-	md.refresh()
-	sp := md.sp
-	nsp := &overlapSparse{off: make([]int, 1, len(sp.off)), grp: make([]int32, 0, len(sp.grp)), val: make([]float64, 0, len(sp.val))}
-	// d_g = h_i²/f_g, 1/d_g and the weights before the sweep do not
-	// depend on the loads: the goroutines that find the covering groups
-	// compute them (sp is not written until the sweep ends).
-	prep := func(i int, cov []int32, num [3][]float64) {
-		d, inv, old := num[0], num[1], num[2]
-		a := md.abs[i] * md.abs[i]
-		s, hi := sp.off[i], sp.off[i+1]
-		for j, g := range cov {
-			for s < hi && sp.grp[s] < g {
-				s++
-			}
-			old[j] = 0
-			if s < hi && sp.grp[s] == g {
-				old[j] = sp.val[s]
-			}
-			if fg := f[g]; fg != 0 {
-				d[j] = a / fg
-				inv[j] = 1 / d[j]
-			}
-		}
-	}
-	allActive := true
-	for _, fg := range f {
-		allActive = allActive && fg != 0
-	}
-	md.cs.each(prep, func(i int, cov []int32, num [3][]float64) {
-		dc, ic, oc := num[0], num[1], num[2]
-		lo, hi := sp.off[i], sp.off[i+1]
-		keep := func() {
-			nsp.grp = append(nsp.grp, sp.grp[lo:hi]...)
-			nsp.val = append(nsp.val, sp.val[lo:hi]...)
-			nsp.off = append(nsp.off, len(nsp.grp))
-		}
-		if len(cov) < 2 {
-			keep()
-			return
-		}
-		abs := md.abs[i]
-		if allActive {
-			// Every covering group has f_g ≠ 0: the step below with
-			// d, 1/d and the old weights read in place and e_g computed
-			// in the simplex step's first pass (the same numbers).
-			k := len(cov)
-			sx := &md.simplex
-			md.e = slices.Grow(md.e[:0], k)[:k]
-			sx.ed = slices.Grow(sx.ed[:0], k)[:k]
-			e, ed := md.e, sx.ed[:k]
-			s1, s2 := 0.0, 0.0
-			var bad uint64
-			for j, g := range cov {
-				b := abs * (md.load[g] - abs*oc[j])
-				ev := b / f[g]
-				e[j] = ev
-				edv := ev / dc[j]
-				ed[j] = edv
-				s1 += ic[j]
-				s2 += edv
-				bad |= badD(dc[j])
-			}
-			md.a = slices.Grow(md.a[:0], k)[:k]
-			sx.finish(dc, e, ic, md.a, s1, s2, bad)
-			if !finiteWeights(md.a) {
-				keep() // see sweep
-				return
-			}
-			for j, g := range cov {
-				if dv := md.a[j] - oc[j]; dv != 0 {
-					md.load[g] += abs * dv
-				}
-			}
-			for j, g := range cov {
-				if v := md.a[j]; v != 0 {
-					nsp.grp = append(nsp.grp, g)
-					nsp.val = append(nsp.val, v)
-				}
-			}
-			nsp.off = append(nsp.off, len(nsp.grp))
-			return
-		}
-		md.d, md.e, md.inv, md.old, md.idx = md.d[:0], md.e[:0], md.inv[:0], md.old[:0], md.idx[:0]
-		for j, g := range cov {
-			al := oc[j]
-			fg := f[g]
-			if fg == 0 {
-				continue
-			}
-			b := abs * (md.load[g] - abs*al)
-			md.d = append(md.d, dc[j])
-			md.inv = append(md.inv, ic[j])
-			md.e = append(md.e, b/fg)
-			md.old = append(md.old, al)
-			md.idx = append(md.idx, int32(j))
-		}
-		if len(md.idx) < 2 {
-			keep()
-			return
-		}
-		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-		md.simplex.solve(md.d, md.e, md.inv, md.a)
-		if !finiteWeights(md.a) {
-			keep() // see sweep
-			return
-		}
-		for t, j := range md.idx {
-			if dv := md.a[t] - md.old[t]; dv != 0 {
-				md.load[cov[j]] += abs * dv
-			}
-		}
-		t := 0
-		for j, g := range cov {
-			v := oc[j]
-			if t < len(md.idx) && int(md.idx[t]) == j {
-				v = md.a[t]
-				t++
-			}
-			if v != 0 {
-				nsp.grp = append(nsp.grp, g)
-				nsp.val = append(nsp.val, v)
-			}
-		}
-		nsp.off = append(nsp.off, len(nsp.grp))
-	})
-	md.sp = nsp
-}
-
 // sweep replaces, term by term, the weights of every term covered by two
 // or more groups with f_g > 0 by their exact minimiser with the other
 // terms' weights fixed: with d_g = A_{g,ii}/f_g and
@@ -764,10 +619,6 @@ func (md *splitModel) sweepSparse(f []float64) {
 // over α ≥ 0, Σ α = 1 (MATH.md §2.5). It reads each cover pair a fixed
 // number of times and allocates nothing once its scratch has grown.
 func (md *splitModel) sweep(f []float64) {
-	if md.sp != nil {
-		md.sweepSparse(f)
-		return
-	}
 	if md.cov == nil && md.fixed(f) {
 		md.sweepFixed(f)
 		return

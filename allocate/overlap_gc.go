@@ -38,8 +38,9 @@ import (
 // term wholly in its first group), shares and weights are optimised
 // alternately for the model of the covariances (with Proxy nil, the worst
 // case Var(O_g) ≤ (Σ_i |h_i| α_{ig})², which makes the objective the
-// certified variance V of MATH.md §3.1; with a Proxy, (1 − Floor)·Var_φ(O_g)
-// + Floor·Σ_i h_i² α_{ig}²), the budget is rounded by largest remainder
+// certified variance V of MATH.md §3.1 and leaves nothing to alternate
+// before the rounding, see [Overlap]; with a Proxy,
+// (1 − Floor)·Var_φ(O_g) + Floor·Σ_i h_i² α_{ig}²), the budget is rounded by largest remainder
 // after one shot per group when the budget allows, and the weights are then
 // optimised once more for the rounded counts, with the per-term step of
 // [Overlap] (the exact minimiser over the simplex). For two terms P_i, P_j
@@ -113,7 +114,9 @@ func (o *OverlapGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	}
 	f := make([]float64, len(settings))
 	prev := md.shares(f)
-	for range rounds {
+	// In the worst-case model the alternation has nothing to gain before
+	// the rounding, as in Overlap (MATH.md §2.5).
+	for r := 0; r < rounds && o.Proxy != nil; r++ {
 		md.sweep(f)
 		j := md.shares(f)
 		if !(prev-j > 1e-10*prev) {

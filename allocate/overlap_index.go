@@ -2,10 +2,7 @@ package allocate
 
 import (
 	"math/bits"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/workshare"
@@ -322,14 +319,12 @@ type overlapCover struct {
 	sets     []uint64 // set 3q+l at (3q+l)·words
 	count    []int    // the settings in each set
 	last     uint64   // the settings of the last word
-	glob     []int32  // the caller's number of each setting, nil for its place
 }
 
-// newOverlapCover builds the sets of the settings for the terms of h; glob,
-// if not nil and increasing, renumbers the settings in the answers.
-func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting, glob []int32) *overlapCover {
+// newOverlapCover builds the sets of the settings for the terms of h.
+func newOverlapCover(h *hamiltonian.Hamiltonian, settings []pauli.Setting) *overlapCover {
 	n := h.Qubits()
-	cs := &overlapCover{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0), glob: glob}
+	cs := &overlapCover{tab: h.Table(), n: n, words: (len(settings) + 63) / 64, last: ^uint64(0)}
 	cs.sets = make([]uint64, 3*n*cs.words)
 	for g, st := range settings {
 		x, z := st.Words()
@@ -423,14 +418,8 @@ func (cs *overlapCover) appendRun(grp, off []int32, lo, hi int, sc *coverScratch
 		}
 	}
 	for t := range k {
-		start := len(grp)
 		for p := t; p+1 < len(sc.piece); p += k {
 			grp = append(grp, sc.tmp[sc.piece[p]:sc.piece[p+1]]...)
-		}
-		if cs.glob != nil {
-			for e, g := range grp[start:] {
-				grp[start+e] = cs.glob[g]
-			}
 		}
 		off = append(off, int32(len(grp)))
 	}
@@ -525,102 +514,4 @@ func (cs *overlapCover) blocks(blockTerms int) []overlapBlock {
 		}
 	})
 	return blocks
-}
-
-// overlapCoverChunk is the answer of [overlapCover.each] for a run of terms.
-type overlapCoverChunk struct {
-	lo  int
-	off []int32
-	grp []int32
-	num [3][]float64 // prep's numbers of each pair
-}
-
-// fill sets ch to the terms lo to hi−1 and calls prep for each.
-func (ch *overlapCoverChunk) fill(cs *overlapCover, lo, hi int, sc *coverScratch, prep coverFunc) {
-	ch.lo = lo
-	ch.grp, ch.off = cs.appendRun(ch.grp[:0], append(ch.off[:0], 0), lo, hi, sc)
-	for r, v := range ch.num {
-		if cap(v) < len(ch.grp) {
-			v = make([]float64, len(ch.grp)+len(ch.grp)/4) // no copy: all is written
-		}
-		ch.num[r] = v[:len(ch.grp)]
-	}
-	for t := range hi - lo {
-		prep(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
-	}
-}
-
-// nums returns the numbers of term lo+t's pairs.
-func (ch *overlapCoverChunk) nums(t int) [3][]float64 {
-	a, b := ch.off[t], ch.off[t+1]
-	return [3][]float64{ch.num[0][a:b], ch.num[1][a:b], ch.num[2][a:b]}
-}
-
-// coverFunc is the type of the functions [overlapCover.each] calls with a
-// term, the settings that cover it and three numbers per setting.
-type coverFunc func(i int, covering []int32, num [3][]float64)
-
-// overlapChunkTerms is the number of terms per [overlapCoverChunk].
-const overlapChunkTerms = overlapRunTerms
-
-// each calls fn for every term in table order with the settings that
-// cover it, in increasing order, and the numbers prep wrote for them
-// (prep is called with every term's settings, before fn, perhaps in
-// another goroutine, and must only write the numbers); fn must not keep
-// the slices. The intersections and prep are computed ahead by GOMAXPROCS
-// goroutines, at most a few chunks of terms ahead of fn, so that memory
-// stays bounded whatever the number of cover pairs.
-func (cs *overlapCover) each(prep, fn coverFunc) {
-	m := cs.tab.Len()
-	workers := runtime.GOMAXPROCS(0)
-	if workers < 2 || m <= overlapChunkTerms {
-		var sc coverScratch
-		var ch overlapCoverChunk
-		for lo := 0; lo < m; lo += overlapChunkTerms {
-			hi := min(lo+overlapChunkTerms, m)
-			ch.fill(cs, lo, hi, &sc, prep)
-			for t := range hi - lo {
-				fn(lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
-			}
-		}
-		return
-	}
-	chunks := (m + overlapChunkTerms - 1) / overlapChunkTerms
-	window := 2 * workers
-	free := make(chan *overlapCoverChunk, window)
-	for range window {
-		free <- &overlapCoverChunk{}
-	}
-	done := make([]chan *overlapCoverChunk, chunks)
-	for c := range done {
-		done[c] = make(chan *overlapCoverChunk, 1)
-	}
-	// A worker takes a free buffer, then the next chunk: every chunk
-	// handed out is filled, and the chunk fn waits for either is or will
-	// be handed out next, so the window never deadlocks.
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			var sc coverScratch
-			for {
-				ch := <-free
-				c := int(next.Add(1)) - 1
-				if c >= chunks {
-					free <- ch
-					return
-				}
-				ch.fill(cs, c*overlapChunkTerms, min((c+1)*overlapChunkTerms, m), &sc, prep)
-				done[c] <- ch
-			}
-		})
-	}
-	for c := range chunks {
-		ch := <-done[c]
-		for t := range len(ch.off) - 1 {
-			fn(ch.lo+t, ch.grp[ch.off[t]:ch.off[t+1]], ch.nums(t))
-		}
-		free <- ch
-	}
-	wg.Wait()
 }

@@ -25,7 +25,16 @@ func refOverlapPlan(h *hamiltonian.Hamiltonian, budget int, px Proxy) ([]pauli.S
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	f := md.optimise(50)
+	var f []float64
+	if px == nil {
+		// The worst-case model: no alternation before the rounding, as in
+		// Overlap (MATH.md §2.5; TestOverlapWorstCaseAlternationIdle
+		// checks on this reference that it would change nothing).
+		f = make([]float64, len(settings))
+		md.shares(f)
+	} else {
+		f = md.optimise(50)
+	}
 	shots := refRoundShares(budget, f)
 	total := float64(budget)
 	for g, k := range shots {
