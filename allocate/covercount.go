@@ -1,10 +1,6 @@
 package allocate
 
-import (
-	"runtime"
-	"sync"
-	"sync/atomic"
-)
+import "github.com/shotplan/shotplan/internal/workshare"
 
 // coverSplitMin is the least work, in settings times rows, that is split
 // among cores: below it one core counts.
@@ -13,42 +9,31 @@ const coverSplitMin = 1 << 22
 // splitCounts adds into cover the counts of n jobs (settings, for cover
 // counting) over rows rows. newJob returns a worker's job function, which
 // adds job j's counts into the array it is given; every worker gets its own
-// function (for its own scratch) and its own array, and the jobs are handed
-// out to up to GOMAXPROCS workers. The arrays are summed at the end: the
-// counts are integers, so the result is the same whatever the split and the
-// number of cores.
+// function (for its own scratch, made in its goroutine) and its own array
+// (the first worker's is cover itself), and the jobs are handed out to up
+// to GOMAXPROCS workers (workshare.PerWorker). The other arrays are added
+// to cover at the end: the counts are integers, so the result is the same
+// whatever the split and the number of cores.
 func splitCounts(cover []int, n, rows int, newJob func() func(j int, dst []int)) {
 	workers := 1
 	if n*rows >= coverSplitMin {
-		workers = max(1, min(runtime.GOMAXPROCS(0), n))
+		workers = workshare.Workers(n, 1)
 	}
-	if workers == 1 {
-		job := newJob()
-		for j := range n {
-			job(j, cover)
-		}
-		return
-	}
-	var next atomic.Int64
 	part := make([][]int, workers)
-	var wg sync.WaitGroup
-	for t := range workers {
-		part[t] = make([]int, len(cover))
+	workshare.PerWorker(n, 1, workers, func(w int) func(lo, hi int) {
+		dst := cover
+		if w > 0 {
+			dst = make([]int, len(cover))
+			part[w] = dst
+		}
 		job := newJob()
-		wg.Add(1)
-		go func(dst []int) {
-			defer wg.Done()
-			for {
-				j := int(next.Add(1)) - 1
-				if j >= n {
-					return
-				}
+		return func(lo, hi int) {
+			for j := lo; j < hi; j++ {
 				job(j, dst)
 			}
-		}(part[t])
-	}
-	wg.Wait()
-	for _, d := range part {
+		}
+	})
+	for _, d := range part[1:] {
 		for i, v := range d {
 			cover[i] += v
 		}

@@ -4,10 +4,7 @@ import (
 	"cmp"
 	"fmt"
 	"math/bits"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/workshare"
@@ -166,49 +163,37 @@ func anticommutingDegrees(rk *ranked) []int32 {
 			qb[a*nc+i] = uint8(u >> (c % 8 * 8))
 		}
 	}
-	blocks := (m + 4*64 - 1) / (4 * 64)
-	workers := max(1, min(runtime.GOMAXPROCS(0), blocks))
-	var next atomic.Int64
+	workers := workshare.Workers(m, 4*64)
 	part := make([][]int32, workers)
-	var wg sync.WaitGroup
-	for t := range workers {
-		part[t] = make([]int32, m)
-		wg.Add(1)
-		go func(d []int32) {
-			defer wg.Done()
-			tab := make([][256][4]uint64, nc)
-			var plane [8][4]uint64
-			for {
-				blk := int(next.Add(1)) - 1
-				if blk >= blocks {
-					return
-				}
-				lo, hi := 4*64*blk, min(4*64*blk+4*64, m)
-				for i, c := range active {
-					k, sh := c/8, c%8*8
-					plane = [8][4]uint64{}
-					for j := lo; j < hi; j++ {
-						v := rk.words[2*w*j+k] >> sh & 0xff
-						l, b := (j-lo)>>6, uint((j-lo)&63)
-						for v != 0 {
-							plane[bits.TrailingZeros64(v)][l] |= 1 << b
-							v &= v - 1
-						}
-					}
-					t := &tab[i]
-					t[0] = [4]uint64{}
-					for bit, p := range plane {
-						for s := range 1 << bit {
-							u := &t[s]
-							t[s|1<<bit] = [4]uint64{u[0] ^ p[0], u[1] ^ p[1], u[2] ^ p[2], u[3] ^ p[3]}
-						}
+	workshare.PerWorker(m, 4*64, workers, func(wk int) func(lo, hi int) {
+		d := make([]int32, m)
+		part[wk] = d
+		tab := make([][256][4]uint64, nc)
+		var plane [8][4]uint64
+		return func(lo, hi int) {
+			for i, c := range active {
+				k, sh := c/8, c%8*8
+				plane = [8][4]uint64{}
+				for j := lo; j < hi; j++ {
+					v := rk.words[2*w*j+k] >> sh & 0xff
+					l, b := (j-lo)>>6, uint((j-lo)&63)
+					for v != 0 {
+						plane[bits.TrailingZeros64(v)][l] |= 1 << b
+						v &= v - 1
 					}
 				}
-				countBlock(qb, nc, tab, d)
+				t := &tab[i]
+				t[0] = [4]uint64{}
+				for bit, p := range plane {
+					for s := range 1 << bit {
+						u := &t[s]
+						t[s|1<<bit] = [4]uint64{u[0] ^ p[0], u[1] ^ p[1], u[2] ^ p[2], u[3] ^ p[3]}
+					}
+				}
 			}
-		}(part[t])
-	}
-	wg.Wait()
+			countBlock(qb, nc, tab, d)
+		}
+	})
 	for _, d := range part {
 		for i, v := range d {
 			deg[i] += v

@@ -2,10 +2,7 @@ package allocate
 
 import (
 	"fmt"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 	"time"
 
 	"github.com/shotplan/shotplan/hamiltonian"
@@ -98,7 +95,7 @@ func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 		}
 	}
 	cover := make([]int, h.Len())
-	coverParallel(cover, h.Table(), settings, shots)
+	countCover(cover, h.Table(), settings, shots)
 	return cover, nil
 }
 
@@ -106,58 +103,3 @@ func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 // counts through the transposed settings.
 const lettersMin = 4096
 
-// coverBlock is the number of distinct settings a goroutine of
-// coverParallel takes at a time.
-const coverBlock = 256
-
-// coverParallel is countCover with the distinct settings shared among up to
-// GOMAXPROCS goroutines, each with its own view of one cover index and its
-// own counts, added up at the end. The counts are integers, so the result
-// does not depend on the number of goroutines.
-func coverParallel(cover []int, t *pauli.Table, settings []pauli.Setting, shots []int) {
-	workers := runtime.GOMAXPROCS(0)
-	if workers < 2 || len(settings) < 4*coverBlock {
-		countCover(cover, t, settings, shots)
-		return
-	}
-	distinct, total := pauli.MergeSettings(settings, shots)
-	ci := localIndexFor(t, distinct)
-	xp := xPartsFor(t, distinct)
-	var next atomic.Int64
-	parts := make([][]int, workers)
-	var wg sync.WaitGroup
-	for w := range workers {
-		wg.Go(func() {
-			part := cover
-			if w > 0 {
-				part = make([]int, len(cover))
-			}
-			parts[w] = part
-			var q *coverindex.Index
-			if ci != nil {
-				q = ci.Clone()
-			}
-			var xq *xQuery
-			if xp != nil {
-				xq = xp.query()
-			}
-			var idx []int32
-			var rows []int
-			for {
-				lo := int(next.Add(coverBlock)) - coverBlock
-				if lo >= len(distinct) {
-					return
-				}
-				for j := lo; j < min(lo+coverBlock, len(distinct)); j++ {
-					idx, rows = addCover(part, t, q, xq, distinct[j], total[j], idx, rows)
-				}
-			}
-		})
-	}
-	wg.Wait()
-	for _, part := range parts[1:] {
-		for i, c := range part {
-			cover[i] += c
-		}
-	}
-}

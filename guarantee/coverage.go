@@ -3,9 +3,7 @@ package guarantee
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
-	"sync"
 	"sync/atomic"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -157,30 +155,23 @@ const loadsSplitMin = 1 << 16
 func (c *coverage) storeRows() {
 	g, m := len(c.settings), c.h.Len()
 	c.rows = make([][]int32, g)
-	chunks := (g + storeChunk - 1) / storeChunk
 	workers := 1
 	if int64(g)*int64(m) >= storeSplitMin {
-		workers = max(1, min(runtime.GOMAXPROCS(0), chunks))
+		workers = workshare.Workers(g, storeChunk)
 	}
 	part := make([][]int, workers)
-	var next, pairs atomic.Int64
-	defer func() { c.pairs = pairs.Load() }()
-	work := func(t int) {
+	var pairs atomic.Int64
+	workshare.PerWorker(g, storeChunk, workers, func(t int) func(lo, hi int) {
 		w := &coverage{h: c.h, index: c.index}
 		cover := c.cover
-		if workers > 1 {
+		if t > 0 {
 			w.index = c.index.Clone()
 			cover = make([]int, m)
 			part[t] = cover
 		}
 		var buf []int32
 		var end [storeChunk + 1]int
-		for {
-			k := int(next.Add(1)) - 1
-			if k >= chunks {
-				return
-			}
-			lo, hi := k*storeChunk, min(k*storeChunk+storeChunk, g)
+		return func(lo, hi int) {
 			buf = buf[:0]
 			for q := lo; q < hi; q++ {
 				buf = w.covered(buf, c.settings[q])
@@ -197,17 +188,9 @@ func (c *coverage) storeRows() {
 				}
 			}
 		}
-	}
-	if workers == 1 {
-		work(0)
-		return
-	}
-	var wg sync.WaitGroup
-	for t := range workers {
-		wg.Go(func() { work(t) })
-	}
-	wg.Wait()
-	for _, p := range part {
+	})
+	c.pairs = pairs.Load()
+	for _, p := range part[1:] {
 		for i, v := range p {
 			c.cover[i] += v
 		}

@@ -3,12 +3,10 @@ package guarantee
 import (
 	"math"
 	"math/bits"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"github.com/shotplan/shotplan/estimate"
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -49,23 +47,12 @@ func empiricalLetters(h *hamiltonian.Hamiltonian, rec *estimate.Records, c *cove
 	// themselves, without a call per pair. Shot n is in fold n&1
 	// (residualFolds is 2).
 	l := c.letters
-	workers := max(1, min(runtime.GOMAXPROCS(0), (l.Words()+letterChunk-1)/letterChunk))
+	workers := workshare.Workers(l.Words(), letterChunk)
 	blocks := func(f func(w int, and []uint64, lo int)) {
-		var next atomic.Int64
-		var wg sync.WaitGroup
-		for w := range workers {
-			wg.Go(func() {
-				and := make([]uint64, letterChunk)
-				for {
-					lo := int(next.Add(int64(letterChunk))) - letterChunk
-					if lo >= l.Words() {
-						return
-					}
-					f(w, and[:min(letterChunk, l.Words()-lo)], lo)
-				}
-			})
-		}
-		wg.Wait()
+		workshare.PerWorker(l.Words(), letterChunk, workers, func(w int) func(lo, hi int) {
+			and := make([]uint64, letterChunk)
+			return func(lo, hi int) { f(w, and[:hi-lo], lo) }
+		})
 	}
 
 	// Pass 1: every shot's w, every group's half, and the samples and −1

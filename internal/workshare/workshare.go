@@ -17,12 +17,33 @@ import (
 // order is the same on any number of cores. Chunks returns when every call
 // has returned. A chunk below 1 counts as 1.
 func Chunks(n, chunk int, f func(lo, hi int)) {
+	PerWorker(n, chunk, Workers(n, chunk), func(int) func(lo, hi int) { return f })
+}
+
+// Workers returns the number of goroutines Chunks uses for n items in
+// chunks of chunk: runtime.GOMAXPROCS(0), or the number of chunks if that
+// is smaller, and at least 1.
+func Workers(n, chunk int) int {
+	chunk = max(chunk, 1)
+	return max(1, min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk))
+}
+
+// PerWorker is Chunks for loops that keep state per goroutine (scratch
+// space, partial counts added up afterwards): it runs workers goroutines
+// (the caller's alone when workers ≤ 1), numbered 0 to workers−1; each
+// first calls start with its number, once, and then calls the function
+// start returned for each chunk it takes, the chunks handed out in order
+// as Chunks does. So start(w) may set up what goroutine w alone writes.
+// Which goroutine takes which chunk depends on timing: a result kept per
+// goroutine must be combined so that it does not matter (integer sums, or
+// per-chunk results). PerWorker returns when every call has returned.
+func PerWorker(n, chunk, workers int, start func(w int) func(lo, hi int)) {
 	if n <= 0 {
 		return
 	}
 	chunk = max(chunk, 1)
-	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
 	if workers < 2 {
+		f := start(0)
 		for lo := 0; lo < n; lo += chunk {
 			f(lo, min(lo+chunk, n))
 		}
@@ -30,8 +51,9 @@ func Chunks(n, chunk int, f func(lo, hi int)) {
 	}
 	var next atomic.Int64
 	var wg sync.WaitGroup
-	for range workers {
+	for w := range workers {
 		wg.Go(func() {
+			f := start(w)
 			for {
 				lo := int(next.Add(int64(chunk))) - chunk
 				if lo >= n {
