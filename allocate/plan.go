@@ -102,4 +102,3 @@ func CoverCounts(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []i
 // lettersMin is the number of distinct settings from which CoverCounts
 // counts through the transposed settings.
 const lettersMin = 4096
-
