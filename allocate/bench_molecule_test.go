@@ -5,78 +5,39 @@ import (
 	"fmt"
 	"github.com/shotplan/shotplan/internal/cputime"
 	"math"
-	"math/rand/v2"
 	"slices"
-	"sync"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	mol "github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/benchmol"
 	"github.com/shotplan/shotplan/pauli"
 )
 
-// The molecular fixtures of the allocation benchmarks: the qubit
-// Hamiltonians (Jordan–Wigner, spin orbitals interleaved) of seeded random
-// integrals with the symmetries of real orbitals and every value non-zero,
-// the stand-in for a molecule used by the benchmarks of hamiltonian/molecule.
-// 10 orbitals give 20 qubits and 14 250 terms, 25 orbitals 50 qubits and
-// 571 875 terms. Each is built once per process, outside the timing.
+// The molecular fixtures of the allocation benchmarks are those of
+// internal/benchmol: 10 orbitals give 20 qubits and 14 250 terms, 25
+// orbitals 50 qubits and 571 875 terms. Each is built once per process,
+// outside the timing.
 
 // benchMoleculeOrbitals are the fixture sizes in spatial orbitals.
-var benchMoleculeOrbitals = []int{10, 25}
-
-var benchMolecules sync.Map // orbitals → *hamiltonian.Hamiltonian
+var benchMoleculeOrbitals = benchmol.Orbitals
 
 // moleculeFixture returns the qubit Hamiltonian of the random integrals over
 // the given number of orbitals (seed 1), built on first use and cached.
 func moleculeFixture(tb testing.TB, orbitals int) *hamiltonian.Hamiltonian {
 	tb.Helper()
-	if h, ok := benchMolecules.Load(orbitals); ok {
-		return h.(*hamiltonian.Hamiltonian)
-	}
-	g, err := benchIntegrals(orbitals, 1)
+	h, err := benchmol.Hamiltonian(orbitals)
 	if err != nil {
 		tb.Fatal(err)
 	}
-	h, err := g.QubitHamiltonian(fermion.JordanWigner)
-	if err != nil {
-		tb.Fatal(err)
-	}
-	benchMolecules.Store(orbitals, h)
 	return h
 }
 
-// benchIntegrals draws the integrals exactly as randomIntegrals of the
-// molecule benchmarks does: the same seeds, loop order and scales, so that
-// both benchmark the same Hamiltonians.
+// benchIntegrals draws the integrals of the fixtures with another seed.
 func benchIntegrals(orbitals int, seed uint64) (*mol.Integrals, error) {
-	rng := rand.New(rand.NewPCG(seed, 7))
-	g, err := mol.New(orbitals)
-	if err != nil {
-		return nil, err
-	}
-	pair := func(p, q int) int { return p*(p+1)/2 + q } // p ≥ q
-	g.SetCore(rng.NormFloat64())
-	for p := range orbitals {
-		for q := range p + 1 {
-			g.SetOne(p, q, rng.NormFloat64())
-			for r := range orbitals {
-				for s := range r + 1 {
-					if pair(r, s) <= pair(p, q) {
-						g.SetTwo(p, q, r, s, 0.1*rng.NormFloat64())
-					}
-				}
-			}
-		}
-	}
-	return g, nil
+	return benchmol.Integrals(orbitals, seed)
 }
-
-// benchMoleculeTerms is the number of terms of the fixture of each size,
-// for the benchmark names (checked when the fixture is built).
-var benchMoleculeTerms = map[int]int{10: 14_250, 25: 571_875}
 
 // benchMoleculePlan runs a fresh strategy from mk to plan settings shots on
 // the molecular fixtures of the given orbitals (all of them if none),
@@ -87,11 +48,8 @@ func benchMoleculePlan(b *testing.B, mk func() allocate.Allocator, settings int,
 		orbitals = benchMoleculeOrbitals
 	}
 	for _, o := range orbitals {
-		b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/settings=%d", 2*o, benchMoleculeTerms[o], settings), func(b *testing.B) {
+		b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/settings=%d", 2*o, benchmol.Terms(o), settings), func(b *testing.B) {
 			h := moleculeFixture(b, o)
-			if h.Len() != benchMoleculeTerms[o] {
-				b.Fatalf("fixture has %d terms, want %d", h.Len(), benchMoleculeTerms[o])
-			}
 			b.ReportAllocs()
 			start := cputime.Now()
 			for b.Loop() {

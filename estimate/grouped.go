@@ -5,8 +5,13 @@ import (
 	"math/bits"
 
 	"github.com/shotplan/shotplan/hamiltonian"
+	"github.com/shotplan/shotplan/internal/workshare"
 	"github.com/shotplan/shotplan/pauli"
 )
+
+// groupedSplitMin is the least work, in terms times words of group sets,
+// that Grouped shares among goroutines: below it one core does both passes.
+const groupedSplitMin = 1 << 20
 
 // Grouped returns the grouped estimate of MATH.md §2, which works for every
 // plan: each term's mean ô_i is the average of its ±1 samples over the N_i
@@ -66,36 +71,57 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 	sw := newSweep(rec, h.Table())
 	res := &Result{Means: make([]float64, m), Cover: make([]int, m), Shots: rec.Len(), Energy: h.Offset()}
 	// Pass 1, by blocks of groups: cover counts and the number of −1
-	// samples of every term.
+	// samples of every term. The blocks are shared among GOMAXPROCS
+	// goroutines, each with its own counts (integers, added up after, so
+	// the result does not depend on the split).
 	ones := make([]int, m)
 	w := sw.w
-	for k0 := 0; k0 < sw.words; k0 += blockWords {
-		k1 := min(k0+blockWords, sw.words)
-		// One-shot groups are counted 64 at a time: the parities of their
-		// outcomes on a term's qubits are XORs of bit-sliced outcomes.
-		sw.sliceBlock(k0, k1)
-		for i := range m {
-			rs, supp := sw.rows(i), sw.termSupp(i)
-			n, odd := 0, 0
-			for k := k0; k < k1; k++ {
-				v := sw.covering(rs, k)
-				if v == 0 {
-					continue
+	workers := 1
+	if int64(m)*int64(sw.words) >= groupedSplitMin {
+		workers = workshare.Workers(sw.words, blockWords)
+	}
+	partCover, partOnes := make([][]int, workers), make([][]int, workers)
+	workshare.PerWorker(sw.words, blockWords, workers, func(wk int) func(k0, k1 int) {
+		cover, on := res.Cover, ones
+		if wk > 0 {
+			cover, on = make([]int, m), make([]int, m)
+			partCover[wk], partOnes[wk] = cover, on
+		}
+		slice := sw.newSlice()
+		return func(k0, k1 int) {
+			// One-shot groups are counted 64 at a time: the parities of
+			// their outcomes on a term's qubits are XORs of bit-sliced
+			// outcomes.
+			sw.sliceInto(slice, k0, k1)
+			for i := range m {
+				rs, supp := sw.rows(i), sw.termSupp(i)
+				n, odd := 0, 0
+				for k := k0; k < k1; k++ {
+					v := sw.covering(rs, k)
+					if v == 0 {
+						continue
+					}
+					if one := v & sw.one[k]; one != 0 {
+						n += bits.OnesCount64(one)
+						odd += bits.OnesCount64(one & oddIn(slice, rs, k, k0))
+						v &^= one
+					}
+					for ; v != 0; v &= v - 1 {
+						g := k<<6 + bits.TrailingZeros64(v)
+						lo, hi := sw.off[g], sw.off[g+1]
+						n += hi - lo
+						odd += countOdd(sw.flat[lo*w:hi*w], supp)
+					}
 				}
-				if one := v & sw.one[k]; one != 0 {
-					n += bits.OnesCount64(one)
-					odd += bits.OnesCount64(one & sw.oddSlice(rs, k, k0))
-					v &^= one
-				}
-				for ; v != 0; v &= v - 1 {
-					g := k<<6 + bits.TrailingZeros64(v)
-					lo, hi := sw.off[g], sw.off[g+1]
-					n += hi - lo
-					odd += countOdd(sw.flat[lo*w:hi*w], supp)
-				}
+				cover[i] += n
+				on[i] += odd
 			}
-			res.Cover[i] += n
-			ones[i] += odd
+		}
+	})
+	for wk := 1; wk < workers; wk++ {
+		for i := range m {
+			res.Cover[i] += partCover[wk][i]
+			ones[i] += partOnes[wk][i]
 		}
 	}
 	eg := entangledGroups(rec, h.Table())
@@ -129,44 +155,49 @@ func Grouped(h *hamiltonian.Hamiltonian, rec *Records, opts *Options) (*Result, 
 			vsum += a[i] * a[i] // no data on its spread: the bound Var(s) ≤ 1
 		}
 	}
-	for k0 := 0; k0 < sw.words; k0 += blockWords {
-		k1 := min(k0+blockWords, sw.words)
-		sw.sliceBlock(k0, k1)
-		for i := range m {
-			ai := a[i]
-			if ai == 0 {
-				continue
-			}
-			rs, supp := sw.rows(i), sw.termSupp(i)
-			n := res.Cover[i]
-			// A one-shot group adds d_i·(s − raw_i) = base − step·odd, with
-			// d_i = a_i·N_i/(N_i − 1), zero for N_i = 1.
-			di := 0.0
-			if n > 1 {
-				di = ai * float64(n) / float64(n-1)
-			}
-			base, step := di*(1-raw[i]), 2*di
-			for k := k0; k < k1; k++ {
-				v := sw.covering(rs, k)
-				if v == 0 {
+	// The blocks are shared among the goroutines as in pass 1: a block
+	// writes only the z of its groups' shots and the r of its groups, each
+	// summed over the terms in table order as on one core.
+	workshare.PerWorker(sw.words, blockWords, workers, func(int) func(k0, k1 int) {
+		slice := sw.newSlice()
+		return func(k0, k1 int) {
+			sw.sliceInto(slice, k0, k1)
+			for i := range m {
+				ai := a[i]
+				if ai == 0 {
 					continue
 				}
-				if one := v & sw.one[k]; one != 0 && di != 0 {
-					odd := sw.oddSlice(rs, k, k0)
-					rk := r[k<<6 : k<<6+64]
-					for ; one != 0; one &= one - 1 {
-						t := bits.TrailingZeros64(one)
-						rk[t] += base - step*float64(odd>>t&1)
-					}
+				rs, supp := sw.rows(i), sw.termSupp(i)
+				n := res.Cover[i]
+				// A one-shot group adds d_i·(s − raw_i) = base − step·odd,
+				// with d_i = a_i·N_i/(N_i − 1), zero for N_i = 1.
+				di := 0.0
+				if n > 1 {
+					di = ai * float64(n) / float64(n-1)
 				}
-				for v &^= sw.one[k]; v != 0; v &= v - 1 {
-					g := k<<6 + bits.TrailingZeros64(v)
-					lo, hi := sw.off[g], sw.off[g+1]
-					addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
+				base, step := di*(1-raw[i]), 2*di
+				for k := k0; k < k1; k++ {
+					v := sw.covering(rs, k)
+					if v == 0 {
+						continue
+					}
+					if one := v & sw.one[k]; one != 0 && di != 0 {
+						odd := oddIn(slice, rs, k, k0)
+						rk := r[k<<6 : k<<6+64]
+						for ; one != 0; one &= one - 1 {
+							t := bits.TrailingZeros64(one)
+							rk[t] += base - step*float64(odd>>t&1)
+						}
+					}
+					for v &^= sw.one[k]; v != 0; v &= v - 1 {
+						g := k<<6 + bits.TrailingZeros64(v)
+						lo, hi := sw.off[g], sw.off[g+1]
+						addSamples(z[lo:hi], sw.flat[lo*w:hi*w], supp, ai)
+					}
 				}
 			}
 		}
-	}
+	})
 	groupedEntangledSums(sw, eg, a, raw, res.Cover, z, r)
 	for g := range rec.Groups() {
 		if zs := z[sw.off[g]:sw.off[g+1]]; len(zs) > 1 {

@@ -102,9 +102,18 @@ func (s *sweep) covering(rs []int32, k int) uint64 {
 // group-set words k0..k1−1 (at most blockWords of them).
 func (s *sweep) sliceBlock(k0, k1 int) {
 	if s.slice == nil {
-		s.slice = make([]uint64, s.n*blockWords)
+		s.slice = s.newSlice()
 	}
-	clear(s.slice)
+	s.sliceInto(s.slice, k0, k1)
+}
+
+// newSlice returns scratch for sliceInto.
+func (s *sweep) newSlice() []uint64 { return make([]uint64, s.n*blockWords) }
+
+// sliceInto is sliceBlock into the scratch slice (from newSlice), so that
+// goroutines can each fill their own.
+func (s *sweep) sliceInto(slice []uint64, k0, k1 int) {
+	clear(slice)
 	for k := k0; k < k1; k++ {
 		for v := s.one[k]; v != 0; v &= v - 1 {
 			t := bits.TrailingZeros64(v)
@@ -112,7 +121,7 @@ func (s *sweep) sliceBlock(k0, k1 int) {
 			for wd := range s.w {
 				for u := b[wd]; u != 0; u &= u - 1 {
 					q := wd<<6 + bits.TrailingZeros64(u)
-					s.slice[q*blockWords+k-k0] |= 1 << t
+					slice[q*blockWords+k-k0] |= 1 << t
 				}
 			}
 		}
@@ -122,10 +131,13 @@ func (s *sweep) sliceBlock(k0, k1 int) {
 // oddSlice returns, for word k of the current block (k0 its first word),
 // the one-shot groups whose outcome has odd parity on the qubits of term
 // letters rs.
-func (s *sweep) oddSlice(rs []int32, k, k0 int) uint64 {
+func (s *sweep) oddSlice(rs []int32, k, k0 int) uint64 { return oddIn(s.slice, rs, k, k0) }
+
+// oddIn is oddSlice on the scratch slice filled by sliceInto.
+func oddIn(slice []uint64, rs []int32, k, k0 int) uint64 {
 	var p uint64
 	for _, r := range rs {
-		p ^= s.slice[int(r/3)*blockWords+k-k0]
+		p ^= slice[int(r/3)*blockWords+k-k0]
 	}
 	return p
 }
