@@ -218,9 +218,9 @@ type splitModel struct {
 	next   []float64
 	nextOK bool
 	// Scratch of the per-term solve.
-	d, e, a, old, inv []float64
-	idx               []int32
-	simplex           simplexScratch
+	d, e, a, inv []float64
+	idx          []int32
+	simplex      simplexScratch
 }
 
 // newSplitModel finds the terms of every group and builds the model. The
