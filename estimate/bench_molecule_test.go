@@ -105,15 +105,16 @@ func BenchmarkGroupedMolecule(b *testing.B) {
 	}
 }
 
-// BenchmarkSimulatorMolecule simulates 10^5 shots of sorted insertion's
-// and random's plans on the 20-qubit molecular fixture (14 250 terms) in
+// BenchmarkSimulatorMolecule simulates 10^5 shots of sorted insertion's,
+// random's and sorted-gc's (entangled settings) plans on the 20-qubit
+// molecular fixture (14 250 terms) in
 // its Hartree–Fock determinant (10 electrons, S_z = 0), the state made
 // outside the timing. The 50-qubit fixture is out of reach of a state
 // vector (2^50 amplitudes; HartreeFockState refuses more than
 // hamiltonian.MaxExactQubits qubits).
 func BenchmarkSimulatorMolecule(b *testing.B) {
 	const shots, orbitals = 100_000, 10
-	for _, strategy := range []string{"sorted", "random"} {
+	for _, strategy := range []string{"sorted", "random", "sorted-gc"} {
 		b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/plan=%s/shots=%d", 2*orbitals, benchmol.Terms(orbitals), strategy, shots), func(b *testing.B) {
 			h, p := moleculePlan(b, orbitals, strategy, shots)
 			psi, err := HartreeFockState(h.Qubits(), orbitals, 0)

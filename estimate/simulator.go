@@ -6,7 +6,10 @@ import (
 	"math"
 	"math/bits"
 	"math/rand/v2"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/internal/statevec"
@@ -255,9 +258,8 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 		h = sim.split(keys, offset[len(settings)])
 	}
 	if h == sim.n {
-		for _, ks := range order {
+		sim.eachDistribution(settings, order, func(ks []int, cum []float64) {
 			s := settings[ks[0]]
-			cum := sim.distribution(s)
 			if !s.IsLocal() && sim.hasChannels() {
 				sim.pauliFlips(s)
 				for _, k := range ks {
@@ -265,7 +267,7 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 						out[j] = sim.noisyEntangled(sim.search(cum))
 					}
 				}
-				continue
+				return
 			}
 			f := sim.channelFlips(s)
 			for _, k := range ks {
@@ -273,7 +275,7 @@ func (sim *Simulator) Run(settings []pauli.Setting, shots []int, rec *Records) e
 					out[j] = sim.noisy(sim.search(cum), f)
 				}
 			}
-		}
+		})
 	} else {
 		// Visit the distinct settings sorted by their letters on the h
 		// highest qubits, rotating those once per run of equal letters.
@@ -431,6 +433,85 @@ func (sim *Simulator) readout(b uint64) uint64 {
 		}
 	}
 	return b
+}
+
+// parallelStates bounds the work of eachDistribution's goroutines: they
+// run only while GOMAXPROCS times the amplitudes is at most this (2^24: two
+// goroutines up to 23 qubits), their buffers then taking at most 32 bytes
+// an amplitude each, 512 MiB in all.
+const parallelStates = 1 << 24
+
+// eachDistribution calls use, in the order of order, with the entries of
+// every distinct setting (settings[ks[0]] is the setting) and its
+// cumulative outcome weights, as distribution gives them; use must not
+// keep them. When there are several distinct settings, none of them in the
+// cache, and GOMAXPROCS > 1, the distributions are computed by GOMAXPROCS
+// goroutines, each rotating its own copy of the state, at most 2·GOMAXPROCS
+// settings ahead of use: the same arithmetic gives the same numbers, and
+// use — which draws the outcomes — runs in order in the caller's
+// goroutine, so the outcomes do not depend on the number of cores. They are
+// put in the cache as distribution would.
+func (sim *Simulator) eachDistribution(settings []pauli.Setting, order [][]int, use func(ks []int, cum []float64)) {
+	workers := runtime.GOMAXPROCS(0)
+	size := len(sim.state)
+	cached := false
+	for _, ks := range order {
+		if _, ok := sim.cache.m[settings[ks[0]].Key()]; ok {
+			cached = true
+			break
+		}
+	}
+	if workers < 2 || len(order) < 2 || cached || workers*size > parallelStates {
+		for _, ks := range order {
+			use(ks, sim.distribution(settings[ks[0]]))
+		}
+		return
+	}
+	window := 2 * workers
+	free := make(chan []float64, window)
+	for range window {
+		free <- make([]float64, size)
+	}
+	done := make([]chan []float64, len(order))
+	for d := range done {
+		done[d] = make(chan []float64, 1)
+	}
+	// A goroutine takes a free buffer, then the next setting: every
+	// setting handed out is computed, and the one use waits for either is
+	// or will be handed out next (earlier ones are done and their buffers
+	// back), so the window never deadlocks.
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			work := make([]complex128, size)
+			for {
+				cum := <-free
+				d := int(next.Add(1)) - 1
+				if d >= len(order) {
+					free <- cum
+					return
+				}
+				copy(work, sim.state)
+				statevec.Rotate(work, settings[order[d][0]], sim.n)
+				t := 0.0
+				for a, v := range work {
+					t += real(v)*real(v) + imag(v)*imag(v)
+					cum[a] = t
+				}
+				done[d] <- cum
+			}
+		})
+	}
+	for d, ks := range order {
+		cum := <-done[d]
+		use(ks, cum)
+		if sim.cache.limit >= 8*size {
+			copy(sim.cache.put(settings[ks[0]].Key(), 8*size), cum)
+		}
+		free <- cum
+	}
+	wg.Wait()
 }
 
 // distribution returns the cumulative outcome weights of setting s (not
