@@ -100,7 +100,10 @@ const defaultCacheBytes = 256 << 20
 // the amplitudes, O(2^n) a gate — forms the cumulative Born distribution, and draws outcomes by
 // binary search on it, O(n) a shot. Readout errors, if set, flip the drawn
 // bits afterwards. All randomness comes from the seed: the same seed, state,
-// settings and calls give the same outcomes.
+// settings and calls give the same outcomes, on any number of cores (when
+// Run takes the whole distributions of several distinct settings that are
+// not in the cache, GOMAXPROCS goroutines compute them ahead of the draws,
+// which stay in order).
 //
 // A Simulator is not safe for concurrent use.
 type Simulator struct {
