@@ -16,15 +16,7 @@ import (
 // shots on the molecular fixture of the given orbitals (internal/benchmol).
 func moleculePlan(b *testing.B, orbitals int, strategy string, shots int) (*hamiltonian.Hamiltonian, *allocate.Plan) {
 	b.Helper()
-	h, err := benchmol.Hamiltonian(orbitals)
-	if err != nil {
-		b.Fatal(err)
-	}
-	a, err := allocate.ByName(strategy, 1)
-	if err != nil {
-		b.Fatal(err)
-	}
-	p, err := allocate.Run(h, shots, a, nil)
+	h, p, err := benchmol.Plan(orbitals, strategy, shots)
 	if err != nil {
 		b.Fatal(err)
 	}

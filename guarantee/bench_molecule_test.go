@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"testing"
 
-	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/internal/benchmol"
 	"github.com/shotplan/shotplan/internal/cputime"
 )
@@ -20,15 +19,7 @@ func BenchmarkCertifyMolecule(b *testing.B) {
 	for _, o := range benchmol.Orbitals {
 		for _, strategy := range []string{"sorted", "random"} {
 			b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/plan=%s/shots=%d", 2*o, benchmol.Terms(o), strategy, shots), func(b *testing.B) {
-				h, err := benchmol.Hamiltonian(o)
-				if err != nil {
-					b.Fatal(err)
-				}
-				a, err := allocate.ByName(strategy, 1)
-				if err != nil {
-					b.Fatal(err)
-				}
-				p, err := allocate.Run(h, shots, a, nil)
+				h, p, err := benchmol.Plan(o, strategy, shots)
 				if err != nil {
 					b.Fatal(err)
 				}

@@ -3,8 +3,9 @@
 // random integrals with the symmetries of real orbitals and every value
 // non-zero, a stand-in for a molecule of a given size. 10 orbitals give 20
 // qubits and 14 250 terms, 25 orbitals 50 qubits and 571 875 terms. The
-// allocation, certificate and estimation benchmarks share them, so that
-// every step is measured on the same Hamiltonians; the integrals are drawn
+// allocation, certificate and estimation benchmarks share them (Plan also
+// makes a built-in strategy's plan on them), so that every step is
+// measured on the same Hamiltonians; the integrals are drawn
 // as randomIntegrals of the hamiltonian/molecule benchmarks draws them
 // (same seeds, loop order and scales).
 package benchmol
@@ -14,6 +15,7 @@ import (
 	"math/rand/v2"
 	"sync"
 
+	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
 	"github.com/shotplan/shotplan/hamiltonian/molecule"
@@ -84,4 +86,24 @@ func Hamiltonian(orbitals int) (*hamiltonian.Hamiltonian, error) {
 	}
 	cache.Store(orbitals, h)
 	return h, nil
+}
+
+// Plan returns the fixture over the given number of orbitals and the plan
+// of the named built-in strategy (allocate.ByName, seed 1) for shots shots
+// on it. (allocate's own tests cannot use it: this package imports
+// allocate.)
+func Plan(orbitals int, strategy string, shots int) (*hamiltonian.Hamiltonian, *allocate.Plan, error) {
+	h, err := Hamiltonian(orbitals)
+	if err != nil {
+		return nil, nil, err
+	}
+	a, err := allocate.ByName(strategy, 1)
+	if err != nil {
+		return nil, nil, err
+	}
+	p, err := allocate.Run(h, shots, a, nil)
+	if err != nil {
+		return nil, nil, err
+	}
+	return h, p, nil
 }
