@@ -1,43 +1,31 @@
-package molecule
+package molecule_test
 
 import (
 	"bytes"
 	"fmt"
-	"github.com/shotplan/shotplan/internal/cputime"
-	"math/rand/v2"
 	"testing"
 
 	"github.com/shotplan/shotplan/hamiltonian"
 	"github.com/shotplan/shotplan/hamiltonian/fermion"
+	"github.com/shotplan/shotplan/hamiltonian/molecule"
+	"github.com/shotplan/shotplan/internal/benchmol"
+	"github.com/shotplan/shotplan/internal/cputime"
 )
 
-// randomIntegrals returns seeded random integrals with the symmetries of
-// real orbitals and every value non-zero, a stand-in for a molecule of the
-// given size.
-func randomIntegrals(tb testing.TB, orbitals int, seed uint64) *Integrals {
+// randomIntegrals returns the seeded random integrals of internal/benchmol
+// (the symmetries of real orbitals, every value non-zero), a stand-in for
+// a molecule of the given size; the allocation, certificate and estimation
+// benchmarks use the same ones.
+func randomIntegrals(tb testing.TB, orbitals int, seed uint64) *molecule.Integrals {
 	tb.Helper()
-	rng := rand.New(rand.NewPCG(seed, 7))
-	g, err := New(orbitals)
+	g, err := benchmol.Integrals(orbitals, seed)
 	if err != nil {
 		tb.Fatal(err)
-	}
-	g.SetCore(rng.NormFloat64())
-	for p := range orbitals {
-		for q := range p + 1 {
-			g.SetOne(p, q, rng.NormFloat64())
-			for r := range orbitals {
-				for s := range r + 1 {
-					if pair(r, s) <= pair(p, q) {
-						g.SetTwo(p, q, r, s, 0.1*rng.NormFloat64())
-					}
-				}
-			}
-		}
 	}
 	return g
 }
 
-var benchOrbitals = []int{10, 25}
+var benchOrbitals = benchmol.Orbitals
 
 // BenchmarkQubitHamiltonian maps the electronic Hamiltonian of random
 // integrals, built beforehand as a fermion operator (about 1.5·10^6
@@ -80,14 +68,14 @@ func BenchmarkFermionOperator(b *testing.B) {
 func BenchmarkReadFCIDUMP(b *testing.B) {
 	for _, orbitals := range benchOrbitals {
 		var buf bytes.Buffer
-		if err := WriteFCIDUMP(&buf, randomIntegrals(b, orbitals, 1)); err != nil {
+		if err := molecule.WriteFCIDUMP(&buf, randomIntegrals(b, orbitals, 1)); err != nil {
 			b.Fatal(err)
 		}
 		lines := bytes.Count(buf.Bytes(), []byte("\n"))
 		b.Run(fmt.Sprintf("orbitals=%d/lines=%d", orbitals, lines), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				if _, err := ReadFCIDUMP(bytes.NewReader(buf.Bytes())); err != nil {
+				if _, err := molecule.ReadFCIDUMP(bytes.NewReader(buf.Bytes())); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -102,18 +90,18 @@ func BenchmarkReadFCIDUMP(b *testing.B) {
 // whose off-diagonal elements are as large as the diagonal ones, the slow
 // case for the diagonal preconditioner.
 func BenchmarkSectorGroundState(b *testing.B) {
-	h12, err := ReadFCIDUMPFile("testdata/h12_sto3g_1.0A.fcidump")
+	h12, err := molecule.ReadFCIDUMPFile("testdata/h12_sto3g_1.0A.fcidump")
 	if err != nil {
 		b.Fatal(err)
 	}
 	cases := []struct {
 		name string
-		g    func() *Integrals
+		g    func() *molecule.Integrals
 		el   int
 	}{
-		{"h12", func() *Integrals { return h12 }, 12},
-		{"random10", func() *Integrals { return randomIntegrals(b, 10, 1) }, 10},
-		{"random12", func() *Integrals { return randomIntegrals(b, 12, 1) }, 12},
+		{"h12", func() *molecule.Integrals { return h12 }, 12},
+		{"random10", func() *molecule.Integrals { return randomIntegrals(b, 10, 1) }, 10},
+		{"random12", func() *molecule.Integrals { return randomIntegrals(b, 12, 1) }, 12},
 	}
 	for _, c := range cases {
 		g := c.g()

@@ -273,3 +273,55 @@ func TestISymDefault(t *testing.T) {
 		t.Errorf("New(1).ISym = %d, want 0", n.ISym)
 	}
 }
+
+// TestWriteNewIntegrals writes integrals made by New (ISym left 0, no
+// ORBSYM), which the writer once gave an "ISYM=0" line the reader refuses:
+// they must read back equal, with ISym 1, the reader's default (common
+// practice: the totally symmetric irrep is label 1). Header fields the
+// reader would refuse are an error of the writer, which then writes
+// nothing.
+func TestWriteNewIntegrals(t *testing.T) {
+	g, err := New(3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g.Electrons = 2
+	g.SetCore(0.25)
+	g.SetOne(1, 0, -0.5)
+	g.SetTwo(2, 1, 1, 0, 0.125)
+	var buf strings.Builder
+	if err := WriteFCIDUMP(&buf, g); err != nil {
+		t.Fatal(err)
+	}
+	back, err := ReadFCIDUMP(strings.NewReader(buf.String()))
+	if err != nil {
+		t.Fatalf("reading back: %v\n%s", err, buf.String())
+	}
+	if back.ISym != 1 {
+		t.Errorf("ISym read back %d, want 1", back.ISym)
+	}
+	back.ISym = 0
+	if !back.Equal(g) {
+		t.Errorf("read back differs from what was written:\n%s", buf.String())
+	}
+	for _, c := range []struct {
+		name string
+		set  func(*Integrals)
+	}{
+		{"ISym 9", func(g *Integrals) { g.ISym = 9 }},
+		{"OrbSym label 0", func(g *Integrals) { g.OrbSym = []int{1, 0, 1} }},
+		{"OrbSym too short", func(g *Integrals) { g.OrbSym = []int{1, 1} }},
+		{"7 electrons in 3 orbitals", func(g *Integrals) { g.Electrons = 7 }},
+		{"2S_z of the wrong parity", func(g *Integrals) { g.SpinTwice = 1 }},
+		{"4 α electrons", func(g *Integrals) { g.Electrons, g.SpinTwice = 4, 4 }},
+	} {
+		bad := *g
+		c.set(&bad)
+		var out strings.Builder
+		if err := WriteFCIDUMP(&out, &bad); err == nil {
+			t.Errorf("%s: no error", c.name)
+		} else if out.Len() != 0 {
+			t.Errorf("%s: wrote %d bytes with the error %v", c.name, out.Len(), err)
+		}
+	}
+}

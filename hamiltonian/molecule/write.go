@@ -14,8 +14,17 @@ import (
 // integral once (i ≥ j, k ≥ l, ij ≥ kl), the non-zero one-electron integrals
 // of the lower triangle, and the constant. Values are printed with the
 // shortest decimal that reads back to the same float64, so
-// ReadFCIDUMP(WriteFCIDUMP(g)) equals g.
+// ReadFCIDUMP(WriteFCIDUMP(g)) equals g — except that an unset ISym (0, as
+// [New] leaves it) is not written and reads back as 1, the reader's
+// default. It returns an error, writing nothing, for a header the reader
+// would refuse: Electrons outside 0..2·Orbitals, a SpinTwice of the wrong
+// parity or with more α or β electrons than orbitals, an ISym that is not
+// an irrep label 1 to 8 (or 0), an OrbSym label outside 1..8 or an OrbSym
+// of another length than the orbital count.
 func WriteFCIDUMP(w io.Writer, g *Integrals) error {
+	if err := g.checkHeader(); err != nil {
+		return fmt.Errorf("molecule: WriteFCIDUMP: %w", err)
+	}
 	bw := bufio.NewWriter(w)
 	n := g.norb
 	fmt.Fprintf(bw, "&FCI\nNORB=%d,\nNELEC=%d,\nMS2=%d,\nUHF=.FALSE.,\n", n, g.Electrons, g.SpinTwice)
@@ -27,7 +36,10 @@ func WriteFCIDUMP(w io.Writer, g *Integrals) error {
 		}
 		bw.WriteByte('\n')
 	}
-	fmt.Fprintf(bw, "ISYM=%d,\n&END\n", g.ISym)
+	if g.ISym != 0 {
+		fmt.Fprintf(bw, "ISYM=%d,\n", g.ISym)
+	}
+	bw.WriteString("&END\n")
 	var buf []byte
 	line := func(v float64, i, j, k, l int) {
 		buf = strconv.AppendFloat(buf[:0], v, 'e', -1, 64)
@@ -66,4 +78,29 @@ func WriteFCIDUMP(w io.Writer, g *Integrals) error {
 // WriteFCIDUMPFile writes g to path in the FCIDUMP format, atomically.
 func WriteFCIDUMPFile(path string, g *Integrals) error {
 	return atomicfile.Write(path, func(w io.Writer) error { return WriteFCIDUMP(w, g) })
+}
+
+// checkHeader returns an error for exported fields that ReadFCIDUMP would
+// refuse in a header.
+func (g *Integrals) checkHeader() error {
+	n := g.norb
+	if g.Electrons < 0 || g.Electrons > 2*n {
+		return fmt.Errorf("Electrons = %d, want 0 to %d (twice the orbitals)", g.Electrons, 2*n)
+	}
+	alpha, beta := (g.Electrons+g.SpinTwice)/2, (g.Electrons-g.SpinTwice)/2
+	if (g.Electrons+g.SpinTwice)%2 != 0 || alpha < 0 || beta < 0 || alpha > n || beta > n {
+		return fmt.Errorf("SpinTwice = %d with %d electrons: want the same parity and at most %d α and β electrons each", g.SpinTwice, g.Electrons, n)
+	}
+	if g.ISym < 0 || g.ISym > 8 {
+		return fmt.Errorf("ISym = %d, want an irrep label 1 to 8 (or 0, unset)", g.ISym)
+	}
+	if g.OrbSym != nil && len(g.OrbSym) != n {
+		return fmt.Errorf("OrbSym has %d labels for %d orbitals", len(g.OrbSym), n)
+	}
+	for p, s := range g.OrbSym {
+		if s < 1 || s > 8 {
+			return fmt.Errorf("OrbSym[%d] = %d, want an irrep label 1 to 8", p, s)
+		}
+	}
+	return nil
 }
