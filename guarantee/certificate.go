@@ -105,8 +105,10 @@ type Certificate struct {
 	Top []Contribution
 
 	// Threshold is the δ-only truncation rule of MATH.md §3.3: drop every
-	// term with N_i < 2 ln(2/δ). Optimal is the dropped set that minimises
-	// bias plus exact radius. Both are evaluated with the exact V of the
+	// term with N_i < 2 ln(2/δ) (with a coefficient split, every term with
+	// 2 ln(2/δ) r_i² > 1; see CertifyPlan). Optimal is the dropped set that
+	// minimises bias plus exact radius, or the best one its search found
+	// (see [Truncation].Exact). Both are evaluated with the exact V of the
 	// kept terms; the certificate above is for dropping nothing.
 	Threshold, Optimal Truncation
 }
@@ -149,8 +151,11 @@ func Certify(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, 
 // r_i² = Σ_g α_{ig}²/m_g (which reduces to 1/N_i without a split), the
 // shares are Radius·v_i/V with v_i = |h_i| Σ_g s_g α_{ig}, s_g the group's
 // Σ_i |h_i| α_{ig}/m_g, and the truncations are the threshold rule with
-// 1/r_i² in place of N_i and, as Optimal, the better of that and dropping
-// nothing (no search is run; Lower is 0 and Exact false).
+// 1/r_i² in place of N_i and, as Optimal, the search of MATH.md §3.3 over
+// the terms that rule drops, with dropping term i removing |h_i| α_{ig}
+// from every group g that covers it: exact by enumeration or branch and
+// bound, or else the best set found with Lower a lower bound on Bias +
+// Radius over every dropped set, as without a split.
 func CertifyPlan(h *hamiltonian.Hamiltonian, p *allocate.Plan, delta float64, opts *Options) (*Certificate, error) {
 	if p == nil {
 		return nil, fmt.Errorf("guarantee: nil plan")
@@ -225,7 +230,8 @@ func certify(c *coverage, delta float64, opts *Options) *Certificate {
 
 	cert.Top = topContributions(c, cert.Share, cert.RelaxedShare, min(opts.top(), h.Len()))
 	cert.Threshold = thresholdTruncation(c, a, s, delta)
-	cert.Optimal = optimalTruncation(c, a, s, delta, opts.enumerate(), opts.searchBudget())
+	eval := func(drop []bool, method string) Truncation { return evaluate(c, a, s, drop, delta, method) }
+	cert.Optimal = optimalTruncation(c, s, cert.Threshold.Drop, "0 < N_i < 2 ln(2/δ)", eval, delta, opts.enumerate(), opts.searchBudget())
 	return cert
 }
 

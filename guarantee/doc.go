@@ -29,7 +29,8 @@
 // # Before the shots
 //
 // [Certify] (a list of settings with shot counts) and [CertifyPlan] (a plan
-// from any allocator; identical result) compute, at confidence 1 − δ, the
+// from any allocator; identical result, except that a plan's coefficient
+// split is certified as the split estimator of MATH.md §2.5) compute, at confidence 1 − δ, the
 // shot-wise Hoeffding radius sqrt(2 V ln(2/δ)) of MATH.md §3.1 with V
 // computed exactly, its relaxation by the scaled one-norm ‖h'‖_1 sqrt(2 ln(2/δ)) (§3.2),
 // the bias of never-covered terms, their sum, each term's share of the

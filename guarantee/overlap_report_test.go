@@ -52,13 +52,15 @@ type overlapRow struct {
 // writeOverlapTable writes to out, for every molecule (file, name) of
 // hamiltonian/hamiltoniantest under Jordan–Wigner and every row rows gives
 // for its Hartree–Fock determinant and exact ground state, the 10^4-shot
-// plan's ε²M in the ground state (MeritOf) and its certified bound at
-// δ = 0.05, checking on every row that PlanValue ≤ M·V (MATH.md §2.5).
+// plan's ε²M in the ground state (MeritOf), its certified bound at
+// δ = 0.05 and the bounds of its two truncations (threshold rule and
+// optimal search, MATH.md §3.3, with the split's weights, §2.5), checking on
+// every row that PlanValue ≤ M·V (MATH.md §2.5).
 func writeOverlapTable(t *testing.T, out string, molecules [][2]string, rows func(hf allocate.BasisProxy, gs *allocate.StateProxy) []overlapRow) {
 	t.Helper()
 	const shots = 10000
 	var b strings.Builder
-	fmt.Fprintf(&b, "| molecule | terms | strategy | proxy | settings | split entries | ε²M plan | ε²M opt. | certified ε |\n|---|---|---|---|---|---|---|---|---|\n")
+	fmt.Fprintf(&b, "| molecule | terms | strategy | proxy | settings | split entries | ε²M plan | ε²M opt. | certified ε | threshold ε | optimal truncation ε |\n|---|---|---|---|---|---|---|---|---|---|---|\n")
 	for _, mol := range molecules {
 		name := mol[1]
 		h, g := moleculeHamiltonian(t, mol[0], fermion.JordanWigner)
@@ -94,7 +96,16 @@ func writeOverlapTable(t *testing.T, out string, molecules [][2]string, rows fun
 			if m.PlanValue > shots*cert.Variance*(1+1e-12) {
 				t.Errorf("%s %s %s: PlanValue %g above M·V %g", name, c.strategy, c.proxy, m.PlanValue, shots*cert.Variance)
 			}
-			fmt.Fprintf(&b, "| %s | %d | %s | %s | %d | %d | %.3g | %.3g | %.3g |\n", name, h.Len(), c.strategy, c.proxy, m.Settings, p.Split.Entries(), m.PlanValue, m.Optimal, cert.Bound)
+			if o := cert.Optimal; o.Bound > min(cert.Bound, cert.Threshold.Bound)*(1+1e-12) || o.Lower > o.Bound {
+				t.Errorf("%s %s %s: optimal truncation %g (lower %g) above dropping nothing %g or the threshold rule %g", name, c.strategy, c.proxy, o.Bound, o.Lower, cert.Bound, cert.Threshold.Bound)
+			}
+			opt := fmt.Sprintf("%.4g (drop %d", cert.Optimal.Bound, cert.Optimal.Dropped)
+			if cert.Optimal.Exact {
+				opt += ", exact)"
+			} else {
+				opt += fmt.Sprintf(", ≥ %.4g)", cert.Optimal.Lower)
+			}
+			fmt.Fprintf(&b, "| %s | %d | %s | %s | %d | %d | %.3g | %.3g | %.3g | %.4g (drop %d) | %s |\n", name, h.Len(), c.strategy, c.proxy, m.Settings, p.Split.Entries(), m.PlanValue, m.Optimal, cert.Bound, cert.Threshold.Bound, cert.Threshold.Dropped, opt)
 		}
 	}
 	if err := atomicfile.Write(out, func(w io.Writer) error {

@@ -89,8 +89,8 @@ func (c *coverage) splitLoads(drop []bool) []float64 {
 // v_i = |h_i| Σ_g m_g s_g u(g, i), and the scaled one-norm
 // Σ_i |h_i| r_i, r_i² = Σ_g m_g u(g, i)² = Σ_g α_{ig}²/m_g, which bounds
 // sqrt(V) (Cauchy–Schwarz). The truncations are the threshold rule with
-// N_i replaced by 1/r_i² and, as Optimal, the better of it and dropping
-// nothing: the searches of MATH.md §3.3 are not run for a split.
+// N_i replaced by 1/r_i² and the optimal search of MATH.md §3.3 over the
+// terms that rule drops, with the split's per-(term, setting) weights.
 func certifySplit(c *coverage, delta float64, opts *Options) *Certificate {
 	h := c.h
 	l := math.Log(2 / delta)
@@ -134,23 +134,52 @@ func certifySplit(c *coverage, delta float64, opts *Options) *Certificate {
 	cert.Top = topContributions(c, cert.Share, cert.RelaxedShare, min(opts.top(), h.Len()))
 	// Threshold: drop i when r_i > 1/c(δ), i.e. when its relaxed share
 	// c(δ)|h_i| r_i exceeds its bias |h_i| (MATH.md §3.3 with 1/r_i² for N_i).
-	none := make([]bool, h.Len())
 	thr := make([]bool, h.Len())
 	for i, n := range c.cover {
-		none[i] = n == 0
 		thr[i] = n == 0 || 2*l*r2[i] > 1
 	}
 	cert.Threshold = evaluateSplit(c, r2, thr, delta, "threshold: drop terms with 2 ln(2/δ)·Σ_g α_ig²/m_g > 1 (coefficient split)")
-	cert.Optimal = evaluateSplit(c, r2, none, delta, "with a coefficient split: the better of dropping nothing and the threshold rule (no search)")
-	if cert.Threshold.Bound < cert.Optimal.Bound {
-		cert.Optimal = cert.Threshold
-		cert.Optimal.Method = "with a coefficient split: the better of dropping nothing and the threshold rule (no search)"
-	}
+	eval := func(drop []bool, method string) Truncation { return evaluateSplit(c, r2, drop, delta, method) }
+	cert.Optimal = optimalTruncation(c, s, thr, "2 ln(2/δ)·Σ_g α_ig²/m_g > 1 (coefficient split)", eval, delta, opts.enumerate(), opts.searchBudget())
 	return cert
 }
 
-// evaluateSplit fills the bound of a dropped set under the split. Lower is
-// 0 (the bound is non-negative), Exact false: no search is made.
+// splitDropWeights is dropWeights with a split: candidate k (term i) has
+// fac[k] = |h_i| and, in setting q = rev[j], rel[j] = u(q, i) — α_{iq}/m_q
+// if the split lists i (zero where its group does not), 1/N_i if not — so
+// that fac[k]·rel[j] is the product splitLoads adds. The weights are looked
+// up by (group, candidate) rather than through u, whose scratch holds one
+// setting at a time while rev goes candidate by candidate.
+func (c *coverage) splitDropWeights(cand []int, pos []int32, cnt []int, rev []int32) (fac, rel []float64) {
+	sp := c.sp
+	type key struct{ g, k int32 }
+	alpha := make(map[key]float64)
+	for g, gr := range sp.split {
+		for t, i := range gr.Terms {
+			if p := pos[i]; p >= 0 {
+				alpha[key{int32(g), p}] = gr.Weights[t]
+			}
+		}
+	}
+	fac = make([]float64, len(cand))
+	rel = make([]float64, len(rev))
+	for k, i := range cand {
+		fac[k] = math.Abs(c.h.Coeff(i))
+		for j := cnt[k]; j < cnt[k+1]; j++ {
+			q := rev[j]
+			switch g := sp.group[q]; {
+			case !sp.listed[i]:
+				rel[j] = 1 / float64(c.cover[i])
+			case g >= 0:
+				rel[j] = alpha[key{int32(g), int32(k)}] / float64(c.mult[q])
+			}
+		}
+	}
+	return fac, rel
+}
+
+// evaluateSplit fills the bound of a dropped set under the split; Lower and
+// Exact are left for the caller (the search) to set.
 func evaluateSplit(c *coverage, r2 []float64, drop []bool, delta float64, method string) Truncation {
 	l := math.Log(2 / delta)
 	t := Truncation{Drop: drop, Method: method}

@@ -8,8 +8,9 @@ import (
 
 // Truncation is a choice of terms to leave out of the estimator (MATH.md
 // §3.3) and the bound it gives: dropping term i adds at most |h_i| of bias
-// and removes its a_i = |h_i|/N_i from every s_Q, while N_i and a_i of the
-// kept terms are unchanged.
+// and removes its a_i = |h_i|/N_i from every s_Q (with a coefficient split,
+// its |h_i| α_{iQ}/m_Q from each s_Q, MATH.md §2.5), while the weights of
+// the kept terms are unchanged.
 type Truncation struct {
 	// Drop[i] reports whether term i is left out; it always includes the
 	// terms with N_i = 0. Pass it as the estimator's exclusion list.
@@ -18,10 +19,12 @@ type Truncation struct {
 	Dropped int
 	// Bias is Σ_{i dropped} |h_i|.
 	Bias float64
-	// Variance is V_kept = Σ_n (Σ_{i◁Q_n, i kept} a_i)² and Radius is
+	// Variance is V_kept = Σ_n (Σ_{i◁Q_n, i kept} a_i)² (with a split,
+	// Σ_Q (Σ_{i◁Q, i kept} |h_i| α_{iQ})²/m_Q) and Radius is
 	// sqrt(2 V_kept ln(2/δ)).
 	Variance, Radius float64
-	// RelaxedRadius is sqrt(2 ln(2/δ)) Σ_{i kept} |h_i|/sqrt(N_i).
+	// RelaxedRadius is sqrt(2 ln(2/δ)) Σ_{i kept} |h_i|/sqrt(N_i) (with a
+	// split, |h_i| r_i in place of |h_i|/sqrt(N_i); see CertifyPlan).
 	RelaxedRadius float64
 	// Bound is Bias + Radius: the guaranteed error at confidence 1 − δ of
 	// the estimator without the dropped terms.
@@ -84,19 +87,25 @@ func thresholdTruncation(c *coverage, a, full []float64, delta float64) Truncati
 }
 
 // optimalTruncation minimises F(D) = Σ_{i∈D} |h_i| + c sqrt(V(kept)) over the
-// dropped sets D, with c = sqrt(2 ln(2/δ)).
+// dropped sets D, with c = sqrt(2 ln(2/δ)), for the coverage's weights:
+// a_i = |h_i|/N_i on every setting covering term i, or with a coefficient
+// split |h_i| α_{iQ}/m_Q on setting Q (MATH.md §2.5). s are the loads s_Q
+// with nothing dropped, thr the threshold rule's dropped set (its covered
+// terms are the candidates; what states their condition for Method), and
+// eval returns the bound of a dropped set.
 //
 // # Reduction to few candidates
 //
-// V(K) = ‖B x_K‖² for the nonnegative matrix B with rows sqrt(m_Q)·(a_i
-// [i◁Q])_i, so sqrt V is a norm of the kept-indicator. By the triangle
-// inequality, sqrt V(K) − sqrt V(K∖{i}) ≤ ‖B e_i‖ = a_i sqrt(N_i) =
-// |h_i|/sqrt(N_i), hence dropping i from any kept set changes F by at least
-// |h_i| (1 − c/sqrt(N_i)), which is ≥ 0 when N_i ≥ c². Starting from any
-// optimum and re-adding such terms one by one never increases F, so some
-// optimum keeps every term with N_i ≥ c²; uncovered terms are dropped by
-// definition. Only the candidates 0 < N_i < c² = 2 ln(2/δ) are searched —
-// the terms the threshold rule drops.
+// V(K) = ‖B x_K‖² for the nonnegative matrix B with rows sqrt(m_Q)·(w_{iQ}
+// [i◁Q])_i, w_{iQ} term i's weight in s_Q, so sqrt V is a norm of the
+// kept-indicator. By the triangle inequality, sqrt V(K) − sqrt V(K∖{i}) ≤
+// ‖B e_i‖, which is a_i sqrt(N_i) = |h_i|/sqrt(N_i) without a split and
+// |h_i| r_i, r_i² = Σ_Q α_{iQ}²/m_Q, with one; hence dropping i from any
+// kept set changes F by at least |h_i| (1 − c‖B e_i‖/|h_i|), which is ≥ 0
+// when N_i ≥ c² (c r_i ≤ 1 with a split). Starting from any optimum and
+// re-adding such terms one by one never increases F, so some optimum keeps
+// every such term; uncovered terms are dropped by definition. Only the
+// other covered terms are searched — the terms the threshold rule drops.
 //
 // # Search
 //
@@ -113,10 +122,9 @@ func thresholdTruncation(c *coverage, a, full []float64, delta float64) Truncati
 // linear term plus the norm of a nonnegative combination, over subsets) has
 // no known polynomial algorithm, so a search this size can fail to finish;
 // Exact says whether it did.
-func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, budget int) Truncation {
+func optimalTruncation(c *coverage, s []float64, thr []bool, what string, eval func(drop []bool, method string) Truncation, delta float64, enumerate, budget int) Truncation {
 	l := math.Log(2 / delta)
 	cc := math.Sqrt(2 * l)
-	c2 := 2 * l
 	m := len(c.cover)
 
 	// Candidates and, for each, the distinct settings that cover it.
@@ -132,13 +140,13 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 		case n == 0:
 			drop[i] = true
 			bias0 += math.Abs(c.h.Coeff(i))
-		case float64(n) < c2:
+		case thr[i]:
 			pos[i] = int32(len(cand))
 			cand = append(cand, i)
 		}
 	}
 	if len(cand) == 0 {
-		t := evaluate(c, a, s, drop, delta, "exact: no term has 0 < N_i < 2 ln(2/δ)")
+		t := eval(drop, "exact: no term has "+what)
 		t.Lower, t.Exact = t.Bound, true
 		return t
 	}
@@ -171,7 +179,22 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 			}
 		}
 	}
-	st := &dropState{c: c, a: a, cand: cand, cnt: cnt, rev: rev, cc: cc,
+	fac, rel := c.dropWeights(cand, pos, cnt, rev)
+	// Pairs of weight zero (a split's α_{iQ} = 0) change no load: leave
+	// them out. Without a split there are none.
+	w := 0
+	for k := range cand {
+		lo, hi := cnt[k], cnt[k+1]
+		cnt[k] = w
+		for j := lo; j < hi; j++ {
+			if rel[j] != 0 {
+				rev[w], rel[w] = rev[j], rel[j]
+				w++
+			}
+		}
+	}
+	cnt[len(cand)] = w
+	st := &dropState{c: c, fac: fac, rel: rel[:w], cand: cand, cnt: cnt, rev: rev[:w], cc: cc,
 		sk: append([]float64(nil), s...), v: c.variance(s), bias: bias0,
 		dropped: make([]bool, len(cand))}
 
@@ -192,7 +215,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 			best[k] = bestCode>>k&1 == 1
 		}
 		exact = true
-		method = fmt.Sprintf("exact: all %d subsets of the %d terms with 0 < N_i < 2 ln(2/δ)", uint64(1)<<len(cand), len(cand))
+		method = fmt.Sprintf("exact: all %d subsets of the %d terms with %s", uint64(1)<<len(cand), len(cand), what)
 	} else {
 		fromNone := st.localSearch()
 		fNone := st.value()
@@ -211,7 +234,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 		best, lower, complete = st.branchAndBound(best, budget)
 		if complete {
 			exact = true
-			method = fmt.Sprintf("exact: branch and bound over the %d terms with 0 < N_i < 2 ln(2/δ)", len(cand))
+			method = fmt.Sprintf("exact: branch and bound over the %d terms with %s", len(cand), what)
 		} else {
 			method = fmt.Sprintf("branch and bound over %d candidate terms stopped at its work limit; lower bound from the open nodes and Frank–Wolfe on the convex relaxation", len(cand))
 			lower = max(lower, st.frankWolfeLower(best))
@@ -220,7 +243,7 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 	for k, i := range cand {
 		drop[i] = best[k]
 	}
-	t := evaluate(c, a, s, drop, delta, method)
+	t := eval(drop, method)
 	if exact {
 		t.Lower, t.Exact = t.Bound, true
 	} else {
@@ -230,11 +253,33 @@ func optimalTruncation(c *coverage, a, s []float64, delta float64, enumerate, bu
 	return t
 }
 
+// dropWeights returns the weights of the candidate terms cand in the loads
+// of the settings rev[cnt[k]:cnt[k+1]] that cover candidate k: candidate
+// k's weight in setting rev[j] is fac[k]·rel[j]. Without a split fac[k] =
+// a_i = |h_i|/N_i and rel[j] = 1, so that the products are a_i exactly;
+// with one (MATH.md §2.5) see splitDropWeights. pos[i] is term i's place in
+// cand, or −1.
+func (c *coverage) dropWeights(cand []int, pos []int32, cnt []int, rev []int32) (fac, rel []float64) {
+	if c.sp != nil {
+		return c.splitDropWeights(cand, pos, cnt, rev)
+	}
+	fac = make([]float64, len(cand))
+	for k, i := range cand {
+		fac[k] = math.Abs(c.h.Coeff(i)) / float64(c.cover[i])
+	}
+	rel = make([]float64, len(rev))
+	for j := range rel {
+		rel[j] = 1
+	}
+	return fac, rel
+}
+
 // dropState tracks the kept loads s_Q, V and the bias while candidate terms
 // move in and out of the dropped set.
 type dropState struct {
 	c       *coverage
-	a       []float64
+	fac     []float64 // by candidate: see rel
+	rel     []float64 // candidate k's weight in setting rev[j] is fac[k]·rel[j]
 	cand    []int
 	cnt     []int   // rev[cnt[k]:cnt[k+1]] are the settings covering cand[k]
 	rev     []int32 // distinct setting indices
@@ -246,33 +291,34 @@ type dropState struct {
 
 func (st *dropState) value() float64 { return st.bias + st.cc*math.Sqrt(max(st.v, 0)) }
 
-// delta returns the change of V if candidate k moved.
+// deltaV returns the change of V if candidate k moved.
 func (st *dropState) deltaV(k int) float64 {
-	ai := st.a[st.cand[k]]
+	ai := st.fac[k]
 	if !st.dropped[k] {
 		ai = -ai
 	}
 	dv := 0.0
-	for _, q := range st.rev[st.cnt[k]:st.cnt[k+1]] {
+	for j := st.cnt[k]; j < st.cnt[k+1]; j++ {
+		q := st.rev[j]
 		old := st.sk[q]
-		nw := old + ai
+		nw := old + ai*st.rel[j]
 		dv += float64(st.c.mult[q]) * (nw*nw - old*old)
 	}
 	return dv
 }
 
 func (st *dropState) flip(k int) {
-	i := st.cand[k]
-	ai, abs := st.a[i], math.Abs(st.c.h.Coeff(i))
+	ai, abs := st.fac[k], math.Abs(st.c.h.Coeff(st.cand[k]))
 	if st.dropped[k] {
 		st.bias -= abs
 	} else {
 		ai = -ai
 		st.bias += abs
 	}
-	for _, q := range st.rev[st.cnt[k]:st.cnt[k+1]] {
+	for j := st.cnt[k]; j < st.cnt[k+1]; j++ {
+		q := st.rev[j]
 		old := st.sk[q]
-		nw := old + ai
+		nw := old + ai*st.rel[j]
 		st.v += float64(st.c.mult[q]) * (nw*nw - old*old)
 		st.sk[q] = nw
 	}
@@ -347,13 +393,14 @@ func (st *dropState) frankWolfeLower(start []bool) float64 {
 		f += st.cc * root
 		// Gradient; at V = 0 the zero vector is a subgradient of the norm.
 		lb := f
-		for k, i := range st.cand {
+		for k := range st.cand {
 			lin := 0.0
 			if root > 0 {
-				for _, q := range st.rev[st.cnt[k]:st.cnt[k+1]] {
-					lin += float64(mult[q]) * s[q]
+				for j := st.cnt[k]; j < st.cnt[k+1]; j++ {
+					q := st.rev[j]
+					lin += float64(mult[q]) * s[q] * st.rel[j]
 				}
-				lin *= st.cc * st.a[i] / root
+				lin *= st.cc * st.fac[k] / root
 			}
 			g[k] = lin - absH[k]
 			if g[k] < 0 {
@@ -371,13 +418,13 @@ func (st *dropState) frankWolfeLower(start []bool) float64 {
 		// α + βγ + c sqrt(V + 2bγ + qγ²), convex; golden-section search.
 		clear(dq)
 		beta := 0.0
-		for k, i := range st.cand {
+		for k := range st.cand {
 			if d[k] == 0 {
 				continue
 			}
 			beta -= absH[k] * d[k]
-			for _, q := range st.rev[st.cnt[k]:st.cnt[k+1]] {
-				dq[q] += st.a[i] * d[k]
+			for j := st.cnt[k]; j < st.cnt[k+1]; j++ {
+				dq[st.rev[j]] += st.fac[k] * st.rel[j] * d[k]
 			}
 		}
 		bq, qq := 0.0, 0.0

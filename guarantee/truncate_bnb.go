@@ -69,10 +69,11 @@ func (b *bnb) bound(d int) (lb, gNext float64) {
 		g := 0.0
 		if root > 0 {
 			dot := 0.0
-			for _, q := range st.rev[st.cnt[k]:st.cnt[k+1]] {
-				dot += float64(st.c.mult[q]) * st.sk[q]
+			for p := st.cnt[k]; p < st.cnt[k+1]; p++ {
+				q := st.rev[p]
+				dot += float64(st.c.mult[q]) * st.sk[q] * st.rel[p]
 			}
-			g = st.cc * st.a[st.cand[k]] * dot / root
+			g = st.cc * st.fac[k] * dot / root
 			b.work += st.cnt[k+1] - st.cnt[k]
 		}
 		if j == d {

@@ -82,10 +82,7 @@ func TestOverlapGCWorkflow(t *testing.T) {
 		if got.Energy != res.Energy || got.StdErr != res.StdErr || math.Abs(got.Bound-cert.Bound) > 1e-12 {
 			t.Errorf("%s: estimate reports %v ± %v, bound %v; the split estimator %v ± %v, bound %v", name, got.Energy, got.StdErr, got.Bound, res.Energy, res.StdErr, cert.Bound)
 		}
-		out := ok(t, "certify", "-ham", ham, "-plan", plan)
-		if !strings.Contains(out, "certified bound ±") {
-			t.Errorf("certify: %s", out)
-		}
+		checkCertifySplit(t, ham, plan, h, f.Plan)
 		ok(t, "export", "-plan", plan, "-o", filepath.Join(dir, name+".qasm"))
 	}
 	// -proxy reaches the strategy: a basis-state proxy changes the split.

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -81,10 +82,45 @@ func TestOverlapWorkflow(t *testing.T) {
 		if form != got.DataForm || math.Abs(got.DataBound-data.Bound) > 1e-12*data.Bound || (form == "pooled" && got.DataBound != data.Bound) {
 			t.Errorf("%s: streamed data bound %v (%s), in memory %v (%s)", name, got.DataBound, got.DataForm, data.Bound, form)
 		}
-		out := ok(t, "certify", "-ham", ham, "-plan", plan)
-		if !strings.Contains(out, "certified bound ±") {
-			t.Errorf("certify: %s", out)
-		}
+		checkCertifySplit(t, ham, plan, h, f.Plan)
 		ok(t, "export", "-plan", plan, "-o", filepath.Join(dir, name+".qasm"))
+	}
+}
+
+// checkCertifySplit runs certify on a plan file with a coefficient split
+// and checks that it reports guarantee.CertifyPlan's bound with the split
+// and both truncations (the optimal one searched for the split too,
+// MATH.md §2.5), in text and JSON.
+func checkCertifySplit(t *testing.T, ham, plan string, h *hamiltonian.Hamiltonian, p *allocate.Plan) {
+	t.Helper()
+	cert, err := guarantee.CertifyPlan(h, p, 0.05, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Split == nil || cert.Variance == 0 {
+		t.Fatalf("%s: no split or nothing to certify", plan)
+	}
+	type trunc struct {
+		Dropped int     `json:"dropped"`
+		Bound   float64 `json:"bound"`
+	}
+	var got struct {
+		Bound     float64 `json:"certified_bound"`
+		Variance  float64 `json:"variance"`
+		Threshold trunc   `json:"truncation_threshold"`
+		Optimal   trunc   `json:"truncation_optimal"`
+	}
+	okJSON(t, &got, "certify", "-ham", ham, "-plan", plan)
+	if got.Bound != cert.Bound || got.Variance != cert.Variance ||
+		got.Threshold != (trunc{cert.Threshold.Dropped, cert.Threshold.Bound}) || got.Optimal != (trunc{cert.Optimal.Dropped, cert.Optimal.Bound}) {
+		t.Errorf("certify %s: bound %v, V %v, threshold %+v, optimal %+v; CertifyPlan with the split: %v, %v, {%d %v}, {%d %v}",
+			plan, got.Bound, got.Variance, got.Threshold, got.Optimal, cert.Bound, cert.Variance, cert.Threshold.Dropped, cert.Threshold.Bound, cert.Optimal.Dropped, cert.Optimal.Bound)
+	}
+	out := ok(t, "certify", "-ham", ham, "-plan", plan)
+	if want := fmt.Sprintf("optimal: drop %d terms, bound %.6g", cert.Optimal.Dropped, cert.Optimal.Bound); !strings.Contains(out, "certified bound ±") || !strings.Contains(out, want) || !strings.Contains(out, "coefficient split") {
+		t.Errorf("certify: want %q and the split named in\n%s", want, out)
+	}
+	if code, _, errOut := sp(t, "certify", "-ham", ham, "-plan", plan, "-readout", "0.01"); code == 0 || !strings.Contains(errOut, "splits coefficients") {
+		t.Errorf("certify -readout on a plan with a split: exit %d, stderr %q", code, errOut)
 	}
 }
