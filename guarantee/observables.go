@@ -152,7 +152,12 @@ func checkObservables(obs []Observable) (int, error) {
 // probability at least 1 − δ, and so do all data bounds. The plan may be
 // nil (no certificates) or the records (no estimates); not both. The plan
 // need not have been made for any one of the observables: terms it never
-// covers count in each bound's bias.
+// covers count in each bound's bias. A coefficient split of the plan
+// (Plan.Split) is not used: its weights belong to the terms of the
+// Hamiltonian the plan was made for, so every observable is certified and
+// estimated as the grouped estimate without a split, whose bounds hold for
+// any plan (to certify a plan's own Hamiltonian with its split, use
+// [CertifyPlan]).
 //
 // With AllOptions.Calibration every observable is readout-mitigated by the
 // same mitigation (MATH.md §2.1.1) and bounded as in [CalibratedBounds]:
