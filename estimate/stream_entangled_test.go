@@ -10,7 +10,6 @@ import (
 	"testing"
 
 	"github.com/google/go-cmp/cmp"
-	"github.com/google/go-cmp/cmp/cmpopts"
 
 	"github.com/shotplan/shotplan/allocate"
 	"github.com/shotplan/shotplan/estimate"
@@ -211,7 +210,7 @@ func TestStreamEntangledMatchesGrouped(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				if diff := cmp.Diff(want, got, bitExact, cmpopts.EquateNaNs()); diff != "" {
+				if diff := cmp.Diff(want, got, bitExact); diff != "" {
 					t.Errorf("%s: stream past the storage cap differs from Grouped (-Grouped +stream):\n%s", name, diff)
 				}
 			}()
