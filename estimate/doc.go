@@ -9,9 +9,9 @@
 // A local setting measures every qubit in X, Y or Z (see package pauli);
 // an entangled setting runs the Clifford circuit of a commuting family and
 // then measures every qubit in Z, and a term it covers is read as the sign
-// times the parity of the outcome on the term's Z-image. [Grouped],
-// [ImportanceSampling], the [Simulator] (which applies the circuit to the
-// amplitudes), the record files (an entangled setting is written as its
+// times the parity of the outcome on the term's Z-image. [Grouped], its
+// streamed form [Stream], [ImportanceSampling], the [Simulator] (which
+// applies the circuit to the amplitudes), the record files (an entangled setting is written as its
 // generators joined by '|', such as "XXII|ZZII|IIZZ") and [ExportQASM] (the
 // circuit's h, s, sdg, cx and cz gates before the measurement) handle both
 // kinds; the classical-shadow estimators, [EigenState] and the readout

@@ -3,7 +3,6 @@ package estimate_test
 import (
 	"math"
 	"math/rand/v2"
-	"strings"
 	"testing"
 
 	"github.com/shotplan/shotplan/allocate"
@@ -140,20 +139,4 @@ func randomSixQubit(t *testing.T, rng *rand.Rand) *hamiltonian.Hamiltonian {
 		t.Fatal(err)
 	}
 	return h
-}
-
-// TestStreamRefusesEntangledSplit checks that a Stream refuses a plan of
-// entangled settings with a split clearly (the command then reads the
-// records into memory for Grouped).
-func TestStreamRefusesEntangledSplit(t *testing.T) {
-	h := gcSplitHamiltonian(t)
-	p, err := allocate.Run(h, 100, &allocate.OverlapGC{}, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	settings, shots := p.Distinct()
-	_, err = estimate.NewStream(h, settings, shots, &estimate.Options{Split: p.Split})
-	if err == nil || !strings.Contains(err.Error(), "entangled") {
-		t.Errorf("NewStream on entangled settings: error %v, want one naming the entangled setting", err)
-	}
 }

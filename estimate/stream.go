@@ -26,15 +26,25 @@ import (
 // [guarantee.EmpiricalStream] computes the data bounds of [guarantee.Empirical]
 // from a Stream.
 //
+// Settings may be local or entangled ([pauli.NewFamilySetting]). A term
+// covered by an entangled setting is read as [Grouped] reads it: its
+// sample is the sign of its image under the setting's circuit times
+// (−1)^(parity of the outcome on the image's Z support) (MATH.md §8,
+// §4.10), and the result again equals Grouped's to the last bit, with or
+// without a coefficient split. Readout mitigation (Options.Readout) is
+// refused for entangled settings, as by Grouped.
+//
 // Shots of one setting are processed 64 at a time; the work per shot is
 // about two floating-point operations per term its setting covers, except
 // for outcomes of the setting met before: a shot's value depends only on
 // its setting and outcome, and a fixed-size cache (about 1 MB) keeps the
 // values of recent (setting, outcome) pairs. The
 // covered terms of every setting are kept (4 bytes a pair) up to 2^27
-// pairs; past that they are found again for every batch of 64 shots of a
-// setting, which costs time instead of memory. Only local settings are
-// accepted. A Stream serves one goroutine at a time.
+// pairs; past that those of local settings are found again for every
+// batch of 64 shots of a setting, which costs time instead of memory. An
+// entangled setting's covered terms are found once, through its circuit,
+// and always kept with their images (4 bytes a pair and 2 a qubit of an
+// image). A Stream serves one goroutine at a time.
 type Stream struct {
 	cfg  *config
 	sums *shotsum.Sums
@@ -55,9 +65,9 @@ type streamSplit struct{ a [][]float64 }
 // on the same shots, to the last bit; the stream then also counts each
 // setting's −1 samples per term (8 bytes a cover pair). It returns an
 // error for a nil Hamiltonian, lengths that disagree, a setting of the
-// wrong width or entangled, a negative count, invalid options, a split
-// that does not fit the plan, or a split on a plan of more cover pairs
-// than are stored (see the Stream's doc).
+// wrong width, a negative count, invalid options, a split that does not
+// fit the plan, a split on a plan of more cover pairs than are stored (see
+// the Stream's doc), or readout mitigation with an entangled setting.
 func NewStream(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int, opts *Options) (*Stream, error) {
 	if h == nil {
 		return nil, fmt.Errorf("estimate: Stream: nil Hamiltonian")
@@ -69,6 +79,15 @@ func NewStream(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int
 	s, err := shotsum.New(h, settings, shots)
 	if err != nil {
 		return nil, fmt.Errorf("estimate: Stream: %w", err)
+	}
+	if c.readoutBias != nil {
+		// The per-term factor of Options.Readout assumes local readout
+		// (MATH.md §8.1), as Grouped says.
+		for _, g := range s.Groups {
+			if !g.Setting.IsLocal() {
+				return nil, fmt.Errorf("estimate: %w: Stream: readout mitigation is not supported for entangled setting %s", ErrFormat, g.Setting)
+			}
+		}
 	}
 	coef := h.Coeffs()
 	a := make([]float64, h.Len())
@@ -184,7 +203,7 @@ func (s *Stream) resultSplit() *Result {
 		for a, i := range g.Kept {
 			ck := g.Coef[a]
 			v := 1.0
-			if sm.Odd(i, g.One) {
+			if sm.Odd(g, i, g.One) {
 				v = -1
 			}
 			if n := res.Cover[i]; n > 1 {
@@ -282,6 +301,7 @@ func (s *Stream) Result() (*Result, error) {
 		}
 		r := 0.0
 		_, kept, _ := sm.Lists(g)
+		local := g.Setting.IsLocal()
 		for _, i := range kept {
 			n := res.Cover[i]
 			if n < 2 {
@@ -292,9 +312,18 @@ func (s *Stream) Result() (*Result, error) {
 			if di == 0 {
 				continue
 			}
+			if !local {
+				// Grouped's form for an entangled setting: d_i·(s − raw_i).
+				s := 1.0
+				if sm.Odd(g, i, g.One) {
+					s = -1
+				}
+				r += di * (s - raw[i])
+				continue
+			}
 			base, step := di*(1-raw[i]), 2*di
 			odd := 0.0
-			if sm.Odd(i, g.One) {
+			if sm.Odd(g, i, g.One) {
 				odd = 1
 			}
 			r += base - step*odd

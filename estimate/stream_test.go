@@ -166,7 +166,8 @@ func TestStreamMatchesGrouped(t *testing.T) {
 }
 
 // TestStreamRefuses checks the errors: a setting outside the plan, too
-// many shots, too few, an outcome of the wrong width, entangled settings.
+// many shots, too few, an outcome of the wrong width, readout mitigation
+// with an entangled setting (which Grouped refuses too).
 func TestStreamRefuses(t *testing.T) {
 	c := newStreamCase(t, 8, 60, 5)
 	s, err := NewStream(c.h, c.settings, c.shots, nil)
@@ -200,8 +201,12 @@ func TestStreamRefuses(t *testing.T) {
 		t.Fatal(err)
 	}
 	h2, _ := hamiltonian.RandomLocal(2, 3, 2, 1)
-	if _, err := NewStream(h2, []pauli.Setting{fam}, []int{3}, nil); err == nil || !strings.Contains(err.Error(), "entangled") {
+	if _, err := NewStream(h2, []pauli.Setting{fam}, []int{3}, nil); err != nil {
 		t.Errorf("entangled setting: %v", err)
+	}
+	ro := &Options{Readout: []Readout{{P01: 0.01, P10: 0.01}, {P01: 0.01, P10: 0.01}}}
+	if _, err := NewStream(h2, []pauli.Setting{fam}, []int{3}, ro); err == nil || !strings.Contains(err.Error(), "entangled setting XX|ZZ") {
+		t.Errorf("readout mitigation with an entangled setting: %v", err)
 	}
 }
 

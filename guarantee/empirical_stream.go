@@ -15,6 +15,7 @@ import (
 // left out are the stream's (estimate.Options.Exclude), and so is the
 // coefficient split (estimate.Options.Split): the bound is then that of
 // Empirical with the same split; opts.Exclude and opts.Split must be nil.
+// Entangled settings are read through their circuits as by Empirical.
 //
 // It equals Empirical on the same shots to the last bit for the pooled and
 // per-group forms and for DataBound.ApproxRadius; the Residual form expands
@@ -155,7 +156,7 @@ func streamResiduals(sm *shotsum.Sums) residualStats {
 			for a, i := range kept {
 				if tcnt[i] > 1 {
 					v := -1.0
-					if !sm.Odd(i, g.One) {
+					if !sm.Odd(g, i, g.One) {
 						v = 1
 					}
 					r += coef[a] * (v - (tot[i]-v)/(tcnt[i]-1))

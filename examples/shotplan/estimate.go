@@ -3,7 +3,6 @@ package main
 import (
 	"flag"
 	"fmt"
-	"slices"
 	"strings"
 	"text/tabwriter"
 
@@ -49,10 +48,10 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 		if split != nil && (*observables != "" || ro != nil || *calibration != "") {
 			return badf("the plan splits coefficients between settings (-strategy overlap or overlap-gc); -observables, -readout and -calibration do not take such plans yet")
 		}
-		// Plain estimates of local plans, with or without a coefficient
-		// split, are streamed; the others read the records into memory.
-		local := !slices.ContainsFunc(settings, func(s pauli.Setting) bool { return !s.IsLocal() })
-		if *observables == "" && ro == nil && *calibration == "" && local {
+		// Plain estimates, of local or entangled settings, with or without
+		// a coefficient split, are streamed; the others read the records
+		// into memory.
+		if *observables == "" && ro == nil && *calibration == "" {
 			return e.estimateStream(records, h, f.Plan, settings, shots, *delta)
 		}
 		rec, err := readRecords(records, settings, h.Qubits())
@@ -89,8 +88,9 @@ func estimateFlags(fs *flag.FlagSet, e *env) func() error {
 	}
 }
 
-// estimateStream is the plain estimate (no mitigation, no observables),
-// with the plan's coefficient split if it has one: the records are
+// estimateStream is the plain estimate (no mitigation, no observables) of
+// a plan of local or entangled settings, with the plan's coefficient split
+// if it has one: the records are
 // streamed into an estimate.Stream, CSV sources line by line in memory
 // that does not grow with the number of shots; JSON sources are read
 // whole first.
@@ -232,9 +232,10 @@ func estimateHelp() string {
 	return `
 The records must hold exactly the plan's shots (any order). CSV records are
 read in one pass in memory that does not grow with the number of shots
-(MATH.md §4.10), also for plans that split coefficients (-strategy overlap);
-JSON records, and estimates with -readout, -calibration or -observables or
-of plans with entangled settings, are read whole. The energy is the
+(MATH.md §4.10), also for plans with entangled settings (-strategy
+sorted-gc, color-gc, greedy-gc) and plans that split coefficients
+(-strategy overlap, overlap-gc); JSON records, and estimates with -readout,
+-calibration or -observables, are read whole. The energy is the
 grouped estimate; std_error and approx_interval come from the data by the
 normal approximation and are NOT guarantees. certified_bound is the plan's
 certified bound and data_bound an empirical Bernstein bound from these shots, each at

@@ -4,10 +4,13 @@
 // Hamiltonian but not on the number of shots (MATH.md §4.10).
 //
 // Package estimate feeds it (estimate.Stream) and package guarantee reads
-// it (guarantee.EmpiricalStream). Every per-shot value is computed with the
-// same floating-point operations in the same order as the in-memory path,
-// so that the two agree to the last bit wherever the in-memory path is
-// itself a running sum.
+// it (guarantee.EmpiricalStream). Settings may be local or entangled
+// (pauli.NewFamilySetting): a term covered by an entangled setting is read
+// through its image under the setting's circuit, sign·(−1)^(parity of the
+// outcome on the image's Z support) (MATH.md §8, §4.10). Every per-shot
+// value is computed with the same floating-point operations in the same
+// order as the in-memory path, so that the two agree to the last bit
+// wherever the in-memory path is itself a running sum.
 package shotsum
 
 import (
@@ -43,8 +46,9 @@ type Group struct {
 	// processed) so far.
 	Planned, T int
 	// Rows are the covered terms in table order; Kept the ones with a
-	// non-zero weight and Coef their weights. They are nil when the plan
-	// covers more pairs than are stored: read them through Sums.Lists.
+	// non-zero weight and Coef their weights. For a local setting they are
+	// nil when the plan covers more pairs than are stored: read them
+	// through Sums.Lists. An entangled setting always keeps them.
 	Rows []int32
 	Kept []int32
 	Coef []float64
@@ -67,6 +71,16 @@ type Group struct {
 	// RowOnes[k] is the number of −1 samples of term Rows[k] in the
 	// group's shots, kept when CountRows was called (nil otherwise).
 	RowOnes []int64
+
+	// For an entangled setting, term Rows[k] is read through its image
+	// U P U† = ±Z' under the setting's circuit (MATH.md §8): its sample is
+	// −1 when the parity of the outcome on the qubits
+	// imgIdx[imgOff[k]:imgOff[k+1]] (the support of Z') differs from bit k
+	// of imgNeg (set for the sign −1). Nil for a local setting, whose terms
+	// read the parity on their own support.
+	imgOff []int32
+	imgIdx []uint16
+	imgNeg []uint64
 
 	pend  []uint64 // outcomes waiting for the next batch, W words each
 	npend int
@@ -130,7 +144,10 @@ type cacheEntry struct {
 
 // New returns the accumulator of the plan that measures settings[k] for
 // shots[k] shots (repeated settings merged, entries with zero shots
-// ignored). It refuses entangled settings and settings of the wrong width,
+// ignored). Local and entangled settings are both taken; an entangled
+// setting's covered terms and their images under its circuit are found
+// here, once, and kept whatever MaxStored says (4 bytes a pair, 2 a qubit
+// of an image). It refuses settings of the wrong width and negative counts,
 // naming the setting.
 func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Sums, error) {
 	if h == nil {
@@ -149,9 +166,6 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 	for k, s := range settings {
 		if s.Qubits() != n {
 			return nil, fmt.Errorf("setting %d (%s) has %d qubits, Hamiltonian has %d", k, s, s.Qubits(), n)
-		}
-		if !s.IsLocal() {
-			return nil, fmt.Errorf("setting %d (%s) is entangled: a stream takes local settings only", k, s)
 		}
 		if shots[k] < 0 {
 			return nil, fmt.Errorf("setting %d (%s) has negative shot count %d", k, s, shots[k])
@@ -184,23 +198,36 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 	total := 0
 	var rows []int32
 	for q, st := range distinct {
-		x, z := st.Words()
-		rows = s.ci.AppendCovered(rows[:0], x, z)
+		g := &Group{Setting: st, Planned: mult[q]}
+		if st.IsLocal() {
+			x, z := st.Words()
+			rows = s.ci.AppendCovered(rows[:0], x, z)
+		} else {
+			var err error
+			if rows, err = g.images(rows[:0], tab); err != nil {
+				return nil, err
+			}
+		}
 		for _, i := range rows {
 			s.Cover[i] += mult[q]
 		}
-		// Past the cap the lists are found again when needed (a scan per
-		// batch of shots): time instead of memory.
+		// Past the cap the lists of local settings are found again when
+		// needed (a scan per batch of shots): time instead of memory.
 		if total += len(rows); total > MaxStored && s.stored {
 			s.stored = false
 			for _, g := range s.Groups {
-				g.Rows = nil
+				if g.Setting.IsLocal() {
+					g.Rows = nil
+				}
 			}
 		}
-		g := &Group{Setting: st, Planned: mult[q]}
-		if s.stored {
+		if s.stored || !st.IsLocal() {
+			// An entangled setting's rows are in table order already, and
+			// its images follow that order.
 			g.Rows = slices.Clone(rows)
-			slices.Sort(g.Rows)
+			if st.IsLocal() {
+				slices.Sort(g.Rows)
+			}
 		}
 		s.Groups = append(s.Groups, g)
 		s.index[string(appendKey(nil, st))] = int32(q)
@@ -208,9 +235,49 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 	return s, nil
 }
 
-// appendKey appends the words of local setting st, a map key among
-// settings of one width that a lookup can build without allocating.
+// images appends to rows the terms that g's entangled setting covers, in
+// table order ([pauli.Table.Covered]), and keeps the image of each under
+// the setting's circuit ([pauli.Setting.Diagonal]) as the qubits of its
+// Z support and its sign.
+func (g *Group) images(rows []int32, tab *pauli.Table) ([]int32, error) {
+	st := g.Setting
+	cov := tab.Covered(nil, st)
+	g.imgOff = make([]int32, 1, len(cov)+1)
+	g.imgNeg = make([]uint64, (len(cov)+63)/64)
+	for k, i := range cov {
+		if k > 0 && i <= cov[k-1] {
+			return nil, fmt.Errorf("setting %s: covered terms not in table order", st)
+		}
+		z, sign, ok := st.Diagonal(tab.At(i))
+		if !ok {
+			return nil, fmt.Errorf("setting %s: term %d is listed as covered but has no Z image", st, i)
+		}
+		_, zw := z.Words()
+		for w, v := range zw {
+			for ; v != 0; v &= v - 1 {
+				g.imgIdx = append(g.imgIdx, uint16(w<<6+bits.TrailingZeros64(v)))
+			}
+		}
+		if len(g.imgIdx) > math.MaxInt32 {
+			return nil, fmt.Errorf("setting %s: the images of its %d terms are more than a stream handles", st, len(cov))
+		}
+		g.imgOff = append(g.imgOff, int32(len(g.imgIdx)))
+		if sign < 0 {
+			g.imgNeg[k>>6] |= 1 << (k & 63)
+		}
+		rows = append(rows, int32(i))
+	}
+	return rows, nil
+}
+
+// appendKey appends a map key of setting st among settings of one width
+// that a lookup can build without allocating: the words of a local
+// setting, [pauli.Setting.Key] of an entangled one (whose length differs
+// from every local key's).
 func appendKey(dst []byte, st pauli.Setting) []byte {
+	if !st.IsLocal() {
+		return append(dst, st.Key()...)
+	}
 	x, z := st.Words()
 	for _, v := range x {
 		dst = binary.LittleEndian.AppendUint64(dst, v)
@@ -233,7 +300,7 @@ func (s *Sums) SetWeights(a []float64) {
 		for _, c := range coef {
 			g.Half += math.Abs(c)
 		}
-		if s.stored {
+		if s.stored || !g.Setting.IsLocal() {
 			g.Kept, g.Coef = slices.Clone(kept), slices.Clone(coef)
 		}
 	}
@@ -241,7 +308,8 @@ func (s *Sums) SetWeights(a []float64) {
 }
 
 // Stored reports whether the groups keep their covered terms (Rows, Kept,
-// Coef); past MaxStored cover pairs they are found again when needed.
+// Coef); past MaxStored cover pairs those of local settings are found again
+// when needed (entangled settings keep theirs).
 func (s *Sums) Stored() bool { return s.stored }
 
 // SetGroupWeights sets group g's own weights, after SetWeights and before
@@ -279,10 +347,11 @@ func (s *Sums) CountRows() {
 // weight and their weights: g's own lists when they are stored, else
 // lists found again through the cover index, valid until the next call.
 func (s *Sums) Lists(g *Group) (rows, kept []int32, coef []float64) {
-	if s.stored && s.weighted {
+	own := s.stored || !g.Setting.IsLocal()
+	if own && s.weighted {
 		return g.Rows, g.Kept, g.Coef
 	}
-	if s.stored {
+	if own {
 		rows = g.Rows
 	} else {
 		x, z := g.Setting.Words()
@@ -365,14 +434,20 @@ func (s *Sums) checkBits(b pauli.Bits) error {
 
 // lookup returns the group of st. Readers pass the same setting values
 // again and again, so a small cache keyed by the address of the setting's
-// words answers most lookups with one comparison of the words; the others
-// go through the map.
+// words (of an entangled setting: of its key) answers most lookups with one
+// comparison of the words; the others go through the map.
 func (s *Sums) lookup(st pauli.Setting) (int32, bool) {
-	if st.Qubits() != s.Qubits || !st.IsLocal() {
+	if st.Qubits() != s.Qubits {
 		return 0, false
 	}
-	x, _ := st.Words()
-	p := uintptr(unsafe.Pointer(unsafe.SliceData(x)))
+	var p uintptr
+	if st.IsLocal() {
+		x, _ := st.Words()
+		p = uintptr(unsafe.Pointer(unsafe.SliceData(x)))
+	} else {
+		// An entangled setting's key is shared by the copies of the value.
+		p = uintptr(unsafe.Pointer(unsafe.StringData(st.Key())))
+	}
 	e := &s.cache[(p>>4^p>>12)%uintptr(len(s.cache))]
 	if e.p == p && s.Groups[e.g].Setting.Equal(st) {
 		return e.g, true
@@ -396,10 +471,13 @@ func (s *Sums) Flush() {
 }
 
 // flush processes the pending shots of group gi (g): counts of −1 samples
-// per term and fold, then every shot's Z in order. A shot's Z depends only
-// on its setting and outcome, so the Z of outcomes met before are taken
-// from a fixed-size cache (zCache) instead of summed again: the same
-// value, computed by the same operations in the same order.
+// per term and fold, then every shot's Z in order. A term's 64 parities
+// are the XOR of the bit-sliced outcomes over its support qubits, or for
+// an entangled setting over the qubits of its image, complemented for the
+// sign −1. A shot's Z depends only on its setting and outcome, so the Z of
+// outcomes met before are taken from a fixed-size cache (zCache) instead
+// of summed again: the same value, computed by the same operations in the
+// same order.
 func (s *Sums) flush(gi int32, g *Group) {
 	nb := g.npend
 	w := s.W
@@ -455,9 +533,17 @@ func (s *Sums) flush(gi int32, g *Group) {
 		clear(z)
 	}
 	kept := 0
+	local := g.imgOff == nil
 	for r, i := range rows {
+		var qs []uint16
 		p := uint64(0)
-		for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
+		if local {
+			qs = s.qIdx[s.qOff[i]:s.qOff[i+1]]
+		} else {
+			qs = g.imgIdx[g.imgOff[r]:g.imgOff[r+1]]
+			p = -(g.imgNeg[r>>6] >> (r & 63) & 1)
+		}
+		for _, q := range qs {
 			p ^= s.slice[q]
 		}
 		p &= valid
@@ -599,10 +685,22 @@ func (s *Sums) Check() error {
 	return nil
 }
 
-// Odd reports whether outcome b has odd parity on term i's support.
-func (s *Sums) Odd(i int32, b pauli.Bits) bool {
-	p := uint64(0)
-	for _, q := range s.qIdx[s.qOff[i]:s.qOff[i+1]] {
+// Odd reports whether outcome b of group g's setting gives term i, which
+// the setting covers, the sample −1: b has odd parity on the term's
+// support, or for an entangled setting the parity on the support of the
+// term's image differs from the image's sign bit (MATH.md §8). It panics
+// if an entangled setting does not cover term i.
+func (s *Sums) Odd(g *Group, i int32, b pauli.Bits) bool {
+	qs, p := s.qIdx[s.qOff[i]:s.qOff[i+1]], uint64(0)
+	if g.imgOff != nil {
+		r, ok := slices.BinarySearch(g.Rows, i)
+		if !ok {
+			panic("shotsum: Odd: the entangled setting does not cover the term")
+		}
+		qs = g.imgIdx[g.imgOff[r]:g.imgOff[r+1]]
+		p = g.imgNeg[r>>6] >> (r & 63)
+	}
+	for _, q := range qs {
 		p ^= b[q>>6] >> (q & 63)
 	}
 	return p&1 == 1
