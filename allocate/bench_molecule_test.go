@@ -47,6 +47,9 @@ func benchMoleculePlan(b *testing.B, mk func() allocate.Allocator, settings int,
 	if len(orbitals) == 0 {
 		orbitals = benchMoleculeOrbitals
 	}
+	if testing.Short() {
+		orbitals, settings = benchMoleculeOrbitals[:1], smoke(settings, 10)
+	}
 	for _, o := range orbitals {
 		b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/settings=%d", 2*o, benchmol.Terms(o), settings), func(b *testing.B) {
 			h := moleculeFixture(b, o)

@@ -20,6 +20,7 @@ type benchSize struct{ qubits, terms, settings int }
 // seeded random Hamiltonian, built before the timed loop.
 func benchPlan(b *testing.B, mk func() allocate.Allocator, sizes ...benchSize) {
 	for _, sz := range sizes {
+		sz.terms, sz.settings = smoke(sz.terms, 100), smoke(sz.settings, 10)
 		b.Run(fmt.Sprintf("qubits=%d/terms=%d/settings=%d", sz.qubits, sz.terms, sz.settings), func(b *testing.B) {
 			h, err := hamiltonian.RandomLocal(sz.qubits, sz.terms, benchLocality, 1)
 			if err != nil {
@@ -44,6 +45,18 @@ var (
 
 // benchSettings is the budget of the molecular rows of every strategy.
 const benchSettings = 10_000
+
+// smoke returns n, or under -short n/100 but at least least: with -short,
+// `go test -short -run '^$' -bench . -benchtime 1x ./...` runs every
+// benchmark once on small sizes (the molecular ones on the 14 250-term
+// fixture only), as CI does, so that a benchmark that no longer runs is
+// caught. The measured sizes are those without -short.
+func smoke(n, least int) int {
+	if testing.Short() {
+		return max(n/100, least)
+	}
+	return n
+}
 
 func BenchmarkGreedy(b *testing.B) {
 	mk := func() allocate.Allocator { return &allocate.Greedy{} }

@@ -23,7 +23,7 @@ import (
 //
 //	go test -run '^$' -bench PlanFile1e8 -benchtime 1x ./allocate
 func BenchmarkPlanFile1e8(b *testing.B) {
-	const shots = 100_000_000
+	shots := smoke(100_000_000, 1)
 	h := scenario.Ladder()
 	n := h.Qubits()
 	for _, name := range allocate.Names() {

@@ -31,8 +31,11 @@ func moleculePlan(b *testing.B, orbitals int, strategy string, shots int) (*hami
 // outcomes would help; here they rarely repeat). Plans and records are made
 // outside the timing.
 func BenchmarkGroupedMolecule(b *testing.B) {
-	const shots = 100_000
-	for _, o := range benchmol.Orbitals {
+	shots, orbitals := smoke(100_000, 1000), benchmol.Orbitals
+	if testing.Short() {
+		orbitals = orbitals[:1]
+	}
+	for _, o := range orbitals {
 		for _, strategy := range []string{"sorted", "random"} {
 			name := fmt.Sprintf("molecule/qubits=%d/terms=%d/plan=%s/shots=%d", 2*o, benchmol.Terms(o), strategy, shots)
 			var (
@@ -105,7 +108,8 @@ func BenchmarkGroupedMolecule(b *testing.B) {
 // vector (2^50 amplitudes; HartreeFockState refuses more than
 // hamiltonian.MaxExactQubits qubits).
 func BenchmarkSimulatorMolecule(b *testing.B) {
-	const shots, orbitals = 100_000, 10
+	const orbitals = 10
+	shots := smoke(100_000, 1000)
 	for _, strategy := range []string{"sorted", "random", "sorted-gc"} {
 		b.Run(fmt.Sprintf("molecule/qubits=%d/terms=%d/plan=%s/shots=%d", 2*orbitals, benchmol.Terms(orbitals), strategy, shots), func(b *testing.B) {
 			h, p := moleculePlan(b, orbitals, strategy, shots)

@@ -32,6 +32,18 @@ func benchRecords(n, shots, distinct int, seed uint64) *Records {
 	return rec
 }
 
+// smoke returns n, or under -short n/100 but at least least: with -short,
+// `go test -short -run '^$' -bench . -benchtime 1x ./...` runs every
+// benchmark once on small sizes (the molecular ones on the 14 250-term
+// fixture only), as CI does, so that a benchmark that no longer runs is
+// caught. The measured sizes are those without -short.
+func smoke(n, least int) int {
+	if testing.Short() {
+		return max(n/100, least)
+	}
+	return n
+}
+
 // BenchmarkGrouped estimates from 10^5 shots of a 50-qubit Hamiltonian of
 // 10^5 random terms of weight 1 to 4, with the shots spread over 10^3
 // settings (a grouped plan) or 10^5 (one shot each, as random plans give).
@@ -41,6 +53,7 @@ func BenchmarkGrouped(b *testing.B) {
 		{50, 100000, 100000, 100000},
 		{50, 100000, 10000, 10000},
 	} {
+		c.terms, c.shots, c.settings = smoke(c.terms, 100), smoke(c.shots, 100), smoke(c.settings, 10)
 		h, err := hamiltonian.RandomLocal(c.n, c.terms, 4, 1)
 		if err != nil {
 			b.Fatal(err)
@@ -62,12 +75,13 @@ func BenchmarkGrouped(b *testing.B) {
 // BenchmarkUniformShadow is the shadow estimate on the one-shot-a-setting
 // records of BenchmarkGrouped.
 func BenchmarkUniformShadow(b *testing.B) {
-	h, err := hamiltonian.RandomLocal(50, 100000, 4, 1)
+	terms, shots := smoke(100000, 100), smoke(100000, 100)
+	h, err := hamiltonian.RandomLocal(50, terms, 4, 1)
 	if err != nil {
 		b.Fatal(err)
 	}
-	rec := benchRecords(50, 100000, 100000, 2)
-	b.Run("qubits=50/terms=100000/shots=100000/settings=100000", func(b *testing.B) {
+	rec := benchRecords(50, shots, shots, 2)
+	b.Run(fmt.Sprintf("qubits=50/terms=%d/shots=%d/settings=%d", terms, shots, shots), func(b *testing.B) {
 		b.ReportAllocs()
 		start := cputime.Now()
 		for b.Loop() {

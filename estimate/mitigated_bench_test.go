@@ -19,6 +19,7 @@ func BenchmarkMitigated(b *testing.B) {
 		{50, 100000, 100000, 100000, 0},
 		{50, 100000, 100000, 1000, 25},
 	} {
+		c.terms, c.shots, c.settings = smoke(c.terms, 100), smoke(c.shots, 100), smoke(c.settings, 10)
 		h, err := hamiltonian.RandomLocal(c.n, c.terms, 4, 1)
 		if err != nil {
 			b.Fatal(err)

@@ -110,7 +110,12 @@ func BenchmarkCertifyGreedy(b *testing.B) {
 // uniformly, of a random 4-local Hamiltonian of 10^5 terms on 50 qubits,
 // with random outcomes. Peak memory: run under /usr/bin/time -v.
 func BenchmarkEmpiricalLarge(b *testing.B) {
-	const n, terms, shots = 50, 100_000, 100_000
+	const n = 50
+	terms, shots := 100_000, 100_000
+	if testing.Short() {
+		// A smoke run (see BenchmarkCertifyMolecule): small sizes.
+		terms, shots = 1000, 1000
+	}
 	h, err := hamiltonian.RandomLocal(n, terms, 4, 1)
 	if err != nil {
 		b.Fatal(err)

@@ -27,11 +27,22 @@ func randomIntegrals(tb testing.TB, orbitals int, seed uint64) *molecule.Integra
 
 var benchOrbitals = benchmol.Orbitals
 
+// benchSizes returns benchOrbitals, or under -short only the smallest: with
+// -short, `go test -short -run '^$' -bench . -benchtime 1x` runs every
+// benchmark once on small sizes, as CI does, so that a benchmark that no
+// longer runs is caught.
+func benchSizes() []int {
+	if testing.Short() {
+		return benchOrbitals[:1]
+	}
+	return benchOrbitals
+}
+
 // BenchmarkQubitHamiltonian maps the electronic Hamiltonian of random
 // integrals, built beforehand as a fermion operator (about 1.5·10^6
 // two-electron products at 50 spin orbitals), to a qubit Hamiltonian.
 func BenchmarkQubitHamiltonian(b *testing.B) {
-	for _, orbitals := range benchOrbitals {
+	for _, orbitals := range benchSizes() {
 		o := randomIntegrals(b, orbitals, 1).FermionOperator(fermion.Interleaved)
 		for _, enc := range []fermion.Encoding{fermion.JordanWigner, fermion.BravyiKitaev, fermion.Parity} {
 			b.Run(fmt.Sprintf("modes=%d/products=%d/enc=%s", 2*orbitals, o.Len(), enc), func(b *testing.B) {
@@ -52,7 +63,7 @@ func BenchmarkQubitHamiltonian(b *testing.B) {
 
 // BenchmarkFermionOperator builds the fermion operator from the integrals.
 func BenchmarkFermionOperator(b *testing.B) {
-	for _, orbitals := range benchOrbitals {
+	for _, orbitals := range benchSizes() {
 		g := randomIntegrals(b, orbitals, 1)
 		b.Run(fmt.Sprintf("modes=%d", 2*orbitals), func(b *testing.B) {
 			b.ReportAllocs()
@@ -66,7 +77,7 @@ func BenchmarkFermionOperator(b *testing.B) {
 // BenchmarkReadFCIDUMP parses the FCIDUMP text of random integrals, written
 // beforehand by WriteFCIDUMP.
 func BenchmarkReadFCIDUMP(b *testing.B) {
-	for _, orbitals := range benchOrbitals {
+	for _, orbitals := range benchSizes() {
 		var buf bytes.Buffer
 		if err := molecule.WriteFCIDUMP(&buf, randomIntegrals(b, orbitals, 1)); err != nil {
 			b.Fatal(err)
@@ -88,7 +99,7 @@ func BenchmarkReadFCIDUMP(b *testing.B) {
 // orbitals, 24 qubits, 853 776 determinants; integrals from psi4) and seeded
 // random integrals on 10 and 12 orbitals (20 and 24 qubits, half filling),
 // whose off-diagonal elements are as large as the diagonal ones, the slow
-// case for the diagonal preconditioner.
+// case for the diagonal preconditioner. Under -short (see benchSizes) only random10.
 func BenchmarkSectorGroundState(b *testing.B) {
 	h12, err := molecule.ReadFCIDUMPFile("testdata/h12_sto3g_1.0A.fcidump")
 	if err != nil {
@@ -102,6 +113,9 @@ func BenchmarkSectorGroundState(b *testing.B) {
 		{"h12", func() *molecule.Integrals { return h12 }, 12},
 		{"random10", func() *molecule.Integrals { return randomIntegrals(b, 10, 1) }, 10},
 		{"random12", func() *molecule.Integrals { return randomIntegrals(b, 12, 1) }, 12},
+	}
+	if testing.Short() {
+		cases = cases[1:2] // the 20-qubit random case only
 	}
 	for _, c := range cases {
 		g := c.g()
