@@ -85,21 +85,21 @@ func WriteFCIDUMPFile(path string, g *Integrals) error {
 func (g *Integrals) checkHeader() error {
 	n := g.norb
 	if g.Electrons < 0 || g.Electrons > 2*n {
-		return fmt.Errorf("Electrons = %d, want 0 to %d (twice the orbitals)", g.Electrons, 2*n)
+		return fmt.Errorf("the electron count (Electrons) is %d, want 0 to %d (twice the orbitals)", g.Electrons, 2*n)
 	}
 	alpha, beta := (g.Electrons+g.SpinTwice)/2, (g.Electrons-g.SpinTwice)/2
 	if (g.Electrons+g.SpinTwice)%2 != 0 || alpha < 0 || beta < 0 || alpha > n || beta > n {
-		return fmt.Errorf("SpinTwice = %d with %d electrons: want the same parity and at most %d α and β electrons each", g.SpinTwice, g.Electrons, n)
+		return fmt.Errorf("2S_z (SpinTwice) is %d with %d electrons: want the same parity and at most %d α and β electrons each", g.SpinTwice, g.Electrons, n)
 	}
 	if g.ISym < 0 || g.ISym > 8 {
-		return fmt.Errorf("ISym = %d, want an irrep label 1 to 8 (or 0, unset)", g.ISym)
+		return fmt.Errorf("the target irrep (ISym) is %d, want a label 1 to 8 (or 0, unset)", g.ISym)
 	}
 	if g.OrbSym != nil && len(g.OrbSym) != n {
-		return fmt.Errorf("OrbSym has %d labels for %d orbitals", len(g.OrbSym), n)
+		return fmt.Errorf("the orbital irreps (OrbSym) are %d labels for %d orbitals", len(g.OrbSym), n)
 	}
 	for p, s := range g.OrbSym {
 		if s < 1 || s > 8 {
-			return fmt.Errorf("OrbSym[%d] = %d, want an irrep label 1 to 8", p, s)
+			return fmt.Errorf("the irrep of orbital %d (OrbSym) is %d, want a label 1 to 8", p, s)
 		}
 	}
 	return nil
