@@ -241,6 +241,9 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 // Z support and its sign.
 func (g *Group) images(rows []int32, tab *pauli.Table) ([]int32, error) {
 	st := g.Setting
+	if tab.Qubits() > math.MaxUint16+1 {
+		return nil, fmt.Errorf("setting %s: %d qubits, more than the %d an entangled setting's images are kept for", st, tab.Qubits(), math.MaxUint16+1)
+	}
 	cov := tab.Covered(nil, st)
 	g.imgOff = make([]int32, 1, len(cov)+1)
 	g.imgNeg = make([]uint64, (len(cov)+63)/64)
