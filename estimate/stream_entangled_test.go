@@ -168,24 +168,29 @@ func TestStreamEntangledMatchesGrouped(t *testing.T) {
 				}
 				return st
 			}
-			st := stream()
-			for _, sh := range all {
-				if err := st.Add(sh.Setting, sh.Outcome); err != nil {
+			// feed adds every shot to st, one by one, and returns the result.
+			feed := func(st *estimate.Stream) *estimate.Result {
+				t.Helper()
+				for _, sh := range all {
+					if err := st.Add(sh.Setting, sh.Outcome); err != nil {
+						t.Fatal(err)
+					}
+				}
+				got, err := st.Result()
+				if err != nil {
 					t.Fatal(err)
 				}
+				return got
 			}
-			got, err := st.Result()
-			if err != nil {
-				t.Fatal(err)
-			}
-			if diff := cmp.Diff(want, got, bitExact); diff != "" {
+			if diff := cmp.Diff(want, feed(stream()), bitExact); diff != "" {
 				t.Errorf("%s: stream differs from Grouped (-Grouped +stream):\n%s", name, diff)
 			}
-			st = stream()
+			st := stream()
 			if _, err := st.AddCSV(strings.NewReader(csv.String()), nil, nil); err != nil {
 				t.Fatal(err)
 			}
-			if got, err = st.Result(); err != nil {
+			got, err := st.Result()
+			if err != nil {
 				t.Fatal(err)
 			}
 			if diff := cmp.Diff(want, got, bitExact); diff != "" {
@@ -201,16 +206,7 @@ func TestStreamEntangledMatchesGrouped(t *testing.T) {
 				if st.Sums().Stored() {
 					t.Fatalf("%s: lists stored past the cap", name)
 				}
-				for _, sh := range all {
-					if err := st.Add(sh.Setting, sh.Outcome); err != nil {
-						t.Fatal(err)
-					}
-				}
-				got, err := st.Result()
-				if err != nil {
-					t.Fatal(err)
-				}
-				if diff := cmp.Diff(want, got, bitExact); diff != "" {
+				if diff := cmp.Diff(want, feed(st), bitExact); diff != "" {
 					t.Errorf("%s: stream past the storage cap differs from Grouped (-Grouped +stream):\n%s", name, diff)
 				}
 			}()
