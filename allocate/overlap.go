@@ -273,21 +273,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		one.alpha = append(one.alpha, bl.alpha...)
 	}
 	md.blocks = []overlapBlock{one}
-	md.gpair = make([][]int32, len(settings))
-	md.pos = make([]int32, len(one.grp))
-	members := make([][]int, len(settings)) // the terms of group g, in table order
-	for g, k := range count {
-		md.gpair[g] = make([]int32, 0, k)
-		members[g] = make([]int, 0, k)
-	}
-	for i := range len(one.off) - 1 {
-		for e := one.off[i]; e < one.off[i+1]; e++ {
-			g := one.grp[e]
-			md.pos[e] = int32(len(md.gpair[g]))
-			md.gpair[g] = append(md.gpair[g], e)
-			members[g] = append(members[g], i)
-		}
-	}
+	members := md.indexPairs(len(settings)) // the terms of group g, in table order
 	// ⟨P_i P_j⟩ for two strings a local setting covers: they agree where
 	// both act, so the product has the phase +1 and the words x_i ⊕ x_j,
 	// z_i ⊕ z_j (MATH.md §2.5). A StateProxy gives every expectation of a
@@ -295,14 +281,8 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	// probabilities, F[m] = ⟨P⟩ for the covered string P of support m
 	// (MATH.md §2.3); another proxy is asked string by string, the
 	// products cached by their words.
-	n, w := h.Qubits(), pauli.Words(h.Qubits())
-	expect := func(p pauli.String) (float64, error) {
-		e := px.Expect(p)
-		if !(math.Abs(e) <= 1+1e-9) {
-			return 0, fmt.Errorf("the proxy gives ⟨%s⟩ = %v, outside [−1, 1]", inputcap.Clip(p.String()), e)
-		}
-		return e, nil
-	}
+	w := pauli.Words(h.Qubits())
+	ex := newProxyExpect(px, h.Qubits())
 	sp, fast := px.(*StateProxy)
 	var born *bornTransform
 	var mean []float64
@@ -312,7 +292,7 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 		mean = make([]float64, h.Len())
 		for i := range mean {
 			if one.off[i+1] > one.off[i] {
-				e, err := expect(h.Pauli(i))
+				e, err := ex.of(tab.Words(i))
 				if err != nil {
 					return nil, err
 				}
@@ -320,8 +300,6 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 			}
 		}
 	}
-	cache := make(map[string]float64)
-	key := make([]byte, 16*w)
 	px2, pz2 := make([]uint64, w), make([]uint64, w)
 	coef := h.Coeffs()
 	md.cov = make([][]float64, len(settings))
@@ -355,16 +333,10 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 				} else {
 					for t := range w {
 						px2[t], pz2[t] = xi[t]^xj[t], zi[t]^zj[t]
-						binary.LittleEndian.PutUint64(key[16*t:], px2[t])
-						binary.LittleEndian.PutUint64(key[16*t+8:], pz2[t])
 					}
-					var ok bool
-					if e, ok = cache[string(key)]; !ok {
-						var err error
-						if e, err = expect(pauli.FromWords(n, px2, pz2)); err != nil {
-							return nil, err
-						}
-						cache[string(key)] = e
+					var err error
+					if e, err = ex.of(px2, pz2); err != nil {
+						return nil, err
 					}
 				}
 				v := (1 - floor) * coef[i] * coef[j] * (e - gm[r]*gm[c])
@@ -376,6 +348,66 @@ func newSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, home []
 	}
 	md.refresh()
 	return md, nil
+}
+
+// indexPairs sets gpair and pos from the one block of the proxy's model
+// (every pair, term-major) for the given number of groups, and returns the
+// terms of every group in table order.
+func (md *splitModel) indexPairs(groups int) [][]int {
+	one := md.blocks[0]
+	count := make([]int, groups)
+	for _, g := range one.grp {
+		count[g]++
+	}
+	md.gpair = make([][]int32, groups)
+	md.pos = make([]int32, len(one.grp))
+	members := make([][]int, groups)
+	for g, k := range count {
+		md.gpair[g] = make([]int32, 0, k)
+		members[g] = make([]int, 0, k)
+	}
+	for t := range len(one.off) - 1 {
+		for e := one.off[t]; e < one.off[t+1]; e++ {
+			g := one.grp[e]
+			md.pos[e] = int32(len(md.gpair[g]))
+			md.gpair[g] = append(md.gpair[g], e)
+			members[g] = append(members[g], one.lo+t)
+		}
+	}
+	return members
+}
+
+// proxyExpect asks a proxy for expectations ⟨P⟩ of strings given by their
+// words, each string once (the answers cached by the words), and refuses an
+// answer outside [−1, 1]. Both overlap models use it.
+type proxyExpect struct {
+	px    Proxy
+	n     int
+	cache map[string]float64
+	key   []byte
+}
+
+func newProxyExpect(px Proxy, n int) *proxyExpect {
+	return &proxyExpect{px: px, n: n, cache: make(map[string]float64), key: make([]byte, 16*pauli.Words(n))}
+}
+
+// of returns ⟨P⟩ for the string with words x, z; a string is built only
+// when the cache misses.
+func (c *proxyExpect) of(x, z []uint64) (float64, error) {
+	for t := range x {
+		binary.LittleEndian.PutUint64(c.key[16*t:], x[t])
+		binary.LittleEndian.PutUint64(c.key[16*t+8:], z[t])
+	}
+	if v, ok := c.cache[string(c.key)]; ok {
+		return v, nil
+	}
+	p := pauli.FromWords(c.n, x, z)
+	v := c.px.Expect(p)
+	if !(math.Abs(v) <= 1+1e-9) {
+		return 0, fmt.Errorf("the proxy gives ⟨%s⟩ = %v, outside [−1, 1]", inputcap.Clip(p.String()), v)
+	}
+	c.cache[string(c.key)] = v
+	return v, nil
 }
 
 // groups returns the number of groups.
@@ -499,14 +531,14 @@ func restrictTerm(alpha []float64, grp []int32, f []float64) {
 
 // optimise alternates shares and weights (MATH.md §2.5) for at most
 // rounds rounds and returns the fractions f_g. In the worst-case model it
-// returns the shares of sorted insertion's partition and leaves the
-// weights there: at the optimal shares every split has the same objective,
+// returns the shares of the starting partition and leaves the weights
+// there: at the optimal shares every split has the same objective,
 // (Σ_i |h_i|)², and is already a minimiser of the weight step (MATH.md
 // §2.5), so the alternation has nothing to gain.
 func (md *splitModel) optimise(rounds int) []float64 {
 	f := make([]float64, md.groups())
 	prev := md.shares(f)
-	if md.home != nil {
+	if md.cov == nil {
 		return f
 	}
 	for range rounds {

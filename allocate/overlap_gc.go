@@ -1,7 +1,6 @@
 package allocate
 
 import (
-	"encoding/binary"
 	"fmt"
 	"math"
 	"slices"
@@ -9,7 +8,6 @@ import (
 	"strings"
 
 	"github.com/shotplan/shotplan/hamiltonian"
-	"github.com/shotplan/shotplan/internal/inputcap"
 	"github.com/shotplan/shotplan/pauli"
 )
 
@@ -112,32 +110,14 @@ func (o *OverlapGC) Init(h *hamiltonian.Hamiltonian, budget int) error {
 	if err != nil {
 		return fmt.Errorf("%s: %w", name, err)
 	}
-	f := make([]float64, len(settings))
-	prev := md.shares(f)
-	// In the worst-case model the alternation has nothing to gain before
-	// the rounding, as in Overlap (MATH.md §2.5).
-	for r := 0; r < rounds && o.Proxy != nil; r++ {
-		md.sweep(f)
-		j := md.shares(f)
-		if !(prev-j > 1e-10*prev) {
-			break
-		}
-		prev = j
-	}
+	// The alternation, skipped in the worst-case model (MATH.md §2.5), the
+	// rounding, and the weights for the rounded counts, as in Overlap.
+	f := md.optimise(rounds)
 	shots := roundShares(budget, f)
 	for g, k := range shots {
 		f[g] = float64(k) / float64(max(budget, 1))
 	}
-	md.restrict(f)
-	prev = md.objective(f)
-	for range rounds {
-		md.sweep(f)
-		j := md.objective(f)
-		if !(prev-j > 1e-10*prev) {
-			break
-		}
-		prev = j
-	}
+	md.optimiseSplit(f, rounds)
 	o.reset(name, shots)
 	for _, st := range settings {
 		o.add(st)
@@ -232,59 +212,41 @@ func overlapGCGroups(h *hamiltonian.Hamiltonian) ([]pauli.Setting, [][]int, []in
 	return out, outCovers, home, nil
 }
 
-// gcSplitModel is the model of [OverlapGC]: every pair (term, covering
-// group), term-major, with its weight α, and the covariances of [Overlap]'s
-// model (MATH.md §2.5).
-type gcSplitModel struct {
-	abs   []float64
-	off   []int32   // term i's pairs are off[i] to off[i+1]−1
-	grp   []int32   // the group of each pair, increasing within a term
-	alpha []float64 // the weight of each pair
-	// The worst-case model (cov == nil): load[g] = Σ_i |h_i| α_{ig}.
-	load []float64
-	// The proxy's model: gpair[g] are the pairs of group g in term order,
-	// pos[e] the place of pair e there, cov[g] the k_g × k_g matrix A_g
-	// (row-major) with Var(O_g) = α_gᵀ A_g α_g, and y[g] = A_g α_g.
-	gpair   [][]int32
-	pos     []int32
-	cov, y  [][]float64
-	d, e, a []float64
-	idx     []int32
-	simplex simplexScratch
-}
-
-// newGCSplitModel builds the model from the terms every group covers
-// (increasing), the weights at the home partition.
-func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, covers [][]int, home []int, px Proxy, floor float64) (*gcSplitModel, error) {
+// newGCSplitModel builds [Overlap]'s model ([splitModel], MATH.md §2.5)
+// from the terms every group covers (increasing): one block of every pair
+// (term, covering group), term-major, the weights at the home partition,
+// and with a proxy the covariances of each group's terms.
+func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, covers [][]int, home []int, px Proxy, floor float64) (*splitModel, error) {
 	m, G := h.Len(), len(settings)
 	tab := h.Table()
 	coef := h.Coeffs()
-	md := &gcSplitModel{abs: make([]float64, m), off: make([]int32, m+1)}
+	md := &splitModel{h: h, settings: settings, abs: make([]float64, m)}
 	for i, c := range coef {
 		md.abs[i] = math.Abs(c)
 	}
-	count := make([]int32, m)
+	one := overlapBlock{off: make([]int32, m+1)}
 	for _, c := range covers {
 		for _, i := range c {
-			count[i]++
+			one.off[i+1]++
 		}
 	}
 	for i := range m {
-		md.off[i+1] = md.off[i] + count[i]
+		one.off[i+1] += one.off[i]
 	}
-	md.grp = make([]int32, md.off[m])
-	md.alpha = make([]float64, md.off[m])
-	next := slices.Clone(md.off[:m])
+	one.grp = make([]int32, one.off[m])
+	one.alpha = make([]float64, one.off[m])
+	next := slices.Clone(one.off[:m])
 	for g, c := range covers { // g increasing: each term's groups increase
 		for _, i := range c {
 			e := next[i]
 			next[i]++
-			md.grp[e] = int32(g)
+			one.grp[e] = int32(g)
 			if home[i] == g {
-				md.alpha[e] = 1
+				one.alpha[e] = 1
 			}
 		}
 	}
+	md.blocks = []overlapBlock{one}
 	if px == nil {
 		md.load = make([]float64, G)
 		md.refresh()
@@ -297,37 +259,10 @@ func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, cover
 			return nil, fmt.Errorf("the proxy's covariances of the %d groups need more than %d numbers; plan without a proxy (the worst-case model)", G, maxSplitEntries)
 		}
 	}
-	md.gpair = make([][]int32, G)
-	md.pos = make([]int32, len(md.grp))
-	for i := range m {
-		for e := md.off[i]; e < md.off[i+1]; e++ {
-			g := md.grp[e]
-			md.pos[e] = int32(len(md.gpair[g]))
-			md.gpair[g] = append(md.gpair[g], e)
-		}
-	}
-	// Expectations are cached by the string's words, written into key;
-	// a string is built only on a miss.
-	n, w := h.Qubits(), pauli.Words(h.Qubits())
-	cache := make(map[string]float64)
-	key := make([]byte, 16*w)
+	md.indexPairs(G)
+	ex := newProxyExpect(px, h.Qubits())
+	w := pauli.Words(h.Qubits())
 	px2, pz2 := make([]uint64, w), make([]uint64, w)
-	expect := func(x, z []uint64) (float64, error) {
-		for t := range w {
-			binary.LittleEndian.PutUint64(key[16*t:], x[t])
-			binary.LittleEndian.PutUint64(key[16*t+8:], z[t])
-		}
-		if v, ok := cache[string(key)]; ok {
-			return v, nil
-		}
-		p := pauli.FromWords(n, x, z)
-		v := px.Expect(p)
-		if !(math.Abs(v) <= 1+1e-9) {
-			return 0, fmt.Errorf("the proxy gives ⟨%s⟩ = %v, outside [−1, 1]", inputcap.Clip(p.String()), v)
-		}
-		cache[string(key)] = v
-		return v, nil
-	}
 	md.cov = make([][]float64, G)
 	md.y = make([][]float64, G)
 	var mean []float64
@@ -336,7 +271,7 @@ func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, cover
 		a := make([]float64, k*k)
 		mean = mean[:0]
 		for _, i := range terms {
-			v, err := expect(tab.Words(i))
+			v, err := ex.of(tab.Words(i))
 			if err != nil {
 				return nil, err
 			}
@@ -351,7 +286,7 @@ func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, cover
 				// P_i and P_j commute, so their product is ±P_k: the
 				// phase is 0 (+1) or 2 (−1).
 				ph := pauli.MulWords(px2, pz2, xi, zi, xj, zj)
-				v, err := expect(px2, pz2)
+				v, err := ex.of(px2, pz2)
 				if err != nil {
 					return nil, err
 				}
@@ -367,150 +302,4 @@ func newGCSplitModel(h *hamiltonian.Hamiltonian, settings []pauli.Setting, cover
 	}
 	md.refresh()
 	return md, nil
-}
-
-// refresh recomputes load or y from the weights.
-func (md *gcSplitModel) refresh() {
-	if md.cov == nil {
-		clear(md.load)
-		for i, a := range md.abs {
-			for e := md.off[i]; e < md.off[i+1]; e++ {
-				md.load[md.grp[e]] += a * md.alpha[e]
-			}
-		}
-		return
-	}
-	for g, pairs := range md.gpair {
-		k, a, y := len(pairs), md.cov[g], md.y[g]
-		for r := range k {
-			s := 0.0
-			for c, v := range a[r*k : (r+1)*k] {
-				s += v * md.alpha[pairs[c]]
-			}
-			y[r] = s
-		}
-	}
-}
-
-// variance returns the model's Var(O_g).
-func (md *gcSplitModel) variance(g int) float64 {
-	if md.cov == nil {
-		return md.load[g] * md.load[g]
-	}
-	s := 0.0
-	for r, e := range md.gpair[g] {
-		s += md.alpha[e] * md.y[g][r]
-	}
-	return max(s, 0)
-}
-
-// shares sets f_g ∝ sqrt(Var(O_g)) and returns (Σ_g sqrt(Var(O_g)))², the
-// objective at those shares.
-func (md *gcSplitModel) shares(f []float64) float64 { return sdShares(f, md.variance) }
-
-// objective returns Σ_g Var(O_g)/f_g over the groups with f_g > 0.
-func (md *gcSplitModel) objective(f []float64) float64 { return splitObjective(f, md.variance) }
-
-// restrict moves the weights off the groups with f_g = 0: a term's
-// remaining weights are rescaled to add up to one, or made equal if they
-// were all zero.
-func (md *gcSplitModel) restrict(f []float64) {
-	for i := range md.abs {
-		lo, hi := md.off[i], md.off[i+1]
-		restrictTerm(md.alpha[lo:hi], md.grp[lo:hi], f)
-	}
-	md.refresh()
-}
-
-// sweep replaces, term by term, the weights of every term covered by two
-// or more groups with f_g > 0 by their exact minimiser with the others
-// fixed, as [splitModel.sweep] does.
-func (md *gcSplitModel) sweep(f []float64) {
-	md.refresh()
-	for i, abs := range md.abs {
-		lo, hi := md.off[i], md.off[i+1]
-		if hi-lo < 2 {
-			continue
-		}
-		md.d, md.e, md.idx = md.d[:0], md.e[:0], md.idx[:0]
-		for e := lo; e < hi; e++ {
-			g := md.grp[e]
-			fg := f[g]
-			if fg == 0 {
-				continue
-			}
-			al := md.alpha[e]
-			var a, b float64
-			if md.cov == nil {
-				a = abs * abs
-				b = abs * (md.load[g] - abs*al)
-			} else {
-				k, p := len(md.gpair[g]), int(md.pos[e])
-				a = md.cov[g][p*k+p]
-				b = md.y[g][p] - a*al
-			}
-			md.d = append(md.d, a/fg)
-			md.e = append(md.e, b/fg)
-			md.idx = append(md.idx, e)
-		}
-		if len(md.idx) < 2 {
-			continue
-		}
-		md.a = slices.Grow(md.a[:0], len(md.idx))[:len(md.idx)]
-		md.simplex.solve(md.d, md.e, nil, md.a)
-		if !finiteWeights(md.a) {
-			continue // a coefficient near zero, as in [splitModel.sweep]
-		}
-		for s, e := range md.idx {
-			dv := md.a[s] - md.alpha[e]
-			if dv == 0 {
-				continue
-			}
-			md.alpha[e] = md.a[s]
-			g := md.grp[e]
-			if md.cov == nil {
-				md.load[g] += abs * dv
-				continue
-			}
-			k, p := len(md.gpair[g]), int(md.pos[e])
-			a, y := md.cov[g], md.y[g]
-			for row := range k {
-				y[row] += dv * a[row*k+p]
-			}
-		}
-	}
-}
-
-// splitOf returns the split of the measured groups: every term that two or
-// more of them cover, with its weights there (those with α > 0),
-// normalised to add up to one.
-func (md *gcSplitModel) splitOf(settings []pauli.Setting, shots []int) hamiltonian.Split {
-	groups := make([]hamiltonian.SplitGroup, len(settings))
-	for i := range md.abs {
-		lo, hi := md.off[i], md.off[i+1]
-		act, sum := 0, 0.0
-		for e := lo; e < hi; e++ {
-			if shots[md.grp[e]] > 0 {
-				act++
-				sum += md.alpha[e]
-			}
-		}
-		if act < 2 || !(sum > 0) {
-			continue
-		}
-		for e := lo; e < hi; e++ {
-			if g, v := md.grp[e], md.alpha[e]; shots[g] > 0 && v > 0 {
-				groups[g].Terms = append(groups[g].Terms, i)
-				groups[g].Weights = append(groups[g].Weights, v/sum)
-			}
-		}
-	}
-	var out hamiltonian.Split
-	for g, gr := range groups {
-		if len(gr.Terms) > 0 {
-			gr.Setting = settings[g]
-			out = append(out, gr)
-		}
-	}
-	return out
 }
