@@ -180,7 +180,9 @@ func checkProxyWidth(px Proxy, n int) error {
 }
 
 // splitModel holds the cover pairs of the overlapping groups, their
-// weights α and the covariance model of [Overlap] (MATH.md §2.5).
+// weights α and the covariance model of [Overlap] and [OverlapGC] (MATH.md
+// §2.5); the latter's pairs, found by commutation, are one block from the
+// start (newGCSplitModel).
 //
 // In the worst-case model the pairs of all groups are never stored: the
 // weights stay at sorted insertion's partition until the shots are
