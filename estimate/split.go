@@ -96,16 +96,7 @@ func groupedSplit(h *hamiltonian.Hamiltonian, rec *Records, c *config, split ham
 			}
 		}
 	}
-	for i := range m {
-		if res.Cover[i] == 0 {
-			res.Means[i] = math.NaN()
-			continue
-		}
-		res.Means[i] *= c.scale[i]
-		if !c.excluded(i) {
-			res.Energy += coef[i] * res.Means[i]
-		}
-	}
+	c.finishSplitMeans(coef, res)
 	// Pass 2: Z of every shot; the sample variance of a group with two or
 	// more shots, the squared leave-one-out residual of a one-shot group,
 	// and c² for a term covered by a single shot (MATH.md §2.2).
@@ -142,4 +133,21 @@ func groupedSplit(h *hamiltonian.Hamiltonian, rec *Records, c *config, split ham
 	res.StdErr = math.Sqrt(vsum)
 	c.finish(h, res, func(i int) bool { return res.Cover[i] == 0 })
 	return res, nil
+}
+
+// finishSplitMeans completes the means of a split estimate, which hold
+// Σ_g α_{ig}·mean_g(s_i) (MATH.md §2.5): NaN for a term no shot covers,
+// otherwise times the term's scale, and adds h_i·ô_i of every term not
+// excluded to the energy. groupedSplit and the streamed estimate share it.
+func (c *config) finishSplitMeans(coef []float64, res *Result) {
+	for i := range res.Means {
+		if res.Cover[i] == 0 {
+			res.Means[i] = math.NaN()
+			continue
+		}
+		res.Means[i] *= c.scale[i]
+		if !c.excluded(i) {
+			res.Energy += coef[i] * res.Means[i]
+		}
+	}
 }

@@ -182,16 +182,7 @@ func (s *Stream) resultSplit() *Result {
 			res.Means[i] += s.split.a[gi][k] * gsum / mg
 		}
 	}
-	for i := range m {
-		if res.Cover[i] == 0 {
-			res.Means[i] = math.NaN()
-			continue
-		}
-		res.Means[i] *= c.scale[i]
-		if !c.excluded(i) {
-			res.Energy += coef[i] * res.Means[i]
-		}
-	}
+	c.finishSplitMeans(coef, res)
 	vsum := 0.0
 	for _, gi := range sm.Order {
 		g := sm.Groups[gi]
