@@ -216,12 +216,12 @@ func New(h *hamiltonian.Hamiltonian, settings []pauli.Setting, shots []int) (*Su
 		if total += len(rows); total > MaxStored && s.stored {
 			s.stored = false
 			for _, g := range s.Groups {
-				if g.Setting.IsLocal() {
+				if !s.keeps(g) {
 					g.Rows = nil
 				}
 			}
 		}
-		if s.stored || !st.IsLocal() {
+		if s.keeps(g) {
 			// An entangled setting's rows are in table order already, and
 			// its images follow that order.
 			g.Rows = slices.Clone(rows)
@@ -303,12 +303,16 @@ func (s *Sums) SetWeights(a []float64) {
 		for _, c := range coef {
 			g.Half += math.Abs(c)
 		}
-		if s.stored || !g.Setting.IsLocal() {
+		if s.keeps(g) {
 			g.Kept, g.Coef = slices.Clone(kept), slices.Clone(coef)
 		}
 	}
 	s.weighted = true
 }
+
+// keeps reports whether group g keeps its own lists (Rows, Kept, Coef):
+// every group while the plan's pairs are stored, an entangled one always.
+func (s *Sums) keeps(g *Group) bool { return s.stored || !g.Setting.IsLocal() }
 
 // Stored reports whether the groups keep their covered terms (Rows, Kept,
 // Coef); past MaxStored cover pairs those of local settings are found again
@@ -350,7 +354,7 @@ func (s *Sums) CountRows() {
 // weight and their weights: g's own lists when they are stored, else
 // lists found again through the cover index, valid until the next call.
 func (s *Sums) Lists(g *Group) (rows, kept []int32, coef []float64) {
-	own := s.stored || !g.Setting.IsLocal()
+	own := s.keeps(g)
 	if own && s.weighted {
 		return g.Rows, g.Kept, g.Coef
 	}
