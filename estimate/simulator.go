@@ -457,14 +457,19 @@ const parallelStates = 1 << 24
 func (sim *Simulator) eachDistribution(settings []pauli.Setting, order [][]int, use func(ks []int, cum []float64)) {
 	workers := runtime.GOMAXPROCS(0)
 	size := len(sim.state)
-	cached := false
-	for _, ks := range order {
-		if _, ok := sim.cache.m[settings[ks[0]].Key()]; ok {
-			cached = true
-			break
+	var keys []string // the settings' cache keys, when the cache is on
+	parallel := workers >= 2 && len(order) >= 2 && workers*size <= parallelStates
+	if parallel && sim.cache.limit > 0 {
+		keys = make([]string, len(order))
+		for d, ks := range order {
+			keys[d] = settings[ks[0]].Key()
+			if _, ok := sim.cache.m[keys[d]]; ok {
+				parallel = false
+				break
+			}
 		}
 	}
-	if workers < 2 || len(order) < 2 || cached || workers*size > parallelStates {
+	if !parallel {
 		for _, ks := range order {
 			use(ks, sim.distribution(settings[ks[0]]))
 		}
@@ -495,13 +500,7 @@ func (sim *Simulator) eachDistribution(settings []pauli.Setting, order [][]int, 
 					free <- cum
 					return
 				}
-				copy(work, sim.state)
-				statevec.Rotate(work, settings[order[d][0]], sim.n)
-				t := 0.0
-				for a, v := range work {
-					t += real(v)*real(v) + imag(v)*imag(v)
-					cum[a] = t
-				}
+				sim.cumulative(cum, work, settings[order[d][0]])
 				done[d] <- cum
 			}
 		})
@@ -510,7 +509,7 @@ func (sim *Simulator) eachDistribution(settings []pauli.Setting, order [][]int, 
 		cum := <-done[d]
 		use(ks, cum)
 		if sim.cache.limit >= 8*size {
-			copy(sim.cache.put(settings[ks[0]].Key(), 8*size), cum)
+			copy(sim.cache.put(keys[d], 8*size), cum)
 		}
 		free <- cum
 	}
@@ -527,8 +526,6 @@ func (sim *Simulator) distribution(s pauli.Setting) []float64 {
 			return cum
 		}
 	}
-	copy(sim.work, sim.state)
-	statevec.Rotate(sim.work, s, sim.n)
 	var cum []float64
 	if sim.cache.limit >= 8*len(sim.work) {
 		cum = sim.cache.put(key, 8*len(sim.work))
@@ -538,12 +535,22 @@ func (sim *Simulator) distribution(s pauli.Setting) []float64 {
 		}
 		cum = sim.cum
 	}
+	sim.cumulative(cum, sim.work, s)
+	return cum
+}
+
+// cumulative writes into cum the cumulative outcome weights of setting s,
+// rotating a copy of the state in work (both of the state's length). It
+// only reads the simulator, so goroutines with their own cum and work may
+// call it together.
+func (sim *Simulator) cumulative(cum []float64, work []complex128, s pauli.Setting) {
+	copy(work, sim.state)
+	statevec.Rotate(work, s, sim.n)
 	t := 0.0
-	for a, v := range sim.work {
+	for a, v := range work {
 		t += real(v)*real(v) + imag(v)*imag(v)
 		cum[a] = t
 	}
-	return cum
 }
 
 // Probabilities sets dst[a] to the Born probability of outcome a (bit q of a
